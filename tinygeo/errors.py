@@ -1,0 +1,131 @@
+"""Errors raised by tinygeo, and the argument checks that raise them.
+
+Every error is a ``ValueError`` subclass so that ``except ValueError`` catches
+it, and its message names the argument, the value received, the accepted range
+with its unit, and (where a likely mistake is known) what to do about it, e.g.::
+
+    t_k=21.5 outside 150..350 K; Celsius passed? add 273.15
+
+Checks run before any state is touched, so a rejected call changes nothing.
+This module imports nothing, so it runs unchanged under MicroPython.
+"""
+
+
+class TinygeoError(ValueError):
+    """Base class of every error tinygeo raises (a ``ValueError``)."""
+
+
+class RangeError(TinygeoError):
+    """An argument is not a finite number, or lies outside its accepted range."""
+
+
+class ModelRangeError(TinygeoError):
+    """A value lies outside the range a published model is defined for.
+
+    Example: a pressure altitude above the top of the standard atmosphere
+    (84 852 m geopotential, 0.3734 Pa)."""
+
+
+class ReadingError(TinygeoError):
+    """A streamed reading was rejected; the running state is unchanged.
+
+    ``reason`` is a short fixed word (``'pressure'``, ``'temperature'``,
+    ``'humidity'``, ``'time'``, ``'rate'``, ``'gps'``, ``'number'``) that a
+    logger can count or store without parsing the message."""
+
+    def __init__(self, message, reason="reading"):
+        TinygeoError.__init__(self, message)
+        self.reason = reason
+
+
+class CheckpointError(TinygeoError):
+    """A checkpoint blob is truncated, corrupted, of another version, or not
+    a tinygeo checkpoint at all. Nothing is restored from it."""
+
+
+def _fmt(value):
+    # repr() of a float is fine on both interpreters; keep non-numbers short.
+    try:
+        return repr(value)[:40]
+    except Exception:  # pragma: no cover - repr of exotic objects
+        return "<unprintable>"
+
+
+def as_finite(name, value, unit, error=RangeError):
+    """Return ``value`` as a float, or raise ``error`` if it is not a finite number.
+
+    ``name`` and ``unit`` are used in the message only."""
+    try:
+        x = float(value)
+    except (TypeError, ValueError):
+        raise error("%s=%s is not a number; pass a finite number in %s" % (name, _fmt(value), unit))
+    if x != x or x in (float("inf"), float("-inf")):
+        raise error("%s=%s is not finite; pass a finite number in %s" % (name, _fmt(value), unit))
+    return x
+
+
+def check_range(name, value, lo, hi, unit, hint=None, error=RangeError):
+    """Return ``value`` as a float if ``lo <= value <= hi``; otherwise raise ``error``.
+
+    The message is ``"<name>=<value> outside <lo>..<hi> <unit>"`` followed by
+    ``"; <hint>"`` when a hint is given."""
+    x = as_finite(name, value, unit, error)
+    if x < lo or x > hi:
+        msg = "%s=%s outside %g..%g %s" % (name, _fmt(value), lo, hi, unit)
+        if hint:
+            msg += "; " + hint
+        raise error(msg)
+    return x
+
+
+def temperature_hint(t):
+    """A hint for a temperature in kelvin that was rejected, or None."""
+    if -100.0 <= t <= 70.0:
+        return "Celsius passed? add 273.15"
+    if -150.0 <= t <= 160.0 and t != 0.0:
+        return "Fahrenheit or Celsius passed? convert to kelvin"
+    return None
+
+
+def pressure_hint(p):
+    """A hint for a pressure in pascal that was rejected, or None."""
+    if 0.0 < p <= 1200.0:
+        return "hPa or mbar passed? multiply by 100"
+    if 1200.0 < p <= 1.2e6 and p >= 1.2e5:
+        return "check the unit: pascal expected (1013.25 hPa = 101325 Pa)"
+    if p <= 0.0:
+        return "pressure must be positive"
+    return None
+
+
+def check_t_k(name, value, lo=150.0, hi=350.0, error=RangeError):
+    """Check a temperature in kelvin (default range 150..350 K)."""
+    x = as_finite(name, value, "K", error)
+    if x < lo or x > hi:
+        return check_range(name, x, lo, hi, "K", temperature_hint(x), error)
+    return x
+
+
+def check_p_pa(name, value, lo, hi, error=RangeError):
+    """Check a pressure in pascal within ``lo..hi`` Pa."""
+    x = as_finite(name, value, "Pa", error)
+    if x < lo or x > hi:
+        return check_range(name, x, lo, hi, "Pa", pressure_hint(x), error)
+    return x
+
+
+def check_lat(value, name="lat_deg"):
+    """Check a geodetic latitude in degrees (-90..90)."""
+    x = as_finite(name, value, "deg")
+    if x < -90.0 or x > 90.0:
+        return check_range(name, x, -90.0, 90.0, "deg", "latitude is -90..90 degrees, north positive")
+    return x
+
+
+def check_rh(value, name="rh_pct", tol=3.0, error=RangeError):
+    """Check a relative humidity in percent (0..100, accepting ``tol`` % beyond
+    either end as sensor noise; the value is returned unchanged, not clamped)."""
+    x = as_finite(name, value, "%", error)
+    if x < -tol or x > 100.0 + tol:
+        return check_range(name, x, -tol, 100.0 + tol, "%", "relative humidity is in percent", error)
+    return x
