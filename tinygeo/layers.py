@@ -1,0 +1,231 @@
+"""Thickness of an atmospheric layer between two pressures (hypsometric
+equation), its inverse, and a numerically stable ln(p1/p2).
+
+Heights are geopotential metres (gpm: 1 gpm = 9.80665 m^2/s^2 of geopotential),
+computed with the dry-air gas constant RD = R*/M0 and g0 of the U.S. Standard
+Atmosphere 1976 (tinygeo.constants), so a dry standard profile reproduces the
+standard's tables. Moisture enters only through the virtual temperature Tv
+(tinygeo.moisture.virtual_temperature).
+
+Sources
+-------
+[WH06] Wallace, J. M. and Hobbs, P. V. (2006). Atmospheric Science: An
+    Introductory Survey, 2nd ed. Section 3.2.2, hypsometric equation
+    eq. (3.29) Z2 - Z1 = (Rd/g0) integral_{p2}^{p1} Tv dp/p and eq. (3.30)
+    Z2 - Z1 = (Rd Tv_mean/g0) ln(p1/p2) (equation numbers from memory).
+[USSA76] NOAA, NASA, USAF (1976). U.S. Standard Atmosphere, 1976.
+    NOAA-S/T 76-1562. Eq. (33a) P = Pb [Tb/(Tb + Lb (H - Hb))]^(g0 M0/(R* Lb))
+    for a constant lapse rate Lb = dT/dH in geopotential height, eq. (33b)
+    P = Pb exp(-g0 M0 (H - Hb)/(R* Tb)) for an isothermal layer (from memory).
+
+Conventions
+-----------
+- p_lower_pa is the pressure at the bottom of the layer (the reference level),
+  p_upper_pa at the top. Thickness = gph(p_upper) - gph(p_lower): positive when
+  p_upper_pa < p_lower_pa, negative the other way, zero for equal pressures.
+- lapse_k_m is the METEOROLOGICAL lapse rate L = -dTv/dz (K per gpm):
+  POSITIVE when Tv decreases with height (troposphere: +0.0065 K/m), negative
+  in an inversion. Note [USSA76] tabulates the opposite sign (Lb = dT/dH =
+  -0.0065 K/m in its first layer).
+- Accepted ranges: pressures 0.1..120000 Pa, virtual temperatures 150..350 K,
+  lapse rates -1..1 K/m (a K/km value gets a hint), thickness +-100000 gpm.
+"""
+import math
+
+from .constants import RD, G0
+from .errors import RangeError, ModelRangeError, check_t_k, check_p_pa, as_finite
+
+P_MIN_PA = 0.1
+"""Lowest pressure accepted here, Pa (below the 0.3734 Pa top of USSA76)."""
+P_MAX_PA = 120000.0
+"""Highest pressure accepted here, Pa."""
+
+_RG = RD / G0           # gpm per K: Rd/g0 = 29.2712 gpm/K
+_HALF_RG = 0.5 * RD / G0
+_GR = G0 / RD           # K per gpm
+
+# --- ln(p1/p2) without log1p ------------------------------------------------
+# ln(p1/p2) = 2 atanh(d), d = (p1 - p2)/(p1 + p2)
+#           = 2 (d + d^3/3 + d^5/5 + ...)            (|d| < 1)
+# math.log(p1/p2) loses accuracy when p1 ~ p2: the quotient r = p1/p2 carries a
+# rounding error of up to u (u = 2^-24 in float32, 2^-53 in float64), which is
+# an ABSOLUTE error u in ln r, i.e. a relative error u/|ln r| ~ u/(2|d|).
+# d itself is accurate to ~2u (p1 - p2 is exact when p1/p2 lies in [1/2, 2],
+# Sterbenz lemma), and the series is evaluated in d^2 with a few roundings.
+# Switch point |d| = 0.25 (p1/p2 outside 0.6..1.667): there |ln r| >= 0.51, so
+# the log branch adds at most 1.96 u to the error of math.log itself; below it
+# the series is truncated after the d^(2N-1) term with relative truncation
+# error < d^(2N-2)/(2N-1) <= 0.25^(2N-2)/(2N-1):
+#   float32 (and 30-bit floats): N = 6 terms, truncation 4.6e-9 = 0.08 u;
+#   float64:                     N = 13 terms, truncation 8e-18 = 0.07 u.
+# The precision of the running interpreter is detected once at import.
+LN_SWITCH = 0.25
+LN_TERMS_F32 = 6
+LN_TERMS_F64 = 13
+
+
+def _ln_coefs(n_terms):
+    # Coefficients 1/(2k+1), highest first, for Horner's scheme in d^2:
+    # (1/(2N-1), ..., 1/5, 1/3); the leading 1 is added by _lnr.
+    c = []
+    k = n_terms - 1
+    while k >= 1:
+        c.append(1.0 / (2 * k + 1))
+        k -= 1
+    return tuple(c)
+
+
+_FLOAT32 = (1.0 + 2.0 ** -30) == 1.0   # True on float32 / 30-bit float builds
+_LN_C = _ln_coefs(LN_TERMS_F32 if _FLOAT32 else LN_TERMS_F64)
+
+
+def _lnr(p1, p2):
+    # ln(p1/p2) for p1, p2 > 0, no checks (see the error analysis above).
+    d = (p1 - p2) / (p1 + p2)
+    if -LN_SWITCH < d < LN_SWITCH:
+        d2 = d * d
+        acc = 0.0
+        for c in _LN_C:
+            acc = acc * d2 + c
+        return 2.0 * d * (1.0 + d2 * acc)
+    return math.log(p1 / p2)
+
+
+def _check_p(name, p):
+    return check_p_pa(name, p, P_MIN_PA, P_MAX_PA)
+
+
+def ln_ratio(p1_pa, p2_pa):
+    """Natural logarithm of the pressure ratio, ln(p1/p2), dimensionless.
+
+    p1_pa, p2_pa: pressures, Pa, 0.1..120000 (any positive pair of the same
+    unit works mathematically; the range check guards against unit mistakes).
+
+    Accurate to a few units in the last place of the working precision for
+    every ratio, including p1/p2 = 1 + 1e-6 in float32, without math.log1p
+    (absent from MicroPython): ln(p1/p2) = 2 atanh(d), d = (p1 - p2)/(p1 + p2),
+    summed as the odd series 2 (d + d^3/3 + d^5/5 + ...) for |d| < 0.25
+    (common practice; the series is the Taylor expansion of atanh) and
+    math.log(p1/p2) otherwise. Never log(p1) - log(p2). Exactly antisymmetric:
+    ln_ratio(a, b) == -ln_ratio(b, a).
+
+    Example: ln_ratio(100000.0, 99999.0) -> 1.0000050000333e-05.
+    """
+    return _lnr(_check_p("p1_pa", p1_pa), _check_p("p2_pa", p2_pa))
+
+
+def layer_thickness(p_lower_pa, p_upper_pa, tv_lower_k, tv_upper_k):
+    """Thickness of the layer between two pressures, gpm (hypsometric equation).
+
+    p_lower_pa, p_upper_pa: pressures at the bottom and top, Pa, 0.1..120000;
+    tv_lower_k, tv_upper_k: virtual temperatures there, K, 150..350.
+
+    Formula: [WH06] eq. (3.30) with the mean of Tv over ln p:
+    dZ = (Rd/g0) (Tv1 + Tv2)/2 ln(p1/p2). Exact ([WH06] eq. (3.29)) when Tv
+    varies linearly with ln p across the layer, because then the ln p-weighted
+    mean of Tv is the arithmetic mean of its end values. Rd, g0 as in [USSA76]
+    (Rd/g0 = 29.2712 gpm/K). Positive when p_upper_pa < p_lower_pa, negative
+    the other way, exactly zero for equal pressures.
+
+    Example: layer_thickness(100000.0, 95000.0, 288.0, 285.0) -> 430.157 gpm.
+    """
+    p1 = _check_p("p_lower_pa", p_lower_pa)
+    p2 = _check_p("p_upper_pa", p_upper_pa)
+    t1 = check_t_k("tv_lower_k", tv_lower_k)
+    t2 = check_t_k("tv_upper_k", tv_upper_k)
+    return _HALF_RG * (t1 + t2) * _lnr(p1, p2)
+
+
+def layer_thickness_lapse(p_lower_pa, p_upper_pa, tv_lower_k, lapse_k_m):
+    """Thickness of a layer with a constant virtual-temperature lapse rate, gpm.
+
+    p_lower_pa, p_upper_pa: pressures at the bottom and top, Pa, 0.1..120000;
+    tv_lower_k: virtual temperature at p_lower_pa, K, 150..350;
+    lapse_k_m: L = -dTv/dZ, K per gpm, -1..1; POSITIVE for Tv decreasing with
+               height (meteorological sign; the opposite of [USSA76]'s Lb).
+
+    Formula: [USSA76] eq. (33a) solved for the height difference, with
+    Tv(Z) = Tv0 - L (Z - Z0):
+        dZ = (Tv0/L) (1 - (p2/p1)^(Rd L/g0)),
+    evaluated as dZ = (Rd/g0) Tv0 x expm1(y)/y with x = ln(p1/p2) (ln_ratio)
+    and y = -(Rd L/g0) x, which stays accurate as L -> 0 and equals the
+    isothermal form (Rd/g0) Tv0 ln(p1/p2) ([USSA76] eq. (33b)) at L = 0.
+    Exact for a constant lapse rate in geopotential height.
+
+    Raises ModelRangeError when the profile would put Tv outside 150..350 K at
+    p_upper_pa (e.g. a strong lapse rate over a very deep layer).
+
+    Example: layer_thickness_lapse(101325.0, 22632.06, 288.15, 0.0065)
+    -> 11000.00 gpm ([USSA76] Table 4: 22632.06 Pa at the 11 km
+    geopotential layer base, from memory).
+    """
+    p1 = _check_p("p_lower_pa", p_lower_pa)
+    p2 = _check_p("p_upper_pa", p_upper_pa)
+    t0 = check_t_k("tv_lower_k", tv_lower_k)
+    lapse = as_finite("lapse_k_m", lapse_k_m, "K/m")
+    if lapse < -1.0 or lapse > 1.0:
+        hint = "K/km passed? divide by 1000" if -30.0 <= lapse <= 30.0 else "typical values are -0.01..0.01"
+        raise RangeError("lapse_k_m=%r outside -1..1 K/m; %s" % (lapse, hint))
+    x = _lnr(p1, p2)
+    y = -_RG * lapse * x
+    # Tv at the far end is Tv0 exp(y); with both ends in 150..350 K, |y| <= ln(350/150) < 0.85,
+    # so the first test also keeps expm1 far from overflow (float32 overflows at y = 88).
+    if -0.85 <= y <= 0.85:
+        em = math.expm1(y)
+        t2 = t0 + t0 * em
+        if 150.0 <= t2 <= 350.0:
+            if y == 0.0:
+                return _RG * t0 * x
+            return _RG * t0 * x * (em / y)
+    raise ModelRangeError("lapse_k_m=%r over ln(p_lower/p_upper)=%g puts Tv = %r K * exp(%.4g) at "
+                          "p_upper_pa, outside 150..350 K; use a smaller lapse rate or a thinner layer"
+                          % (lapse, x, t0, y))
+
+
+def pressure_across_layer(p_lower_pa, thickness_gpm, tv_mean_k):
+    """Pressure at the top of a layer of given thickness and mean Tv, Pa.
+
+    p_lower_pa: pressure at the bottom, Pa, 0.1..120000;
+    thickness_gpm: layer thickness, gpm, -100000..100000 (negative: the
+                   other level lies below, and its pressure is higher);
+    tv_mean_k: mean virtual temperature of the layer over ln p, K, 150..350.
+
+    Formula: inverse of [WH06] eq. (3.30): p2 = p1 exp(-g0 dZ/(Rd Tv_mean)).
+    layer_thickness(p1, p2, tv, tv) inverts it (round trip to rounding).
+
+    Example: pressure_across_layer(100000.0, 430.157, 286.5) -> 95000.0 Pa.
+    """
+    p1 = _check_p("p_lower_pa", p_lower_pa)
+    dz = as_finite("thickness_gpm", thickness_gpm, "gpm")
+    if dz < -100000.0 or dz > 100000.0:
+        raise RangeError("thickness_gpm=%r outside -100000..100000 gpm; geopotential metres expected" % (dz,))
+    tv = check_t_k("tv_mean_k", tv_mean_k)
+    return p1 * math.exp(-_GR * dz / tv)
+
+
+def layer_mean_tv(p_lower_pa, p_upper_pa, thickness_gpm):
+    """Mean virtual temperature (over ln p) of a layer of known thickness, K.
+
+    p_lower_pa, p_upper_pa: pressures at the bottom and top, Pa, 0.1..120000,
+    not equal; thickness_gpm: thickness, gpm (same sign as ln(p1/p2)).
+
+    Formula: [WH06] eq. (3.30) solved for the mean virtual temperature:
+    Tv_mean = g0 dZ / (Rd ln(p1/p2)).
+
+    Raises RangeError for equal pressures, ModelRangeError when the result is
+    outside 150..350 K (thickness and pressures inconsistent).
+
+    Example: layer_mean_tv(100000.0, 50000.0, 5574.0) -> 274.73 K.
+    """
+    p1 = _check_p("p_lower_pa", p_lower_pa)
+    p2 = _check_p("p_upper_pa", p_upper_pa)
+    dz = as_finite("thickness_gpm", thickness_gpm, "gpm")
+    if p1 == p2:
+        raise RangeError("p_lower_pa == p_upper_pa == %r: a layer of zero depth has no mean "
+                         "temperature; pass two different pressures" % (p1,))
+    tv = _GR * dz / _lnr(p1, p2)
+    if tv < 150.0 or tv > 350.0:
+        raise ModelRangeError("mean Tv %.1f K from thickness_gpm=%r between %r and %r Pa is outside "
+                              "150..350 K; check the thickness (gpm) and the pressures (Pa)"
+                              % (tv, dz, p1, p2))
+    return tv

@@ -1,0 +1,323 @@
+"""Humidity: saturation vapour pressure, vapour pressure, dew/frost point,
+mixing ratio, specific humidity and virtual temperature.
+
+All quantities are SI: pressures in Pa, temperatures in K, mixing ratio and
+specific humidity in kg/kg, relative humidity in percent.
+
+Sources
+-------
+[WMO8] WMO (2018). Guide to Instruments and Methods of Observation, WMO-No. 8,
+    Volume I, Annex 4.B "Formulae for the computation of measures of humidity"
+    (Magnus-type saturation vapour pressures over water and ice, enhancement
+    factor, mixing ratio; from memory; these forms go back to Sonntag, D.
+    (1990), Z. Meteorol. 40(5), 340-344).
+[WH06] Wallace, J. M. and Hobbs, P. V. (2006). Atmospheric Science: An
+    Introductory Survey, 2nd ed., Academic Press. Section 3.1.1, eq. (3.16)
+    virtual temperature Tv = T / (1 - (e/p)(1 - eps)) (equation number from
+    memory).
+[AMS] American Meteorological Society (2000). Glossary of Meteorology, 2nd ed.,
+    entries "virtual temperature" (Tv = T (1 + r/eps)/(1 + r)), "mixing ratio"
+    and "specific humidity" (from memory).
+
+Saturation formulas and their measured accuracy
+-----------------------------------------------
+Magnus forms of [WMO8] (t in degC, result in hPa):
+
+    over water  e_w = 6.112 exp(17.62 t / (243.12 + t))   recommended -45..60 degC
+    over ice    e_i = 6.112 exp(22.46 t / (272.62 + t))   recommended -65..0 degC
+
+tinygeo accepts 150..350 K everywhere and evaluates the same Magnus form
+OUTSIDE the recommended ranges (extrapolation) instead of raising: upper-air
+soundings reach -90 degC, and the WMO upper-air convention reports relative
+humidity with respect to water at all temperatures, so a humidity reading at
+190 K must give an answer. Relative error of the Magnus form, measured by
+``tests/test_moisture.py`` against IAPWS references (IAPWS-95 auxiliary
+vapour-pressure equation above 273.16 K; IAPWS-95 liquid extrapolated into the
+supercooled region against IAPWS R10-06 ice and the IAPWS 2011 sublimation
+curve for 235..273.16 K; Murphy and Koop (2005) eq. 10 below 235 K, where no
+IAPWS formulation for supercooled water exists):
+
+    water, -45..60 degC (recommended)    |rel. error| <= 0.75 %
+    water, 60..76.85 degC (extrapolated) <= 1.0 %
+    water, -90..-45 degC (extrapolated)  <= 2.8 %
+    water, 150 K..-90 degC               grows to 45 % at 150 K (where e_w is
+                                         below 1e-5 Pa, far too small to matter
+                                         for virtual temperature)
+    ice,   -65..0 degC (recommended)     <= 0.2 %
+    ice,   -90..-65 degC (extrapolated)  <= 1.6 %
+    ice,   150 K..-90 degC               grows to 8 % at 150 K
+
+``ice=True`` selects the ice form at and below 0 degC (273.15 K) and the water
+form above (ice does not exist there). Both forms give exactly 611.2 Pa at
+0 degC, so the switch is continuous. ``ice=False`` (the default, and the WMO
+upper-air convention) uses the water form at all temperatures.
+
+Accepted ranges: temperatures 150..350 K, pressures 0.1..120000 Pa, relative
+humidity -3..103 % (check_rh's sensor-noise margin; values are not clamped).
+"""
+import math
+
+from .constants import EPSILON, ZERO_C_K
+from .errors import (RangeError, ModelRangeError, check_t_k, check_p_pa, check_rh,
+                     as_finite, pressure_hint)
+
+# --- Coefficients [WMO8] Annex 4.B (Magnus forms, SI) ------------------------
+E0_PA = 611.2
+"""Magnus saturation vapour pressure at 0 degC, Pa [WMO8] (6.112 hPa)."""
+_AW = 17.62      # over water, dimensionless [WMO8]
+_BW = 243.12     # over water, degC [WMO8]
+_AI = 22.46      # over ice, dimensionless [WMO8]
+_BI = 272.62     # over ice, degC [WMO8]
+
+# Enhancement factor f(p) = 1.0016 + 3.15e-6 p - 0.074/p, p in hPa [WMO8];
+# in pascal: f = 1.0016 + 3.15e-8 p_pa - 7.4/p_pa.
+_F0 = 1.0016
+_F1 = 3.15e-8    # per Pa (3.15e-6 per hPa)
+_F2 = 7.4        # Pa (0.074 hPa)
+F_ONE_PA = 4266.6096
+"""Pressure (Pa) where the [WMO8] enhancement-factor fit equals 1 (root of
+3.15e-6 p^2 + 0.0016 p - 0.074 = 0, p = 42.666 hPa). Below it the fit drops
+under 1 (and turns negative under 0.05 hPa), while the true factor of an ideal
+mixture tends to 1 as p -> 0; tinygeo therefore uses f = 1 below F_ONE_PA.
+The function is continuous there; the true factor grows about linearly with p
+(0.0047 per 1013 hPa by this fit), so the error of f = 1 under 42.7 hPa is
+about 0.02 % (estimate, common practice)."""
+
+P_MIN_PA = 0.1
+"""Lowest pressure accepted by this module, Pa (below the 0.3734 Pa top of
+the U.S. Standard Atmosphere 1976)."""
+P_MAX_PA = 120000.0
+"""Highest pressure accepted by this module, Pa."""
+
+_ONE_M_EPS = 1.0 - EPSILON
+
+
+def _es(t_k, ice):
+    # Magnus form [WMO8], no checks (callers check t_k). Pa.
+    t = t_k - ZERO_C_K
+    if ice and t <= 0.0:
+        return E0_PA * math.exp(_AI * t / (_BI + t))
+    return E0_PA * math.exp(_AW * t / (_BW + t))
+
+
+def _f(p_pa):
+    # Enhancement factor [WMO8], no checks (callers check p_pa).
+    if p_pa <= F_ONE_PA:
+        return 1.0
+    return _F0 + _F1 * p_pa - _F2 / p_pa
+
+
+def _boiling(e_pa, p_pa):
+    msg = "vapour pressure e=%g Pa is not below the air pressure p_pa=%g Pa" % (e_pa, p_pa)
+    hint = pressure_hint(p_pa)
+    if hint:
+        return RangeError(msg + "; " + hint)
+    return RangeError(msg + " (water would boil); check t_k/td_k and p_pa")
+
+
+def _check_e(e_pa, p_pa):
+    e = as_finite("e_pa", e_pa, "Pa")
+    if e < 0.0:
+        raise RangeError("e_pa=%r is negative; vapour pressure is >= 0 Pa" % (e,))
+    if e >= p_pa:
+        raise _boiling(e, p_pa)
+    return e
+
+
+def saturation_vapour_pressure(t_k, ice=False):
+    """Saturation vapour pressure of pure water vapour over a plane surface, Pa.
+
+    t_k: temperature, K, 150..350 (RangeError otherwise; a Celsius value gets
+         a hint).
+    ice: False (default): over liquid water at all temperatures (WMO upper-air
+         convention, supercooled water below 0 degC); True: over ice at and
+         below 0 degC, over water above.
+
+    Formula: [WMO8] Annex 4.B, Magnus forms
+    e_w = 6.112 exp(17.62 t/(243.12 + t)) hPa (recommended -45..60 degC),
+    e_i = 6.112 exp(22.46 t/(272.62 + t)) hPa (recommended -65..0 degC),
+    t in degC. Outside the recommended ranges the same form is extrapolated;
+    the measured errors against IAPWS are in the module docstring
+    (<= 0.75 % water / 0.2 % ice in range, <= 2.8 % / 1.6 % down to -90 degC).
+    Pure vapour: multiply by enhancement_factor(p_pa) for moist air.
+
+    Example: saturation_vapour_pressure(273.15) -> 611.2 (by construction);
+    saturation_vapour_pressure(293.15) -> 2332.6 (IAPWS-95: 2339.2).
+    """
+    t_k = check_t_k("t_k", t_k)
+    return _es(t_k, ice)
+
+
+def enhancement_factor(p_pa):
+    """Enhancement factor f of water vapour in moist air, dimensionless.
+
+    p_pa: air pressure, Pa, 0.1..120000.
+
+    Formula: [WMO8] Annex 4.B, f(p) = 1.0016 + 3.15e-6 p - 0.074/p with p in
+    hPa; saturation vapour pressure of moist air e'_w = f(p) e_w(t). The fit
+    reaches 1 at 42.666 hPa and is replaced by f = 1 below (see F_ONE_PA).
+    Independent of temperature (as in [WMO8]).
+
+    Example: enhancement_factor(101325.0) -> 1.004719.
+    """
+    p_pa = check_p_pa("p_pa", p_pa, P_MIN_PA, P_MAX_PA)
+    return _f(p_pa)
+
+
+def vapour_pressure(t_k, p_pa, rh_pct, ice=False):
+    """Water vapour partial pressure e' of moist air, Pa.
+
+    t_k: air temperature, K, 150..350; p_pa: air pressure, Pa, 0.1..120000;
+    rh_pct: relative humidity, %, -3..103 (not clamped: -1 % gives a slightly
+            negative e); with respect to water by default (WMO upper-air
+            convention), with respect to ice at and below 0 degC if ice=True.
+
+    Formula: [WMO8] Annex 4.B: e' = (U/100) e'_w(p, t), e'_w = f(p) e_w(t),
+    i.e. relative humidity is referred to the saturation vapour pressure of
+    MOIST air, which includes the enhancement factor f(p) (about 1.0047 at
+    1013 hPa).
+
+    Raises RangeError if e' >= p_pa (water would boil: hot or very low
+    pressure; the message hints at hPa passed as Pa).
+
+    Example: vapour_pressure(293.15, 101325.0, 50.0) -> 1171.80 Pa.
+    """
+    t_k = check_t_k("t_k", t_k)
+    p_pa = check_p_pa("p_pa", p_pa, P_MIN_PA, P_MAX_PA)
+    rh_pct = check_rh(rh_pct)
+    e = rh_pct * 0.01 * _f(p_pa) * _es(t_k, ice)
+    if e >= p_pa:
+        raise _boiling(e, p_pa)
+    return e
+
+
+def vapour_pressure_from_dew_point(td_k, p_pa, ice=False):
+    """Water vapour partial pressure e' of moist air from its dew point, Pa.
+
+    td_k: dew point, K, 150..350 (frost point if ice=True and td_k <= 273.15);
+    p_pa: air pressure, Pa, 0.1..120000.
+
+    Formula: [WMO8] Annex 4.B: e' = e'_w(p, Td) = f(p) e_w(Td)
+    (e'_i(p, Tf) = f(p) e_i(Tf) for the frost point).
+    Raises RangeError if e' >= p_pa.
+
+    Example: vapour_pressure_from_dew_point(283.15, 101325.0) -> 1231.82 Pa.
+    """
+    td_k = check_t_k("td_k", td_k)
+    p_pa = check_p_pa("p_pa", p_pa, P_MIN_PA, P_MAX_PA)
+    e = _f(p_pa) * _es(td_k, ice)
+    if e >= p_pa:
+        raise _boiling(e, p_pa)
+    return e
+
+
+def dew_point(e_pa, p_pa, ice=False):
+    """Dew point (frost point if ice=True and below 0 degC) of moist air, K.
+
+    e_pa: water vapour partial pressure, Pa, > 0 and < p_pa;
+    p_pa: air pressure, Pa, 0.1..120000.
+
+    Formula: inverse of the [WMO8] Magnus forms applied to e'/f(p):
+    y = ln(e'/(f(p) 611.2 Pa)), t = b y/(a - y) degC with (a, b) =
+    (17.62, 243.12) over water or (22.46, 272.62) over ice (ice when
+    e'/f <= 611.2 Pa, i.e. frost point <= 0 degC). Exact inverse of
+    vapour_pressure_from_dew_point.
+
+    Raises RangeError for e_pa <= 0 (no dew point for dry air) or e_pa >= p_pa,
+    ModelRangeError if the result falls outside 150..350 K.
+
+    Example: dew_point(1231.82, 101325.0) -> 283.150 K.
+    """
+    p_pa = check_p_pa("p_pa", p_pa, P_MIN_PA, P_MAX_PA)
+    e = _check_e(e_pa, p_pa)
+    if e == 0.0:
+        raise RangeError("e_pa=0.0: dry air has no dew point; pass e_pa > 0 Pa")
+    y = math.log(e / (_f(p_pa) * E0_PA))
+    if ice and y <= 0.0:
+        t = _BI * y / (_AI - y)
+    else:
+        t = _BW * y / (_AW - y)
+    td = t + ZERO_C_K
+    if td < 150.0 or td > 350.0:
+        raise ModelRangeError("dew point %.2f K for e_pa=%g Pa lies outside 150..350 K, the range of "
+                              "the saturation formula; check e_pa (pascal expected)" % (td, e))
+    return td
+
+
+def mixing_ratio(e_pa, p_pa):
+    """Mixing ratio of water vapour to dry air, kg/kg.
+
+    e_pa: water vapour partial pressure, Pa, 0 <= e_pa < p_pa;
+    p_pa: air pressure, Pa, 0.1..120000.
+
+    Formula: [WMO8] Annex 4.B, r = 0.62198 e'/(p - e') (eps = Mv/Md from
+    tinygeo.constants).
+
+    Example: mixing_ratio(1171.80, 101325.0) -> 0.0072772 kg/kg.
+    """
+    p_pa = check_p_pa("p_pa", p_pa, P_MIN_PA, P_MAX_PA)
+    e = _check_e(e_pa, p_pa)
+    return EPSILON * e / (p_pa - e)
+
+
+def specific_humidity(e_pa, p_pa):
+    """Specific humidity (mass of vapour per mass of moist air), kg/kg.
+
+    e_pa: water vapour partial pressure, Pa, 0 <= e_pa < p_pa;
+    p_pa: air pressure, Pa, 0.1..120000.
+
+    Formula: q = r/(1 + r) with r the mixing ratio ([WMO8] Annex 4.B, [AMS]),
+    i.e. q = eps e'/(p - (1 - eps) e').
+
+    Example: specific_humidity(1171.80, 101325.0) -> 0.0072247 kg/kg.
+    """
+    p_pa = check_p_pa("p_pa", p_pa, P_MIN_PA, P_MAX_PA)
+    e = _check_e(e_pa, p_pa)
+    return EPSILON * e / (p_pa - _ONE_M_EPS * e)
+
+
+def virtual_temperature(t_k, p_pa, rh_pct, ice=False):
+    """Virtual temperature of moist air, K (exact form, not linearised).
+
+    t_k: air temperature, K, 150..350; p_pa: air pressure, Pa, 0.1..120000;
+    rh_pct: relative humidity, %, -3..103, with respect to water (or ice at
+            and below 0 degC if ice=True); the vapour pressure is
+            vapour_pressure(t_k, p_pa, rh_pct, ice), enhancement factor included.
+
+    Formula: [WH06] eq. (3.16): Tv = T / (1 - (e/p)(1 - eps)), eps = Mv/Md =
+    0.621981. Exact for an ideal mixture of dry air and vapour; the common
+    linearisation Tv ~ T (1 + 0.61 q) is NOT used (it is low by about
+    (1 - eps)^2 (e/p)^2 T, 0.01 K for e/p = 0.03 at 300 K).
+
+    Raises RangeError if e >= p_pa.
+
+    Example: virtual_temperature(293.15, 101325.0, 50.0) -> 294.4372 K.
+    """
+    t_k = check_t_k("t_k", t_k)
+    p_pa = check_p_pa("p_pa", p_pa, P_MIN_PA, P_MAX_PA)
+    rh_pct = check_rh(rh_pct)
+    e = rh_pct * 0.01 * _f(p_pa) * _es(t_k, ice)
+    if e >= p_pa:
+        raise _boiling(e, p_pa)
+    return t_k / (1.0 - _ONE_M_EPS * e / p_pa)
+
+
+def virtual_temperature_from_mixing_ratio(t_k, w_kg_kg):
+    """Virtual temperature of moist air from its mixing ratio, K (exact form).
+
+    t_k: air temperature, K, 150..350; w_kg_kg: mixing ratio, kg/kg, 0..1
+    (1 kg/kg: as much vapour as dry air; a g/kg value above 1 is rejected
+    with a hint).
+
+    Formula: [AMS] "virtual temperature": Tv = T (1 + w/eps)/(1 + w); the same
+    as [WH06] eq. (3.16) with e/p = w/(eps + w).
+
+    Example: virtual_temperature_from_mixing_ratio(293.15, 0.0072772) -> 294.4372 K.
+    """
+    t_k = check_t_k("t_k", t_k)
+    w = as_finite("w_kg_kg", w_kg_kg, "kg/kg")
+    if w < 0.0 or w > 1.0:
+        hint = "mixing ratio in kg/kg expected; g/kg passed? divide by 1000" if 1.0 < w <= 100.0 else \
+            "mixing ratio is >= 0"
+        raise RangeError("w_kg_kg=%r outside 0..1 kg/kg; %s" % (w, hint))
+    return t_k * (1.0 + w / EPSILON) / (1.0 + w)
