@@ -1,0 +1,121 @@
+"""Checkpoints and printed lines for the example loggers (main.py, code.py).
+
+Checkpoints survive a power cut at any moment, on any device filesystem:
+two slot files (``<path>.0`` and ``<path>.1``) are written in turn, so the
+slot holding the newest good checkpoint is never the one being overwritten.
+Each slot holds::
+
+    b"TGLB"  index (uint32 LE)  index ^ 0xFFFFFFFF (uint32 LE)  Column.to_bytes()
+
+``index`` is the number of the next reading the logger will take. A slot that
+is missing, torn or corrupted is skipped (the column's own blob check raises
+``CheckpointError``; the header carries its complement), and the newest good
+one is restored. No rename is needed, which matters because renaming over an
+existing file fails on FAT and is not atomic everywhere.
+
+Runs unchanged under CPython, MicroPython and CircuitPython.
+"""
+import struct
+
+from tinygeo.column import Column, EV_LEVEL, EV_TROPOPAUSE, EV_BURST, EV_LANDED
+from tinygeo.errors import CheckpointError
+
+MAGIC = b"TGLB"
+_HEADER = "<II"
+_HEADER_LEN = 4 + 8
+
+
+class Checkpoints:
+    """Save and restore (reading index, Column) pairs in two slot files."""
+
+    def __init__(self, path):
+        self.path = path
+        self.enabled = True
+        self._next_slot = 0
+        self.note = ""
+
+    def slot_path(self, slot):
+        return "%s.%d" % (self.path, slot)
+
+    def _read_slot(self, slot):
+        # Return (index, column) from one slot, or None if it is unusable.
+        try:
+            f = open(self.slot_path(slot), "rb")
+        except OSError:
+            return None
+        try:
+            data = f.read()
+        finally:
+            f.close()
+        if len(data) < _HEADER_LEN or data[:4] != MAGIC:
+            return None
+        index, check = struct.unpack(_HEADER, data[4:_HEADER_LEN])
+        if index ^ 0xFFFFFFFF != check:
+            return None
+        try:
+            column = Column.from_bytes(data[_HEADER_LEN:])
+        except CheckpointError:
+            return None
+        return index, column
+
+    def load(self):
+        """Return ``(index, column)`` of the newest good checkpoint, or None.
+
+        The next save then goes to the other slot."""
+        best = None
+        best_slot = 1
+        for slot in (0, 1):
+            got = self._read_slot(slot)
+            if got is not None and (best is None or got[0] > best[0]):
+                best = got
+                best_slot = slot
+        self._next_slot = 1 - best_slot
+        return best
+
+    def save(self, index, column):
+        """Write a checkpoint; return True, or False if the storage is read-only
+        or full (checkpointing is then switched off and ``note`` says why)."""
+        if not self.enabled:
+            return False
+        data = MAGIC + struct.pack(_HEADER, index, index ^ 0xFFFFFFFF) + column.to_bytes()
+        try:
+            f = open(self.slot_path(self._next_slot), "wb")
+            try:
+                f.write(data)
+            finally:
+                f.close()
+        except OSError as e:
+            self.enabled = False
+            self.note = "checkpoints off: cannot write %s (%s)" % (self.slot_path(self._next_slot), e)
+            return False
+        self._next_slot = 1 - self._next_slot
+        return True
+
+
+def status_line(index, column):
+    """One line with the live heights of the latest accepted reading."""
+    return "#%d t %.1f s p %.2f Pa gph %.2f gpm h %.2f m rate %.2f m/s sigma %.2f m phase %d" % (
+        index, column.time_s, column.p_pa, column.gph_m, column.height_m,
+        column.rate_m_s, column.sigma_m, column.phase)
+
+
+def print_events(index, column, bits):
+    """Print one line per event bit set in ``bits`` (the value feed returned)."""
+    if bits & EV_LEVEL:
+        print("#%d event level %.0f hPa at gph %.2f gpm h %.2f m" % (
+            index, column.level_p_pa * 0.01, column.level_gph_m, column.level_height_m))
+    if bits & EV_TROPOPAUSE:
+        print("#%d event tropopause p %.1f Pa gph %.2f gpm t %.2f K" % (
+            index, column.tropopause_p_pa, column.tropopause_gph_m, column.tropopause_t_k))
+    if bits & EV_BURST:
+        print("#%d event burst gph %.2f gpm at t %.1f s" % (
+            index, column.burst_gph_m, column.burst_time_s))
+    if bits & EV_LANDED:
+        print("#%d event landed h %.2f m at t %.1f s" % (index, column.height_m, column.time_s))
+
+
+def summary_line(column):
+    """The closing line of a log."""
+    return "summary accepted %d rejected %d max_gph %.2f gpm burst_gph %.2f gpm h %.2f m phase %d" % (
+        column.count, column.rejected, column.max_gph_m, column.burst_gph_m,
+        column.height_m, column.phase)

@@ -1,0 +1,122 @@
+"""tinygeo example logger for MicroPython: sensor -> Column -> live heights, events, checkpoints.
+
+On a board: install the core (``mpremote mip install ports/micropython/package.json``),
+copy this file with ``flightsim.py`` and ``logbook.py`` to the board's root
+(``mpremote cp main.py flightsim.py logbook.py :``), and reset. On the host,
+with the unix MicroPython runtime (or CPython), from the repository root::
+
+    MICROPYPATH=. micropython ports/micropython/main.py
+    MICROPYPATH=. micropython ports/micropython/main.py --step 5 --checkpoint /tmp/tg.ckpt
+
+What it shows:
+
+- the sensor is read only through the adapter interface in ``flightsim.py``
+  (here the simulated flight; put a real driver class in its place);
+- every reading goes to ``Column.feed``; a rejected reading raises
+  ``ReadingError`` and leaves the column as it was, so the loop just counts
+  it and goes on;
+- events (mandatory level crossed, tropopause, burst, landing) print a line
+  when they happen, and a status line prints every ``PRINT_EVERY`` readings;
+- every ``CHECKPOINT_EVERY`` readings the column state (``Column.to_bytes``)
+  and the reading number go to a checkpoint; at start the newest good
+  checkpoint is restored, so after a power cut the log goes on from there
+  (see ``logbook.py`` for the two-slot scheme).
+
+Settings are the constants below; on the host each can also be given as
+``--name value`` (``--step``, ``--checkpoint``, ``--checkpoint-every``,
+``--print-every``, ``--stop-after``, ``--pace-ms``). ``--stop-after N`` ends the
+run after N readings without a final checkpoint, as a power cut would.
+"""
+import sys
+import time
+
+from tinygeo.column import Column
+from tinygeo.errors import ReadingError
+
+from flightsim import SimulatedFlight, LAUNCH_HEIGHT_M
+from logbook import Checkpoints, status_line, print_events, summary_line
+
+LAT_DEG = 48.2                 # launch site latitude, deg (the invented flight's)
+START_HEIGHT_M = LAUNCH_HEIGHT_M   # height of the first reading above MSL, m
+STEP_S = 1.0                   # time between readings, s (sets the simulated flight)
+CHECKPOINT = "tinygeo.ckpt"    # slot files tinygeo.ckpt.0 and tinygeo.ckpt.1
+CHECKPOINT_EVERY = 60          # readings between checkpoints
+PRINT_EVERY = 60               # readings between status lines
+STOP_AFTER = 0                 # stop after this many readings, no final checkpoint (0 = never)
+PACE_MS = 0                    # sleep between readings, ms (a real sensor paces the loop)
+
+
+def options(argv):
+    """Return the settings, with ``--name value`` pairs from ``argv`` applied."""
+    opts = {
+        "step": STEP_S, "checkpoint": CHECKPOINT, "checkpoint-every": CHECKPOINT_EVERY,
+        "print-every": PRINT_EVERY, "stop-after": STOP_AFTER, "pace-ms": PACE_MS,
+    }
+    i = 0
+    while i < len(argv):
+        name = argv[i][2:] if argv[i].startswith("--") else ""
+        if name not in opts or i + 1 >= len(argv):
+            raise SystemExit("unknown or incomplete option %r; known: --%s VALUE" % (
+                argv[i], " VALUE, --".join(sorted(opts))))
+        default = opts[name]
+        value = argv[i + 1]
+        if isinstance(default, float):
+            opts[name] = float(value)
+        elif isinstance(default, str):
+            opts[name] = value
+        else:
+            opts[name] = int(value)
+        i += 2
+    return opts
+
+
+def sleep_ms(ms):
+    if ms > 0:
+        if hasattr(time, "sleep_ms"):
+            time.sleep_ms(ms)
+        else:
+            time.sleep(ms * 0.001)
+
+
+def run(opts):
+    sensor = SimulatedFlight(opts["step"])
+    book = Checkpoints(opts["checkpoint"])
+    restored = book.load()
+    if restored is None:
+        column = Column(LAT_DEG, START_HEIGHT_M)
+        print("start new log at reading 0")
+    else:
+        index, column = restored
+        sensor.seek(index)
+        print("resume log at reading %d (%d accepted so far)" % (index, column.count))
+    every = opts["checkpoint-every"]
+    show = opts["print-every"]
+    stop_after = opts["stop-after"]
+    taken = 0
+    while sensor.read():
+        index = sensor.index - 1
+        taken += 1
+        try:
+            bits = column.feed(sensor.p_pa, sensor.t_k, sensor.rh_pct, sensor.time_s, sensor.gps_m)
+        except ReadingError as e:
+            print("#%d rejected %s: %s" % (index, e.reason, e))
+            bits = 0
+        if bits:
+            print_events(index, column, bits)
+        if show and index % show == 0:
+            print(status_line(index, column))
+        if every and sensor.index % every == 0:
+            if not book.save(sensor.index, column) and book.note:
+                print(book.note)
+                book.note = ""
+        if stop_after and taken >= stop_after:
+            print("stopped after %d readings (as by a power cut)" % taken)
+            return column
+        sleep_ms(opts["pace-ms"])
+    book.save(sensor.index, column)
+    print(summary_line(column))
+    return column
+
+
+if __name__ == "__main__":
+    run(options(getattr(sys, "argv", [])[1:]))
