@@ -25,8 +25,9 @@ import sys
 
 import mpmath as mp
 
-mp.mp.dps = 50
-G0 = mp.mpf("9.80665")          # standard gravity, exact [CGPM 1901]
+DPS = 50                        # working precision, digits (set locally, not globally)
+with mp.workdps(DPS):
+    G0 = mp.mpf("9.80665")      # standard gravity, exact [CGPM 1901]
 
 # Defining constants, as printed:
 #   WGS84: NIMA TR8350.2 Table 3.1;  GRS80: Moritz (1980) (J2 defining)
@@ -43,6 +44,16 @@ NODES = 16                       # Chebyshev nodes in s for the fit
 _cache = {}
 
 
+def _at_dps(fn):
+    # run fn at DPS digits without touching the caller's global mpmath precision
+    def wrapped(*args):
+        with mp.workdps(DPS):
+            return fn(*args)
+    wrapped.__name__ = fn.__name__
+    wrapped.__doc__ = fn.__doc__
+    return wrapped
+
+
 def _q(x):
     # q as a function of x = E/u: 1/2[(1 + 3/x^2) atan(x) - 3/x]   [HM67 eq. 2-58]
     return ((1 + 3 / x ** 2) * mp.atan(x) - 3 / x) / 2
@@ -53,6 +64,7 @@ def _qp(x):
     return 3 * (1 + 1 / x ** 2) * (1 - mp.atan(x) / x) - 1
 
 
+@_at_dps
 def derived(name):
     """Dict of derived constants of ellipsoid ``name`` computed from its defining constants."""
     if name in _cache:
@@ -124,6 +136,7 @@ def potential(c, p, z):
             + om2 / 2 * (u ** 2 + E ** 2) * mp.cos(beta) ** 2)
 
 
+@_at_dps
 def gravity(name, lat_deg, h):
     """|grad W| at geodetic (lat, h), m/s^2 (numerical gradient at 50 digits)."""
     c = derived(name)
@@ -133,6 +146,7 @@ def gravity(name, lat_deg, h):
     return mp.sqrt(gp ** 2 + gz ** 2)
 
 
+@_at_dps
 def gph(name, lat_deg, h):
     """(U0 - W)/g0 at geodetic (lat, h), gpm."""
     c = derived(name)
@@ -140,6 +154,7 @@ def gph(name, lat_deg, h):
     return (c["u0"] - potential(c, p, z)) / G0
 
 
+@_at_dps
 def taylor_in_h(name, s):
     """Taylor coefficients [c1..cN] of (U0 - W)/g0 = sum c_n h^n at s = sin^2(lat)."""
     c = derived(name)
@@ -151,6 +166,7 @@ def taylor_in_h(name, s):
     return mp.taylor(f, 0, ORDERS)[1:]
 
 
+@_at_dps
 def derive_coefficients(name):
     """Return the tables stored in tinygeo/geopotential.py for ellipsoid ``name``.
 
@@ -172,6 +188,7 @@ def derive_coefficients(name):
     return tables
 
 
+@_at_dps
 def format_tables(name, tables):
     lines = ["_%s = (" % name]
     for n, row in enumerate(tables):
