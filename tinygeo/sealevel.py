@@ -44,6 +44,13 @@ add about 2 K for 20 hPa of vapour). Then the hypsometric equation
 evaluated as p + p expm1(...) so that the small correction of a buoy keeps its
 digits in binary32. For H below sea level (Dead Sea shores) the same rule
 applies with H < 0.
+
+What the rule means: the arithmetic mean Tv_mean exceeds the harmonic mean that
+an exactly linear column (Tv falling at 0.0065 K/gpm) would need by about
+(0.0065 H / Tv_mean)^2 / 12 of itself, so p0 is about
+p0 ln(p0/p) (0.0065 H/Tv_mean)^2/12 lower than for that column: 0.5 Pa at
+1000 m, 80 Pa at 5000 m in a cold column (a series estimate, checked with
+mpmath in tests/test_sealevel.py). Real columns differ from both far more.
 """
 import math
 
@@ -114,8 +121,9 @@ def sea_level_pressure(p_pa, t_k, height_m, rh_pct=None, lat_deg=None, ice=False
     lat_deg   latitude, degrees; if given, height_m is converted to geopotential
               height with tinygeo's normal gravity (geopotential_height);
               if None, height_m is used as geopotential metres, which errs by
-              at most 0.27 % of the correction (g at the equator or the poles
-              vs g0), i.e. 0.3 Pa for a 10 m buoy, 3 Pa per 100 m of height
+              at most 0.3 % of the correction p0 - p (g at the equator or the
+              poles differs from g0 by 0.27 %), i.e. 0.35 Pa for a 10 m buoy,
+              about 3.5 Pa per 100 m of height
     ice       passed to virtual_temperature (saturation over ice below 0 degC)
 
     Method ([WMO8] Vol. I Ch. 3, reduction of pressure, from memory; see the

@@ -1,0 +1,219 @@
+"""tinygeo.sealevel against mpmath integrations and closed forms of the
+published definitions.
+
+Sources
+- [WMO8] WMO-No. 8 (2018), Vol. I, Chapter 3 (reduction of pressure; from
+  memory): hypsometric reduction through a fictitious column of mean
+  temperature T_station + 0.0065 K/gpm * H/2. Annex 4.B (Magnus form over
+  water e_w = 611.2 exp(17.62 t/(243.12 + t)) Pa, enhancement factor
+  f = 1.0016 + 3.15e-6 p - 0.074/p with p in hPa; from memory).
+- Virtual temperature Tv = T / (1 - (e/p)(1 - eps)), eps = 0.621981
+  (Wallace and Hobbs 2006, eq. 3.16, from memory).
+- [ICAO7488]/[USSA76] layer 0: P = P0 (1 - L0 H/T0)^(g0/(Rd L0)); the QNH that
+  makes a standard altimeter read the elevation E is then
+  QNH = P0 ((p/P0)^n + L0 E/T0)^(1/n), n = Rd L0/g0 (the altimeter-setting
+  closed form, from memory).
+"""
+import mpmath as mp
+import pytest
+from hypothesis import assume, given, settings, strategies as st
+
+from tinygeo import geopotential, sealevel as L, standard
+from tinygeo.errors import ModelRangeError, RangeError
+
+mp.mp.dps = 30
+G0 = mp.mpf("9.80665")
+RD = mp.mpf("8.31432") / mp.mpf("0.0289644")   # [USSA76] Table 2: R*/M0
+A = mp.mpf("0.0065")                            # K/gpm
+P0 = mp.mpf(101325)
+T0 = mp.mpf("288.15")
+EPS = mp.mpf("0.621981")
+
+
+def ref_tv(t_k, p_pa, rh_pct):
+    """Virtual temperature from the [WMO8] Magnus form and enhancement factor, mpmath."""
+    t = mp.mpf(t_k)
+    tc = t - mp.mpf("273.15")
+    ph = mp.mpf(p_pa) / 100
+    f = mp.mpf("1.0016") + mp.mpf("3.15e-6") * ph - mp.mpf("0.074") / ph
+    e = mp.mpf(rh_pct) / 100 * f * mp.mpf("611.2") * mp.exp(mp.mpf("17.62") * tc / (mp.mpf("243.12") + tc))
+    return t / (1 - e / mp.mpf(p_pa) * (1 - EPS))
+
+
+def ref_msl_ode(p_pa, tv_station, h_gpm):
+    """Integrate the hydrostatic equation dp/dz = -g0 p / (Rd Tv_mean) with mpmath's
+    Taylor-series ODE solver from the barometer (z = H) down to z = 0, through the
+    column of the stated rule Tv_mean = Tv_station + 0.0065 H/2 ([WMO8])."""
+    h = mp.mpf(h_gpm)
+    tv_mean = mp.mpf(tv_station) + A * h / 2
+    # s in [0, 1] runs from the barometer (z = H) to sea level (z = 0): z = H (1 - s)
+    sol = mp.odefun(lambda s, p: G0 * h * p / (RD * tv_mean), 0, mp.mpf(p_pa))
+    return sol(1)
+
+
+CASES = [  # (p_pa, t_k, height_m): invented stations and buoys
+    (100820.0, 291.15, 4.0),
+    (101500.0, 300.15, 12.5),
+    (99000.0, 263.15, 35.0),
+    (95000.0, 283.15, 480.0),
+    (89000.0, 275.15, 1100.0),
+    (70000.0, 265.15, 3000.0),
+    (54000.0, 250.15, 5000.0),
+    (106500.0, 305.15, -430.0),
+    (101325.0, 288.15, 0.0),
+]
+
+
+@pytest.mark.parametrize("p,t,h", CASES)
+def test_dry_vs_mpmath_ode(p, t, h):
+    got = L.sea_level_pressure(p, t, h)
+    ref = ref_msl_ode(p, t, h)
+    assert abs(got / ref - 1) < 2e-15, (got, ref)
+
+
+@pytest.mark.parametrize("p,t,h", CASES)
+@pytest.mark.parametrize("rh", [0.0, 45.0, 100.0])
+def test_humid_vs_mpmath_ode(p, t, h, rh):
+    got = L.sea_level_pressure(p, t, h, rh_pct=rh)
+    ref = ref_msl_ode(p, ref_tv(t, p, rh), h)
+    assert abs(got / ref - 1) < 1e-14, (got, ref)
+
+
+def test_humidity_effect_size():
+    # moist air is lighter: a warmer virtual column, a smaller reduction. At 1100 m,
+    # 30 degC, saturated, Tv - T is about 5.6 K, so the reduction term shrinks by ~1.9 %
+    p, t, h = 89000.0, 303.15, 1100.0
+    dry = L.sea_level_pressure(p, t, h) - p
+    wet = L.sea_level_pressure(p, t, h, rh_pct=100.0) - p
+    assert 0.97 < wet / dry < 0.99
+
+
+def test_rule_vs_linear_column():
+    # How far the half-way rule is from a column whose temperature really falls
+    # linearly at 0.0065 K/gpm (exact integral with mpmath.quad). The arithmetic mean
+    # over-estimates the harmonic mean the integral needs by (aH/Tm)^2/12 of itself, so
+    # p0 is low by about p0 ln(p0/p) (aH/Tm)^2/12 (a series expansion, stated in the
+    # module docstring): ~0.5 Pa at 1000 m, ~80 Pa at 5000 m in a cold column.
+    assert abs(L.sea_level_pressure(100820.0, 291.15, 4.0) - 100820.0 * mp.exp(
+        G0 / RD * mp.quad(lambda z: 1 / (mp.mpf("291.15") + A * (4 - z)), [0, 4]))) < 1e-6
+    for p, t, h in [(89000.0, 275.15, 1100.0), (95000.0, 283.15, 480.0), (54000.0, 250.15, 5000.0)]:
+        hh = mp.mpf(h)
+        integral = mp.quad(lambda z: 1 / (mp.mpf(t) + A * (hh - z)), [0, hh])
+        exact = mp.mpf(p) * mp.exp(G0 / RD * integral)
+        got = L.sea_level_pressure(p, t, h)
+        tm = mp.mpf(t) + A * hh / 2
+        estimate = exact * mp.log(exact / p) * (A * hh / tm) ** 2 / 12
+        assert 0.9 < (exact - got) / estimate < 1.1, (h, exact - got, estimate)
+
+
+def test_standard_atmosphere_station():
+    # a dry station in the standard atmosphere reduces to 101325 Pa, to the rule's
+    # small error (the standard's column is exactly linear; see test_rule_vs_linear_column)
+    for h, tol in ((0.0, 1e-9), (10.0, 1e-4), (100.0, 1e-3), (500.0, 0.1), (1000.0, 0.6)):
+        p = standard.standard_pressure(h)
+        t = standard.standard_temperature(h)
+        assert abs(L.sea_level_pressure(p, t, h) - 101325.0) < tol
+
+
+def test_buoy_common_practice():
+    # "about 0.12 hPa per metre near sea level" (common practice): a buoy barometer
+    # 10 m above the sea adds about 1.2 hPa
+    add = L.sea_level_pressure(101000.0, 288.15, 10.0) - 101000.0
+    assert 118.0 < add < 123.0
+
+
+def test_latitude_uses_geopotential_height():
+    p, t, h = 95000.0, 283.15, 480.0
+    for lat in (0.0, 45.0, 90.0):
+        gph = geopotential.geopotential_height(h, lat)
+        assert L.sea_level_pressure(p, t, h, lat_deg=lat) == L.sea_level_pressure(p, t, gph)
+    # and the documented bound: at most 0.3 % of the correction, 3.5 Pa per 100 m
+    plain = L.sea_level_pressure(p, t, h)
+    for lat in (0.0, 90.0):
+        d = abs(L.sea_level_pressure(p, t, h, lat_deg=lat) - plain)
+        assert 0.002 * (plain - p) < d <= 0.003 * (plain - p)
+        assert d <= 3.5 * h / 100.0
+
+
+# --- QFE ---------------------------------------------------------------------
+@pytest.mark.parametrize("p,dh,t", [(96530.0, 12.0, 278.15), (101200.0, -3.0, 300.0),
+                                    (70000.0, 200.0, 250.0), (100000.0, 0.0, 288.15)])
+def test_qfe_vs_mpmath(p, dh, t):
+    ref = mp.mpf(p) * mp.exp(G0 * mp.mpf(dh) / (RD * mp.mpf(t)))
+    assert abs(L.qfe(p, dh, t) / ref - 1) < 2e-16
+
+
+def test_qfe_humid_and_practice():
+    ref = mp.mpf(96530.0) * mp.exp(G0 * 12 / (RD * ref_tv(278.15, 96530.0, 70.0)))
+    assert abs(L.qfe(96530.0, 12.0, 278.15, rh_pct=70.0) / ref - 1) < 1e-15
+    # ~8.3 m per hPa near sea level (common practice): 8.3 m below -> +1 hPa
+    assert 99.0 < L.qfe(101325.0, 8.3, 288.15) - 101325.0 < 101.0
+
+
+# --- QNH and the altimeter -----------------------------------------------------------
+def ref_qnh(p, e):
+    n = RD * A / G0
+    return P0 * ((mp.mpf(p) / P0) ** n + A * mp.mpf(e) / T0) ** (1 / n)
+
+
+@pytest.mark.parametrize("p,e", [(96200.0, 430.0), (101325.0, 0.0), (100900.0, 5.0),
+                                 (61000.0, 4411.0), (106000.0, -378.0), (84500.0, 1655.0)])
+def test_qnh_vs_closed_form(p, e):
+    assert abs(L.qnh(p, e) / ref_qnh(p, e) - 1) < 5e-15
+
+
+def test_qnh_of_standard_atmosphere_is_p0():
+    # in the standard atmosphere, the QNH of every aerodrome is 1013.25 hPa (definition)
+    for e in (-378.0, 0.0, 430.0, 1655.0, 4411.0):
+        assert L.qnh(standard.standard_pressure(e), e) == pytest.approx(101325.0, rel=1e-14)
+
+
+@settings(max_examples=300, deadline=None)
+@given(st.floats(min_value=40000.0, max_value=115000.0), st.floats(min_value=-500.0, max_value=5000.0))
+def test_altimeter_set_to_qnh_reads_elevation(p, e):
+    h = standard.pressure_altitude(p) - e
+    assume(h >= standard.BOTTOM_GPH_M)
+    q = standard.standard_pressure(h)
+    assume(L.QNH_MIN_PA <= q <= L.QNH_MAX_PA)
+    assert abs(L.indicated_altitude(p, L.qnh(p, e)) - e) < 1e-8
+
+
+def test_indicated_altitude():
+    # with the standard setting the altimeter shows pressure altitude [ICAO7488]
+    for p in (101325.0, 90000.0, 50000.0, 20000.0, 1000.0):
+        assert L.indicated_altitude(p, 101325.0) == pytest.approx(standard.pressure_altitude(p), abs=1e-9)
+    # a setting 1 hPa higher raises the reading by ~8.3 m near sea level (common practice: ~27-30 ft/hPa)
+    d = L.indicated_altitude(100000.0, 101425.0) - L.indicated_altitude(100000.0, 101325.0)
+    assert 8.2 < d < 8.4
+    # against the closed form of layer 0: reading = (T0/L0)((q/P0)^n - (p/P0)^n)
+    n = RD * A / G0
+    for p, q in ((96200.0, 101257.4), (70000.0, 99800.0), (100000.0, 103000.0)):
+        ref = T0 / A * ((mp.mpf(q) / P0) ** n - (mp.mpf(p) / P0) ** n)
+        assert abs(L.indicated_altitude(p, q) - ref) < 1e-9
+
+
+# --- errors --------------------------------------------------------------------------
+def test_errors():
+    with pytest.raises(RangeError, match=r"p_pa=1008.2 outside 40000..115000 Pa; hPa or mbar passed\? multiply by 100"):
+        L.sea_level_pressure(1008.2, 291.15, 4.0)
+    with pytest.raises(RangeError, match=r"t_k=18.0 outside 180..340 K; Celsius passed\? add 273.15"):
+        L.sea_level_pressure(100820.0, 18.0, 4.0)
+    with pytest.raises(RangeError, match=r"height_m=15000.0 outside -500..5000 m; .*feet passed\? multiply by 0.3048"):
+        L.sea_level_pressure(100820.0, 291.15, 15000.0)
+    with pytest.raises(RangeError, match=r"height_m=-900.0 outside -500..5000 m"):
+        L.sea_level_pressure(100820.0, 291.15, -900.0)
+    with pytest.raises(RangeError, match=r"rh_pct=150.0 outside"):
+        L.sea_level_pressure(100820.0, 291.15, 4.0, rh_pct=150.0)
+    with pytest.raises(RangeError, match=r"lat_deg=95.0 outside"):
+        L.sea_level_pressure(100820.0, 291.15, 4.0, lat_deg=95.0)
+    with pytest.raises(ModelRangeError, match=r"p_pa=110000.0 at elevation_m=4000.0 gives a QNH outside 85000..110000 Pa"):
+        L.qnh(110000.0, 4000.0)
+    with pytest.raises(RangeError, match=r"elevation_m=nan is not finite|elevation_m=nan"):
+        L.qnh(100000.0, float("nan"))
+    with pytest.raises(RangeError, match=r"barometer_above_field_m=500.0 outside -200..200 m"):
+        L.qfe(96530.0, 500.0, 278.15)
+    with pytest.raises(RangeError, match=r"qnh_pa=1013.25 outside 85000..110000 Pa; hPa or mbar passed"):
+        L.indicated_altitude(90000.0, 1013.25)
+    with pytest.raises(ModelRangeError, match=r"above the top of the standard atmosphere"):
+        L.indicated_altitude(0.1, 101325.0)
+    assert issubclass(ModelRangeError, ValueError) and issubclass(RangeError, ValueError)
