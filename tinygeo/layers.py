@@ -28,7 +28,7 @@ Conventions
   in an inversion. Note [USSA76] tabulates the opposite sign (Lb = dT/dH =
   -0.0065 K/m in its first layer).
 - Accepted ranges: pressures 0.1..120000 Pa, virtual temperatures 150..350 K,
-  lapse rates -1..1 K/m (a K/km value gets a hint), thickness +-100000 gpm.
+  lapse rates -1..1 K/m (a K/km value gets a hint), thickness +-200000 gpm.
 """
 import math
 
@@ -88,7 +88,9 @@ def _lnr(p1, p2):
         for c in _LN_C:
             acc = acc * d2 + c
         return 2.0 * d * (1.0 + d2 * acc)
-    return math.log(p1 / p2)
+    if d > 0.0:
+        return math.log(p1 / p2)
+    return -math.log(p2 / p1)   # same rounding either way round: exact antisymmetry
 
 
 def _check_p(name, p):
@@ -106,8 +108,10 @@ def ln_ratio(p1_pa, p2_pa):
     (absent from MicroPython): ln(p1/p2) = 2 atanh(d), d = (p1 - p2)/(p1 + p2),
     summed as the odd series 2 (d + d^3/3 + d^5/5 + ...) for |d| < 0.25
     (common practice; the series is the Taylor expansion of atanh) and
-    math.log(p1/p2) otherwise. Never log(p1) - log(p2). Exactly antisymmetric:
-    ln_ratio(a, b) == -ln_ratio(b, a).
+    math.log of the ratio (larger over smaller, then negated if needed)
+    otherwise. Never log(p1) - log(p2). Exactly antisymmetric:
+    ln_ratio(a, b) == -ln_ratio(b, a), so swapping the ends of a layer flips
+    the sign of its thickness exactly.
 
     Example: ln_ratio(100000.0, 99999.0) -> 1.0000050000333e-05.
     """
@@ -186,7 +190,7 @@ def pressure_across_layer(p_lower_pa, thickness_gpm, tv_mean_k):
     """Pressure at the top of a layer of given thickness and mean Tv, Pa.
 
     p_lower_pa: pressure at the bottom, Pa, 0.1..120000;
-    thickness_gpm: layer thickness, gpm, -100000..100000 (negative: the
+    thickness_gpm: layer thickness, gpm, -200000..200000 (negative: the
                    other level lies below, and its pressure is higher);
     tv_mean_k: mean virtual temperature of the layer over ln p, K, 150..350.
 
@@ -197,8 +201,8 @@ def pressure_across_layer(p_lower_pa, thickness_gpm, tv_mean_k):
     """
     p1 = _check_p("p_lower_pa", p_lower_pa)
     dz = as_finite("thickness_gpm", thickness_gpm, "gpm")
-    if dz < -100000.0 or dz > 100000.0:
-        raise RangeError("thickness_gpm=%r outside -100000..100000 gpm; geopotential metres expected" % (dz,))
+    if dz < -200000.0 or dz > 200000.0:
+        raise RangeError("thickness_gpm=%r outside -200000..200000 gpm; geopotential metres expected" % (dz,))
     tv = check_t_k("tv_mean_k", tv_mean_k)
     return p1 * math.exp(-_GR * dz / tv)
 
