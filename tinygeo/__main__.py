@@ -1,0 +1,2 @@
+from tinygeo.host.cli import main
+raise SystemExit(main())
