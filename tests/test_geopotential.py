@@ -186,3 +186,24 @@ def test_bad_input(call, word, err):
         call()
     assert word in str(ei.value)
     assert isinstance(ei.value, ValueError)
+
+
+def test_vector_file_is_current_and_passes():
+    # tests/vectors/gravity.txt: the mpmath lines must be what gen_gravity.py prints
+    # now, and every case must pass when evaluated through the module functions
+    # (the package-level names are wired in tinygeo/__init__.py by the lead)
+    import runvec
+    path = VECTORS / "gravity.txt"
+    text = path.read_text().splitlines()
+    for line in gen.vector_lines():
+        assert line in text, "stale or missing vector line: " + line
+    funcs = {"normal_gravity": G.normal_gravity, "somigliana_gravity": G.somigliana_gravity,
+             "geopotential": P.geopotential, "geopotential_height": P.geopotential_height,
+             "geometric_height": P.geometric_height, "msl_height": P.msl_height}
+    cases = runvec.load(str(path))
+    assert len(cases) >= 30
+    for lineno, func, args, expected, kind, tol, source in cases:
+        assert source
+        got = funcs[func](*args)
+        err = abs(got - expected) / (abs(expected) if kind == "rel" else 1.0)
+        assert err <= tol, (lineno, func, args, got, expected)
