@@ -21,7 +21,7 @@ from hypothesis import assume, given, settings, strategies as st
 from tinygeo import geopotential, sealevel as L, standard
 from tinygeo.errors import ModelRangeError, RangeError
 
-mp.mp.dps = 30
+mp.mp.dps = 40
 G0 = mp.mpf("9.80665")
 RD = mp.mpf("8.31432") / mp.mpf("0.0289644")   # [USSA76] Table 2: R*/M0
 A = mp.mpf("0.0065")                            # K/gpm
@@ -217,3 +217,94 @@ def test_errors():
     with pytest.raises(ModelRangeError, match=r"above the top of the standard atmosphere"):
         L.indicated_altitude(0.1, 101325.0)
     assert issubclass(ModelRangeError, ValueError) and issubclass(RangeError, ValueError)
+
+
+# --- shared vectors (tests/vectors/sealevel.txt) -----------------------------------
+# Run here through the module functions (the package-level names are wired by the
+# lead in tinygeo/__init__.py; tests/test_vectors.py runs the same file through them).
+import pathlib  # noqa: E402
+import sys  # noqa: E402
+
+VECTOR_FILE = pathlib.Path(__file__).resolve().parent / "vectors" / "sealevel.txt"
+sys.path.insert(0, str(VECTOR_FILE.parent))
+import runvec  # noqa: E402
+
+VECTOR_CASES = runvec.load(str(VECTOR_FILE))
+VECTOR_FUNCS = {"sea_level_pressure": L.sea_level_pressure, "qfe": L.qfe, "qnh": L.qnh,
+                "indicated_altitude": L.indicated_altitude}
+
+
+def _ref_qfe(p, dh, t):
+    return mp.mpf(p) * mp.exp(G0 * mp.mpf(dh) / (RD * mp.mpf(t)))
+
+
+def _ref_indicated(p, q):
+    n = RD * A / G0
+    return T0 / A * ((mp.mpf(q) / P0) ** n - (mp.mpf(p) / P0) ** n)
+
+
+VECTOR_REFS = {"sea_level_pressure": ref_msl_ode, "qfe": _ref_qfe, "qnh": ref_qnh,
+               "indicated_altitude": _ref_indicated}
+
+
+def _r(x):
+    # repr of a reference value, with findroot's 1e-40 noise around 0 shown as 0.0
+    x = float(x)
+    return repr(0.0 if abs(x) < 1e-30 else x)
+
+
+@pytest.mark.parametrize("case", VECTOR_CASES, ids=lambda c: "%s:%d" % (c[1], c[0]))
+def test_vector_through_module(case):
+    lineno, func, args, expected, kind, tol, source = case
+    got = VECTOR_FUNCS[func](*args)
+    err = abs(got - expected) / (abs(expected) if kind == "rel" else 1.0)
+    assert err <= tol, (lineno, got, expected, source)
+
+
+@pytest.mark.parametrize("case", VECTOR_CASES, ids=lambda c: "%s:%d" % (c[1], c[0]))
+def test_vector_matches_reference(case):
+    # every expected value agrees with the mpmath reference of the published formula:
+    # 'mpmath' lines to double rounding (else they are stale), printed-table and
+    # common-practice lines within their own tolerance
+    lineno, func, args, expected, kind, tol, source = case
+    ref = VECTOR_REFS[func](*args)
+    if "mpmath" in source:
+        assert abs(expected - ref) <= 1e-15 * abs(ref) + 1e-20, (lineno, expected, ref)
+    else:
+        err = abs(ref - expected) / (abs(expected) if kind == "rel" else 1.0)
+        assert err <= tol, (lineno, ref, expected, source)
+
+
+def write_vectors():
+    """Rewrite tests/vectors/sealevel.txt from the mpmath references above
+    (run: python tests/test_sealevel.py)."""
+    out = []
+    w = out.append
+    w("# Shared vectors: pressure reduced to sea level, QFE, QNH, altimeter (format: tests/vectors/runvec.py).")
+    w("# Units: Pa, K, m. Expected values are mpmath evaluations (40 digits) of the published forms:")
+    w("#  sea_level_pressure p t h : dry; hydrostatic equation integrated (mpmath odefun) through a column of")
+    w("#    mean temperature t + 0.0065 h/2 (WMO-No. 8 Vol. I Ch. 3 rule, from memory), g0 = 9.80665,")
+    w("#    Rd = R*/M0 of USSA76 Table 2")
+    w("#  qfe p dh t : p exp(g0 dh / (Rd t)) (WMO-No. 8 Vol. I Ch. 3, from memory)")
+    w("#  qnh p e : P0 ((p/P0)^n + L0 e/T0)^(1/n), n = Rd L0/g0 (ICAO standard atmosphere layer 0, from memory)")
+    w("#  indicated_altitude p q : (T0/L0) ((q/P0)^n - (p/P0)^n) (ICAO standard atmosphere layer 0)")
+    w("# The stations and buoys are invented scenarios. tests/test_sealevel.py recomputes every line.")
+    w("")
+    for p, t, h in CASES:
+        w("sea_level_pressure %r %r %r = %s rel 1e-13  # mpmath, WMO-No. 8 half-way rule, dry" % (p, t, h, repr(float(ref_msl_ode(p, t, h)))))
+    for p, dh, t in [(96530.0, 12.0, 278.15), (101200.0, -3.0, 300.0), (70000.0, 200.0, 250.0)]:
+        ref = _ref_qfe(p, dh, t)
+        w("qfe %r %r %r = %s rel 1e-14  # mpmath, hypsometric step" % (p, dh, t, repr(float(ref))))
+    for p, e in [(96200.0, 430.0), (101325.0, 0.0), (100900.0, 5.0), (61000.0, 4411.0), (106000.0, -378.0), (84500.0, 1655.0)]:
+        w("qnh %r %r = %s rel 1e-13  # mpmath, ICAO altimeter-setting closed form" % (p, e, repr(float(ref_qnh(p, e)))))
+    for p, q in ((96200.0, 101257.4), (70000.0, 99800.0), (100000.0, 103000.0), (101325.0, 101325.0)):
+        ref = _ref_indicated(p, q)
+        w("indicated_altitude %r %r = %s abs 1e-8  # mpmath, ICAO layer-0 closed form" % (p, q, repr(float(ref))))
+    w("")
+    w("# common practice: about 0.12 hPa per metre of barometer height near sea level")
+    w("sea_level_pressure 101000.0 288.15 10.0 = 101120.0 abs 3.0  # common practice (about 0.12 hPa per metre)")
+    VECTOR_FILE.write_text("\n".join(out) + "\n")
+
+
+if __name__ == "__main__":
+    write_vectors()

@@ -351,3 +351,107 @@ def test_float32_whole_range(float32):
         worst_h = max(worst_h, abs(float(S._altitude(p2)) - float(ref_h(float(p2)))))
     assert worst_p < 2e-6        # ~15 ulp: exp of an argument up to 13
     assert worst_h < 0.05        # a few ulp of the height itself (ulp(84852) = 7.8 mm)
+
+
+# --- shared vectors (tests/vectors/standard.txt) -----------------------------------
+# Run here through the module functions (the package-level names are wired by the
+# lead in tinygeo/__init__.py; tests/test_vectors.py runs the same file through them).
+import pathlib  # noqa: E402
+import sys  # noqa: E402
+
+VECTOR_FILE = pathlib.Path(__file__).resolve().parent / "vectors" / "standard.txt"
+sys.path.insert(0, str(VECTOR_FILE.parent))
+import runvec  # noqa: E402
+
+VECTOR_CASES = runvec.load(str(VECTOR_FILE))
+VECTOR_FUNCS = {"standard_temperature": S.standard_temperature, "standard_pressure": S.standard_pressure,
+                "pressure_altitude": S.pressure_altitude}
+VECTOR_REFS = {"standard_temperature": ref_t, "standard_pressure": ref_p, "pressure_altitude": ref_h}
+
+
+def _r(x):
+    # repr of a reference value, with findroot's 1e-40 noise around 0 shown as 0.0
+    x = float(x)
+    return repr(0.0 if abs(x) < 1e-30 else x)
+
+
+@pytest.mark.parametrize("case", VECTOR_CASES, ids=lambda c: "%s:%d" % (c[1], c[0]))
+def test_vector_through_module(case):
+    lineno, func, args, expected, kind, tol, source = case
+    got = VECTOR_FUNCS[func](*args)
+    err = abs(got - expected) / (abs(expected) if kind == "rel" else 1.0)
+    assert err <= tol, (lineno, got, expected, source)
+
+
+@pytest.mark.parametrize("case", VECTOR_CASES, ids=lambda c: "%s:%d" % (c[1], c[0]))
+def test_vector_matches_reference(case):
+    # every expected value agrees with the mpmath reference of the published formula:
+    # 'mpmath' lines to double rounding (else they are stale), printed-table and
+    # common-practice lines within their own tolerance
+    lineno, func, args, expected, kind, tol, source = case
+    ref = VECTOR_REFS[func](*args)
+    if "mpmath" in source:
+        assert abs(expected - ref) <= 1e-15 * abs(ref) + 1e-20, (lineno, expected, ref)
+    else:
+        err = abs(ref - expected) / (abs(expected) if kind == "rel" else 1.0)
+        assert err <= tol, (lineno, ref, expected, source)
+
+
+def write_vectors():
+    """Rewrite tests/vectors/standard.txt from the mpmath references above
+    (run: python tests/test_standard.py)."""
+    out = []
+    w = out.append
+    w("# Shared vectors: U.S. Standard Atmosphere 1976 (format: tests/vectors/runvec.py).")
+    w("# Units: geopotential height gpm, temperature K, pressure Pa.")
+    w("# [USSA76] NOAA, NASA, USAF (1976), U.S. Standard Atmosphere, 1976, NOAA-S/T 76-1562.")
+    w("# Printed values are typed from memory; tests/test_standard.py checks each against an mpmath")
+    w("# evaluation of eqs. 18, 23, 33a, 33b. Tolerances: half a unit of the last printed digit")
+    w("# (pressure_altitude: that half unit converted to height, dH = dP Rd T / (g0 P)).")
+    w("# Lines whose source says 'mpmath' are eq. 23/33a/33b evaluated at 40 digits; the test")
+    w("# recomputes them and fails if they are stale.")
+    w("")
+    w("# Table 4: layer bases")
+    printed = TABLE4_P
+    for b in range(8):
+        pr = printed[b]
+        dec = len(pr.split(".")[1])
+        half = 0.5 * 10 ** -dec
+        w("standard_pressure %s = %s abs %.1e  # USSA76 Table 4, Pb of layer %d (from memory)" % (float(HB[b]), pr, half, b))
+    for b in range(8):
+        w("standard_temperature %s = %s abs 1e-9  # USSA76 Table 4, T_Mb of layer %d (from memory)" % (float(HB[b]), mp.nstr(TB[b], 10), b))
+    for b in range(1, 8):
+        pr = printed[b]
+        dec = len(pr.split(".")[1])
+        half = 0.5 * 10 ** -dec
+        tol = 1.01 * half * float((R_STAR / M0) * TB[b] / (G0 * mp.mpf(pr))) + 1e-9
+        w("pressure_altitude %s = %s abs %.1e  # USSA76 Table 4, Hb of layer %d from the printed Pb (from memory)" % (pr, float(HB[b]), tol, b))
+    w("")
+    w("# Table I rows at geometric height Z; argument H = r0 Z/(r0 + Z), eq. 18, r0 = 6356766 m")
+    for z, t, p in TABLE_I:
+        h = R0 * mp.mpf(z) / (R0 + mp.mpf(z))
+        hs = mp.nstr(h, 15)
+        if p is not None:
+            w("standard_pressure %s = %s abs %.1e  # USSA76 Table I, Z = %g m (from memory)" % (hs, p, _half_unit(p), z))
+        if t is not None:
+            w("standard_temperature %s = %s abs 5e-4  # USSA76 Table I, Z = %g m (from memory)" % (hs, t, z))
+    w("")
+    w("# mpmath, 40 digits: USSA76 eq. 23 / 33a / 33b with the Table 4 layers")
+    hs = [-5000.0, -1000.0, -0.5, 0.25, 500.0, 1000.0, 5000.0, 8848.0, 10999.0, 11001.0, 15000.0, 19999.5,
+          25000.0, 31999.0, 40000.0, 46999.0, 49000.0, 50999.0, 60000.0, 70999.0, 80000.0, 84851.0]
+    for h in hs:
+        w("standard_pressure %r = %s rel 1e-13  # mpmath, USSA76 eq. 33" % (h, repr(float(ref_p(h)))))
+    for h in hs[::3]:
+        w("standard_temperature %r = %s abs 1e-10  # mpmath, USSA76 eq. 23" % (h, repr(float(ref_t(h)))))
+    ps = [170000.0, 105000.0, 101325.0, 101324.0, 101000.0, 95000.0, 85000.0, 70000.0, 50000.0, 30000.0,
+          25000.0, 20000.0, 10000.0, 5000.0, 1000.0, 500.0, 100.0, 50.0, 10.0, 1.0, 0.5]
+    for p in ps:
+        w("pressure_altitude %r = %s abs 1e-8  # mpmath, USSA76 eq. 33 solved for H (findroot)" % (p, _r(ref_h(p))))
+    w("")
+    w("# common practice: about 8.3 m per hPa near sea level")
+    w("pressure_altitude 101225.0 = 8.3 abs 0.05  # common practice (8.3 m per hPa near sea level)")
+    VECTOR_FILE.write_text("\n".join(out) + "\n")
+
+
+if __name__ == "__main__":
+    write_vectors()
