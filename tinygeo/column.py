@@ -1,0 +1,929 @@
+"""The running hypsometric integration of an atmospheric column, reading by
+reading: live geopotential and geometric height, vertical rate, flight events,
+height uncertainty, GPS cross-check and power-loss checkpoints.
+
+``Column`` keeps a fixed set of attributes and updates them in place: every
+``feed`` costs O(1) time and memory (no list, dict, tuple or string is built on
+the accepted path) and calls the core modules for every formula:
+``tinygeo.moisture`` (virtual temperature), ``tinygeo.layers`` (thickness of
+the layer between two readings, stable ln(p1/p2)) and ``tinygeo.geopotential``
+(geopotential height of the start, geometric height of the column).
+
+Logger loop (a sketch; ``sensor`` is your driver, ``flash`` your storage)::
+
+    from tinygeo.column import Column, EV_BURST, EV_LANDED
+    from tinygeo.errors import ReadingError
+
+    col = Column(48.2, start_height_m=512.0)
+    while True:
+        r = sensor.read()
+        try:
+            bits = col.feed(r.p_pa, r.t_k, r.rh_pct, r.time_s, r.gps_m)
+        except ReadingError as e:
+            log("rejected %s: %s" % (e.reason, e))   # the column is unchanged
+            continue
+        show(col.height_m, col.rate_m_s, col.sigma_m)
+        if bits & EV_BURST:
+            release_parachute_log(col.burst_gph_m)
+        if col.count % 30 == 0:
+            flash.write(col.to_bytes())              # restore: Column.from_bytes(blob)
+        if bits & EV_LANDED:
+            break
+
+The contract (constructor, ``feed``, attributes, events, flags, phases)
+-----------------------------------------------------------------------
+``Column(lat_deg, start_height_m=0.0, anchor_p_pa=None, ellipsoid=WGS84,
+ice=False, dry_fallback=False, sigma_p_pa=10.0, sigma_t_k=0.2,
+sigma_rh_pct=1.0, bias_p_pa=50.0, bias_t_k=0.2, bias_rh_pct=3.0,
+max_rate_m_s=200.0, landing_s=60.0, landing_tol_pa=50.0, launch_m=20.0,
+burst_drop_m=50.0, burst_readings=3, tropopause_max_p_pa=50000.0,
+rh_tol_pct=3.0, track_sigma=True, on_event=None)``
+
+- lat_deg: geodetic latitude of the flight, degrees, -90..90 (kept fixed: the
+  latitude only enters the conversion between geopotential and geometric
+  height, 0.5 % at most).
+- start_height_m: height above mean sea level, m, of the first accepted
+  reading; or, with anchor_p_pa, of the pressure anchor_p_pa.
+- anchor_p_pa: a pressure, Pa, known to sit at start_height_m (a station
+  barometer, a surveyed launch pad). The first reading is then placed by one
+  hypsometric step from it, with the first reading's virtual temperature at
+  both ends (an isothermal step: exact for the few metres a launch pad sits
+  above or below its reference).
+- ellipsoid: tinygeo.WGS84 (default) or tinygeo.GRS80.
+- ice: humidity relative to ice at and below 0 degC (default: to water, the
+  WMO upper-air convention); passed to tinygeo.moisture.
+- dry_fallback: what a reading without humidity uses. False (default): the
+  mixing ratio of the latest reading that had a humidity is held (flag
+  FL_HELD_MIXING; dry air, FL_DRY, if there was none yet). True: dry air
+  (flag FL_DRY).
+- sigma_p_pa, sigma_t_k, sigma_rh_pct: RANDOM 1-sigma errors of one reading
+  (noise, independent from reading to reading).
+- bias_p_pa, bias_t_k, bias_rh_pct: SYSTEMATIC 1-sigma errors (calibration
+  offsets, the same for the whole flight).
+  Defaults (common practice for a radiosonde-class sensor set, from memory,
+  not a specification of any product): pressure noise 0.1 hPa and calibration
+  0.5 hPa; temperature noise 0.2 K and calibration 0.2 K; humidity noise 1 %RH
+  and calibration 3 %RH. A consumer MEMS barometer is closer to 0.02 hPa noise
+  and 1 hPa offset (data-sheet class, from memory).
+- max_rate_m_s: fastest believable vertical speed, m/s (|d gph / dt|, gpm/s);
+  a reading implying more is rejected (reason 'rate'). None disables the check.
+  200 m/s is above the free fall of a burst balloon's train in the thin upper
+  air (tens of m/s, up to about 100 m/s at 30 km; common practice).
+- landing_s, landing_tol_pa: after the burst, pressure within landing_tol_pa of
+  a reference reading for landing_s seconds (time_s needed) means landed.
+- launch_m: rise, gpm, above the lowest height seen while waiting that means
+  launched (PH_WAIT -> PH_ASCENT, EV_LAUNCH).
+- burst_drop_m, burst_readings: descent is confirmed when burst_readings
+  readings in a row lie at least burst_drop_m (gpm) below the highest point
+  (EV_BURST, PH_DESCENT); burst_gph_m is that highest point.
+- tropopause_max_p_pa: only readings at or above this level (pressure at or
+  below it) can be the tropopause (500 hPa by default, common practice, which
+  keeps surface inversions out of the search).
+- rh_tol_pct: how far beyond 0..100 %RH a humidity is still accepted, 0..3 %
+  (sensor noise; the value is passed on unchanged, as tinygeo.moisture
+  accepts -3..103 %).
+- track_sigma: False skips the uncertainty bookkeeping (sigma_* become nan)
+  for a leaner feed.
+- on_event: callable(column, bits) called after a reading with events has
+  updated the column (see EV_LEVEL for readings crossing several levels).
+
+``feed(p_pa, t_k, rh_pct=None, time_s=None, gps_m=None) -> int`` adds one
+reading and returns the bits of the events it caused (0 = none).
+p_pa: pressure, Pa, 0 < p <= 120000; t_k: air temperature, K, 150..350;
+rh_pct: relative humidity, %, or None; time_s: a time stamp, s, any origin,
+never decreasing, or None; gps_m: GPS height above mean sea level, m,
+-1000..100000, or None (an ellipsoidal GPS height h is converted first with
+tinygeo.geopotential.msl_height(h, N)). A bad reading raises
+tinygeo.errors.ReadingError with ``.reason`` one of 'number' (not a finite
+number), 'pressure', 'temperature', 'humidity', 'time', 'rate', 'gps', after
+incrementing ``rejected`` -- nothing else changes.
+
+Attributes after each accepted reading (nan where not known yet):
+  count, rejected (int): readings accepted / rejected.
+  p_pa, t_k, tv_k, rh_pct, time_s: the latest accepted reading (tv_k is the
+    virtual temperature used; rh_pct and time_s are nan when not given).
+  gph_m: geopotential height, gpm (compensated running sum).
+  height_m: geometric height above mean sea level, m (see "Geometric height").
+  rate_m_s: vertical speed between the two latest readings with a time, m/s
+    (nan when this reading has no time; the raw difference, not smoothed).
+  flags (int): FL_* bits of the latest reading.
+  phase (int): PH_WAIT, PH_ASCENT, PH_DESCENT, PH_LANDED.
+  max_gph_m: highest gph so far; launch_time_s.
+  burst_gph_m, burst_time_s, burst_p_pa: the highest point before the
+    confirmed descent (set with EV_BURST).
+  level_p_pa, level_gph_m, level_height_m, level_t_k: the mandatory level of
+    the latest EV_LEVEL.
+  tropopause_p_pa, tropopause_gph_m, tropopause_t_k (set with EV_TROPOPAUSE).
+  sigma_m, sigma_random_m, sigma_bias_m: 1-sigma height uncertainty, m
+    (properties computed from the running sums; see "Uncertainty").
+  gps_m, gps_diff_m: the latest GPS height given, and barometric height minus
+    it at that reading, m.
+
+Methods: ``reanchor_gps()``, ``to_bytes()``, ``Column.from_bytes(blob)``.
+
+Integration
+-----------
+Between two readings (p1, Tv1) and (p2, Tv2) the column rises by
+tinygeo.layers.layer_thickness(p1, p2, Tv1, Tv2) = (Rd/g0) (Tv1+Tv2)/2
+ln(p1/p2) gpm (hypsometric equation, Wallace and Hobbs 2006 eq. 3.29/3.30;
+the trapezoid in ln p), negative when the pressure rises (descent, FL_DESCENT),
+exactly zero for a repeated pressure (FL_SAME_P; the reading still updates
+temperature, time and events). Float32 care: the logarithm is the stable
+ln_ratio of tinygeo.layers, and the running sum of thousands of small
+increments is compensated (classic Kahan summation, Kahan 1965, "Further
+remarks on reducing truncation errors", Comm. ACM 8(1) 40): the correction
+is folded into every step, so it never grows beyond one unit in the last
+place of the sum; a separately accumulated Neumaier-type correction drifts
+when floats are truncated rather than rounded (30-bit MicroPython builds).
+
+Geometric height
+----------------
+height_m is tinygeo.geopotential.geometric_height of gph_m, evaluated
+exactly at a node and interpolated linearly in gph from a second node 200 gpm
+above it; the pair is re-evaluated when gph_m leaves [node - 100, node + 300].
+h(gph) bends by d2h/dgph2 ~ 2/R = 3.1e-7 per metre, so the interpolation is
+within 5 mm, and a new node costs two geometric_height calls every 400 gpm or
+so instead of one (a 3-step Newton solve) per reading. rate_m_s uses the same
+slope dh/dgph. Above 98 750 gpm (outside geometric_height) height_m is nan.
+
+Events
+------
+EV_LEVEL: a WMO mandatory isobaric level (MANDATORY_PA) was crossed; its gph,
+  height and temperature are interpolated linearly in ln p between the two
+  readings (ln p from tinygeo.layers.ln_ratio). Levels are reported on the way
+  up only (phases PH_WAIT and PH_ASCENT), each at most once, the first time
+  the column reaches it; a level at or below the start is never reported,
+  except one exactly equal to the first reading's pressure. On descent nothing
+  is reported (the ascent is the sounding). If one reading crosses several
+  levels (sparse data), on_event is first called with EV_LEVEL alone for each
+  lower one (level_* set to it), then with the reading's bits for the highest,
+  which level_* keep.
+EV_TROPOPAUSE: the first tropopause by the WMO lapse-rate definition: "the
+  lowest level at which the lapse rate decreases to 2 K/km or less, provided
+  also the average lapse rate between this level and all higher levels within
+  2 km does not exceed 2 K/km" (WMO 1957, WMO-No. 49 Technical Regulations;
+  wording from memory), with lapse rates per km of geopotential height and
+  temperature t_k (not tv_k). The profile searched is the ascent envelope:
+  readings higher than every earlier one (dips from pendulum motion or noise
+  are skipped), in phases PH_WAIT/PH_ASCENT, at pressures <=
+  tropopause_max_p_pa. Exactly, for envelope points i with
+  theta_i = t_i + 0.002 gph_i (K): i is the tropopause when no envelope point
+  j after it with gph_j <= gph_i + 2000 has theta_j < theta_i, the point just
+  after it (even if farther than 2 km: sparse data) has theta >= theta_i, and
+  a point above gph_i + 2000 exists. The event fires at that point, i.e. about
+  2 km above the tropopause. Look-ahead is bounded by O(1) state: along the
+  envelope, a point that rejects the current candidate also rejects every point
+  between them (they have theta >= the candidate's and lie less than 2 km
+  below it), so one candidate at a time gives exactly the brute-force answer
+  (tests/test_column.py compares both on random profiles).
+EV_BURST: descent confirmed (see burst_drop_m); PH_ASCENT -> PH_DESCENT.
+EV_LANDED: pressure steady after the burst (see landing_s); -> PH_LANDED.
+EV_LAUNCH: the rise of launch_m above the waiting height; PH_WAIT ->
+  PH_ASCENT.
+
+Uncertainty
+-----------
+First-order (linear) propagation of the sensor errors through the
+hypsometric sum z_n = z_0 + sum_i (Rd/g0) (Tv_{i-1}+Tv_i)/2 ln(p_{i-1}/p_i)
+(JCGM 100:2008, Evaluation of measurement data -- Guide to the expression of
+uncertainty in measurement (GUM), eq. 10 for uncorrelated and eq. 13 for fully
+correlated inputs; from memory). With K = Rd/g0, L_i = ln(p_{i-1}/p_i) and
+Tm_i = (Tv_{i-1}+Tv_i)/2 the sensitivities are
+  dz_n/dTv_i = K (L_i + L_{i+1})/2 (the end readings get one half-layer),
+  dz_n/dp_i  = K (Tm_{i+1} - Tm_i)/p_i inside, K Tm_1/p_0 at the start and
+               -K Tm_n/p_n at the latest reading,
+  dTv/dT ~ 1 and dTv/dRH ~ (Tv - T)/RH (Tv - T is proportional to the vapour
+  pressure to within e/p; readings under 1 %RH and readings without humidity
+  keep the last slope).
+Random part: sum of (sensitivity x sigma)^2 over every reading (each reading's
+sensitivity is final once the next reading arrives, so the sum is kept in
+O(1)): temperature and humidity noise add as a random walk over the layers,
+pressure noise counts at the two ends (and barely inside).
+Systematic part: a calibration offset is the same for every reading, so its
+sensitivities add before squaring: temperature (Rd/g0) dT ln(p0/p),
+humidity K sum_i (dTv/dRH)_mean L_i dRH, pressure (sum_i dz_n/dp_i) dp, which
+at the latest reading is -(Rd Tv/(g0 p)) dp (at 10 hPa, 0.5 hPa is about
+340 m). The three are independent (added in squares); after reanchor_gps the
+GPS sigma joins them. sigma_m = sqrt(random^2 + systematic^2). Computed in
+geopotential metres (within 1.1 % of metres up to 35 km). Not modelled: the
+error of the dry assumption when humidity is missing (Tv - T reaches 3-5 K
+in warm moist air; watch FL_DRY / FL_HELD_MIXING), sensor lag, and
+non-hydrostatic motion.
+
+Bad readings and the rejected counter
+-------------------------------------
+Every check and every computation happens before the first attribute is
+written, so a rejected reading leaves the column exactly as it was, except
+``rejected``, a diagnostic counter that is deliberately outside the results:
+a stream with bad readings interleaved gives bit-identical results
+(every other attribute, every event, every later height) to the same stream
+without them, and differs only in ``rejected`` (also stored in checkpoints).
+Time: a time_s lower than the latest given one is rejected ('time'); an equal
+time_s is accepted only if the height does not change (a duplicate), because
+otherwise the speed is infinite ('time').
+
+Checkpoint
+----------
+to_bytes() packs every setting and every state variable: magic b"TGCK",
+version, payload length, the payload (floats as IEEE doubles '<d', so a
+float32 board stores its values exactly too and a restore continues
+bit-identically on the same platform), then CRC-32 (IEEE 802.3 polynomial;
+binascii.crc32 when the firmware has it, else the same CRC computed here)
+of everything before it. CRC-32 detects every single-bit error and every burst
+of up to 32 bits; truncation is caught by the length. on_event is not stored
+(pass it to from_bytes). CHECKPOINT_BYTES is the blob size.
+"""
+import math
+import struct
+
+from . import geopotential, layers, moisture
+from .constants import G0, RD, WGS84, GRS80
+from .errors import (TinygeoError, RangeError, ReadingError, CheckpointError, check_lat,
+                     check_range, temperature_hint, pressure_hint, _fmt)
+
+try:
+    from binascii import crc32 as _crc32
+except ImportError:  # pragma: no cover - firmware without binascii.crc32
+    _crc32 = None
+
+# --- events, flags, phases ----------------------------------------------------
+EV_LEVEL = 1
+EV_TROPOPAUSE = 2
+EV_BURST = 4
+EV_LANDED = 8
+EV_LAUNCH = 16
+
+FL_DRY = 1
+FL_HELD_MIXING = 2
+FL_NO_TIME = 4
+FL_DESCENT = 8
+FL_SAME_P = 16
+
+PH_WAIT = 0
+PH_ASCENT = 1
+PH_DESCENT = 2
+PH_LANDED = 3
+
+MANDATORY_PA = (100000.0, 92500.0, 85000.0, 70000.0, 50000.0, 40000.0, 30000.0, 25000.0,
+                20000.0, 15000.0, 10000.0, 7000.0, 5000.0, 3000.0, 2000.0, 1000.0)
+"""WMO mandatory (standard isobaric) levels, Pa: 1000 ... 10 hPa (WMO-No. 306
+Manual on Codes and WMO-No. 49 Technical Regulations, from memory)."""
+
+P_MAX_PA = 120000.0
+"""Highest pressure accepted, Pa (no sensor reads more; 1200 hPa)."""
+T_MIN_K = 150.0
+T_MAX_K = 350.0
+GPS_MIN_M = -1000.0
+GPS_MAX_M = 100000.0
+
+WMO_LAPSE_K_PER_GPM = 0.002
+"""2 K/km, the lapse rate of the WMO tropopause definition, in K per gpm."""
+WMO_DEPTH_GPM = 2000.0
+"""2 km, the depth over which the WMO definition checks the mean lapse rate."""
+
+_NAN = float("nan")
+_INF = float("inf")
+_KH = 0.5 * RD / G0        # half of Rd/g0, gpm/K
+_NODE_SPAN = 200.0         # gpm between the two height nodes
+_NODE_BELOW = 100.0        # validity of a node pair below / above its span
+_NODE_ABOVE = 300.0
+_RH_SLOPE_MIN = 1.0        # %RH below which dTv/dRH is held, not recomputed
+
+
+def _crc(data):
+    """CRC-32 (IEEE 802.3, reflected polynomial 0xEDB88320, as zlib/binascii)."""
+    if _crc32 is not None:
+        return _crc32(data) & 0xFFFFFFFF
+    return _crc_soft(data)
+
+
+_CRC_NIBBLE = []
+for _i in range(16):
+    _c = _i
+    for _j in range(4):
+        _c = (_c >> 1) ^ (0xEDB88320 if _c & 1 else 0)
+    _CRC_NIBBLE.append(_c)
+_CRC_NIBBLE = tuple(_CRC_NIBBLE)
+del _i, _j, _c
+
+
+def _crc_soft(data):
+    # The same CRC-32, four bits at a time with a 16-entry table.
+    c = 0xFFFFFFFF
+    t = _CRC_NIBBLE
+    for b in data:
+        c = t[(c ^ b) & 15] ^ (c >> 4)
+        c = t[(c ^ (b >> 4)) & 15] ^ (c >> 4)
+    return c ^ 0xFFFFFFFF
+
+
+# --- checkpoint layout ----------------------------------------------------------
+# Settings first (the constructor is called with them on restore), then state.
+_CFG_F = ("lat_deg", "start_height_m", "_anchor", "sigma_p_pa", "sigma_t_k", "sigma_rh_pct",
+          "bias_p_pa", "bias_t_k", "bias_rh_pct", "_max_rate", "landing_s", "landing_tol_pa",
+          "launch_m", "burst_drop_m", "tropopause_max_p_pa", "rh_tol_pct")
+_CFG_I = ("_ell", "ice", "dry_fallback", "burst_readings", "track_sigma")
+_ST_F = ("p_pa", "t_k", "tv_k", "rh_pct", "time_s", "gph_m", "_c", "height_m", "rate_m_s",
+         "max_gph_m", "launch_time_s", "burst_gph_m", "burst_time_s", "burst_p_pa",
+         "level_p_pa", "level_gph_m", "level_height_m", "level_t_k",
+         "tropopause_p_pa", "tropopause_gph_m", "tropopause_t_k", "gps_m", "gps_diff_m",
+         "_t_last", "_g_t", "_min_gph", "_launch_gph", "_max_time", "_max_p", "_burst_line",
+         "_land_p", "_land_t", "_h_t", "_h_p", "_h_rh", "_w_held",
+         "_tp_g", "_tp_top", "_tp_th", "_tp_p", "_tp_t",
+         "_n_g", "_n_h", "_n_k",
+         "_var_done", "_ct", "_cp", "_s2", "_sum_a", "_sum_rh", "_sum_p", "_slope", "_var_anchor",
+         "_gps_g")
+_ST_I = ("count", "rejected", "flags", "phase", "_lvl", "_burst_n", "_tp_state", "_gps_n")
+_MAGIC = b"TGCK"
+_VERSION = 1
+_HEAD = "<4sBH"            # magic, version, payload length
+_HEAD_LEN = struct.calcsize(_HEAD)
+_PAYLOAD = "<" + "d" * (len(_CFG_F) + len(_ST_F)) + "i" * (len(_CFG_I) + len(_ST_I))
+_PAYLOAD_LEN = struct.calcsize(_PAYLOAD)
+CHECKPOINT_BYTES = _HEAD_LEN + _PAYLOAD_LEN + 4
+"""Size of a checkpoint blob, bytes."""
+
+
+def _reject(reason, msg):
+    return ReadingError(msg, reason)
+
+
+class Column:
+    """The running hypsometric integration of an atmospheric column (see the
+    module docstring for every option, attribute, event and formula)."""
+
+    def __init__(self, lat_deg, start_height_m=0.0, anchor_p_pa=None, ellipsoid=WGS84,
+                 ice=False, dry_fallback=False, sigma_p_pa=10.0, sigma_t_k=0.2,
+                 sigma_rh_pct=1.0, bias_p_pa=50.0, bias_t_k=0.2, bias_rh_pct=3.0,
+                 max_rate_m_s=200.0, landing_s=60.0, landing_tol_pa=50.0, launch_m=20.0,
+                 burst_drop_m=50.0, burst_readings=3, tropopause_max_p_pa=50000.0,
+                 rh_tol_pct=3.0, track_sigma=True, on_event=None):
+        # --- settings (checked here; RangeError names the bad one)
+        self.lat_deg = check_lat(lat_deg)
+        if ellipsoid is WGS84 or getattr(ellipsoid, "name", None) == "WGS84":
+            self._ell = 0
+            self.ellipsoid = WGS84
+        elif ellipsoid is GRS80 or getattr(ellipsoid, "name", None) == "GRS80":
+            self._ell = 1
+            self.ellipsoid = GRS80
+        else:
+            raise RangeError("ellipsoid=%s not supported; pass tinygeo.WGS84 or tinygeo.GRS80"
+                             % _fmt(ellipsoid))
+        self.start_height_m = check_range("start_height_m", start_height_m, -1000.0, 100000.0, "m",
+                                          "height above mean sea level in metres")
+        if anchor_p_pa is None:
+            self._anchor = _NAN
+        else:
+            self._anchor = check_range("anchor_p_pa", anchor_p_pa, 0.1, P_MAX_PA, "Pa",
+                                       pressure_hint(anchor_p_pa) if isinstance(anchor_p_pa, (int, float))
+                                       else None)
+        self.ice = bool(ice)
+        self.dry_fallback = bool(dry_fallback)
+        self.sigma_p_pa = _setting("sigma_p_pa", sigma_p_pa, 0.0, 10000.0, "Pa")
+        self.sigma_t_k = _setting("sigma_t_k", sigma_t_k, 0.0, 50.0, "K")
+        self.sigma_rh_pct = _setting("sigma_rh_pct", sigma_rh_pct, 0.0, 100.0, "%")
+        self.bias_p_pa = _setting("bias_p_pa", bias_p_pa, 0.0, 10000.0, "Pa")
+        self.bias_t_k = _setting("bias_t_k", bias_t_k, 0.0, 50.0, "K")
+        self.bias_rh_pct = _setting("bias_rh_pct", bias_rh_pct, 0.0, 100.0, "%")
+        if max_rate_m_s is None:
+            self._max_rate = _NAN
+        else:
+            self._max_rate = _setting("max_rate_m_s", max_rate_m_s, 1.0, 10000.0, "m/s")
+        self.landing_s = _setting("landing_s", landing_s, 0.0, 1e6, "s")
+        self.landing_tol_pa = _setting("landing_tol_pa", landing_tol_pa, 0.0, 10000.0, "Pa")
+        self.launch_m = _setting("launch_m", launch_m, 0.0, 10000.0, "gpm")
+        self.burst_drop_m = _setting("burst_drop_m", burst_drop_m, 0.0, 100000.0, "gpm")
+        if not isinstance(burst_readings, int) or burst_readings < 1 or burst_readings > 100000:
+            raise RangeError("burst_readings=%s outside 1..100000 readings; pass an int"
+                             % _fmt(burst_readings))
+        self.burst_readings = burst_readings
+        self.tropopause_max_p_pa = _setting("tropopause_max_p_pa", tropopause_max_p_pa, 0.0,
+                                            P_MAX_PA, "Pa")
+        self.rh_tol_pct = _setting("rh_tol_pct", rh_tol_pct, 0.0, 3.0, "%")
+        self.track_sigma = bool(track_sigma)
+        self.on_event = on_event
+        # --- derived settings
+        self._start_gph = geopotential.geopotential_height(self.start_height_m, self.lat_deg,
+                                                           self.ellipsoid)
+        self._sp2 = self.sigma_p_pa * self.sigma_p_pa
+        self._st2 = self.sigma_t_k * self.sigma_t_k
+        # --- state
+        self.count = 0
+        self.rejected = 0
+        self.flags = 0
+        self.phase = PH_WAIT
+        self._lvl = 0
+        self._burst_n = 0
+        self._tp_state = 0
+        self._gps_n = -1
+        for name in _ST_F:
+            setattr(self, name, _NAN)
+        self._c = 0.0
+        self._var_done = 0.0
+        self._ct = 0.0
+        self._cp = 0.0
+        self._s2 = 0.0
+        self._sum_a = 0.0
+        self._sum_rh = 0.0
+        self._sum_p = 0.0
+        self._slope = 0.0
+        self._var_anchor = 0.0
+
+    # ------------------------------------------------------------------ feed
+    def feed(self, p_pa, t_k, rh_pct=None, time_s=None, gps_m=None):
+        """Add one reading; return the bits (EV_*) of the events it caused, 0 if none.
+
+        p_pa: pressure, Pa, 0 < p <= 120000; t_k: temperature, K, 150..350;
+        rh_pct: relative humidity, %, -rh_tol_pct..100 + rh_tol_pct, or None;
+        time_s: time stamp, s, not below the latest one given, or None;
+        gps_m: GPS height above mean sea level, m, -1000..100000, or None.
+        Raises ReadingError (``.reason``) and changes nothing but
+        ``rejected`` for a bad reading. Formulas: see the module docstring.
+        """
+        # ---- 1. check the values (nothing is written before step 3)
+        p = self._num(p_pa, "p_pa", "Pa")
+        if not 0.0 < p <= P_MAX_PA:
+            self._bad("pressure", "p_pa=%s outside 0..%g Pa (0 excluded)%s"
+                      % (_fmt(p_pa), P_MAX_PA, _hint(pressure_hint(p))))
+        t = self._num(t_k, "t_k", "K")
+        if not T_MIN_K <= t <= T_MAX_K:
+            self._bad("temperature", "t_k=%s outside %g..%g K%s"
+                      % (_fmt(t_k), T_MIN_K, T_MAX_K, _hint(temperature_hint(t))))
+        if rh_pct is not None:
+            rh = self._num(rh_pct, "rh_pct", "%")
+            tol = self.rh_tol_pct
+            if not -tol <= rh <= 100.0 + tol:
+                self._bad("humidity", "rh_pct=%s outside %g..%g %%; relative humidity in percent "
+                          "expected (a fraction 0..1 would be far too dry; pass None if unknown)"
+                          % (_fmt(rh_pct), -tol, 100.0 + tol))
+        if time_s is not None:
+            ts = self._num(time_s, "time_s", "s")
+            if ts < self._t_last:
+                self._bad("time", "time_s=%s is before the previous reading's %r s; time stamps "
+                          "must not decrease (clock reset? start a new Column)"
+                          % (_fmt(time_s), self._t_last))
+        if gps_m is not None:
+            gps = self._num(gps_m, "gps_m", "m")
+            if not GPS_MIN_M <= gps <= GPS_MAX_M:
+                self._bad("gps", "gps_m=%s outside %g..%g m above mean sea level; for an "
+                          "ellipsoidal height use tinygeo.geopotential.msl_height(h, N) first"
+                          % (_fmt(gps_m), GPS_MIN_M, GPS_MAX_M))
+
+        # ---- 2. compute the new state in locals
+        flags = 0
+        first = self.count == 0
+        if rh_pct is not None:
+            try:
+                tv = moisture.virtual_temperature(t, p, rh, self.ice)
+            except RangeError as e:
+                self._bad("humidity", "rh_pct=%s at t_k=%r, p_pa=%r: %s" % (_fmt(rh_pct), t, p, e))
+            if rh >= _RH_SLOPE_MIN:
+                slope = (tv - t) / rh
+            else:
+                slope = self._slope
+            w = _NAN
+        else:
+            slope = self._slope
+            w = self._w_held
+            if self.dry_fallback or self._h_p != self._h_p:
+                tv = t
+                flags = FL_DRY
+            else:
+                if w != w:
+                    w = self._held_mixing_ratio()
+                tv = moisture.virtual_temperature_from_mixing_ratio(t, w)
+                flags = FL_HELD_MIXING
+        t0 = self.t_k
+        if first:
+            p0 = self._anchor
+            tv0 = tv
+            s = self._start_gph
+            c = 0.0
+        else:
+            p0 = self.p_pa
+            tv0 = self.tv_k
+            s = self.gph_m
+            c = self._c
+        if p0 != p0 or p == p0:   # first reading without anchor, or a repeated pressure
+            dz = 0.0
+            if not first:
+                flags |= FL_SAME_P
+            g = s
+        else:
+            try:
+                dz = layers.layer_thickness(p0, p, tv0, tv)
+            except RangeError as e:
+                self._bad("temperature", "virtual temperature %r K (t_k=%r) at p_pa=%r: %s"
+                          % (tv, t, p, e))
+            if p > p0:
+                flags |= FL_DESCENT
+            # classic Kahan step: c carries the part of the sum lost so far
+            y = dz - c
+            g = s + y
+            c = (g - s) - y
+        if time_s is None:
+            flags |= FL_NO_TIME
+            rate = _NAN
+        elif self._t_last == self._t_last:
+            dt = ts - self._t_last
+            dg = g - self._g_t
+            if dt == 0.0:
+                if dg != 0.0:
+                    self._bad("time", "time_s=%s equals the previous time stamp but the column "
+                              "moved %r gpm; time stamps must increase between different "
+                              "pressures" % (_fmt(time_s), dg))
+                rate = _NAN     # a duplicate: the rate stays as it was
+            else:
+                rate = dg / dt
+                mr = self._max_rate
+                if rate > mr or rate < -mr:
+                    self._bad("rate", "p_pa=%s implies %.1f m/s over %r s, beyond max_rate_m_s=%g; "
+                              "a pressure glitch, or a wrong unit/time stamp"
+                              % (_fmt(p_pa), rate, dt, mr))
+        else:
+            rate = _NAN
+
+        # ---- 3. commit (no exception is raised from here on, but by on_event)
+        self.count += 1
+        self.p_pa = p
+        self.t_k = t
+        self.tv_k = tv
+        self.gph_m = g
+        self._c = c
+        self.flags = flags
+        if rh_pct is None:
+            self.rh_pct = _NAN
+            self._w_held = w
+        else:
+            self.rh_pct = rh
+            self._h_t = t
+            self._h_p = p
+            self._h_rh = rh
+            self._w_held = _NAN
+        # geometric height from the node pair
+        if not self._n_g - _NODE_BELOW <= g <= self._n_g + _NODE_ABOVE:
+            self._new_nodes(g)
+        self.height_m = self._n_h + (g - self._n_g) * self._n_k
+        if time_s is None:
+            self.time_s = _NAN
+            self.rate_m_s = _NAN
+        else:
+            self.time_s = ts
+            if rate == rate:
+                self.rate_m_s = rate * self._n_k
+            elif ts != self._t_last:
+                self.rate_m_s = _NAN
+            self._t_last = ts
+            self._g_t = g
+        if gps_m is not None:
+            self.gps_m = gps
+            self.gps_diff_m = self.height_m - gps
+            self._gps_g = g
+            self._gps_n = self.count
+        if self.track_sigma:
+            self._sigma_step(first, p0, p, tv0, tv, dz, slope)
+        self._slope = slope
+
+        # ---- 4. events
+        bits = 0
+        ph = self.phase
+        if first:
+            self.max_gph_m = g
+            self._max_time = self.time_s
+            self._max_p = p
+            self._min_gph = g
+            self._launch_gph = g + self.launch_m
+            self._land_p = _NAN
+            bits |= self._tropopause(g, t, p)
+            lvl = 0
+            while lvl < 16 and MANDATORY_PA[lvl] > p:
+                lvl += 1
+            self._lvl = lvl
+            if lvl < 16 and MANDATORY_PA[lvl] == p:
+                bits |= self._levels(p, p, g, g, t, t)
+        else:
+            if ph < PH_DESCENT:
+                if self._lvl < 16 and MANDATORY_PA[self._lvl] >= p:
+                    bits |= self._levels(p0, p, s, g, t0, t)
+                if g > self.max_gph_m:
+                    bits |= self._tropopause(g, t, p)
+            if g > self.max_gph_m:
+                self.max_gph_m = g
+                self._max_time = self.time_s
+                self._max_p = p
+                self._burst_line = g - self.burst_drop_m
+                self._burst_n = 0
+            if ph == PH_WAIT:
+                if g < self._min_gph:
+                    self._min_gph = g
+                    self._launch_gph = g + self.launch_m
+                elif g >= self._launch_gph:
+                    self.phase = PH_ASCENT
+                    self.launch_time_s = self.time_s
+                    self._burst_line = self.max_gph_m - self.burst_drop_m
+                    self._burst_n = 0
+                    bits |= EV_LAUNCH
+            elif ph == PH_ASCENT:
+                if g <= self._burst_line:
+                    self._burst_n += 1
+                    if self._burst_n >= self.burst_readings:
+                        self.phase = PH_DESCENT
+                        self.burst_gph_m = self.max_gph_m
+                        self.burst_time_s = self._max_time
+                        self.burst_p_pa = self._max_p
+                        bits |= EV_BURST
+                else:
+                    self._burst_n = 0
+            elif ph == PH_DESCENT and time_s is not None:
+                lp = self._land_p
+                if lp - self.landing_tol_pa <= p <= lp + self.landing_tol_pa:
+                    if ts - self._land_t >= self.landing_s:
+                        self.phase = PH_LANDED
+                        bits |= EV_LANDED
+                else:
+                    self._land_p = p
+                    self._land_t = ts
+        if bits and self.on_event is not None:
+            self.on_event(self, bits)
+        return bits
+
+    # ------------------------------------------------------------ helpers
+    def _num(self, x, name, unit):
+        # a finite float from an int or float; anything else is rejected
+        if isinstance(x, float):
+            v = x
+        elif isinstance(x, int) and not isinstance(x, bool):
+            v = float(x)
+        else:
+            self._bad("number", "%s=%s is not a number; pass a finite float in %s" % (name, _fmt(x), unit))
+        if v != v or v == _INF or v == -_INF:
+            self._bad("number", "%s=%s is not finite; pass a finite number in %s (None if unknown)"
+                      % (name, _fmt(x), unit))
+        return v
+
+    def _bad(self, reason, msg):
+        self.rejected += 1
+        raise ReadingError(msg, reason)
+
+    def _held_mixing_ratio(self):
+        # mixing ratio of the latest reading that had a humidity, kg/kg
+        if self._h_rh <= 0.0:
+            return 0.0
+        e = moisture.vapour_pressure(self._h_t, self._h_p, self._h_rh, self.ice)
+        return moisture.mixing_ratio(e, self._h_p)
+
+    def _new_nodes(self, g):
+        # exact geometric height at g and the slope to a node 200 gpm above
+        lo = geopotential.GPH_MIN_M
+        hi = geopotential.GPH_MAX_M
+        if g < lo or g > hi:
+            self._n_g = _NAN
+            self._n_h = _NAN
+            self._n_k = 1.0
+            return
+        g2 = g + _NODE_SPAN
+        if g2 > hi:
+            g2 = g - _NODE_SPAN
+        lat = self.lat_deg
+        ell = self.ellipsoid
+        h = geopotential.geometric_height(g, lat, ell)
+        self._n_g = g
+        self._n_h = h
+        self._n_k = (geopotential.geometric_height(g2, lat, ell) - h) / (g2 - g)
+
+    def _sigma_step(self, first, p0, p, tv0, tv, dz, slope):
+        # Streaming first-order propagation (module docstring, "Uncertainty").
+        if first and p0 != p0:
+            # the first reading: no layer yet; its sensitivities are all 0 so far
+            self._s2 = self._st2 + (slope * self.sigma_rh_pct) ** 2
+            return
+        tm2 = tv0 + tv
+        a = dz / tm2                    # K L / 2: dz/dTv of either end
+        ktm = _KH * tm2                 # K Tm
+        cp = ktm / p                    # -dz/dp at the new reading
+        if first:
+            # anchored start: the anchor is exact, the first reading is both ends
+            self._ct = a + a
+            s_prev = slope
+        else:
+            pco = ktm / p0 - self._cp   # final dz_n/dp of the previous reading
+            ct = self._ct + a           # final dz_n/dTv of the previous reading
+            self._var_done += ct * ct * self._s2 + pco * pco * self._sp2
+            self._sum_p += pco
+            self._ct = a
+            s_prev = self._slope
+        self._cp = cp
+        sr = slope * self.sigma_rh_pct
+        self._s2 = self._st2 + sr * sr
+        self._sum_a += a
+        self._sum_rh += a * (s_prev + slope)
+
+    def _levels(self, p0, p, g0, g, t0, t):
+        # report every mandatory level in [p, p0) not reported yet (ascent only)
+        bits = 0
+        cb = self.on_event
+        lvl = self._lvl
+        while lvl < 16 and MANDATORY_PA[lvl] >= p:
+            lev = MANDATORY_PA[lvl]
+            if p0 == p:
+                f = 0.0
+            else:
+                f = layers.ln_ratio(p0, lev) / layers.ln_ratio(p0, p)
+            self.level_p_pa = lev
+            self.level_gph_m = g0 + f * (g - g0)
+            self.level_t_k = t0 + f * (t - t0)
+            if geopotential.GPH_MIN_M <= self.level_gph_m <= geopotential.GPH_MAX_M:
+                self.level_height_m = geopotential.geometric_height(self.level_gph_m, self.lat_deg,
+                                                                    self.ellipsoid)
+            else:
+                self.level_height_m = _NAN
+            lvl += 1
+            self._lvl = lvl
+            if bits and cb is not None:
+                cb(self, EV_LEVEL)   # an earlier level of the same reading
+            bits = EV_LEVEL
+        return bits
+
+    def _tropopause(self, g, t, p):
+        # one new envelope point (g above every earlier reading); O(1) search,
+        # see the module docstring for the rule and why one candidate suffices
+        st = self._tp_state
+        if st == 3:
+            return 0
+        th = t + WMO_LAPSE_K_PER_GPM * g
+        if st != 0:
+            if g > self._tp_top:
+                if st == 2 or th >= self._tp_th:
+                    self._tp_state = 3
+                    self.tropopause_p_pa = self._tp_p
+                    self.tropopause_gph_m = self._tp_g
+                    self.tropopause_t_k = self._tp_t
+                    return EV_TROPOPAUSE
+            elif th >= self._tp_th:
+                self._tp_state = 2
+                return 0
+        # no candidate, or it was just rejected by this point: this point is the next one
+        if p <= self.tropopause_max_p_pa:
+            self._tp_state = 1
+            self._tp_g = g
+            self._tp_top = g + WMO_DEPTH_GPM
+            self._tp_th = th
+            self._tp_p = p
+            self._tp_t = t
+        else:
+            self._tp_state = 0
+        return 0
+
+    # ------------------------------------------------------------ uncertainty
+    @property
+    def sigma_random_m(self):
+        """Random part of the 1-sigma height uncertainty, m (gpm), nan before
+        the first reading or with track_sigma=False."""
+        if self.count == 0 or not self.track_sigma:
+            return _NAN
+        v = self._var_done + self._ct * self._ct * self._s2 + self._cp * self._cp * self._sp2
+        return math.sqrt(v)
+
+    @property
+    def sigma_bias_m(self):
+        """Systematic part of the 1-sigma height uncertainty, m (gpm)."""
+        if self.count == 0 or not self.track_sigma:
+            return _NAN
+        return math.sqrt(self._bias_var())
+
+    @property
+    def sigma_m(self):
+        """Total 1-sigma height uncertainty, m (gpm): random and systematic
+        parts added in squares."""
+        r = self.sigma_random_m
+        return math.sqrt(r * r + self._bias_var())
+
+    def _bias_var(self):
+        bt = 2.0 * self._sum_a * self.bias_t_k             # (Rd/g0) ln(p0/p) dT
+        bh = self._sum_rh * self.bias_rh_pct
+        bp = (self._sum_p - self._cp) * self.bias_p_pa
+        return bt * bt + bh * bh + bp * bp + self._var_anchor
+
+    # ------------------------------------------------------------ GPS
+    def reanchor_gps(self, sigma_gps_m=10.0):
+        """Move the column so that the latest reading sits at its GPS height;
+        return the shift applied, m (the former -gps_diff_m).
+
+        Needs a gps_m with the latest accepted reading (TinygeoError
+        otherwise). Every live height moves by the same geopotential shift
+        (gph_m, max_gph_m and the burst, launch and tropopause-search
+        references); events already reported keep their values. The
+        uncertainty restarts at this reading with sigma_gps_m (m, 1-sigma,
+        default 10 m, a typical GPS vertical error; common practice) as a
+        systematic part. Never called by the column itself.
+        """
+        if self.count == 0 or self._gps_n != self.count:
+            raise TinygeoError("reanchor_gps(): the latest reading has no gps_m; feed a reading "
+                               "with gps_m first")
+        sg = _setting("sigma_gps_m", sigma_gps_m, 0.0, 10000.0, "m")
+        target = geopotential.geopotential_height(self.gps_m, self.lat_deg, self.ellipsoid)
+        d = target - self.gph_m
+        old_h = self.height_m
+        self.gph_m = target
+        self._c = 0.0
+        self._gps_g = target
+        for name in ("max_gph_m", "_g_t", "_min_gph", "_launch_gph", "_burst_line", "_tp_g",
+                     "_tp_top"):
+            setattr(self, name, getattr(self, name) + d)
+        self._tp_th = self._tp_th + WMO_LAPSE_K_PER_GPM * d
+        self._new_nodes(target)
+        self.height_m = self._n_h
+        self.gps_diff_m = self.height_m - self.gps_m
+        # uncertainty restarts here: the reading is the new (noisy) start
+        self._var_done = 0.0
+        self._ct = 0.0
+        self._cp = 0.0
+        self._sum_a = 0.0
+        self._sum_rh = 0.0
+        self._sum_p = 0.0
+        self._var_anchor = sg * sg
+        return self.height_m - old_h
+
+    # ------------------------------------------------------------ checkpoint
+    def to_bytes(self):
+        """The whole column (settings and state) as a checkpoint blob, bytes
+        (CHECKPOINT_BYTES long; layout in the module docstring)."""
+        vals = [getattr(self, n) for n in _CFG_F]
+        vals += [getattr(self, n) for n in _ST_F]
+        vals += [int(getattr(self, n)) for n in _CFG_I]
+        vals += [getattr(self, n) for n in _ST_I]
+        body = struct.pack(_HEAD, _MAGIC, _VERSION, _PAYLOAD_LEN) + struct.pack(_PAYLOAD, *vals)
+        return body + struct.pack("<I", _crc(body))
+
+    @classmethod
+    def from_bytes(cls, blob, on_event=None):
+        """A Column restored from a to_bytes() blob; continues bit-identically.
+
+        Raises CheckpointError (nothing restored) for a blob that is not
+        bytes, truncated, too long, of another version, corrupted (CRC-32
+        mismatch) or holding impossible settings.
+        """
+        try:
+            blob = bytes(blob)
+        except (TypeError, ValueError):
+            raise CheckpointError("checkpoint is %s, not bytes; pass what to_bytes() returned"
+                                  % _fmt(blob))
+        n = len(blob)
+        if n < _HEAD_LEN + 4:
+            raise CheckpointError("checkpoint of %d bytes is too short (a blob has %d); truncated?"
+                                  % (n, CHECKPOINT_BYTES))
+        magic, version, length = struct.unpack(_HEAD, blob[:_HEAD_LEN])
+        if magic != _MAGIC:
+            raise CheckpointError("not a tinygeo column checkpoint (magic %r, expected %r)"
+                                  % (magic, _MAGIC))
+        if version != _VERSION:
+            raise CheckpointError("checkpoint version %d, this tinygeo reads version %d; restart "
+                                  "the column or use the tinygeo that wrote it" % (version, _VERSION))
+        if length != _PAYLOAD_LEN or n != CHECKPOINT_BYTES:
+            raise CheckpointError("checkpoint of %d bytes (payload %d), expected %d (payload %d); "
+                                  "truncated or corrupted" % (n, length, CHECKPOINT_BYTES, _PAYLOAD_LEN))
+        body = blob[:n - 4]
+        (crc,) = struct.unpack("<I", blob[n - 4:])
+        if crc != _crc(body):
+            raise CheckpointError("checkpoint CRC-32 mismatch (stored %08x, computed %08x): "
+                                  "corrupted; use an older checkpoint" % (crc, _crc(body)))
+        vals = struct.unpack(_PAYLOAD, body[_HEAD_LEN:])
+        nf = len(_CFG_F)
+        ns = len(_ST_F)
+        cfg = dict(zip(_CFG_F, vals[:nf]))
+        ci = dict(zip(_CFG_I, vals[nf + ns:nf + ns + len(_CFG_I)]))
+        if ci["_ell"] not in (0, 1):
+            raise CheckpointError("checkpoint holds an unknown ellipsoid code %d" % ci["_ell"])
+        try:
+            col = cls(cfg["lat_deg"], cfg["start_height_m"],
+                      None if cfg["_anchor"] != cfg["_anchor"] else cfg["_anchor"],
+                      (WGS84, GRS80)[ci["_ell"]], ci["ice"], ci["dry_fallback"],
+                      cfg["sigma_p_pa"], cfg["sigma_t_k"], cfg["sigma_rh_pct"],
+                      cfg["bias_p_pa"], cfg["bias_t_k"], cfg["bias_rh_pct"],
+                      None if cfg["_max_rate"] != cfg["_max_rate"] else cfg["_max_rate"],
+                      cfg["landing_s"], cfg["landing_tol_pa"], cfg["launch_m"],
+                      cfg["burst_drop_m"], ci["burst_readings"], cfg["tropopause_max_p_pa"],
+                      cfg["rh_tol_pct"], ci["track_sigma"], on_event)
+        except TinygeoError as e:
+            raise CheckpointError("checkpoint holds settings the column refuses: %s" % e)
+        i = nf
+        for name in _ST_F:
+            setattr(col, name, vals[i])
+            i += 1
+        i = nf + ns + len(_CFG_I)
+        for name in _ST_I:
+            setattr(col, name, vals[i])
+            i += 1
+        return col
+
+    def __repr__(self):
+        return "Column(lat_deg=%r, count=%d, p_pa=%r, gph_m=%r, phase=%d)" % (
+            self.lat_deg, self.count, self.p_pa, self.gph_m, self.phase)
+
+
+def _setting(name, value, lo, hi, unit):
+    return check_range(name, value, lo, hi, unit)
+
+
+def _hint(h):
+    return "; " + h if h else ""
