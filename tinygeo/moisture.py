@@ -37,10 +37,10 @@ supercooled region against IAPWS R10-06 ice and the IAPWS 2011 sublimation
 curve for 235..273.16 K; Murphy and Koop (2005) eq. 10 below 235 K, where no
 IAPWS formulation for supercooled water exists):
 
-    water, -45..60 degC (recommended)    |rel. error| <= 0.75 %
+    water, -45..60 degC (recommended)    |rel. error| <= 0.75 % (0.31 % over 0..60)
     water, 60..76.85 degC (extrapolated) <= 1.0 %
     water, -90..-45 degC (extrapolated)  <= 2.8 %
-    water, 150 K..-90 degC               grows to 45 % at 150 K (where e_w is
+    water, 150 K..-90 degC               10 % at -100 degC, 45 % at 150 K (e_w is
                                          below 1e-5 Pa, far too small to matter
                                          for virtual temperature)
     ice,   -65..0 degC (recommended)     <= 0.2 %
@@ -285,9 +285,14 @@ def virtual_temperature(t_k, p_pa, rh_pct, ice=False):
             vapour_pressure(t_k, p_pa, rh_pct, ice), enhancement factor included.
 
     Formula: [WH06] eq. (3.16): Tv = T / (1 - (e/p)(1 - eps)), eps = Mv/Md =
-    0.621981. Exact for an ideal mixture of dry air and vapour; the common
-    linearisation Tv ~ T (1 + 0.61 q) is NOT used (it is low by about
-    (1 - eps)^2 (e/p)^2 T, 0.01 K for e/p = 0.03 at 300 K).
+    0.621981. Exact for an ideal mixture of dry air and vapour. The common
+    linearised forms are NOT used: Tv ~ T (1 + 0.378 e/p) is low by about
+    T (1 - eps)^2 (e/p)^2 (0.04 K for e/p = 0.03 at 300 K) and
+    Tv ~ T (1 + 0.61 w) (mixing ratio w) is high by about
+    T eps (1 - eps) (e/p)^2 plus 0.0022 w T from the rounded coefficient
+    (0.08 K there). Note that T (1 + q (1 - eps)/eps)
+    with the specific humidity q is algebraically identical to the exact form
+    (only its coefficient is often rounded to 0.61).
 
     Raises RangeError if e >= p_pa.
 
