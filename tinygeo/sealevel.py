@@ -10,8 +10,8 @@ Sources
     equation through a fictitious air column whose mean temperature is built
     from the station temperature and a lapse rate of 0.0065 K/gpm over half
     the column, and leaves the details of the method to national practice.
-    The formula of WMO's 1964 recommendation it goes back to (WMO Technical
-    Note No. 61/91 era, from memory; not used here verbatim):
+    The formula of the WMO recommendation of the 1950s/60s it goes back to
+    (from memory, including its constants; not used here verbatim):
         ln(p0/p) = (g0/Rd) H / (T_s + a H/2 + e_s C_h),
         a = 0.0065 K/gpm, C_h = 0.12 K/hPa, e_s station vapour pressure in hPa.
 [ICAO3] ICAO Annex 3, Meteorological Service for International Air
