@@ -338,3 +338,46 @@ def test_vectors_not_stale():
         assert float(abs(ref - expected) / abs(ref)) < 1e-15, (lineno, func, float(ref), expected)
         n += 1
     assert n >= 5
+
+
+# --- the same code under MicroPython ------------------------------------------------------
+
+MP_SNIPPET = """
+import sys
+sys.path.insert(0, 'tests/vectors')
+import tinygeo, runvec
+from tinygeo import {mod} as M
+for k in dir(M):
+    if not k.startswith('_'):
+        setattr(tinygeo, k, getattr(M, k))
+for case in runvec.load('tests/vectors/{mod}.txt'):
+    got, ok = runvec.run_case(case)
+    print(repr(got), ok)
+"""
+
+
+def run_vectors_under(exe, mod):
+    import subprocess
+    root = os.path.dirname(HERE)
+    env = dict(os.environ, MICROPYPATH=root, PYTHONPATH=root)
+    p = subprocess.run([exe, "-c", MP_SNIPPET.format(mod=mod)], capture_output=True, text=True,
+                       env=env, cwd=root, timeout=60)
+    assert p.returncode == 0, p.stdout + p.stderr
+    return [line.split() for line in p.stdout.splitlines()]
+
+
+def micropython_exe():
+    import shutil
+    exe = shutil.which("micropython") or os.path.join(os.path.dirname(sys.executable), "micropython")
+    if not os.path.exists(exe):
+        pytest.skip("micropython not installed")
+    return exe
+
+
+def test_vectors_under_micropython():
+    mp_rows = run_vectors_under(micropython_exe(), "layers")
+    cp_rows = run_vectors_under(sys.executable, "layers")
+    assert len(mp_rows) == len(cp_rows) >= 10
+    for (g1, ok1), (g2, ok2) in zip(mp_rows, cp_rows):
+        assert ok1 == ok2 == "True"
+        assert math.isclose(float(g1), float(g2), rel_tol=1e-14, abs_tol=0.0)

@@ -28,6 +28,8 @@ References used here (outside the project):
 """
 import math
 import os
+import shutil
+import subprocess
 import sys
 import warnings
 
@@ -61,9 +63,10 @@ def iapws_ice(t_k):
 
 def iapws_supercooled(t_k, p_mpa=0.101325):
     with warnings.catch_warnings():
-        warnings.simplefilter("ignore")   # IAPWS95 warns "Using extrapolated values"
+        # IAPWS95 warns "Using extrapolated values", _Ice "Metastable ice in liquid region"
+        warnings.simplefilter("ignore")
         liq = IAPWS95(T=t_k, P=p_mpa)
-    ice = _Ice(t_k, p_mpa)
+        ice = _Ice(t_k, p_mpa)
     e_i = iapws_ice(t_k)
     dg = (liq.g - ice["g"]) * 1e3 - (1.0 / liq.rho - 1.0 / ice["rho"]) * (p_mpa * 1e6 - e_i)
     return e_i * math.exp(dg / (RW * t_k))
@@ -412,3 +415,38 @@ def test_vectors_not_stale():
             continue
         n += 1
     assert n >= 25
+
+
+MP_SNIPPET = """
+import sys
+sys.path.insert(0, 'tests/vectors')
+import tinygeo, runvec
+from tinygeo import moisture as M
+for k in dir(M):
+    if not k.startswith('_'):
+        setattr(tinygeo, k, getattr(M, k))
+for case in runvec.load('tests/vectors/moisture.txt'):
+    got, ok = runvec.run_case(case)
+    print(repr(got), ok)
+"""
+
+
+def run_vectors_under(exe):
+    # Vectors through runvec with the module functions bound as package names.
+    root = os.path.dirname(HERE)
+    env = dict(os.environ, MICROPYPATH=root, PYTHONPATH=root)
+    p = subprocess.run([exe, "-c", MP_SNIPPET], capture_output=True, text=True, env=env, cwd=root, timeout=60)
+    assert p.returncode == 0, p.stdout + p.stderr
+    return [line.split() for line in p.stdout.splitlines()]
+
+
+def test_vectors_under_micropython():
+    exe = shutil.which("micropython") or os.path.join(os.path.dirname(sys.executable), "micropython")
+    if not os.path.exists(exe):
+        pytest.skip("micropython not installed")
+    mp_rows = run_vectors_under(exe)
+    cp_rows = run_vectors_under(sys.executable)
+    assert len(mp_rows) == len(cp_rows) >= 10
+    for (g1, ok1), (g2, ok2) in zip(mp_rows, cp_rows):
+        assert ok1 == ok2 == "True"
+        assert math.isclose(float(g1), float(g2), rel_tol=1e-14, abs_tol=0.0)
