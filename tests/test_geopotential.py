@@ -1,4 +1,4 @@
-"""tinygeo.geopotential: series against the exact normal potential difference.
+"""tinygeo.potential: series against the exact normal potential difference.
 
 Sources
 - mpmath closed form: tests/vectors/gen_gravity.py ``gph`` = (U0 - W)/g0 with
@@ -18,7 +18,7 @@ import pytest
 from hypothesis import given, settings, strategies as st
 
 from conftest import VECTORS
-from tinygeo import geopotential as P
+from tinygeo import potential as P
 from tinygeo import gravity as G
 from tinygeo.constants import G0, GRS80, WGS84
 from tinygeo.errors import RangeError, TinygeoError
@@ -54,7 +54,7 @@ def references():
 
 @pytest.mark.parametrize("name,ell,tab", ELLS, ids=["WGS84", "GRS80"])
 def test_coefficients_are_not_stale(name, ell, tab):
-    # a fresh mpmath derivation must reproduce the literals in geopotential.py;
+    # a fresh mpmath derivation must reproduce the literals in potential.py;
     # a coefficient of D_n matters as |delta| * h_max * t_max^(n-1), required < 1e-9 m
     fresh = gen.derive_coefficients(name)
     assert [len(r) for r in fresh] == [len(r) for r in tab]
@@ -207,3 +207,34 @@ def test_vector_file_is_current_and_passes():
         got = funcs[func](*args)
         err = abs(got - expected) / (abs(expected) if kind == "rel" else 1.0)
         assert err <= tol, (lineno, func, args, got, expected)
+
+
+@pytest.mark.parametrize("mode,units", [("f32", 1.0), ("r30t", 8.0), ("r30f", 8.0)])
+def test_float32_budget(mode, units):
+    # tests/floatemu.py runs the unmodified modules with every float result rounded
+    # as a float32 board (f32) or a 30-bit-float MicroPython (r30t/r30f) would.
+    # Reference: the double-precision modules (1e-8 m / 1e-14 m/s^2 off the exact
+    # values). Budget: 1 float32 unit in the last place of the result for f32
+    # (measured max 0.5 ulp forward, 1 ulp round trip), 8 float32 ulps (2 ulps
+    # of a 30-bit float) for r30. Gravity: 3e-6 m/s^2 (measured 2.4e-6) for f32.
+    import floatemu
+    emu = floatemu._emulation(mode)
+    emu_p = emu.module("tinygeo.potential")
+    emu_g = emu.module("tinygeo.gravity")
+    r = floatemu.rounder(mode)
+    ulp = floatemu.ulp32
+    for lat in (0.0, 22.5, 45.0, 61.1, 89.9, 90.0):
+        lf = r(lat)
+        for h in (-1000.0, -13.7, 0.0, 1000.0, 9876.5, 35000.0, 50000.0, 65000.0, 80000.0, 100000.0):
+            hf = r(h)
+            z = P.geopotential_height(hf, lf)
+            z32 = emu_p.geopotential_height(hf, lf)
+            assert abs(z32 - z) <= units * ulp(z), (lat, h, z32 - z)
+            zf = r(z)
+            h32 = emu_p.geometric_height(zf, lf)
+            assert abs(h32 - P.geometric_height(zf, lf)) <= units * ulp(hf) + 1e-30, (lat, h)
+            if h <= 98000.0:
+                back = emu_p.geometric_height(z32, lf)
+                assert abs(back - hf) <= units * ulp(hf), (lat, h, back - hf)
+            g32 = emu_g.normal_gravity(lf, hf)
+            assert abs(g32 - G.normal_gravity(lf, hf)) < 3e-6 * units, (lat, h)

@@ -12,7 +12,7 @@ here: the normal potential is constant on the ellipsoid, so the ellipsoid plays
 the part of mean sea level and ``height_m`` should be a height above mean sea
 level. A GPS (GNSS) receiver gives an ellipsoidal height; subtract the geoid
 undulation N first (``h_msl = h_ell - N``, see
-``tinygeo.geopotential.msl_height``). Neglecting N (-107..+86 m on Earth)
+``tinygeo.msl_height``). Neglecting N (-107..+86 m on Earth)
 changes gravity by at most 3.3e-4 m/s^2 (free-air gradient 3.086e-6 s^-2).
 
 Sources
@@ -50,7 +50,7 @@ HEIGHT_MIN_M = -1000.0
 """Lowest accepted height, m (below the Dead Sea shore and most mines)."""
 
 HEIGHT_MAX_M = 100000.0
-"""Highest accepted height, m (100 km; the series of tinygeo.geopotential are
+"""Highest accepted height, m (100 km; the series of tinygeo.potential are
 checked up to here)."""
 
 _DEG = math.pi / 180.0

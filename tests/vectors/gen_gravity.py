@@ -1,4 +1,4 @@
-"""High-precision references for tinygeo.gravity and tinygeo.geopotential (mpmath).
+"""High-precision references for tinygeo.gravity and tinygeo.potential (mpmath).
 
 Everything here starts from the DEFINING constants of each ellipsoid (a, 1/f or
 J2, GM, omega) and the closed formulas of the normal field; nothing is taken
@@ -14,7 +14,7 @@ from tinygeo except the printed constants being checked.
 * ``gravity(ell, lat, h)``: |grad W| by numerical differentiation at 50 digits.
 * ``gph(ell, lat, h)``: (U0 - W)/g0, geopotential height, gpm.
 * ``derive_coefficients(name)``: the coefficients stored in
-  tinygeo/geopotential.py: Taylor coefficients of (U0 - W)/g0 in h along the
+  tinygeo/potential.py: Taylor coefficients of (U0 - W)/g0 in h along the
   ellipsoidal normal (mpmath.taylor at 50 digits) at Chebyshev nodes in
   s = sin^2(lat), fitted by least squares with polynomials in s.
 
@@ -168,7 +168,7 @@ def taylor_in_h(name, s):
 
 @_at_dps
 def derive_coefficients(name):
-    """Return the tables stored in tinygeo/geopotential.py for ellipsoid ``name``.
+    """Return the tables stored in tinygeo/potential.py for ellipsoid ``name``.
 
     gph = h + h * sum_{n>=1} t^(n-1) D_n(s),   t = h/a,  s = sin^2(lat),
     D_1 = c_1 - 1 and D_n = c_n a^(n-1) (dimensionless), each D_n a polynomial
