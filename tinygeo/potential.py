@@ -30,9 +30,9 @@ degrees 5, 2, 3, 3, 2, 1. tests/test_geopotential.py re-derives them and fails
 if these literals are stale.
 
 Accuracy (double precision, measured by tests/test_geopotential.py against
-the closed form at 50 digits over latitudes 0..90 deg): below 1e-5 mm of
-geopotential height from -1000 m to 100 km (the dropped t^6 term is below
-2e-6 m at 100 km). Both ellipsoids carry their own table (their GM differ by
+the closed form at 50 digits over latitudes 0..90 deg, both directions):
+1.2e-5 mm of geopotential height from -1000 m to 50 km, 3.1e-4 mm to 80 km,
+1.5e-3 mm at 100 km (the size of the dropped t^6 term). Both ellipsoids carry their own table (their GM differ by
 1.5e-7 relative, 0.15 m^2/s^2 at 100 km).
 
 Float32: the series returns h plus a small correction (at most 1.6 % of h),
@@ -40,7 +40,10 @@ so the rounding of the coefficients and of t touches the correction only and
 the result is within about one unit in the last place of gph (4 mm at 50 km).
 The inverse uses Newton steps on the residual (h - gph) + correction, whose
 first part is exact in floating point (Sterbenz), so it too stays within about
-one unit in the last place.
+one unit in the last place. Measured with tests/floatemu.py (every operation
+rounded to binary32): forward at most 0.5 ulp (1.9 mm to 50 km, 3.8 mm to
+100 km), inverse 1.9 mm to 50 km, round trip at most 1 ulp (7.8 mm above
+65.5 km).
 
 Sources
 -------
@@ -158,8 +161,8 @@ def geopotential_height(height_m, lat_deg, ellipsoid=WGS84):
       lat_deg    geodetic latitude, degrees, -90..90
       ellipsoid  WGS84 (default) or GRS80
 
-    Accuracy: < 1e-5 mm against the closed form (double); about one unit in
-    the last place on float32.
+    Accuracy: 1.2e-5 mm to 50 km, 1.5e-3 mm at 100 km against the closed
+    form (double); within one unit in the last place on float32.
 
     Example: geopotential_height(10000.0, 45.0) -> 9983.8313 gpm (WGS 84)
     """
