@@ -33,7 +33,8 @@ MAPPING_HELP = """column mapping (default: from the header names):
   rh/humidity, td/dewpoint/dew_point, time/elapsed/timestamp/utc, gps/gps_alt,
   each optionally followed by a unit (pa hpa mbar kpa, k c degc, pct, s ms,
   m). Comment lines (#) before the header may set lat_deg=, start_height_m=,
-  sigma_p_pa=, sigma_t_k=, sigma_rh_pct= (as 'tinygeo simulate' writes)."""
+  sigma_p_pa=, sigma_t_k=, sigma_rh_pct=, bias_p_pa=, bias_t_k=, bias_rh_pct=
+  (as 'tinygeo simulate' writes); options given here take precedence."""
 
 
 class UsageError(TinygeoError):
@@ -71,6 +72,14 @@ def _add_site(p):
     g.add_argument("--sigma-p", type=float, metavar="PA", help="pressure sensor 1-sigma noise, Pa")
     g.add_argument("--sigma-t", type=float, metavar="K", help="temperature sensor 1-sigma noise, K")
     g.add_argument("--sigma-rh", type=float, metavar="PCT", help="humidity sensor 1-sigma noise, %%")
+    g.add_argument("--bias-p", type=float, metavar="PA",
+                   help="pressure sensor 1-sigma calibration uncertainty, Pa")
+    g.add_argument("--bias-t", type=float, metavar="K",
+                   help="temperature sensor 1-sigma calibration uncertainty, K")
+    g.add_argument("--bias-rh", type=float, metavar="PCT",
+                   help="humidity sensor 1-sigma calibration uncertainty, %%")
+    g.add_argument("--max-rate", type=float, metavar="M_S",
+                   help="fastest believable vertical speed, m/s; faster readings are rejected")
     g.add_argument("--ice", action="store_true", help="humidity is over ice below 0 degC")
     g.add_argument("--dry", action="store_true",
                    help="assume dry air when humidity is missing (the default when there is "
@@ -135,6 +144,12 @@ def build_parser():
     s.add_argument("--sigma-p", type=float, default=3.0, metavar="PA", help="pressure noise, Pa (3)")
     s.add_argument("--sigma-t", type=float, default=0.15, metavar="K", help="temperature noise, K (0.15)")
     s.add_argument("--sigma-rh", type=float, default=1.5, metavar="PCT", help="humidity noise, %% (1.5)")
+    s.add_argument("--bias-p", type=float, default=20.0, metavar="PA",
+                   help="1-sigma of the pressure calibration offset drawn for the flight, Pa (20)")
+    s.add_argument("--bias-t", type=float, default=0.1, metavar="K",
+                   help="1-sigma of the temperature calibration offset, K (0.1)")
+    s.add_argument("--bias-rh", type=float, default=2.0, metavar="PCT",
+                   help="1-sigma of the humidity calibration offset, %% (2)")
     s.add_argument("--sigma-gps", type=float, default=4.0, metavar="M", help="GPS height noise, m (4)")
     s.add_argument("--dropout", type=float, default=0.002, metavar="P",
                    help="probability that a line is lost (0.002)")
@@ -142,7 +157,7 @@ def build_parser():
                    help="probability of a spike in pressure or temperature (0.002)")
     s.add_argument("--jitter", type=float, default=0.02, metavar="S", help="clock jitter, s (0.02)")
     s.add_argument("--clean", action="store_true",
-                   help="no noise, dropouts, spikes or jitter (quantisation stays)")
+                   help="no offsets, noise, dropouts, spikes or jitter (quantisation stays)")
     s.add_argument("--no-gps", action="store_true", help="leave out the GPS column")
     s.add_argument("--dew-point", action="store_true", help="write dew point instead of humidity")
     s.add_argument("--start", metavar="ISO",
@@ -220,6 +235,12 @@ def _open_out(path, stdout):
         raise UsageError("cannot write %s: %s" % (path, e.strerror or e))
 
 
+def sensor_options(a):
+    """(column keyword, option value) pairs of the sensor error options."""
+    return (("sigma_p_pa", a.sigma_p), ("sigma_t_k", a.sigma_t), ("sigma_rh_pct", a.sigma_rh),
+            ("bias_p_pa", a.bias_p), ("bias_t_k", a.bias_t), ("bias_rh_pct", a.bias_rh))
+
+
 def column_setup(a, reader):
     """Return (lat_deg, start_height_m, column keyword options, site pairs)."""
     meta = reader.meta if reader is not None else {}
@@ -231,10 +252,12 @@ def column_setup(a, reader):
     opts = {}
     if a.anchor_pressure is not None:
         opts["anchor_p_pa"] = a.anchor_pressure * 100.0
-    for key, arg in (("sigma_p_pa", a.sigma_p), ("sigma_t_k", a.sigma_t), ("sigma_rh_pct", a.sigma_rh)):
+    for key, arg in sensor_options(a):
         v = arg if arg is not None else meta.get(key)
         if v is not None:
             opts[key] = v
+    if a.max_rate is not None:
+        opts["max_rate_m_s"] = a.max_rate
     if a.ice:
         opts["ice"] = True
     if a.dry or (reader is not None and "humidity" not in reader.columns
@@ -327,11 +350,7 @@ class _Thinning:
         if text.startswith("#") or text.startswith("line\t"):
             self.out.write(text)
             return
-        if not text.rstrip("\n").endswith("\t-"):
-            self.out.write(text)
-            self.n = 0
-            return
-        if self.n % self.every == 0:
+        if self.n % self.every == 0 or not text.rstrip("\n").endswith("\t-"):
             self.out.write(text)
         self.n += 1
 
@@ -345,12 +364,13 @@ def cmd_simulate(a, stdin, stdout, stderr):
         seed=a.seed, lat_deg=a.lat, site_m=a.elevation, ascent_m_s=a.ascent_rate, burst_m=a.burst,
         descent_m_s=a.descent_rate, interval_s=a.interval, wait_s=a.wait, ground_s=a.ground,
         rh_surface_pct=a.rh_surface, perturb_k=a.perturb, sigma_p_pa=a.sigma_p, sigma_t_k=a.sigma_t,
-        sigma_rh_pct=a.sigma_rh, sigma_gps_m=a.sigma_gps, dropout=a.dropout, spikes=a.spikes,
+        sigma_rh_pct=a.sigma_rh, bias_p_pa=a.bias_p, bias_t_k=a.bias_t, bias_rh_pct=a.bias_rh,
+        sigma_gps_m=a.sigma_gps, dropout=a.dropout, spikes=a.spikes,
         jitter_s=a.jitter, gps=not a.no_gps, dew_point=a.dew_point, iso_start=a.start,
         delimiter="\t" if a.tsv else ",")
     if a.clean:
-        for k in ("sigma_p_pa", "sigma_t_k", "sigma_rh_pct", "sigma_gps_m", "dropout", "spikes",
-                  "jitter_s"):
+        for k in ("sigma_p_pa", "sigma_t_k", "sigma_rh_pct", "bias_p_pa", "bias_t_k", "bias_rh_pct",
+                  "sigma_gps_m", "dropout", "spikes", "jitter_s"):
             setattr(p, k, 0.0)
         p.rh_dropout = p.gps_dropout = 0.0
     try:

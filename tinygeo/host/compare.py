@@ -85,7 +85,8 @@ class Tally:
                 problems.append("%s differs by %s (device %s, host %s, tolerance %g)"
                                 % (f, _num(d), _num(getattr(row, f)), _num(host), self.tol[f]))
         host_flags = int(getattr(col, "flags", 0) or 0)
-        host_events = table.events_text(bits, getattr(col, "level_p_pa", NAN))
+        host_events = table.events_text(
+            bits, [lv[0] for lv in rp._levels(col)] if bits & table.EV_LEVEL else NAN)
         flags_ok = host_flags == row.flags
         events_ok = host_events == row.events
         if not (flags_ok and events_ok):
@@ -135,10 +136,14 @@ def _site_from_table(site, a, meta):
     anchor = a.anchor_pressure * 100.0 if a.anchor_pressure is not None else num("anchor_p_pa")
     if anchor is not None and anchor == anchor:
         opts["anchor_p_pa"] = anchor
-    for key, arg in (("sigma_p_pa", a.sigma_p), ("sigma_t_k", a.sigma_t), ("sigma_rh_pct", a.sigma_rh)):
+    from tinygeo.host import cli
+    for key, arg in cli.sensor_options(a):
         v = arg if arg is not None else num(key)
         if v is not None:
             opts[key] = v
+    rate = a.max_rate if a.max_rate is not None else num("max_rate_m_s")
+    if rate is not None:
+        opts["max_rate_m_s"] = rate
     if a.ice or num("ice"):
         opts["ice"] = True
     if a.dry or num("dry_fallback"):

@@ -4,8 +4,9 @@ A log is text: optional ``#`` comment lines, one header line naming the
 columns, then one reading per line. The delimiter (comma, tab, semicolon,
 ``|`` or blanks) is taken from the header unless given. Comment lines before
 the header may carry ``key=value`` words; ``lat_deg``, ``start_height_m``,
-``sigma_p_pa``, ``sigma_t_k`` and ``sigma_rh_pct`` are used as defaults for
-the replay (``tinygeo simulate`` writes them).
+``sigma_p_pa``, ``sigma_t_k``, ``sigma_rh_pct`` (sensor noise) and
+``bias_p_pa``, ``bias_t_k``, ``bias_rh_pct`` (calibration uncertainty) are
+used as defaults for the replay (``tinygeo simulate`` writes them).
 
 Columns are mapped to quantities by the user (``--pressure NAME:hPa`` ...) or,
 by default, from the header names: a name is lower-cased, ``%`` becomes
@@ -53,7 +54,8 @@ for _q, _names in (
     for _n in _names.split():
         NAMES[_n] = _q
 
-META_KEYS = ("lat_deg", "start_height_m", "sigma_p_pa", "sigma_t_k", "sigma_rh_pct")
+META_KEYS = ("lat_deg", "start_height_m", "sigma_p_pa", "sigma_t_k", "sigma_rh_pct",
+             "bias_p_pa", "bias_t_k", "bias_rh_pct")
 DELIMITERS = (",", "\t", ";", "|")
 
 

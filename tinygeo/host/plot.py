@@ -17,7 +17,7 @@ NAN = float("nan")
 
 
 class Points:
-    """Evenly thinned series (t_min, h_km, t_c, td_c, rate, sigma, descending)."""
+    """Evenly thinned series (t_min, h_km, t_c, td_c, rate, sigma, after_burst)."""
 
     def __init__(self, limit=MAX_POINTS):
         self.limit = limit
@@ -36,14 +36,16 @@ class Points:
 
 def _from_table(f, name, pts):
     reader = table.TableReader(f, name)
+    down = False
     for r in reader:
-        pts.add(_point(r.time_s, r.height_m, r.t_k, r.td_k, r.rate_m_s, r.sigma_m, r.flags))
+        down = down or bool(r.event_bits & table.EV_BURST)
+        pts.add(_point(r.time_s, r.height_m, r.t_k, r.td_k, r.rate_m_s, r.sigma_m, down))
     return reader.site, reader.summary
 
 
-def _point(time_s, height_m, t_k, td_k, rate, sigma, flags):
+def _point(time_s, height_m, t_k, td_k, rate, sigma, after_burst):
     return (time_s / 60.0, height_m / 1000.0, t_k - 273.15, td_k - 273.15, rate, sigma,
-            bool(flags & 8))
+            after_burst)
 
 
 def _from_log(a, f, name, pts, stderr):
@@ -52,10 +54,12 @@ def _from_log(a, f, name, pts, stderr):
     lat, h0, opts, site = cli.column_setup(a, reader)
     col = cli.new_column(lat, h0, opts)
     summary = rp.Summary()
+    down = False
     for reading, bits in rp.readings(reader, col, summary, lambda m: None):
         _, p, t, rh, ts, gps = reading
+        down = down or bool(bits & table.EV_BURST)
         pts.add(_point(NAN if ts is None else ts, col.height_m, t, rp.dew_point_k(t, p, rh),
-                       col.rate_m_s, col.sigma_m, int(col.flags)))
+                       col.rate_m_s, col.sigma_m, down))
     if summary.accepted == 0:
         raise logread.InputError("%s: no reading was accepted (%d rejected%s)" % (
             name, summary.rejected,
@@ -97,7 +101,7 @@ def draw(pts, site, records, out_path, title, dpi):
     ax_ht.set_ylabel("height above mean sea level (km)")
     ax_ht.set_title("Height")
 
-    for part, style, label in ((up, "-", "ascent"), (down, ":", "descent")):
+    for part, style, label in ((up, "-", "ascent"), (down, ":", "after burst")):
         if part:
             ax_tp.plot([r[2] for r in part], [r[1] for r in part], style, color="tab:red",
                        lw=1.2, label="temperature, " + label)
@@ -116,7 +120,7 @@ def draw(pts, site, records, out_path, title, dpi):
     ax_sg.plot([r[5] for r in up], [r[1] for r in up], color="tab:orange", lw=1.0, label="ascent")
     if down:
         ax_sg.plot([r[5] for r in down], [r[1] for r in down], ":", color="tab:orange", lw=1.0,
-                   label="descent")
+                   label="after burst")
     ax_sg.set_xlabel("height uncertainty, 1 sigma (m)")
     ax_sg.set_ylabel("height above mean sea level (km)")
     ax_sg.set_title("Uncertainty")
@@ -156,9 +160,9 @@ def draw(pts, site, records, out_path, title, dpi):
         handles, labels = ax.get_legend_handles_labels()
         if handles:
             ax.legend(fontsize=7, loc="best")
-    lat = site.get("lat_deg", "?")
-    h0 = site.get("start_height_m", "?")
-    fig.suptitle("%s  (latitude %s\u00b0, start height %s m)" % (title, lat, h0), fontsize=11)
+    lat = _f(site, "lat_deg")
+    h0 = _f(site, "start_height_m")
+    fig.suptitle("%s  (latitude %.2f\u00b0, start height %.0f m)" % (title, lat, h0), fontsize=11)
     fig.tight_layout(rect=(0.0, 0.0, 0.97, 0.96))
     fmt = out_path.rsplit(".", 1)[-1].lower()
     meta = {"Date": None} if fmt == "svg" else {"Software": None}

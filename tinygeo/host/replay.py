@@ -27,7 +27,29 @@ def make_column(lat_deg, start_height_m, options):
     dry_fallback, max_rate_m_s, landing_s), so the column's defaults apply to
     the rest."""
     from tinygeo.column import Column
-    return Column(lat_deg, start_height_m, **options)
+    col = Column(lat_deg, start_height_m, **options)
+    col.on_event = LevelTap()
+    return col
+
+
+class LevelTap:
+    """``on_event`` hook of a host column: collects every mandatory level a
+    reading crossed (the column calls it once per level when one reading
+    crosses several, and its return bits name only the highest)."""
+
+    def __init__(self):
+        self.levels = []
+
+    def __call__(self, col, bits):
+        if bits & table.EV_LEVEL:
+            self.levels.append((col.level_p_pa, col.level_gph_m, col.level_height_m))
+
+
+def _levels(col):
+    tap = getattr(col, "on_event", None)
+    if isinstance(tap, LevelTap) and tap.levels:
+        return tap.levels
+    return [(_attr(col, "level_p_pa"), _attr(col, "level_gph_m"), _attr(col, "level_height_m"))]
 
 
 def dew_point_k(t_k, p_pa, rh_pct):
@@ -47,9 +69,9 @@ def geometric_height_m(gph_m, lat_deg):
     """Geometric height (m) of a geopotential height, from the core; nan if unknown."""
     if gph_m != gph_m:
         return NAN
-    from tinygeo import geopotential
+    from tinygeo import potential
     try:
-        return geopotential.geometric_height(gph_m, lat_deg)
+        return potential.geometric_height(gph_m, lat_deg)
     except ValueError:
         return NAN
 
@@ -63,6 +85,7 @@ class Summary:
         self.reasons = {}
         self.first_rejection = None
         self.levels = {}          # level hPa -> (gph_m, height_m, time_s, line)
+        self.launch = None        # (time_s, line)
         self.burst = None         # (gph_m, time_s, line)
         self.landing = None       # (height_m, time_s, line)
         self.max_height = None    # (height_m, gph_m, time_s, line)
@@ -83,6 +106,9 @@ class Summary:
         for r in sorted(self.reasons):
             pairs.append((r, self.reasons[r]))
         out.append(table.summary_line("rejected", pairs))
+        if self.launch is not None:
+            out.append(table.summary_line("launch", [("time_s", self.launch[0]),
+                                                     ("line", self.launch[1])]))
         for hpa in sorted(self.levels, reverse=True):
             g, h, t, ln = self.levels[hpa]
             out.append(table.summary_line("level", [("p_hpa", hpa), ("gph_m", g), ("height_m", h),
@@ -117,6 +143,9 @@ def _attr(col, name):
 def feed(col, reading):
     """Feed one reading tuple (lineno, p_pa, t_k, rh_pct, time_s, gps_m) to the
     column; return the event bits (raises ReadingError as the column does)."""
+    tap = getattr(col, "on_event", None)
+    if isinstance(tap, LevelTap) and tap.levels:
+        tap.levels = []
     return col.feed(reading[1], reading[2], rh_pct=reading[3], time_s=reading[4], gps_m=reading[5])
 
 
@@ -128,7 +157,7 @@ def row_text(col, reading, bits, lat_deg):
         dew_point_k(t, p, rh), NAN if gps is None else gps,
         _attr(col, "gph_m"), _attr(col, "height_m"), _attr(col, "rate_m_s"),
         _attr(col, "sigma_m"), int(getattr(col, "flags", 0) or 0),
-        table.events_text(bits, _attr(col, "level_p_pa")))
+        table.events_text(bits, [lv[0] for lv in _levels(col)] if bits & table.EV_LEVEL else NAN))
 
 
 def note_events(summary, col, reading, bits):
@@ -141,9 +170,12 @@ def note_events(summary, col, reading, bits):
     if summary.max_height is None or h > summary.max_height[0]:
         summary.max_height = (h, _attr(col, "gph_m"), ts, lineno)
     if bits & table.EV_LEVEL:
-        hpa = int(round(_attr(col, "level_p_pa") / 100.0))
-        if hpa not in summary.levels:
-            summary.levels[hpa] = (_attr(col, "level_gph_m"), _attr(col, "level_height_m"), ts, lineno)
+        for p, g, hl in _levels(col):
+            hpa = int(round(p / 100.0))
+            if hpa not in summary.levels:
+                summary.levels[hpa] = (g, hl, ts, lineno)
+    if bits & table.EV_LAUNCH and summary.launch is None:
+        summary.launch = (_attr(col, "launch_time_s"), lineno)
     if bits & table.EV_BURST and summary.burst is None:
         summary.burst = (_attr(col, "burst_gph_m"), _attr(col, "burst_time_s"), lineno)
     if bits & table.EV_LANDED and summary.landing is None:

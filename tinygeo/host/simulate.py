@@ -16,7 +16,7 @@ The invented atmosphere
     with the virtual temperature of tinygeo.moisture (WMO-No. 8 / exact form),
     starting from the standard pressure at the site times a seeded factor
     within +-1 %. Geometric and geopotential heights are related by
-    tinygeo.geopotential (normal gravity field of the chosen latitude).
+    tinygeo.potential (normal gravity field of the chosen latitude).
 
 The invented flight
     On the ground for ``wait_s``; then up at ``ascent_m_s`` (with a slow
@@ -26,13 +26,15 @@ The invented flight
     then ``ground_s`` more on the ground at the site's height.
 
 The invented sensor
-    Gaussian noise (``sigma_*``), quantisation (``*_step``), whole lines
+    Calibration offsets drawn once per flight (Gaussian, 1-sigma ``bias_*``),
+    Gaussian noise per reading (``sigma_*``), quantisation (``*_step``), whole lines
     dropped (``dropout``), empty humidity / GPS fields, spikes (a pressure
     off by 3-15 % or a temperature off by 8-25 K, probability ``spikes``),
     and clock jitter (Gaussian, ``jitter_s``) on the written time. No faults
     in the first 10 readings, so the column starts on good data.
 
-The truth file has, for every written line, the line number in the log, the
+The truth file (CSV after one ``#`` comment line that gives the seed and the
+calibration offsets drawn) has, for every written line, the line number in the log, the
 true time, pressure, temperature, humidity, geopotential and geometric height,
 the flight phase and which spike (if any) that line carries.
 """
@@ -40,7 +42,7 @@ import datetime
 import math
 import random
 
-from tinygeo import geopotential, moisture, standard
+from tinygeo import moisture, potential, standard
 from tinygeo.constants import G0, RD
 
 RHO0 = 101325.0 / (RD * 288.15)   # sea-level standard density, kg/m^3 [USSA76 Table I]
@@ -55,7 +57,8 @@ class Params:
         ("burst_m", 24000.0), ("descent_m_s", 5.5), ("interval_s", 2.0),
         ("wait_s", 60.0), ("ground_s", 120.0), ("rh_surface_pct", 70.0),
         ("perturb_k", 2.0), ("sigma_p_pa", 3.0), ("sigma_t_k", 0.15),
-        ("sigma_rh_pct", 1.5), ("sigma_gps_m", 4.0), ("p_step_pa", 1.0),
+        ("sigma_rh_pct", 1.5), ("bias_p_pa", 20.0), ("bias_t_k", 0.1),
+        ("bias_rh_pct", 2.0), ("sigma_gps_m", 4.0), ("p_step_pa", 1.0),
         ("t_step_k", 0.01), ("rh_step_pct", 0.1), ("dropout", 0.002),
         ("rh_dropout", 0.005), ("gps_dropout", 0.01), ("spikes", 0.002),
         ("jitter_s", 0.02), ("gps", True), ("dew_point", False),
@@ -83,7 +86,8 @@ def check(params):
                          ("ground_s", 0.0, 36000.0), ("rh_surface_pct", 0.0, 100.0),
                          ("perturb_k", 0.0, 15.0), ("sigma_p_pa", 0.0, 500.0),
                          ("sigma_t_k", 0.0, 5.0), ("sigma_rh_pct", 0.0, 20.0),
-                         ("sigma_gps_m", 0.0, 100.0), ("p_step_pa", 0.0, 100.0),
+                         ("bias_p_pa", 0.0, 500.0), ("bias_t_k", 0.0, 5.0),
+                         ("bias_rh_pct", 0.0, 20.0), ("sigma_gps_m", 0.0, 100.0), ("p_step_pa", 0.0, 100.0),
                          ("t_step_k", 0.0, 1.0), ("rh_step_pct", 0.0, 5.0),
                          ("dropout", 0.0, 0.5), ("rh_dropout", 0.0, 1.0),
                          ("gps_dropout", 0.0, 1.0), ("spikes", 0.0, 0.2)):
@@ -124,8 +128,8 @@ class Atmosphere:
         self.moist_base = rng.uniform(1500.0, 5000.0)
         self.moist_top = self.moist_base + rng.uniform(400.0, 1200.0)
         self.rh_phase = rng.uniform(0.0, 2.0 * math.pi)
-        self.gph0 = geopotential.geopotential_height(p.site_m, p.lat_deg)
-        top = geopotential.geopotential_height(p.burst_m, p.lat_deg) + 200.0
+        self.gph0 = potential.geopotential_height(p.site_m, p.lat_deg)
+        top = potential.geopotential_height(p.burst_m, p.lat_deg) + 200.0
         n = int((top - self.gph0) / STEP_GPM) + 2
         ps = standard.standard_pressure(self.gph0) * (1.0 + rng.uniform(-0.01, 0.01))
         # hydrostatic table: ln p at gph0 + k STEP_GPM (bounded by the burst height)
@@ -185,17 +189,30 @@ def simulate(params, out, truth=None):
     d = p.delimiter
     start = _parse_start(p.iso_start) if p.iso_start else None
     out.write("# invented flight made by 'tinygeo simulate' (not a real sounding); seed=%d\n" % p.seed)
-    out.write("# lat_deg=%s start_height_m=%s sigma_p_pa=%s sigma_t_k=%s sigma_rh_pct=%s\n"
-              % (_g(p.lat_deg), _g(p.site_m), _g(p.sigma_p_pa), _g(p.sigma_t_k),
-                 _g(p.sigma_rh_pct)))
+    out.write("# lat_deg=%s start_height_m=%s\n" % (_g(p.lat_deg), _g(p.site_m)))
+    # the random error of a reading announced to the replay: noise and
+    # quantisation (uniform over one step: variance step^2/12, common practice)
+    out.write("# sensor sigma_p_pa=%s sigma_t_k=%s sigma_rh_pct=%s bias_p_pa=%s bias_t_k=%s "
+              "bias_rh_pct=%s\n" % (_g(_rss(p.sigma_p_pa, p.p_step_pa)),
+                                   _g(_rss(p.sigma_t_k, p.t_step_k)),
+                                   _g(_rss(p.sigma_rh_pct, p.rh_step_pct)),
+                                   _g(p.bias_p_pa), _g(p.bias_t_k), _g(p.bias_rh_pct)))
+    # calibration offsets of this sensor, the same for the whole flight
+    off_p = rng.gauss(0.0, 1.0) * p.bias_p_pa
+    off_t = rng.gauss(0.0, 1.0) * p.bias_t_k
+    off_rh = rng.gauss(0.0, 1.0) * p.bias_rh_pct
+    if truth is not None:
+        truth.write("# true values of the invented flight in the log with seed=%d; calibration "
+                    "offsets of its sensor: p_pa=%.3f t_k=%.4f rh_pct=%.3f\n"
+                    % (p.seed, off_p, off_t, off_rh))
+        truth.write("line,time_s,p_pa,t_k,rh_pct,gph_m,height_m,phase,spike\n")
     cols = ["utc" if start else "time_s", "pressure_hpa", "temp_c",
             "dewpoint_c" if p.dew_point else "rh_pct"]
     if p.gps:
         cols.append("gps_m")
     out.write(d.join(cols) + "\n")
-    line = 3
-    if truth is not None:
-        truth.write("line,time_s,p_pa,t_k,rh_pct,gph_m,height_m,phase,spike\n")
+    line = 5
+
     z = p.site_m
     phase = "wait"
     wobble = rng.uniform(0.0, 2.0 * math.pi)
@@ -204,7 +221,7 @@ def simulate(params, out, truth=None):
     i = 0
     while True:
         t = i * p.interval_s
-        gph = geopotential.geopotential_height(z, p.lat_deg)
+        gph = potential.geopotential_height(z, p.lat_deg)
         pt = atm.p_pa(gph)
         tt = atm.t_k(gph)
         rht = atm.rh_pct(gph)
@@ -214,8 +231,8 @@ def simulate(params, out, truth=None):
         faults = i >= 10
         if not (faults and u_drop < p.dropout):
             spike = "-"
-            pm = pt + n_p * p.sigma_p_pa
-            tm = tt + n_t * p.sigma_t_k
+            pm = pt + off_p + n_p * p.sigma_p_pa
+            tm = tt + off_t + n_t * p.sigma_t_k
             if faults and u_spike < p.spikes:
                 if u_kind < 0.5:
                     spike = "pressure"
@@ -225,7 +242,7 @@ def simulate(params, out, truth=None):
                     tm += (8.0 + 17.0 * u_size) * (1.0 if u_kind < 0.75 else -1.0)
             pm = _quantise(pm, p.p_step_pa)
             tm = _quantise(tm - 273.15, p.t_step_k)
-            rhm = min(100.0, max(0.0, rht + n_rh * p.sigma_rh_pct))
+            rhm = min(100.0, max(0.0, rht + off_rh + n_rh * p.sigma_rh_pct))
             rhm = _quantise(rhm, p.rh_step_pct)
             ts = t + n_clock * p.jitter_s
             fields = [_time_text(ts, start), "%.2f" % (pm / 100.0), "%.2f" % tm]
@@ -269,6 +286,10 @@ def simulate(params, out, truth=None):
             break
         i += 1
     return written
+
+
+def _rss(sigma, step):
+    return math.sqrt(sigma * sigma + step * step / 12.0)
 
 
 def _g(x):

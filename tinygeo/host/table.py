@@ -29,8 +29,9 @@ Layout (UTF-8 text, one record per line, fields separated by one TAB)::
   height above MSL (m), ``rate_m_s`` vertical rate (m/s, up positive),
   ``sigma_m`` 1-sigma height uncertainty (m), ``flags`` (the column's flag
   bits as a decimal integer) and ``events``: ``-`` when none, otherwise words
-  joined by ``+`` in this order: ``level<hPa>`` (a mandatory level was
-  crossed, e.g. ``level850``), ``tropopause``, ``burst``, ``landed``.
+  joined by ``+`` in this order: ``launch``, ``level<hPa>`` (a mandatory
+  level was crossed, e.g. ``level850``; one word per level, lowest first,
+  when a reading crossed several), ``tropopause``, ``burst``, ``landed``.
 * Fixed decimals (see ``FORMAT``) make the output byte-identical for the same
   input. ``%`` formatting only, so a MicroPython logger can write the same
   rows with :func:`format_row`.
@@ -54,6 +55,7 @@ EV_LEVEL = 1
 EV_TROPOPAUSE = 2
 EV_BURST = 4
 EV_LANDED = 8
+EV_LAUNCH = 16
 
 NAN = float("nan")
 
@@ -65,13 +67,20 @@ class TableError(TinygeoError):
 def events_text(bits, level_p_pa):
     """Return the ``events`` field for event ``bits`` ('-' when none).
 
-    ``level_p_pa`` is the mandatory level crossed (Pa), used when EV_LEVEL is
+    ``level_p_pa`` is the mandatory level crossed (Pa), or a list of them in
+    the order crossed when one reading crossed several, used when EV_LEVEL is
     set. Example: ``events_text(1 | 4, 85000.0) == 'level850+burst'``."""
     if not bits:
         return "-"
     words = []
+    if bits & EV_LAUNCH:
+        words.append("launch")
     if bits & EV_LEVEL:
-        words.append("level%d" % int(round(level_p_pa / 100.0)))
+        if isinstance(level_p_pa, (list, tuple)):
+            for p in level_p_pa:
+                words.append("level%d" % int(round(p / 100.0)))
+        else:
+            words.append("level%d" % int(round(level_p_pa / 100.0)))
     if bits & EV_TROPOPAUSE:
         words.append("tropopause")
     if bits & EV_BURST:
@@ -82,8 +91,8 @@ def events_text(bits, level_p_pa):
 
 
 def parse_events(text):
-    """Return ``(bits, level_hpa)`` from an ``events`` field; level_hpa is 0
-    when no level word is present. Raises ValueError on an unknown word."""
+    """Return ``(bits, level_hpa)`` from an ``events`` field; level_hpa is the
+    last level word's hPa (0 when none). Raises ValueError on an unknown word."""
     text = text.strip()
     if text in ("-", ""):
         return 0, 0
@@ -93,6 +102,8 @@ def parse_events(text):
         if word.startswith("level") and word[5:].isdigit():
             bits |= EV_LEVEL
             level = int(word[5:])
+        elif word == "launch":
+            bits |= EV_LAUNCH
         elif word == "tropopause":
             bits |= EV_TROPOPAUSE
         elif word == "burst":

@@ -1,0 +1,305 @@
+"""End-to-end tests of the installed ``tinygeo`` console script (host tools).
+
+Every check runs the real column (tinygeo.column) through the command line:
+the bundled example, simulated flights with their true heights, compare,
+plot, determinism and live stdin streaming. The simulator's flights are
+invented data; what they are checked against is stated beside each test.
+"""
+import csv
+import io
+import math
+import os
+import select
+import shutil
+import struct
+import subprocess
+import sys
+import time
+from pathlib import Path
+
+import pytest
+
+ROOT = Path(__file__).resolve().parents[1]
+EXAMPLE = ROOT / "examples" / "schoolfield_flight.csv"
+TINYGEO = shutil.which("tinygeo") or str(Path(sys.executable).with_name("tinygeo"))
+
+
+def run(*args, stdin=None, check_rc=0, cwd=None):
+    """Run the installed console script; return (stdout, stderr)."""
+    assert os.path.exists(TINYGEO), (
+        "the console script is not installed: pip install -e %s" % ROOT)
+    p = subprocess.run([TINYGEO] + [str(a) for a in args], input=stdin, capture_output=True,
+                       text=True, timeout=120, cwd=cwd or ROOT)
+    assert "Traceback" not in p.stderr, p.stderr
+    if check_rc is not None:
+        assert p.returncode == check_rc, (p.returncode, p.stdout[-2000:], p.stderr[-2000:])
+    return p.stdout, p.stderr
+
+
+def table_rows(text):
+    """Rows of a replay table as dicts of floats (events kept as text)."""
+    lines = [ln for ln in text.splitlines() if ln and not ln.startswith("#")]
+    header = lines[0].split("\t")
+    rows = []
+    for ln in lines[1:]:
+        f = ln.split("\t")
+        d = dict(zip(header, f))
+        for k in header:
+            if k != "events":
+                d[k] = float(d[k])
+        rows.append(d)
+    return rows
+
+
+def summary(text):
+    """The ``#:`` records of a table as a list of (what, {key: float})."""
+    out = []
+    for ln in text.splitlines():
+        if ln.startswith("#: "):
+            words = ln[3:].split()
+            out.append((words[0], dict((k, float(v)) for k, v in
+                                       (w.split("=", 1) for w in words[1:]))))
+    return out
+
+
+def read_truth(path):
+    with open(path) as f:
+        first = f.readline()
+        assert first.startswith("#")
+        offsets = dict((k, float(v)) for k, v in
+                       (w.split("=") for w in first.split("offsets of its sensor:")[1].split()))
+        rows = dict((int(r["line"]), r) for r in csv.DictReader(f))
+    return offsets, rows
+
+
+@pytest.fixture(scope="module")
+def flight(tmp_path_factory):
+    """A simulated flight (seed 12) with its truth and its host replay."""
+    d = tmp_path_factory.mktemp("flight")
+    log, truth, tab = d / "flight.csv", d / "truth.csv", d / "table.tsv"
+    run("simulate", "--seed", 12, "--spikes", 0, "-o", log, "--truth", truth)
+    out, err = run("replay", log, "-o", tab)
+    return {"dir": d, "log": log, "truth": truth, "table": tab, "summary_out": out, "err": err}
+
+
+# --- the bundled example (README's first command) ------------------------------
+def test_bundled_example_replays_with_no_flags():
+    out, err = run("replay", EXAMPLE)
+    assert out.startswith("# tinygeo replay table 1\n")
+    rows = table_rows(out)
+    s = dict((w, d) for w, d in summary(out) if w != "level")
+    levels = [d["p_hpa"] for w, d in summary(out) if w == "level"]
+    assert s["accepted"]["count"] == len(rows) > 3000
+    assert s["accepted"]["count"] + s["rejected"]["count"] == 3570  # readings in the log
+    # every mandatory level from 925 hPa (above the 420 m site) to 30 hPa (below
+    # the 24 km burst) is crossed once, in order (WMO mandatory levels)
+    assert levels == [925, 850, 700, 500, 400, 300, 250, 200, 150, 100, 70, 50, 30]
+    assert 23500 < s["burst"]["height_m"] < 24500      # invented burst at 24 000 m
+    assert abs(s["landing"]["height_m"] - 420.0) < 10.0  # back on the 420 m field
+    assert 10000 < s["tropopause"]["height_m"] < 13000   # standard atmosphere: 11 km
+    # rejected readings are reported on stderr with their line number
+    assert "rejected (rate) line 284:" in err
+
+
+def test_python_m_and_help_document_exit_codes():
+    p = subprocess.run([sys.executable, "-m", "tinygeo", "--help"], capture_output=True,
+                       text=True, cwd=ROOT, timeout=60)
+    assert p.returncode == 0
+    for code in ("0 ", "1 ", "2 ", "3 "):
+        assert "\n  " + code in p.stdout
+    for cmd in ("replay", "simulate", "compare", "plot"):
+        assert cmd in p.stdout
+    out, _ = run("replay", "--help")
+    assert "--pressure" in out and "exit status" in out
+
+
+def test_simulate_reproduces_the_bundled_example_bytes():
+    out, _ = run("simulate", "--seed", 4)
+    assert out == EXAMPLE.read_text()
+
+
+# --- replay recovers the simulator's true heights ------------------------------
+def test_replay_recovers_true_heights_within_stated_uncertainty(flight):
+    offsets, truth = read_truth(flight["truth"])
+    # the calibration offsets drawn for this flight are ordinary (within 2 sigma
+    # of the stated bias_*), so a 3-sigma bound must hold everywhere
+    assert abs(offsets["p_pa"]) < 2 * 20.0 and abs(offsets["t_k"]) < 2 * 0.1
+    rows = table_rows(flight["table"].read_text())
+    assert len(rows) > 3000
+    worst = 0.0
+    within_1 = 0
+    for r in rows:
+        t = truth[int(r["line"])]
+        err = abs(r["height_m"] - float(t["height_m"]))
+        gerr = abs(r["gph_m"] - float(t["gph_m"]))
+        bound = 3.0 * r["sigma_m"] + 0.05  # 5 cm: print rounding of heights and sigma
+        assert err <= bound and gerr <= bound, (r, t)
+        worst = max(worst, err / max(r["sigma_m"], 0.01))
+        within_1 += err <= r["sigma_m"] + 0.05
+    # the errors are not all far inside the bound either: sigma is not inflated
+    assert within_1 < len(rows)
+    assert worst > 0.5
+
+
+def test_replay_of_a_clean_flight_is_limited_by_quantisation_only(tmp_path):
+    log, truth = tmp_path / "c.csv", tmp_path / "t.csv"
+    run("simulate", "--clean", "--seed", 3, "--burst", 16000, "-o", log, "--truth", truth)
+    out, _ = run("replay", log)
+    _, tr = read_truth(truth)
+    rows = table_rows(out)
+    for r in rows:
+        t = tr[int(r["line"])]
+        # 1 Pa pressure steps: a half step of 0.5 Pa moves a height by
+        # (Rd T / g0) 0.5/p (hypsometric equation), here < 0.2 m below 16 km
+        tol = 29.3 * float(t["t_k"]) * 0.5 / float(t["p_pa"]) * 2.0 + 0.01
+        assert abs(r["height_m"] - float(t["height_m"])) <= tol, (r, t)
+
+
+def test_iso_times_dew_point_and_tabs_replay_like_seconds_and_humidity(tmp_path):
+    a, b = tmp_path / "a.csv", tmp_path / "b.tsv"
+    run("simulate", "--seed", 5, "--burst", 8000, "-o", a)
+    run("simulate", "--seed", 5, "--burst", 8000, "--tsv", "--dew-point",
+        "--start", "2026-05-04T09:30:00Z", "-o", b)
+    assert "utc\tpressure_hpa\ttemp_c\tdewpoint_c\tgps_m" in b.read_text()
+    ra = table_rows(run("replay", a)[0])
+    rb = table_rows(run("replay", b)[0])
+    assert len(ra) == len(rb) > 500
+    for x, y in zip(ra, rb):
+        assert x["line"] == y["line"]
+        # same readings; dew point is printed to 0.01 degC and converted back
+        assert abs(x["height_m"] - y["height_m"]) < 0.5
+        # times: seconds since the first timestamp vs seconds as written
+        assert abs((x["time_s"] - ra[0]["time_s"]) - y["time_s"]) < 0.002
+
+
+# --- determinism -----------------------------------------------------------------
+def test_same_input_gives_byte_identical_output(flight, tmp_path):
+    one, _ = run("replay", flight["log"])
+    two, _ = run("replay", flight["log"])
+    assert one == two
+    s1, _ = run("simulate", "--seed", 99, "--burst", 3000)
+    s2, _ = run("simulate", "--seed", 99, "--burst", 3000)
+    s3, _ = run("simulate", "--seed", 98, "--burst", 3000)
+    assert s1 == s2 and s1 != s3
+
+
+def test_output_files_summary_and_thinning(flight, tmp_path):
+    tab, summ = tmp_path / "t.tsv", tmp_path / "s.txt"
+    out, _ = run("replay", flight["log"], "-o", tab, "--summary", summ)
+    lines = summ.read_text().splitlines()
+    assert lines and all(ln.startswith("#: ") for ln in lines)
+    assert out.splitlines() == lines                    # summary also on stdout
+    assert tab.read_text().endswith(summ.read_text())   # and at the end of the table
+    thin, _ = run("replay", flight["log"], "--every", 100)
+    rows = table_rows(thin)
+    full = table_rows(tab.read_text())
+    events = [r for r in full if r["events"] != "-"]
+    assert len(full) // 100 <= len(rows) <= len(full) // 100 + len(events) + 1
+    assert all(e in rows for e in events)
+
+
+# --- compare ------------------------------------------------------------------
+def test_compare_passes_on_identical_inputs(flight):
+    out, _ = run("compare", flight["table"])
+    assert "result: PASS" in out and "offending readings: 0" in out
+    out, _ = run("compare", flight["table"], "--log", flight["log"])
+    assert "result: PASS" in out and "readings on one side only: 0" in out
+
+
+def test_compare_fails_naming_the_first_offending_line(flight, tmp_path):
+    text = flight["table"].read_text().splitlines(keepends=True)
+    data = [i for i, ln in enumerate(text) if ln[0].isdigit()]
+    k1, k2 = data[700], data[1500]
+    bad = list(text)
+    for k, dz in ((k1, 0.8), (k2, 5.0)):
+        f = bad[k].split("\t")
+        f[8] = "%.3f" % (float(f[8]) + dz)          # height_m as a device would drift
+        bad[k] = "\t".join(f)
+    dev = tmp_path / "device.tsv"
+    dev.write_text("".join(bad))
+    diffs = tmp_path / "diffs.tsv"
+    out, _ = run("compare", dev, "--diffs", diffs, check_rc=1)
+    line1 = int(text[k1].split("\t")[0])
+    assert "first offending: line %d (device table line %d): height_m differs by 0.800" % (
+        line1, k1 + 1) in out
+    assert "result: FAIL" in out and "offending readings: 2" in out
+    status = [ln.split("\t")[-1].strip() for ln in diffs.read_text().splitlines()[1:]]
+    assert status.count("FAIL") == 2
+    # a wider tolerance lets the small one pass, not the large one
+    out, _ = run("compare", dev, "--tol-height", 1.0, check_rc=1)
+    assert "first offending: line %s" % text[k2].split("\t")[0] in out
+    # a reading missing on the device side is named too (with --log)
+    dev.write_text("".join(text[:k1] + text[k1 + 1:]))
+    out, _ = run("compare", dev, "--log", flight["log"], check_rc=1)
+    assert "first offending: line %d: accepted by the host but missing" % line1 in out
+
+
+# --- plot ------------------------------------------------------------------------
+def _png_size(path):
+    data = Path(path).read_bytes()
+    assert data[:8] == b"\x89PNG\r\n\x1a\n"
+    assert data[12:16] == b"IHDR"
+    return struct.unpack(">II", data[16:24]), len(data)
+
+
+def test_plot_renders_png_and_svg(flight, tmp_path):
+    pytest.importorskip("matplotlib")
+    png = tmp_path / "p.png"
+    run("plot", flight["table"], "-o", png)
+    (w, h), size = _png_size(png)
+    assert (w, h) == (1100, 850)              # 11 x 8.5 in at 100 dpi
+    assert 30_000 < size < 2_000_000
+    svg = tmp_path / "p.svg"
+    run("plot", flight["log"], "-o", svg, "--title", "raw log")  # a raw log, replayed
+    text = svg.read_text()
+    assert text.lstrip().startswith("<?xml") and "<svg" in text and "raw log" in text
+
+
+def test_plot_without_matplotlib_says_how_to_install(flight, monkeypatch):
+    from tinygeo.host import cli
+    monkeypatch.setitem(sys.modules, "matplotlib", None)   # import now fails
+    out, err = io.StringIO(), io.StringIO()
+    rc = cli.main(["plot", str(flight["table"]), "-o", "x.png"], stdout=out, stderr=err)
+    assert rc == 3
+    assert "pip install 'tinygeo[plot]'" in err.getvalue()
+
+
+# --- live stdin ------------------------------------------------------------------------
+def test_stdin_rows_come_out_before_end_of_input(flight):
+    lines = flight["log"].read_text().splitlines(keepends=True)
+    head = [ln for ln in lines if ln.startswith("#")] + [lines[3]]
+    data = lines[4:]
+    p = subprocess.Popen([TINYGEO, "replay", "-"], stdin=subprocess.PIPE, stdout=subprocess.PIPE,
+                         stderr=subprocess.PIPE, text=True, bufsize=1)
+    try:
+        got = []
+        for ln in head:
+            p.stdin.write(ln)
+        for i in range(3):
+            p.stdin.write(data[i])
+            p.stdin.flush()
+            deadline = time.monotonic() + 20.0
+            # wait for this reading's row while stdin stays open
+            while True:
+                r, _, _ = select.select([p.stdout], [], [], max(0.0, deadline - time.monotonic()))
+                assert r, "no output for reading %d before end of input" % i
+                line = p.stdout.readline()
+                got.append(line)
+                if line[:1].isdigit():
+                    break
+        assert p.poll() is None            # still running: stdin is still open
+        rows = [g for g in got if g[:1].isdigit()]
+        assert len(rows) == 3
+    finally:
+        p.stdin.close()
+        rest = p.stdout.read()
+        p.wait(timeout=30)
+    assert "#: accepted count=3" in rest
+
+
+def test_event_bits_of_the_table_match_the_column():
+    from tinygeo import column
+    from tinygeo.host import table
+    for name in ("EV_LEVEL", "EV_TROPOPAUSE", "EV_BURST", "EV_LANDED", "EV_LAUNCH"):
+        assert getattr(table, name) == getattr(column, name)
+    assert math.isnan(table.NAN)
