@@ -7,7 +7,9 @@ Usage::
 
     import floatemu
     emu = floatemu.load("f32")        # the tinygeo package, emulated
+    emu.layer_thickness(...)          # package-level names, as in tinygeo
     emu.layers.layer_thickness(...)   # submodules load on first use
+    floatemu.load_module("f32", "tinygeo.layers")   # a submodule even if shadowed
     ref = floatemu.load("f64")        # same transformer, no rounding (self-check)
     floatemu.r32(0.1)                 # 0.10000000149011612
 
@@ -102,7 +104,7 @@ import os
 import struct
 import types
 
-__all__ = ["MODES", "load", "load_source", "rounder", "r32", "r30t", "r30f",
+__all__ = ["MODES", "load", "load_module", "load_source", "rounder", "r32", "r30t", "r30f",
            "f32_bits", "ulp32", "ulps32"]
 
 MODES = ("f64", "f32", "r30t", "r30f")
@@ -562,6 +564,15 @@ def load(mode, fresh=False, root=ROOT):
         rounder(mode)
         return _Emulation(mode, root).module("tinygeo")
     return _emulation(mode, root).module("tinygeo")
+
+
+def load_module(mode, name):
+    """Return the emulated submodule ``name`` (e.g. ``"tinygeo.layers"``) of
+    ``load(mode)``'s package, even when the package re-exports a function of
+    the same name (``tinygeo.potential`` as a function vs the module)."""
+    emu = _emulation(mode)
+    emu.module("tinygeo")
+    return emu.module(name)
 
 
 def load_source(mode, source, name="snippet"):

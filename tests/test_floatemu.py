@@ -266,6 +266,9 @@ def test_loads_the_package_and_shares_error_classes():
         assert emu.RangeError is errors.RangeError
         with pytest.raises(errors.RangeError, match="Celsius"):
             emu.errors.check_t_k("t_k", 21.5)
+    layers_mod = floatemu.load_module(mode, "tinygeo.layers")
+    assert layers_mod.__name__ == "floatemu_%s.tinygeo.layers" % mode
+    assert layers_mod.layer_thickness is emu.layer_thickness
     fresh = floatemu.load("f32", fresh=True)
     assert fresh is not floatemu.load("f32")
     m = floatemu.load_source("r30t", "from tinygeo import constants\nfrom tinygeo.constants "
