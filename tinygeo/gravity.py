@@ -127,8 +127,8 @@ def normal_gravity(lat_deg, height_m=0.0, ellipsoid=WGS84):
 
     Accuracy (measured by tests/test_gravity.py and a float32 emulation):
     agrees with an mpmath evaluation of the gradient of the normal potential
-    to 1e-14 m/s^2 in double precision from -1000 m to 100 km; in float32 to
-    2.4e-6 m/s^2 (2.5 units in the last place; 1e-6 of it is the rounding
+    to 2e-14 m/s^2 in double precision from -1000 m to 100 km; in float32 to
+    2.6e-6 m/s^2 (under 3 units in the last place; 1e-6 of it is the rounding
     of GM/a^2 itself).
 
     Example: normal_gravity(45.0, 10000.0) -> 9.775414188 (WGS 84)
