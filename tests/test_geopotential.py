@@ -218,9 +218,9 @@ def test_float32_budget(mode, units):
     # (measured max 0.5 ulp forward, 1 ulp round trip), 8 float32 ulps (2 ulps
     # of a 30-bit float) for r30. Gravity: 3e-6 m/s^2 (measured 2.6e-6) for f32.
     import floatemu
-    emu = floatemu._emulation(mode)
-    emu_p = emu.module("tinygeo.potential")
-    emu_g = emu.module("tinygeo.gravity")
+    emu = floatemu.load(mode)
+    emu_p = emu.potential
+    emu_g = emu.gravity
     r = floatemu.rounder(mode)
     ulp = floatemu.ulp32
     for lat in (0.0, 22.5, 45.0, 61.1, 89.9, 90.0):
