@@ -34,7 +34,7 @@ class ReadingError(TinygeoError):
     logger can count or store without parsing the message."""
 
     def __init__(self, message, reason="reading"):
-        TinygeoError.__init__(self, message)
+        super().__init__(message)
         self.reason = reason
 
 

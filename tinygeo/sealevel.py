@@ -142,8 +142,8 @@ def sea_level_pressure(p_pa, t_k, height_m, rh_pct=None, lat_deg=None, ice=False
     if lat_deg is not None:
         # imported here so a buoy that never passes a latitude does not load
         # the gravity model on a small board
-        from . import geopotential
-        h = geopotential.geopotential_height(h, lat_deg)
+        from . import potential
+        h = potential.geopotential_height(h, lat_deg)
     tv_mean = tv + 0.5 * LAPSE_K_GPM * h
     return p + p * math.expm1(_G_RD * h / tv_mean)
 

@@ -270,7 +270,7 @@ def ussa76_geopotential_height(z_m):
 
     [USSA76] eq. 18 (from memory). FOR CHECKS AGAINST THE STANDARD'S TABLES
     ONLY: r0 is an effective radius for 45.5425 deg latitude. tinygeo converts
-    real heights with the normal gravity field (tinygeo.geopotential), which
+    real heights with the normal gravity field (tinygeo.potential), which
     depends on latitude.
 
     Example: ussa76_geopotential_height(86000.0) -> 84852.046.
@@ -289,7 +289,7 @@ def ussa76_geometric_height(gph_m):
     gph_m: geopotential height, gpm, -5003.94 .. 84 852.046 (ModelRangeError outside).
 
     Inverse of [USSA76] eq. 18 (from memory). FOR CHECKS AGAINST THE
-    STANDARD'S TABLES ONLY; tinygeo.geopotential does real conversions with
+    STANDARD'S TABLES ONLY; tinygeo.potential does real conversions with
     normal gravity.
 
     Example: ussa76_geometric_height(11000.0) -> 11019.07.
