@@ -271,9 +271,13 @@ class LogReader:
             if not raw:
                 return
             self.lineno += 1
-            line = raw.strip()
-            if not line or line.startswith("#"):
+            # keep a trailing delimiter: a tab-separated line may end in an empty field
+            line = raw.rstrip("\r\n")
+            stripped = line.strip()
+            if not stripped or stripped.startswith("#"):
                 continue
+            if self.delimiter not in ("\t", " "):
+                line = stripped
             try:
                 yield self.parse(line, self.lineno)
             except ReadingError as e:
