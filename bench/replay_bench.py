@@ -1,0 +1,104 @@
+"""Replay speed and memory of ``tinygeo replay`` on a million-line log.
+
+Usage (from the repository root, with the package installed)::
+
+    python bench/replay_bench.py              # 1 000 000 lines (and 100 000 for comparison)
+    python bench/replay_bench.py --lines 200000 --keep /tmp/float.csv
+
+The log is an invented long-duration flight, written by this script: a
+balloon rises at 5 m/s to a float height near 20 km and floats there for
+days, oscillating by +-60 m (a slow made-up wave), one reading per second.
+Pressure comes from the U.S. Standard Atmosphere 1976 (tinygeo.standard) at
+the geopotential height, temperature from the same standard plus a small
+ripple; values are printed like a logger would (0.01 hPa, 0.01 degC, 0.1 %).
+
+Each replay runs as its own process (``python -m tinygeo replay LOG -o
+/dev/null``) so its peak resident memory can be read with
+``resource.getrusage(RUSAGE_CHILDREN).ru_maxrss`` after it ends (Linux: KiB).
+A replay that streams uses the same peak for 100 000 and 1 000 000 lines.
+Not run by the tests.
+"""
+import argparse
+import math
+import os
+import resource
+import subprocess
+import sys
+import tempfile
+import time
+
+HERE = os.path.dirname(os.path.abspath(__file__))
+ROOT = os.path.dirname(HERE)
+sys.path.insert(0, ROOT)
+
+from tinygeo import potential, standard  # noqa: E402
+
+LAT_DEG = 43.6
+SITE_M = 150.0
+FLOAT_M = 20000.0
+
+
+def write_log(path, n):
+    """Write ``n`` readings of the invented float flight to ``path``."""
+    with open(path, "w") as f:
+        f.write("# invented long-duration float flight for a replay benchmark (not real data)\n")
+        f.write("# lat_deg=%.1f start_height_m=%.1f\n" % (LAT_DEG, SITE_M))
+        f.write("time_s,pressure_hpa,temp_c,rh_pct\n")
+        rise_s = (FLOAT_M - SITE_M) / 5.0
+        for i in range(n):
+            t = float(i)
+            if t < rise_s:
+                z = SITE_M + 5.0 * t
+            else:
+                z = FLOAT_M + 60.0 * math.sin(2.0 * math.pi * (t - rise_s) / 1800.0)
+            g = potential.geopotential_height(z, LAT_DEG)
+            p = standard.standard_pressure(g)
+            tc = standard.standard_temperature(g) - 273.15 + 0.3 * math.sin(t / 97.0)
+            rh = 60.0 * math.exp(-z / 4000.0) + 2.0
+            f.write("%d,%.2f,%.2f,%.1f\n" % (i, p / 100.0, tc, rh))
+
+
+def replay(path):
+    """Replay ``path`` in a child process; return (seconds, peak RSS KiB, stderr)."""
+    before = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss
+    t0 = time.perf_counter()
+    p = subprocess.run([sys.executable, "-m", "tinygeo", "replay", path, "-o", os.devnull,
+                        "--quiet"], capture_output=True, text=True, cwd=ROOT)
+    dt = time.perf_counter() - t0
+    peak = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss
+    if p.returncode != 0:
+        raise SystemExit("replay failed (%d): %s" % (p.returncode, p.stderr[-2000:]))
+    # RUSAGE_CHILDREN keeps the largest child so far: run the small log first
+    return dt, max(peak, before), p.stdout
+
+
+def main():
+    ap = argparse.ArgumentParser(description=__doc__.split("\n\n")[0])
+    ap.add_argument("--lines", type=int, default=1000000, help="readings in the big log")
+    ap.add_argument("--small", type=int, default=100000, help="readings in the comparison log")
+    ap.add_argument("--keep", metavar="PATH", help="keep the big log at PATH")
+    a = ap.parse_args()
+    tmp = tempfile.mkdtemp(prefix="tinygeo-bench-")
+    small = os.path.join(tmp, "small.csv")
+    big = a.keep or os.path.join(tmp, "big.csv")
+    t0 = time.perf_counter()
+    write_log(small, a.small)
+    write_log(big, a.lines)
+    gen = time.perf_counter() - t0
+    print("python %s, %s" % (sys.version.split()[0], sys.platform))
+    print("logs written in %.1f s: %d lines (%.1f MB), %d lines (%.1f MB)" % (
+        gen, a.small, os.path.getsize(small) / 1e6, a.lines, os.path.getsize(big) / 1e6))
+    for name, path, n in (("small", small, a.small), ("big", big, a.lines)):
+        dt, peak, out = replay(path)
+        accepted = [ln for ln in out.splitlines() if ln.startswith("#: accepted")]
+        print("replay %-5s %8d lines: %7.1f s, %6.1f us/reading, peak RSS %.1f MiB  %s" % (
+            name, n, dt, 1e6 * dt / n, peak / 1024.0, accepted[0] if accepted else ""))
+    for path in (small, big if not a.keep else None):
+        if path:
+            os.remove(path)
+    if not a.keep:
+        os.rmdir(tmp)
+
+
+if __name__ == "__main__":
+    main()
