@@ -178,3 +178,19 @@ def test_fuzzed_device_tables_never_raise(text):
     for body in (text, table.MAGIC + "\n" + table.HEADER + "\n" + text):
         rc, out, err = main(["compare", "-", "--lat", "47"], body)
         assert rc in (0, 1, 2) and "Traceback" not in err
+
+
+class _Terminal(io.StringIO):
+    def isatty(self):
+        return True
+
+
+def test_progress_only_when_stderr_is_a_terminal(tmp_path):
+    log = tmp_path / "long.csv"
+    log.write_text(GOOD_HEAD + "".join(
+        "%d,%.2f,%.2f,60.0\n" % (2 * i, 965.0 - 0.05 * i, 12.0 - 0.0003 * i) for i in range(3000)))
+    for err, shown in ((_Terminal(), True), (io.StringIO(), False)):
+        out = io.StringIO()
+        assert cli.main(["replay", str(log)], stdout=out, stderr=err) == 0
+        assert ("\rreplay: line 1024" in err.getvalue()) == shown
+        assert "\r" not in out.getvalue()

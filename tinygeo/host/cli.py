@@ -92,7 +92,7 @@ def build_parser():
         prog="tinygeo",
         description="Heights from a stream of pressure, temperature and humidity: replay a log, "
                     "simulate a flight, compare a device with the host, plot a profile.",
-        epilog=EXIT_TEXT + "\n\nfirst try:  tinygeo replay examples/schoolfield_flight.csv --every 60",
+        epilog=EXIT_TEXT + "\n\nfirst try:  tinygeo replay examples/schoolfield_flight.csv --every 100",
         formatter_class=argparse.RawDescriptionHelpFormatter)
     sub = top.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
 
