@@ -194,3 +194,49 @@ def test_progress_only_when_stderr_is_a_terminal(tmp_path):
         assert cli.main(["replay", str(log)], stdout=out, stderr=err) == 0
         assert ("\rreplay: line 1024" in err.getvalue()) == shown
         assert "\r" not in out.getvalue()
+
+
+@st.composite
+def _damaged_logs(draw):
+    """The good log with a few lines damaged: a cell replaced, a line cut,
+    duplicated or replaced by noise."""
+    rows = GOOD_ROWS.splitlines()
+    for _ in range(draw(st.integers(1, 6))):
+        if not rows:
+            break
+        i = draw(st.integers(0, len(rows) - 1))
+        kind = draw(st.sampled_from(["cell", "cut", "dup", "noise", "drop"]))
+        if kind == "cell":
+            cells = rows[i].split(",")
+            cells[draw(st.integers(0, len(cells) - 1))] = draw(_cell)
+            rows[i] = ",".join(cells)
+        elif kind == "cut":
+            rows[i] = rows[i][:draw(st.integers(0, len(rows[i])))]
+        elif kind == "dup":
+            rows.insert(i, rows[i])
+        elif kind == "noise":
+            rows[i] = draw(st.text(max_size=30)).replace("\n", " ").replace("\r", " ")
+        else:
+            del rows[i]
+    return GOOD_HEAD + "\n".join(rows) + "\n"
+
+
+@settings(max_examples=120, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(_damaged_logs())
+def test_damaged_lines_are_skipped_and_counted(text):
+    rc, out, err = replay(text)
+    assert "Traceback" not in err
+    assert rc in (0, 2)
+    if rc == 0:
+        # every data line is either in the table or counted as rejected
+        # lines end at "\n" only (str.splitlines would also split at \x85, \x1c...)
+        data = [ln for ln in text.split("\n")[2:] if ln.strip() and not ln.strip().startswith("#")]
+        counts = dict((w.split()[0], int(w.split("count=")[1].split()[0]))
+                      for w in (ln[3:] for ln in out.splitlines() if ln.startswith("#: "))
+                      if "count=" in w)
+        rows = [ln for ln in out.splitlines() if ln[:1].isdigit()]
+        assert counts["accepted"] == len(rows)
+        assert counts["accepted"] + counts["rejected"] == len(data)
+        assert err.count("tinygeo replay: rejected") == min(counts["rejected"], 20)
+    else:
+        assert err.count("tinygeo: error:") == 1
