@@ -43,6 +43,15 @@ def run(code, timeout=60.0, chunk=32, pause=0.05):
 
     The code is written in ``chunk``-byte pieces with ``pause`` seconds
     between them, because the emulated UART drops bytes on larger writes."""
+    return run_session([code], timeout, chunk, pause)[0]
+
+
+def run_session(codes, timeout=60.0, chunk=32, pause=0.05):
+    """Run several scripts one after the other in ONE boot of the device
+    (they share the global namespace of the raw REPL, so a long program can
+    be sent one definition at a time within the small heap); return the list
+    of their outputs. Stops at the first script that raises (DeviceError,
+    whose message also says which script). ``timeout`` is per script."""
     p = subprocess.Popen([QEMU, "-M", "microbit", "-display", "none", "-monitor", "none",
                           "-serial", "stdio", "-device", "loader,file=" + FIRMWARE],
                          stdin=subprocess.PIPE, stdout=subprocess.PIPE,
@@ -67,8 +76,9 @@ def run(code, timeout=60.0, chunk=32, pause=0.05):
         state["buf"] = buf[i:]
         return buf[:i]
 
-    t_end = time.time() + timeout
+    outs = []
     try:
+        t_end = time.time() + timeout
         time.sleep(0.3)
         p.stdin.write(b"\r\x03\x03")   # interrupt whatever runs
         p.stdin.flush()
@@ -76,24 +86,27 @@ def run(code, timeout=60.0, chunk=32, pause=0.05):
         p.stdin.write(b"\x01")         # raw REPL
         p.stdin.flush()
         read_until(b"raw REPL; CTRL-B to exit\r\n>", t_end)
-        data = code.encode()
-        for i in range(0, len(data), chunk):
-            p.stdin.write(data[i:i + chunk])
+        for k, code in enumerate(codes):
+            t_end = time.time() + timeout
+            data = code.encode()
+            for i in range(0, len(data), chunk):
+                p.stdin.write(data[i:i + chunk])
+                p.stdin.flush()
+                time.sleep(pause)
+            p.stdin.write(b"\x04")         # end of script: compile and run
             p.stdin.flush()
-            time.sleep(pause)
-        p.stdin.write(b"\x04")         # end of script: compile and run
-        p.stdin.flush()
-        read_until(b"OK", t_end)
-        out = read_until(b"\x04", t_end)[:-1]
-        err = read_until(b"\x04", t_end)[:-1]
+            read_until(b"OK", t_end)
+            out = read_until(b"\x04", t_end)[:-1].decode("utf-8", "replace").replace("\r\n", "\n")
+            err = read_until(b"\x04", t_end)[:-1].decode("utf-8", "replace").replace("\r\n", "\n")
+            read_until(b">", t_end)        # ready for the next script
+            if err:
+                raise DeviceError("script %d of %d: %s%s" % (
+                    k + 1, len(codes), err, "\n(output before the error:)\n" + out if out else ""))
+            outs.append(out)
     finally:
         p.kill()
         p.wait()
-    out = out.decode("utf-8", "replace").replace("\r\n", "\n")
-    err = err.decode("utf-8", "replace").replace("\r\n", "\n")
-    if err:
-        raise DeviceError(err + ("\n(output before the error:)\n" + out if out else ""))
-    return out
+    return outs
 
 
 def main(argv):
