@@ -1,0 +1,32 @@
+/* constants.c -- twin of tinygeo/constants.py (the ellipsoids) and of the
+ * geopotential series tables of tinygeo/potential.py, which C attaches to
+ * the ellipsoid (Python looks the table up by the ellipsoid's name). Every
+ * number comes from tg_tables.h, generated from the Python sources. */
+#include <stddef.h>
+#include "tg_internal.h"
+
+const char *tg_status_name(tg_status st)
+{
+    switch (st) {
+    case TG_OK: return "ok";
+    case TG_RANGE: return "range";
+    case TG_MODEL_RANGE: return "model_range";
+    case TG_ELLIPSOID: return "ellipsoid";
+    case TG_READING: return "reading";
+    case TG_STATE: return "state";
+    }
+    return "unknown";
+}
+
+/* potential._WGS84, potential._GRS80 */
+static const tg_series tg__wgs84_series = { TGPY_POTENTIAL__WGS84_LENS, TGPY_POTENTIAL__WGS84 };
+static const tg_series tg__grs80_series = { TGPY_POTENTIAL__GRS80_LENS, TGPY_POTENTIAL__GRS80 };
+
+#define TG_ELLIPSOID_INIT(N, SERIES) { #N, TGPY_CONSTANTS_##N##_A_M, TGPY_CONSTANTS_##N##_F, \
+    TGPY_CONSTANTS_##N##_GM, TGPY_CONSTANTS_##N##_OMEGA, TGPY_CONSTANTS_##N##_B_M, \
+    TGPY_CONSTANTS_##N##_E2, TGPY_CONSTANTS_##N##_EP2, TGPY_CONSTANTS_##N##_LIN_ECC_M, \
+    TGPY_CONSTANTS_##N##_GAMMA_E, TGPY_CONSTANTS_##N##_GAMMA_P, \
+    TGPY_CONSTANTS_##N##_K_SOMIGLIANA, TGPY_CONSTANTS_##N##_M, TGPY_CONSTANTS_##N##_U0, SERIES }
+
+const tg_ellipsoid tg_wgs84 = TG_ELLIPSOID_INIT(WGS84, &tg__wgs84_series);
+const tg_ellipsoid tg_grs80 = TG_ELLIPSOID_INIT(GRS80, &tg__grs80_series);

@@ -1,0 +1,150 @@
+/* moisture.c -- twin of tinygeo/moisture.py: saturation vapour pressure
+ * (Magnus forms of WMO-No. 8 Annex 4.B), enhancement factor, vapour
+ * pressure, dew point, mixing ratio, specific humidity, virtual temperature
+ * (Wallace & Hobbs 2006 eq. 3.16; AMS Glossary). Sources, ranges and the
+ * measured accuracy against IAPWS are documented in moisture.py. */
+#include "tg_internal.h"
+
+#define E0_PA TGPY_MOISTURE_E0_PA
+#define AW TGPY_MOISTURE__AW
+#define BW TGPY_MOISTURE__BW
+#define AI TGPY_MOISTURE__AI
+#define BI TGPY_MOISTURE__BI
+#define F0 TGPY_MOISTURE__F0
+#define F1 TGPY_MOISTURE__F1
+#define F2 TGPY_MOISTURE__F2
+#define F_ONE_PA TGPY_MOISTURE_F_ONE_PA
+#define P_MIN_PA TGPY_MOISTURE_P_MIN_PA
+#define P_MAX_PA TGPY_MOISTURE_P_MAX_PA
+#define ONE_M_EPS (TG_L(1.0) - TG_EPSILON)  /* _ONE_M_EPS = 1.0 - EPSILON */
+
+/* moisture._es: Magnus form [WMO8], no checks (callers check t_k). Pa. */
+TG_FLOAT tg__moisture_es(TG_FLOAT t_k, int ice)
+{
+    TG_FLOAT t = t_k - TG_ZERO_C_K;
+    if (ice && t <= TG_L(0.0))
+        return E0_PA * TG_EXP(AI * t / (BI + t));
+    return E0_PA * TG_EXP(AW * t / (BW + t));
+}
+
+/* moisture._f: enhancement factor [WMO8], no checks (callers check p_pa). */
+TG_FLOAT tg__moisture_f(TG_FLOAT p_pa)
+{
+    if (p_pa <= F_ONE_PA)
+        return TG_L(1.0);
+    return F0 + F1 * p_pa - F2 / p_pa;
+}
+
+/* moisture._check_e: e >= 0, finite, below p_pa (Python: _boiling) */
+static tg_status check_e(TG_FLOAT e_pa, TG_FLOAT p_pa)
+{
+    if (!isfinite(e_pa))
+        return TG_RANGE;
+    if (e_pa < TG_L(0.0))
+        return TG_RANGE;
+    if (e_pa >= p_pa)
+        return TG_RANGE;
+    return TG_OK;
+}
+
+tg_status tg_saturation_vapour_pressure(TG_FLOAT t_k, int ice, TG_FLOAT *out)
+{
+    TG_TRY(tg__check_t_k(t_k, TG_T_LO, TG_T_HI, TG_RANGE));
+    *out = tg__moisture_es(t_k, ice);
+    return TG_OK;
+}
+
+tg_status tg_enhancement_factor(TG_FLOAT p_pa, TG_FLOAT *out)
+{
+    TG_TRY(tg__check_p_pa(p_pa, P_MIN_PA, P_MAX_PA, TG_RANGE));
+    *out = tg__moisture_f(p_pa);
+    return TG_OK;
+}
+
+tg_status tg_vapour_pressure(TG_FLOAT t_k, TG_FLOAT p_pa, TG_FLOAT rh_pct, int ice,
+                             TG_FLOAT *out)
+{
+    TG_FLOAT e;
+    TG_TRY(tg__check_t_k(t_k, TG_T_LO, TG_T_HI, TG_RANGE));
+    TG_TRY(tg__check_p_pa(p_pa, P_MIN_PA, P_MAX_PA, TG_RANGE));
+    TG_TRY(tg__check_rh(rh_pct, TG_L(3.0), TG_RANGE));
+    e = rh_pct * TG_L(0.01) * tg__moisture_f(p_pa) * tg__moisture_es(t_k, ice);
+    if (e >= p_pa)
+        return tg__fail(TG_RANGE, out);      /* _boiling */
+    *out = e;
+    return TG_OK;
+}
+
+tg_status tg_vapour_pressure_from_dew_point(TG_FLOAT td_k, TG_FLOAT p_pa, int ice,
+                                            TG_FLOAT *out)
+{
+    TG_FLOAT e;
+    TG_TRY(tg__check_t_k(td_k, TG_T_LO, TG_T_HI, TG_RANGE));
+    TG_TRY(tg__check_p_pa(p_pa, P_MIN_PA, P_MAX_PA, TG_RANGE));
+    e = tg__moisture_f(p_pa) * tg__moisture_es(td_k, ice);
+    if (e >= p_pa)
+        return tg__fail(TG_RANGE, out);      /* _boiling */
+    *out = e;
+    return TG_OK;
+}
+
+tg_status tg_dew_point(TG_FLOAT e_pa, TG_FLOAT p_pa, int ice, TG_FLOAT *out)
+{
+    TG_FLOAT e, y, t, td;
+    TG_TRY(tg__check_p_pa(p_pa, P_MIN_PA, P_MAX_PA, TG_RANGE));
+    TG_TRY(check_e(e_pa, p_pa));
+    e = e_pa;
+    if (e == TG_L(0.0))
+        return tg__fail(TG_RANGE, out);      /* dry air has no dew point */
+    y = TG_LOG(e / (tg__moisture_f(p_pa) * E0_PA));
+    if (ice && y <= TG_L(0.0))
+        t = BI * y / (AI - y);
+    else
+        t = BW * y / (AW - y);
+    td = t + TG_ZERO_C_K;
+    if (td < TG_L(150.0) || td > TG_L(350.0))
+        return tg__fail(TG_MODEL_RANGE, out);
+    *out = td;
+    return TG_OK;
+}
+
+tg_status tg_mixing_ratio(TG_FLOAT e_pa, TG_FLOAT p_pa, TG_FLOAT *out)
+{
+    TG_TRY(tg__check_p_pa(p_pa, P_MIN_PA, P_MAX_PA, TG_RANGE));
+    TG_TRY(check_e(e_pa, p_pa));
+    *out = TG_EPSILON * e_pa / (p_pa - e_pa);
+    return TG_OK;
+}
+
+tg_status tg_specific_humidity(TG_FLOAT e_pa, TG_FLOAT p_pa, TG_FLOAT *out)
+{
+    TG_TRY(tg__check_p_pa(p_pa, P_MIN_PA, P_MAX_PA, TG_RANGE));
+    TG_TRY(check_e(e_pa, p_pa));
+    *out = TG_EPSILON * e_pa / (p_pa - ONE_M_EPS * e_pa);
+    return TG_OK;
+}
+
+tg_status tg_virtual_temperature(TG_FLOAT t_k, TG_FLOAT p_pa, TG_FLOAT rh_pct, int ice,
+                                 TG_FLOAT *out)
+{
+    TG_FLOAT e;
+    TG_TRY(tg__check_t_k(t_k, TG_T_LO, TG_T_HI, TG_RANGE));
+    TG_TRY(tg__check_p_pa(p_pa, P_MIN_PA, P_MAX_PA, TG_RANGE));
+    TG_TRY(tg__check_rh(rh_pct, TG_L(3.0), TG_RANGE));
+    e = rh_pct * TG_L(0.01) * tg__moisture_f(p_pa) * tg__moisture_es(t_k, ice);
+    if (e >= p_pa)
+        return tg__fail(TG_RANGE, out);      /* _boiling */
+    *out = t_k / (TG_L(1.0) - ONE_M_EPS * e / p_pa);
+    return TG_OK;
+}
+
+tg_status tg_virtual_temperature_from_mixing_ratio(TG_FLOAT t_k, TG_FLOAT w_kg_kg,
+                                                   TG_FLOAT *out)
+{
+    TG_TRY(tg__check_t_k(t_k, TG_T_LO, TG_T_HI, TG_RANGE));
+    TG_TRY(tg__as_finite(w_kg_kg, TG_RANGE));
+    if (w_kg_kg < TG_L(0.0) || w_kg_kg > TG_L(1.0))
+        return tg__fail(TG_RANGE, out);
+    *out = t_k * (TG_L(1.0) + w_kg_kg / TG_EPSILON) / (TG_L(1.0) + w_kg_kg);
+    return TG_OK;
+}

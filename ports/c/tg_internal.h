@@ -1,0 +1,116 @@
+/* tg_internal.h -- shared by the tinygeo C sources only (not installed).
+ * The float/double switch, the libm macro layer, and the argument checks of
+ * tinygeo/errors.py returning status codes instead of raising. */
+#ifndef TG_INTERNAL_H
+#define TG_INTERNAL_H
+
+#include <math.h>
+#include "tinygeo.h"
+
+/* TG_SINGLE is 1 when TG_FLOAT is float (token pasting: TG_IS_float is
+ * defined, TG_IS_double is not and reads as 0 in #if). */
+#define TG_IS_float 1
+#define TG_CAT_(a, b) a##b
+#define TG_CAT(a, b) TG_CAT_(a, b)
+#if TG_CAT(TG_IS_, TG_FLOAT)
+#define TG_SINGLE 1
+#define TG_SIN sinf
+#define TG_COS cosf
+#define TG_SQRT sqrtf
+#define TG_EXP expf
+#define TG_EXPM1 expm1f
+#define TG_LOG logf
+#define TG_FABS fabsf
+#else
+#define TG_SINGLE 0
+#define TG_SIN sin
+#define TG_COS cos
+#define TG_SQRT sqrt
+#define TG_EXP exp
+#define TG_EXPM1 expm1
+#define TG_LOG log
+#define TG_FABS fabs
+#endif
+
+/* A literal: written as in the Python source (a double), rounded once to
+ * TG_FLOAT at compile time. */
+#define TG_L(x) ((TG_FLOAT)(x))
+#define TG_NAN ((TG_FLOAT)NAN)
+/* math.pi (M_PI is not in C99), and _DEG = math.pi / 180.0 of gravity.py,
+ * potential.py */
+#define TG_PI TG_L(3.141592653589793)
+#define TG_DEG (TG_PI / TG_L(180.0))
+
+#include "tg_tables.h"
+
+/* constants.py names that are expressions of other names: the same
+ * expression, evaluated in TG_FLOAT from the rounded literals (as Python on a
+ * float32 board evaluates it at import), folded at compile time. */
+#define TG_G0 TGPY_CONSTANTS_G0
+#define TG_RD (TGPY_CONSTANTS_R_STAR / TGPY_CONSTANTS_M0_KG_MOL)   /* RD = R_STAR / M0_KG_MOL */
+#define TG_EPSILON TGPY_CONSTANTS_EPSILON
+#define TG_ZERO_C_K TGPY_CONSTANTS_ZERO_C_K
+#define TG_R0_M TGPY_CONSTANTS_R0_M
+
+/* ---- errors.py: the checks, as status codes ------------------------------ */
+static inline tg_status tg__fail(tg_status st, TG_FLOAT *out)
+{
+    *out = TG_NAN;
+    return st;
+}
+
+/* Return from the calling function with *out = NaN when st is not TG_OK. */
+#define TG_TRY(expr) do { tg_status st_ = (expr); if (st_ != TG_OK) return tg__fail(st_, out); } while (0)
+
+/* as_finite(name, value, unit, error) */
+static inline tg_status tg__as_finite(TG_FLOAT x, tg_status error)
+{
+    return isfinite(x) ? TG_OK : error;
+}
+
+/* check_range(name, value, lo, hi, unit, hint, error) */
+static inline tg_status tg__check_range(TG_FLOAT x, TG_FLOAT lo, TG_FLOAT hi, tg_status error)
+{
+    if (!isfinite(x))
+        return error;
+    if (x < lo || x > hi)
+        return error;
+    return TG_OK;
+}
+
+/* check_t_k(name, value, lo=150.0, hi=350.0, error) */
+static inline tg_status tg__check_t_k(TG_FLOAT x, TG_FLOAT lo, TG_FLOAT hi, tg_status error)
+{
+    return tg__check_range(x, lo, hi, error);
+}
+#define TG_T_LO TG_L(150.0)
+#define TG_T_HI TG_L(350.0)
+
+/* check_p_pa(name, value, lo, hi, error) */
+static inline tg_status tg__check_p_pa(TG_FLOAT x, TG_FLOAT lo, TG_FLOAT hi, tg_status error)
+{
+    return tg__check_range(x, lo, hi, error);
+}
+
+/* check_lat(value) */
+static inline tg_status tg__check_lat(TG_FLOAT x)
+{
+    return tg__check_range(x, TG_L(-90.0), TG_L(90.0), TG_RANGE);
+}
+
+/* check_rh(value, tol=3.0, error) */
+static inline tg_status tg__check_rh(TG_FLOAT x, TG_FLOAT tol, tg_status error)
+{
+    return tg__check_range(x, -tol, TG_L(100.0) + tol, error);
+}
+
+/* ---- private helpers shared between modules (Python: module-private
+ * functions imported across modules, e.g. standard._altitude in sealevel) -- */
+TG_FLOAT tg__standard_pressure_unchecked(TG_FLOAT h);   /* standard._pressure */
+TG_FLOAT tg__standard_altitude_unchecked(TG_FLOAT p);   /* standard._altitude */
+TG_FLOAT tg__standard_bottom_gph_m(void);               /* standard.BOTTOM_GPH_M */
+TG_FLOAT tg__layers_lnr(TG_FLOAT p1, TG_FLOAT p2);      /* layers._lnr */
+TG_FLOAT tg__moisture_es(TG_FLOAT t_k, int ice);        /* moisture._es */
+TG_FLOAT tg__moisture_f(TG_FLOAT p_pa);                 /* moisture._f */
+
+#endif /* TG_INTERNAL_H */

@@ -1,0 +1,151 @@
+/* tinygeo.h -- C99 port of the tinygeo core (tinygeo/ modules).
+ *
+ * Each Python module has its C twin (gravity.c, potential.c, moisture.c,
+ * layers.c, standard.c, sealevel.c, column.c): the same names with a tg_
+ * prefix, the same argument order and units, the same branch order, so both
+ * read side by side. The formulas, their sources and their accuracy are
+ * documented in the Python docstrings; the C comments point to them and note
+ * every deliberate difference where it happens.
+ *
+ * Float type
+ * ----------
+ * TG_FLOAT is double unless the build says -DTG_FLOAT=float (single
+ * precision, what firmware uses). All arithmetic, constants and libm calls
+ * (sinf, logf, expm1f, ... in the float build) then use that type.
+ *
+ * Error convention (one rule for every function)
+ * -----------------------------------------------
+ * A function returns a tg_status and writes its result through the last
+ * argument, a pointer `out`:
+ *   TG_OK           the result is in *out;
+ *   TG_RANGE        an argument is not finite or lies outside its accepted
+ *                   range (Python: tinygeo.errors.RangeError);
+ *   TG_MODEL_RANGE  the value lies outside the range the published model is
+ *                   defined for (Python: ModelRangeError);
+ *   TG_ELLIPSOID    an ellipsoid without a geopotential series (Python:
+ *                   TinygeoError from potential._table);
+ *   TG_READING      a column reading was rejected (Python: ReadingError; the
+ *                   reason is stored in the column, see tg_column_feed);
+ *   TG_STATE        a column method called in a state that does not allow it
+ *                   (Python: TinygeoError from reanchor_gps).
+ * On any status other than TG_OK, *out is set to NaN (never left holding a
+ * stale value) and no other state changes. tg_status_name() gives a short
+ * word for logs. Arguments are checked in the same order as in Python, so
+ * the status is the class of the exception Python raises for the same call.
+ *
+ * Optional arguments: Python's keyword defaults become explicit arguments.
+ * An ellipsoid pointer may be NULL (= &tg_wgs84, the Python default). An
+ * optional number that Python takes as None (rh_pct, lat_deg of
+ * tg_sea_level_pressure, ...) is passed as a pointer, NULL meaning None.
+ * Booleans (ice) are ints, 0 or 1.
+ *
+ * No function allocates memory, reads a clock or keeps hidden state.
+ */
+#ifndef TINYGEO_H
+#define TINYGEO_H
+
+#ifndef TG_FLOAT
+#define TG_FLOAT double
+#endif
+
+#ifdef __cplusplus
+extern "C" {
+#endif
+
+typedef enum tg_status {
+    TG_OK = 0,
+    TG_RANGE = 1,
+    TG_MODEL_RANGE = 2,
+    TG_ELLIPSOID = 3,
+    TG_READING = 4,
+    TG_STATE = 5
+} tg_status;
+
+/* "ok", "range", "model_range", "ellipsoid", "reading", "state" */
+const char *tg_status_name(tg_status st);
+
+/* ---- constants.py ------------------------------------------------------ */
+/* Geopotential series of potential.py for one ellipsoid: D_1..D_6, each a
+ * polynomial in s = sin^2(lat) with lens[n] coefficients (s^0 first). */
+typedef struct tg_series {
+    unsigned char lens[6];
+    TG_FLOAT d[6][6];
+} tg_series;
+
+/* constants.Ellipsoid: the same attributes (SI), plus the geopotential
+ * series of potential.py (Python picks it by name; C keeps a pointer, NULL
+ * for an ellipsoid without one -> TG_ELLIPSOID). */
+typedef struct tg_ellipsoid {
+    const char *name;
+    TG_FLOAT a_m, f, gm, omega, b_m, e2, ep2, lin_ecc_m;
+    TG_FLOAT gamma_e, gamma_p, k_somigliana, m, u0;
+    const tg_series *series;
+} tg_ellipsoid;
+
+extern const tg_ellipsoid tg_wgs84;   /* constants.WGS84 [NIMA TR8350.2] */
+extern const tg_ellipsoid tg_grs80;   /* constants.GRS80 [Moritz 1980] */
+
+/* ---- gravity.py: m/s^2 ------------------------------------------------- */
+tg_status tg_somigliana_gravity(TG_FLOAT lat_deg, const tg_ellipsoid *ellipsoid, TG_FLOAT *out);
+tg_status tg_normal_gravity(TG_FLOAT lat_deg, TG_FLOAT height_m, const tg_ellipsoid *ellipsoid,
+                            TG_FLOAT *out);
+
+/* ---- potential.py ------------------------------------------------------ */
+tg_status tg_geopotential_height(TG_FLOAT height_m, TG_FLOAT lat_deg,
+                                 const tg_ellipsoid *ellipsoid, TG_FLOAT *out);   /* gpm */
+tg_status tg_geopotential(TG_FLOAT height_m, TG_FLOAT lat_deg, const tg_ellipsoid *ellipsoid,
+                          TG_FLOAT *out);                                       /* m^2/s^2 */
+tg_status tg_geometric_height(TG_FLOAT gph_m, TG_FLOAT lat_deg, const tg_ellipsoid *ellipsoid,
+                              TG_FLOAT *out);                                   /* m */
+tg_status tg_msl_height(TG_FLOAT ellipsoidal_height_m, TG_FLOAT geoid_undulation_m,
+                        TG_FLOAT *out);                                         /* m */
+
+/* ---- moisture.py ------------------------------------------------------- */
+tg_status tg_saturation_vapour_pressure(TG_FLOAT t_k, int ice, TG_FLOAT *out);      /* Pa */
+tg_status tg_enhancement_factor(TG_FLOAT p_pa, TG_FLOAT *out);                      /* 1 */
+tg_status tg_vapour_pressure(TG_FLOAT t_k, TG_FLOAT p_pa, TG_FLOAT rh_pct, int ice,
+                             TG_FLOAT *out);                                        /* Pa */
+tg_status tg_vapour_pressure_from_dew_point(TG_FLOAT td_k, TG_FLOAT p_pa, int ice,
+                                            TG_FLOAT *out);                         /* Pa */
+tg_status tg_dew_point(TG_FLOAT e_pa, TG_FLOAT p_pa, int ice, TG_FLOAT *out);       /* K */
+tg_status tg_mixing_ratio(TG_FLOAT e_pa, TG_FLOAT p_pa, TG_FLOAT *out);             /* kg/kg */
+tg_status tg_specific_humidity(TG_FLOAT e_pa, TG_FLOAT p_pa, TG_FLOAT *out);        /* kg/kg */
+tg_status tg_virtual_temperature(TG_FLOAT t_k, TG_FLOAT p_pa, TG_FLOAT rh_pct, int ice,
+                                 TG_FLOAT *out);                                    /* K */
+tg_status tg_virtual_temperature_from_mixing_ratio(TG_FLOAT t_k, TG_FLOAT w_kg_kg,
+                                                   TG_FLOAT *out);                  /* K */
+
+/* ---- layers.py --------------------------------------------------------- */
+tg_status tg_ln_ratio(TG_FLOAT p1_pa, TG_FLOAT p2_pa, TG_FLOAT *out);                /* 1 */
+tg_status tg_layer_thickness(TG_FLOAT p_lower_pa, TG_FLOAT p_upper_pa, TG_FLOAT tv_lower_k,
+                             TG_FLOAT tv_upper_k, TG_FLOAT *out);                   /* gpm */
+tg_status tg_layer_thickness_lapse(TG_FLOAT p_lower_pa, TG_FLOAT p_upper_pa,
+                                   TG_FLOAT tv_lower_k, TG_FLOAT lapse_k_m,
+                                   TG_FLOAT *out);                                  /* gpm */
+tg_status tg_pressure_across_layer(TG_FLOAT p_lower_pa, TG_FLOAT thickness_gpm,
+                                   TG_FLOAT tv_mean_k, TG_FLOAT *out);              /* Pa */
+tg_status tg_layer_mean_tv(TG_FLOAT p_lower_pa, TG_FLOAT p_upper_pa, TG_FLOAT thickness_gpm,
+                           TG_FLOAT *out);                                          /* K */
+
+/* ---- standard.py (U.S. Standard Atmosphere 1976) ----------------------- */
+tg_status tg_standard_temperature(TG_FLOAT gph_m, TG_FLOAT *out);                   /* K */
+tg_status tg_standard_pressure(TG_FLOAT gph_m, TG_FLOAT *out);                      /* Pa */
+tg_status tg_pressure_altitude(TG_FLOAT p_pa, TG_FLOAT *out);                       /* gpm */
+tg_status tg_ussa76_geopotential_height(TG_FLOAT z_m, TG_FLOAT *out);               /* gpm */
+tg_status tg_ussa76_geometric_height(TG_FLOAT gph_m, TG_FLOAT *out);                /* m */
+
+/* ---- sealevel.py: Pa (indicated_altitude: m) ---------------------------- */
+/* rh_pct, lat_deg: NULL = None (dry air; height_m used as gpm). */
+tg_status tg_sea_level_pressure(TG_FLOAT p_pa, TG_FLOAT t_k, TG_FLOAT height_m,
+                                const TG_FLOAT *rh_pct, const TG_FLOAT *lat_deg, int ice,
+                                TG_FLOAT *out);
+tg_status tg_qfe(TG_FLOAT p_pa, TG_FLOAT barometer_above_field_m, TG_FLOAT t_k,
+                 const TG_FLOAT *rh_pct, int ice, TG_FLOAT *out);
+tg_status tg_qnh(TG_FLOAT p_pa, TG_FLOAT elevation_m, TG_FLOAT *out);
+tg_status tg_indicated_altitude(TG_FLOAT p_pa, TG_FLOAT qnh_pa, TG_FLOAT *out);
+
+#ifdef __cplusplus
+}
+#endif
+
+#endif /* TINYGEO_H */
