@@ -236,6 +236,54 @@ def test_compare_fails_naming_the_first_offending_line(flight, tmp_path):
     assert "first offending: line %d: accepted by the host but missing" % line1 in out
 
 
+def _float32_device_table(log, out_path):
+    """Write the table a float32 board would write for ``log``: the unmodified
+    column run with every float rounded to binary32 (tests/floatemu.py), rows
+    written with tinygeo.host.table.format_row as a device logger would."""
+    import floatemu
+    from tinygeo.host import table
+    colmod = floatemu.load_module("f32", "tinygeo.column")
+    r32 = floatemu.r32
+    col = colmod.Column(r32(47.3), r32(420.0))
+    levels = []
+    col.on_event = lambda c, bits: levels.append(c.level_p_pa) if bits & table.EV_LEVEL else None
+    nan = float("nan")
+    with open(out_path, "w") as out:
+        out.write(table.MAGIC + "\n" + table.SITE_PREFIX + "lat_deg=47.3 start_height_m=420\n")
+        out.write(table.HEADER + "\n")
+        for n, raw in enumerate(open(log), 1):
+            f = raw.strip().split(",")
+            if raw.startswith("#") or f[0] == "time_s":
+                continue
+            p, t = r32(float(f[1]) * 100.0), r32(float(f[2]) + 273.15)
+            rh, ts = (r32(float(f[3])) if f[3] else None), r32(float(f[0]))
+            del levels[:]
+            try:
+                bits = col.feed(p, t, rh, ts, None)
+            except ValueError:
+                continue
+            out.write(table.format_row(n, ts, p, t, nan if rh is None else rh, nan, nan, col.gph_m,
+                                       col.height_m, col.rate_m_s, col.sigma_m, col.flags,
+                                       table.events_text(bits, list(levels))) + "\n")
+
+
+def test_compare_float32_device_against_host(tmp_path):
+    log, dev = tmp_path / "f.csv", tmp_path / "dev.tsv"
+    run("simulate", "--seed", 8, "--burst", 6000, "--no-gps", "-o", log)
+    _float32_device_table(log, dev)
+    for extra in ([], ["--log", log]):
+        out, _ = run("compare", dev, *extra)
+        assert "result: PASS" in out and "readings compared: 10" in out
+        assert "flags/events differing: 0" in out
+        largest = dict(ln.split()[:2] for ln in out.splitlines() if ln.startswith("  ")
+                       and ln.split()[0] in ("gph_m", "height_m"))
+        # the sides do differ (binary32 vs double) by more than the 0.5 mm
+        # rounding of the printed heights, and by far less than the tolerance
+        assert 0.0006 < float(largest["height_m"]) < 0.05
+    out, _ = run("compare", dev, "--tol-height", "0.0001", check_rc=1)
+    assert "first offending: line " in out
+
+
 # --- plot ------------------------------------------------------------------------
 def _png_size(path):
     data = Path(path).read_bytes()

@@ -116,7 +116,11 @@ def _device_reading(row):
 
 
 def _site_from_table(site, a, meta):
-    """Column set-up from the device table's site line, overridden by options."""
+    """Column set-up from the device table's site line, overridden by options.
+
+    The raw log's comments (``meta``) only fill in a latitude or start height
+    the device table lacks: its sensor errors describe the sensor, not what
+    the device's column was set up with."""
     def num(key):
         if key in site:
             try:
@@ -124,7 +128,9 @@ def _site_from_table(site, a, meta):
             except ValueError:
                 raise table.TableError("device table: %s=%r in the '# site' line is not a number"
                                        % (key, site[key]))
-        return meta.get(key)
+        if key in ("lat_deg", "start_height_m"):
+            return meta.get(key)
+        return None
 
     lat = a.lat if a.lat is not None else num("lat_deg")
     if lat is None:
