@@ -4,24 +4,32 @@ Run from the repository root (MicroPython unix runtime from the venv)::
 
     MICROPYPATH=. micropython bench/heap.py
 
-(it also runs under CPython, where the gc figures do not exist: it then says so
-and stops). Prints, in one run:
+(under CPython the gc figures do not exist: it says so and stops). Prints, in
+one run:
 
 1. bytes allocated per ``feed`` with every feature on (humidity, time so the
-   rate and the uncertainty are computed, a GPS height every tenth reading,
-   event detection with an ``on_event`` callback) over the whole simulated
-   flight of ``ports/micropython/flightsim.py`` (1 s steps, ~7 900 readings:
-   ground wait, ascent, burst, descent, landing), measured around each
-   accepted ``feed`` call alone with the collector off (``gc.mem_alloc()``
-   delta): mean, largest, and the readings over the budget;
+   rate is computed, the uncertainty bookkeeping, a GPS height every tenth
+   reading, event detection with an ``on_event`` callback) over the whole
+   simulated flight of ``ports/micropython/flightsim.py`` (1 s steps, ~7 900
+   readings: ground wait, ascent, burst, descent, landing), measured around
+   each ``feed`` call alone with the collector off (``gc.mem_alloc()``
+   delta): mean, largest, and the number of readings over the budget;
 2. the same for the column with its optional inputs left out (pressure and
    temperature only, dry air assumed, no time, no GPS, no callback);
-3. the bare integration alone: a loop of ``layers.layer_thickness`` plus a
-   running sum over the same readings (dry, and with the exact virtual
-   temperature from ``moisture.virtual_temperature``);
-4. retained heap (``gc.collect()`` then ``gc.mem_alloc()``) before and after
-   100 000 feeds with every feature on (the same flight at 0.079 s steps),
-   and after the first 1 000 of them, so a leak or growing state shows.
+3. the bare integration alone: a loop of ``layer_thickness`` plus a running
+   sum over the same readings (dry, and with the exact virtual temperature
+   from ``virtual_temperature`` each step);
+4. where the bytes go: bytes per call of each core function ``feed`` uses,
+   and ``feed`` with the uncertainty bookkeeping off (``track_sigma=False``);
+5. retained heap (``gc.collect()`` then ``gc.mem_alloc()``) every 10 000
+   feeds over 100 000 feeds with every feature on (the same flight at
+   0.079 s steps), with the part explained by result attributes that take a
+   float of their own for the first time (burst, tropopause, levels: one
+   block each, bounded), so that a leak, which grows with the feed count,
+   shows in what is left.
+
+The flight's one failed reading (a NaN temperature) is skipped before
+``feed``: only accepted feeds are measured.
 
 Budget: <= 2048 bytes per feed with every feature on (64-bit unix runtime:
 one float result = one 32-byte GC block, so <= 64 float results per
@@ -29,17 +37,20 @@ reading); no growth of retained heap. On 32-bit boards a block is 16 bytes:
 expect about half the byte figures (not measured on hardware).
 """
 import gc
+import math
 import sys
+from array import array
 
 sys.path.append("ports/micropython")
 
+import tinygeo                                       # noqa: E402
+from tinygeo import errors                           # noqa: E402
 from tinygeo.column import Column                    # noqa: E402
-from tinygeo.errors import ReadingError              # noqa: E402
-from tinygeo import layers, moisture                 # noqa: E402
 from flightsim import SimulatedFlight, LAUNCH_HEIGHT_M  # noqa: E402
 
 LAT_DEG = 48.2
 FEED_BUDGET = 2048
+BLOCK = 32          # bytes per GC block on the 64-bit unix runtime
 LONG_RUN = 100000
 
 
@@ -48,31 +59,31 @@ def _on_event(column, bits):
 
 
 def per_feed(column, sensor, full):
-    """Return (readings, accepted, mean bytes, max bytes, index of max, over budget)."""
+    """Return (accepted feeds, mean bytes, max bytes, reading index of the max,
+    feeds over the budget)."""
     total = 0
     most = 0
     most_at = -1
     over = 0
     n = 0
-    accepted = 0
     gc.collect()
     gc.disable()
     try:
         while sensor.read():
-            n += 1
             if sensor.t_k != sensor.t_k:
-                continue   # the flight's one failed conversion: only accepted feeds are measured
+                continue   # the one failed conversion of the flight
+            p = sensor.p_pa
+            t = sensor.t_k
             if full:
-                p, t, rh, ts, gps = sensor.p_pa, sensor.t_k, sensor.rh_pct, sensor.time_s, sensor.gps_m
+                rh = sensor.rh_pct
+                ts = sensor.time_s
+                gps = sensor.gps_m
             else:
-                p, t, rh, ts, gps = sensor.p_pa, sensor.t_k, None, None, None
+                rh = ts = gps = None
             a = gc.mem_alloc()
-            try:
-                column.feed(p, t, rh, ts, gps)
-            except ReadingError:
-                continue
+            column.feed(p, t, rh, ts, gps)
             d = gc.mem_alloc() - a
-            accepted += 1
+            n += 1
             total += d
             if d > most:
                 most = d
@@ -83,14 +94,14 @@ def per_feed(column, sensor, full):
                 gc.collect()
     finally:
         gc.enable()
-    return n, accepted, total / accepted, most, most_at, over
+    return n, total / n, most, most_at, over
 
 
 def bare_integration(sensor, moist):
-    """Mean bytes per step of the bare hypsometric sum over the same readings."""
+    """(steps, mean bytes per step) of the bare hypsometric sum over the readings."""
     sensor.read()
     p0 = sensor.p_pa
-    tv0 = moisture.virtual_temperature(sensor.t_k, p0, sensor.rh_pct) if moist else sensor.t_k
+    tv0 = tinygeo.virtual_temperature(sensor.t_k, p0, sensor.rh_pct) if moist else sensor.t_k
     h = 0.0
     total = 0
     n = 0
@@ -104,8 +115,8 @@ def bare_integration(sensor, moist):
             if t1 != t1 or (moist and rh is None):
                 continue
             a = gc.mem_alloc()
-            tv1 = moisture.virtual_temperature(t1, p1, rh) if moist else t1
-            h += layers.layer_thickness(p0, p1, tv0, tv1)
+            tv1 = tinygeo.virtual_temperature(t1, p1, rh) if moist else t1
+            h += tinygeo.layer_thickness(p0, p1, tv0, tv1)
             total += gc.mem_alloc() - a
             n += 1
             p0 = p1
@@ -114,36 +125,86 @@ def bare_integration(sensor, moist):
                 gc.collect()
     finally:
         gc.enable()
-    return n, total / n, h
+    return n, total / n
 
 
-def _long_run(column, sensor, warm):
-    # Feed until the flight ends or LONG_RUN readings; return heap after `warm` feeds.
-    n = 0
-    at_warm = 0
-    while n < LONG_RUN and sensor.read():
-        if sensor.t_k != sensor.t_k:
-            continue
-        try:
-            column.feed(sensor.p_pa, sensor.t_k, sensor.rh_pct, sensor.time_s, sensor.gps_m)
-        except ReadingError:
-            pass
-        n += 1
-        if n == warm:
-            gc.collect()
-            at_warm = gc.mem_alloc()
-    return n, at_warm
+def per_call(fn, n):
+    """Mean bytes allocated by one call of fn(), over n calls with the collector off."""
+    gc.collect()
+    gc.disable()
+    try:
+        a = gc.mem_alloc()
+        for _ in range(n):
+            fn()
+        return (gc.mem_alloc() - a) / n
+    finally:
+        gc.enable()
+
+
+def breakdown():
+    """(label, bytes per call) for the core functions one feed uses."""
+    p0, p1, t1, rh = 90000.0, 89950.0, 279.9, 50.0
+    far = 50000.0
+    return [
+        ("math.log(p0 / p1) (for scale)", per_call(lambda: math.log(p0 / p1), 200)),
+        ("ln_ratio(p0, p1), consecutive readings (series branch)",
+         per_call(lambda: tinygeo.ln_ratio(p0, p1), 200)),
+        ("ln_ratio(p0, p0/1.8), far apart (log branch)", per_call(lambda: tinygeo.ln_ratio(p0, far), 200)),
+        ("layer_thickness(p0, p1, tv0, tv1)", per_call(lambda: tinygeo.layer_thickness(p0, p1, 280.0, t1), 200)),
+        ("virtual_temperature(t, p, rh)", per_call(lambda: tinygeo.virtual_temperature(t1, p1, rh), 200)),
+        ("virtual_temperature_from_mixing_ratio(t, w)",
+         per_call(lambda: tinygeo.virtual_temperature_from_mixing_ratio(t1, 0.005), 200)),
+        ("errors.as_finite(name, x, unit)", per_call(lambda: errors.as_finite("p_pa", p1, "Pa"), 200)),
+        ("geometric_height(gph, lat) (column: 2 per new node pair)",
+         per_call(lambda: tinygeo.geometric_height(5000.0, LAT_DEG), 10)),
+    ]
+
+
+def _own_floats(obj, shared):
+    # distinct float objects held by obj's attributes, not counting `shared`
+    # (the module's nan that every not-yet-known result points to)
+    seen = {}
+    d = obj.__dict__
+    for k in d:
+        v = d[k]
+        if isinstance(v, float) and v is not shared:
+            seen[id(v)] = 1
+    return len(seen)
 
 
 def retained_growth():
+    """Feed LONG_RUN readings; after 1 000 and every 10 000 feeds collect and
+    record (feeds, phase, growth B, new own-float attributes, growth they do
+    not explain B)."""
+    import tinygeo.column as column_module
+    nan = column_module._NAN
     sensor = SimulatedFlight(0.079)
     column = Column(LAT_DEG, LAUNCH_HEIGHT_M, on_event=_on_event)
+    # results go to preallocated int arrays: storing a small int allocates
+    # nothing, so the bookkeeping cannot look like growth
+    slots = LONG_RUN // 10000 + 1
+    cols = [array("i", [0] * slots) for _ in range(5)]
+    k = 0
     gc.collect()
-    before = gc.mem_alloc()
-    n, at_warm = _long_run(column, sensor, 1000)
-    gc.collect()
-    after = gc.mem_alloc()
-    return n, column.count, before, at_warm, after
+    base = gc.mem_alloc()
+    own0 = _own_floats(column, nan) + _own_floats(sensor, None)
+    n = 0
+    while n < LONG_RUN and sensor.read():
+        if sensor.t_k != sensor.t_k:
+            continue
+        column.feed(sensor.p_pa, sensor.t_k, sensor.rh_pct, sensor.time_s, sensor.gps_m)
+        n += 1
+        if n % 10000 == 0 or n == 1000:
+            gc.collect()
+            grown = gc.mem_alloc() - base
+            own = _own_floats(column, nan) + _own_floats(sensor, None) - own0
+            cols[0][k] = n
+            cols[1][k] = column.phase
+            cols[2][k] = grown
+            cols[3][k] = own
+            cols[4][k] = grown - BLOCK * own
+            k += 1
+    return [tuple(c[i] for c in cols) for i in range(k)]
 
 
 def main():
@@ -151,7 +212,7 @@ def main():
         print("gc.mem_alloc() is MicroPython-only: run  MICROPYPATH=. micropython bench/heap.py")
         return 1
     print("MicroPython %s, %s; GC block %d B (64-bit unix runtime)" % (
-        ".".join(str(v) for v in sys.implementation.version[:3]), sys.platform, 32))
+        ".".join(str(v) for v in sys.implementation.version[:3]), sys.platform, BLOCK))
 
     gc.collect()
     a = gc.mem_alloc()
@@ -160,35 +221,49 @@ def main():
     print("one Column object: %d B retained; checkpoint blob %d B" % (
         gc.mem_alloc() - a, len(column.to_bytes())))
 
-    n, acc, mean, most, at, over = per_feed(column, SimulatedFlight(1.0), True)
+    n, mean, most, at, over = per_feed(column, SimulatedFlight(1.0), True)
     print("")
-    print("feed, every feature on (rh, time, GPS every 10th, events + on_event), %d readings, %d accepted:" % (n, acc))
-    print("  mean %.1f B/feed (%.1f float-sized blocks), max %d B at reading %d, %d feeds over %d B" % (
-        mean, mean / 32.0, most, at, over, FEED_BUDGET))
-    print("  budget <= %d B/feed -> %s" % (FEED_BUDGET, "met" if most <= FEED_BUDGET else "MISSED (max)"))
-    gc.collect()
-    print("  retained after the flight and a collect: %d B in use" % gc.mem_alloc())
+    print("1. feed, every feature on (rh, time, sigma, GPS every 10th, events + on_event), %d feeds:" % n)
+    print("   mean %.1f B/feed (%.1f blocks), max %d B at reading %d, %d feeds over %d B" % (
+        mean, mean / BLOCK, most, at, over, FEED_BUDGET))
+    print("   budget <= %d B/feed: mean %s, max %s" % (
+        FEED_BUDGET, "met" if mean <= FEED_BUDGET else "MISSED", "met" if most <= FEED_BUDGET else "MISSED"))
 
-    bare = Column(LAT_DEG, LAUNCH_HEIGHT_M, dry_fallback=True)
-    n, acc, mean, most, at, over = per_feed(bare, SimulatedFlight(1.0), False)
+    bare = Column(LAT_DEG, LAUNCH_HEIGHT_M, dry_fallback=True, on_event=None)
+    n, mean, most, at, over = per_feed(bare, SimulatedFlight(1.0), False)
     print("")
-    print("feed, optional inputs off (p, t only; dry; no time, GPS, callback), %d accepted:" % acc)
-    print("  mean %.1f B/feed (%.1f blocks), max %d B at reading %d" % (mean, mean / 32.0, most, at))
+    print("2. feed, optional inputs off (p, t only: dry, no time, no GPS, no callback), %d feeds:" % n)
+    print("   mean %.1f B/feed (%.1f blocks), max %d B at reading %d" % (mean, mean / BLOCK, most, at))
 
-    n, mean, h = bare_integration(SimulatedFlight(1.0), False)
+    n, mean = bare_integration(SimulatedFlight(1.0), False)
     print("")
-    print("bare integration, h += layer_thickness(p0, p1, t0, t1), %d steps: %.1f B/step (%.1f blocks)" % (
-        n, mean, mean / 32.0))
-    n, mean, h = bare_integration(SimulatedFlight(1.0), True)
-    print("  with tv = virtual_temperature(t, p, rh) each step, %d steps: %.1f B/step (%.1f blocks)" % (
-        n, mean, mean / 32.0))
+    print("3. bare integration, h += layer_thickness(p0, p1, t0, t1), %d steps: %.1f B/step (%.1f blocks)" % (
+        n, mean, mean / BLOCK))
+    n, mean = bare_integration(SimulatedFlight(1.0), True)
+    print("   with tv = virtual_temperature(t, p, rh) each step, %d steps: %.1f B/step (%.1f blocks)" % (
+        n, mean, mean / BLOCK))
 
-    n, acc, before, warm, after = retained_growth()
     print("")
-    print("retained heap over %d feeds (%d accepted), every feature on, after gc.collect():" % (n, acc))
-    print("  before %d B, after 1000 feeds %d B, after %d feeds %d B" % (before, warm, n, after))
-    print("  growth over the run %+d B, after warm-up %+d B -> %s" % (
-        after - before, after - warm, "no growth" if after <= warm else "GROWS"))
+    print("4. where the bytes go (bytes per call, collector off):")
+    for label, b in breakdown():
+        print("   %-58s %7.1f B %6.1f blocks" % (label, b, b / BLOCK))
+    lean = Column(LAT_DEG, LAUNCH_HEIGHT_M, on_event=_on_event, track_sigma=False)
+    n, mean, most, at, over = per_feed(lean, SimulatedFlight(1.0), True)
+    print("   feed as in 1. but track_sigma=False: mean %.1f B/feed (%.1f blocks), max %d B" % (
+        mean, mean / BLOCK, most))
+
+    rows = retained_growth()
+    print("")
+    print("5. retained heap over %d feeds, every feature on (gc.collect() then gc.mem_alloc()):" % rows[-1][0])
+    print("   %7s %5s %10s %11s %9s" % ("feeds", "phase", "growth B", "own floats", "other B"))
+    for r in rows:
+        print("   %7d %5d %10d %11d %9d" % r)
+    later = [r[4] for r in rows[1:]]
+    spread = max(later) - min(later)
+    print("   own floats: result attributes that went from the shared nan to a float of their own")
+    print("   (levels, tropopause, burst, landing...), one %d-B block each; other = growth - those." % BLOCK)
+    print("   'other' from 10 000 to %d feeds varies by %d B -> %s" % (
+        rows[-1][0], spread, "no growth" if spread <= BLOCK else "GROWS"))
     return 0
 
 

@@ -5,26 +5,30 @@ Run from the repository root with the venv active::
     python bench/speed.py
 
 One run prints both interpreters' figures: it first counts, under CPython,
-how many ``math.log`` calls and float multiplications/divisions one ``feed``
-executes on average over the simulated flight (opcode tracing of the core's
-code plus a counting ``math.log``), then times ``feed`` under CPython and under
-the MicroPython unix runtime (``micropython bench/speed.py --here --logs L
---mults M`` as a subprocess). In each interpreter the same run also times a
-*baseline* loop that does exactly that many ``math.log`` calls and
-multiplications per reading over the same input lists, and prints the ratio
-feed / baseline, which stays comparable on a noisy or different machine.
+how many calls of each ``math`` function (``log``, ``exp``, ...) and how many
+float multiplications/divisions one ``feed`` executes on average over the
+simulated flight (opcode tracing of the core's code plus counting wrappers
+around every ``math`` function), then times ``feed`` under CPython and under
+the MicroPython unix runtime (``micropython bench/speed.py --here --calls
+exp=1 --mults M`` as a subprocess). In each interpreter the same run also
+times a *baseline* loop that does exactly those math calls (rounded to whole
+calls) and that many multiplications per reading over the same input lists,
+and prints the ratio feed / baseline, which stays comparable on a noisy or
+different machine.
 
-Readings: the whole flight of ``ports/micropython/flightsim.py`` at 2 s steps
+Readings: the whole flight of ``ports/micropython/flightsim.py`` at 5 s steps
 (ground wait, ascent, burst, descent, landing; the one failed reading is
 dropped), with humidity, time and a GPS height every tenth reading, fed to a
 fresh Column with event detection and an ``on_event`` callback. Each timing
-is the best of 5 passes.
+is the best of 9 passes, feed and baseline passes taken in turn.
 
-Options: ``--here`` (time only the running interpreter), ``--logs L`` and
-``--mults M`` (baseline counts; default: count them, CPython only).
+Options: ``--here`` (time only the running interpreter), ``--calls
+log=L,exp=E`` and ``--mults M`` (baseline counts; default: count them, CPython
+only).
 """
 import math
 import sys
+from array import array
 
 try:
     from time import perf_counter as _clock
@@ -48,8 +52,9 @@ from tinygeo.column import Column             # noqa: E402
 from flightsim import SimulatedFlight, LAUNCH_HEIGHT_M  # noqa: E402
 
 LAT_DEG = 48.2
-PASSES = 5
-STEP_S = 2.0
+PASSES = 9
+_NAN = float("nan")
+STEP_S = 5.0
 
 
 def _on_event(column, bits):
@@ -57,45 +62,61 @@ def _on_event(column, bits):
 
 
 def readings():
-    """The flight as five lists (p, t, rh, time, gps), failed readings dropped."""
+    """The flight as five arrays of doubles (p, t, rh, time, gps; nan where a
+    humidity or GPS height is missing), failed readings dropped.
+
+    Arrays, not lists of floats: their values sit in one block each, while a
+    list's float objects would be scattered through MicroPython's heap between
+    the simulator's garbage and leave no large free block (a Column could not
+    even be created afterwards on the default 2 MB heap)."""
     s = SimulatedFlight(STEP_S)
-    ps, ts, rhs, times, gpss = [], [], [], [], []
+    n = 0
+    while s.read():
+        if s.t_k == s.t_k:
+            n += 1
+    cols = [array("d", [0.0] * n) for _ in range(5)]
+    ps, ts, rhs, times, gpss = cols
+    s = SimulatedFlight(STEP_S)
+    i = 0
     while s.read():
         if s.t_k != s.t_k:
             continue
-        ps.append(s.p_pa)
-        ts.append(s.t_k)
-        rhs.append(s.rh_pct)
-        times.append(s.time_s)
-        gpss.append(s.gps_m)
+        ps[i] = s.p_pa
+        ts[i] = s.t_k
+        rhs[i] = _NAN if s.rh_pct is None else s.rh_pct
+        times[i] = s.time_s
+        gpss[i] = _NAN if s.gps_m is None else s.gps_m
+        i += 1
     return ps, ts, rhs, times, gpss
 
 
-def time_feeds(data):
+def feed_pass(data):
+    """Seconds per feed of one pass over the data with a fresh Column."""
     ps, ts, rhs, times, gpss = data
     n = len(ps)
-    best = 1e9
-    for _ in range(PASSES):
-        col = Column(LAT_DEG, LAUNCH_HEIGHT_M, on_event=_on_event)
-        feed = col.feed
-        t0 = _clock()
-        for i in range(n):
-            feed(ps[i], ts[i], rhs[i], times[i], gpss[i])
-        dt = _elapsed_s(t0)
-        if dt < best:
-            best = dt
-    return best / n
+    col = Column(LAT_DEG, LAUNCH_HEIGHT_M, on_event=_on_event)
+    feed = col.feed
+    t0 = _clock()
+    for i in range(n):
+        rh = rhs[i]
+        g = gpss[i]
+        feed(ps[i], ts[i], None if rh != rh else rh, times[i], None if g != g else g)
+    return _elapsed_s(t0) / n
 
 
-def make_baseline(logs, mults):
-    """Compile a loop doing ``logs`` math.log calls and ``mults`` float
-    multiplications per reading, reading the same five lists as the feed loop."""
+def make_baseline(calls, mults):
+    """Compile a loop doing, per reading, the math calls in ``calls`` (a list
+    of (name, count), e.g. [("log", 1), ("exp", 1)]) and ``mults`` float
+    multiplications, reading the same five lists as the feed loop."""
     body = ["def baseline(ps, ts, rhs, times, gpss):",
             "    n = len(ps)",
             "    for i in range(n):",
-            "        p = ps[i]; t = ts[i]; rh = rhs[i]; tm = times[i]; g = gpss[i]"]
-    for _ in range(logs):
-        body.append("        x = math.log(p)")
+            "        p = ps[i]; t = ts[i]; rh = rhs[i]; tm = times[i]; g = gpss[i]",
+            "        rh = None if rh != rh else rh; g = None if g != g else g",
+            "        x = t * 0.001"]
+    for name, count in calls:
+        for _ in range(count):
+            body.append("        y = math.%s(x)" % name)
     for _ in range(mults):
         body.append("        y = p * t")
     body.append("    return n")
@@ -104,17 +125,18 @@ def make_baseline(logs, mults):
     return scope["baseline"]
 
 
-def time_baseline(data, logs, mults):
-    fn = make_baseline(logs, mults)
+def time_both(data, calls, mults):
+    """Best-of-PASSES seconds per reading of the feed loop and of the baseline,
+    passes interleaved so that a burst of load on the machine hits both."""
+    fn = make_baseline(calls, mults)
     n = len(data[0])
-    best = 1e9
+    best_feed = best_base = 1e9
     for _ in range(PASSES):
+        best_feed = min(best_feed, feed_pass(data))
         t0 = _clock()
         fn(*data)
-        dt = _elapsed_s(t0)
-        if dt < best:
-            best = dt
-    return best / n
+        best_base = min(best_base, _elapsed_s(t0) / n)
+    return best_feed, best_base
 
 
 def count_ops(data):
@@ -132,7 +154,8 @@ def count_ops(data):
     arith = set(i for i, n in names.items() if n in (
         "NB_MULTIPLY", "NB_INPLACE_MULTIPLY", "NB_TRUE_DIVIDE", "NB_INPLACE_TRUE_DIVIDE",
         "NB_ADD", "NB_INPLACE_ADD", "NB_SUBTRACT", "NB_INPLACE_SUBTRACT", "NB_POWER", "NB_INPLACE_POWER"))
-    counts = {"mul": 0, "arith": 0, "log": 0, "exp": 0, "sqrt": 0, "pow": 0}
+    counts = {"mul": 0, "arith": 0}
+    calls = {}
 
     def tracer(frame, event, arg):
         if "tinygeo" not in frame.f_code.co_filename:
@@ -149,11 +172,15 @@ def count_ops(data):
         return tracer
 
     saved = {}
-    for name in ("log", "exp", "sqrt", "pow"):
-        saved[name] = getattr(math, name)
+    for name in dir(math):
+        f = getattr(math, name)
+        if name.startswith("_") or not callable(f):
+            continue
+        saved[name] = f
+        calls[name] = 0
 
-        def counting(*args, _f=saved[name], _n=name):
-            counts[_n] += 1
+        def counting(*args, _f=f, _n=name):
+            calls[_n] += 1
             return _f(*args)
         setattr(math, name, counting)
     ps, ts, rhs, times, gpss = data
@@ -161,43 +188,50 @@ def count_ops(data):
     sys.settrace(tracer)
     try:
         for i in range(len(ps)):
-            col.feed(ps[i], ts[i], rhs[i], times[i], gpss[i])
+            rh = rhs[i]
+            g = gpss[i]
+            col.feed(ps[i], ts[i], None if rh != rh else rh, times[i], None if g != g else g)
     finally:
         sys.settrace(None)
         for name, f in saved.items():
             setattr(math, name, f)
     n = float(len(ps))
-    return dict((k, v / n) for k, v in counts.items())
+    used = sorted((k, v / n) for k, v in calls.items() if v)
+    return counts["mul"] / n, counts["arith"] / n, used
 
 
-def report(name, data, logs, mults):
-    feed_s = time_feeds(data)
-    base_s = time_baseline(data, logs, mults)
-    print("%s: feed %.2f us, baseline (%d math.log + %d multiplications) %.2f us, ratio %.2f"
-          % (name, feed_s * 1e6, logs, mults, base_s * 1e6, feed_s / base_s))
+def report(name, data, calls, mults):
+    feed_s, base_s = time_both(data, calls, mults)
+    what = " + ".join("%d math.%s" % (c, n) for n, c in calls) or "no math calls"
+    print("%s: feed %.2f us, baseline (%s + %d multiplications) %.3f us, ratio feed/baseline %.2f"
+          % (name, feed_s * 1e6, what, mults, base_s * 1e6, feed_s / base_s))
 
 
-def _arg(argv, name, default):
-    if name in argv:
-        return int(argv[argv.index(name) + 1])
-    return default
+def _parse_calls(text):
+    calls = []
+    for item in text.split(","):
+        if item:
+            name, count = item.split("=")
+            calls.append((name, int(count)))
+    return calls
 
 
 def main(argv):
     data = readings()
     impl = sys.implementation.name
-    logs = _arg(argv, "--logs", -1)
-    mults = _arg(argv, "--mults", -1)
-    if logs < 0 or mults < 0:
+    if "--calls" in argv and "--mults" in argv:
+        calls = _parse_calls(argv[argv.index("--calls") + 1])
+        mults = int(argv[argv.index("--mults") + 1])
+    else:
         if impl != "cpython":
-            raise SystemExit("give --logs L --mults M under %s (counting needs CPython)" % impl)
-        c = count_ops(data)
-        print("per feed, mean over %d readings (CPython opcode trace): math.log %.2f, math.exp %.2f, "
-              "math.sqrt %.2f, math.pow %.2f, multiplications+divisions %.2f, all float arithmetic %.2f"
-              % (len(data[0]), c["log"], c["exp"], c["sqrt"], c["pow"], c["mul"], c["arith"]))
-        logs = int(c["log"] + 0.5)
-        mults = int(c["mul"] + 0.5)
-    report("%s %s" % (impl, sys.version.split()[0]), data, logs, mults)
+            raise SystemExit("give --calls NAME=N,... --mults M under %s (counting needs CPython)" % impl)
+        mul, arith, used = count_ops(data)
+        print("per feed, mean over %d readings (CPython opcode trace of tinygeo code): %s; "
+              "multiplications+divisions %.2f; all binary float arithmetic (+ - * / **) %.2f"
+              % (len(data[0]), ", ".join("math.%s %.3f" % u for u in used) or "no math calls", mul, arith))
+        calls = [(n, int(c + 0.5)) for n, c in used if int(c + 0.5) > 0]
+        mults = int(mul + 0.5)
+    report("%s %s" % (impl, ".".join(str(v) for v in sys.implementation.version[:3])), data, calls, mults)
     if "--here" in argv or impl != "cpython":
         return 0
     import os
@@ -205,7 +239,8 @@ def main(argv):
     exe = os.path.join(os.path.dirname(sys.executable), "micropython")
     root = os.path.dirname(os.path.dirname(os.path.abspath(__file__)))
     env = dict(os.environ, MICROPYPATH=root)
-    p = subprocess.run([exe, os.path.join("bench", "speed.py"), "--here", "--logs", str(logs),
+    arg_calls = ",".join("%s=%d" % c for c in calls)
+    p = subprocess.run([exe, os.path.join("bench", "speed.py"), "--here", "--calls", arg_calls,
                         "--mults", str(mults)], capture_output=True, text=True, env=env, cwd=root)
     sys.stdout.write(p.stdout)
     if p.returncode != 0:
