@@ -284,6 +284,57 @@ def test_compare_float32_device_against_host(tmp_path):
     assert "first offending: line " in out
 
 
+MP_LOGGER = r"""
+import sys
+from tinygeo.column import Column
+from tinygeo.errors import ReadingError
+from tinygeo.host import table
+levels = []
+def tap(col, bits):
+    if bits & table.EV_LEVEL:
+        levels.append(col.level_p_pa)
+col = Column(47.3, 420.0)
+col.on_event = tap
+print(table.MAGIC)
+print(table.SITE_PREFIX + "lat_deg=47.3 start_height_m=420")
+print(table.HEADER)
+n = 0
+nan = float("nan")
+for raw in open(sys.argv[1]):
+    n += 1
+    f = raw.strip().split(",")
+    if raw[0] == "#" or f[0] == "time_s":
+        continue
+    p = float(f[1]) * 100.0
+    t = float(f[2]) + 273.15
+    rh = float(f[3]) if f[3] else None
+    ts = float(f[0])
+    del levels[:]
+    try:
+        bits = col.feed(p, t, rh, ts, None)
+    except ReadingError:
+        continue
+    print(table.format_row(n, ts, p, t, nan if rh is None else rh, nan, nan, col.gph_m,
+                           col.height_m, col.rate_m_s, col.sigma_m, col.flags,
+                           table.events_text(bits, levels)))
+"""
+
+
+@pytest.mark.skipif(not shutil.which("micropython"), reason="micropython not installed")
+def test_compare_a_table_written_under_micropython(tmp_path):
+    # the device side: MicroPython (unix port) runs the column and writes the
+    # table with tinygeo.host.table.format_row, as a logger on a board would
+    log, script, dev = tmp_path / "f.csv", tmp_path / "logger.py", tmp_path / "dev.tsv"
+    run("simulate", "--seed", 9, "--burst", 5000, "--no-gps", "-o", log)
+    script.write_text(MP_LOGGER)
+    p = subprocess.run(["micropython", str(script), str(log)], capture_output=True, text=True,
+                       env=dict(os.environ, MICROPYPATH=str(ROOT)), timeout=120)
+    assert p.returncode == 0, p.stdout[-2000:] + p.stderr[-2000:]
+    dev.write_text(p.stdout)
+    out, _ = run("compare", dev, "--log", log)
+    assert "result: PASS" in out and "readings on one side only: 0" in out
+
+
 # --- plot ------------------------------------------------------------------------
 def _png_size(path):
     data = Path(path).read_bytes()

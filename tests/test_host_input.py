@@ -240,3 +240,10 @@ def test_damaged_lines_are_skipped_and_counted(text):
         assert err.count("tinygeo replay: rejected") == min(counts["rejected"], 20)
     else:
         assert err.count("tinygeo: error:") == 1
+
+
+def test_semicolons_with_decimal_commas():
+    text = GOOD_HEAD.replace(",", ";") + GOOD_ROWS.replace(",", ";").replace(".", ",")
+    rc, out, err = replay(text)
+    assert rc == 0, err
+    assert out == replay(GOOD_HEAD + GOOD_ROWS)[1]     # the same table, byte for byte

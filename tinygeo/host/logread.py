@@ -17,6 +17,8 @@ neither given nor in its header name gets it from the first value read
 (pressure >= 1200 is Pa, else hPa; temperature >= 100 is K, else degC;
 a time that is not a number is an ISO-8601 timestamp), and a note says so.
 
+Numbers may use a decimal comma when the delimiter is not a comma.
+
 Problems with the log as a whole (no header, unknown column, a declared unit
 the values contradict...) raise :class:`InputError` (exit status 2); problems
 with one line raise :class:`tinygeo.errors.ReadingError` with a ``reason``
@@ -321,8 +323,16 @@ class LogReader:
         try:
             x = _parse_float(text)
         except ValueError:
-            raise _bad("line %d: %s %r in column %r is not a number" % (lineno, q, text[:30], name),
-                       "number", lineno)
+            if "," in text and self.delimiter != ",":
+                try:   # a decimal comma (12,5) in a log not separated by commas
+                    x = _parse_float(text.replace(",", "."))
+                except ValueError:
+                    x = None
+            else:
+                x = None
+            if x is None:
+                raise _bad("line %d: %s %r in column %r is not a number" % (
+                    lineno, q, text[:30], name), "number", lineno)
         if q not in self._checked:
             unit = self._check_unit(q, x, lineno)
         f, o = TO_SI[unit]
