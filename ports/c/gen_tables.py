@@ -45,8 +45,26 @@ def _is_number_expr(node):
     return False
 
 
+_LINES = {}
+
+
+def _segment(src, node):
+    # ast.get_source_segment re-splits the whole source on every call; same
+    # result, lines split once per module
+    lines = _LINES.get(id(src))
+    if lines is None or lines[0] is not src:
+        lines = _LINES[id(src)] = (src, src.splitlines(True))
+    lines = lines[1]
+    l0, l1 = node.lineno - 1, node.end_lineno - 1
+    enc = [ln.encode("utf-8") for ln in lines[l0:l1 + 1]]
+    if l0 == l1:
+        return enc[0][node.col_offset:node.end_col_offset].decode("utf-8")
+    parts = [enc[0][node.col_offset:]] + enc[1:-1] + [enc[-1][:node.end_col_offset]]
+    return b"".join(parts).decode("utf-8")
+
+
 def _c_number(src, node):
-    text = ast.get_source_segment(src, node)
+    text = _segment(src, node)
     text = " ".join(text.split())
     if isinstance(node, ast.Constant) and isinstance(node.value, int):
         # an int literal in the Python source: keep it an integer in C too

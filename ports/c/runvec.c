@@ -60,6 +60,30 @@ static tg_status w_sea_level_pressure6(const TG_FLOAT *a, TG_FLOAT *o) { return 
 static tg_status w_qfe3(const TG_FLOAT *a, TG_FLOAT *o) { return tg_qfe(A(0), A(1), A(2), NULL, 0, o); }
 static tg_status w_qfe4(const TG_FLOAT *a, TG_FLOAT *o) { return tg_qfe(A(0), A(1), A(2), &a[3], 0, o); }
 static tg_status w_qfe5(const TG_FLOAT *a, TG_FLOAT *o) { return tg_qfe(A(0), A(1), A(2), &a[3], ICE(4), o); }
+static tg_status w_ussa76_geopotential_height(const TG_FLOAT *a, TG_FLOAT *o) { return tg_ussa76_geopotential_height(A(0), o); }
+static tg_status w_ussa76_geometric_height(const TG_FLOAT *a, TG_FLOAT *o) { return tg_ussa76_geometric_height(A(0), o); }
+
+/* An extra last argument 0, 1 or 2 selects the ellipsoid: tg_wgs84, tg_grs80,
+ * or a copy of WGS 84 without a geopotential series (TG_ELLIPSOID). Used by
+ * tests/test_c_port.py, which passes the same ellipsoids to Python. */
+static const tg_ellipsoid *ell(TG_FLOAT code)
+{
+    static tg_ellipsoid bare;
+    if (code == (TG_FLOAT)1)
+        return &tg_grs80;
+    if (code == (TG_FLOAT)2) {
+        bare = tg_wgs84;
+        bare.name = "BARE";
+        bare.series = NULL;
+        return &bare;
+    }
+    return &tg_wgs84;
+}
+static tg_status w_normal_gravity_e(const TG_FLOAT *a, TG_FLOAT *o) { return tg_normal_gravity(A(0), A(1), ell(A(2)), o); }
+static tg_status w_somigliana_gravity_e(const TG_FLOAT *a, TG_FLOAT *o) { return tg_somigliana_gravity(A(0), ell(A(1)), o); }
+static tg_status w_geopotential_e(const TG_FLOAT *a, TG_FLOAT *o) { return tg_geopotential(A(0), A(1), ell(A(2)), o); }
+static tg_status w_geopotential_height_e(const TG_FLOAT *a, TG_FLOAT *o) { return tg_geopotential_height(A(0), A(1), ell(A(2)), o); }
+static tg_status w_geometric_height_e(const TG_FLOAT *a, TG_FLOAT *o) { return tg_geometric_height(A(0), A(1), ell(A(2)), o); }
 static tg_status w_qnh(const TG_FLOAT *a, TG_FLOAT *o) { return tg_qnh(A(0), A(1), o); }
 static tg_status w_indicated_altitude(const TG_FLOAT *a, TG_FLOAT *o) { return tg_indicated_altitude(A(0), A(1), o); }
 
@@ -103,6 +127,13 @@ static const struct { const char *name; int nargs; fn_t fn; } MAP[] = {
     {"qfe", 5, w_qfe5},
     {"qnh", 2, w_qnh},
     {"indicated_altitude", 2, w_indicated_altitude},
+    {"ussa76_geopotential_height", 1, w_ussa76_geopotential_height},
+    {"ussa76_geometric_height", 1, w_ussa76_geometric_height},
+    {"normal_gravity", 3, w_normal_gravity_e},
+    {"somigliana_gravity", 2, w_somigliana_gravity_e},
+    {"geopotential", 3, w_geopotential_e},
+    {"geopotential_height", 3, w_geopotential_height_e},
+    {"geometric_height", 3, w_geometric_height_e},
 };
 #define NMAP ((int)(sizeof MAP / sizeof MAP[0]))
 
