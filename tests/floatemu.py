@@ -81,6 +81,18 @@ compiled (the files on disk are not touched):
   of the same name in the real module, so ``pytest.raises(RangeError)`` and
   ``except TinygeoError`` work across real and emulated code.
 
+Evidence (tests/test_floatemu.py, tests/microbit/observed.txt)
+----------------------------------------------------------------
+f32, r30t and r30f agree bit for bit with numpy.float32 arithmetic (with the
+storing rule applied through numpy bit operations) on + - * / sqrt, chains,
+Horner and sums; the math wrappers equal mpmath rounded to 24 bits. Against
+a real 30-bit runtime (MicroPython 1.9.2 on an emulated micro:bit) mode r30t
+agrees bit for bit on all arithmetic (+ - * /, int operands, chains, sums,
+sqrt) and on tinygeo.layers' own ln_ratio/layer_thickness code except where
+the device's libm (logf, powf, sinf, atan2f) or its decimal parser is off by
+one 30-bit step; r30f and f32 do not match that firmware (it predates v1.26).
+r30f is checked against numpy only: no v1.26+ REPR_C runtime was available.
+
 Not emulated (documented limits)
 --------------------------------
 * comparisons are done on the domain values (exact on the device too; the
