@@ -253,8 +253,9 @@ from .errors import (TinygeoError, RangeError, ReadingError, CheckpointError, ch
 
 try:
     from binascii import crc32 as _crc32
+    _HAVE_CRC32 = True
 except ImportError:  # pragma: no cover - firmware without binascii.crc32
-    _crc32 = None
+    _HAVE_CRC32 = False
 
 # --- events, flags, phases ----------------------------------------------------
 EV_LEVEL = 1
@@ -301,19 +302,22 @@ _RH_SLOPE_MIN = 1.0        # %RH below which dTv/dRH is held, not recomputed
 
 def _crc(data):
     """CRC-32 (IEEE 802.3, reflected polynomial 0xEDB88320, as zlib/binascii)."""
-    if _crc32 is not None:
+    if _HAVE_CRC32:
         return _crc32(data) & 0xFFFFFFFF
     return _crc_soft(data)
 
 
-_CRC_NIBBLE = []
-for _i in range(16):
-    _c = _i
-    for _j in range(4):
-        _c = (_c >> 1) ^ (0xEDB88320 if _c & 1 else 0)
-    _CRC_NIBBLE.append(_c)
-_CRC_NIBBLE = tuple(_CRC_NIBBLE)
-del _i, _j, _c
+def _crc_table():
+    out = []
+    for i in range(16):
+        c = i
+        for _ in range(4):
+            c = (c >> 1) ^ (0xEDB88320 if c & 1 else 0)
+        out.append(c)
+    return tuple(out)
+
+
+_CRC_NIBBLE = _crc_table()
 
 
 def _crc_soft(data):
@@ -426,9 +430,56 @@ class Column:
         self._burst_n = 0
         self._tp_state = 0
         self._gps_n = -1
-        for name in _ST_F:
-            setattr(self, name, _NAN)
+        # every float of the state (the order of _ST_F, the checkpoint layout)
+        self.p_pa = _NAN
+        self.t_k = _NAN
+        self.tv_k = _NAN
+        self.rh_pct = _NAN
+        self.time_s = _NAN
+        self.gph_m = _NAN
         self._c = 0.0
+        self.height_m = _NAN
+        self.rate_m_s = _NAN
+        self.max_gph_m = _NAN
+        self.launch_time_s = _NAN
+        self.burst_gph_m = _NAN
+        self.burst_time_s = _NAN
+        self.burst_p_pa = _NAN
+        self.level_p_pa = _NAN
+        self.level_gph_m = _NAN
+        self.level_height_m = _NAN
+        self.level_t_k = _NAN
+        self.tropopause_p_pa = _NAN
+        self.tropopause_gph_m = _NAN
+        self.tropopause_t_k = _NAN
+        self.gps_m = _NAN
+        self.gps_diff_m = _NAN
+        self._t_last = _NAN
+        self._g_t = _NAN
+        self._min_gph = _NAN
+        self._launch_gph = _NAN
+        self._max_time = _NAN
+        self._max_p = _NAN
+        self._burst_line = _NAN
+        self._land_lo = _NAN
+        self._land_hi = _NAN
+        self._land_t = _NAN
+        self._h_t = _NAN
+        self._h_p = _NAN
+        self._h_rh = _NAN
+        self._w_held = _NAN
+        self._tp_g = _NAN
+        self._tp_top = _NAN
+        self._tp_th = _NAN
+        self._tp_p = _NAN
+        self._tp_t = _NAN
+        self._n_g = _NAN
+        self._n_h = _NAN
+        self._n_k1 = _NAN
+        self._n_k2 = _NAN
+        self._n_lo = _NAN
+        self._n_hi = _NAN
+        self._h_tm = _NAN
         self._var_done = 0.0
         self._ct = 0.0
         self._cp = 0.0
@@ -438,6 +489,7 @@ class Column:
         self._sum_p = 0.0
         self._slope = 0.0
         self._var_anchor = 0.0
+        self._gps_g = _NAN
 
     # ------------------------------------------------------------------ feed
     def feed(self, p_pa, t_k, rh_pct=None, time_s=None, gps_m=None):
