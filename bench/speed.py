@@ -19,8 +19,11 @@ different machine.
 Readings: the whole flight of ``ports/micropython/flightsim.py`` at 5 s steps
 (ground wait, ascent, burst, descent, landing; the one failed reading is
 dropped), with humidity, time and a GPS height every tenth reading, fed to a
-fresh Column with event detection and an ``on_event`` callback. Each timing
-is the best of 9 passes, feed and baseline passes taken in turn.
+fresh Column with event detection and an ``on_event`` callback. Timing: the
+flight is cut into blocks of 40 readings, each block timed with feed and then
+with the baseline in each of 9 passes; a figure is the sum of each block's
+fastest pass (so both loops are timed in equally short spans and a burst of
+load on the machine does not favour one of them).
 
 Options: ``--here`` (time only the running interpreter), ``--calls
 log=L,exp=E`` and ``--mults M`` (baseline counts; default: count them, CPython
@@ -53,6 +56,7 @@ from flightsim import SimulatedFlight, LAUNCH_HEIGHT_M  # noqa: E402
 
 LAT_DEG = 48.2
 PASSES = 9
+CHUNK = 40          # readings per timed block
 _NAN = float("nan")
 STEP_S = 5.0
 
@@ -90,27 +94,12 @@ def readings():
     return ps, ts, rhs, times, gpss
 
 
-def feed_pass(data):
-    """Seconds per feed of one pass over the data with a fresh Column."""
-    ps, ts, rhs, times, gpss = data
-    n = len(ps)
-    col = Column(LAT_DEG, LAUNCH_HEIGHT_M, on_event=_on_event)
-    feed = col.feed
-    t0 = _clock()
-    for i in range(n):
-        rh = rhs[i]
-        g = gpss[i]
-        feed(ps[i], ts[i], None if rh != rh else rh, times[i], None if g != g else g)
-    return _elapsed_s(t0) / n
-
-
 def make_baseline(calls, mults):
     """Compile a loop doing, per reading, the math calls in ``calls`` (a list
-    of (name, count), e.g. [("log", 1), ("exp", 1)]) and ``mults`` float
-    multiplications, reading the same five lists as the feed loop."""
-    body = ["def baseline(ps, ts, rhs, times, gpss):",
-            "    n = len(ps)",
-            "    for i in range(n):",
+    of (name, count), e.g. [("exp", 1)]) and ``mults`` float multiplications,
+    reading the same five arrays as the feed loop, for readings lo..hi-1."""
+    body = ["def baseline(ps, ts, rhs, times, gpss, lo, hi):",
+            "    for i in range(lo, hi):",
             "        p = ps[i]; t = ts[i]; rh = rhs[i]; tm = times[i]; g = gpss[i]",
             "        rh = None if rh != rh else rh; g = None if g != g else g",
             "        x = t * 0.001"]
@@ -119,24 +108,47 @@ def make_baseline(calls, mults):
             body.append("        y = math.%s(x)" % name)
     for _ in range(mults):
         body.append("        y = p * t")
-    body.append("    return n")
+    body.append("    return hi - lo")
     scope = {"math": math}
     exec("\n".join(body) + "\n", scope)
     return scope["baseline"]
 
 
 def time_both(data, calls, mults):
-    """Best-of-PASSES seconds per reading of the feed loop and of the baseline,
-    passes interleaved so that a burst of load on the machine hits both."""
+    """Seconds per reading of feed and of the baseline.
+
+    The flight is cut into blocks of CHUNK readings; in each pass every block
+    is timed with feed (a fresh Column per pass, so block k always does the
+    same work) and then with the baseline. The figure is the sum over blocks
+    of each block's fastest pass, divided by the readings: both loops are
+    timed in equally short spans, so a burst of load on the machine does not
+    hit one and spare the other."""
+    ps, ts, rhs, times, gpss = data
     fn = make_baseline(calls, mults)
-    n = len(data[0])
-    best_feed = best_base = 1e9
+    n = len(ps)
+    nb = (n + CHUNK - 1) // CHUNK
+    fmin = [1e9] * nb
+    bmin = [1e9] * nb
     for _ in range(PASSES):
-        best_feed = min(best_feed, feed_pass(data))
-        t0 = _clock()
-        fn(*data)
-        best_base = min(best_base, _elapsed_s(t0) / n)
-    return best_feed, best_base
+        col = Column(LAT_DEG, LAUNCH_HEIGHT_M, on_event=_on_event)
+        feed = col.feed
+        for b in range(nb):
+            lo = b * CHUNK
+            hi = min(n, lo + CHUNK)
+            t0 = _clock()
+            for i in range(lo, hi):
+                rh = rhs[i]
+                g = gpss[i]
+                feed(ps[i], ts[i], None if rh != rh else rh, times[i], None if g != g else g)
+            dt = _elapsed_s(t0)
+            if dt < fmin[b]:
+                fmin[b] = dt
+            t0 = _clock()
+            fn(ps, ts, rhs, times, gpss, lo, hi)
+            dt = _elapsed_s(t0)
+            if dt < bmin[b]:
+                bmin[b] = dt
+    return sum(fmin) / n, sum(bmin) / n
 
 
 def count_ops(data):
