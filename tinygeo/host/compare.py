@@ -20,7 +20,6 @@ height_m (``--tol-height``), rate_m_s (``--tol-rate``) or sigma_m
 nan on both sides counts as equal, nan on one side only as an infinite
 difference.
 """
-from tinygeo.errors import ReadingError
 from tinygeo.host import table
 from tinygeo.host import replay as rp
 
