@@ -89,7 +89,7 @@ rh_tol_pct=3.0, track_sigma=True, on_event=None)``
 
 ``feed(p_pa, t_k, rh_pct=None, time_s=None, gps_m=None) -> int`` adds one
 reading and returns the bits of the events it caused (0 = none).
-p_pa: pressure, Pa, 0 < p <= 120000; t_k: air temperature, K, 150..350;
+p_pa: pressure, Pa, 0.1..120000; t_k: air temperature, K, 150..350;
 rh_pct: relative humidity, %, or None; time_s: a time stamp, s, any origin,
 never decreasing, or None; gps_m: GPS height above mean sea level, m,
 -1000..100000, or None (an ellipsoidal GPS height h is converted first with
@@ -106,7 +106,10 @@ Attributes after each accepted reading (nan where not known yet):
   height_m: geometric height above mean sea level, m (see "Geometric height").
   rate_m_s: vertical speed between the two latest readings with a time, m/s
     (nan when this reading has no time; the raw difference, not smoothed).
-  flags (int): FL_* bits of the latest reading.
+  flags (int): FL_* bits of the latest reading: FL_DRY 1 (no humidity, dry
+    air assumed), FL_HELD_MIXING 2 (no humidity, the last mixing ratio used),
+    FL_NO_TIME 4 (no time_s, so no rate), FL_DESCENT 8 (pressure rose:
+    integrating downwards), FL_SAME_P 16 (pressure repeated: nothing added).
   phase (int): PH_WAIT, PH_ASCENT, PH_DESCENT, PH_LANDED.
   max_gph_m: highest gph so far; launch_time_s.
   burst_gph_m, burst_time_s, burst_p_pa: the highest point before the
@@ -184,6 +187,10 @@ EV_BURST: descent confirmed (see burst_drop_m); PH_ASCENT -> PH_DESCENT.
 EV_LANDED: pressure steady after the burst (see landing_s); -> PH_LANDED.
 EV_LAUNCH: the rise of launch_m above the waiting height; PH_WAIT ->
   PH_ASCENT.
+Bit values: EV_LEVEL 1, EV_TROPOPAUSE 2, EV_BURST 4, EV_LANDED 8,
+EV_LAUNCH 16; phases PH_WAIT 0, PH_ASCENT 1, PH_DESCENT 2, PH_LANDED 3.
+Phases only move forward: a rise after the confirmed descent is integrated
+but starts no new ascent.
 
 Uncertainty
 -----------
@@ -280,6 +287,9 @@ MANDATORY_PA = (100000.0, 92500.0, 85000.0, 70000.0, 50000.0, 40000.0, 30000.0, 
 """WMO mandatory (standard isobaric) levels, Pa: 1000 ... 10 hPa (WMO-No. 306
 Manual on Codes and WMO-No. 49 Technical Regulations, from memory)."""
 
+P_MIN_PA = 0.1
+"""Lowest pressure accepted, Pa (as tinygeo.layers; below the 0.37 Pa top of
+the U.S. Standard Atmosphere 1976)."""
 P_MAX_PA = 120000.0
 """Highest pressure accepted, Pa (no sensor reads more; 1200 hPa)."""
 T_MIN_K = 150.0
@@ -495,7 +505,7 @@ class Column:
     def feed(self, p_pa, t_k, rh_pct=None, time_s=None, gps_m=None):
         """Add one reading; return the bits (EV_*) of the events it caused, 0 if none.
 
-        p_pa: pressure, Pa, 0 < p <= 120000; t_k: temperature, K, 150..350;
+        p_pa: pressure, Pa, 0.1..120000; t_k: temperature, K, 150..350;
         rh_pct: relative humidity, %, -rh_tol_pct..100 + rh_tol_pct, or None;
         time_s: time stamp, s, not below the latest one given, or None;
         gps_m: GPS height above mean sea level, m, -1000..100000, or None.
@@ -504,9 +514,9 @@ class Column:
         """
         # ---- 1. check the values (nothing is written before step 3)
         p = self._num(p_pa, "p_pa", "Pa")
-        if not 0.0 < p <= P_MAX_PA:
-            self._bad("pressure", "p_pa=%s outside 0..%g Pa (0 excluded)%s"
-                      % (_fmt(p_pa), P_MAX_PA, _hint(pressure_hint(p))))
+        if not P_MIN_PA <= p <= P_MAX_PA:
+            self._bad("pressure", "p_pa=%s outside %g..%g Pa%s"
+                      % (_fmt(p_pa), P_MIN_PA, P_MAX_PA, _hint(pressure_hint(p))))
         t = self._num(t_k, "t_k", "K")
         if not T_MIN_K <= t <= T_MAX_K:
             self._bad("temperature", "t_k=%s outside %g..%g K%s"
