@@ -677,3 +677,30 @@ def test_constructor_rejects_bad_settings():
     with pytest.raises(RangeError):
         Column(45.0, ellipsoid="WGS72")
     assert Column(45.0).phase == PH_WAIT
+
+
+reading = st.tuples(
+    st.one_of(st.floats(0.05, 130000.0), st.sampled_from([0.1, 120000.0, NAN])),
+    st.one_of(st.floats(140.0, 360.0), st.just(350.0)),
+    st.one_of(st.none(), st.floats(-5.0, 106.0)),
+    st.one_of(st.none(), st.floats(-10.0, 1e5)),
+    st.one_of(st.none(), st.floats(-2000.0, 1.2e5)))
+
+
+@settings(max_examples=100, deadline=None)
+@given(st.lists(reading, max_size=40), st.booleans(), st.booleans())
+def test_fuzzed_readings_raise_only_reading_errors(rows, anchored, lean):
+    # any mix of extreme but well-typed readings: either accepted or rejected
+    # with ReadingError (never another exception), and a checkpoint of the
+    # result restores to the same state
+    col = Column(-33.0, start_height_m=25.0, anchor_p_pa=101000.0 if anchored else None,
+                 track_sigma=not lean)
+    for row in rows:
+        before = snapshot(col)
+        try:
+            col.feed(*row)
+        except ReadingError:
+            assert snapshot(col) == before
+        else:
+            assert col.gph_m == col.gph_m
+    assert snapshot(Column.from_bytes(col.to_bytes()), skip=()) == snapshot(col, skip=())
