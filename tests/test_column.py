@@ -704,3 +704,16 @@ def test_fuzzed_readings_raise_only_reading_errors(rows, anchored, lean):
         else:
             assert col.gph_m == col.gph_m
     assert snapshot(Column.from_bytes(col.to_bytes()), skip=()) == snapshot(col, skip=())
+
+
+def test_checkpoint_with_valid_crc_but_impossible_state_is_refused():
+    import binascii
+    col = Column(45.0)
+    col.feed(100000.0, 288.0)
+    blob = bytearray(col.to_bytes())
+    # the phase is the 4th int of the state (layout in tinygeo.column)
+    off = len(blob) - 4 - 4 * (len(_ST_I) - 3)
+    struct.pack_into("<i", blob, off, 7)
+    struct.pack_into("<I", blob, len(blob) - 4, binascii.crc32(bytes(blob[:-4])) & 0xFFFFFFFF)
+    with pytest.raises(CheckpointError, match="impossible"):
+        Column.from_bytes(bytes(blob))

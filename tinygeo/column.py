@@ -831,7 +831,7 @@ class Column:
         # one new envelope point (g above every earlier reading); O(1) search,
         # see the module docstring for the rule and why one candidate suffices
         st = self._tp_state
-        if st == 3:
+        if st == 3 or (st == 0 and p > self.tropopause_max_p_pa):
             return 0
         th = t + WMO_LAPSE_K_PER_GPM * g
         if st != 0:
@@ -998,6 +998,11 @@ class Column:
         for name in _ST_I:
             setattr(col, name, vals[i])
             i += 1
+        if not (0 <= col.phase <= PH_LANDED and 0 <= col._lvl <= 16 and 0 <= col._tp_state <= 3
+                and col.count >= 0 and col.rejected >= 0):
+            raise CheckpointError("checkpoint holds an impossible state (phase %d, level index %d, "
+                                  "count %d); not written by this tinygeo"
+                                  % (col.phase, col._lvl, col.count))
         return col
 
     def __repr__(self):
