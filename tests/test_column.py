@@ -512,7 +512,7 @@ def test_bad_readings_raise_with_reason_and_hint():
         ((100000.0, 288.0, 50.0, -1.0), "time", "decrease"),
         ((50000.0, 288.0, 50.0, 1.0), "rate", "max_rate_m_s"),
         ((99000.0, 288.0, 50.0, 0.0), "time", "increase"),
-        ((100000.0, 288.0, 50.0, 1.0, 2e5), "gps", "msl_height"),
+        ((100000.0, 288.0, 50.0, 1.0, 2e5), "gps", "geoid_undulation_m"),
     ]
     for n, (args, reason, word) in enumerate(cases):
         before = snapshot(col)
@@ -717,3 +717,18 @@ def test_checkpoint_with_valid_crc_but_impossible_state_is_refused():
     struct.pack_into("<I", blob, len(blob) - 4, binascii.crc32(bytes(blob[:-4])) & 0xFFFFFFFF)
     with pytest.raises(CheckpointError, match="impossible"):
         Column.from_bytes(bytes(blob))
+
+
+def test_gps_ellipsoidal_heights_with_geoid_undulation():
+    # h_msl = h_ell - N (tinygeo.msl_height; common practice)
+    col = Column(47.0, start_height_m=400.0, geoid_undulation_m=47.5)
+    col.feed(96000.0, 285.0, 50.0, 0.0, 447.5 + 12.0)
+    assert col.gps_m == pytest.approx(412.0)
+    assert col.gps_diff_m == pytest.approx(-12.0, abs=1e-6)
+    with pytest.raises(ReadingError) as e:
+        col.feed(95990.0, 285.0, 50.0, 1.0, 3e5)
+    assert e.value.reason == "gps"
+    back = Column.from_bytes(col.to_bytes())
+    assert back._geoid_n == 47.5
+    with pytest.raises(TinygeoError):
+        Column(47.0, geoid_undulation_m=400.0)

@@ -37,7 +37,7 @@ ice=False, dry_fallback=False, sigma_p_pa=10.0, sigma_t_k=0.2,
 sigma_rh_pct=1.0, bias_p_pa=50.0, bias_t_k=0.2, bias_rh_pct=3.0,
 max_rate_m_s=200.0, landing_s=60.0, landing_tol_pa=50.0, launch_m=20.0,
 burst_drop_m=50.0, burst_readings=3, tropopause_max_p_pa=50000.0,
-rh_tol_pct=3.0, track_sigma=True, on_event=None)``
+rh_tol_pct=3.0, track_sigma=True, on_event=None, geoid_undulation_m=None)``
 
 - lat_deg: geodetic latitude of the flight, degrees, -90..90 (kept fixed: the
   latitude only enters the conversion between geopotential and geometric
@@ -86,14 +86,17 @@ rh_tol_pct=3.0, track_sigma=True, on_event=None)``
   for a leaner feed.
 - on_event: callable(column, bits) called after a reading with events has
   updated the column (see EV_LEVEL for readings crossing several levels).
+- geoid_undulation_m: None (default): gps_m is a height above mean sea
+  level. A number N, m, -150..150: gps_m is an ellipsoidal (GPS receiver)
+  height and is converted with tinygeo.msl_height(gps_m, N) = h - N.
 
 ``feed(p_pa, t_k, rh_pct=None, time_s=None, gps_m=None) -> int`` adds one
 reading and returns the bits of the events it caused (0 = none).
 p_pa: pressure, Pa, 0.1..120000; t_k: air temperature, K, 150..350;
 rh_pct: relative humidity, %, or None; time_s: a time stamp, s, any origin,
 never decreasing, or None; gps_m: GPS height above mean sea level, m,
--1000..100000, or None (an ellipsoidal GPS height h is converted first with
-tinygeo.msl_height(h, N)). A bad reading raises
+-1000..100000, or None (an ellipsoidal height if geoid_undulation_m is
+set). A bad reading raises
 tinygeo.errors.ReadingError with ``.reason`` one of 'number' (not a finite
 number), 'pressure', 'temperature', 'humidity', 'time', 'rate', 'gps', after
 incrementing ``rejected`` -- nothing else changes.
@@ -119,8 +122,8 @@ Attributes after each accepted reading (nan where not known yet):
   tropopause_p_pa, tropopause_gph_m, tropopause_t_k (set with EV_TROPOPAUSE).
   sigma_m, sigma_random_m, sigma_bias_m: 1-sigma height uncertainty, m
     (properties computed from the running sums; see "Uncertainty").
-  gps_m, gps_diff_m: the latest GPS height given, and barometric height minus
-    it at that reading, m.
+  gps_m, gps_diff_m: the latest GPS height given (above mean sea level), and
+    barometric height minus it at that reading, m.
 
 Methods: ``reanchor_gps()``, ``to_bytes()``, ``Column.from_bytes(blob)``.
 
@@ -250,7 +253,8 @@ of up to 32 bits; truncation is caught by the length. on_event is not stored
 import math
 import struct
 
-from .potential import (geometric_height, geopotential_height, GPH_MIN_M, GPH_MAX_M)
+from .potential import (geometric_height, geopotential_height, msl_height, GPH_MIN_M,
+                        GPH_MAX_M)
 from .layers import layer_thickness, ln_ratio
 from .moisture import (virtual_temperature, virtual_temperature_from_mixing_ratio,
                        vapour_pressure, mixing_ratio)
@@ -344,7 +348,7 @@ def _crc_soft(data):
 # Settings first (the constructor is called with them on restore), then state.
 _CFG_F = ("lat_deg", "start_height_m", "_anchor", "sigma_p_pa", "sigma_t_k", "sigma_rh_pct",
           "bias_p_pa", "bias_t_k", "bias_rh_pct", "_max_rate", "landing_s", "landing_tol_pa",
-          "launch_m", "burst_drop_m", "tropopause_max_p_pa", "rh_tol_pct")
+          "launch_m", "burst_drop_m", "tropopause_max_p_pa", "rh_tol_pct", "_geoid_n")
 _CFG_I = ("_ell", "ice", "dry_fallback", "burst_readings", "track_sigma")
 _ST_F = ("p_pa", "t_k", "tv_k", "rh_pct", "time_s", "gph_m", "_c", "height_m", "rate_m_s",
          "max_gph_m", "launch_time_s", "burst_gph_m", "burst_time_s", "burst_p_pa",
@@ -380,7 +384,7 @@ class Column:
                  sigma_rh_pct=1.0, bias_p_pa=50.0, bias_t_k=0.2, bias_rh_pct=3.0,
                  max_rate_m_s=200.0, landing_s=60.0, landing_tol_pa=50.0, launch_m=20.0,
                  burst_drop_m=50.0, burst_readings=3, tropopause_max_p_pa=50000.0,
-                 rh_tol_pct=3.0, track_sigma=True, on_event=None):
+                 rh_tol_pct=3.0, track_sigma=True, on_event=None, geoid_undulation_m=None):
         # --- settings (checked here; RangeError names the bad one)
         self.lat_deg = check_lat(lat_deg)
         if ellipsoid is WGS84 or getattr(ellipsoid, "name", None) == "WGS84":
@@ -425,6 +429,11 @@ class Column:
         self.rh_tol_pct = _setting("rh_tol_pct", rh_tol_pct, 0.0, 3.0, "%")
         self.track_sigma = bool(track_sigma)
         self.on_event = on_event
+        if geoid_undulation_m is None:
+            self._geoid_n = _NAN
+        else:
+            self._geoid_n = check_range("geoid_undulation_m", geoid_undulation_m, -150.0, 150.0, "m",
+                                        "geoid undulation N in metres (Earth: about -107..+86 m)")
         # --- derived settings
         self._start_gph = geopotential_height(self.start_height_m, self.lat_deg,
                                                            self.ellipsoid)
@@ -536,9 +545,14 @@ class Column:
                           % (_fmt(time_s), self._t_last))
         if gps_m is not None:
             gps = self._num(gps_m, "gps_m", "m")
+            if self._geoid_n == self._geoid_n:
+                try:
+                    gps = msl_height(gps, self._geoid_n)
+                except RangeError as e:
+                    self._bad("gps", "gps_m=%s (ellipsoidal): %s" % (_fmt(gps_m), e))
             if not GPS_MIN_M <= gps <= GPS_MAX_M:
                 self._bad("gps", "gps_m=%s outside %g..%g m above mean sea level; for an "
-                          "ellipsoidal height use tinygeo.msl_height(h, N) first"
+                          "ellipsoidal height set geoid_undulation_m=N (or use tinygeo.msl_height)"
                           % (_fmt(gps_m), GPS_MIN_M, GPS_MAX_M))
 
         # ---- 2. compute the new state in locals
@@ -987,7 +1001,8 @@ class Column:
                       None if cfg["_max_rate"] != cfg["_max_rate"] else cfg["_max_rate"],
                       cfg["landing_s"], cfg["landing_tol_pa"], cfg["launch_m"],
                       cfg["burst_drop_m"], ci["burst_readings"], cfg["tropopause_max_p_pa"],
-                      cfg["rh_tol_pct"], ci["track_sigma"], on_event)
+                      cfg["rh_tol_pct"], ci["track_sigma"], on_event,
+                      None if cfg["_geoid_n"] != cfg["_geoid_n"] else cfg["_geoid_n"])
         except TinygeoError as e:
             raise CheckpointError("checkpoint holds settings the column refuses: %s" % e)
         i = nf
