@@ -144,6 +144,101 @@ tg_status tg_qfe(TG_FLOAT p_pa, TG_FLOAT barometer_above_field_m, TG_FLOAT t_k,
 tg_status tg_qnh(TG_FLOAT p_pa, TG_FLOAT elevation_m, TG_FLOAT *out);
 tg_status tg_indicated_altitude(TG_FLOAT p_pa, TG_FLOAT qnh_pa, TG_FLOAT *out);
 
+/* ---- column.py: the streaming Column ------------------------------------ */
+/* Event bits, flags and phases: the values of column.py (EV_*, FL_*, PH_*). */
+#define TG_EV_LEVEL 1
+#define TG_EV_TROPOPAUSE 2
+#define TG_EV_BURST 4
+#define TG_EV_LANDED 8
+#define TG_EV_LAUNCH 16
+#define TG_FL_DRY 1
+#define TG_FL_HELD_MIXING 2
+#define TG_FL_NO_TIME 4
+#define TG_FL_DESCENT 8
+#define TG_FL_SAME_P 16
+#define TG_PH_WAIT 0
+#define TG_PH_ASCENT 1
+#define TG_PH_DESCENT 2
+#define TG_PH_LANDED 3
+
+struct tg_column;
+/* on_event(column, bits, ctx): called after a reading with events has updated
+ * the column (Python: on_event(column, bits); ctx is C's closure). */
+typedef void (*tg_column_event_fn)(struct tg_column *col, int bits, void *ctx);
+
+/* The Column constructor's keyword arguments, in Python's order and units.
+ * tg_column_config_defaults() fills in Python's defaults. Two settings that
+ * Python takes as None are NaN here (Python stores them as NaN too):
+ * anchor_p_pa = NaN: no anchor; max_rate_m_s = NaN: no rate check. */
+typedef struct tg_column_config {
+    TG_FLOAT lat_deg, start_height_m, anchor_p_pa;
+    const tg_ellipsoid *ellipsoid;   /* NULL = &tg_wgs84 */
+    int ice, dry_fallback;
+    TG_FLOAT sigma_p_pa, sigma_t_k, sigma_rh_pct, bias_p_pa, bias_t_k, bias_rh_pct;
+    TG_FLOAT max_rate_m_s, landing_s, landing_tol_pa, launch_m, burst_drop_m;
+    long burst_readings;
+    TG_FLOAT tropopause_max_p_pa, rh_tol_pct;
+    int track_sigma;
+    tg_column_event_fn on_event;
+    void *on_event_ctx;
+} tg_column_config;
+
+/* Why the latest rejected reading was rejected (Python: ReadingError.reason). */
+typedef enum tg_reason {
+    TG_REASON_NONE = 0, TG_REASON_NUMBER, TG_REASON_PRESSURE, TG_REASON_TEMPERATURE,
+    TG_REASON_HUMIDITY, TG_REASON_TIME, TG_REASON_RATE, TG_REASON_GPS
+} tg_reason;
+const char *tg_reason_name(tg_reason reason);   /* "number", "pressure", ... */
+
+/* The column's state. Public fields are the Python attributes of the same
+ * name (NaN where not known yet); the rest is private. Fixed size, no
+ * allocation: a tg_column can be a static or a stack variable. */
+typedef struct tg_column {
+    /* settings */
+    TG_FLOAT lat_deg, start_height_m;
+    const tg_ellipsoid *ellipsoid;
+    int ice, dry_fallback, track_sigma;
+    TG_FLOAT sigma_p_pa, sigma_t_k, sigma_rh_pct, bias_p_pa, bias_t_k, bias_rh_pct;
+    TG_FLOAT landing_s, landing_tol_pa, launch_m, burst_drop_m, tropopause_max_p_pa, rh_tol_pct;
+    long burst_readings;
+    tg_column_event_fn on_event;
+    void *on_event_ctx;
+    /* attributes */
+    long count, rejected;
+    tg_reason reason;                 /* of the latest rejection (C only, diagnostic like rejected) */
+    int flags, phase;
+    TG_FLOAT p_pa, t_k, tv_k, rh_pct, time_s, gph_m, height_m, rate_m_s;
+    TG_FLOAT max_gph_m, launch_time_s, burst_gph_m, burst_time_s, burst_p_pa;
+    TG_FLOAT level_p_pa, level_gph_m, level_height_m, level_t_k;
+    TG_FLOAT tropopause_p_pa, tropopause_gph_m, tropopause_t_k;
+    TG_FLOAT gps_m, gps_diff_m;
+    /* private (Python's _names without the underscore) */
+    int ell, lvl, tp_state;
+    long burst_n, gps_n;
+    TG_FLOAT anchor, max_rate, min_rate, start_gph, sp2, st2;
+    TG_FLOAT c, t_last, g_t, min_gph, launch_gph, max_time, max_p, burst_line;
+    TG_FLOAT land_lo, land_hi, land_t, h_t, h_p, h_rh, w_held;
+    TG_FLOAT tp_g, tp_top, tp_th, tp_p, tp_t;
+    TG_FLOAT n_g, n_h, n_k1, n_k2, n_lo, n_hi, h_tm;
+    TG_FLOAT var_done, ct, cp, s2, sum_a, sum_rh, sum_p, slope, var_anchor, gps_g;
+} tg_column;
+
+void tg_column_config_defaults(tg_column_config *cfg, TG_FLOAT lat_deg);
+/* Column(...): TG_RANGE for a bad setting (col untouched). */
+tg_status tg_column_init(tg_column *col, const tg_column_config *cfg);
+/* col.feed(p_pa, t_k, rh_pct, time_s, gps_m): NULL for None. On TG_OK *bits
+ * holds the event bits; on TG_READING the reading was rejected, col->rejected
+ * was incremented, col->reason says why, and nothing else changed (*bits = 0). */
+tg_status tg_column_feed(tg_column *col, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_FLOAT *rh_pct,
+                         const TG_FLOAT *time_s, const TG_FLOAT *gps_m, int *bits);
+/* col.reanchor_gps(sigma_gps_m): *out = the shift applied, m. TG_STATE when
+ * the latest reading has no gps_m, TG_RANGE for a bad sigma_gps_m. */
+tg_status tg_column_reanchor_gps(tg_column *col, TG_FLOAT sigma_gps_m, TG_FLOAT *out);
+/* The uncertainty properties, m (NaN before the first reading or without track_sigma). */
+TG_FLOAT tg_column_sigma_random_m(const tg_column *col);
+TG_FLOAT tg_column_sigma_bias_m(const tg_column *col);
+TG_FLOAT tg_column_sigma_m(const tg_column *col);
+
 #ifdef __cplusplus
 }
 #endif

@@ -73,11 +73,17 @@ def run():
     path = setting("TINYGEO_CHECKPOINT", "/sd/tinygeo.ckpt")
 
     sensor = SimulatedFlight(step_s)
+
+    def on_event(col, bits):
+        # feed calls this after the column is updated; for a reading that
+        # crosses several mandatory levels (sparse data) once per level
+        print_events(sensor.index - 1, col, bits)
+
     book = Checkpoints(path)
     book.enabled = path != ""
-    restored = book.load() if book.enabled else None
+    restored = book.load(on_event) if book.enabled else None
     if restored is None:
-        column = Column(LAT_DEG, START_HEIGHT_M)
+        column = Column(LAT_DEG, START_HEIGHT_M, on_event=on_event)
         print("start new log at reading 0")
     else:
         index, column = restored
@@ -90,12 +96,9 @@ def run():
         index = sensor.index - 1
         taken += 1
         try:
-            bits = column.feed(sensor.p_pa, sensor.t_k, sensor.rh_pct, sensor.time_s, sensor.gps_m)
+            column.feed(sensor.p_pa, sensor.t_k, sensor.rh_pct, sensor.time_s, sensor.gps_m)
         except ReadingError as e:
             print("#%d rejected %s: %s" % (index, e.reason, e))
-            bits = 0
-        if bits:
-            print_events(index, column, bits)
         if show and index % show == 0:
             print(status_line(index, column))
         if every and sensor.index % every == 0:

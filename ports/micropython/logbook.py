@@ -37,7 +37,7 @@ class Checkpoints:
     def slot_path(self, slot):
         return "%s.%d" % (self.path, slot)
 
-    def _read_slot(self, slot):
+    def _read_slot(self, slot, on_event):
         # Return (index, column) from one slot, or None if it is unusable.
         try:
             f = open(self.slot_path(slot), "rb")
@@ -53,19 +53,20 @@ class Checkpoints:
         if index ^ 0xFFFFFFFF != check:
             return None
         try:
-            column = Column.from_bytes(data[_HEADER_LEN:])
+            column = Column.from_bytes(data[_HEADER_LEN:], on_event)
         except CheckpointError:
             return None
         return index, column
 
-    def load(self):
+    def load(self, on_event=None):
         """Return ``(index, column)`` of the newest good checkpoint, or None.
 
-        The next save then goes to the other slot."""
+        ``on_event`` is given to the restored column (a checkpoint cannot hold
+        a function). The next save then goes to the other slot."""
         best = None
         best_slot = 1
         for slot in (0, 1):
-            got = self._read_slot(slot)
+            got = self._read_slot(slot, on_event)
             if got is not None and (best is None or got[0] > best[0]):
                 best = got
                 best_slot = slot
@@ -101,7 +102,7 @@ def status_line(index, column):
 
 
 def print_events(index, column, bits):
-    """Print one line per event bit set in ``bits`` (the value feed returned)."""
+    """Print one line per event bit set in ``bits`` (as given to on_event)."""
     if bits & EV_LAUNCH:
         print("#%d event launch at t %.1f s gph %.2f gpm" % (index, column.launch_time_s, column.gph_m))
     if bits & EV_LEVEL:

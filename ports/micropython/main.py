@@ -15,8 +15,10 @@ What it shows:
 - every reading goes to ``Column.feed``; a rejected reading raises
   ``ReadingError`` and leaves the column as it was, so the loop just counts
   it and goes on;
-- events (mandatory level crossed, tropopause, burst, landing) print a line
-  when they happen, and a status line prints every ``PRINT_EVERY`` readings;
+- events (launch, mandatory level crossed, tropopause, burst, landing) print
+  a line from the column's ``on_event`` callback, called once per level when
+  one reading crosses several; a status line prints every ``PRINT_EVERY``
+  readings;
 - every ``CHECKPOINT_EVERY`` readings the column state (``Column.to_bytes``)
   and the reading number go to a checkpoint; at start the newest good
   checkpoint is restored, so after a power cut the log goes on from there
@@ -80,10 +82,16 @@ def sleep_ms(ms):
 
 def run(opts):
     sensor = SimulatedFlight(opts["step"])
+
+    def on_event(col, bits):
+        # feed calls this after the column is updated; for a reading that
+        # crosses several mandatory levels (sparse data) once per level
+        print_events(sensor.index - 1, col, bits)
+
     book = Checkpoints(opts["checkpoint"])
-    restored = book.load()
+    restored = book.load(on_event)
     if restored is None:
-        column = Column(LAT_DEG, START_HEIGHT_M)
+        column = Column(LAT_DEG, START_HEIGHT_M, on_event=on_event)
         print("start new log at reading 0")
     else:
         index, column = restored
@@ -97,12 +105,9 @@ def run(opts):
         index = sensor.index - 1
         taken += 1
         try:
-            bits = column.feed(sensor.p_pa, sensor.t_k, sensor.rh_pct, sensor.time_s, sensor.gps_m)
+            column.feed(sensor.p_pa, sensor.t_k, sensor.rh_pct, sensor.time_s, sensor.gps_m)
         except ReadingError as e:
             print("#%d rejected %s: %s" % (index, e.reason, e))
-            bits = 0
-        if bits:
-            print_events(index, column, bits)
         if show and index % show == 0:
             print(status_line(index, column))
         if every and sensor.index % every == 0:
