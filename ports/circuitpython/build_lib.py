@@ -29,8 +29,18 @@ import sys
 
 HERE = os.path.dirname(os.path.abspath(__file__))
 ROOT = os.path.dirname(os.path.dirname(HERE))
-sys.path.insert(0, os.path.join(ROOT, "ports", "micropython"))
-from make_package import core_files  # noqa: E402  (the one list of core modules)
+
+
+def _core_files(root):
+    # the one list of core modules, from ports/micropython/make_package.py
+    # (loaded by path, so that importing this file changes no sys.path)
+    import importlib.util
+    path = os.path.join(ROOT, "ports", "micropython", "make_package.py")
+    spec = importlib.util.spec_from_file_location("tinygeo_make_package", path)
+    mod = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(mod)
+    return mod.core_files(root)
+
 
 EXAMPLE_LIBS = ("flightsim.py", "logbook.py")   # from ports/micropython, shared by both examples
 
@@ -56,7 +66,7 @@ def build(out_dir, mpy_cross=None, root=ROOT):
     os.makedirs(os.path.join(drive, "lib"))
     written = []
     shown = False
-    sources = [(os.path.join(root, f), "lib/" + f) for f in core_files(root)]
+    sources = [(os.path.join(root, f), "lib/" + f) for f in _core_files(root)]
     sources += [(os.path.join(root, "ports", "micropython", f), "lib/" + f) for f in EXAMPLE_LIBS]
     for src, rel in sources:
         name = rel[4:]  # source name stored in the .mpy, e.g. tinygeo/gravity.py
