@@ -62,20 +62,18 @@ def _vector_files():
 
 
 # ----------------------------------------------------------------------------- build
-def _gcc_cmd(gcc, kind, exe):
-    if kind == "double":
-        flags = CFLAGS
-    elif kind == "float":
-        flags = CFLAGS + FLOAT_FLAGS
-    else:   # sanitizers, double
-        flags = CFLAGS[:-1] + ["-O1", "-g", "-fsanitize=address,undefined", "-fno-sanitize-recover=all"]
-    return [gcc] + flags + ["-o", exe] + _sources() + [os.path.join(PORT, "runvec.c"), "-lm"]
+BUILD_FLAGS = {
+    "double": CFLAGS,
+    "float": CFLAGS + FLOAT_FLAGS,
+    "asan": CFLAGS[:-1] + ["-O0", "-g", "-fsanitize=address,undefined", "-fno-sanitize-recover=all"],
+}
 
 
 @pytest.fixture(scope="module")
 def build():
-    """Compile the runners once (the three builds in parallel); returns
-    {'double': path, 'float': path, 'asan': path or None, 'asan_err': str, 'dir': tmp}."""
+    """Compile the sources once per build (double, float, sanitizers; the three
+    in parallel) and link the runners: {'double', 'float', 'column_double',
+    'column_float', 'asan' (None if unavailable), 'asan_err', 'dir'}."""
     gcc = shutil.which("gcc")
     if gcc is None:
         if os.environ.get("CI", "").lower() == "true":
@@ -83,20 +81,35 @@ def build():
         pytest.skip("gcc not found (install gcc to test ports/c)")
     tmp = tempfile.mkdtemp(prefix="tinygeo_c_")
     out = {"dir": tmp}
+    mains = [os.path.join(PORT, "runvec.c"), os.path.join(PORT, "column_run.c")]
     procs = {}
-    for kind in ("double", "float", "asan"):
-        exe = os.path.join(tmp, "runvec_" + kind)
-        cmd = _gcc_cmd(gcc, kind, exe)
-        procs[kind] = (exe, cmd, subprocess.Popen(cmd, stdout=subprocess.PIPE, stderr=subprocess.PIPE,
-                                                  universal_newlines=True))
-    for kind, (exe, cmd, proc) in procs.items():
+    for kind, flags in BUILD_FLAGS.items():
+        d = os.path.join(tmp, kind)
+        os.mkdir(d)
+        srcs = _sources() + (mains if kind != "asan" else mains[:1])
+        cmd = [gcc] + flags + ["-c"] + srcs
+        procs[kind] = (d, cmd, subprocess.Popen(cmd, cwd=d, stdout=subprocess.PIPE,
+                                                stderr=subprocess.PIPE, universal_newlines=True))
+    for kind, (d, cmd, proc) in procs.items():
         _, err = proc.communicate(timeout=120)
-        if kind == "asan":
-            out["asan"] = exe if proc.returncode == 0 else None
-            out["asan_err"] = err
+        if kind == "asan" and proc.returncode != 0:
+            out["asan"], out["asan_err"] = None, err
             continue
         assert proc.returncode == 0, "gcc (%s build) failed:\n%s\n%s" % (kind, " ".join(cmd), err)
-        out[kind] = exe
+        objs = [os.path.join(d, os.path.basename(f)[:-2] + ".o") for f in _sources()]
+        for main, name in ((mains[0], kind), (mains[1], "column_" + kind)):
+            if kind == "asan" and main == mains[1]:
+                continue
+            exe = os.path.join(tmp, ("runvec_" + name) if main == mains[0] else name)
+            link = [gcc] + BUILD_FLAGS[kind] + ["-o", exe] + objs + \
+                [os.path.join(d, os.path.basename(main)[:-2] + ".o"), "-lm"]
+            r = subprocess.run(link, capture_output=True, text=True)
+            if kind == "asan" and r.returncode != 0:
+                out["asan"], out["asan_err"] = None, r.stderr
+                break
+            assert r.returncode == 0, "link failed:\n%s\n%s" % (" ".join(link), r.stderr)
+            out[name if kind != "asan" else "asan"] = exe
+        out.setdefault("asan_err", "")
     yield out
     shutil.rmtree(tmp, ignore_errors=True)
 
@@ -528,3 +541,203 @@ def test_sanitizers(build):
                        env=env, timeout=60)
     assert "runtime error" not in r.stderr and "AddressSanitizer" not in r.stderr, r.stderr
     assert "cases " in r.stdout
+
+
+# ----------------------------------------------------------------------------- column
+from tinygeo.column import Column  # noqa: E402
+from tinygeo.errors import ReadingError, TinygeoError  # noqa: E402
+
+COL_ATTRS = ("count", "rejected", "flags", "phase", "p_pa", "t_k", "tv_k", "rh_pct", "time_s",
+             "gph_m", "height_m", "rate_m_s", "max_gph_m", "launch_time_s", "burst_gph_m",
+             "burst_time_s", "burst_p_pa", "level_p_pa", "level_gph_m", "level_height_m",
+             "level_t_k", "tropopause_p_pa", "tropopause_gph_m", "tropopause_t_k", "gps_m",
+             "gps_diff_m", "sigma_m", "sigma_random_m", "sigma_bias_m")
+"""The order of the attributes printed by ports/c/column_run.c after each command."""
+
+
+def _sounding_profile(h):
+    # the invented sounding of tests/mp/column_sounding.py: standard temperature
+    # with two waves, humidity 25..95 %
+    t = standard.standard_temperature(h) + 3.0 * math.sin(h / 1700.0) + 1.5 * math.cos(h / 4100.0)
+    rh = 60.0 + 35.0 * math.sin(h / 2300.0)
+    return t, rh
+
+
+def sounding_commands(step=10.0):
+    """The reading stream of tests/mp/column_sounding.py (ascent every 10 gpm to
+    31 km, every 7th reading without humidity, a GPS height every 50th, the fall
+    and the landing, then its bad readings), plus a GPS re-anchor mid-flight and
+    a few more bad readings. Each command: (verb, args) with None for None."""
+    cmds = [("init", (48.2, 512.0, None, 0, 0, 0, 1, 200.0, None))]
+    ts, h, count = 0.0, 0.0, 0
+    while h <= 31000.0:
+        t, rh = _sounding_profile(h)
+        gps = 512.0 + h * 1.003 if count % 50 == 0 else None
+        cmds.append(("feed", (standard.standard_pressure(h), t, rh if count % 7 else None, ts, gps)))
+        count += 1
+        if count == 1201:
+            cmds.append(("reanchor", (10.0,)))
+        if count == 1500:   # bad readings in mid-flight: nothing but 'rejected' changes
+            p = standard.standard_pressure(h)
+            cmds += [("feed", (NAN, 250.0, None, None, None)), ("feed", (p, 25.0, 50.0, None, None)),
+                     ("feed", (p, 250.0, 150.0, None, None)), ("feed", (p, 250.0, None, ts - 1.0, None)),
+                     ("feed", (0.5 * p, 250.0, None, ts + 1.0, None)),
+                     ("feed", (p, 250.0, None, None, 200000.0)), ("reanchor", (10.0,))]
+        h += step
+        ts += 2.0
+    while h > 0.0:
+        h = h - 150.0 if h > 150.0 else 0.0
+        ts += 5.0
+        cmds.append(("feed", (standard.standard_pressure(h), _sounding_profile(h)[0], None, ts, None)))
+    for _ in range(20):
+        ts += 5.0
+        cmds.append(("feed", (standard.standard_pressure(0.0), _sounding_profile(0.0)[0], None, ts, None)))
+    p = standard.standard_pressure(0.0)
+    for args in ((NAN, 280.0), (90000.0, 25.0), (90000.0, 280.0, 150.0), (0.5 * p, 280.0, None, ts + 1.0)):
+        cmds.append(("feed", tuple(args) + (None,) * (5 - len(args))))
+    return cmds
+
+
+def _round_cmds(cmds):
+    out = []
+    for verb, args in cmds:
+        if verb == "feed":
+            args = tuple(None if a is None else floatemu.r32(a) for a in args)
+        out.append((verb, args))
+    return out
+
+
+def _cmd_text(cmds):
+    def tok(a):
+        return "-" if a is None else repr(float(a))
+    return "".join("%s %s\n" % (verb, " ".join(tok(a) for a in args)) for verb, args in cmds)
+
+
+def run_c_column(exe, cmds):
+    """Run ports/c/column_run on the commands: ([(status, reason, res, attrs)], [events])."""
+    r = subprocess.run([exe], input=_cmd_text(cmds), capture_output=True, text=True, timeout=60)
+    assert r.returncode == 0, r.stderr
+    rows, events = [], []
+    for ln in r.stdout.splitlines():
+        w = ln.split()
+        if w[0] == "e":
+            events.append((int(w[1]), int(w[2])))
+        else:
+            rows.append((w[1], w[2], float(w[3]), tuple(float(x) for x in w[4:])))
+    return rows, events
+
+
+def run_py_column(cmds, mod_column=None, ellipsoids=(WGS84, GRS80)):
+    """The same commands through Python's Column (or an emulated one)."""
+    cls = Column if mod_column is None else mod_column.Column
+    events = []
+    rows = []
+    col = None
+    for verb, args in cmds:
+        status, reason, res = "ok", None, NAN
+        if verb == "init":
+            res = 0.0
+            lat, start, anchor, ell, ice, dry, track, rate, geoid = args
+            col = cls(lat, start, anchor, ellipsoids[int(ell)], bool(ice), bool(dry),
+                      max_rate_m_s=rate, track_sigma=bool(track), geoid_undulation_m=geoid,
+                      on_event=lambda c, b: events.append((c.count, b)))
+        elif verb == "feed":
+            res = 0.0
+            try:
+                res = float(col.feed(*args))
+            except ReadingError as e:
+                status, reason, res = "reading", e.reason, 0.0   # C: *bits = 0
+            except TinygeoError:
+                status, res = "range", 0.0
+        else:
+            try:
+                res = col.reanchor_gps(*args)
+            except errors.RangeError:
+                status = "range"
+            except TinygeoError:
+                status = "state"
+        rows.append((status, reason, res, tuple(float(getattr(col, n)) for n in COL_ATTRS)))
+    return rows, events
+
+
+def _same(a, b):
+    return a == b or (a != a and b != b)
+
+
+def test_column_double_matches_python_bit_for_bit(build):
+    """The synthetic sounding of tests/mp/column_sounding.py through tg_column
+    (double) and Python's Column: every status, rejection reason, event bit,
+    on_event call and attribute after every command is the same, bit for bit."""
+    cmds = sounding_commands()
+    crow, cev = run_c_column(build["column_double"], cmds)
+    prow, pev = run_py_column(cmds)
+    assert len(crow) == len(prow) == len(cmds)
+    assert cev == pev and len(pev) >= 15
+    n_rej = 0
+    for i, ((cst, creason, cres, cval), (pst, preason, pres, pval)) in enumerate(zip(crow, prow)):
+        assert cst == pst, (i, cmds[i], cst, pst)
+        if pst == "reading":
+            n_rej += 1
+            assert creason == preason, (i, cmds[i], creason, preason)
+        assert _same(cres, pres), (i, cmds[i], cres, pres)
+        diff = [(n, c, p) for n, c, p in zip(COL_ATTRS, cval, pval) if not _same(c, p)]
+        assert not diff, (i, cmds[i], diff)
+    assert n_rej >= 9
+    last = prow[-1][3]
+    print("column double: %d commands, %d events, %d rejections, final gph %.6f height %.6f: "
+          "bit-identical to CPython" % (len(cmds), len(pev), n_rej, last[9], last[10]))
+
+
+COL_FLOAT_BUDGET = {"gph_m": 0.005, "height_m": 0.012, "level_gph_m": 0.004, "level_height_m": 0.004,
+                    "max_gph_m": 0.004, "burst_gph_m": 0.001, "rate_m_s": 0.004, "tv_k": 8e-05,
+                    "sigma_m": 5e-4, "gps_diff_m": 0.005}
+"""Float build vs Python float64 on the float32-rounded sounding (3100 readings
+to 31 km and back): largest differences allowed, in the attribute's unit
+(measured values printed by the test and listed in ports/c/README.md)."""
+
+
+def test_column_float_within_budget(build):
+    """tg_column in the float build against Python's Column in float64 on the
+    same float32-rounded readings: same events, heights within a few mm."""
+    cmds = _round_cmds(sounding_commands())
+    crow, cev = run_c_column(build["column_float"], cmds)
+    prow, pev = run_py_column(cmds)
+    assert [b for c, b in cev] == [b for c, b in pev]
+    worst = dict((n, 0.0) for n in COL_FLOAT_BUDGET)
+    for i, ((cst, creason, cres, cval), (pst, preason, pres, pval)) in enumerate(zip(crow, prow)):
+        assert cst == pst, (i, cmds[i], cst, pst)
+        for n, c, p in zip(COL_ATTRS, cval, pval):
+            if n in worst and not (c != c and p != p):
+                worst[n] = max(worst[n], abs(c - p))
+            elif n in ("count", "rejected", "flags", "phase"):
+                assert c == p, (i, n, c, p)
+    for n in sorted(worst):
+        print("column float vs float64: %-15s max %.3g (budget %.3g)" % (n, worst[n], COL_FLOAT_BUDGET[n]))
+    over = [(n, worst[n]) for n in worst if not worst[n] <= COL_FLOAT_BUDGET[n]]
+    assert not over, over
+
+
+def test_column_float_vs_float32_emulation(build):
+    """tg_column in the float build against Python's Column run by floatemu (f32)
+    on a coarser version of the sounding (every 100 gpm): heights in float32 ulps."""
+    cmds = _round_cmds(sounding_commands(step=100.0))
+    crow, cev = run_c_column(build["column_float"], cmds)
+    emu_col = floatemu.load_module("f32", "tinygeo.column")
+    emu_consts = floatemu.load_module("f32", "tinygeo.constants")
+    prow, pev = run_py_column(cmds, emu_col, (emu_consts.WGS84, emu_consts.GRS80))
+    assert cev == pev
+    worst = 0
+    same = 0
+    n = 0
+    for (cst, _, _, cval), (pst, _, _, pval) in zip(crow, prow):
+        assert cst == pst
+        for name in ("gph_m", "height_m"):
+            c, p = cval[COL_ATTRS.index(name)], pval[COL_ATTRS.index(name)]
+            if c != c or p != p:
+                continue
+            d = abs(floatemu.ulps32(p, c))
+            n += 1
+            same += d == 0
+            worst = max(worst, d)
+    print("column float vs f32 emulation: %d of %d heights bit-identical, max %d ulp" % (same, n, worst))
+    assert worst <= EMU_ULPS

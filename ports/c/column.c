@@ -26,6 +26,7 @@ typedef char tg__ev_match[(TGPY_COLUMN_EV_LEVEL == TG_EV_LEVEL && TGPY_COLUMN_EV
 static const TG_FLOAT MANDATORY_PA[16] = TGPY_COLUMN_MANDATORY_PA;
 typedef char tg__mandatory_16[TGPY_COLUMN_MANDATORY_PA_N == 16 ? 1 : -1];
 
+#define P_MIN_PA TGPY_COLUMN_P_MIN_PA
 #define P_MAX_PA TGPY_COLUMN_P_MAX_PA
 #define T_MIN_K TGPY_COLUMN_T_MIN_K
 #define T_MAX_K TGPY_COLUMN_T_MAX_K
@@ -81,6 +82,7 @@ void tg_column_config_defaults(tg_column_config *cfg, TG_FLOAT lat_deg)
     cfg->track_sigma = 1;
     cfg->on_event = NULL;
     cfg->on_event_ctx = NULL;
+    cfg->geoid_undulation_m = NAN_;
 }
 
 /* column._setting = check_range */
@@ -150,6 +152,12 @@ static tg_status init_checked(tg_column *col, const tg_column_config *cfg, TG_FL
     n.track_sigma = cfg->track_sigma != 0;
     n.on_event = cfg->on_event;
     n.on_event_ctx = cfg->on_event_ctx;
+    if (cfg->geoid_undulation_m != cfg->geoid_undulation_m) {   /* NaN = None */
+        n.geoid_n = NAN_;
+    } else {
+        SETTING(cfg->geoid_undulation_m, -150.0, 150.0);
+        n.geoid_n = cfg->geoid_undulation_m;
+    }
     /* --- derived settings */
     TG_TRY(tg_geopotential_height(n.start_height_m, n.lat_deg, n.ellipsoid, &n.start_gph));
     n.min_rate = -n.max_rate;
@@ -310,7 +318,7 @@ static int tropopause(tg_column *col, TG_FLOAT g, TG_FLOAT t, TG_FLOAT p)
 {
     int st = col->tp_state;
     TG_FLOAT th;
-    if (st == 3)
+    if (st == 3 || (st == 0 && p > col->tropopause_max_p_pa))
         return 0;
     th = t + WMO_LAPSE_K_PER_GPM * g;
     if (st != 0) {
@@ -362,7 +370,7 @@ tg_status tg_column_feed(tg_column *col, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_F
     p = p_pa;
     if (!isfinite(p))
         return bad(col, TG_REASON_NUMBER, bits_out);
-    if (!(TG_L(0.0) < p && p <= P_MAX_PA))
+    if (!(P_MIN_PA <= p && p <= P_MAX_PA))
         return bad(col, TG_REASON_PRESSURE, bits_out);
     t = t_k;
     if (!isfinite(t))
@@ -388,6 +396,10 @@ tg_status tg_column_feed(tg_column *col, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_F
         gps = *gps_m;
         if (!isfinite(gps))
             return bad(col, TG_REASON_NUMBER, bits_out);
+        if (col->geoid_n == col->geoid_n) {   /* an ellipsoidal height: msl_height(gps, N) */
+            if (tg_msl_height(gps, col->geoid_n, &gps) != TG_OK)
+                return bad(col, TG_REASON_GPS, bits_out);
+        }
         if (!(GPS_MIN_M <= gps && gps <= GPS_MAX_M))
             return bad(col, TG_REASON_GPS, bits_out);
     }

@@ -3,7 +3,7 @@
  *
  * Input, one command per line ("-" stands for Python's None):
  *   init <lat_deg> <start_height_m> <anchor_p_pa|-> <ellipsoid 0|1> <ice 0|1>
- *        <dry_fallback 0|1> <track_sigma 0|1> <max_rate_m_s|->
+ *        <dry_fallback 0|1> <track_sigma 0|1> <max_rate_m_s|-> <geoid_undulation_m|->
  *   feed <p_pa> <t_k> <rh_pct|-> <time_s|-> <gps_m|->
  *   reanchor <sigma_gps_m>
  * Output: "e <count> <bits>" for every on_event call, and one line per command
@@ -63,7 +63,7 @@ int main(void)
         }
         if (n == 0)
             continue;
-        if (strcmp(tok[0], "init") == 0 && n == 9) {
+        if (strcmp(tok[0], "init") == 0 && n == 10) {
             tg_column_config cfg;
             tg_status st;
             tg_column_config_defaults(&cfg, (TG_FLOAT)strtod(tok[1], NULL));
@@ -75,6 +75,7 @@ int main(void)
             cfg.track_sigma = atoi(tok[7]);
             if (!opt(tok[8], &cfg.max_rate_m_s))
                 cfg.max_rate_m_s = (TG_FLOAT)NAN;
+            opt(tok[9], &cfg.geoid_undulation_m);
             cfg.on_event = on_event;
             st = tg_column_init(&col, &cfg);
             show(&col, st, 0.0);

@@ -176,6 +176,7 @@
     TG_L(3000.0), \
     TG_L(2000.0), \
     TG_L(1000.0) }
+#define TGPY_COLUMN_P_MIN_PA TG_L(0.1)
 #define TGPY_COLUMN_P_MAX_PA TG_L(120000.0)
 #define TGPY_COLUMN_T_MIN_K TG_L(150.0)
 #define TGPY_COLUMN_T_MAX_K TG_L(350.0)

@@ -169,7 +169,8 @@ typedef void (*tg_column_event_fn)(struct tg_column *col, int bits, void *ctx);
 /* The Column constructor's keyword arguments, in Python's order and units.
  * tg_column_config_defaults() fills in Python's defaults. Two settings that
  * Python takes as None are NaN here (Python stores them as NaN too):
- * anchor_p_pa = NaN: no anchor; max_rate_m_s = NaN: no rate check. */
+ * anchor_p_pa = NaN: no anchor; max_rate_m_s = NaN: no rate check;
+ * geoid_undulation_m = NaN: GPS heights are above mean sea level. */
 typedef struct tg_column_config {
     TG_FLOAT lat_deg, start_height_m, anchor_p_pa;
     const tg_ellipsoid *ellipsoid;   /* NULL = &tg_wgs84 */
@@ -181,6 +182,7 @@ typedef struct tg_column_config {
     int track_sigma;
     tg_column_event_fn on_event;
     void *on_event_ctx;
+    TG_FLOAT geoid_undulation_m;     /* NaN = None: gps_m is above mean sea level */
 } tg_column_config;
 
 /* Why the latest rejected reading was rejected (Python: ReadingError.reason). */
@@ -215,7 +217,7 @@ typedef struct tg_column {
     /* private (Python's _names without the underscore) */
     int ell, lvl, tp_state;
     long burst_n, gps_n;
-    TG_FLOAT anchor, max_rate, min_rate, start_gph, sp2, st2;
+    TG_FLOAT anchor, max_rate, min_rate, start_gph, sp2, st2, geoid_n;
     TG_FLOAT c, t_last, g_t, min_gph, launch_gph, max_time, max_p, burst_line;
     TG_FLOAT land_lo, land_hi, land_t, h_t, h_p, h_rh, w_held;
     TG_FLOAT tp_g, tp_top, tp_th, tp_p, tp_t;
