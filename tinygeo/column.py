@@ -371,10 +371,6 @@ CHECKPOINT_BYTES = _HEAD_LEN + _PAYLOAD_LEN + 4
 """Size of a checkpoint blob, bytes."""
 
 
-def _reject(reason, msg):
-    return ReadingError(msg, reason)
-
-
 class Column:
     """The running hypsometric integration of an atmospheric column (see the
     module docstring for every option, attribute, event and formula)."""
@@ -435,8 +431,7 @@ class Column:
             self._geoid_n = check_range("geoid_undulation_m", geoid_undulation_m, -150.0, 150.0, "m",
                                         "geoid undulation N in metres (Earth: about -107..+86 m)")
         # --- derived settings
-        self._start_gph = geopotential_height(self.start_height_m, self.lat_deg,
-                                                           self.ellipsoid)
+        self._start_gph = geopotential_height(self.start_height_m, self.lat_deg, self.ellipsoid)
         self._min_rate = -self._max_rate
         self._sp2 = self.sigma_p_pa * self.sigma_p_pa
         self._st2 = self.sigma_t_k * self.sigma_t_k
