@@ -27,6 +27,10 @@ Prints, in one run:
    the core modules it imports, with an empty package ``__init__`` so that
    one module at a time is loaded); the real ``__init__`` is the whole-core
    figure minus their sum.
+4. the smallest MicroPython heap (``-X heapsize``, 8 KB steps) in which the
+   example logger (``ports/micropython/main.py --step 5``: the core, the
+   simulated sensor, the checkpoints) completes the whole flight, with the
+   core as ``.mpy`` and as ``.py`` (which the board must compile at import).
 
 The core is every .py under tinygeo/ except tinygeo/host/ and
 tinygeo/__main__.py (the same list as ports/micropython/package.json).
@@ -259,9 +263,32 @@ def main():
         for name, retained, _ in rows:
             print("   %-34s %6d B" % (name, retained))
         print("   %-34s %6d B" % ("tinygeo/__init__ (2. minus the above)", init_cost))
+
+        print("")
+        print("4. smallest heap (micropython -X heapsize=N, 8 KB steps) in which the example logger")
+        print("   ports/micropython/main.py --step 5 completes the whole simulated flight:")
+        for label, where in (("core as .mpy", os.path.join(tmp, "plain")), ("core as .py", src_dir)):
+            kb = smallest_heap_kb(where, tmp)
+            print("   %-13s %s" % (label, ("%d KB" % kb) if kb else "more than 512 KB"))
     finally:
         shutil.rmtree(tmp)
     return 0
+
+
+def smallest_heap_kb(path_dir, tmp):
+    """Smallest heap, KB in 8 KB steps up to 512, in which main.py finishes."""
+    env = dict(os.environ, MICROPYPATH=path_dir)
+    main_py = os.path.join(ROOT, "ports", "micropython", "main.py")
+    for kb in range(32, 513, 8):
+        ck = os.path.join(tmp, "heap.ckpt")
+        for slot in (".0", ".1"):
+            if os.path.exists(ck + slot):
+                os.remove(ck + slot)
+        p = subprocess.run([tool("micropython"), "-X", "heapsize=%dK" % kb, main_py, "--step", "5",
+                            "--checkpoint", ck], capture_output=True, text=True, env=env, cwd=tmp)
+        if p.returncode == 0 and "summary" in p.stdout:
+            return kb
+    return None
 
 
 if __name__ == "__main__":
