@@ -5,11 +5,9 @@
  * formulas and their sources (Wallace & Hobbs 2006 eq. 3.29/3.30; Kahan 1965;
  * WMO-No. 49 tropopause; JCGM 100:2008 eqs. 10/13) are documented in
  * column.py; the code below follows column.py statement by statement.
- *
- * Left out (deliberately): to_bytes()/from_bytes() checkpoints (a C caller
- * can copy the struct; the struct holds no pointer but ellipsoid/on_event).
  */
 #include <stddef.h>
+#include <stdint.h>
 #include <string.h>
 #include "tg_internal.h"
 
@@ -675,5 +673,181 @@ tg_status tg_column_reanchor_gps(tg_column *col, TG_FLOAT sigma_gps_m, TG_FLOAT 
     col->sum_p = TG_L(0.0);
     col->var_anchor = sg * sg;
     *out = col->height_m - old_h;
+    return TG_OK;
+}
+
+/* ------------------------------------------------------------ checkpoint */
+/* Layout of column.py: struct "<4sBH" (magic, version, payload length), then
+ * "<" + "d" * (len(_CFG_F) + len(_ST_F)) + "i" * (len(_CFG_I) + len(_ST_I)),
+ * then "<I" CRC-32 of everything before it. The field lists come from
+ * column.py through tg_tables.h (X-macros), so the order cannot drift. */
+#define HEAD_LEN 7
+#define PAYLOAD_LEN (8 * (TGPY_COLUMN__CFG_F_N + TGPY_COLUMN__ST_F_N) + 4 * (TGPY_COLUMN__CFG_I_N + TGPY_COLUMN__ST_I_N))
+typedef char tg__head_layout[(sizeof(TGPY_COLUMN__HEAD) == 6 && sizeof(TGPY_COLUMN__MAGIC) == 5) ? 1 : -1];
+/* tinygeo.h states the size; a change of column.py's layout stops the build here */
+typedef char tg__checkpoint_size[(HEAD_LEN + PAYLOAD_LEN + 4 == TG_CHECKPOINT_BYTES) ? 1 : -1];
+typedef char tg__ieee_double[(sizeof(double) == 8 && sizeof(uint64_t) == 8) ? 1 : -1];
+
+/* column._crc_soft: CRC-32 (IEEE 802.3, reflected polynomial 0xEDB88320, as
+ * zlib/binascii), four bits at a time with a 16-entry table */
+static uint32_t crc32_ieee(const unsigned char *data, size_t n)
+{
+    static const uint32_t T[16] = {
+        0x00000000u, 0x1db71064u, 0x3b6e20c8u, 0x26d930acu, 0x76dc4190u, 0x6b6b51f4u,
+        0x4db26158u, 0x5005713cu, 0xedb88320u, 0xf00f9344u, 0xd6d6a3e8u, 0xcb61b38cu,
+        0x9b64c2b0u, 0x86d3d2d4u, 0xa00ae278u, 0xbdbdf21cu
+    };
+    uint32_t c = 0xFFFFFFFFu;
+    size_t i;
+    for (i = 0; i < n; i++) {
+        unsigned b = data[i];
+        c = T[(c ^ b) & 15u] ^ (c >> 4);
+        c = T[(c ^ (b >> 4)) & 15u] ^ (c >> 4);
+    }
+    return c ^ 0xFFFFFFFFu;
+}
+
+static unsigned char *put_f64(unsigned char *b, TG_FLOAT x)
+{
+    double d = (double)x;
+    uint64_t u;
+    int i;
+    memcpy(&u, &d, 8);
+    for (i = 0; i < 8; i++)
+        b[i] = (unsigned char)(u >> (8 * i));
+    return b + 8;
+}
+
+static const unsigned char *get_f64(const unsigned char *b, double *x)
+{
+    uint64_t u = 0;
+    int i;
+    for (i = 7; i >= 0; i--)
+        u = (u << 8) | b[i];
+    memcpy(x, &u, 8);
+    return b + 8;
+}
+
+static unsigned char *put_i32(unsigned char *b, long v)
+{
+    uint32_t u = (uint32_t)v;   /* two's complement, as struct "<i" */
+    int i;
+    for (i = 0; i < 4; i++)
+        b[i] = (unsigned char)(u >> (8 * i));
+    return b + 4;
+}
+
+static const unsigned char *get_i32(const unsigned char *b, long *v)
+{
+    uint32_t u = (uint32_t)b[0] | ((uint32_t)b[1] << 8) | ((uint32_t)b[2] << 16) | ((uint32_t)b[3] << 24);
+    *v = (long)(u & 0x7FFFFFFFu) - (long)(u & 0x80000000u);
+    return b + 4;
+}
+
+tg_status tg_column_to_bytes(const tg_column *col, unsigned char *buf, size_t size)
+{
+    unsigned char *b = buf;
+    if (size < TG_CHECKPOINT_BYTES)
+        return TG_RANGE;
+    memcpy(b, TGPY_COLUMN__MAGIC, 4);
+    b[4] = (unsigned char)TGPY_COLUMN__VERSION;
+    b[5] = (unsigned char)(PAYLOAD_LEN & 0xFF);
+    b[6] = (unsigned char)(PAYLOAD_LEN >> 8);
+    b += HEAD_LEN;
+#define PUT_F(name) b = put_f64(b, col->name);
+#define PUT_I(name) b = put_i32(b, (long)col->name);
+    TGPY_COLUMN__CFG_F(PUT_F)
+    TGPY_COLUMN__ST_F(PUT_F)
+    TGPY_COLUMN__CFG_I(PUT_I)
+    TGPY_COLUMN__ST_I(PUT_I)
+#undef PUT_F
+#undef PUT_I
+    put_i32(b, (long)crc32_ieee(buf, (size_t)(b - buf)));
+    return TG_OK;
+}
+
+/* the decoded payload, one member per field of the layout */
+#define DECL_D(name) double name;
+#define DECL_L(name) long name;
+struct ck_vals {
+    TGPY_COLUMN__CFG_F(DECL_D)
+    TGPY_COLUMN__ST_F(DECL_D)
+    TGPY_COLUMN__CFG_I(DECL_L)
+    TGPY_COLUMN__ST_I(DECL_L)
+};
+#undef DECL_D
+#undef DECL_L
+
+tg_status tg_column_from_bytes(tg_column *col, const unsigned char *blob, size_t n,
+                               tg_column_event_fn on_event, void *on_event_ctx)
+{
+    struct ck_vals v;
+    tg_column_config cfg;
+    tg_column c;
+    const unsigned char *b;
+    uint32_t crc;
+    long length;
+    if (blob == NULL || n < HEAD_LEN + 4)
+        return TG_CHECKPOINT;                                  /* too short */
+    if (memcmp(blob, TGPY_COLUMN__MAGIC, 4) != 0)
+        return TG_CHECKPOINT;                                  /* not a checkpoint */
+    if (blob[4] != TGPY_COLUMN__VERSION)
+        return TG_CHECKPOINT;                                  /* another version */
+    length = (long)blob[5] | ((long)blob[6] << 8);
+    if (length != PAYLOAD_LEN || n != TG_CHECKPOINT_BYTES)
+        return TG_CHECKPOINT;                                  /* truncated or corrupted */
+    crc = (uint32_t)blob[n - 4] | ((uint32_t)blob[n - 3] << 8) | ((uint32_t)blob[n - 2] << 16)
+        | ((uint32_t)blob[n - 1] << 24);
+    if (crc != crc32_ieee(blob, n - 4))
+        return TG_CHECKPOINT;                                  /* CRC-32 mismatch */
+    b = blob + HEAD_LEN;
+#define GET_F(name) b = get_f64(b, &v.name);
+#define GET_I(name) b = get_i32(b, &v.name);
+    TGPY_COLUMN__CFG_F(GET_F)
+    TGPY_COLUMN__ST_F(GET_F)
+    TGPY_COLUMN__CFG_I(GET_I)
+    TGPY_COLUMN__ST_I(GET_I)
+#undef GET_F
+#undef GET_I
+    if (v.ell != 0 && v.ell != 1)
+        return TG_CHECKPOINT;                                  /* unknown ellipsoid code */
+    /* the constructor, with the stored settings (NaN stands for None here as
+     * in the blob) */
+    tg_column_config_defaults(&cfg, (TG_FLOAT)v.lat_deg);
+    cfg.start_height_m = (TG_FLOAT)v.start_height_m;
+    cfg.anchor_p_pa = (TG_FLOAT)v.anchor;
+    cfg.ellipsoid = v.ell ? &tg_grs80 : &tg_wgs84;
+    cfg.ice = v.ice != 0;
+    cfg.dry_fallback = v.dry_fallback != 0;
+    cfg.sigma_p_pa = (TG_FLOAT)v.sigma_p_pa;
+    cfg.sigma_t_k = (TG_FLOAT)v.sigma_t_k;
+    cfg.sigma_rh_pct = (TG_FLOAT)v.sigma_rh_pct;
+    cfg.bias_p_pa = (TG_FLOAT)v.bias_p_pa;
+    cfg.bias_t_k = (TG_FLOAT)v.bias_t_k;
+    cfg.bias_rh_pct = (TG_FLOAT)v.bias_rh_pct;
+    cfg.max_rate_m_s = (TG_FLOAT)v.max_rate;
+    cfg.landing_s = (TG_FLOAT)v.landing_s;
+    cfg.landing_tol_pa = (TG_FLOAT)v.landing_tol_pa;
+    cfg.launch_m = (TG_FLOAT)v.launch_m;
+    cfg.burst_drop_m = (TG_FLOAT)v.burst_drop_m;
+    cfg.burst_readings = v.burst_readings;
+    cfg.tropopause_max_p_pa = (TG_FLOAT)v.tropopause_max_p_pa;
+    cfg.rh_tol_pct = (TG_FLOAT)v.rh_tol_pct;
+    cfg.track_sigma = v.track_sigma != 0;
+    cfg.on_event = on_event;
+    cfg.on_event_ctx = on_event_ctx;
+    cfg.geoid_undulation_m = (TG_FLOAT)v.geoid_n;
+    if (tg_column_init(&c, &cfg) != TG_OK)
+        return TG_CHECKPOINT;                                  /* settings the column refuses */
+#define SET_F(name) c.name = (TG_FLOAT)v.name;
+#define SET_I(name) c.name = v.name;
+    TGPY_COLUMN__ST_F(SET_F)
+    TGPY_COLUMN__ST_I(SET_I)
+#undef SET_F
+#undef SET_I
+    if (!(0 <= c.phase && c.phase <= TG_PH_LANDED && 0 <= c.lvl && c.lvl <= 16 && 0 <= c.tp_state
+          && c.tp_state <= 3 && c.count >= 0 && c.rejected >= 0))
+        return TG_CHECKPOINT;                                  /* impossible state */
+    *col = c;
     return TG_OK;
 }

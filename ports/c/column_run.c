@@ -6,6 +6,8 @@
  *        <dry_fallback 0|1> <track_sigma 0|1> <max_rate_m_s|-> <geoid_undulation_m|->
  *   feed <p_pa> <t_k> <rh_pct|-> <time_s|-> <gps_m|->
  *   reanchor <sigma_gps_m>
+ *   save                 prints "b <hex of tg_column_to_bytes>" first
+ *   load <hex>           tg_column_from_bytes (on_event passed again)
  * Output: "e <count> <bits>" for every on_event call, and one line per command
  *   r <status> <reason> <bits or shift> <count> <rejected> <flags> <phase> <p_pa> ...
  * (the attributes of ATTRS below, %.17g). Exit status 2 on a malformed line.
@@ -50,14 +52,14 @@ static void show(const tg_column *c, tg_status st, double res)
 int main(void)
 {
     static tg_column col;
-    char line[512];
+    static char line[16384];
     int lineno = 0;
     while (fgets(line, sizeof line, stdin) != NULL) {
-        char *tok[10];
+        char *tok[12];
         int n = 0;
         char *s = strtok(line, " \t\r\n");
         lineno++;
-        while (s != NULL && n < 10) {
+        while (s != NULL && n < 12) {
             tok[n++] = s;
             s = strtok(NULL, " \t\r\n");
         }
@@ -91,6 +93,33 @@ int main(void)
             TG_FLOAT shift;
             tg_status st = tg_column_reanchor_gps(&col, (TG_FLOAT)strtod(tok[1], NULL), &shift);
             show(&col, st, (double)shift);
+        } else if (strcmp(tok[0], "save") == 0 && n == 1) {
+            unsigned char buf[TG_CHECKPOINT_BYTES];
+            tg_status st = tg_column_to_bytes(&col, buf, sizeof buf);
+            size_t i;
+            printf("b ");
+            for (i = 0; i < sizeof buf; i++)
+                printf("%02x", buf[i]);
+            printf("\n");
+            show(&col, st, 0.0);
+        } else if (strcmp(tok[0], "load") == 0 && n == 2) {
+            static unsigned char buf[4096];
+            size_t len = strlen(tok[1]) / 2, i;
+            tg_status st;
+            if (len > sizeof buf) {
+                fprintf(stderr, "column_run: line %d: blob too long\n", lineno);
+                return 2;
+            }
+            for (i = 0; i < len; i++) {
+                unsigned x;
+                if (sscanf(tok[1] + 2 * i, "%2x", &x) != 1) {
+                    fprintf(stderr, "column_run: line %d: bad hex\n", lineno);
+                    return 2;
+                }
+                buf[i] = (unsigned char)x;
+            }
+            st = tg_column_from_bytes(&col, buf, len, on_event, NULL);
+            show(&col, st, 0.0);
         } else {
             fprintf(stderr, "column_run: line %d malformed\n", lineno);
             return 2;

@@ -14,6 +14,7 @@ const char *tg_status_name(tg_status st)
     case TG_ELLIPSOID: return "ellipsoid";
     case TG_READING: return "reading";
     case TG_STATE: return "state";
+    case TG_CHECKPOINT: return "checkpoint";
     }
     return "unknown";
 }

@@ -7,8 +7,10 @@ Usage (from the repository root):
 
 What is copied: module-level assignments whose value is a number, a
 negation, an arithmetic expression of numbers only (e.g. 1.0 / 298.257223563),
-or a (nested) tuple of those; and the keyword arguments of the
-``Ellipsoid(...)`` calls of constants.py. Names that depend on other names
+or a (nested) tuple of those; the keyword arguments of the ``Ellipsoid(...)``
+calls of constants.py; strings and bytes (as C strings); and tuples of
+strings (the checkpoint layout of column.py) as X-macro lists,
+NAME(X) -> X(a) X(b) ..., with the leading underscore of each name dropped. Names that depend on other names
 (RD = R_STAR / M0_KG_MOL, _DEG = math.pi / 180.0, ...) are written by hand in
 the C sources with the same expression. The source text of each literal is kept
 as written, so a reader can grep the same digits in both languages.
@@ -75,7 +77,23 @@ def _c_number(src, node):
     return "(" + text + ")", False
 
 
+def _is_str(node):
+    return isinstance(node, ast.Constant) and isinstance(node.value, (str, bytes))
+
+
 def _emit_value(src, name, node, lines):
+    if _is_str(node):
+        text = node.value.decode("ascii") if isinstance(node.value, bytes) else node.value
+        assert all(32 <= ord(ch) < 127 and ch not in '"\\' for ch in text), text
+        lines.append('#define %s "%s"' % (name, text))
+        return True
+    if isinstance(node, ast.Tuple) and node.elts and all(_is_str(e) for e in node.elts):
+        # a tuple of attribute names (checkpoint layout): an X-macro list, the
+        # leading underscore of private names dropped (C struct member names)
+        names = [e.value.lstrip("_") for e in node.elts]
+        lines.append("#define %s_N %d" % (name, len(names)))
+        lines.append("#define %s(X) \\\n    %s" % (name, " \\\n    ".join("X(%s)" % n for n in names)))
+        return True
     if _is_number_expr(node):
         text, is_int = _c_number(src, node)
         if is_int and not any(isinstance(n, ast.BinOp) for n in ast.walk(node)):

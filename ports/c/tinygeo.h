@@ -27,7 +27,9 @@
  *   TG_READING      a column reading was rejected (Python: ReadingError; the
  *                   reason is stored in the column, see tg_column_feed);
  *   TG_STATE        a column method called in a state that does not allow it
- *                   (Python: TinygeoError from reanchor_gps).
+ *                   (Python: TinygeoError from reanchor_gps);
+ *   TG_CHECKPOINT   a checkpoint blob is truncated, corrupted, of another
+ *                   version or holds impossible settings (CheckpointError).
  * On any status other than TG_OK, *out is set to NaN (never left holding a
  * stale value) and no other state changes. tg_status_name() gives a short
  * word for logs. Arguments are checked in the same order as in Python, so
@@ -48,6 +50,8 @@
 #define TG_FLOAT double
 #endif
 
+#include <stddef.h>
+
 #ifdef __cplusplus
 extern "C" {
 #endif
@@ -58,10 +62,11 @@ typedef enum tg_status {
     TG_MODEL_RANGE = 2,
     TG_ELLIPSOID = 3,
     TG_READING = 4,
-    TG_STATE = 5
+    TG_STATE = 5,
+    TG_CHECKPOINT = 6
 } tg_status;
 
-/* "ok", "range", "model_range", "ellipsoid", "reading", "state" */
+/* "ok", "range", "model_range", "ellipsoid", "reading", "state", "checkpoint" */
 const char *tg_status_name(tg_status st);
 
 /* ---- constants.py ------------------------------------------------------ */
@@ -236,6 +241,19 @@ tg_status tg_column_feed(tg_column *col, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_F
 /* col.reanchor_gps(sigma_gps_m): *out = the shift applied, m. TG_STATE when
  * the latest reading has no gps_m, TG_RANGE for a bad sigma_gps_m. */
 tg_status tg_column_reanchor_gps(tg_column *col, TG_FLOAT sigma_gps_m, TG_FLOAT *out);
+/* Checkpoints, byte for byte the layout of column.py's to_bytes() (magic
+ * "TGCK", version, payload length, the settings and state as little-endian
+ * IEEE doubles and int32s, CRC-32): a blob written by C is read by Python's
+ * Column.from_bytes and the other way round. Needs IEEE 754 binary64 doubles
+ * for the packing (a float build converts each value to double and back,
+ * exactly). on_event is not stored: pass it to tg_column_from_bytes. */
+#define TG_CHECKPOINT_BYTES 671
+/* col.to_bytes(): writes TG_CHECKPOINT_BYTES bytes (TG_RANGE if size is smaller) */
+tg_status tg_column_to_bytes(const tg_column *col, unsigned char *buf, size_t size);
+/* Column.from_bytes(blob, on_event): TG_CHECKPOINT and col untouched on a bad blob */
+tg_status tg_column_from_bytes(tg_column *col, const unsigned char *blob, size_t n,
+                               tg_column_event_fn on_event, void *on_event_ctx);
+
 /* The uncertainty properties, m (NaN before the first reading or without track_sigma). */
 TG_FLOAT tg_column_sigma_random_m(const tg_column *col);
 TG_FLOAT tg_column_sigma_bias_m(const tg_column *col);
