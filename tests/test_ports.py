@@ -389,16 +389,29 @@ def test_circuitpython_code_without_writable_storage(tmp_path, cp_drive, full_ru
 
 
 CP_STUBS = ROOT / ".typings" / "cp"
+MP_STUBS = ROOT / ".typings" / "mp"
+
+
+def _mypy(config, stubs_marker, install_hint, files):
+    if not stubs_marker.exists():
+        if IN_CI:
+            pytest.fail("stubs missing (%s); .ci/run installs them" % stubs_marker)
+        pytest.skip(install_hint)
+    cmd = [sys.executable, "-m", "mypy", "--config-file", str(ROOT / config),
+           "--no-incremental", "--cache-dir", os.devnull] + [str(f) for f in files]
+    return subprocess.run(cmd, capture_output=True, text=True, cwd=str(ROOT), timeout=300)
 
 
 def _mypy_cp(files):
-    if not (CP_STUBS / "stdlib" / "math").exists():
-        if IN_CI:
-            pytest.fail("CircuitPython stubs missing in .typings/cp; .ci/run installs them")
-        pytest.skip("pip install --target .typings/cp circuitpython-typeshed==0.1.0")
-    cmd = [sys.executable, "-m", "mypy", "--config-file", str(ROOT / "mypy-circuitpython.ini"),
-           "--no-incremental", "--cache-dir", os.devnull] + [str(f) for f in files]
-    return subprocess.run(cmd, capture_output=True, text=True, cwd=str(ROOT), timeout=300)
+    return _mypy("mypy-circuitpython.ini", CP_STUBS / "stdlib" / "math",
+                 "pip install --target .typings/cp circuitpython-typeshed==0.1.0", files)
+
+
+def test_micropython_example_typechecks_against_micropython_stubs():
+    p = _mypy("mypy-micropython.ini", MP_STUBS / "math.pyi",
+              "pip install --target .typings/mp micropython-rp2-stubs==1.29.0.post1",
+              [MAIN, MP_PORT / "flightsim.py", MP_PORT / "logbook.py"])
+    assert p.returncode == 0, p.stdout + p.stderr
 
 
 def test_core_and_circuitpython_example_typecheck_against_circuitpython_stubs():
