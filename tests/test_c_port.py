@@ -649,9 +649,13 @@ def run_py_column(cmds, mod_column=None, ellipsoids=(WGS84, GRS80)):
         if verb == "init":
             res = 0.0
             lat, start, anchor, ell, ice, dry, track, rate, geoid = args
-            col = cls(lat, start, anchor, ellipsoids[int(ell)], bool(ice), bool(dry),
-                      max_rate_m_s=rate, track_sigma=bool(track), geoid_undulation_m=geoid,
-                      on_event=cb)
+            try:
+                col = cls(lat, start, anchor, ellipsoids[int(ell)], bool(ice), bool(dry),
+                          max_rate_m_s=rate, track_sigma=bool(track), geoid_undulation_m=geoid,
+                          on_event=cb)
+            except errors.RangeError:
+                rows.append(("range", None, 0.0, None))
+                continue
         elif verb == "feed":
             res = 0.0
             try:
@@ -922,3 +926,19 @@ def test_float_build_checkpoint_reads_in_python_and_resumes(build):
     assert len(rows_resumed) == len(plain[0])
     for a, b in zip(rows_resumed, plain[0]):
         assert a[0] == b[0] and all(_same(x, y) for x, y in zip(a[3], b[3]))
+
+
+def test_column_bad_settings(build):
+    """tg_column_init refuses the settings Python's constructor refuses (RangeError
+    -> TG_RANGE) and accepts the edge values it accepts."""
+    good = (48.2, 512.0, None, 0, 0, 0, 1, 200.0, None)
+    variants = [(0, 91.0), (0, NAN), (1, 100001.0), (1, -1001.0), (2, 0.05), (2, 130000.0),
+                (7, 0.5), (7, 10001.0), (8, 151.0), (8, INF),
+                (0, 90.0), (1, 100000.0), (2, 0.1), (7, 1.0), (8, -150.0)]
+    for idx, value in variants:
+        cfg = list(good)
+        cfg[idx] = value
+        cmds = [("init", tuple(cfg))]
+        crow, _ = run_c_column(build["column_double"], cmds)
+        prow, _ = run_py_column(cmds)
+        assert crow[0][0] == prow[0][0], (idx, value, crow[0][0], prow[0][0])
