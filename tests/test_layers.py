@@ -84,8 +84,12 @@ def test_ln_ratio_float32(monkeypatch):
     rounded to float32 afterwards (a board's logf adds up to ~1 ulp more)."""
     assert int(np.__version__.split(".")[0]) >= 2
     monkeypatch.setattr(layers, "_LN_C", layers._ln_coefs(layers.LN_TERMS_F32))
+    d2s, ms = layers._ln_tiers(True)
+    monkeypatch.setattr(layers, "_TIER_D2", d2s)
+    monkeypatch.setattr(layers, "_TIER_M", ms)
     rnd = np.random.default_rng(20261201)
-    ratios = F32_ULP_CASES + list(np.exp(rnd.uniform(-3.0, 3.0, 500))) + list(1.0 + rnd.uniform(-0.3, 0.3, 500))
+    # include the thin layers of the truncated tiers (|d| up to 1e-2, 5e-2)
+    ratios = F32_ULP_CASES + [1.0 + x for x in (1e-5, 1e-4, 1.9e-3, 2.1e-3, 1.99e-2, 2.01e-2, 0.099, 0.101)] + list(np.exp(rnd.uniform(-3.0, 3.0, 500))) + list(1.0 + rnd.uniform(-0.3, 0.3, 500))
     worst = 0.0
     for p2f in (100000.0, 50000.0, 1013.0, 12.5):
         for r in ratios:

@@ -51,6 +51,10 @@ def _fmt(value):
         return "<unprintable>"
 
 
+_INF = float("inf")
+_NINF = float("-inf")
+
+
 def as_finite(name, value, unit, error=RangeError):
     """Return ``value`` as a float, or raise ``error`` if it is not a finite number.
 
@@ -59,7 +63,7 @@ def as_finite(name, value, unit, error=RangeError):
         x = float(value)
     except (TypeError, ValueError):
         raise error("%s=%s is not a number; pass a finite number in %s" % (name, _fmt(value), unit))
-    if x != x or x in (float("inf"), float("-inf")):
+    if x != x or x == _INF or x == _NINF:   # comparisons allocate nothing
         raise error("%s=%s is not finite; pass a finite number in %s" % (name, _fmt(value), unit))
     return x
 

@@ -79,14 +79,43 @@ _FLOAT32 = (1.0 + 2.0 ** -30) == 1.0   # True on float32 / 30-bit float builds
 _LN_C = _ln_coefs(LN_TERMS_F32 if _FLOAT32 else LN_TERMS_F64)
 
 
+# Fewer terms serve the thin layers between consecutive readings (|d| ~ 1e-4,
+# the common case on a logger, and each Horner step allocates two floats on
+# MicroPython): the series is cut where the next dropped term is below
+# 0.1 u of the precision in use, by |d| tier (relative truncation error
+# d^(2m+2)/(2m+3) with m coefficients after the leading 1):
+#   float64: |d| < 1e-3: m = 2 (1.4e-19); |d| < 1e-2: m = 4 (1.1e-21);
+#            |d| < 0.05: m = 6 (5e-18); otherwise all 12 (|d| < 0.25).
+#   float32: |d| < 1e-2: m = 1 (2e-9); |d| < 0.05: m = 2 (2.2e-9); otherwise all 5.
+def _ln_tiers(float32):
+    # (d^2 thresholds, coefficients used below each) for the precision in use
+    if float32:
+        return (1e-4, 2.5e-3, 2.5e-3), (1, 2, 2)
+    return (1e-6, 1e-4, 2.5e-3), (2, 4, 6)
+
+
+_TIER_D2, _TIER_M = _ln_tiers(_FLOAT32)
+
+
 def _lnr(p1, p2):
     # ln(p1/p2) for p1, p2 > 0, no checks (see the error analysis above).
     d = (p1 - p2) / (p1 + p2)
     if -LN_SWITCH < d < LN_SWITCH:
         d2 = d * d
-        acc = 0.0
-        for c in _LN_C:
-            acc = acc * d2 + c
+        n = len(_LN_C)
+        if d2 < _TIER_D2[0]:
+            i = n - _TIER_M[0]
+        elif d2 < _TIER_D2[1]:
+            i = n - _TIER_M[1]
+        elif d2 < _TIER_D2[2]:
+            i = n - _TIER_M[2]
+        else:
+            i = 0
+        acc = _LN_C[i]
+        i += 1
+        while i < n:
+            acc = acc * d2 + _LN_C[i]
+            i += 1
         return 2.0 * d * (1.0 + d2 * acc)
     if d > 0.0:
         return math.log(p1 / p2)
