@@ -30,16 +30,42 @@ static const TG_FLOAT LN_C_ALL[12] = {
 };
 typedef char tg__ln_terms_fit[(LN_TERMS >= 2 && LN_TERMS - 1 <= 12) ? 1 : -1];
 
+/* layers._ln_tiers: the series is cut by |d| tier (d^2 thresholds, number of
+ * coefficients used below each); the literals of the function in layers.py
+ * (tests/test_c_port.py compares them with it) */
+#if TG_SINGLE
+static const TG_FLOAT TIER_D2[3] = { TG_L(1e-4), TG_L(2.5e-3), TG_L(2.5e-3) };   /* _ln_tiers(True) */
+static const int TIER_M[3] = { 1, 2, 2 };                                      /* _ln_tiers(True) */
+#else
+static const TG_FLOAT TIER_D2[3] = { TG_L(1e-6), TG_L(1e-4), TG_L(2.5e-3) };     /* _ln_tiers(False) */
+static const int TIER_M[3] = { 2, 4, 6 };                                      /* _ln_tiers(False) */
+#endif
+
 /* layers._lnr: ln(p1/p2) for p1, p2 > 0, no checks */
 TG_FLOAT tg__layers_lnr(TG_FLOAT p1, TG_FLOAT p2)
 {
     TG_FLOAT d = (p1 - p2) / (p1 + p2);
     if (-LN_SWITCH < d && d < LN_SWITCH) {
+        /* _LN_C[j] is LN_C_ALL[base + j], j = 0 .. n-1 */
+        const TG_FLOAT *ln_c = LN_C_ALL + (12 - (LN_TERMS - 1));
+        const int n = LN_TERMS - 1;
         TG_FLOAT d2 = d * d;
-        TG_FLOAT acc = TG_L(0.0);
+        TG_FLOAT acc;
         int i;
-        for (i = 12 - (LN_TERMS - 1); i < 12; i++)
-            acc = acc * d2 + LN_C_ALL[i];
+        if (d2 < TIER_D2[0])
+            i = n - TIER_M[0];
+        else if (d2 < TIER_D2[1])
+            i = n - TIER_M[1];
+        else if (d2 < TIER_D2[2])
+            i = n - TIER_M[2];
+        else
+            i = 0;
+        acc = ln_c[i];
+        i += 1;
+        while (i < n) {
+            acc = acc * d2 + ln_c[i];
+            i += 1;
+        }
         return TG_L(2.0) * d * (TG_L(1.0) + d2 * acc);
     }
     if (d > TG_L(0.0))
