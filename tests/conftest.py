@@ -37,3 +37,21 @@ def run_script(exe, args, cwd=ROOT, timeout=120, extra_env=None):
                        env=env, cwd=str(cwd), timeout=timeout)
     assert p.returncode == 0, "%s %s failed (rc=%d):\n%s\n%s" % (exe, args, p.returncode, p.stdout, p.stderr)
     return p.stdout
+
+
+@pytest.fixture(autouse=True)
+def _mpmath_precision():
+    """Every test starts with mpmath at 40 significant digits and cannot leak a
+    change of the global precision into the next test (tests that need more or
+    less set it themselves)."""
+    try:
+        import mpmath
+    except ImportError:  # pragma: no cover - mpmath is a dev dependency
+        yield
+        return
+    old = mpmath.mp.dps
+    mpmath.mp.dps = 40
+    try:
+        yield
+    finally:
+        mpmath.mp.dps = old
