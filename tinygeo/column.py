@@ -253,11 +253,9 @@ of up to 32 bits; truncation is caught by the length. on_event is not stored
 import math
 import struct
 
-from .potential import (geometric_height, geopotential_height, msl_height, GPH_MIN_M,
-                        GPH_MAX_M)
-from .layers import layer_thickness, ln_ratio
-from .moisture import (virtual_temperature, virtual_temperature_from_mixing_ratio,
-                       vapour_pressure, mixing_ratio)
+from .potential import msl_height, GPH_MIN_M, GPH_MAX_M, _coefs, _gph, _geom
+from .layers import layer_thickness, ln_ratio, _thickness
+from .moisture import vapour_pressure, mixing_ratio, _tv, _tv_w
 from .constants import G0, RD, WGS84, GRS80
 from .errors import (TinygeoError, RangeError, ReadingError, CheckpointError, check_lat,
                      check_range, temperature_hint, pressure_hint, _fmt)
@@ -308,6 +306,7 @@ WMO_DEPTH_GPM = 2000.0
 
 _NAN = float("nan")
 _INF = float("inf")
+_NINF = float("-inf")
 _KH = 0.5 * RD / G0        # half of Rd/g0, gpm/K
 _NODE_D = 1500.0           # m between the nodes of the height quadratic
 _NODE_W = 3000.0           # gpm: the quadratic is used within +-_NODE_W of its node
@@ -423,6 +422,8 @@ class Column:
         self.tropopause_max_p_pa = _setting("tropopause_max_p_pa", tropopause_max_p_pa, 0.0,
                                             P_MAX_PA, "Pa")
         self.rh_tol_pct = _setting("rh_tol_pct", rh_tol_pct, 0.0, 3.0, "%")
+        self._rh_lo = -self.rh_tol_pct          # derived, so feed builds no float for its check
+        self._rh_hi = 100.0 + self.rh_tol_pct
         self.track_sigma = bool(track_sigma)
         self.on_event = on_event
         if geoid_undulation_m is None:
@@ -431,7 +432,10 @@ class Column:
             self._geoid_n = check_range("geoid_undulation_m", geoid_undulation_m, -150.0, 150.0, "m",
                                         "geoid undulation N in metres (Earth: about -107..+86 m)")
         # --- derived settings
-        self._start_gph = geopotential_height(self.start_height_m, self.lat_deg, self.ellipsoid)
+        # the geopotential series at this latitude, evaluated once (tinygeo.potential)
+        self._pc = _coefs(self.lat_deg, self.ellipsoid)
+        self._a = self.ellipsoid.a_m
+        self._start_gph = _gph(self.start_height_m, self._pc, self._a)
         self._min_rate = -self._max_rate
         self._sp2 = self.sigma_p_pa * self.sigma_p_pa
         self._st2 = self.sigma_t_k * self.sigma_t_k
@@ -527,11 +531,10 @@ class Column:
                       % (_fmt(t_k), T_MIN_K, T_MAX_K, _hint(temperature_hint(t))))
         if rh_pct is not None:
             rh = self._num(rh_pct, "rh_pct", "%")
-            tol = self.rh_tol_pct
-            if not -tol <= rh <= 100.0 + tol:
+            if not self._rh_lo <= rh <= self._rh_hi:
                 self._bad("humidity", "rh_pct=%s outside %g..%g %%; relative humidity in percent "
                           "expected (a fraction 0..1 would be far too dry; pass None if unknown)"
-                          % (_fmt(rh_pct), -tol, 100.0 + tol))
+                          % (_fmt(rh_pct), self._rh_lo, self._rh_hi))
         if time_s is not None:
             ts = self._num(time_s, "time_s", "s")
             if ts < self._t_last:
@@ -555,7 +558,7 @@ class Column:
         first = self.count == 0
         if rh_pct is not None:
             try:
-                tv = virtual_temperature(t, p, rh, self.ice)
+                tv = _tv(t, p, rh, self.ice)    # tinygeo.virtual_temperature, checked above
             except RangeError as e:
                 self._bad("humidity", "rh_pct=%s at t_k=%r, p_pa=%r: %s" % (_fmt(rh_pct), t, p, e))
             if rh >= _RH_SLOPE_MIN:
@@ -572,7 +575,12 @@ class Column:
             else:
                 if w != w:
                     w = self._held_mixing_ratio()
-                tv = virtual_temperature_from_mixing_ratio(t, w)
+                if w > 1.0:
+                    self._bad("humidity", "rh_pct=None: the held mixing ratio %r kg/kg (latest reading "
+                              "with a humidity) is above 1 kg/kg, beyond "
+                              "virtual_temperature_from_mixing_ratio; pass rh_pct, or set "
+                              "dry_fallback=True" % (w,))
+                tv = _tv_w(t, w)                # tinygeo.virtual_temperature_from_mixing_ratio
                 flags = FL_HELD_MIXING
         t0 = self.t_k
         if first:
@@ -591,11 +599,14 @@ class Column:
                 flags |= FL_SAME_P
             g = s
         else:
-            try:
-                dz = layer_thickness(p0, p, tv0, tv)
-            except RangeError as e:
-                self._bad("temperature", "virtual temperature %r K (t_k=%r) at p_pa=%r: %s"
-                          % (tv, t, p, e))
+            if T_MIN_K <= tv <= T_MAX_K and T_MIN_K <= tv0 <= T_MAX_K:
+                dz = _thickness(p0, p, tv0, tv)   # tinygeo.layer_thickness, arguments checked
+            else:
+                try:
+                    dz = layer_thickness(p0, p, tv0, tv)   # raises, with the message
+                except RangeError as e:
+                    self._bad("temperature", "virtual temperature %r K (t_k=%r) at p_pa=%r: %s"
+                              % (tv, t, p, e))
             if p > p0:
                 flags |= FL_DESCENT
             # classic Kahan step: c carries the part of the sum lost so far
@@ -738,7 +749,7 @@ class Column:
             v = float(x)
         else:
             self._bad("number", "%s=%s is not a number; pass a finite float in %s" % (name, _fmt(x), unit))
-        if v != v or v == _INF or v == -_INF:
+        if v != v or v == _INF or v == _NINF:   # comparisons allocate nothing
             self._bad("number", "%s=%s is not finite; pass a finite number in %s (None if unknown)"
                       % (name, _fmt(x), unit))
         return v
@@ -766,14 +777,14 @@ class Column:
             self._n_lo = g
             self._n_hi = g
             return
-        lat = self.lat_deg
-        ell = self.ellipsoid
-        h = geometric_height(g, lat, ell)
+        c = self._pc
+        a = self._a
+        h = _geom(g, c, a)
         d = _NODE_D
         if h + 2.0 * d > GPH_MAX_M:
             d = -d
-        ga = geopotential_height(h + d, lat, ell)
-        gb = geopotential_height(h + 2.0 * d, lat, ell)
+        ga = _gph(h + d, c, a)
+        gb = _gph(h + 2.0 * d, c, a)
         sa = d / (ga - g)               # divided differences of h over gph (Newton form)
         k2 = (d / (gb - ga) - sa) / (gb - g)
         self._n_g = g
@@ -827,8 +838,7 @@ class Column:
             self.level_gph_m = g0 + f * (g - g0)
             self.level_t_k = t0 + f * (t - t0)
             if GPH_MIN_M <= self.level_gph_m <= GPH_MAX_M:
-                self.level_height_m = geometric_height(self.level_gph_m, self.lat_deg,
-                                                       self.ellipsoid)
+                self.level_height_m = _geom(self.level_gph_m, self._pc, self._a)
             else:
                 self.level_height_m = _NAN
             lvl += 1
@@ -913,7 +923,7 @@ class Column:
             raise TinygeoError("reanchor_gps(): the latest reading has no gps_m; feed a reading "
                                "with gps_m first")
         sg = _setting("sigma_gps_m", sigma_gps_m, 0.0, 10000.0, "m")
-        target = geopotential_height(self.gps_m, self.lat_deg, self.ellipsoid)
+        target = _gph(self.gps_m, self._pc, self._a)
         d = target - self.gph_m
         old_h = self.height_m
         self.gph_m = target

@@ -166,6 +166,12 @@ def layer_thickness(p_lower_pa, p_upper_pa, tv_lower_k, tv_upper_k):
     p2 = _check_p("p_upper_pa", p_upper_pa)
     t1 = check_t_k("tv_lower_k", tv_lower_k)
     t2 = check_t_k("tv_upper_k", tv_upper_k)
+    return _thickness(p1, p2, t1, t2)
+
+
+def _thickness(p1, p2, t1, t2):
+    # layer_thickness without the argument checks, for callers that have
+    # checked the pressures and temperatures already (tinygeo.column)
     return _HALF_RG * (t1 + t2) * _lnr(p1, p2)
 
 

@@ -301,9 +301,13 @@ def virtual_temperature(t_k, p_pa, rh_pct, ice=False):
 
     Example: virtual_temperature(293.15, 101325.0, 50.0) -> 294.4372 K.
     """
-    t_k = check_t_k("t_k", t_k)
-    p_pa = check_p_pa("p_pa", p_pa, P_MIN_PA, P_MAX_PA)
-    rh_pct = check_rh(rh_pct)
+    return _tv(check_t_k("t_k", t_k), check_p_pa("p_pa", p_pa, P_MIN_PA, P_MAX_PA),
+               check_rh(rh_pct), ice)
+
+
+def _tv(t_k, p_pa, rh_pct, ice):
+    # virtual_temperature without the argument checks, for callers that have
+    # checked t_k, p_pa and rh_pct already (tinygeo.column); RangeError if e >= p
     e = rh_pct * 0.01 * _f(p_pa) * _es(t_k, ice)
     if e >= p_pa:
         raise _boiling(e, p_pa)
@@ -328,4 +332,9 @@ def virtual_temperature_from_mixing_ratio(t_k, w_kg_kg):
         hint = "mixing ratio in kg/kg expected; g/kg passed? divide by 1000" if 1.0 < w <= 100.0 else \
             "mixing ratio is >= 0"
         raise RangeError("w_kg_kg=%r outside 0..1 kg/kg; %s" % (w, hint))
+    return _tv_w(t_k, w)
+
+
+def _tv_w(t_k, w):
+    # virtual_temperature_from_mixing_ratio without the checks (callers check)
     return t_k * (1.0 + w / EPSILON) / (1.0 + w)

@@ -122,26 +122,47 @@ def _sin2(lat_deg):
     return sp * sp
 
 
-def _excess(h, s, tab, a):
-    # gph - h = h * sum_n D_n(s) t^(n-1), t = h/a   (Horner in t)
-    t = h / a
-    acc = 0.0
-    i = len(tab) - 1
-    while i >= 0:
-        acc = acc * t + _poly(tab[i], s)
-        i -= 1
-    return h * acc
+def _coefs(lat_deg, ellipsoid):
+    # The series evaluated at one latitude, once: a list of 12 floats,
+    # D_1(s) .. D_6(s) then 1*D_1(s) .. 6*D_6(s) (the slope's coefficients),
+    # s = sin^2(lat). No checks (callers check). The same values, operation for
+    # operation, as evaluating the polynomials at every use, so results built
+    # on them are bit-identical; a Column keeps one such list for its latitude.
+    tab = _table(ellipsoid)
+    s = _sin2(lat_deg)
+    c = [_poly(row, s) for row in tab]
+    c += [(i + 1) * c[i] for i in range(len(tab))]
+    return c
 
 
-def _slope(h, s, tab, a):
-    # d gph / dh = 1 + sum_n n D_n(s) t^(n-1)
+def _gph(h, c, a):
+    # geopotential height of h, gpm: h + h * sum_n D_n t^(n-1), t = h/a
+    # (Horner in t); c from _coefs, a the ellipsoid's semi-major axis, m
     t = h / a
-    acc = 0.0
-    i = len(tab) - 1
+    acc = c[5]
+    i = 4
     while i >= 0:
-        acc = acc * t + (i + 1) * _poly(tab[i], s)
+        acc = acc * t + c[i]
         i -= 1
-    return 1.0 + acc
+    return h + h * acc
+
+
+def _geom(z, c, a):
+    # geometric height of the geopotential height z, m: three Newton steps on
+    # the residual (h - z) + excess(h), (h - z) exact in floating point;
+    # c from _coefs. No checks (callers check).
+    h = z / (1.0 + c[0] + c[1] * (z / a))
+    for _ in range(3):
+        t = h / a
+        ex = c[5]
+        sl = c[11]
+        i = 4
+        while i >= 0:
+            ex = ex * t + c[i]
+            sl = sl * t + c[i + 6]
+            i -= 1
+        h = h - ((h - z) + h * ex) / (1.0 + sl)
+    return h
 
 
 def geopotential_height(height_m, lat_deg, ellipsoid=WGS84):
@@ -167,9 +188,7 @@ def geopotential_height(height_m, lat_deg, ellipsoid=WGS84):
     Example: geopotential_height(10000.0, 45.0) -> 9983.8313 gpm (WGS 84)
     """
     h = check_height(height_m)
-    s = _sin2(check_lat(lat_deg))
-    tab = _table(ellipsoid)
-    return h + _excess(h, s, tab, ellipsoid.a_m)
+    return _gph(h, _coefs(check_lat(lat_deg), ellipsoid), ellipsoid.a_m)
 
 
 def geopotential(height_m, lat_deg, ellipsoid=WGS84):
@@ -201,14 +220,7 @@ def geometric_height(gph_m, lat_deg, ellipsoid=WGS84):
     """
     z = check_range("gph_m", gph_m, GPH_MIN_M, GPH_MAX_M, "gpm",
                     "geopotential height in metres (gpm); km or feet passed?")
-    s = _sin2(check_lat(lat_deg))
-    tab = _table(ellipsoid)
-    a = ellipsoid.a_m
-    h = z / (1.0 + _poly(tab[0], s) + _poly(tab[1], s) * (z / a))
-    for _ in range(3):
-        # residual gph(h) - z, with (h - z) exact in floating point
-        h = h - ((h - z) + _excess(h, s, tab, a)) / _slope(h, s, tab, a)
-    return h
+    return _geom(z, _coefs(check_lat(lat_deg), ellipsoid), ellipsoid.a_m)
 
 
 def msl_height(ellipsoidal_height_m, geoid_undulation_m):
