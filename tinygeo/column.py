@@ -3,11 +3,16 @@ reading: live geopotential and geometric height, vertical rate, flight events,
 height uncertainty, GPS cross-check and power-loss checkpoints.
 
 ``Column`` keeps a fixed set of attributes and updates them in place: every
-``feed`` costs O(1) time and memory (no list, dict, tuple or string is built on
-the accepted path) and calls the core modules for every formula:
-``tinygeo.moisture`` (virtual temperature), ``tinygeo.layers`` (thickness of
-the layer between two readings, stable ln(p1/p2)) and ``tinygeo.potential``
-(geopotential height of the start, geometric height of the column).
+``feed`` costs O(1) time and memory (no list, dict or string is built on the
+accepted path; one 6-tuple when a new height node is taken, every 3 km) and
+calls the core modules for every formula: ``tinygeo.moisture`` (virtual
+temperature), ``tinygeo.layers`` (thickness of the layer between two
+readings, stable ln(p1/p2)) and ``tinygeo.potential`` (geopotential height of
+the start, geometric height of the column). Having checked a reading itself,
+it uses their unchecked internal forms (moisture._q, layers._half_k_ln,
+potential._gph/_geom with the latitude's series evaluated once): the same
+formulas, without building the floats of a second round of argument checks
+(on MicroPython every float result is a heap block; bench/heap.py).
 
 Logger loop (a sketch; ``sensor`` is your driver, ``flash`` your storage)::
 
@@ -65,8 +70,10 @@ rh_tol_pct=3.0, track_sigma=True, on_event=None, geoid_undulation_m=None)``
   0.5 hPa; temperature noise 0.2 K and calibration 0.2 K; humidity noise 1 %RH
   and calibration 3 %RH. A consumer MEMS barometer is closer to 0.02 hPa noise
   and 1 hPa offset (data-sheet class, from memory).
-- max_rate_m_s: fastest believable vertical speed, m/s (|d gph / dt|, gpm/s);
-  a reading implying more is rejected (reason 'rate'). None disables the check.
+- max_rate_m_s: fastest believable vertical speed, m/s (|rate_m_s|, the
+  geometric height difference over the time step; above 98 750 gpm, where
+  height_m is nan, nothing is checked); a reading implying more is rejected
+  (reason 'rate'). None disables the check.
   200 m/s is above the free fall of a burst balloon's train in the thin upper
   air (tens of m/s, up to about 100 m/s at 30 km; common practice).
 - landing_s, landing_tol_pa: after the burst, pressure within landing_tol_pa of
@@ -152,7 +159,9 @@ is taken at the current gph_m). h(gph) has d3h/dgph3 ~ 6/R^2 = 1.5e-13 per
 m^2, so the interpolation error is below 3 mm (double precision), and one
 Newton solve plus two series evaluations every 3 km replace a Newton solve
 per reading. At a node height_m is exactly geometric_height(gph_m) (so the
-first reading sits at start_height_m to 1e-9 m). rate_m_s is the difference
+first reading sits at start_height_m to 1e-9 m). The series coefficients of
+the latitude (tinygeo.potential) are evaluated once, in the constructor, so a
+node costs about 130 float results instead of 800 (MicroPython heap). rate_m_s is the difference
 of these heights over the time step. Above 98 750 gpm (outside
 geometric_height) height_m is nan.
 
@@ -206,9 +215,9 @@ Tm_i = (Tv_{i-1}+Tv_i)/2 the sensitivities are
   dz_n/dTv_i = K (L_i + L_{i+1})/2 (the end readings get one half-layer),
   dz_n/dp_i  = K (Tm_{i+1} - Tm_i)/p_i inside, K Tm_1/p_0 at the start and
                -K Tm_n/p_n at the latest reading,
-  dTv/dT ~ 1 and dTv/dRH ~ (Tv - T)/RH (Tv - T is proportional to the vapour
-  pressure to within e/p; readings under 1 %RH and readings without humidity
-  keep the last slope). dTv/dT = 1 neglects that at constant RH a warmer
+  dTv/dT ~ 1 and dTv/dRH = Tv q at constant T and p, where
+  r = RH q = (1 - eps) e/p and Tv = T/(1 - r) (readings under 1 %RH and
+  readings without humidity keep the last slope). dTv/dT = 1 neglects that at constant RH a warmer
   reading also holds more vapour (Tv - T grows by about 6 % per K): the
   temperature terms come out a few per cent low in humid soundings (2-4 % on
   the tests' 0-31 km humid sounding, exact for dry air).
@@ -248,14 +257,17 @@ bit-identically on the same platform), then CRC-32 (IEEE 802.3 polynomial;
 binascii.crc32 when the firmware has it, else the same CRC computed here)
 of everything before it. CRC-32 detects every single-bit error and every burst
 of up to 32 bits; truncation is caught by the length. on_event is not stored
-(pass it to from_bytes). CHECKPOINT_BYTES is the blob size.
+(pass it to from_bytes). CHECKPOINT_BYTES is the blob size. Version 2 (this
+one) keeps the uncertainty sums as Tv0 + Tv of the latest layer (_tm2) and the
+start pressure (_p_start) instead of version 1's -dz/dp and sum of dz/dTv;
+version 1 blobs are refused.
 """
 import math
 import struct
 
 from .potential import msl_height, GPH_MIN_M, GPH_MAX_M, _coefs, _gph, _geom
-from .layers import layer_thickness, ln_ratio, _thickness
-from .moisture import vapour_pressure, mixing_ratio, _tv, _tv_w
+from .layers import layer_thickness, ln_ratio, _half_k_ln
+from .moisture import vapour_pressure, mixing_ratio, _q, _boiling, _tv_w, _ONE_M_EPS
 from .constants import G0, RD, WGS84, GRS80
 from .errors import (TinygeoError, RangeError, ReadingError, CheckpointError, check_lat,
                      check_range, temperature_hint, pressure_hint, _fmt)
@@ -357,11 +369,11 @@ _ST_F = ("p_pa", "t_k", "tv_k", "rh_pct", "time_s", "gph_m", "_c", "height_m", "
          "_land_lo", "_land_hi", "_land_t", "_h_t", "_h_p", "_h_rh", "_w_held",
          "_tp_g", "_tp_top", "_tp_th", "_tp_p", "_tp_t",
          "_n_g", "_n_h", "_n_k1", "_n_k2", "_n_lo", "_n_hi", "_h_tm",
-         "_var_done", "_ct", "_cp", "_s2", "_sum_a", "_sum_rh", "_sum_p", "_slope", "_var_anchor",
+         "_var_done", "_ct", "_tm2", "_s2", "_p_start", "_sum_rh", "_sum_p", "_slope", "_var_anchor",
          "_gps_g")
 _ST_I = ("count", "rejected", "flags", "phase", "_lvl", "_burst_n", "_tp_state", "_gps_n")
 _MAGIC = b"TGCK"
-_VERSION = 1
+_VERSION = 2
 _HEAD = "<4sBH"            # magic, version, payload length
 _HEAD_LEN = struct.calcsize(_HEAD)
 _PAYLOAD = "<" + "d" * (len(_CFG_F) + len(_ST_F)) + "i" * (len(_CFG_I) + len(_ST_I))
@@ -438,6 +450,7 @@ class Column:
         self._start_gph = _gph(self.start_height_m, self._pc, self._a)
         self._min_rate = -self._max_rate
         self._sp2 = self.sigma_p_pa * self.sigma_p_pa
+        self._spk2 = _KH * _KH * self._sp2
         self._st2 = self.sigma_t_k * self.sigma_t_k
         # --- state
         self.count = 0
@@ -500,9 +513,9 @@ class Column:
         self._h_tm = _NAN
         self._var_done = 0.0
         self._ct = 0.0
-        self._cp = 0.0
+        self._tm2 = 0.0
         self._s2 = 0.0
-        self._sum_a = 0.0
+        self._p_start = _NAN
         self._sum_rh = 0.0
         self._sum_p = 0.0
         self._slope = 0.0
@@ -557,12 +570,16 @@ class Column:
         flags = 0
         first = self.count == 0
         if rh_pct is not None:
-            try:
-                tv = _tv(t, p, rh, self.ice)    # tinygeo.virtual_temperature, checked above
-            except RangeError as e:
-                self._bad("humidity", "rh_pct=%s at t_k=%r, p_pa=%r: %s" % (_fmt(rh_pct), t, p, e))
+            # tinygeo.virtual_temperature (its moisture._tv, inlined to share q):
+            # Tv = T/(1 - r), r = (1 - eps) e/p = rh q, and dTv/dRH = Tv q
+            q = _q(t, p, self.ice)
+            r = rh * q
+            if r >= _ONE_M_EPS:
+                self._bad("humidity", "rh_pct=%s at t_k=%r, p_pa=%r: %s"
+                          % (_fmt(rh_pct), t, p, _boiling(r * p / _ONE_M_EPS, p)))
+            tv = t / (1.0 - r)
             if rh >= _RH_SLOPE_MIN:
-                slope = (tv - t) / rh
+                slope = tv * q
             else:
                 slope = self._slope
             w = _NAN
@@ -595,12 +612,17 @@ class Column:
             c = self._c
         if p0 != p0 or p == p0:   # first reading without anchor, or a repeated pressure
             dz = 0.0
+            a = 0.0
+            tm2 = tv0 + tv
             if not first:
                 flags |= FL_SAME_P
             g = s
         else:
             if T_MIN_K <= tv <= T_MAX_K and T_MIN_K <= tv0 <= T_MAX_K:
-                dz = _thickness(p0, p, tv0, tv)   # tinygeo.layer_thickness, arguments checked
+                # tinygeo.layer_thickness (arguments checked above), as its two products
+                a = _half_k_ln(p0, p)       # (Rd/g0)/2 ln(p0/p): also dz/dTv of either end
+                tm2 = tv0 + tv
+                dz = a * tm2
             else:
                 try:
                     dz = layer_thickness(p0, p, tv0, tv)   # raises, with the message
@@ -613,20 +635,28 @@ class Column:
             y = dz - c
             g = s + y
             c = (g - s) - y
+        # geometric height from the node pair (new nodes are kept in locals until the commit)
+        if self._n_lo <= g <= self._n_hi:
+            nodes = None
+            d = g - self._n_g
+            h = self._n_h + d * (self._n_k1 + d * self._n_k2)
+        else:
+            nodes = self._nodes(g)
+            d = g - nodes[0]
+            h = nodes[1] + d * (nodes[2] + d * nodes[3])
         if time_s is None:
             flags |= FL_NO_TIME
             rate = _NAN
         elif self._t_last == self._t_last:
             dt = ts - self._t_last
-            dg = g - self._g_t
             if dt == 0.0:
-                if dg != 0.0:
+                if g != self._g_t:
                     self._bad("time", "time_s=%s equals the previous time stamp but the column "
                               "moved %r gpm; time stamps must increase between different "
-                              "pressures" % (_fmt(time_s), dg))
+                              "pressures" % (_fmt(time_s), g - self._g_t))
                 rate = _NAN     # a duplicate: the rate stays as it was
             else:
-                rate = dg / dt
+                rate = (h - self._h_tm) / dt
                 if rate > self._max_rate or rate < self._min_rate:
                     self._bad("rate", "p_pa=%s implies %.1f m/s over %r s, beyond max_rate_m_s=%g; "
                               "a pressure glitch, or a wrong unit/time stamp"
@@ -651,11 +681,8 @@ class Column:
             self._h_p = p
             self._h_rh = rh
             self._w_held = _NAN
-        # geometric height from the node pair
-        if not self._n_lo <= g <= self._n_hi:
-            self._new_nodes(g)
-        d = g - self._n_g
-        h = self._n_h + d * (self._n_k1 + d * self._n_k2)
+        if nodes is not None:
+            self._set_nodes(nodes)
         self.height_m = h
         if time_s is None:
             self.time_s = _NAN
@@ -663,7 +690,7 @@ class Column:
         else:
             self.time_s = ts
             if rate == rate:
-                self.rate_m_s = (h - self._h_tm) / dt
+                self.rate_m_s = rate
             elif ts != self._t_last:
                 self.rate_m_s = _NAN
             self._t_last = ts
@@ -675,7 +702,7 @@ class Column:
             self._gps_g = g
             self._gps_n = self.count
         if self.track_sigma:
-            self._sigma_step(first, p0, p, tv0, tv, dz, slope)
+            self._sigma_step(first, p0, p, tm2, a, slope)
         self._slope = slope
 
         # ---- 4. events
@@ -765,18 +792,14 @@ class Column:
         e = vapour_pressure(self._h_t, self._h_p, self._h_rh, self.ice)
         return mixing_ratio(e, self._h_p)
 
-    def _new_nodes(self, g):
-        # exact geometric height h at g (tinygeo.geometric_height)
+    def _nodes(self, g):
+        # exact geometric height h at g (tinygeo.geometric_height, with the
+        # series evaluated once for the column's latitude: potential._geom)
         # and the quadratic in gph through it and the gph of h + D and h + 2D
-        # (tinygeo.potential_height); see "Geometric height".
+        # (potential._gph); see "Geometric height". Returns the tuple
+        # (g, h, k1, k2, lo, hi) and writes nothing.
         if not GPH_MIN_M <= g <= GPH_MAX_M:
-            self._n_g = g
-            self._n_h = _NAN
-            self._n_k1 = _NAN
-            self._n_k2 = _NAN
-            self._n_lo = g
-            self._n_hi = g
-            return
+            return (g, _NAN, _NAN, _NAN, g, g)
         c = self._pc
         a = self._a
         h = _geom(g, c, a)
@@ -787,39 +810,36 @@ class Column:
         gb = _gph(h + 2.0 * d, c, a)
         sa = d / (ga - g)               # divided differences of h over gph (Newton form)
         k2 = (d / (gb - ga) - sa) / (gb - g)
-        self._n_g = g
-        self._n_h = h
-        self._n_k1 = sa - k2 * (ga - g)
-        self._n_k2 = k2
-        self._n_lo = g - _NODE_W
-        self._n_hi = g + _NODE_W
+        return (g, h, sa - k2 * (ga - g), k2, g - _NODE_W, g + _NODE_W)
 
-    def _sigma_step(self, first, p0, p, tv0, tv, dz, slope):
+    def _set_nodes(self, nodes):
+        self._n_g, self._n_h, self._n_k1, self._n_k2, self._n_lo, self._n_hi = nodes
+
+    def _sigma_step(self, first, p0, p, tm2, a, slope):
         # Streaming first-order propagation (module docstring, "Uncertainty").
+        # tm2 = Tv0 + Tv, a = (Rd/g0)/2 ln(p0/p) = dz/dTv of either end.
         if first and p0 != p0:
             # the first reading: no layer yet; its sensitivities are all 0 so far
             self._s2 = self._st2 + (slope * self.sigma_rh_pct) ** 2
+            self._p_start = p
             return
-        tm2 = tv0 + tv
-        a = dz / tm2                    # K L / 2: dz/dTv of either end
-        ktm = _KH * tm2                 # K Tm
-        cp = ktm / p                    # -dz/dp at the new reading
         if first:
             # anchored start: the anchor is exact, the first reading is both ends
             self._ct = a + a
-            s_prev = slope
+            self._p_start = p0
         else:
-            pco = ktm / p0 - self._cp   # final dz_n/dp of the previous reading
-            ct = self._ct + a           # final dz_n/dTv of the previous reading
-            self._var_done += ct * ct * self._s2 + pco * pco * self._sp2
+            # final sensitivities of the previous reading: dz_n/dp = _KH pco,
+            # dz_n/dTv = ct (its slope's share of the humidity bias: ct slope)
+            pco = (tm2 - self._tm2) / p0
+            ct = self._ct + a
+            self._var_done += ct * ct * self._s2 + pco * pco * self._spk2
             self._sum_p += pco
+            self._sum_rh += ct * self._slope
             self._ct = a
-            s_prev = self._slope
-        self._cp = cp
-        sr = slope * self.sigma_rh_pct
-        self._s2 = self._st2 + sr * sr
-        self._sum_a += a
-        self._sum_rh += a * (s_prev + slope)
+        self._tm2 = tm2
+        if first or slope != self._slope:
+            sr = slope * self.sigma_rh_pct
+            self._s2 = self._st2 + sr * sr
 
     def _levels(self, p0, p, g0, g, t0, t):
         # report every mandatory level in [p, p0) not reported yet (ascent only)
@@ -883,7 +903,8 @@ class Column:
         the first reading or with track_sigma=False."""
         if self.count == 0 or not self.track_sigma:
             return _NAN
-        v = self._var_done + self._ct * self._ct * self._s2 + self._cp * self._cp * self._sp2
+        cp = _KH * self._tm2 / self.p_pa       # -dz/dp at the latest reading
+        v = self._var_done + self._ct * self._ct * self._s2 + cp * cp * self._sp2
         return math.sqrt(v)
 
     @property
@@ -901,9 +922,10 @@ class Column:
         return math.sqrt(r * r + self._bias_var())
 
     def _bias_var(self):
-        bt = 2.0 * self._sum_a * self.bias_t_k             # (Rd/g0) ln(p0/p) dT
-        bh = self._sum_rh * self.bias_rh_pct
-        bp = (self._sum_p - self._cp) * self.bias_p_pa
+        # (Rd/g0) ln(p0/p) dT: the sum of dz/dTv over all readings telescopes
+        bt = 2.0 * _half_k_ln(self._p_start, self.p_pa) * self.bias_t_k
+        bh = (self._sum_rh + self._ct * self._slope) * self.bias_rh_pct
+        bp = _KH * (self._sum_p - self._tm2 / self.p_pa) * self.bias_p_pa
         return bt * bt + bh * bh + bp * bp + self._var_anchor
 
     # ------------------------------------------------------------ GPS
@@ -933,15 +955,15 @@ class Column:
                      "_tp_top"):
             setattr(self, name, getattr(self, name) + d)
         self._tp_th = self._tp_th + WMO_LAPSE_K_PER_GPM * d
-        self._new_nodes(target)
+        self._set_nodes(self._nodes(target))
         self.height_m = self._n_h
         self._h_tm = self._h_tm + (self.height_m - old_h)
         self.gps_diff_m = self.height_m - self.gps_m
         # uncertainty restarts here: the reading is the new (noisy) start
         self._var_done = 0.0
         self._ct = 0.0
-        self._cp = 0.0
-        self._sum_a = 0.0
+        self._tm2 = 0.0
+        self._p_start = self.p_pa
         self._sum_rh = 0.0
         self._sum_p = 0.0
         self._var_anchor = sg * sg

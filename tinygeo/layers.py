@@ -65,12 +65,15 @@ LN_TERMS_F64 = 13
 
 
 def _ln_coefs(n_terms):
-    # Coefficients 1/(2k+1), highest first, for Horner's scheme in d^2:
-    # (1/(2N-1), ..., 1/5, 1/3); the leading 1 is added by _lnr.
+    # Coefficients 2/(2k+1), highest first, for Horner's scheme in d^2:
+    # (2/(2N-1), ..., 2/5, 2/3); the leading 2 is added by _lnr, which returns
+    # d (2 + d^2 (2/3 + d^2 (2/5 + ...))): the factor 2 sits in the
+    # coefficients (one multiplication fewer; 2/(2k+1) is rounded as well as
+    # 1/(2k+1), so the error analysis above is unchanged).
     c = []
     k = n_terms - 1
     while k >= 1:
-        c.append(1.0 / (2 * k + 1))
+        c.append(2.0 / (2 * k + 1))
         k -= 1
     return tuple(c)
 
@@ -116,7 +119,7 @@ def _lnr(p1, p2):
         while i < n:
             acc = acc * d2 + _LN_C[i]
             i += 1
-        return 2.0 * d * (1.0 + d2 * acc)
+        return d * (2.0 + d2 * acc)
     if d > 0.0:
         return math.log(p1 / p2)
     return -math.log(p2 / p1)   # same rounding either way round: exact antisymmetry
@@ -169,10 +172,17 @@ def layer_thickness(p_lower_pa, p_upper_pa, tv_lower_k, tv_upper_k):
     return _thickness(p1, p2, t1, t2)
 
 
+def _half_k_ln(p1, p2):
+    # (Rd/g0)/2 ln(p1/p2), gpm per K: the thickness per kelvin of Tv1 + Tv2,
+    # and dz/dTv of either end of the layer; no checks
+    return _HALF_RG * _lnr(p1, p2)
+
+
 def _thickness(p1, p2, t1, t2):
     # layer_thickness without the argument checks, for callers that have
-    # checked the pressures and temperatures already (tinygeo.column)
-    return _HALF_RG * (t1 + t2) * _lnr(p1, p2)
+    # checked the pressures and temperatures already; tinygeo.column computes
+    # the same two products (it keeps _half_k_ln for its uncertainty)
+    return _half_k_ln(p1, p2) * (t1 + t2)
 
 
 def layer_thickness_lapse(p_lower_pa, p_upper_pa, tv_lower_k, lapse_k_m):

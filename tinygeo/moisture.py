@@ -93,14 +93,21 @@ P_MAX_PA = 120000.0
 """Highest pressure accepted by this module, Pa."""
 
 _ONE_M_EPS = 1.0 - EPSILON
+_QC = 0.01 * E0_PA * _ONE_M_EPS   # Pa per %RH: (1 - eps) e/p per %RH is _QC f x / p
+
+
+def _ex(t_k, ice):
+    # exp(a t/(b + t)) of the Magnus form [WMO8] (e_w = 611.2 Pa times it),
+    # no checks (callers check t_k)
+    t = t_k - ZERO_C_K
+    if ice and t <= 0.0:
+        return math.exp(_AI * t / (_BI + t))
+    return math.exp(_AW * t / (_BW + t))
 
 
 def _es(t_k, ice):
     # Magnus form [WMO8], no checks (callers check t_k). Pa.
-    t = t_k - ZERO_C_K
-    if ice and t <= 0.0:
-        return E0_PA * math.exp(_AI * t / (_BI + t))
-    return E0_PA * math.exp(_AW * t / (_BW + t))
+    return E0_PA * _ex(t_k, ice)
 
 
 def _f(p_pa):
@@ -305,13 +312,21 @@ def virtual_temperature(t_k, p_pa, rh_pct, ice=False):
                check_rh(rh_pct), ice)
 
 
+def _q(t_k, p_pa, ice):
+    # (1 - eps) e'_w/p per %RH (dimensionless per %): with r = rh_pct * _q,
+    # e/p = r/(1 - eps) and Tv = T/(1 - r) ([WH06] eq. 3.16), and
+    # dTv/dRH = Tv _q at constant T and p; e'_w = f(p) e_w(T) as in
+    # vapour_pressure. No checks (callers check).
+    return _QC * _f(p_pa) * _ex(t_k, ice) / p_pa
+
+
 def _tv(t_k, p_pa, rh_pct, ice):
     # virtual_temperature without the argument checks, for callers that have
-    # checked t_k, p_pa and rh_pct already (tinygeo.column); RangeError if e >= p
-    e = rh_pct * 0.01 * _f(p_pa) * _es(t_k, ice)
-    if e >= p_pa:
-        raise _boiling(e, p_pa)
-    return t_k / (1.0 - _ONE_M_EPS * e / p_pa)
+    # checked t_k, p_pa and rh_pct already; RangeError if e >= p
+    r = rh_pct * _q(t_k, p_pa, ice)
+    if r >= _ONE_M_EPS:
+        raise _boiling(r * p_pa / _ONE_M_EPS, p_pa)
+    return t_k / (1.0 - r)
 
 
 def virtual_temperature_from_mixing_ratio(t_k, w_kg_kg):
