@@ -40,9 +40,11 @@ M0_KG_MOL = 0.0289644
 (printed as 28.9644 kg/kmol)."""
 
 RD = R_STAR / M0_KG_MOL
-"""Specific gas constant of dry air Rd = R*/M0 = 287.05287 J/(kg K), derived
+"""Specific gas constant of dry air Rd = R*/M0 = 287.05307 J/(kg K), derived
 from [USSA76] Table 2. Used for every hypsometric computation so a dry
-standard-atmosphere profile reproduces the standard's tables."""
+standard-atmosphere profile reproduces the standard's tables. (The ICAO
+standard atmosphere prints 287.05287 J/(kg K), from M0 = 28.96442 kg/kmol;
+the two differ by 7e-7 relative, i.e. 8 mm over 11 km -- from memory.)"""
 
 M_WATER_KG_MOL = 0.01801528
 """Molar mass of water vapour, kg/mol [WMO8] Annex 4.B (18.015 28 g/mol)."""

@@ -39,7 +39,7 @@ is given). This is [WMO8]'s standard-lapse-rate half-way rule with the exact
 virtual temperature in place of the 1964 formula's empirical e_s C_h term (both
 add about 2 K for 20 hPa of vapour). Then the hypsometric equation
 
-    p0 = p exp(g0 H / (Rd Tv_mean)),  g0 = 9.80665 m/s^2, Rd = 287.05287 J/(kg K)
+    p0 = p exp(g0 H / (Rd Tv_mean)),  g0 = 9.80665 m/s^2, Rd = R*/M0 = 287.05307 J/(kg K)
 
 evaluated as p + p expm1(...) so that the small correction of a buoy keeps its
 digits in binary32. For H below sea level (Dead Sea shores) the same rule

@@ -244,7 +244,7 @@ def pressure_altitude(p_pa):
     indicates (ICAO Doc 7488).
 
     Example: pressure_altitude(50000.0) -> 5574.4;
-    pressure_altitude(101225.0) -> 8.32 (about 8.3 m per hPa near sea level).
+    pressure_altitude(101225.0) -> 8.33 (about 8.3 m per hPa near sea level).
     """
     p = as_finite("p_pa", p_pa, "Pa")
     if p < TOP_P_PA:
