@@ -81,7 +81,10 @@ def test_humid_vs_mpmath_ode(p, t, h, rh):
 
 def test_humidity_effect_size():
     # moist air is lighter: a warmer virtual column, a smaller reduction. At 1100 m,
-    # 30 degC, saturated, Tv - T is about 5.6 K, so the reduction term shrinks by ~1.9 %
+    # 30 degC, saturated, Tv - T is about 5.6 K (e_w(30 degC) = 4.24 kPa, WMO-No. 8
+    # Annex 4.B Magnus form; Tv - T = T (e/p)(1 - eps)/(1 - (e/p)(1 - eps)), Wallace &
+    # Hobbs 2006 eq. 3.16, from memory), so the reduction term, proportional to
+    # 1/Tv_mean, shrinks by about 5.6/300 = 1.9 %
     p, t, h = 89000.0, 303.15, 1100.0
     dry = L.sea_level_pressure(p, t, h) - p
     wet = L.sea_level_pressure(p, t, h, rh_pct=100.0) - p
