@@ -12,8 +12,9 @@ Prints, in one run:
    install and a default freeze produce: asserts and line numbers kept) and
    with ``-O3`` (asserts and line numbers dropped; the smallest bytecode).
    The budget (core ``.mpy`` <= 16 KB total) is checked on the no-flags column.
-2. the heap taken by importing the whole core (``import tinygeo``, which
-   imports every core module) under the MicroPython unix runtime: the
+2. the heap taken by importing the whole core (``import tinygeo`` and every
+   core module: the package itself loads its modules lazily, on the first
+   read of one of their names) under the MicroPython unix runtime: the
    ``gc.mem_alloc()`` difference after ``gc.collect()`` (retained heap:
    bytecode, module dicts, function and class objects, constants), importing
    from the no-flags ``.mpy`` files, from ``.py`` source, and from a ROMFS
@@ -22,7 +23,11 @@ Prints, in one run:
    into firmware: what is left is the runtime objects); plus everything
    allocated during the import with the collector off (an upper bound on the
    peak; for ``.py`` it includes the compiler's garbage). Budget: import
-   <= 12 KB retained (checked on the ``.mpy`` figure).
+   <= 12 KB retained (checked on the ``.mpy`` figure). Then the same for what
+   a logger needs: ``from tinygeo.column import Column`` and
+   ``tinygeo.errors`` (the imports of ports/micropython/main.py), which loads
+   the column and the modules it uses, not gravity, the standard atmosphere
+   or the sea-level reductions.
 3. the retained heap per module (from ``.mpy``, each imported in turn after
    the core modules it imports, with an empty package ``__init__`` so that
    one module at a time is loaded); the real ``__init__`` is the whole-core
@@ -238,18 +243,26 @@ def main():
         image = os.path.join(tmp, "core.romfs")
         with open(image, "wb") as fh:
             fh.write(romfs_image(os.path.join(tmp, "plain")))
-        whole = ["tinygeo"]
+        whole = ["tinygeo"] + load_order(files)
         (_, r_mpy, a_mpy), = probe(os.path.join(tmp, "plain"), "whole", whole)
         (_, r_py, a_py), = probe(src_dir, "whole", whole)
         (_, r_rom, a_rom), = probe(tmp, "whole", whole, image)
         print("")
-        print("2. import tinygeo (the whole core) under MicroPython (unix, 64-bit), gc.mem_alloc() deltas:")
+        print("2. import tinygeo and every core module under MicroPython (unix, 64-bit), gc.mem_alloc() deltas:")
         print("   from .mpy files     : retained %6d B, allocated during import (gc off) %6d B" % (r_mpy, a_mpy))
         print("   from .py source     : retained %6d B, allocated during import (gc off) %6d B" % (r_py, a_py))
         print("   from ROMFS (.mpy in place, %d B image): retained %6d B, allocated %6d B" % (
             os.path.getsize(image), r_rom, a_rom))
         print("   import budget: %d B (%.1f KB) retained from .mpy of %d B -> %s" % (
             r_mpy, r_mpy / 1024.0, IMPORT_BUDGET, "met" if r_mpy <= IMPORT_BUDGET else "MISSED"))
+        logger = ["tinygeo.column", "tinygeo.errors"]
+        (_, l_mpy, la_mpy), = probe(os.path.join(tmp, "plain"), "whole", logger)
+        (_, l_rom, la_rom), = probe(tmp, "whole", logger, image)
+        print("   what a logger needs (from tinygeo.column import Column; tinygeo.errors):")
+        print("   from .mpy files     : retained %6d B, allocated during import (gc off) %6d B" % (l_mpy, la_mpy))
+        print("   from ROMFS          : retained %6d B, allocated %6d B" % (l_rom, la_rom))
+        print("   import budget for the logger's imports: %d B (%.1f KB) from .mpy of %d B -> %s" % (
+            l_mpy, l_mpy / 1024.0, IMPORT_BUDGET, "met" if l_mpy <= IMPORT_BUDGET else "MISSED"))
 
         each_dir = os.path.join(tmp, "each")
         shutil.copytree(os.path.join(tmp, "plain"), each_dir)

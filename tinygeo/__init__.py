@@ -1,10 +1,10 @@
 """tinygeo: heights from a live stream of pressure, temperature and humidity.
 
 Float-only, dependency-free; runs unchanged on CPython and MicroPython.
-Public names are re-exported here; each lives in a one-concept module:
+Public names are available here; each lives in a one-concept module:
 
 - gravity:      normal_gravity, somigliana_gravity                    (m/s^2)
-- geopotential: geopotential (m^2/s^2), geopotential_height (gpm),
+- potential:    geopotential (m^2/s^2), geopotential_height (gpm),
                 geometric_height (m), msl_height (m)
 - moisture:     saturation_vapour_pressure, vapour_pressure, ... virtual_temperature (K)
 - layers:       ln_ratio, layer_thickness (gpm), layer_thickness_lapse, pressure_across_layer (Pa)
@@ -12,23 +12,54 @@ Public names are re-exported here; each lives in a one-concept module:
 - sealevel:     sea_level_pressure, qfe, qnh (Pa), indicated_altitude (m)
 - column:       Column, the streaming integration of an atmospheric column
 - errors:       TinygeoError and its ValueError subclasses
-"""
-from .errors import (TinygeoError, RangeError, ModelRangeError, ReadingError,  # noqa: F401
-                     CheckpointError)
-from .constants import G0, RD, RV, EPSILON, WGS84, GRS80  # noqa: F401
-from .gravity import normal_gravity, somigliana_gravity  # noqa: F401
-from .potential import (geopotential, geopotential_height, geometric_height,  # noqa: F401
-                           msl_height)
-from .moisture import (saturation_vapour_pressure, enhancement_factor, vapour_pressure,  # noqa: F401
-                       vapour_pressure_from_dew_point, dew_point, mixing_ratio,
-                       specific_humidity, virtual_temperature,
-                       virtual_temperature_from_mixing_ratio)
-from .layers import (ln_ratio, layer_thickness, layer_thickness_lapse,  # noqa: F401
-                     pressure_across_layer, layer_mean_tv)
-from .standard import standard_temperature, standard_pressure, pressure_altitude  # noqa: F401
-from .sealevel import sea_level_pressure, qfe, qnh, indicated_altitude  # noqa: F401
-from .column import (Column, EV_LEVEL, EV_TROPOPAUSE, EV_BURST, EV_LANDED,  # noqa: F401
-                     EV_LAUNCH, FL_DRY, FL_HELD_MIXING, FL_NO_TIME, FL_DESCENT,
-                     PH_WAIT, PH_ASCENT, PH_DESCENT, PH_LANDED)
 
+Importing the package loads none of them: a module is imported the first
+time one of its names is read from the package (module-level ``__getattr__``,
+PEP 562 on CPython; supported by MicroPython too). So ``from tinygeo.column
+import Column`` on a board loads the column and the modules it uses, not the
+standard atmosphere or the sea-level reductions (bench/size.py measures both).
+``from tinygeo import *`` imports every public name on CPython (through
+``__all__``); on MicroPython it only sees names already loaded, so name what
+you use there.
+"""
 __version__ = "0.1.0"
+
+# module: the public names it gives the package (one string each: no tuple of
+# ~60 names is built at import)
+_WHERE = (
+    ("errors", "TinygeoError RangeError ModelRangeError ReadingError CheckpointError"),
+    ("constants", "G0 RD RV EPSILON WGS84 GRS80"),
+    ("gravity", "normal_gravity somigliana_gravity"),
+    ("potential", "geopotential geopotential_height geometric_height msl_height"),
+    ("moisture", "saturation_vapour_pressure enhancement_factor vapour_pressure "
+                 "vapour_pressure_from_dew_point dew_point mixing_ratio specific_humidity "
+                 "virtual_temperature virtual_temperature_from_mixing_ratio"),
+    ("layers", "ln_ratio layer_thickness layer_thickness_lapse pressure_across_layer layer_mean_tv"),
+    ("standard", "standard_temperature standard_pressure pressure_altitude"),
+    ("sealevel", "sea_level_pressure qfe qnh indicated_altitude"),
+    ("column", "Column EV_LEVEL EV_TROPOPAUSE EV_BURST EV_LANDED EV_LAUNCH FL_DRY FL_HELD_MIXING "
+               "FL_NO_TIME FL_DESCENT PH_WAIT PH_ASCENT PH_DESCENT PH_LANDED"),
+)
+
+
+def __getattr__(name):
+    if name == "__all__":
+        return [n for _, names in _WHERE for n in names.split()] + ["__version__"]
+    mod = None
+    for m, names in _WHERE:
+        if name in names.split():
+            mod = m
+            break
+    if mod is None:
+        if name.startswith("__"):
+            raise AttributeError("module 'tinygeo' has no attribute '%s'" % name)
+        # a submodule (``from . import standard`` asks the package first on
+        # MicroPython)
+        try:
+            return __import__("tinygeo." + name, None, None, ("*",))
+        except ImportError:
+            raise AttributeError("module 'tinygeo' has no attribute '%s'" % name)
+    # a non-empty fromlist makes __import__ return the submodule itself
+    value = getattr(__import__("tinygeo." + mod, None, None, (name,)), name)
+    globals()[name] = value     # later reads find it without this function
+    return value

@@ -317,6 +317,7 @@ WMO_DEPTH_GPM = 2000.0
 """2 km, the depth over which the WMO definition checks the mean lapse rate."""
 
 _NAN = float("nan")
+_ZERO = 0.0                # one shared object for every zero the column stores
 _INF = float("inf")
 _NINF = float("-inf")
 _KH = 0.5 * RD / G0        # half of Rd/g0, gpm/K
@@ -386,12 +387,12 @@ class Column:
     """The running hypsometric integration of an atmospheric column (see the
     module docstring for every option, attribute, event and formula)."""
 
-    def __init__(self, lat_deg, start_height_m=0.0, anchor_p_pa=None, ellipsoid=WGS84,
-                 ice=False, dry_fallback=False, sigma_p_pa=10.0, sigma_t_k=0.2,
-                 sigma_rh_pct=1.0, bias_p_pa=50.0, bias_t_k=0.2, bias_rh_pct=3.0,
-                 max_rate_m_s=200.0, landing_s=60.0, landing_tol_pa=50.0, launch_m=20.0,
-                 burst_drop_m=50.0, burst_readings=3, tropopause_max_p_pa=50000.0,
-                 rh_tol_pct=3.0, track_sigma=True, on_event=None, geoid_undulation_m=None):
+    def __init__(self, lat_deg, start_height_m=0, anchor_p_pa=None, ellipsoid=WGS84,
+                 ice=False, dry_fallback=False, sigma_p_pa=10, sigma_t_k=0.2,
+                 sigma_rh_pct=1, bias_p_pa=50, bias_t_k=0.2, bias_rh_pct=3,
+                 max_rate_m_s=200, landing_s=60, landing_tol_pa=50, launch_m=20,
+                 burst_drop_m=50, burst_readings=3, tropopause_max_p_pa=50000,
+                 rh_tol_pct=3, track_sigma=True, on_event=None, geoid_undulation_m=None):
         # --- settings (checked here; RangeError names the bad one)
         self.lat_deg = check_lat(lat_deg)
         if ellipsoid is WGS84 or getattr(ellipsoid, "name", None) == "WGS84":
@@ -403,7 +404,7 @@ class Column:
         else:
             raise RangeError("ellipsoid=%s not supported; pass tinygeo.WGS84 or tinygeo.GRS80"
                              % _fmt(ellipsoid))
-        self.start_height_m = check_range("start_height_m", start_height_m, -1000.0, 100000.0, "m",
+        self.start_height_m = check_range("start_height_m", start_height_m, -1000, 100000, "m",
                                           "height above mean sea level in metres")
         if anchor_p_pa is None:
             self._anchor = _NAN
@@ -413,27 +414,27 @@ class Column:
                                        else None)
         self.ice = bool(ice)
         self.dry_fallback = bool(dry_fallback)
-        self.sigma_p_pa = _setting("sigma_p_pa", sigma_p_pa, 0.0, 10000.0, "Pa")
-        self.sigma_t_k = _setting("sigma_t_k", sigma_t_k, 0.0, 50.0, "K")
-        self.sigma_rh_pct = _setting("sigma_rh_pct", sigma_rh_pct, 0.0, 100.0, "%")
-        self.bias_p_pa = _setting("bias_p_pa", bias_p_pa, 0.0, 10000.0, "Pa")
-        self.bias_t_k = _setting("bias_t_k", bias_t_k, 0.0, 50.0, "K")
-        self.bias_rh_pct = _setting("bias_rh_pct", bias_rh_pct, 0.0, 100.0, "%")
+        self.sigma_p_pa = _setting("sigma_p_pa", sigma_p_pa, 0, 10000, "Pa")
+        self.sigma_t_k = _setting("sigma_t_k", sigma_t_k, 0, 50, "K")
+        self.sigma_rh_pct = _setting("sigma_rh_pct", sigma_rh_pct, 0, 100, "%")
+        self.bias_p_pa = _setting("bias_p_pa", bias_p_pa, 0, 10000, "Pa")
+        self.bias_t_k = _setting("bias_t_k", bias_t_k, 0, 50, "K")
+        self.bias_rh_pct = _setting("bias_rh_pct", bias_rh_pct, 0, 100, "%")
         if max_rate_m_s is None:
             self._max_rate = _NAN
         else:
-            self._max_rate = _setting("max_rate_m_s", max_rate_m_s, 1.0, 10000.0, "m/s")
-        self.landing_s = _setting("landing_s", landing_s, 0.0, 1e6, "s")
-        self.landing_tol_pa = _setting("landing_tol_pa", landing_tol_pa, 0.0, 10000.0, "Pa")
-        self.launch_m = _setting("launch_m", launch_m, 0.0, 10000.0, "gpm")
-        self.burst_drop_m = _setting("burst_drop_m", burst_drop_m, 0.0, 100000.0, "gpm")
+            self._max_rate = _setting("max_rate_m_s", max_rate_m_s, 1, 10000, "m/s")
+        self.landing_s = _setting("landing_s", landing_s, 0, 1e6, "s")
+        self.landing_tol_pa = _setting("landing_tol_pa", landing_tol_pa, 0, 10000, "Pa")
+        self.launch_m = _setting("launch_m", launch_m, 0, 10000, "gpm")
+        self.burst_drop_m = _setting("burst_drop_m", burst_drop_m, 0, 100000, "gpm")
         if not isinstance(burst_readings, int) or burst_readings < 1 or burst_readings > 100000:
             raise RangeError("burst_readings=%s outside 1..100000 readings; pass an int"
                              % _fmt(burst_readings))
         self.burst_readings = burst_readings
-        self.tropopause_max_p_pa = _setting("tropopause_max_p_pa", tropopause_max_p_pa, 0.0,
+        self.tropopause_max_p_pa = _setting("tropopause_max_p_pa", tropopause_max_p_pa, 0,
                                             P_MAX_PA, "Pa")
-        self.rh_tol_pct = _setting("rh_tol_pct", rh_tol_pct, 0.0, 3.0, "%")
+        self.rh_tol_pct = _setting("rh_tol_pct", rh_tol_pct, 0, 3, "%")
         self._rh_lo = -self.rh_tol_pct          # derived, so feed builds no float for its check
         self._rh_hi = 100.0 + self.rh_tol_pct
         self.track_sigma = bool(track_sigma)
@@ -441,7 +442,7 @@ class Column:
         if geoid_undulation_m is None:
             self._geoid_n = _NAN
         else:
-            self._geoid_n = check_range("geoid_undulation_m", geoid_undulation_m, -150.0, 150.0, "m",
+            self._geoid_n = check_range("geoid_undulation_m", geoid_undulation_m, -150, 150, "m",
                                         "geoid undulation N in metres (Earth: about -107..+86 m)")
         # --- derived settings
         # the geopotential series at this latitude, evaluated once (tinygeo.potential)
@@ -468,7 +469,7 @@ class Column:
         self.rh_pct = _NAN
         self.time_s = _NAN
         self.gph_m = _NAN
-        self._c = 0.0
+        self._c = _ZERO
         self.height_m = _NAN
         self.rate_m_s = _NAN
         self.max_gph_m = _NAN
@@ -511,15 +512,15 @@ class Column:
         self._n_lo = _NAN
         self._n_hi = _NAN
         self._h_tm = _NAN
-        self._var_done = 0.0
-        self._ct = 0.0
-        self._tm2 = 0.0
-        self._s2 = 0.0
+        self._var_done = _ZERO
+        self._ct = _ZERO
+        self._tm2 = _ZERO
+        self._s2 = _ZERO
         self._p_start = _NAN
-        self._sum_rh = 0.0
-        self._sum_p = 0.0
-        self._slope = 0.0
-        self._var_anchor = 0.0
+        self._sum_rh = _ZERO
+        self._sum_p = _ZERO
+        self._slope = _ZERO
+        self._var_anchor = _ZERO
         self._gps_g = _NAN
 
     # ------------------------------------------------------------------ feed
@@ -929,7 +930,7 @@ class Column:
         return bt * bt + bh * bh + bp * bp + self._var_anchor
 
     # ------------------------------------------------------------ GPS
-    def reanchor_gps(self, sigma_gps_m=10.0):
+    def reanchor_gps(self, sigma_gps_m=10):
         """Move the column so that the latest reading sits at its GPS height;
         return the shift applied, m (the former -gps_diff_m).
 
@@ -944,12 +945,12 @@ class Column:
         if self.count == 0 or self._gps_n != self.count:
             raise TinygeoError("reanchor_gps(): the latest reading has no gps_m; feed a reading "
                                "with gps_m first")
-        sg = _setting("sigma_gps_m", sigma_gps_m, 0.0, 10000.0, "m")
+        sg = _setting("sigma_gps_m", sigma_gps_m, 0, 10000, "m")
         target = _gph(self.gps_m, self._pc, self._a)
         d = target - self.gph_m
         old_h = self.height_m
         self.gph_m = target
-        self._c = 0.0
+        self._c = _ZERO
         self._gps_g = target
         for name in ("max_gph_m", "_g_t", "_min_gph", "_launch_gph", "_burst_line", "_tp_g",
                      "_tp_top"):
@@ -960,12 +961,12 @@ class Column:
         self._h_tm = self._h_tm + (self.height_m - old_h)
         self.gps_diff_m = self.height_m - self.gps_m
         # uncertainty restarts here: the reading is the new (noisy) start
-        self._var_done = 0.0
-        self._ct = 0.0
-        self._tm2 = 0.0
+        self._var_done = _ZERO
+        self._ct = _ZERO
+        self._tm2 = _ZERO
         self._p_start = self.p_pa
-        self._sum_rh = 0.0
-        self._sum_p = 0.0
+        self._sum_rh = _ZERO
+        self._sum_p = _ZERO
         self._var_anchor = sg * sg
         return self.height_m - old_h
 

@@ -59,7 +59,6 @@ import math
 
 from .constants import G0, WGS84
 from .errors import TinygeoError, check_lat, check_range
-from .gravity import check_height
 
 GPH_MIN_M = -1005.0
 """Lowest accepted geopotential height, gpm. The accepted gph range covers the
@@ -187,7 +186,10 @@ def geopotential_height(height_m, lat_deg, ellipsoid=WGS84):
 
     Example: geopotential_height(10000.0, 45.0) -> 9983.8313 gpm (WGS 84)
     """
-    h = check_height(height_m)
+    # the range and message of tinygeo.gravity.check_height (not imported:
+    # a logger that needs only the column does not load the gravity module)
+    h = check_range("height_m", height_m, -1000.0, 100000.0, "m",
+                    "height above mean sea level in metres (km or feet passed?)")
     return _gph(h, _coefs(check_lat(lat_deg), ellipsoid), ellipsoid.a_m)
 
 
