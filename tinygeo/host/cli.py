@@ -18,11 +18,18 @@ EXIT_INPUT = 2
 EXIT_MISSING_EXTRA = 3
 EXIT_INTERRUPTED = 130
 
+ANCHOR_HPA_MIN = 100.0    # --anchor-pressure range, hPa
+ANCHOR_HPA_MAX = 1100.0
+
 EXIT_TEXT = """exit status:
   0   success (compare: every reading within the tolerances)
   1   compare found a reading outside the tolerances (or a missing one)
   2   usage or input error: bad option, unreadable file, empty log, no header,
-      unknown column, a unit the values contradict, nothing accepted
+      unknown column, a unit the values contradict (a time column in s or ms
+      whose first move gives an impossible vertical speed), nothing accepted,
+      more than half of the readings rejected for one reason (rate, time,
+      pressure, temperature, humidity, number, gps; counted from the 100th
+      reading on)
   3   plot: matplotlib is not installed (pip install 'tinygeo[plot]')
   130 interrupted (Ctrl-C)"""
 
@@ -60,6 +67,17 @@ def _add_mapping(p):
                    help="field separator (',', ';', '|', tab, space); default: taken from the header")
 
 
+def _column_default(keyword):
+    """The Column constructor's default for ``keyword``, as help text."""
+    from tinygeo.host.replay import column_default
+    return "%g" % column_default(keyword)
+
+
+def _sensor_help(text, keyword):
+    return "%s (default: %s= in the input's comment lines, else %s)" % (
+        text, keyword, _column_default(keyword))
+
+
 def _add_site(p):
     g = p.add_argument_group("site and column set-up")
     g.add_argument("--lat", type=float, metavar="DEG",
@@ -68,18 +86,26 @@ def _add_site(p):
                    help="height of the first reading above mean sea level, m "
                         "(default: start_height_m= in the log's comments, else 0)")
     g.add_argument("--anchor-pressure", type=float, metavar="HPA",
-                   help="the start height is that of this pressure (hPa), not of the first reading")
-    g.add_argument("--sigma-p", type=float, metavar="PA", help="pressure sensor 1-sigma noise, Pa")
-    g.add_argument("--sigma-t", type=float, metavar="K", help="temperature sensor 1-sigma noise, K")
-    g.add_argument("--sigma-rh", type=float, metavar="PCT", help="humidity sensor 1-sigma noise, %%")
+                   help="the start height is that of this pressure (hPa, %g..%g), not of the "
+                        "first reading" % (ANCHOR_HPA_MIN, ANCHOR_HPA_MAX))
+    g.add_argument("--sigma-p", type=float, metavar="PA",
+                   help=_sensor_help("pressure sensor 1-sigma noise, Pa", "sigma_p_pa"))
+    g.add_argument("--sigma-t", type=float, metavar="K",
+                   help=_sensor_help("temperature sensor 1-sigma noise, K", "sigma_t_k"))
+    g.add_argument("--sigma-rh", type=float, metavar="PCT",
+                   help=_sensor_help("humidity sensor 1-sigma noise, %%", "sigma_rh_pct"))
     g.add_argument("--bias-p", type=float, metavar="PA",
-                   help="pressure sensor 1-sigma calibration uncertainty, Pa")
+                   help=_sensor_help("pressure sensor 1-sigma calibration uncertainty, Pa",
+                                     "bias_p_pa"))
     g.add_argument("--bias-t", type=float, metavar="K",
-                   help="temperature sensor 1-sigma calibration uncertainty, K")
+                   help=_sensor_help("temperature sensor 1-sigma calibration uncertainty, K",
+                                     "bias_t_k"))
     g.add_argument("--bias-rh", type=float, metavar="PCT",
-                   help="humidity sensor 1-sigma calibration uncertainty, %%")
+                   help=_sensor_help("humidity sensor 1-sigma calibration uncertainty, %%",
+                                     "bias_rh_pct"))
     g.add_argument("--max-rate", type=float, metavar="M_S",
-                   help="fastest believable vertical speed, m/s; faster readings are rejected")
+                   help="fastest believable vertical speed, m/s; faster readings are rejected "
+                        "(default %s)" % _column_default("max_rate_m_s"))
     g.add_argument("--ice", action="store_true", help="humidity is over ice below 0 degC")
     g.add_argument("--dry", action="store_true",
                    help="assume dry air when humidity is missing (the default when there is "
@@ -94,6 +120,8 @@ def build_parser():
                     "simulate a flight, compare a device with the host, plot a profile.",
         epilog=EXIT_TEXT + "\n\nfirst try:  tinygeo replay examples/schoolfield_flight.csv --every 100",
         formatter_class=argparse.RawDescriptionHelpFormatter)
+    from tinygeo import __version__
+    top.add_argument("--version", action="version", version="tinygeo %s" % __version__)
     sub = top.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
 
     r = sub.add_parser(
@@ -241,6 +269,24 @@ def sensor_options(a):
             ("bias_p_pa", a.bias_p), ("bias_t_k", a.bias_t), ("bias_rh_pct", a.bias_rh))
 
 
+def anchor_p_pa(hpa):
+    """Return the --anchor-pressure value (hPa) in Pa, or raise UsageError
+    when it is outside ANCHOR_HPA_MIN..ANCHOR_HPA_MAX hPa, with a hint in hPa
+    terms (a value in Pa or kPa is the likely slip)."""
+    if hpa == hpa and ANCHOR_HPA_MIN <= hpa <= ANCHOR_HPA_MAX:
+        return hpa * 100.0
+    if not hpa == hpa or hpa in (float("inf"), float("-inf")):
+        hint = "give a finite number of hPa (e.g. 1013.25)"
+    elif ANCHOR_HPA_MIN * 100.0 <= hpa <= ANCHOR_HPA_MAX * 100.0:
+        hint = "Pa passed? divide by 100: --anchor-pressure %g" % (hpa / 100.0)
+    elif ANCHOR_HPA_MIN / 10.0 <= hpa <= ANCHOR_HPA_MAX / 10.0:
+        hint = "kPa passed? multiply by 10: --anchor-pressure %g" % (hpa * 10.0)
+    else:
+        hint = "give the pressure of the start height in hPa (e.g. 1013.25)"
+    raise UsageError("--anchor-pressure %g is outside %g..%g hPa; %s"
+                     % (hpa, ANCHOR_HPA_MIN, ANCHOR_HPA_MAX, hint))
+
+
 def column_setup(a, reader):
     """Return (lat_deg, start_height_m, column keyword options, site pairs)."""
     meta = reader.meta if reader is not None else {}
@@ -251,7 +297,7 @@ def column_setup(a, reader):
     h0 = a.start_height if a.start_height is not None else meta.get("start_height_m", 0.0)
     opts = {}
     if a.anchor_pressure is not None:
-        opts["anchor_p_pa"] = a.anchor_pressure * 100.0
+        opts["anchor_p_pa"] = anchor_p_pa(a.anchor_pressure)
     for key, arg in sensor_options(a):
         v = arg if arg is not None else meta.get(key)
         if v is not None:
@@ -404,6 +450,15 @@ def cmd_plot(a, stdin, stdout, stderr):
 COMMANDS = {"replay": cmd_replay, "simulate": cmd_simulate, "compare": cmd_compare, "plot": cmd_plot}
 
 
+def one_line(text):
+    """``text`` with every character that would break or hide a line
+    (control characters, line and paragraph separators) shown escaped, so
+    that a message quoting the input stays one line."""
+    if text.isprintable():
+        return text
+    return "".join(c if c.isprintable() else repr(c)[1:-1] for c in text)
+
+
 def _isatty(stream):
     try:
         return stream.isatty()
@@ -433,7 +488,7 @@ def main(argv=None, stdin=None, stdout=None, stderr=None):
             return EXIT_INPUT
         return COMMANDS[a.command](a, stdin, stdout, stderr)
     except TinygeoError as e:
-        stderr.write("tinygeo: error: %s\n" % e)
+        stderr.write("tinygeo: error: %s\n" % one_line(str(e)))
         return EXIT_INPUT
     except KeyboardInterrupt:
         stderr.write("tinygeo: interrupted\n")

@@ -138,10 +138,11 @@ def _site_from_table(site, a, meta):
     h0 = a.start_height if a.start_height is not None else num("start_height_m")
     h0 = 0.0 if h0 is None else h0
     opts = {}
-    anchor = a.anchor_pressure * 100.0 if a.anchor_pressure is not None else num("anchor_p_pa")
+    from tinygeo.host import cli
+    anchor = cli.anchor_p_pa(a.anchor_pressure) if a.anchor_pressure is not None \
+        else num("anchor_p_pa")
     if anchor is not None and anchor == anchor:
         opts["anchor_p_pa"] = anchor
-    from tinygeo.host import cli
     for key, arg in cli.sensor_options(a):
         v = arg if arg is not None else num(key)
         if v is not None:

@@ -145,7 +145,8 @@ class LogReader:
     After construction: ``meta`` (comment key=value defaults), ``columns``
     (quantity -> (index, header name, unit)), ``notes`` (list of strings to
     show the user), ``delimiter``, ``time_origin`` (ISO text of the first
-    timestamp when times are ISO, else None)."""
+    timestamp when times are ISO, else None), ``option_units`` (the
+    quantities whose unit was given in the mapping option, ``NAME:UNIT``)."""
 
     def __init__(self, stream, mapping=None, delimiter=None, name="input"):
         self.stream = stream
@@ -156,6 +157,7 @@ class LogReader:
         self.time_origin = None
         self._t0 = None
         self._checked = set()
+        self.option_units = set()
         header = self._read_header()
         if delimiter is None:
             delimiter = self._sniff(header)
@@ -245,6 +247,8 @@ class LogReader:
             spec = mapping.get(q)
             if spec:
                 i, unit = self._find(names, q, spec)
+                if unit is not None:
+                    self.option_units.add(q)
                 if unit is None:
                     unit = classify(names[i])[1] if classify(names[i])[0] == q else None
                 cols[q] = (i, names[i], unit, True)

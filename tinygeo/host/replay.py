@@ -11,14 +11,38 @@ import time as _time
 
 from tinygeo.errors import ReadingError
 from tinygeo.host import table
+from tinygeo.host.logread import InputError
 
 NAN = float("nan")
 MAX_REPORTS = 20          # rejected readings reported one by one on stderr
 START_GIVE_UP = 50        # consecutive rejections with nothing accepted -> stop
+MAJORITY_AFTER = 100      # from this many readings on, stop when most are rejected for one reason
+# reasons that say the log's values are misread; 'missing' and 'fields' are
+# left out: lines of another record type (a log interleaving GPS-only lines,
+# say) are skipped that way and the readings between them are fine
+MAJORITY_REASONS = ("rate", "time", "pressure", "temperature", "humidity", "number", "gps")
+
+# time unit check (see TimeUnitCheck)
+SPACINGS = 8              # time steps whose median is reported as the log's spacing
+STILL_M = 50.0            # height change from the first reading that is still "not moved", gpm
+MOVED_M = 500.0           # a height change this large is a real move, gpm
+MOVED_READINGS = 3        # ... when this many readings in a row show it (a spike is one reading)
+SLOW_M_S = 0.02           # slower than this over the first move: the times are too large
+SLOW_SPACING_S = 10.0     # ... and only when the readings are at least this far apart
+FAST_FACTOR = 10.0        # faster than this times the column's default max_rate_m_s: too small
 
 
-class ReplayAbort(ValueError):
-    """The replay cannot go on (nothing accepted at the start); exit status 2."""
+class ReplayAbort(InputError):
+    """The replay cannot go on (nothing accepted at the start, most readings
+    rejected for one reason, a time unit the readings contradict); exit status 2."""
+
+
+def column_default(name):
+    """The default of the Column constructor's keyword ``name`` (read from its
+    signature, so the host tools never repeat the column's numbers)."""
+    import inspect
+    from tinygeo.column import Column
+    return inspect.signature(Column.__init__).parameters[name].default
 
 
 def make_column(lat_deg, start_height_m, options):
@@ -84,9 +108,11 @@ class Summary:
         self.rejected = 0
         self.reasons = {}
         self.first_rejection = None
+        self.first_by_reason = {}
         self.levels = {}          # level hPa -> (gph_m, height_m, time_s, line)
         self.launch = None        # (time_s, line)
-        self.burst = None         # (gph_m, time_s, line)
+        self.burst = None         # (gph_m, time_s, line of the peak, line that confirmed it)
+        self.peak = None          # (gph_m, line) of the highest reading so far
         self.landing = None       # (height_m, time_s, line)
         self.max_height = None    # (height_m, gph_m, time_s, line)
         self.tropopause = None    # (p_pa, gph_m, t_k) from the column at the end
@@ -98,6 +124,8 @@ class Summary:
         self.reasons[reason] = self.reasons.get(reason, 0) + 1
         if self.first_rejection is None:
             self.first_rejection = message
+        if reason not in self.first_by_reason:
+            self.first_by_reason[reason] = message
 
     def lines(self, lat_deg):
         """Return the ``#:`` summary lines (without newlines), fixed order."""
@@ -119,10 +147,12 @@ class Summary:
                 ("p_hpa", p / 100.0), ("gph_m", g), ("height_m", geometric_height_m(g, lat_deg)),
                 ("t_k", t)]))
         if self.burst is not None:
-            g, t, ln = self.burst
+            # gph_m, time_s and line are the peak's; confirmed_line is the
+            # reading that was burst_readings readings below it
+            g, t, ln, confirmed = self.burst
             out.append(table.summary_line("burst", [
                 ("gph_m", g), ("height_m", geometric_height_m(g, lat_deg)), ("time_s", t),
-                ("line", ln)]))
+                ("line", ln), ("confirmed_line", confirmed)]))
         if self.max_height is not None:
             h, g, t, ln = self.max_height
             out.append(table.summary_line("highest", [("gph_m", g), ("height_m", h), ("time_s", t),
@@ -167,8 +197,13 @@ def note_events(summary, col, reading, bits):
     summary.last_line = lineno
     h = _attr(col, "height_m")
     ts = _attr(col, "time_s")
+    g = _attr(col, "gph_m")
     if summary.max_height is None or h > summary.max_height[0]:
-        summary.max_height = (h, _attr(col, "gph_m"), ts, lineno)
+        summary.max_height = (h, g, ts, lineno)
+    if summary.peak is None or g > summary.peak[0]:
+        # the column's max_gph_m follows the same rule (a new maximum only
+        # when strictly higher), so at its burst event this is the burst's line
+        summary.peak = (g, lineno)
     if bits & table.EV_LEVEL:
         for p, g, hl in _levels(col):
             hpa = int(round(p / 100.0))
@@ -177,7 +212,8 @@ def note_events(summary, col, reading, bits):
     if bits & table.EV_LAUNCH and summary.launch is None:
         summary.launch = (_attr(col, "launch_time_s"), lineno)
     if bits & table.EV_BURST and summary.burst is None:
-        summary.burst = (_attr(col, "burst_gph_m"), _attr(col, "burst_time_s"), lineno)
+        peak_line = summary.peak[1] if summary.peak is not None else lineno
+        summary.burst = (_attr(col, "burst_gph_m"), _attr(col, "burst_time_s"), peak_line, lineno)
     if bits & table.EV_LANDED and summary.landing is None:
         summary.landing = (h, ts, lineno)
     if reading[5] is not None:
@@ -194,11 +230,16 @@ def finish(summary, col):
 def readings(reader, col, summary, report):
     """Yield ``(reading, bits)`` for every accepted reading of ``reader``;
     rejected lines go to ``report(message)`` and the summary. Raises
-    ReplayAbort when the first START_GIVE_UP data lines are all rejected."""
+    ReplayAbort when the first START_GIVE_UP data lines are all rejected,
+    when more than half of the readings (from MAJORITY_AFTER on) are rejected
+    for one of MAJORITY_REASONS, or when TimeUnitCheck finds the time unit
+    wrong."""
+    check = TimeUnitCheck(reader)
     for reading in reader:
         if isinstance(reading, ReadingError):
             _rejected(summary, reading, getattr(reading, "lineno", reader.lineno), report)
             continue
+        check.see(reading)
         try:
             bits = feed(col, reading)
         except ValueError as e:  # ReadingError by the contract; any check error is a rejection
@@ -208,11 +249,21 @@ def readings(reader, col, summary, report):
         yield reading, bits
 
 
+MAJORITY_HINTS = {
+    "rate": "the readings imply impossible vertical speeds: check the time unit "
+            "(--time NAME:s or NAME:ms) and the pressure unit (--pressure NAME:Pa or NAME:hPa), "
+            "or raise --max-rate",
+    "time": "check the time column (--time NAME[:s|ms|iso]): time stamps must be numbers of "
+            "seconds or ISO-8601 timestamps and must not go back",
+}
+
+
 def _rejected(summary, e, lineno, report):
     msg = str(e)
     if not msg.startswith("line "):
         msg = "line %d: %s" % (lineno, msg)
-    summary.reject(getattr(e, "reason", "reading") or "reading", msg)
+    reason = getattr(e, "reason", "reading") or "reading"
+    summary.reject(reason, msg)
     if summary.rejected <= MAX_REPORTS:
         report("rejected (%s) %s" % (getattr(e, "reason", "reading"), msg))
     elif summary.rejected == MAX_REPORTS + 1:
@@ -222,6 +273,125 @@ def _rejected(summary, e, lineno, report):
             "stopped at line %d: none of the first %d readings was accepted; first problem: %s. "
             "Check the column mapping and units (see --help)"
             % (lineno, summary.rejected, summary.first_rejection))
+    seen = summary.accepted + summary.rejected
+    n = summary.reasons[reason]
+    if seen >= MAJORITY_AFTER and 2 * n > seen and reason in MAJORITY_REASONS:
+        raise ReplayAbort(
+            "stopped at line %d: %d of the %d readings so far were rejected for '%s' "
+            "(first: %s); %s"
+            % (lineno, n, seen, reason, summary.first_by_reason[reason],
+               MAJORITY_HINTS.get(reason, "check the column mapping and units (see --help)")))
+
+
+def _median(values):
+    v = sorted(values)
+    n = len(v)
+    if n == 0:
+        return NAN
+    return v[n // 2] if n % 2 else 0.5 * (v[n // 2 - 1] + v[n // 2])
+
+
+class TimeUnitCheck:
+    """Sanity check of a time column in seconds or milliseconds, from the
+    readings themselves (the K/degC and Pa/hPa checks of logread look at one
+    value; a time unit needs a move).
+
+    The first real move of the log is its height change from the first
+    reading reaching MOVED_M gpm, held for MOVED_READINGS readings in a row
+    (a one-reading pressure spike is not a move). Its vertical speed is taken
+    from the last reading still within STILL_M of the first one to the first
+    reading of the move: at least (MOVED_M - STILL_M) gpm in that time. Height
+    changes are the hypsometric thickness between the readings with the dry
+    temperatures (tinygeo.layers.layer_thickness; a sanity check, not a
+    result). Then:
+
+    * faster than FAST_FACTOR times the column's default max_rate_m_s: the
+      time stamps are too small (seconds read as milliseconds);
+    * slower than SLOW_M_S (450 m in over 6 h) with readings at least
+      SLOW_SPACING_S apart (median of the first SPACINGS steps): the time
+      stamps are too large (milliseconds read as seconds). A unit given on the
+      command line (``--time NAME:s``) skips this one: a slow log (a
+      barograph, say) is then taken as it is.
+
+    Either raises ReplayAbort naming the lines, the speed, the spacing and the
+    likely unit. ISO-8601 time stamps are not checked (no unit to mistake).
+    The check keeps a few scalars and at most SPACINGS steps."""
+
+    def __init__(self, reader):
+        self.reader = reader
+        self.active = "time" in reader.columns
+        self.ref = None       # (p_pa, t_k) of the first timed reading
+        self.still = None     # (time_s, dz_m, line) of the latest reading within STILL_M
+        self.move = None      # (time_s, dz_m, line) of the first reading of the current move
+        self.run = 0          # readings in a row at MOVED_M or more
+        self.prev_t = None
+        self.steps = []
+
+    def see(self, reading):
+        """Look at one parsed reading (before the column); raise ReplayAbort
+        when the time unit is contradicted."""
+        if not self.active:
+            return
+        lineno, p, t, ts = reading[0], reading[1], reading[2], reading[4]
+        if ts is None:
+            return
+        unit = self.reader.columns["time"][2]
+        if unit not in ("s", "ms"):
+            self.active = False
+            return
+        if self.prev_t is not None and len(self.steps) < SPACINGS:
+            self.steps.append(ts - self.prev_t)
+        self.prev_t = ts
+        from tinygeo.layers import layer_thickness
+        try:
+            if self.ref is None:
+                layer_thickness(p, p, t, t)     # in range? (else wait for a usable reading)
+                self.ref = (p, t)
+                self.still = (ts, 0.0, lineno)
+                return
+            dz = abs(layer_thickness(self.ref[0], p, self.ref[1], t))
+        except ValueError:
+            return      # out of range: the column rejects it, and it says nothing here
+        if dz < STILL_M:
+            self.still = (ts, dz, lineno)
+            self.run = 0
+            return
+        if dz < MOVED_M:
+            self.run = 0
+            return
+        if self.run == 0:
+            self.move = (ts, dz, lineno)
+        self.run += 1
+        if self.run >= MOVED_READINGS:
+            self.active = False
+            self._judge(unit, lineno)
+
+    def _judge(self, unit, lineno):
+        t0, z0, line0 = self.still
+        t1, z1, line1 = self.move
+        dt = t1 - t0
+        if not dt > 0.0:
+            return      # time going back or repeated: the column reports those
+        speed = (z1 - z0) / dt
+        spacing = _median(self.steps)
+        i, name, _, _ = self.reader.columns["time"]
+        what = ("line %d: the time column %r read in %s gives a vertical speed of %.3g m/s over "
+                "the first move (%.0f m from line %d to line %d in %.4g s; readings %.4g s apart)"
+                % (lineno, name, unit, speed, z1 - z0, line0, line1, dt, spacing))
+        fast = FAST_FACTOR * column_default("max_rate_m_s")
+        if speed > fast:
+            if unit == "ms":
+                hint = "the values look like seconds: use --time %s:s" % name
+            else:
+                hint = ("the time stamps look too small for seconds; convert them to seconds "
+                        "or milliseconds and give --time %s:s or --time %s:ms" % (name, name))
+            raise ReplayAbort("%s, faster than %g m/s; %s" % (what, fast, hint))
+        if unit == "s" and speed < SLOW_M_S and spacing >= SLOW_SPACING_S and \
+                "time" not in self.reader.option_units:
+            raise ReplayAbort(
+                "%s, slower than %g m/s; the values look like milliseconds: use --time %s:ms "
+                "(if the log really is this slow, give --time %s:s to skip this check)"
+                % (what, SLOW_M_S, name, name))
 
 
 class Progress:
@@ -272,9 +442,14 @@ def replay(reader, col, out, lat_deg, site, source_name, flush=False, err=None, 
     prog = Progress(err, progress)
 
     def report(msg):
+        from tinygeo.host.cli import one_line
         prog.done()
-        err.write("tinygeo replay: %s\n" % msg)
+        err.write("tinygeo replay: %s\n" % one_line(msg))
 
+    if "time" not in reader.columns:
+        err.write("tinygeo replay: warning: the log has no time column, so pressure glitches are "
+                  "not screened by vertical rate (nor rates or landing found); map one with "
+                  "--time NAME[:s|ms|iso]\n")
     write = out.write
     started = False
     for reading, bits in readings(reader, col, summary, report):
