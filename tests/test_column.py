@@ -176,7 +176,7 @@ def test_descent_integrates_down_and_repeat_adds_nothing():
     for p in ps:
         col.feed(p, 270.0)
     top = col.gph_m
-    col.feed(ps[-1], 265.0)
+    col.feed(ps[-1], 268.0)   # within max_t_step_k of 270 K (untimed, same pressure)
     assert col.gph_m == top and col.flags & FL_SAME_P
     col.feed(ps[-1], 270.0)
     # the same readings backwards: layer_thickness is exactly antisymmetric, so
@@ -556,11 +556,14 @@ def _bad_for(kind, prev):
         "rh_high": (p, t, 250.0), "rh_neg": (p, t, -20.0), "gps_far": (p, t, None, None, -5000.0),
         "list": ([p], t), "none_p": (None, t),
         "rate": (p * 0.5, t, None, tlast + 0.5),
+        # temperature glitches one second after the previous reading (max_t_step_k)
+        "spike_up": (p, t + 15.0, rh, None if tm is None else tm + 1.0),
+        "spike_down": (p, t - 9.0, None, None if tm is None else tm + 1.0),
     }[kind]
 
 
 BAD_KINDS = ["nan_p", "inf_t", "str_rh", "p_zero", "p_high", "celsius", "rh_high", "rh_neg",
-             "gps_far", "list", "none_p", "rate"]
+             "gps_far", "list", "none_p", "rate", "spike_up", "spike_down"]
 
 
 @settings(max_examples=40, deadline=None, suppress_health_check=[HealthCheck.too_slow])
@@ -732,3 +735,112 @@ def test_gps_ellipsoidal_heights_with_geoid_undulation():
     assert back._geoid_n == 47.5
     with pytest.raises(TinygeoError):
         Column(47.0, geoid_undulation_m=400.0)
+
+
+# -------------------------------------------------------------- temperature steps
+# The allowance max_t_step_k + max_t_rate_k_s dt + max_t_gradient_k_m |dz|
+# (defaults 3 K, 1 K/s, 0.1 K/m; the column docstring). Strong real inversions
+# reach about 10 K per 100 m (0.1 K/m; common practice).
+
+def _climb(col, h0, h1, speed, dt, temp, t0=0.0, rh=None):
+    """Feed a climb from h0 to h1 gpm (standard pressures) at speed m/s every
+    dt s (dt=None: no time stamps) with temperature temp(h); return the time."""
+    n = int(round(abs(h1 - h0) / (speed * (dt or 1.0))))
+    ts = t0
+    for i in range(1, n + 1):
+        h = h0 + (h1 - h0) * i / n
+        ts += dt or 0.0
+        col.feed(standard.standard_pressure(h), temp(h), rh, ts if dt else None)
+    return ts
+
+
+def test_temperature_spike_is_rejected_and_changes_nothing():
+    col = Column(45.0)
+    ts = _climb(col, 0.0, 1000.0, 5.0, 2.0, lambda h: 288.0 - 0.0065 * h)
+    before = snapshot(col)
+    n = col.count
+    p = standard.standard_pressure(1010.0)
+    for jump in (8.0, -8.0, 25.0, -25.0):
+        with pytest.raises(ReadingError) as e:
+            col.feed(p, col.t_k + jump, None, ts + 2.0)
+        assert e.value.reason == "temperature" and "max_t_step_k" in str(e.value)
+        assert snapshot(col) == before
+    assert col.rejected == 4
+    col.feed(p, 288.0 - 0.0065 * 1010.0, None, ts + 2.0)   # the next good reading is taken
+    assert col.count == n + 1
+    # the same glitch without time stamps, and the check switched off
+    col = Column(45.0)
+    _climb(col, 0.0, 500.0, 5.0, None, lambda h: 288.0)
+    with pytest.raises(ReadingError):
+        col.feed(standard.standard_pressure(505.0), 300.0)
+    off = Column(45.0, max_t_step_k=None)
+    _climb(off, 0.0, 500.0, 5.0, 2.0, lambda h: 288.0)
+    off.feed(standard.standard_pressure(505.0), 313.0, None, 202.0)
+    assert off.rejected == 0
+
+
+@pytest.mark.parametrize("dt", [1.0, 2.0, None])
+def test_sharp_real_inversion_at_5_m_s_is_accepted(dt):
+    # 10 K warmer over 100 m (0.1 K/m, the strongest real inversions), then the
+    # standard lapse rate again; ascent at 5 m/s, 1 or 2 s steps or untimed
+    def temp(h):
+        if h < 1000.0:
+            return 285.0 - 0.0065 * h
+        if h < 1100.0:
+            return 278.5 + 0.1 * (h - 1000.0)
+        return 288.5 - 0.0065 * (h - 1100.0)
+    col = Column(45.0)
+    _climb(col, 0.0, 3000.0, 5.0, dt, temp, rh=70.0)
+    assert col.rejected == 0 and abs(col.t_k - temp(3000.0)) < 1e-9
+    # a fast fall (60 m/s) through the same inversion is accepted too
+    _climb(col, 3000.0, 500.0, 60.0, dt, temp, t0=1e4, rh=70.0)
+    assert col.rejected == 0
+
+
+def test_column_recovers_after_a_genuine_temperature_step():
+    # the sensor reads 10 K colder from t = 100 s on (a real step change):
+    # rejected until 3 K + 1 K/s * dt covers it, i.e. for 7 s, then followed
+    col = Column(45.0)
+    ts = _climb(col, 0.0, 500.0, 5.0, 1.0, lambda h: 288.0)
+    p = standard.standard_pressure(500.0)
+    first_ok = None
+    for k in range(1, 20):
+        try:
+            col.feed(p, 278.0, None, ts + k)
+        except ReadingError as e:
+            assert e.reason == "temperature"
+            continue
+        first_ok = k
+        break
+    assert first_ok == 7 and col.rejected == 6 and col.t_k == 278.0
+    col.feed(p, 278.1, None, ts + 8)        # and then it goes on normally
+    assert col.rejected == 6
+    # untimed: the allowance grows with the climb instead (0.1 K/m: 70 m)
+    col = Column(45.0)
+    _climb(col, 0.0, 500.0, 5.0, None, lambda h: 288.0)
+    for h in range(505, 600, 5):
+        try:
+            col.feed(standard.standard_pressure(float(h)), 278.0)
+            break
+        except ReadingError:
+            pass
+    assert 565 <= h <= 575 and col.t_k == 278.0
+
+
+def test_temperature_step_settings_are_checked_and_stored():
+    for kw in ({"max_t_step_k": -1.0}, {"max_t_step_k": NAN}, {"max_t_rate_k_s": 101.0},
+               {"max_t_gradient_k_m": -0.1}, {"max_t_rate_k_s": None}):
+        with pytest.raises(TinygeoError):
+            Column(45.0, **kw)
+    for kw in ({"max_t_step_k": None}, {"max_t_step_k": 5.0, "max_t_rate_k_s": 0.5,
+                                         "max_t_gradient_k_m": 0.05}):
+        col = Column(45.0, **kw)
+        col.feed(100000.0, 288.0, 50.0, 0.0)
+        back = Column.from_bytes(col.to_bytes())
+        assert back.to_bytes() == col.to_bytes()
+        assert snapshot(back, skip=()) == snapshot(col, skip=())
+        if kw["max_t_step_k"] is None:
+            assert back._t_step != back._t_step     # stored as nan: off
+            back.feed(99990.0, 320.0, None, 1.0)    # a 32 K step is accepted
+        else:
+            assert (back._t_step, back.max_t_rate_k_s, back.max_t_gradient_k_m) == (5.0, 0.5, 0.05)

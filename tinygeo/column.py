@@ -42,7 +42,8 @@ ice=False, dry_fallback=False, sigma_p_pa=10.0, sigma_t_k=0.2,
 sigma_rh_pct=1.0, bias_p_pa=50.0, bias_t_k=0.2, bias_rh_pct=3.0,
 max_rate_m_s=200.0, landing_s=60.0, landing_tol_pa=50.0, launch_m=20.0,
 burst_drop_m=50.0, burst_readings=3, tropopause_max_p_pa=50000.0,
-rh_tol_pct=3.0, track_sigma=True, on_event=None, geoid_undulation_m=None)``
+rh_tol_pct=3.0, track_sigma=True, on_event=None, geoid_undulation_m=None,
+max_t_step_k=3.0, max_t_rate_k_s=1.0, max_t_gradient_k_m=0.1)``
 
 - lat_deg: geodetic latitude of the flight, degrees, -90..90 (kept fixed: the
   latitude only enters the conversion between geopotential and geometric
@@ -96,6 +97,25 @@ rh_tol_pct=3.0, track_sigma=True, on_event=None, geoid_undulation_m=None)``
 - geoid_undulation_m: None (default): gps_m is a height above mean sea
   level. A number N, m, -150..150: gps_m is an ellipsoidal (GPS receiver)
   height and is converted with tinygeo.msl_height(gps_m, N) = h - N.
+- max_t_step_k, max_t_rate_k_s, max_t_gradient_k_m: the temperature-step
+  check against sensor glitches (reason 'temperature'). A reading is rejected
+  when its temperature differs from the latest accepted one by more than
+      max_t_step_k + max_t_rate_k_s dt + max_t_gradient_k_m |dz|
+  where dt is the time since the latest accepted reading with a time stamp
+  (0 when this reading or every earlier one has none) and dz the
+  thickness, gpm, of the layer between the latest accepted reading and this
+  one. The allowance grows with the time and the height since the latest
+  accepted reading, so after a genuine step change the column accepts the
+  new temperatures again after (jump - max_t_step_k)/max_t_rate_k_s seconds
+  or the matching climb; without time stamps and without a pressure change
+  (standing still, untimed) it does not grow. Defaults: 3 K (a few times the
+  noise of any radiosonde-class sensor), 1 K/s (cloud exits and the sun
+  change a sensor's reading by a few K over several seconds) and 0.1 K/m
+  (the strongest real inversions, about 10 K per 100 m; common practice):
+  at 5 m/s and 1 s steps a reading may differ by 4.5 K from the previous one,
+  at 2 s steps by 6 K, while the sharpest real inversion changes it by 0.5 K
+  per second. max_t_step_k=None disables the check; ranges 0..100 K,
+  0..100 K/s, 0..10 K/m.
 
 ``feed(p_pa, t_k, rh_pct=None, time_s=None, gps_m=None) -> int`` adds one
 reading and returns the bits of the events it caused (0 = none).
@@ -360,7 +380,8 @@ def _crc_soft(data):
 # Settings first (the constructor is called with them on restore), then state.
 _CFG_F = ("lat_deg", "start_height_m", "_anchor", "sigma_p_pa", "sigma_t_k", "sigma_rh_pct",
           "bias_p_pa", "bias_t_k", "bias_rh_pct", "_max_rate", "landing_s", "landing_tol_pa",
-          "launch_m", "burst_drop_m", "tropopause_max_p_pa", "rh_tol_pct", "_geoid_n")
+          "launch_m", "burst_drop_m", "tropopause_max_p_pa", "rh_tol_pct", "_geoid_n",
+          "_t_step", "max_t_rate_k_s", "max_t_gradient_k_m")
 _CFG_I = ("_ell", "ice", "dry_fallback", "burst_readings", "track_sigma")
 _ST_F = ("p_pa", "t_k", "tv_k", "rh_pct", "time_s", "gph_m", "_c", "height_m", "rate_m_s",
          "max_gph_m", "launch_time_s", "burst_gph_m", "burst_time_s", "burst_p_pa",
@@ -392,7 +413,8 @@ class Column:
                  sigma_rh_pct=1, bias_p_pa=50, bias_t_k=0.2, bias_rh_pct=3,
                  max_rate_m_s=200, landing_s=60, landing_tol_pa=50, launch_m=20,
                  burst_drop_m=50, burst_readings=3, tropopause_max_p_pa=50000,
-                 rh_tol_pct=3, track_sigma=True, on_event=None, geoid_undulation_m=None):
+                 rh_tol_pct=3, track_sigma=True, on_event=None, geoid_undulation_m=None,
+                 max_t_step_k=3, max_t_rate_k_s=1, max_t_gradient_k_m=0.1):
         # --- settings (checked here; RangeError names the bad one)
         self.lat_deg = check_lat(lat_deg)
         if ellipsoid is WGS84 or getattr(ellipsoid, "name", None) == "WGS84":
@@ -438,6 +460,13 @@ class Column:
         self._rh_lo = -self.rh_tol_pct          # derived, so feed builds no float for its check
         self._rh_hi = 100.0 + self.rh_tol_pct
         self.track_sigma = bool(track_sigma)
+        if max_t_step_k is None:
+            self._t_step = _NAN
+        else:
+            self._t_step = _setting("max_t_step_k", max_t_step_k, 0, 100, "K")
+        self._t_step_neg = -self._t_step        # derived, so feed builds no float for its check
+        self.max_t_rate_k_s = _setting("max_t_rate_k_s", max_t_rate_k_s, 0, 100, "K/s")
+        self.max_t_gradient_k_m = _setting("max_t_gradient_k_m", max_t_gradient_k_m, 0, 10, "K/m")
         self.on_event = on_event
         if geoid_undulation_m is None:
             self._geoid_n = _NAN
@@ -636,6 +665,10 @@ class Column:
             y = dz - c
             g = s + y
             c = (g - s) - y
+        # temperature step (see max_t_step_k); a nan t0 (first reading) passes
+        dtk = t - t0
+        if dtk > self._t_step or dtk < self._t_step_neg:
+            self._t_jump(dtk, dz, ts if time_s is not None else _NAN, t_k)
         # geometric height from the node pair (new nodes are kept in locals until the commit)
         if self._n_lo <= g <= self._n_hi:
             nodes = None
@@ -781,6 +814,17 @@ class Column:
             self._bad("number", "%s=%s is not finite; pass a finite number in %s (None if unknown)"
                       % (name, _fmt(x), unit))
         return v
+
+    def _t_jump(self, dtk, dz, ts, t_k):
+        # the full temperature-step allowance, only for a change beyond max_t_step_k
+        allow = self._t_step + self.max_t_gradient_k_m * abs(dz)
+        if ts == ts and self._t_last == self._t_last:
+            allow += self.max_t_rate_k_s * (ts - self._t_last)
+        if abs(dtk) > allow:
+            self._bad("temperature", "t_k=%s is %+.1f K from the latest accepted %r K, beyond the "
+                      "%.1f K allowed (max_t_step_k + max_t_rate_k_s dt + max_t_gradient_k_m |dz|); "
+                      "a sensor glitch? (max_t_step_k=None disables the check)"
+                      % (_fmt(t_k), dtk, self.t_k, allow))
 
     def _bad(self, reason, msg):
         self.rejected += 1
@@ -1030,7 +1074,9 @@ class Column:
                       cfg["landing_s"], cfg["landing_tol_pa"], cfg["launch_m"],
                       cfg["burst_drop_m"], ci["burst_readings"], cfg["tropopause_max_p_pa"],
                       cfg["rh_tol_pct"], ci["track_sigma"], on_event,
-                      None if cfg["_geoid_n"] != cfg["_geoid_n"] else cfg["_geoid_n"])
+                      None if cfg["_geoid_n"] != cfg["_geoid_n"] else cfg["_geoid_n"],
+                      None if cfg["_t_step"] != cfg["_t_step"] else cfg["_t_step"],
+                      cfg["max_t_rate_k_s"], cfg["max_t_gradient_k_m"])
         except TinygeoError as e:
             raise CheckpointError("checkpoint holds settings the column refuses: %s" % e)
         i = nf
