@@ -264,6 +264,17 @@ def test_example_same_under_micropython_and_cpython(full_runs):
     assert summary[-1] == "3"   # PH_LANDED
 
 
+def resumed_at(out, ck):
+    """The reading a run resumed at, from its first line, which must name the
+    slot file it resumed from and both files to delete for a new log."""
+    first = out.split("\n", 1)[0]
+    assert first.startswith("resuming from %s." % ck) and " at reading " in first, first
+    assert first.endswith("(delete %s.0 and %s.1 to start over)" % (ck, ck)), first
+    slot = first[len("resuming from "):].split(" ", 1)[0]
+    assert slot in (ck + ".0", ck + ".1")
+    return int(first.split(" at reading ")[1].split(",")[0])
+
+
 def _after(out, index):
     # lines about readings >= index, and the summary
     keep = []
@@ -280,17 +291,37 @@ def test_example_resumes_after_a_stop(tmp_path, full_runs, interp):
     assert "stopped after 1270 readings" in first
     assert "summary" not in first
     second = run_main(exe, tmp_path, "--checkpoint-every", "50")
-    assert second.startswith("resume log at reading 1250 ")
+    assert resumed_at(second, str(tmp_path / "tg.ckpt")) == 1250
     # the resumed log continues exactly as the uninterrupted one (the checkpoint
     # stores doubles, so the restored column is bit-identical)
     assert_same_output(_after(full_runs[interp], 1250), second.split("\n", 1)[1])
     assert second.strip().splitlines()[-1] == full_runs[interp].strip().splitlines()[-1]
 
 
+@pytest.mark.parametrize("interp", ["micropython", "cpython"])
+def test_second_run_with_default_checkpoint_says_it_resumes_a_finished_log(tmp_path, interp):
+    # no --checkpoint: the slot files go to the current directory
+    # (tinygeo.ckpt.0/.1, ignored by git); the second run must say that it
+    # resumes, from which file, and how to start over, not just print the
+    # first run's summary
+    if interp == "micropython":
+        require_micropython()
+    exe = MICROPYTHON if interp == "micropython" else sys.executable
+    first = run_script(exe, [MAIN, "--step", STEP], cwd=tmp_path)
+    assert first.startswith("start new log at reading 0\n")
+    assert (tmp_path / "tinygeo.ckpt.0").is_file() and (tmp_path / "tinygeo.ckpt.1").is_file()
+    second = run_script(exe, [MAIN, "--step", STEP], cwd=tmp_path)
+    lines = second.strip().splitlines()
+    assert resumed_at(second, "tinygeo.ckpt") > 1500
+    assert lines[1] == "no new readings after the checkpoint: this log had ended"
+    assert lines[2:] == [first.strip().splitlines()[-1]] and lines[2].startswith("summary")
+    assert len(lines) == 3
+
+
 def test_checkpoint_written_by_micropython_resumes_under_cpython(tmp_path, full_runs):
     run_main(MICROPYTHON, tmp_path, "--checkpoint-every", "50", "--stop-after", "700")
     second = run_main(sys.executable, tmp_path, "--checkpoint-every", "50")
-    assert second.startswith("resume log at reading 700 ")
+    assert resumed_at(second, str(tmp_path / "tg.ckpt")) == 700
     assert_same_output(_after(full_runs["cpython"], 700), second.split("\n", 1)[1])
 
 
@@ -302,7 +333,8 @@ def test_torn_newest_checkpoint_falls_back_to_the_older_slot(tmp_path, full_runs
     data = slot1.read_bytes()
     slot1.write_bytes(data[: len(data) // 2])       # a power cut in the middle of the write
     second = run_main(MICROPYTHON, tmp_path, "--checkpoint-every", "100")
-    assert second.startswith("resume log at reading 300 ")
+    assert resumed_at(second, str(tmp_path / "tg.ckpt")) == 300
+    assert second.startswith("resuming from %s " % (tmp_path / "tg.ckpt.0"))
     assert second.strip().splitlines()[-1] == full_runs["micropython"].strip().splitlines()[-1]
 
 
@@ -323,13 +355,11 @@ def test_example_resumes_after_sigkill(tmp_path, full_runs):
     finally:
         proc.wait(timeout=30)
     second = run_main(MICROPYTHON, tmp_path, "--checkpoint-every", "20")
-    first_line = second.split("\n", 1)[0].split()
-    assert first_line[:4] == ["resume", "log", "at", "reading"]
-    resumed_at = int(first_line[4])
+    index = resumed_at(second, str(ck))
     # the second checkpoint (reading 40) existed before the kill; if the kill
     # caught a later write half done, the older slot is used: any multiple of 20
-    assert resumed_at >= 20 and resumed_at % 20 == 0
-    assert_same_output(_after(full_runs["micropython"], resumed_at), second.split("\n", 1)[1])
+    assert index >= 20 and index % 20 == 0
+    assert_same_output(_after(full_runs["micropython"], index), second.split("\n", 1)[1])
 
 
 def test_example_runs_on_mpy_files_only(tmp_path, full_runs):
@@ -375,6 +405,21 @@ def test_circuitpython_code_matches_main(tmp_path, cp_drive, full_runs, interp):
                      extra_env=_cp_env(drive, str(tmp_path / "tg.ckpt")))
     assert_same_output(full_runs[interp], out)
     assert (tmp_path / "tg.ckpt.0").is_file()
+
+
+def test_circuitpython_code_says_it_resumes_like_main(tmp_path, cp_drive):
+    drive, _ = cp_drive
+    ck = str(tmp_path / "tg.ckpt")
+    env = _cp_env(drive, ck, TINYGEO_STOP_AFTER="700", TINYGEO_CHECKPOINT_EVERY="50")
+    run_script(sys.executable, [drive / "code.py"], cwd=tmp_path, extra_env=env)
+    env["TINYGEO_STOP_AFTER"] = "0"
+    second = run_script(sys.executable, [drive / "code.py"], cwd=tmp_path, extra_env=env)
+    assert resumed_at(second, ck) == 700
+    third = run_script(sys.executable, [drive / "code.py"], cwd=tmp_path, extra_env=env)
+    assert resumed_at(third, ck) > 1500
+    assert third.strip().splitlines()[1:] == [
+        "no new readings after the checkpoint: this log had ended",
+        second.strip().splitlines()[-1]]
 
 
 def test_circuitpython_code_without_writable_storage(tmp_path, cp_drive, full_runs):

@@ -40,7 +40,7 @@ from tinygeo.column import Column
 from tinygeo.errors import ReadingError
 
 from flightsim import SimulatedFlight, LAUNCH_HEIGHT_M
-from logbook import Checkpoints, status_line, print_events, summary_line
+from logbook import Checkpoints, status_line, print_events, summary_line, resume_line, ENDED_LINE
 
 LAT_DEG = 48.2                     # launch site latitude, deg (the invented flight's)
 START_HEIGHT_M = LAUNCH_HEIGHT_M   # height of the first reading above MSL, m
@@ -88,7 +88,7 @@ def run():
     else:
         index, column = restored
         sensor.seek(index)
-        print("resume log at reading %d (%d accepted so far)" % (index, column.count))
+        print(resume_line(book, index, column))
 
     taken = 0
     next_ns = _clock_ns()
@@ -113,6 +113,8 @@ def run():
             wait_ns = next_ns - _clock_ns()
             if wait_ns > 0:
                 time.sleep(wait_ns * 1e-9)
+    if taken == 0 and restored is not None:
+        print(ENDED_LINE)
     if book.enabled:
         book.save(sensor.index, column)
     print(summary_line(column))

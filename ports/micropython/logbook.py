@@ -33,6 +33,7 @@ class Checkpoints:
         self.enabled = True
         self._next_slot = 0
         self.note = ""
+        self.loaded_from = ""     # slot file of the checkpoint load() returned
 
     def slot_path(self, slot):
         return "%s.%d" % (self.path, slot)
@@ -71,6 +72,7 @@ class Checkpoints:
                 best = got
                 best_slot = slot
         self._next_slot = 1 - best_slot
+        self.loaded_from = self.slot_path(best_slot) if best is not None else ""
         return best
 
     def save(self, index, column):
@@ -91,6 +93,18 @@ class Checkpoints:
             return False
         self._next_slot = 1 - self._next_slot
         return True
+
+
+def resume_line(book, index, column):
+    """The line a logger prints when it goes on from a checkpoint: which file,
+    which reading, and how to start a new log instead (both slot files hold
+    the log, so deleting only the newest would resume from the older)."""
+    return "resuming from %s at reading %d, %d accepted so far (delete %s and %s to start over)" % (
+        book.loaded_from, index, column.count, book.slot_path(0), book.slot_path(1))
+
+
+ENDED_LINE = "no new readings after the checkpoint: this log had ended"
+"""Printed when a resumed log gets no reading (a finished simulated flight)."""
 
 
 def status_line(index, column):

@@ -22,7 +22,12 @@ What it shows:
 - every ``CHECKPOINT_EVERY`` readings the column state (``Column.to_bytes``)
   and the reading number go to a checkpoint; at start the newest good
   checkpoint is restored, so after a power cut the log goes on from there
-  (see ``logbook.py`` for the two-slot scheme).
+  (see ``logbook.py`` for the two-slot scheme). The first line then says so:
+  ``resuming from tinygeo.ckpt.1 at reading 1250, ... (delete tinygeo.ckpt.0
+  and tinygeo.ckpt.1 to start over)``. By default the slot files are
+  ``tinygeo.ckpt.0`` and ``.1`` in the current directory (the board's root
+  on a device), so a second run on the host goes on from the first one's
+  end: delete them, or give ``--checkpoint`` another path, for a new log.
 
 Settings are the constants below; on the host each can also be given as
 ``--name value`` (``--step``, ``--checkpoint``, ``--checkpoint-every``,
@@ -36,7 +41,7 @@ from tinygeo.column import Column
 from tinygeo.errors import ReadingError
 
 from flightsim import SimulatedFlight, LAUNCH_HEIGHT_M
-from logbook import Checkpoints, status_line, print_events, summary_line
+from logbook import Checkpoints, status_line, print_events, summary_line, resume_line, ENDED_LINE
 
 LAT_DEG = 48.2                 # launch site latitude, deg (the invented flight's)
 START_HEIGHT_M = LAUNCH_HEIGHT_M   # height of the first reading above MSL, m
@@ -96,7 +101,7 @@ def run(opts):
     else:
         index, column = restored
         sensor.seek(index)
-        print("resume log at reading %d (%d accepted so far)" % (index, column.count))
+        print(resume_line(book, index, column))
     every = opts["checkpoint-every"]
     show = opts["print-every"]
     stop_after = opts["stop-after"]
@@ -118,6 +123,8 @@ def run(opts):
             print("stopped after %d readings (as by a power cut)" % taken)
             return column
         sleep_ms(opts["pace-ms"])
+    if taken == 0 and restored is not None:
+        print(ENDED_LINE)
     book.save(sensor.index, column)
     print(summary_line(column))
     return column
