@@ -20,6 +20,7 @@
 """
 import importlib.util
 import json
+import math
 import os
 import pathlib
 import shutil
@@ -208,6 +209,22 @@ def test_mpy_cross_gate_can_fail(tmp_path):
 
 
 # --------------------------------------------------------------- the example
+def test_example_sensor_air_uses_the_package_constants():
+    # The invented atmosphere's isothermal layer (11.8..20 km) must satisfy the
+    # hypsometric equation for an isothermal layer, ln(p1/p2) = g0 (z2 - z1) / (Rd T)
+    # (Wallace & Hobbs 2006, Atmospheric Science, eq. 3.29 with Tv constant),
+    # with tinygeo's Rd and g0: a copied gas constant (ICAO's 287.05287, 7e-7
+    # relative from R*/M0) fails this at 1e-9.
+    from tinygeo.constants import G0, RD
+    sim = _load(MP_PORT / "flightsim.py", "tinygeo_flightsim")
+    z1, z2 = 13000.0, 17500.0
+    t = sim.air_temperature_k(z1)
+    assert t == sim.air_temperature_k(z2)
+    ratio = math.log(sim.air_pressure_pa(z1) / sim.air_pressure_pa(z2))
+    assert abs(ratio * RD * t / (G0 * (z2 - z1)) - 1.0) < 1e-9
+    assert "287.0" not in (MP_PORT / "flightsim.py").read_text()
+
+
 def _decimals(tok):
     return len(tok.split(".", 1)[1]) if "." in tok else 0
 

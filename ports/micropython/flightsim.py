@@ -15,10 +15,12 @@ has to look like a flight (falling pressure, a temperature minimum near 12 km,
 humidity that dries out aloft, a GPS fix every tenth reading, a humidity
 dropout and one failed temperature conversion to show the error path).
 
-Runs unchanged under CPython, MicroPython and CircuitPython: floats and
-``math`` only.
+Runs unchanged under CPython, MicroPython and CircuitPython: floats,
+``math`` and ``tinygeo.constants`` only.
 """
 import math
+
+from tinygeo.constants import G0, RD
 
 # --- the invented scenario (demo values, not measurements) -------------------
 LAUNCH_HEIGHT_M = 312.0      # field elevation above mean sea level, m
@@ -35,9 +37,10 @@ ASCENT_M_S = 5.2             # mean ascent rate, m/s
 DESCENT_M_S = 5.5            # parachute descent rate near the ground, m/s
 SCALE_HEIGHT_2_M = 14800.0   # twice a density scale height: descent speeds up aloft
 
-# hydrostatic constants of the invented atmosphere (dry air, constant gravity)
-_G = 9.80665
-_R = 287.05287
+# hydrostatic constants of the invented atmosphere (dry air, constant gravity):
+# standard gravity and the gas constant of dry air, the package's own
+# (tinygeo.constants: G0 exact by definition, RD = R*/M0 of the U.S. Standard
+# Atmosphere 1976), so the demo's air obeys the same physics as the column
 
 # readings that show the error handling
 DROPOUT_FIRST = 700          # humidity missing for readings 700..719 (by index)
@@ -95,7 +98,7 @@ def air_pressure_pa(z_m):
     Dry hydrostatic balance with constant gravity through the three layers of
     :func:`air_temperature_k` (closed forms for a linear and a constant
     temperature profile). Demo data only."""
-    k = _G / _R
+    k = G0 / RD
     z1 = min(z_m, TROPOPAUSE_M)
     t1 = air_temperature_k(z1)
     p = LAUNCH_P_PA * math.pow(t1 / LAUNCH_T_K, -k / LAPSE_K_M)
