@@ -178,10 +178,13 @@ three points, used while gph_m stays within 3000 gpm of g0 (then a new node
 is taken at the current gph_m). h(gph) has d3h/dgph3 ~ 6/R^2 = 1.5e-13 per
 m^2, so the interpolation error is below 3 mm (double precision), and one
 Newton solve plus two series evaluations every 3 km replace a Newton solve
-per reading. At a node height_m is exactly geometric_height(gph_m) (so the
-first reading sits at start_height_m to 1e-9 m). The series coefficients of
-the latitude (tinygeo.potential) are evaluated once, in the constructor, so a
-node costs about 130 float results instead of 800 (MicroPython heap). rate_m_s is the difference
+per reading. At a node height_m is geometric_height(gph_m) (so the first
+reading sits at start_height_m to 1e-9 m): the full Newton solve for the
+first node (and after a jump of more than 6000 gpm), else one Newton step
+started from the old quadratic (a few mm off, so the step leaves about
+1e-12 m). The series coefficients of the latitude (tinygeo.potential) are
+evaluated once, in the constructor: a node costs about 70 float results
+(MicroPython heap blocks) instead of 800. rate_m_s is the difference
 of these heights over the time step. Above 98 750 gpm (outside
 geometric_height) height_m is nan.
 
@@ -285,7 +288,7 @@ version 1 blobs are refused.
 import math
 import struct
 
-from .potential import msl_height, GPH_MIN_M, GPH_MAX_M, _coefs, _gph, _geom
+from .potential import msl_height, GPH_MIN_M, GPH_MAX_M, _coefs, _gph, _geom, _newton
 from .layers import layer_thickness, ln_ratio, _half_k_ln
 from .moisture import vapour_pressure, mixing_ratio, _q, _boiling, _tv_w, _ONE_M_EPS
 from .constants import G0, RD, WGS84, GRS80
@@ -343,6 +346,7 @@ _NINF = float("-inf")
 _KH = 0.5 * RD / G0        # half of Rd/g0, gpm/K
 _NODE_D = 1500.0           # m between the nodes of the height quadratic
 _NODE_W = 3000.0           # gpm: the quadratic is used within +-_NODE_W of its node
+_NODE_W2 = 6000.0          # gpm: and gives the start of the next node's Newton step within it
 _RH_SLOPE_MIN = 1.0        # %RH below which dTv/dRH is held, not recomputed
 
 
@@ -675,7 +679,12 @@ class Column:
             d = g - self._n_g
             h = self._n_h + d * (self._n_k1 + d * self._n_k2)
         else:
-            nodes = self._nodes(g)
+            guess = _NAN
+            d = g - self._n_g
+            if -_NODE_W2 <= d <= _NODE_W2:
+                # just out of the window: the old quadratic is within a few mm
+                guess = self._n_h + d * (self._n_k1 + d * self._n_k2)
+            nodes = self._nodes(g, guess)
             d = g - nodes[0]
             h = nodes[1] + d * (nodes[2] + d * nodes[3])
         if time_s is None:
@@ -837,9 +846,10 @@ class Column:
         e = vapour_pressure(self._h_t, self._h_p, self._h_rh, self.ice)
         return mixing_ratio(e, self._h_p)
 
-    def _nodes(self, g):
+    def _nodes(self, g, guess=_NAN):
         # exact geometric height h at g (tinygeo.geometric_height, with the
-        # series evaluated once for the column's latitude: potential._geom)
+        # series evaluated once for the column's latitude: potential._geom;
+        # from a guess within a few mm, one Newton step: potential._newton)
         # and the quadratic in gph through it and the gph of h + D and h + 2D
         # (potential._gph); see "Geometric height". Returns the tuple
         # (g, h, k1, k2, lo, hi) and writes nothing.
@@ -847,7 +857,10 @@ class Column:
             return (g, _NAN, _NAN, _NAN, g, g)
         c = self._pc
         a = self._a
-        h = _geom(g, c, a)
+        if guess == guess:
+            h = _newton(g, guess, c, a)
+        else:
+            h = _geom(g, c, a)
         d = _NODE_D
         if h + 2.0 * d > GPH_MAX_M:
             d = -d
@@ -902,8 +915,14 @@ class Column:
             self.level_p_pa = lev
             self.level_gph_m = g0 + f * (g - g0)
             self.level_t_k = t0 + f * (t - t0)
-            if GPH_MIN_M <= self.level_gph_m <= GPH_MAX_M:
-                self.level_height_m = _geom(self.level_gph_m, self._pc, self._a)
+            gl = self.level_gph_m
+            if self._n_lo <= gl <= self._n_hi and self._n_h == self._n_h:
+                # one Newton step from the node quadratic (a few mm off)
+                d = gl - self._n_g
+                self.level_height_m = _newton(gl, self._n_h + d * (self._n_k1 + d * self._n_k2),
+                                              self._pc, self._a)
+            elif GPH_MIN_M <= gl <= GPH_MAX_M:
+                self.level_height_m = _geom(gl, self._pc, self._a)
             else:
                 self.level_height_m = _NAN
             lvl += 1
