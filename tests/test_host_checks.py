@@ -128,6 +128,29 @@ def test_time_check_ignores_a_one_reading_spike(small_flight):
     assert "rejected (rate) line %d:" % (i + 1) in err
 
 
+def test_plot_and_compare_stop_on_a_wrong_time_unit_with_exit_2(small_flight, tmp_path):
+    # they replay the raw log through the same checks (no traceback)
+    log = tmp_path / "flight.csv"
+    log.write_text(small_flight)
+    rc, out, err = main(["plot", str(log), "--time", "time_s:ms", "-o", str(tmp_path / "p.png")])
+    assert rc == 2 and "use --time time_s:s" in last_error(err)
+    assert not (tmp_path / "p.png").exists()
+    rc, table_text, err = main(["replay", "-"], small_flight)
+    assert rc == 0
+    dev = tmp_path / "device.tsv"
+    dev.write_text(table_text)
+    rc, out, err = main(["compare", str(dev), "--log", str(log), "--time", "time_s:ms"])
+    assert rc == 2 and "use --time time_s:s" in last_error(err)
+
+
+def test_an_error_quoting_the_input_stays_one_line():
+    # a header cell holding a carriage return (found by the fuzz test)
+    rc, out, err = main(["replay", "-", "--delimiter", ";"], "\n0\r0")
+    assert rc == 2
+    msg = last_error(err)
+    assert "0\\r0" in msg and "no pressure column" in msg
+
+
 # --- most readings rejected for one reason --------------------------------------
 def test_most_readings_rejected_for_one_reason_stop_with_exit_2(small_flight):
     # --max-rate 1 m/s rejects the whole ascent at ~5 m/s (common practice)

@@ -16,7 +16,11 @@ Layout (UTF-8 text, one record per line, fields separated by one TAB)::
 * Lines starting with ``#`` are comments. The first one names the layout and
   its version; ``# site`` holds the column set-up (``key=value`` words) so a
   reader can rebuild the same column; ``#:`` lines after the rows are the
-  summary, one ``<what> key=value ...`` record per line.
+  summary, one ``<what> key=value ...`` record per line. ``line=`` is the
+  log line of the reading the record describes; in ``burst`` that is the
+  highest reading (its gph_m and time_s), and ``confirmed_line=`` the
+  reading that confirmed the burst (the column's burst_readings-th reading
+  burst_drop_m below it).
 * The first line that is not a comment is the header naming the fields below.
 * ``line`` is the line number of the reading in the input log (on a device:
   the running number of the reading offered to the column, rejected ones
