@@ -326,6 +326,8 @@ class TimeUnitCheck:
         self.run = 0          # readings in a row at MOVED_M or more
         self.prev_t = None
         self.steps = []
+        from tinygeo.layers import layer_thickness
+        self._thickness = layer_thickness
 
     def see(self, reading):
         """Look at one parsed reading (before the column); raise ReplayAbort
@@ -342,14 +344,13 @@ class TimeUnitCheck:
         if self.prev_t is not None and len(self.steps) < SPACINGS:
             self.steps.append(ts - self.prev_t)
         self.prev_t = ts
-        from tinygeo.layers import layer_thickness
         try:
             if self.ref is None:
-                layer_thickness(p, p, t, t)     # in range? (else wait for a usable reading)
+                self._thickness(p, p, t, t)     # in range? (else wait for a usable reading)
                 self.ref = (p, t)
                 self.still = (ts, 0.0, lineno)
                 return
-            dz = abs(layer_thickness(self.ref[0], p, self.ref[1], t))
+            dz = abs(self._thickness(self.ref[0], p, self.ref[1], t))
         except ValueError:
             return      # out of range: the column rejects it, and it says nothing here
         if dz < STILL_M:
@@ -448,7 +449,7 @@ def replay(reader, col, out, lat_deg, site, source_name, flush=False, err=None, 
 
     if "time" not in reader.columns:
         err.write("tinygeo replay: warning: the log has no time column, so pressure glitches are "
-                  "not screened by vertical rate (nor rates or landing found); map one with "
+                  "not screened by vertical rate and no rate or landing is found; map one with "
                   "--time NAME[:s|ms|iso]\n")
     write = out.write
     started = False
