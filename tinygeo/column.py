@@ -340,6 +340,7 @@ WMO_DEPTH_GPM = 2000.0
 """2 km, the depth over which the WMO definition checks the mean lapse rate."""
 
 _NAN = float("nan")
+_setting = check_range     # a setting: a float in lo..hi (unit), else RangeError
 _ZERO = 0.0                # one shared object for every zero the column stores
 _INF = float("inf")
 _NINF = float("-inf")
@@ -579,15 +580,13 @@ class Column:
         if rh_pct is not None:
             rh = self._num(rh_pct, "rh_pct", "%")
             if not self._rh_lo <= rh <= self._rh_hi:
-                self._bad("humidity", "rh_pct=%s outside %g..%g %%; relative humidity in percent "
-                          "expected (a fraction 0..1 would be far too dry; pass None if unknown)"
-                          % (_fmt(rh_pct), self._rh_lo, self._rh_hi))
+                self._bad("humidity", "rh_pct=%s outside %g..%g %%; percent expected, not a 0..1 "
+                          "fraction (None if unknown)" % (_fmt(rh_pct), self._rh_lo, self._rh_hi))
         if time_s is not None:
             ts = self._num(time_s, "time_s", "s")
             if ts < self._t_last:
-                self._bad("time", "time_s=%s is before the previous reading's %r s; time stamps "
-                          "must not decrease (clock reset? start a new Column)"
-                          % (_fmt(time_s), self._t_last))
+                self._bad("time", "time_s=%s is before the previous %r s; time must not decrease "
+                          "(clock reset? new Column)" % (_fmt(time_s), self._t_last))
         if gps_m is not None:
             gps = self._num(gps_m, "gps_m", "m")
             if self._geoid_n == self._geoid_n:
@@ -596,9 +595,8 @@ class Column:
                 except RangeError as e:
                     self._bad("gps", "gps_m=%s (ellipsoidal): %s" % (_fmt(gps_m), e))
             if not GPS_MIN_M <= gps <= GPS_MAX_M:
-                self._bad("gps", "gps_m=%s outside %g..%g m above mean sea level; for an "
-                          "ellipsoidal height set geoid_undulation_m=N (or use tinygeo.msl_height)"
-                          % (_fmt(gps_m), GPS_MIN_M, GPS_MAX_M))
+                self._bad("gps", "gps_m=%s outside %g..%g m above mean sea level; ellipsoidal? "
+                          "set geoid_undulation_m" % (_fmt(gps_m), GPS_MIN_M, GPS_MAX_M))
 
         # ---- 2. compute the new state in locals
         flags = 0
@@ -627,10 +625,8 @@ class Column:
                 if w != w:
                     w = self._held_mixing_ratio()
                 if w > 1.0:
-                    self._bad("humidity", "rh_pct=None: the held mixing ratio %r kg/kg (latest reading "
-                              "with a humidity) is above 1 kg/kg, beyond "
-                              "virtual_temperature_from_mixing_ratio; pass rh_pct, or set "
-                              "dry_fallback=True" % (w,))
+                    self._bad("humidity", "rh_pct=None: held mixing ratio %r kg/kg outside 0..1 kg/kg; "
+                              "pass rh_pct or set dry_fallback=True" % (w,))
                 tv = _tv_w(t, w)                # tinygeo.virtual_temperature_from_mixing_ratio
                 flags = FL_HELD_MIXING
         t0 = self.t_k
@@ -694,9 +690,8 @@ class Column:
             dt = ts - self._t_last
             if dt == 0.0:
                 if g != self._g_t:
-                    self._bad("time", "time_s=%s equals the previous time stamp but the column "
-                              "moved %r gpm; time stamps must increase between different "
-                              "pressures" % (_fmt(time_s), g - self._g_t))
+                    self._bad("time", "time_s=%s repeats the previous time but the column moved "
+                              "%r gpm; time must increase" % (_fmt(time_s), g - self._g_t))
                 rate = _NAN     # a duplicate: the rate stays as it was
             else:
                 rate = (h - self._h_tm) / dt
@@ -830,10 +825,8 @@ class Column:
         if ts == ts and self._t_last == self._t_last:
             allow += self.max_t_rate_k_s * (ts - self._t_last)
         if abs(dtk) > allow:
-            self._bad("temperature", "t_k=%s is %+.1f K from the latest accepted %r K, beyond the "
-                      "%.1f K allowed (max_t_step_k + max_t_rate_k_s dt + max_t_gradient_k_m |dz|); "
-                      "a sensor glitch? (max_t_step_k=None disables the check)"
-                      % (_fmt(t_k), dtk, self.t_k, allow))
+            self._bad("temperature", "t_k=%s jumps %+.1f K from %r K, over the %.1f K allowed; "
+                      "sensor glitch? (max_t_step_k=None: no check)" % (_fmt(t_k), dtk, self.t_k, allow))
 
     def _bad(self, reason, msg):
         self.rejected += 1
@@ -1116,10 +1109,6 @@ class Column:
     def __repr__(self):
         return "Column(lat_deg=%r, count=%d, p_pa=%r, gph_m=%r, phase=%d)" % (
             self.lat_deg, self.count, self.p_pa, self.gph_m, self.phase)
-
-
-def _setting(name, value, lo, hi, unit):
-    return check_range(name, value, lo, hi, unit)
 
 
 def _hint(h):
