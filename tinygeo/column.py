@@ -396,8 +396,7 @@ _ST_F = ("p_pa", "t_k", "tv_k", "rh_pct", "time_s", "gph_m", "_c", "height_m", "
          "_land_lo", "_land_hi", "_land_t", "_h_t", "_h_p", "_h_rh", "_w_held",
          "_tp_g", "_tp_top", "_tp_th", "_tp_p", "_tp_t",
          "_n_g", "_n_h", "_n_k1", "_n_k2", "_n_lo", "_n_hi", "_h_tm",
-         "_var_done", "_ct", "_tm2", "_s2", "_p_start", "_sum_rh", "_sum_p", "_slope", "_var_anchor",
-         "_gps_g")
+         "_var_done", "_ct", "_tm2", "_s2", "_p_start", "_sum_rh", "_sum_p", "_slope", "_var_anchor")
 _ST_I = ("count", "rejected", "flags", "phase", "_lvl", "_burst_n", "_tp_state", "_gps_n")
 _MAGIC = b"TGCK"
 _VERSION = 2
@@ -423,10 +422,8 @@ class Column:
         # --- settings (checked here; RangeError names the bad one)
         self.lat_deg = check_lat(lat_deg)
         if ellipsoid is WGS84 or getattr(ellipsoid, "name", None) == "WGS84":
-            self._ell = 0
             self.ellipsoid = WGS84
         elif ellipsoid is GRS80 or getattr(ellipsoid, "name", None) == "GRS80":
-            self._ell = 1
             self.ellipsoid = GRS80
         else:
             raise RangeError("ellipsoid=%s not supported; pass tinygeo.WGS84 or tinygeo.GRS80"
@@ -462,8 +459,6 @@ class Column:
         self.tropopause_max_p_pa = _setting("tropopause_max_p_pa", tropopause_max_p_pa, 0,
                                             P_MAX_PA, "Pa")
         self.rh_tol_pct = _setting("rh_tol_pct", rh_tol_pct, 0, 3, "%")
-        self._rh_lo = -self.rh_tol_pct          # derived, so feed builds no float for its check
-        self._rh_hi = 100.0 + self.rh_tol_pct
         self.track_sigma = bool(track_sigma)
         if max_t_step_k is None:
             self._t_step = _NAN
@@ -481,11 +476,8 @@ class Column:
         # --- derived settings
         # the geopotential series at this latitude, evaluated once (tinygeo.potential)
         self._pc = _coefs(self.lat_deg, self.ellipsoid)
-        self._a = self.ellipsoid.a_m
-        self._start_gph = _gph(self.start_height_m, self._pc, self._a)
         self._min_rate = -self._max_rate
-        self._sp2 = self.sigma_p_pa * self.sigma_p_pa
-        self._spk2 = _KH * _KH * self._sp2
+        self._spk2 = _KH * _KH * self.sigma_p_pa * self.sigma_p_pa   # (K/2 sigma_p)^2
         self._st2 = self.sigma_t_k * self.sigma_t_k
         # --- state
         self.count = 0
@@ -555,7 +547,6 @@ class Column:
         self._sum_p = _ZERO
         self._slope = _ZERO
         self._var_anchor = _ZERO
-        self._gps_g = _NAN
 
     # ------------------------------------------------------------------ feed
     def feed(self, p_pa, t_k, rh_pct=None, time_s=None, gps_m=None):
@@ -579,9 +570,11 @@ class Column:
                       % (_fmt(t_k), T_MIN_K, T_MAX_K, _hint(temperature_hint(t))))
         if rh_pct is not None:
             rh = self._num(rh_pct, "rh_pct", "%")
-            if not self._rh_lo <= rh <= self._rh_hi:
-                self._bad("humidity", "rh_pct=%s outside %g..%g %%; percent expected, not a 0..1 "
-                          "fraction (None if unknown)" % (_fmt(rh_pct), self._rh_lo, self._rh_hi))
+            if rh < 0.0 or rh > 100.0:     # floats are built only out here (rare)
+                tol = self.rh_tol_pct
+                if rh < -tol or rh > 100.0 + tol:
+                    self._bad("humidity", "rh_pct=%s outside %g..%g %%; percent expected, not a 0..1 "
+                              "fraction (None if unknown)" % (_fmt(rh_pct), -tol, 100.0 + tol))
         if time_s is not None:
             ts = self._num(time_s, "time_s", "s")
             if ts < self._t_last:
@@ -633,7 +626,7 @@ class Column:
         if first:
             p0 = self._anchor
             tv0 = tv
-            s = self._start_gph
+            s = _gph(self.start_height_m, self._pc, self.ellipsoid.a_m)
             c = 0.0
         else:
             p0 = self.p_pa
@@ -737,7 +730,6 @@ class Column:
         if gps_m is not None:
             self.gps_m = gps
             self.gps_diff_m = h - gps
-            self._gps_g = g
             self._gps_n = self.count
         if self.track_sigma:
             self._sigma_step(first, p0, p, tm2, a, slope)
@@ -849,7 +841,7 @@ class Column:
         if not GPH_MIN_M <= g <= GPH_MAX_M:
             return (g, _NAN, _NAN, _NAN, g, g)
         c = self._pc
-        a = self._a
+        a = self.ellipsoid.a_m
         if guess == guess:
             h = _newton(g, guess, c, a)
         else:
@@ -913,9 +905,9 @@ class Column:
                 # one Newton step from the node quadratic (a few mm off)
                 d = gl - self._n_g
                 self.level_height_m = _newton(gl, self._n_h + d * (self._n_k1 + d * self._n_k2),
-                                              self._pc, self._a)
+                                              self._pc, self.ellipsoid.a_m)
             elif GPH_MIN_M <= gl <= GPH_MAX_M:
-                self.level_height_m = _geom(gl, self._pc, self._a)
+                self.level_height_m = _geom(gl, self._pc, self.ellipsoid.a_m)
             else:
                 self.level_height_m = _NAN
             lvl += 1
@@ -960,8 +952,8 @@ class Column:
         the first reading or with track_sigma=False."""
         if self.count == 0 or not self.track_sigma:
             return _NAN
-        cp = _KH * self._tm2 / self.p_pa       # -dz/dp at the latest reading
-        v = self._var_done + self._ct * self._ct * self._s2 + cp * cp * self._sp2
+        x = self._tm2 / self.p_pa               # -dz/dp at the latest reading, over K/2
+        v = self._var_done + self._ct * self._ct * self._s2 + x * x * self._spk2
         return math.sqrt(v)
 
     @property
@@ -1002,12 +994,11 @@ class Column:
             raise TinygeoError("reanchor_gps(): the latest reading has no gps_m; feed a reading "
                                "with gps_m first")
         sg = _setting("sigma_gps_m", sigma_gps_m, 0, 10000, "m")
-        target = _gph(self.gps_m, self._pc, self._a)
+        target = _gph(self.gps_m, self._pc, self.ellipsoid.a_m)
         d = target - self.gph_m
         old_h = self.height_m
         self.gph_m = target
         self._c = _ZERO
-        self._gps_g = target
         for name in ("max_gph_m", "_g_t", "_min_gph", "_launch_gph", "_burst_line", "_tp_g",
                      "_tp_top"):
             setattr(self, name, getattr(self, name) + d)
@@ -1105,6 +1096,12 @@ class Column:
                                   "count %d); not written by this tinygeo"
                                   % (col.phase, col._lvl, col.count))
         return col
+
+    @property
+    def _ell(self):
+        # the ellipsoid's checkpoint code (a property: one attribute fewer
+        # in every Column's dict)
+        return 0 if self.ellipsoid is WGS84 else 1
 
     def __repr__(self):
         return "Column(lat_deg=%r, count=%d, p_pa=%r, gph_m=%r, phase=%d)" % (
