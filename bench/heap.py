@@ -141,6 +141,9 @@ def per_call(fn, n):
         gc.enable()
 
 
+_NODE_COL = Column(LAT_DEG, LAUNCH_HEIGHT_M)
+
+
 def breakdown():
     """(label, bytes per call) for the core functions one feed uses."""
     p0, p1, t1, rh = 90000.0, 89950.0, 279.9, 50.0
@@ -155,8 +158,10 @@ def breakdown():
         ("virtual_temperature_from_mixing_ratio(t, w)",
          per_call(lambda: tinygeo.virtual_temperature_from_mixing_ratio(t1, 0.005), 200)),
         ("errors.as_finite(name, x, unit)", per_call(lambda: errors.as_finite("p_pa", p1, "Pa"), 200)),
-        ("geometric_height(gph, lat) (column: 2 per new node pair)",
+        ("geometric_height(gph, lat) (column: first node only)",
          per_call(lambda: tinygeo.geometric_height(5000.0, LAT_DEG), 10)),
+        ("Column height node after the first (every 3 km)",
+         per_call(lambda: _NODE_COL._nodes(5000.0, 5004.0), 10)),
     ]
 
 
