@@ -141,9 +141,12 @@ Attributes after each accepted reading (nan where not known yet):
     FL_NO_TIME 4 (no time_s, so no rate), FL_DESCENT 8 (pressure rose:
     integrating downwards), FL_SAME_P 16 (pressure repeated: nothing added).
   phase (int): PH_WAIT, PH_ASCENT, PH_DESCENT, PH_LANDED.
-  max_gph_m: highest gph so far; launch_time_s.
-  burst_gph_m, burst_time_s, burst_p_pa: the highest point before the
-    confirmed descent (set with EV_BURST).
+  max_gph_m: highest gph so far that the next reading confirmed (a reading
+    counts as the peak once the reading after it is at least as high, or as
+    the lower of the two: one glitched reading is never the peak); with
+    _max_time/_max_p its time and pressure; launch_time_s.
+  burst_gph_m, burst_time_s, burst_p_pa: that peak at the confirmed descent
+    (set with EV_BURST); within one reading's rise of the true top.
   level_p_pa, level_gph_m, level_height_m, level_t_k: the mandatory level of
     the latest EV_LEVEL.
   tropopause_p_pa, tropopause_gph_m, tropopause_t_k (set with EV_TROPOPAUSE).
@@ -392,14 +395,14 @@ _ST_F = ("p_pa", "t_k", "tv_k", "rh_pct", "time_s", "gph_m", "_c", "height_m", "
          "max_gph_m", "launch_time_s", "burst_gph_m", "burst_time_s", "burst_p_pa",
          "level_p_pa", "level_gph_m", "level_height_m", "level_t_k",
          "tropopause_p_pa", "tropopause_gph_m", "tropopause_t_k", "gps_m", "gps_diff_m",
-         "_t_last", "_g_t", "_min_gph", "_launch_gph", "_max_time", "_max_p", "_burst_line",
+         "_t_last", "_g_t", "_min_gph", "_launch_gph", "_max_time", "_max_p", "_burst_line", "_env_g",
          "_land_lo", "_land_hi", "_land_t", "_h_t", "_h_p", "_h_rh", "_w_held",
          "_tp_g", "_tp_top", "_tp_th", "_tp_p", "_tp_t",
          "_n_g", "_n_h", "_n_k1", "_n_k2", "_n_lo", "_n_hi", "_h_tm",
          "_var_done", "_ct", "_tm2", "_s2", "_p_start", "_sum_rh", "_sum_p", "_slope", "_var_anchor")
 _ST_I = ("count", "rejected", "flags", "phase", "_lvl", "_burst_n", "_tp_state", "_gps_n")
 _MAGIC = b"TGCK"
-_VERSION = 2
+_VERSION = 3
 _HEAD = "<4sBH"            # magic, version, payload length
 _HEAD_LEN = struct.calcsize(_HEAD)
 _PAYLOAD = "<" + "d" * (len(_CFG_F) + len(_ST_F)) + "i" * (len(_CFG_I) + len(_ST_I))
@@ -518,6 +521,7 @@ class Column:
         self._launch_gph = _NAN
         self._max_time = _NAN
         self._max_p = _NAN
+        self._env_g = _NAN     # highest gph of any reading (the tropopause search's envelope)
         self._burst_line = _NAN
         self._land_lo = _NAN
         self._land_hi = _NAN
@@ -684,18 +688,19 @@ class Column:
             if dt == 0.0:
                 if g != self._g_t:
                     self._bad("time", "time_s=%s repeats the previous time but the column moved "
-                              "%r gpm; time must increase" % (_fmt(time_s), g - self._g_t))
+                              "%.3g gpm; time must increase" % (_fmt(time_s), g - self._g_t))
                 rate = _NAN     # a duplicate: the rate stays as it was
             else:
                 rate = (h - self._h_tm) / dt
                 if rate > self._max_rate or rate < self._min_rate:
-                    self._bad("rate", "p_pa=%s implies %.1f m/s over %r s, beyond max_rate_m_s=%g; "
+                    self._bad("rate", "p_pa=%s implies %.1f m/s over %.3g s, beyond max_rate_m_s=%g; "
                               "a pressure glitch, or a wrong unit/time stamp"
                               % (_fmt(p_pa), rate, dt, self._max_rate))
         else:
             rate = _NAN
 
         # ---- 3. commit (no exception is raised from here on, but by on_event)
+        time0 = self.time_s    # the previous reading's time (for the peak, below)
         self.count += 1
         self.p_pa = p
         self.t_k = t
@@ -740,6 +745,7 @@ class Column:
         ph = self.phase
         if first:
             self.max_gph_m = g
+            self._env_g = g
             self._max_time = self.time_s
             self._max_p = p
             self._min_gph = g
@@ -755,13 +761,26 @@ class Column:
             if ph < PH_DESCENT:
                 if self._lvl < 16 and MANDATORY_PA[self._lvl] >= p:
                     bits |= self._levels(p0, p, s, g, t0, t)
-                if g > self.max_gph_m:
+                if g > self._env_g:
                     bits |= self._tropopause(g, t, p)
-            if g > self.max_gph_m:
-                self.max_gph_m = g
-                self._max_time = self.time_s
-                self._max_p = p
-                self._burst_line = g - self.burst_drop_m
+            if g > self._env_g:
+                self._env_g = g
+            # The peak is the higher of the lower ends of consecutive pairs: a
+            # reading counts only once the next one is at least as high as it,
+            # or it is the lower of the pair. One glitched reading (a pressure
+            # dropout that passes the rate check, e.g. with no time stamps)
+            # then never becomes the "highest point" that a false burst would
+            # be measured from. Costs at most one reading's rise at the top.
+            pk = s if s < g else g
+            if pk > self.max_gph_m:
+                self.max_gph_m = pk
+                if s < g:
+                    self._max_time = time0
+                    self._max_p = p0
+                else:
+                    self._max_time = self.time_s
+                    self._max_p = p
+                self._burst_line = pk - self.burst_drop_m
                 self._burst_n = 0
             if ph == PH_WAIT:
                 if g < self._min_gph:
@@ -1000,7 +1019,7 @@ class Column:
         self.gph_m = target
         self._c = _ZERO
         for name in ("max_gph_m", "_g_t", "_min_gph", "_launch_gph", "_burst_line", "_tp_g",
-                     "_tp_top"):
+                     "_tp_top", "_env_g"):
             setattr(self, name, getattr(self, name) + d)
         self._tp_th = self._tp_th + WMO_LAPSE_K_PER_GPM * d
         self._set_nodes(self._nodes(target))

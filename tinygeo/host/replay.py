@@ -112,7 +112,8 @@ class Summary:
         self.levels = {}          # level hPa -> (gph_m, height_m, time_s, line)
         self.launch = None        # (time_s, line)
         self.burst = None         # (gph_m, time_s, line of the peak, line that confirmed it)
-        self.peak = None          # (gph_m, line) of the highest reading so far
+        self.peak = None          # (gph_m, line) of the column's peak so far
+        self.prev = None          # (gph_m, line) of the previous accepted reading
         self.landing = None       # (height_m, time_s, line)
         self.max_height = None    # (height_m, gph_m, time_s, line)
         self.tropopause = None    # (p_pa, gph_m, t_k) from the column at the end
@@ -200,10 +201,17 @@ def note_events(summary, col, reading, bits):
     g = _attr(col, "gph_m")
     if summary.max_height is None or h > summary.max_height[0]:
         summary.max_height = (h, g, ts, lineno)
-    if summary.peak is None or g > summary.peak[0]:
-        # the column's max_gph_m follows the same rule (a new maximum only
-        # when strictly higher), so at its burst event this is the burst's line
+    # the column's peak rule (tinygeo/column.py, max_gph_m): the lower reading
+    # of each consecutive pair, a new peak only when strictly higher; so at its
+    # burst event this is the line of the reading the burst was measured from
+    prev = summary.prev
+    if prev is None:
         summary.peak = (g, lineno)
+    else:
+        low = prev if prev[0] < g else (g, lineno)
+        if low[0] > summary.peak[0]:
+            summary.peak = low
+    summary.prev = (g, lineno)
     if bits & table.EV_LEVEL:
         for p, g, hl in _levels(col):
             hpa = int(round(p / 100.0))
