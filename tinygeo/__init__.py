@@ -38,7 +38,7 @@ _WHERE = (
     ("standard", "standard_temperature standard_pressure pressure_altitude"),
     ("sealevel", "sea_level_pressure qfe qnh indicated_altitude"),
     ("column", "Column EV_LEVEL EV_TROPOPAUSE EV_BURST EV_LANDED EV_LAUNCH FL_DRY FL_HELD_MIXING "
-               "FL_NO_TIME FL_DESCENT PH_WAIT PH_ASCENT PH_DESCENT PH_LANDED"),
+               "FL_NO_TIME FL_DESCENT FL_SAME_P PH_WAIT PH_ASCENT PH_DESCENT PH_LANDED"),
 )
 
 
