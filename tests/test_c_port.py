@@ -664,11 +664,15 @@ def run_py_column(cmds, mod_column=None, ellipsoids=(WGS84, GRS80)):
         status, reason, res = "ok", None, NAN
         if verb == "init":
             res = 0.0
-            lat, start, anchor, ell, ice, dry, track, rate, geoid = args
+            lat, start, anchor, ell, ice, dry, track, rate, geoid = args[:9]
+            tstep = {}
+            if len(args) == 12:
+                tstep = dict(max_t_step_k=args[9], max_t_rate_k_s=args[10],
+                             max_t_gradient_k_m=args[11])
             try:
                 col = cls(lat, start, anchor, ellipsoids[int(ell)], bool(ice), bool(dry),
                           max_rate_m_s=rate, track_sigma=bool(track), geoid_undulation_m=geoid,
-                          on_event=cb)
+                          on_event=cb, **tstep)
             except errors.RangeError:
                 rows.append(("range", None, 0.0, None))
                 continue
@@ -916,7 +920,7 @@ def test_column_checkpoints_are_interchangeable_with_python(build):
     assert len(cblobs) == len(pblobs) == 3
     for cb_, pb in zip(cblobs, pblobs):
         assert cb_ == pb
-    assert cblobs[0] == py_blob and len(raw) == 671
+    assert cblobs[0] == py_blob and len(raw) == _column.CHECKPOINT_BYTES == 695
     _compare_rows(cmds, crow, prow)
     st = [r[0] for r, (verb, _) in zip(crow, cmds) if verb == "load"]
     assert st == ["checkpoint"] * len(bad) + ["ok"], st

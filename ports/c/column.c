@@ -37,8 +37,11 @@ typedef char tg__mandatory_16[TGPY_COLUMN_MANDATORY_PA_N == 16 ? 1 : -1];
 #define KH (TG_L(0.5) * TG_RD / TG_G0)   /* _KH = 0.5 * RD / G0, gpm/K */
 #define NODE_D TGPY_COLUMN__NODE_D
 #define NODE_W TGPY_COLUMN__NODE_W
+#define NODE_W2 TGPY_COLUMN__NODE_W2
 #define RH_SLOPE_MIN TGPY_COLUMN__RH_SLOPE_MIN
+#define ONE_M_EPS (TG_L(1.0) - TG_EPSILON)   /* moisture._ONE_M_EPS */
 #define NAN_ TG_NAN
+typedef char tg__pc_size[(sizeof(((tg_column *)0)->pc) == TG_PC_N * sizeof(TG_FLOAT)) ? 1 : -1];
 
 const char *tg_reason_name(tg_reason reason)
 {
@@ -81,6 +84,9 @@ void tg_column_config_defaults(tg_column_config *cfg, TG_FLOAT lat_deg)
     cfg->on_event = NULL;
     cfg->on_event_ctx = NULL;
     cfg->geoid_undulation_m = NAN_;
+    cfg->max_t_step_k = TG_L(3.0);
+    cfg->max_t_rate_k_s = TG_L(1.0);
+    cfg->max_t_gradient_k_m = TG_L(0.1);
 }
 
 /* column._setting = check_range */
@@ -94,6 +100,8 @@ static tg_status init_checked(tg_column *col, const tg_column_config *cfg, TG_FL
     /* --- settings (checked here; the status names the class, not the setting) */
     TG_TRY(tg__check_lat(cfg->lat_deg));
     n.lat_deg = cfg->lat_deg;
+    /* Python's _ell is a property (0 if the ellipsoid is WGS84 else 1); C
+     * keeps it as a member, written here only */
     if (e == &tg_wgs84 || (e->name != NULL && strcmp(e->name, "WGS84") == 0)) {
         n.ell = 0;
         n.ellipsoid = &tg_wgs84;
@@ -148,6 +156,17 @@ static tg_status init_checked(tg_column *col, const tg_column_config *cfg, TG_FL
     SETTING(cfg->rh_tol_pct, 0.0, 3.0);
     n.rh_tol_pct = cfg->rh_tol_pct;
     n.track_sigma = cfg->track_sigma != 0;
+    if (cfg->max_t_step_k != cfg->max_t_step_k) {   /* NaN = None: no temperature-step check */
+        n.t_step = NAN_;
+    } else {
+        SETTING(cfg->max_t_step_k, 0.0, 100.0);
+        n.t_step = cfg->max_t_step_k;
+    }
+    n.t_step_neg = -n.t_step;         /* derived (Python: so feed builds no float for its check) */
+    SETTING(cfg->max_t_rate_k_s, 0.0, 100.0);
+    n.max_t_rate_k_s = cfg->max_t_rate_k_s;
+    SETTING(cfg->max_t_gradient_k_m, 0.0, 10.0);
+    n.max_t_gradient_k_m = cfg->max_t_gradient_k_m;
     n.on_event = cfg->on_event;
     n.on_event_ctx = cfg->on_event_ctx;
     if (cfg->geoid_undulation_m != cfg->geoid_undulation_m) {   /* NaN = None */
@@ -157,9 +176,10 @@ static tg_status init_checked(tg_column *col, const tg_column_config *cfg, TG_FL
         n.geoid_n = cfg->geoid_undulation_m;
     }
     /* --- derived settings */
-    TG_TRY(tg_geopotential_height(n.start_height_m, n.lat_deg, n.ellipsoid, &n.start_gph));
+    /* the geopotential series at this latitude, evaluated once (tinygeo.potential) */
+    tg__potential_coefs(n.lat_deg, n.ellipsoid, n.pc);
     n.min_rate = -n.max_rate;
-    n.sp2 = n.sigma_p_pa * n.sigma_p_pa;
+    n.spk2 = KH * KH * n.sigma_p_pa * n.sigma_p_pa;   /* (K/2 sigma_p)^2 */
     n.st2 = n.sigma_t_k * n.sigma_t_k;
     /* --- state */
     n.count = 0;
@@ -177,16 +197,16 @@ static tg_status init_checked(tg_column *col, const tg_column_config *cfg, TG_FL
     n.level_p_pa = n.level_gph_m = n.level_height_m = n.level_t_k = NAN_;
     n.tropopause_p_pa = n.tropopause_gph_m = n.tropopause_t_k = n.gps_m = n.gps_diff_m = NAN_;
     n.t_last = n.g_t = n.min_gph = n.launch_gph = n.max_time = n.max_p = n.burst_line = NAN_;
+    n.env_g = NAN_;   /* highest gph of any reading (the tropopause search's envelope) */
     n.land_lo = n.land_hi = n.land_t = n.h_t = n.h_p = n.h_rh = n.w_held = NAN_;
     n.tp_g = n.tp_top = n.tp_th = n.tp_p = n.tp_t = NAN_;
     n.n_g = n.n_h = n.n_k1 = n.n_k2 = n.n_lo = n.n_hi = n.h_tm = NAN_;
-    n.gps_g = NAN_;
     n.c = TG_L(0.0);
     n.var_done = TG_L(0.0);
     n.ct = TG_L(0.0);
-    n.cp = TG_L(0.0);
+    n.tm2 = TG_L(0.0);
     n.s2 = TG_L(0.0);
-    n.sum_a = TG_L(0.0);
+    n.p_start = NAN_;
     n.sum_rh = TG_L(0.0);
     n.sum_p = TG_L(0.0);
     n.slope = TG_L(0.0);
@@ -216,70 +236,91 @@ static tg_status held_mixing_ratio(const tg_column *col, TG_FLOAT *out)
     return tg_mixing_ratio(e, col->h_p, out);
 }
 
-/* column._new_nodes */
-static void new_nodes(tg_column *col, TG_FLOAT g)
+/* the height node pair of column.py (_n_g, _n_h, _n_k1, _n_k2, _n_lo, _n_hi);
+ * Python: the tuple returned by _nodes */
+typedef struct nodes_t {
+    TG_FLOAT g, h, k1, k2, lo, hi;
+} nodes_t;
+
+/* column._nodes: exact geometric height h at g (potential._geom with the
+ * column's series; from a guess within a few mm, one potential._newton
+ * step) and the quadratic in gph through it and the gph of h + D and h + 2D
+ * (potential._gph). Writes only *nd. */
+static void nodes(const tg_column *col, TG_FLOAT g, TG_FLOAT guess, nodes_t *nd)
 {
-    TG_FLOAT lat, h, d, ga, gb, sa, k2;
-    const tg_ellipsoid *ell;
+    const TG_FLOAT *c = col->pc;
+    TG_FLOAT a, h, d, ga, gb, sa, k2;
     if (!(GPH_MIN_M <= g && g <= GPH_MAX_M)) {
-        col->n_g = g;
-        col->n_h = NAN_;
-        col->n_k1 = NAN_;
-        col->n_k2 = NAN_;
-        col->n_lo = g;
-        col->n_hi = g;
+        nd->g = g;
+        nd->h = NAN_;
+        nd->k1 = NAN_;
+        nd->k2 = NAN_;
+        nd->lo = g;
+        nd->hi = g;
         return;
     }
-    lat = col->lat_deg;
-    ell = col->ellipsoid;
-    /* in range by construction (see column.py); a failure would leave NaN */
-    (void)tg_geometric_height(g, lat, ell, &h);
+    a = col->ellipsoid->a_m;
+    if (guess == guess)
+        h = tg__potential_newton(g, guess, c, a);
+    else
+        h = tg__potential_geom(g, c, a);
     d = NODE_D;
     if (h + TG_L(2.0) * d > GPH_MAX_M)
         d = -d;
-    (void)tg_geopotential_height(h + d, lat, ell, &ga);
-    (void)tg_geopotential_height(h + TG_L(2.0) * d, lat, ell, &gb);
+    ga = tg__potential_gph(h + d, c, a);
+    gb = tg__potential_gph(h + TG_L(2.0) * d, c, a);
     sa = d / (ga - g);               /* divided differences of h over gph (Newton form) */
     k2 = (d / (gb - ga) - sa) / (gb - g);
-    col->n_g = g;
-    col->n_h = h;
-    col->n_k1 = sa - k2 * (ga - g);
-    col->n_k2 = k2;
-    col->n_lo = g - NODE_W;
-    col->n_hi = g + NODE_W;
+    nd->g = g;
+    nd->h = h;
+    nd->k1 = sa - k2 * (ga - g);
+    nd->k2 = k2;
+    nd->lo = g - NODE_W;
+    nd->hi = g + NODE_W;
 }
 
-/* column._sigma_step: streaming first-order propagation */
-static void sigma_step(tg_column *col, int first, TG_FLOAT p0, TG_FLOAT p, TG_FLOAT tv0, TG_FLOAT tv,
-                       TG_FLOAT dz, TG_FLOAT slope)
+/* column._set_nodes */
+static void set_nodes(tg_column *col, const nodes_t *nd)
 {
-    TG_FLOAT tm2, a, ktm, cp, s_prev, sr;
+    col->n_g = nd->g;
+    col->n_h = nd->h;
+    col->n_k1 = nd->k1;
+    col->n_k2 = nd->k2;
+    col->n_lo = nd->lo;
+    col->n_hi = nd->hi;
+}
+
+/* column._sigma_step: streaming first-order propagation; tm2 = Tv0 + Tv,
+ * a = (Rd/g0)/2 ln(p0/p) = dz/dTv of either end */
+static void sigma_step(tg_column *col, int first, TG_FLOAT p0, TG_FLOAT p, TG_FLOAT tm2, TG_FLOAT a,
+                       TG_FLOAT slope)
+{
     if (first && p0 != p0) {
-        /* the first reading: no layer yet */
+        /* the first reading: no layer yet; its sensitivities are all 0 so far */
         TG_FLOAT q = slope * col->sigma_rh_pct;
         col->s2 = col->st2 + q * q;     /* Python: (slope * sigma_rh_pct) ** 2 */
+        col->p_start = p;
         return;
     }
-    tm2 = tv0 + tv;
-    a = dz / tm2;                       /* K L / 2: dz/dTv of either end */
-    ktm = KH * tm2;                     /* K Tm */
-    cp = ktm / p;                       /* -dz/dp at the new reading */
     if (first) {
+        /* anchored start: the anchor is exact, the first reading is both ends */
         col->ct = a + a;
-        s_prev = slope;
+        col->p_start = p0;
     } else {
-        TG_FLOAT pco = ktm / p0 - col->cp;   /* final dz_n/dp of the previous reading */
-        TG_FLOAT ct = col->ct + a;           /* final dz_n/dTv of the previous reading */
-        col->var_done += ct * ct * col->s2 + pco * pco * col->sp2;
+        /* final sensitivities of the previous reading: dz_n/dp = KH pco,
+         * dz_n/dTv = ct (its slope's share of the humidity bias: ct slope) */
+        TG_FLOAT pco = (tm2 - col->tm2) / p0;
+        TG_FLOAT ct = col->ct + a;
+        col->var_done += ct * ct * col->s2 + pco * pco * col->spk2;
         col->sum_p += pco;
+        col->sum_rh += ct * col->slope;
         col->ct = a;
-        s_prev = col->slope;
     }
-    col->cp = cp;
-    sr = slope * col->sigma_rh_pct;
-    col->s2 = col->st2 + sr * sr;
-    col->sum_a += a;
-    col->sum_rh += a * (s_prev + slope);
+    col->tm2 = tm2;
+    if (first || slope != col->slope) {
+        TG_FLOAT sr = slope * col->sigma_rh_pct;
+        col->s2 = col->st2 + sr * sr;
+    }
 }
 
 /* column._levels: every mandatory level in [p, p0) not reported yet (ascent only) */
@@ -288,7 +329,7 @@ static int levels(tg_column *col, TG_FLOAT p0, TG_FLOAT p, TG_FLOAT g0, TG_FLOAT
     int bits = 0;
     int lvl = col->lvl;
     while (lvl < 16 && MANDATORY_PA[lvl] >= p) {
-        TG_FLOAT lev, f;
+        TG_FLOAT lev, f, gl;
         if (bits && col->on_event != NULL)
             col->on_event(col, TG_EV_LEVEL, col->on_event_ctx);   /* the lower level crossed */
         lev = MANDATORY_PA[lvl];
@@ -300,10 +341,17 @@ static int levels(tg_column *col, TG_FLOAT p0, TG_FLOAT p, TG_FLOAT g0, TG_FLOAT
         col->level_p_pa = lev;
         col->level_gph_m = g0 + f * (g - g0);
         col->level_t_k = t0 + f * (t - t0);
-        if (GPH_MIN_M <= col->level_gph_m && col->level_gph_m <= GPH_MAX_M)
-            (void)tg_geometric_height(col->level_gph_m, col->lat_deg, col->ellipsoid, &col->level_height_m);
-        else
+        gl = col->level_gph_m;
+        if (col->n_lo <= gl && gl <= col->n_hi && col->n_h == col->n_h) {
+            /* one Newton step from the node quadratic (a few mm off) */
+            TG_FLOAT d = gl - col->n_g;
+            col->level_height_m = tg__potential_newton(gl, col->n_h + d * (col->n_k1 + d * col->n_k2),
+                                                       col->pc, col->ellipsoid->a_m);
+        } else if (GPH_MIN_M <= gl && gl <= GPH_MAX_M) {
+            col->level_height_m = tg__potential_geom(gl, col->pc, col->ellipsoid->a_m);
+        } else {
             col->level_height_m = NAN_;
+        }
         lvl += 1;
         col->lvl = lvl;
         bits = TG_EV_LEVEL;
@@ -356,13 +404,24 @@ static tg_status bad(tg_column *col, tg_reason reason, int *bits)
     return TG_READING;
 }
 
+/* column._t_jump: the full temperature-step allowance, only for a change
+ * beyond max_t_step_k; 1 if the step exceeds it (Python: _bad('temperature')) */
+static int t_jump(const tg_column *col, TG_FLOAT dtk, TG_FLOAT dz, TG_FLOAT ts)
+{
+    TG_FLOAT allow = col->t_step + col->max_t_gradient_k_m * TG_FABS(dz);
+    if (ts == ts && col->t_last == col->t_last)
+        allow += col->max_t_rate_k_s * (ts - col->t_last);
+    return TG_FABS(dtk) > allow;
+}
+
 /* ------------------------------------------------------------------ feed */
 tg_status tg_column_feed(tg_column *col, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_FLOAT *rh_pct,
                          const TG_FLOAT *time_s, const TG_FLOAT *gps_m, int *bits_out)
 {
     TG_FLOAT p, t, rh = TG_L(0.0), ts = TG_L(0.0), gps = TG_L(0.0);
-    TG_FLOAT tv, slope, w, t0, p0, tv0, s, c, dz, g, rate, dt = TG_L(0.0), d, h;
-    int flags, first, bits, ph;
+    TG_FLOAT tv, slope, w, t0, p0, tv0, s, c, dz, a, tm2, g, rate, d, h, dtk, time0;
+    nodes_t nd;
+    int flags, first, bits, ph, new_nodes;
 
     /* ---- 1. check the values (nothing is written before step 3) */
     p = p_pa;
@@ -376,12 +435,14 @@ tg_status tg_column_feed(tg_column *col, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_F
     if (!(T_MIN_K <= t && t <= T_MAX_K))
         return bad(col, TG_REASON_TEMPERATURE, bits_out);
     if (rh_pct != NULL) {
-        TG_FLOAT tol = col->rh_tol_pct;
         rh = *rh_pct;
         if (!isfinite(rh))
             return bad(col, TG_REASON_NUMBER, bits_out);
-        if (!(-tol <= rh && rh <= TG_L(100.0) + tol))
-            return bad(col, TG_REASON_HUMIDITY, bits_out);
+        if (rh < TG_L(0.0) || rh > TG_L(100.0)) {
+            TG_FLOAT tol = col->rh_tol_pct;
+            if (rh < -tol || rh > TG_L(100.0) + tol)
+                return bad(col, TG_REASON_HUMIDITY, bits_out);
+        }
     }
     if (time_s != NULL) {
         ts = *time_s;
@@ -406,10 +467,15 @@ tg_status tg_column_feed(tg_column *col, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_F
     flags = 0;
     first = col->count == 0;
     if (rh_pct != NULL) {
-        if (tg_virtual_temperature(t, p, rh, col->ice, &tv) != TG_OK)
+        /* tinygeo.virtual_temperature (its moisture._tv, inlined to share q):
+         * Tv = T/(1 - r), r = (1 - eps) e/p = rh q, and dTv/dRH = Tv q */
+        TG_FLOAT q = tg__moisture_q(t, p, col->ice);
+        TG_FLOAT r = rh * q;
+        if (r >= ONE_M_EPS)
             return bad(col, TG_REASON_HUMIDITY, bits_out);
+        tv = t / (TG_L(1.0) - r);
         if (rh >= RH_SLOPE_MIN)
-            slope = (tv - t) / rh;
+            slope = tv * q;
         else
             slope = col->slope;
         w = NAN_;
@@ -420,21 +486,19 @@ tg_status tg_column_feed(tg_column *col, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_F
             tv = t;
             flags = TG_FL_DRY;
         } else {
-            tg_status st;
             if (w != w) {
-                st = held_mixing_ratio(col, &w);
+                /* Python lets a RangeError of vapour_pressure/mixing_ratio
+                 * escape here (not a ReadingError, rejected not counted); C
+                 * returns its status the same way */
+                tg_status st = held_mixing_ratio(col, &w);
                 if (st != TG_OK) {
                     *bits_out = 0;
                     return st;
                 }
             }
-            /* Python lets a RangeError of this call escape (not a ReadingError,
-             * rejected not counted); C returns its status the same way */
-            st = tg_virtual_temperature_from_mixing_ratio(t, w, &tv);
-            if (st != TG_OK) {
-                *bits_out = 0;
-                return st;
-            }
+            if (w > TG_L(1.0))
+                return bad(col, TG_REASON_HUMIDITY, bits_out);
+            tv = tg__moisture_tv_w(t, w);   /* tinygeo.virtual_temperature_from_mixing_ratio */
             flags = TG_FL_HELD_MIXING;
         }
     }
@@ -442,7 +506,7 @@ tg_status tg_column_feed(tg_column *col, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_F
     if (first) {
         p0 = col->anchor;
         tv0 = tv;
-        s = col->start_gph;
+        s = tg__potential_gph(col->start_height_m, col->pc, col->ellipsoid->a_m);
         c = TG_L(0.0);
     } else {
         p0 = col->p_pa;
@@ -452,13 +516,19 @@ tg_status tg_column_feed(tg_column *col, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_F
     }
     if (p0 != p0 || p == p0) {   /* first reading without anchor, or a repeated pressure */
         dz = TG_L(0.0);
+        a = TG_L(0.0);
+        tm2 = tv0 + tv;
         if (!first)
             flags |= TG_FL_SAME_P;
         g = s;
     } else {
         TG_FLOAT y;
-        if (tg_layer_thickness(p0, p, tv0, tv, &dz) != TG_OK)
-            return bad(col, TG_REASON_TEMPERATURE, bits_out);
+        if (!(T_MIN_K <= tv && tv <= T_MAX_K && T_MIN_K <= tv0 && tv0 <= T_MAX_K))
+            return bad(col, TG_REASON_TEMPERATURE, bits_out);   /* layer_thickness's RangeError */
+        /* tinygeo.layer_thickness (arguments checked above), as its two products */
+        a = tg__layers_half_k_ln(p0, p);   /* (Rd/g0)/2 ln(p0/p): also dz/dTv of either end */
+        tm2 = tv0 + tv;
+        dz = a * tm2;
         if (p > p0)
             flags |= TG_FL_DESCENT;
         /* classic Kahan step: c carries the part of the sum lost so far */
@@ -466,19 +536,40 @@ tg_status tg_column_feed(tg_column *col, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_F
         g = s + y;
         c = (g - s) - y;
     }
+    /* temperature step (see max_t_step_k); a NaN t0 (first reading) passes */
+    dtk = t - t0;
+    if (dtk > col->t_step || dtk < col->t_step_neg) {
+        if (t_jump(col, dtk, dz, time_s != NULL ? ts : NAN_))
+            return bad(col, TG_REASON_TEMPERATURE, bits_out);
+    }
+    /* geometric height from the node pair (new nodes are kept in locals until the commit) */
+    if (col->n_lo <= g && g <= col->n_hi) {
+        new_nodes = 0;
+        d = g - col->n_g;
+        h = col->n_h + d * (col->n_k1 + d * col->n_k2);
+    } else {
+        TG_FLOAT guess = NAN_;
+        d = g - col->n_g;
+        if (-NODE_W2 <= d && d <= NODE_W2) {
+            /* just out of the window: the old quadratic is within a few mm */
+            guess = col->n_h + d * (col->n_k1 + d * col->n_k2);
+        }
+        nodes(col, g, guess, &nd);
+        new_nodes = 1;
+        d = g - nd.g;
+        h = nd.h + d * (nd.k1 + d * nd.k2);
+    }
     if (time_s == NULL) {
         flags |= TG_FL_NO_TIME;
         rate = NAN_;
     } else if (col->t_last == col->t_last) {
-        TG_FLOAT dg;
-        dt = ts - col->t_last;
-        dg = g - col->g_t;
+        TG_FLOAT dt = ts - col->t_last;
         if (dt == TG_L(0.0)) {
-            if (dg != TG_L(0.0))
+            if (g != col->g_t)
                 return bad(col, TG_REASON_TIME, bits_out);
             rate = NAN_;     /* a duplicate: the rate stays as it was */
         } else {
-            rate = dg / dt;
+            rate = (h - col->h_tm) / dt;
             if (rate > col->max_rate || rate < col->min_rate)
                 return bad(col, TG_REASON_RATE, bits_out);
         }
@@ -487,6 +578,7 @@ tg_status tg_column_feed(tg_column *col, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_F
     }
 
     /* ---- 3. commit (nothing fails from here on) */
+    time0 = col->time_s;   /* the previous reading's time (for the peak, below) */
     col->count += 1;
     col->p_pa = p;
     col->t_k = t;
@@ -504,11 +596,8 @@ tg_status tg_column_feed(tg_column *col, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_F
         col->h_rh = rh;
         col->w_held = NAN_;
     }
-    /* geometric height from the node pair */
-    if (!(col->n_lo <= g && g <= col->n_hi))
-        new_nodes(col, g);
-    d = g - col->n_g;
-    h = col->n_h + d * (col->n_k1 + d * col->n_k2);
+    if (new_nodes)
+        set_nodes(col, &nd);
     col->height_m = h;
     if (time_s == NULL) {
         col->time_s = NAN_;
@@ -516,7 +605,7 @@ tg_status tg_column_feed(tg_column *col, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_F
     } else {
         col->time_s = ts;
         if (rate == rate)
-            col->rate_m_s = (h - col->h_tm) / dt;
+            col->rate_m_s = rate;
         else if (ts != col->t_last)
             col->rate_m_s = NAN_;
         col->t_last = ts;
@@ -526,11 +615,10 @@ tg_status tg_column_feed(tg_column *col, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_F
     if (gps_m != NULL) {
         col->gps_m = gps;
         col->gps_diff_m = h - gps;
-        col->gps_g = g;
         col->gps_n = col->count;
     }
     if (col->track_sigma)
-        sigma_step(col, first, p0, p, tv0, tv, dz, slope);
+        sigma_step(col, first, p0, p, tm2, a, slope);
     col->slope = slope;
 
     /* ---- 4. events */
@@ -539,6 +627,7 @@ tg_status tg_column_feed(tg_column *col, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_F
     if (first) {
         int lvl;
         col->max_gph_m = g;
+        col->env_g = g;
         col->max_time = col->time_s;
         col->max_p = p;
         col->min_gph = g;
@@ -551,17 +640,28 @@ tg_status tg_column_feed(tg_column *col, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_F
         if (lvl < 16 && MANDATORY_PA[lvl] == p)
             bits |= levels(col, p, p, g, g, t, t);
     } else {
+        TG_FLOAT pk;
         if (ph < TG_PH_DESCENT) {
             if (col->lvl < 16 && MANDATORY_PA[col->lvl] >= p)
                 bits |= levels(col, p0, p, s, g, t0, t);
-            if (g > col->max_gph_m)
+            if (g > col->env_g)
                 bits |= tropopause(col, g, t, p);
         }
-        if (g > col->max_gph_m) {
-            col->max_gph_m = g;
-            col->max_time = col->time_s;
-            col->max_p = p;
-            col->burst_line = g - col->burst_drop_m;
+        if (g > col->env_g)
+            col->env_g = g;
+        /* the peak is the higher of the lower ends of consecutive pairs: one
+         * glitched reading is never the peak (column.py explains) */
+        pk = s < g ? s : g;
+        if (pk > col->max_gph_m) {
+            col->max_gph_m = pk;
+            if (s < g) {
+                col->max_time = time0;
+                col->max_p = p0;
+            } else {
+                col->max_time = col->time_s;
+                col->max_p = p;
+            }
+            col->burst_line = pk - col->burst_drop_m;
             col->burst_n = 0;
         }
         if (ph == TG_PH_WAIT) {
@@ -610,18 +710,20 @@ tg_status tg_column_feed(tg_column *col, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_F
 /* ------------------------------------------------------------ uncertainty */
 static TG_FLOAT bias_var(const tg_column *col)
 {
-    TG_FLOAT bt = TG_L(2.0) * col->sum_a * col->bias_t_k;   /* (Rd/g0) ln(p0/p) dT */
-    TG_FLOAT bh = col->sum_rh * col->bias_rh_pct;
-    TG_FLOAT bp = (col->sum_p - col->cp) * col->bias_p_pa;
+    /* (Rd/g0) ln(p0/p) dT: the sum of dz/dTv over all readings telescopes */
+    TG_FLOAT bt = TG_L(2.0) * tg__layers_half_k_ln(col->p_start, col->p_pa) * col->bias_t_k;
+    TG_FLOAT bh = (col->sum_rh + col->ct * col->slope) * col->bias_rh_pct;
+    TG_FLOAT bp = KH * (col->sum_p - col->tm2 / col->p_pa) * col->bias_p_pa;
     return bt * bt + bh * bh + bp * bp + col->var_anchor;
 }
 
 TG_FLOAT tg_column_sigma_random_m(const tg_column *col)
 {
-    TG_FLOAT v;
+    TG_FLOAT x, v;
     if (col->count == 0 || !col->track_sigma)
         return NAN_;
-    v = col->var_done + col->ct * col->ct * col->s2 + col->cp * col->cp * col->sp2;
+    x = col->tm2 / col->p_pa;          /* -dz/dp at the latest reading, over K/2 */
+    v = col->var_done + col->ct * col->ct * col->s2 + x * x * col->spk2;
     return TG_SQRT(v);
 }
 
@@ -642,16 +744,16 @@ TG_FLOAT tg_column_sigma_m(const tg_column *col)
 tg_status tg_column_reanchor_gps(tg_column *col, TG_FLOAT sigma_gps_m, TG_FLOAT *out)
 {
     TG_FLOAT sg, target, d, old_h;
+    nodes_t nd;
     if (col->count == 0 || col->gps_n != col->count)
         return tg__fail(TG_STATE, out);
     TG_TRY(tg__check_range(sigma_gps_m, TG_L(0.0), TG_L(10000.0), TG_RANGE));
     sg = sigma_gps_m;
-    TG_TRY(tg_geopotential_height(col->gps_m, col->lat_deg, col->ellipsoid, &target));
+    target = tg__potential_gph(col->gps_m, col->pc, col->ellipsoid->a_m);
     d = target - col->gph_m;
     old_h = col->height_m;
     col->gph_m = target;
     col->c = TG_L(0.0);
-    col->gps_g = target;
     col->max_gph_m = col->max_gph_m + d;
     col->g_t = col->g_t + d;
     col->min_gph = col->min_gph + d;
@@ -659,16 +761,18 @@ tg_status tg_column_reanchor_gps(tg_column *col, TG_FLOAT sigma_gps_m, TG_FLOAT 
     col->burst_line = col->burst_line + d;
     col->tp_g = col->tp_g + d;
     col->tp_top = col->tp_top + d;
+    col->env_g = col->env_g + d;
     col->tp_th = col->tp_th + WMO_LAPSE_K_PER_GPM * d;
-    new_nodes(col, target);
+    nodes(col, target, NAN_, &nd);
+    set_nodes(col, &nd);
     col->height_m = col->n_h;
     col->h_tm = col->h_tm + (col->height_m - old_h);
     col->gps_diff_m = col->height_m - col->gps_m;
     /* uncertainty restarts here: the reading is the new (noisy) start */
     col->var_done = TG_L(0.0);
     col->ct = TG_L(0.0);
-    col->cp = TG_L(0.0);
-    col->sum_a = TG_L(0.0);
+    col->tm2 = TG_L(0.0);
+    col->p_start = col->p_pa;
     col->sum_rh = TG_L(0.0);
     col->sum_p = TG_L(0.0);
     col->var_anchor = sg * sg;
@@ -837,6 +941,9 @@ tg_status tg_column_from_bytes(tg_column *col, const unsigned char *blob, size_t
     cfg.on_event = on_event;
     cfg.on_event_ctx = on_event_ctx;
     cfg.geoid_undulation_m = (TG_FLOAT)v.geoid_n;
+    cfg.max_t_step_k = (TG_FLOAT)v.t_step;
+    cfg.max_t_rate_k_s = (TG_FLOAT)v.max_t_rate_k_s;
+    cfg.max_t_gradient_k_m = (TG_FLOAT)v.max_t_gradient_k_m;
     if (tg_column_init(&c, &cfg) != TG_OK)
         return TG_CHECKPOINT;                                  /* settings the column refuses */
 #define SET_F(name) c.name = (TG_FLOAT)v.name;

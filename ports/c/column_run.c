@@ -4,6 +4,7 @@
  * Input, one command per line ("-" stands for Python's None):
  *   init <lat_deg> <start_height_m> <anchor_p_pa|-> <ellipsoid 0|1> <ice 0|1>
  *        <dry_fallback 0|1> <track_sigma 0|1> <max_rate_m_s|-> <geoid_undulation_m|->
+ *        [<max_t_step_k|-> <max_t_rate_k_s> <max_t_gradient_k_m>]   (default 3 1 0.1)
  *   feed <p_pa> <t_k> <rh_pct|-> <time_s|-> <gps_m|->
  *   reanchor <sigma_gps_m>
  *   save                 prints "b <hex of tg_column_to_bytes>" first
@@ -55,17 +56,17 @@ int main(void)
     static char line[16384];
     int lineno = 0;
     while (fgets(line, sizeof line, stdin) != NULL) {
-        char *tok[12];
+        char *tok[16];
         int n = 0;
         char *s = strtok(line, " \t\r\n");
         lineno++;
-        while (s != NULL && n < 12) {
+        while (s != NULL && n < 16) {
             tok[n++] = s;
             s = strtok(NULL, " \t\r\n");
         }
         if (n == 0)
             continue;
-        if (strcmp(tok[0], "init") == 0 && n == 10) {
+        if (strcmp(tok[0], "init") == 0 && (n == 10 || n == 13)) {
             tg_column_config cfg;
             tg_status st;
             tg_column_config_defaults(&cfg, (TG_FLOAT)strtod(tok[1], NULL));
@@ -78,6 +79,12 @@ int main(void)
             if (!opt(tok[8], &cfg.max_rate_m_s))
                 cfg.max_rate_m_s = (TG_FLOAT)NAN;
             opt(tok[9], &cfg.geoid_undulation_m);
+            if (n == 13) {
+                if (!opt(tok[10], &cfg.max_t_step_k))
+                    cfg.max_t_step_k = (TG_FLOAT)NAN;
+                cfg.max_t_rate_k_s = (TG_FLOAT)strtod(tok[11], NULL);
+                cfg.max_t_gradient_k_m = (TG_FLOAT)strtod(tok[12], NULL);
+            }
             cfg.on_event = on_event;
             st = tg_column_init(&col, &cfg);
             show(&col, st, 0.0);

@@ -28,12 +28,6 @@ static tg_status check_height(TG_FLOAT height_m)
     return tg__check_range(height_m, HEIGHT_MIN_M, HEIGHT_MAX_M, TG_RANGE);
 }
 
-tg_status tg__gravity_check_height(TG_FLOAT height_m);
-tg_status tg__gravity_check_height(TG_FLOAT height_m)
-{
-    return check_height(height_m);
-}
-
 tg_status tg_somigliana_gravity(TG_FLOAT lat_deg, const tg_ellipsoid *ellipsoid, TG_FLOAT *out)
 {
     TG_FLOAT phi, sp, s;

@@ -20,13 +20,14 @@
 #define LN_TERMS TGPY_LAYERS_LN_TERMS_F64
 #endif
 
-/* layers._ln_coefs: 1/(2k+1), highest k first; Python builds the list for
- * k = N-1 .. 1 at import, C keeps k = 12 .. 1 and starts at k = N-1. */
+/* layers._ln_coefs: 2/(2k+1) (the factor 2 of the series folded in), highest
+ * k first; Python builds the list for k = N-1 .. 1 at import, C keeps
+ * k = 12 .. 1 and starts at k = N-1. */
 static const TG_FLOAT LN_C_ALL[12] = {
-    TG_L(1.0) / TG_L(25.0), TG_L(1.0) / TG_L(23.0), TG_L(1.0) / TG_L(21.0),
-    TG_L(1.0) / TG_L(19.0), TG_L(1.0) / TG_L(17.0), TG_L(1.0) / TG_L(15.0),
-    TG_L(1.0) / TG_L(13.0), TG_L(1.0) / TG_L(11.0), TG_L(1.0) / TG_L(9.0),
-    TG_L(1.0) / TG_L(7.0), TG_L(1.0) / TG_L(5.0), TG_L(1.0) / TG_L(3.0)
+    TG_L(2.0) / TG_L(25.0), TG_L(2.0) / TG_L(23.0), TG_L(2.0) / TG_L(21.0),
+    TG_L(2.0) / TG_L(19.0), TG_L(2.0) / TG_L(17.0), TG_L(2.0) / TG_L(15.0),
+    TG_L(2.0) / TG_L(13.0), TG_L(2.0) / TG_L(11.0), TG_L(2.0) / TG_L(9.0),
+    TG_L(2.0) / TG_L(7.0), TG_L(2.0) / TG_L(5.0), TG_L(2.0) / TG_L(3.0)
 };
 typedef char tg__ln_terms_fit[(LN_TERMS >= 2 && LN_TERMS - 1 <= 12) ? 1 : -1];
 
@@ -66,11 +67,24 @@ TG_FLOAT tg__layers_lnr(TG_FLOAT p1, TG_FLOAT p2)
             acc = acc * d2 + ln_c[i];
             i += 1;
         }
-        return TG_L(2.0) * d * (TG_L(1.0) + d2 * acc);
+        return d * (TG_L(2.0) + d2 * acc);
     }
     if (d > TG_L(0.0))
         return TG_LOG(p1 / p2);
     return -TG_LOG(p2 / p1);   /* same rounding either way round: exact antisymmetry */
+}
+
+/* layers._half_k_ln: (Rd/g0)/2 ln(p1/p2), gpm per K: the thickness per
+ * kelvin of Tv1 + Tv2, and dz/dTv of either end of the layer; no checks */
+TG_FLOAT tg__layers_half_k_ln(TG_FLOAT p1, TG_FLOAT p2)
+{
+    return HALF_RG * tg__layers_lnr(p1, p2);
+}
+
+/* layers._thickness: layer_thickness without the argument checks */
+static TG_FLOAT thickness(TG_FLOAT p1, TG_FLOAT p2, TG_FLOAT t1, TG_FLOAT t2)
+{
+    return tg__layers_half_k_ln(p1, p2) * (t1 + t2);
 }
 
 /* layers._check_p */
@@ -94,7 +108,7 @@ tg_status tg_layer_thickness(TG_FLOAT p_lower_pa, TG_FLOAT p_upper_pa, TG_FLOAT 
     TG_TRY(check_p(p_upper_pa));
     TG_TRY(tg__check_t_k(tv_lower_k, TG_T_LO, TG_T_HI, TG_RANGE));
     TG_TRY(tg__check_t_k(tv_upper_k, TG_T_LO, TG_T_HI, TG_RANGE));
-    *out = HALF_RG * (tv_lower_k + tv_upper_k) * tg__layers_lnr(p_lower_pa, p_upper_pa);
+    *out = thickness(p_lower_pa, p_upper_pa, tv_lower_k, tv_upper_k);
     return TG_OK;
 }
 

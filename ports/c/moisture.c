@@ -18,13 +18,23 @@
 #define P_MAX_PA TGPY_MOISTURE_P_MAX_PA
 #define ONE_M_EPS (TG_L(1.0) - TG_EPSILON)  /* _ONE_M_EPS = 1.0 - EPSILON */
 
-/* moisture._es: Magnus form [WMO8], no checks (callers check t_k). Pa. */
-TG_FLOAT tg__moisture_es(TG_FLOAT t_k, int ice)
+/* _QC = 0.01 * E0_PA * _ONE_M_EPS: Pa per %RH, (1 - eps) e/p per %RH is _QC f x / p */
+#define QC (TG_L(0.01) * E0_PA * ONE_M_EPS)
+
+/* moisture._ex: exp(a t/(b + t)) of the Magnus form [WMO8] (e_w = 611.2 Pa
+ * times it), no checks (callers check t_k) */
+static TG_FLOAT ex(TG_FLOAT t_k, int ice)
 {
     TG_FLOAT t = t_k - TG_ZERO_C_K;
     if (ice && t <= TG_L(0.0))
-        return E0_PA * TG_EXP(AI * t / (BI + t));
-    return E0_PA * TG_EXP(AW * t / (BW + t));
+        return TG_EXP(AI * t / (BI + t));
+    return TG_EXP(AW * t / (BW + t));
+}
+
+/* moisture._es: Magnus form [WMO8], no checks (callers check t_k). Pa. */
+TG_FLOAT tg__moisture_es(TG_FLOAT t_k, int ice)
+{
+    return E0_PA * ex(t_k, ice);
 }
 
 /* moisture._f: enhancement factor [WMO8], no checks (callers check p_pa). */
@@ -124,18 +134,31 @@ tg_status tg_specific_humidity(TG_FLOAT e_pa, TG_FLOAT p_pa, TG_FLOAT *out)
     return TG_OK;
 }
 
+/* moisture._q: (1 - eps) e'_w/p per %RH: with r = rh_pct * _q, e/p = r/(1 - eps),
+ * Tv = T/(1 - r) and dTv/dRH = Tv _q at constant T and p. No checks. */
+TG_FLOAT tg__moisture_q(TG_FLOAT t_k, TG_FLOAT p_pa, int ice)
+{
+    return QC * tg__moisture_f(p_pa) * ex(t_k, ice) / p_pa;
+}
+
+/* moisture._tv: virtual_temperature without the argument checks; TG_RANGE
+ * (Python: _boiling) if e >= p */
+static tg_status tv(TG_FLOAT t_k, TG_FLOAT p_pa, TG_FLOAT rh_pct, int ice, TG_FLOAT *out)
+{
+    TG_FLOAT r = rh_pct * tg__moisture_q(t_k, p_pa, ice);
+    if (r >= ONE_M_EPS)
+        return tg__fail(TG_RANGE, out);      /* _boiling */
+    *out = t_k / (TG_L(1.0) - r);
+    return TG_OK;
+}
+
 tg_status tg_virtual_temperature(TG_FLOAT t_k, TG_FLOAT p_pa, TG_FLOAT rh_pct, int ice,
                                  TG_FLOAT *out)
 {
-    TG_FLOAT e;
     TG_TRY(tg__check_t_k(t_k, TG_T_LO, TG_T_HI, TG_RANGE));
     TG_TRY(tg__check_p_pa(p_pa, P_MIN_PA, P_MAX_PA, TG_RANGE));
     TG_TRY(tg__check_rh(rh_pct, TG_L(3.0), TG_RANGE));
-    e = rh_pct * TG_L(0.01) * tg__moisture_f(p_pa) * tg__moisture_es(t_k, ice);
-    if (e >= p_pa)
-        return tg__fail(TG_RANGE, out);      /* _boiling */
-    *out = t_k / (TG_L(1.0) - ONE_M_EPS * e / p_pa);
-    return TG_OK;
+    return tv(t_k, p_pa, rh_pct, ice, out);
 }
 
 tg_status tg_virtual_temperature_from_mixing_ratio(TG_FLOAT t_k, TG_FLOAT w_kg_kg,
@@ -145,6 +168,12 @@ tg_status tg_virtual_temperature_from_mixing_ratio(TG_FLOAT t_k, TG_FLOAT w_kg_k
     TG_TRY(tg__as_finite(w_kg_kg, TG_RANGE));
     if (w_kg_kg < TG_L(0.0) || w_kg_kg > TG_L(1.0))
         return tg__fail(TG_RANGE, out);
-    *out = t_k * (TG_L(1.0) + w_kg_kg / TG_EPSILON) / (TG_L(1.0) + w_kg_kg);
+    *out = tg__moisture_tv_w(t_k, w_kg_kg);
     return TG_OK;
+}
+
+/* moisture._tv_w: virtual_temperature_from_mixing_ratio without the checks */
+TG_FLOAT tg__moisture_tv_w(TG_FLOAT t_k, TG_FLOAT w)
+{
+    return t_k * (TG_L(1.0) + w / TG_EPSILON) / (TG_L(1.0) + w);
 }

@@ -10,8 +10,6 @@
 #define GPH_MAX_M TGPY_POTENTIAL_GPH_MAX_M
 #define DEG TG_DEG                      /* _DEG = math.pi / 180.0 */
 
-tg_status tg__gravity_check_height(TG_FLOAT height_m);   /* gravity.check_height */
-
 /* potential._table: Python picks the table by ellipsoid.name; C uses the
  * pointer the ellipsoid carries (deliberate: no string compare). */
 static const tg_series *table(const tg_ellipsoid *ellipsoid)
@@ -38,47 +36,77 @@ static TG_FLOAT sin2(TG_FLOAT lat_deg)
     return sp * sp;
 }
 
-/* potential._excess: gph - h = h * sum_n D_n(s) t^(n-1), t = h/a (Horner in t) */
-static TG_FLOAT excess(TG_FLOAT h, TG_FLOAT s, const tg_series *tab, TG_FLOAT a)
+/* potential._coefs: the series evaluated at one latitude, once: D_1(s) ..
+ * D_6(s) then 1*D_1(s) .. 6*D_6(s) (the slope's coefficients), s =
+ * sin^2(lat). No checks (callers check). Python returns a list of 12 floats;
+ * C fills the caller's array (a tg_column keeps one for its latitude). */
+void tg__potential_coefs(TG_FLOAT lat_deg, const tg_ellipsoid *ellipsoid, TG_FLOAT c[TG_PC_N])
 {
-    TG_FLOAT t = h / a;
-    TG_FLOAT acc = TG_L(0.0);
-    int i = 6 - 1;
-    while (i >= 0) {
-        acc = acc * t + poly(tab, i, s);
-        i -= 1;
-    }
-    return h * acc;
+    const tg_series *tab = table(ellipsoid);
+    TG_FLOAT s = sin2(lat_deg);
+    int i;
+    for (i = 0; i < 6; i++)
+        c[i] = poly(tab, i, s);
+    for (i = 0; i < 6; i++)
+        c[i + 6] = (TG_FLOAT)(i + 1) * c[i];
 }
 
-/* potential._slope: d gph / dh = 1 + sum_n n D_n(s) t^(n-1) */
-static TG_FLOAT slope(TG_FLOAT h, TG_FLOAT s, const tg_series *tab, TG_FLOAT a)
+/* potential._gph: geopotential height of h, gpm: h + h * sum_n D_n t^(n-1),
+ * t = h/a (Horner in t); c from _coefs, a the semi-major axis, m */
+TG_FLOAT tg__potential_gph(TG_FLOAT h, const TG_FLOAT *c, TG_FLOAT a)
 {
     TG_FLOAT t = h / a;
-    TG_FLOAT acc = TG_L(0.0);
-    int i = 6 - 1;
+    TG_FLOAT acc = c[5];
+    int i = 4;
     while (i >= 0) {
-        acc = acc * t + (TG_FLOAT)(i + 1) * poly(tab, i, s);
+        acc = acc * t + c[i];
         i -= 1;
     }
-    return TG_L(1.0) + acc;
+    return h + h * acc;
+}
+
+/* potential._newton: one Newton step towards the geometric height of the
+ * geopotential height z, from h, on the residual (h - z) + excess(h) */
+TG_FLOAT tg__potential_newton(TG_FLOAT z, TG_FLOAT h, const TG_FLOAT *c, TG_FLOAT a)
+{
+    TG_FLOAT t = h / a;
+    TG_FLOAT ex = c[5];
+    TG_FLOAT sl = c[11];
+    int i = 4;
+    while (i >= 0) {
+        ex = ex * t + c[i];
+        sl = sl * t + c[i + 6];
+        i -= 1;
+    }
+    return h - ((h - z) + h * ex) / (TG_L(1.0) + sl);
+}
+
+/* potential._geom: geometric height of the geopotential height z, m: three
+ * Newton steps from h0 = z / (1 + D1 + D2 z/a). No checks. */
+TG_FLOAT tg__potential_geom(TG_FLOAT z, const TG_FLOAT *c, TG_FLOAT a)
+{
+    TG_FLOAT h = z / (TG_L(1.0) + c[0] + c[1] * (z / a));
+    int k;
+    for (k = 0; k < 3; k++)
+        h = tg__potential_newton(z, h, c, a);
+    return h;
 }
 
 tg_status tg_geopotential_height(TG_FLOAT height_m, TG_FLOAT lat_deg,
                                  const tg_ellipsoid *ellipsoid, TG_FLOAT *out)
 {
-    TG_FLOAT h, s;
-    const tg_series *tab;
+    TG_FLOAT h, c[TG_PC_N];
     if (ellipsoid == NULL)
         ellipsoid = &tg_wgs84;
-    TG_TRY(tg__gravity_check_height(height_m));
+    /* the range of tinygeo.gravity.check_height (Python does not import
+     * gravity here: a logger that needs only the column does not load it) */
+    TG_TRY(tg__check_range(height_m, TG_L(-1000.0), TG_L(100000.0), TG_RANGE));
     h = height_m;
     TG_TRY(tg__check_lat(lat_deg));
-    s = sin2(lat_deg);
-    tab = table(ellipsoid);
-    if (tab == NULL)
+    if (table(ellipsoid) == NULL)
         return tg__fail(TG_ELLIPSOID, out);
-    *out = h + excess(h, s, tab, ellipsoid->a_m);
+    tg__potential_coefs(lat_deg, ellipsoid, c);
+    *out = tg__potential_gph(h, c, ellipsoid->a_m);
     return TG_OK;
 }
 
@@ -94,25 +122,16 @@ tg_status tg_geopotential(TG_FLOAT height_m, TG_FLOAT lat_deg, const tg_ellipsoi
 tg_status tg_geometric_height(TG_FLOAT gph_m, TG_FLOAT lat_deg, const tg_ellipsoid *ellipsoid,
                               TG_FLOAT *out)
 {
-    TG_FLOAT z, s, a, h;
-    const tg_series *tab;
-    int k;
+    TG_FLOAT z, c[TG_PC_N];
     if (ellipsoid == NULL)
         ellipsoid = &tg_wgs84;
     TG_TRY(tg__check_range(gph_m, GPH_MIN_M, GPH_MAX_M, TG_RANGE));
     z = gph_m;
     TG_TRY(tg__check_lat(lat_deg));
-    s = sin2(lat_deg);
-    tab = table(ellipsoid);
-    if (tab == NULL)
+    if (table(ellipsoid) == NULL)
         return tg__fail(TG_ELLIPSOID, out);
-    a = ellipsoid->a_m;
-    h = z / (TG_L(1.0) + poly(tab, 0, s) + poly(tab, 1, s) * (z / a));
-    for (k = 0; k < 3; k++) {
-        /* residual gph(h) - z, with (h - z) exact in floating point */
-        h = h - ((h - z) + excess(h, s, tab, a)) / slope(h, s, tab, a);
-    }
-    *out = h;
+    tg__potential_coefs(lat_deg, ellipsoid, c);
+    *out = tg__potential_geom(z, c, ellipsoid->a_m);
     return TG_OK;
 }
 

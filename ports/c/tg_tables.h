@@ -184,10 +184,12 @@
 #define TGPY_COLUMN_GPS_MAX_M TG_L(100000.0)
 #define TGPY_COLUMN_WMO_LAPSE_K_PER_GPM TG_L(0.002)
 #define TGPY_COLUMN_WMO_DEPTH_GPM TG_L(2000.0)
+#define TGPY_COLUMN__ZERO TG_L(0.0)
 #define TGPY_COLUMN__NODE_D TG_L(1500.0)
 #define TGPY_COLUMN__NODE_W TG_L(3000.0)
+#define TGPY_COLUMN__NODE_W2 TG_L(6000.0)
 #define TGPY_COLUMN__RH_SLOPE_MIN TG_L(1.0)
-#define TGPY_COLUMN__CFG_F_N 17
+#define TGPY_COLUMN__CFG_F_N 20
 #define TGPY_COLUMN__CFG_F(X) \
     X(lat_deg) \
     X(start_height_m) \
@@ -205,7 +207,10 @@
     X(burst_drop_m) \
     X(tropopause_max_p_pa) \
     X(rh_tol_pct) \
-    X(geoid_n)
+    X(geoid_n) \
+    X(t_step) \
+    X(max_t_rate_k_s) \
+    X(max_t_gradient_k_m)
 #define TGPY_COLUMN__CFG_I_N 5
 #define TGPY_COLUMN__CFG_I(X) \
     X(ell) \
@@ -245,6 +250,7 @@
     X(max_time) \
     X(max_p) \
     X(burst_line) \
+    X(env_g) \
     X(land_lo) \
     X(land_hi) \
     X(land_t) \
@@ -266,14 +272,13 @@
     X(h_tm) \
     X(var_done) \
     X(ct) \
-    X(cp) \
+    X(tm2) \
     X(s2) \
-    X(sum_a) \
+    X(p_start) \
     X(sum_rh) \
     X(sum_p) \
     X(slope) \
-    X(var_anchor) \
-    X(gps_g)
+    X(var_anchor)
 #define TGPY_COLUMN__ST_I_N 8
 #define TGPY_COLUMN__ST_I(X) \
     X(count) \
@@ -285,7 +290,7 @@
     X(tp_state) \
     X(gps_n)
 #define TGPY_COLUMN__MAGIC "TGCK"
-#define TGPY_COLUMN__VERSION 1
+#define TGPY_COLUMN__VERSION 3
 #define TGPY_COLUMN__HEAD "<4sBH"
 
 #endif /* TG_TABLES_H */

@@ -172,10 +172,11 @@ struct tg_column;
 typedef void (*tg_column_event_fn)(struct tg_column *col, int bits, void *ctx);
 
 /* The Column constructor's keyword arguments, in Python's order and units.
- * tg_column_config_defaults() fills in Python's defaults. Two settings that
+ * tg_column_config_defaults() fills in Python's defaults. The settings that
  * Python takes as None are NaN here (Python stores them as NaN too):
  * anchor_p_pa = NaN: no anchor; max_rate_m_s = NaN: no rate check;
- * geoid_undulation_m = NaN: GPS heights are above mean sea level. */
+ * geoid_undulation_m = NaN: GPS heights are above mean sea level;
+ * max_t_step_k = NaN: no temperature-step check. */
 typedef struct tg_column_config {
     TG_FLOAT lat_deg, start_height_m, anchor_p_pa;
     const tg_ellipsoid *ellipsoid;   /* NULL = &tg_wgs84 */
@@ -188,6 +189,10 @@ typedef struct tg_column_config {
     tg_column_event_fn on_event;
     void *on_event_ctx;
     TG_FLOAT geoid_undulation_m;     /* NaN = None: gps_m is above mean sea level */
+    /* temperature-step check (reason "temperature"): a reading is rejected when
+     * |t - t_last| > max_t_step_k + max_t_rate_k_s dt + max_t_gradient_k_m |dz| */
+    TG_FLOAT max_t_step_k;           /* NaN = None: no check */
+    TG_FLOAT max_t_rate_k_s, max_t_gradient_k_m;
 } tg_column_config;
 
 /* Why the latest rejected reading was rejected (Python: ReadingError.reason). */
@@ -207,6 +212,7 @@ typedef struct tg_column {
     int ice, dry_fallback, track_sigma;
     TG_FLOAT sigma_p_pa, sigma_t_k, sigma_rh_pct, bias_p_pa, bias_t_k, bias_rh_pct;
     TG_FLOAT landing_s, landing_tol_pa, launch_m, burst_drop_m, tropopause_max_p_pa, rh_tol_pct;
+    TG_FLOAT max_t_rate_k_s, max_t_gradient_k_m;
     long burst_readings;
     tg_column_event_fn on_event;
     void *on_event_ctx;
@@ -222,12 +228,13 @@ typedef struct tg_column {
     /* private (Python's _names without the underscore) */
     int ell, lvl, tp_state;
     long burst_n, gps_n;
-    TG_FLOAT anchor, max_rate, min_rate, start_gph, sp2, st2, geoid_n;
-    TG_FLOAT c, t_last, g_t, min_gph, launch_gph, max_time, max_p, burst_line;
+    TG_FLOAT anchor, max_rate, min_rate, spk2, st2, geoid_n, t_step, t_step_neg;
+    TG_FLOAT pc[12];                  /* the geopotential series at lat_deg (potential._coefs) */
+    TG_FLOAT c, t_last, g_t, min_gph, launch_gph, max_time, max_p, burst_line, env_g;
     TG_FLOAT land_lo, land_hi, land_t, h_t, h_p, h_rh, w_held;
     TG_FLOAT tp_g, tp_top, tp_th, tp_p, tp_t;
     TG_FLOAT n_g, n_h, n_k1, n_k2, n_lo, n_hi, h_tm;
-    TG_FLOAT var_done, ct, cp, s2, sum_a, sum_rh, sum_p, slope, var_anchor, gps_g;
+    TG_FLOAT var_done, ct, tm2, s2, p_start, sum_rh, sum_p, slope, var_anchor;
 } tg_column;
 
 void tg_column_config_defaults(tg_column_config *cfg, TG_FLOAT lat_deg);
@@ -247,7 +254,7 @@ tg_status tg_column_reanchor_gps(tg_column *col, TG_FLOAT sigma_gps_m, TG_FLOAT 
  * Column.from_bytes and the other way round. Needs IEEE 754 binary64 doubles
  * for the packing (a float build converts each value to double and back,
  * exactly). on_event is not stored: pass it to tg_column_from_bytes. */
-#define TG_CHECKPOINT_BYTES 671
+#define TG_CHECKPOINT_BYTES 695
 /* col.to_bytes(): writes TG_CHECKPOINT_BYTES bytes (TG_RANGE if size is smaller) */
 tg_status tg_column_to_bytes(const tg_column *col, unsigned char *buf, size_t size);
 /* Column.from_bytes(blob, on_event): TG_CHECKPOINT and col untouched on a bad blob */
