@@ -7,10 +7,26 @@ import sys
 
 import pytest
 
+try:
+    from hypothesis import HealthCheck, settings as _hyp_settings
+except ImportError:  # pragma: no cover - hypothesis is a dev dependency
+    _hyp_settings = None
+
+
 ROOT = pathlib.Path(__file__).resolve().parents[1]
 VECTORS = ROOT / "tests" / "vectors"
 MICROPYTHON = shutil.which("micropython") or str(pathlib.Path(sys.executable).with_name("micropython"))
 IN_CI = os.environ.get("CI") == "true"
+
+if _hyp_settings is not None:
+    # Property tests: no wall-clock deadline and no "too slow" health check (a
+    # shared 2-core CI machine is slow at times; speed is measured in bench/,
+    # never by tests). In CI the examples are derandomized, so a run is
+    # reproducible; locally each run explores new examples.
+    _hyp_settings.register_profile(
+        "tinygeo", deadline=None, derandomize=IN_CI,
+        suppress_health_check=[HealthCheck.too_slow, HealthCheck.filter_too_much])
+    _hyp_settings.load_profile("tinygeo")
 
 
 def have_micropython():
@@ -55,3 +71,26 @@ def _mpmath_precision():
         yield
     finally:
         mpmath.mp.dps = old
+
+
+def check_vector_through_module(case, funcs):
+    """A shared vector case evaluated through the module function in ``funcs``
+    lies within the case's tolerance of its expected value."""
+    lineno, func, args, expected, kind, tol, source = case
+    got = funcs[func](*args)
+    err = abs(got - expected) / (abs(expected) if kind == "rel" else 1.0)
+    assert err <= tol, (lineno, got, expected, source)
+
+
+def check_vector_matches_reference(case, refs):
+    """Every expected value agrees with the mpmath reference of the published
+    formula (``refs[func](*args)``): 'mpmath' lines to double rounding (else
+    they are stale), printed-table and common-practice lines within their own
+    tolerance."""
+    lineno, func, args, expected, kind, tol, source = case
+    ref = refs[func](*args)
+    if "mpmath" in source:
+        assert abs(expected - ref) <= 1e-15 * abs(ref) + 1e-20, (lineno, expected, ref)
+    else:
+        err = abs(ref - expected) / (abs(expected) if kind == "rel" else 1.0)
+        assert err <= tol, (lineno, ref, expected, source)

@@ -16,6 +16,8 @@ Sources
 """
 import mpmath as mp
 import pytest
+
+from conftest import check_vector_matches_reference, check_vector_through_module
 from hypothesis import assume, given, settings, strategies as st
 
 from tinygeo import potential, sealevel as L, standard
@@ -258,24 +260,12 @@ def _r(x):
 
 @pytest.mark.parametrize("case", VECTOR_CASES, ids=lambda c: "%s:%d" % (c[1], c[0]))
 def test_vector_through_module(case):
-    lineno, func, args, expected, kind, tol, source = case
-    got = VECTOR_FUNCS[func](*args)
-    err = abs(got - expected) / (abs(expected) if kind == "rel" else 1.0)
-    assert err <= tol, (lineno, got, expected, source)
+    check_vector_through_module(case, VECTOR_FUNCS)
 
 
 @pytest.mark.parametrize("case", VECTOR_CASES, ids=lambda c: "%s:%d" % (c[1], c[0]))
 def test_vector_matches_reference(case):
-    # every expected value agrees with the mpmath reference of the published formula:
-    # 'mpmath' lines to double rounding (else they are stale), printed-table and
-    # common-practice lines within their own tolerance
-    lineno, func, args, expected, kind, tol, source = case
-    ref = VECTOR_REFS[func](*args)
-    if "mpmath" in source:
-        assert abs(expected - ref) <= 1e-15 * abs(ref) + 1e-20, (lineno, expected, ref)
-    else:
-        err = abs(ref - expected) / (abs(expected) if kind == "rel" else 1.0)
-        assert err <= tol, (lineno, ref, expected, source)
+    check_vector_matches_reference(case, VECTOR_REFS)
 
 
 def write_vectors():
