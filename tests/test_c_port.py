@@ -792,13 +792,19 @@ def test_column_float_vs_float32_emulation(build):
 def random_stream(rng):
     """An invented stream for one Column configuration: a ragged ascent and
     descent with missing humidity, time and GPS, repeated pressures and time
-    stamps, jumps, and bad values of every kind (a fuzz of the feed branches)."""
+    stamps, jumps, one-reading pressure dropouts (a glitch that must never
+    become the peak), temperature spikes against the temperature-step check,
+    and bad values of every kind (a fuzz of the feed branches)."""
     anchor = rng.choice([None, None, rng.uniform(90000.0, 101000.0)])
     cfg = (rng.uniform(-90.0, 90.0), rng.uniform(-100.0, 2000.0), anchor, rng.choice([0, 1]),
            rng.choice([0, 1]), rng.choice([0, 0, 1]), rng.choice([1, 1, 0]),
            rng.choice([200.0, 200.0, None, 30.0]), rng.choice([None, None, rng.uniform(-100.0, 80.0)]))
+    # temperature-step settings: the defaults (3 K, 1 K/s, 0.1 K/m), none, tight, loose
+    cfg += rng.choice([(3.0, 1.0, 0.1), (3.0, 1.0, 0.1), (None, 1.0, 0.1), (0.5, 0.2, 0.02),
+                       (10.0, 0.0, 0.0), (rng.uniform(0.0, 6.0), rng.uniform(0.0, 2.0),
+                                           rng.uniform(0.0, 0.2))])
     cmds = [("init", cfg)]
-    h, ts = rng.uniform(-50.0, 500.0), 0.0
+    h, ts, dt_k = rng.uniform(-50.0, 500.0), 0.0, rng.uniform(-8.0, 8.0)
     up = True
     for i in range(rng.randint(20, 200)):
         k = rng.random()
@@ -811,7 +817,8 @@ def random_stream(rng):
         if rng.random() < 0.03:
             up = not up
         h = min(max(h, -400.0), 40000.0)
-        t = standard.standard_temperature(h) + rng.uniform(-8.0, 8.0)
+        dt_k = min(max(dt_k + rng.uniform(-1.5, 1.5), -8.0), 8.0)   # a wandering offset, K
+        t = standard.standard_temperature(h) + dt_k
         p = standard.standard_pressure(h)
         rh = rng.choice([None, rng.uniform(-3.0, 103.0), rng.uniform(0.0, 0.9)])
         if rng.random() > 0.1:
@@ -829,6 +836,14 @@ def random_stream(rng):
             time_s = ts - rng.uniform(0.5, 10.0)
         elif r < 0.12:
             gps = rng.choice([NAN, 150000.0, -5000.0])
+        elif r < 0.17:
+            # a temperature spike of one reading (sensor glitch), kept in 150..350 K
+            t = min(max(t + rng.choice([-1.0, 1.0]) * rng.uniform(2.0, 30.0), 150.0), 350.0)
+        elif r < 0.21:
+            # a pressure dropout of one reading: reads hundreds of metres too high,
+            # often without a time stamp (then no rate check stops it)
+            p = standard.standard_pressure(min(h + rng.uniform(100.0, 3000.0), 40000.0))
+            time_s = rng.choice([None, None, ts])
         cmds.append(("feed", (p, t, rh, time_s, gps)))
         if rng.random() < 0.02:
             cmds.append(("reanchor", (rng.choice([10.0, 0.0, -1.0]),)))
@@ -837,35 +852,70 @@ def random_stream(rng):
 
 def test_column_random_streams_double_match_python(build):
     """Random streams over every configuration switch (anchor, ellipsoid, ice,
-    dry fallback, sigma tracking, rate check, geoid): tg_column (double) and
-    Python's Column agree bit for bit on every status, reason, event and
-    attribute, including bad readings and the re-anchor errors."""
+    dry fallback, sigma tracking, rate check, geoid, temperature-step check):
+    tg_column (double) and Python's Column agree bit for bit on every status,
+    reason, event and attribute, including bad readings, temperature spikes,
+    pressure dropouts under the peak rule and the re-anchor errors."""
     rng = random.Random(20261201)
-    streams = [random_stream(rng) for _ in range(40)]
+    streams = [random_stream(rng) for _ in range(48)]
     # a held mixing ratio above 1 kg/kg (saturated air at 100 Pa, then a reading
-    # without humidity): Python raises a plain RangeError there, C returns TG_RANGE
+    # without humidity): a ReadingError('humidity') in Python, TG_READING in C
     streams.append([("init", (0.0, 30000.0, None, 0, 0, 0, 1, 200.0, None)),
                     ("feed", (100.0, 250.0, 100.0, None, None)), ("feed", (99.0, 250.0, None, None, None)),
                     ("feed", (99.0, 250.0, 50.0, None, None)), ("feed", (98.0, 250.0, None, None, None))])
+    # untimed ascent with one pressure dropout near the top, then the fall: the
+    # glitch is not the peak, the burst is measured from the last real reading
+    glitch = [("init", (45.0, 100.0, None, 0, 0, 0, 1, 200.0, None))]
+    for i in range(60):
+        hh = 100.0 + 40.0 * i + (900.0 if i == 50 else 0.0)
+        glitch.append(("feed", (standard.standard_pressure(hh), standard.standard_temperature(hh),
+                                50.0, None, None)))
+    for i in range(8):
+        hh = 2400.0 - 100.0 * i
+        glitch.append(("feed", (standard.standard_pressure(hh), standard.standard_temperature(hh),
+                                50.0, None, None)))
+    streams.append(glitch)
     n_cmd = n_rej = 0
-    statuses = set()
+    statuses, reasons, ev_bits = set(), {}, 0
+    n_spike_peak = n_pair_peak = 0
+    gi, mi, ci = COL_ATTRS.index("gph_m"), COL_ATTRS.index("max_gph_m"), COL_ATTRS.index("count")
     for cmds in streams:
         crow, cev = run_c_column(build["column_double"], cmds)
         prow, pev = run_py_column(cmds)
         assert cev == pev, cmds[0]
+        prev = None
         for i, (c, p) in enumerate(zip(crow, prow)):
             assert c[0] == p[0], (cmds[0], i, cmds[i], c[0], p[0])
             statuses.add(p[0])
             if p[0] == "reading":
                 n_rej += 1
+                reasons[p[1]] = reasons.get(p[1], 0) + 1
                 assert c[1] == p[1], (cmds[0], i, cmds[i], c[1], p[1])
             assert _same(c[2], p[2]), (cmds[0], i, cmds[i], c[2], p[2])
             diff = [(n, a, b) for n, a, b in zip(COL_ATTRS, c[3], p[3]) if not _same(a, b)]
             assert not diff, (cmds[0], i, cmds[i], diff)
+            v = p[3]
+            if cmds[i][0] == "feed" and p[0] == "ok":
+                ev_bits |= int(p[2])
+                if prev is not None and prev[ci] + 1 == v[ci] and v[mi] == v[mi]:
+                    # the peak rule at work: a reading higher than both neighbours
+                    # (a spike) did not become the peak ...
+                    if prev[gi] > v[gi] and prev[gi] > v[mi]:
+                        n_spike_peak += 1
+                    # ... and a new peak taken from the lower end of a rising pair
+                    if v[mi] != prev[mi] and v[mi] == prev[gi] and v[gi] > prev[gi]:
+                        n_pair_peak += 1
+            if p[3] is not None:
+                prev = v
         n_cmd += len(cmds)
-    print("column random streams: %d commands, %d rejected readings, statuses %s: bit-identical"
-          % (n_cmd, n_rej, sorted(statuses)))
+    print("column random streams: %d commands, %d rejected readings (%s), statuses %s, "
+          "%d spikes not taken as the peak, %d peaks from a pair's lower end: bit-identical"
+          % (n_cmd, n_rej, " ".join("%s %d" % kv for kv in sorted(reasons.items())),
+             sorted(statuses), n_spike_peak, n_pair_peak))
     assert {"ok", "reading", "range", "state"} <= statuses
+    assert set(reasons) == {"number", "pressure", "temperature", "humidity", "time", "rate", "gps"}, reasons
+    assert ev_bits == 31, ev_bits   # every event: level, tropopause, burst, landed, launch
+    assert n_spike_peak >= 5 and n_pair_peak >= 20, (n_spike_peak, n_pair_peak)
 
 
 def _compare_rows(cmds, crow, prow):
@@ -951,10 +1001,13 @@ def test_float_build_checkpoint_reads_in_python_and_resumes(build):
 def test_column_bad_settings(build):
     """tg_column_init refuses the settings Python's constructor refuses (RangeError
     -> TG_RANGE) and accepts the edge values it accepts."""
-    good = (48.2, 512.0, None, 0, 0, 0, 1, 200.0, None)
+    good = (48.2, 512.0, None, 0, 0, 0, 1, 200.0, None, 3.0, 1.0, 0.1)
     variants = [(0, 91.0), (0, NAN), (1, 100001.0), (1, -1001.0), (2, 0.05), (2, 130000.0),
                 (7, 0.5), (7, 10001.0), (8, 151.0), (8, INF),
-                (0, 90.0), (1, 100000.0), (2, 0.1), (7, 1.0), (8, -150.0)]
+                (9, 100.5), (9, -0.1), (10, 101.0), (10, -1e-9), (11, 10.5), (11, INF),
+                (0, 90.0), (1, 100000.0), (2, 0.1), (7, 1.0), (8, -150.0),
+                (9, 100.0), (9, 0.0), (9, None), (10, 100.0), (10, 0.0), (11, 10.0), (11, 0.0)]
+    seen = set()
     for idx, value in variants:
         cfg = list(good)
         cfg[idx] = value
@@ -962,3 +1015,5 @@ def test_column_bad_settings(build):
         crow, _ = run_c_column(build["column_double"], cmds)
         prow, _ = run_py_column(cmds)
         assert crow[0][0] == prow[0][0], (idx, value, crow[0][0], prow[0][0])
+        seen.add(prow[0][0])
+    assert seen == {"ok", "range"}
