@@ -73,7 +73,8 @@ BUILD_FLAGS = {
 def build():
     """Compile the sources once per build (double, float, sanitizers; the three
     in parallel) and link the runners: {'double', 'float', 'column_double',
-    'column_float', 'asan' (None if unavailable), 'asan_err', 'dir'}."""
+    'column_float', 'asan' and 'column_asan' (None if unavailable), 'asan_err',
+    'dir'}."""
     gcc = shutil.which("gcc")
     if gcc is None:
         if os.environ.get("CI", "").lower() == "true":
@@ -86,29 +87,27 @@ def build():
     for kind, flags in BUILD_FLAGS.items():
         d = os.path.join(tmp, kind)
         os.mkdir(d)
-        srcs = _sources() + (mains if kind != "asan" else mains[:1])
+        srcs = _sources() + mains
         cmd = [gcc] + flags + ["-c"] + srcs
         procs[kind] = (d, cmd, subprocess.Popen(cmd, cwd=d, stdout=subprocess.PIPE,
                                                 stderr=subprocess.PIPE, universal_newlines=True))
     for kind, (d, cmd, proc) in procs.items():
         _, err = proc.communicate(timeout=120)
         if kind == "asan" and proc.returncode != 0:
-            out["asan"], out["asan_err"] = None, err
+            out["asan"], out["column_asan"], out["asan_err"] = None, None, err
             continue
         assert proc.returncode == 0, "gcc (%s build) failed:\n%s\n%s" % (kind, " ".join(cmd), err)
         objs = [os.path.join(d, os.path.basename(f)[:-2] + ".o") for f in _sources()]
         for main, name in ((mains[0], kind), (mains[1], "column_" + kind)):
-            if kind == "asan" and main == mains[1]:
-                continue
             exe = os.path.join(tmp, ("runvec_" + name) if main == mains[0] else name)
             link = [gcc] + BUILD_FLAGS[kind] + ["-o", exe] + objs + \
                 [os.path.join(d, os.path.basename(main)[:-2] + ".o"), "-lm"]
             r = subprocess.run(link, capture_output=True, text=True)
             if kind == "asan" and r.returncode != 0:
-                out["asan"], out["asan_err"] = None, r.stderr
+                out["asan"], out["column_asan"], out["asan_err"] = None, None, r.stderr
                 break
             assert r.returncode == 0, "link failed:\n%s\n%s" % (" ".join(link), r.stderr)
-            out[name if kind != "asan" else "asan"] = exe
+            out[name] = exe
         out.setdefault("asan_err", "")
     yield out
     shutil.rmtree(tmp, ignore_errors=True)
@@ -1017,3 +1016,32 @@ def test_column_bad_settings(build):
         assert crow[0][0] == prow[0][0], (idx, value, crow[0][0], prow[0][0])
         seen.add(prow[0][0])
     assert seen == {"ok", "range"}
+
+
+def test_column_sanitizers(build):
+    """The ASan/UBSan build of column_run on the random streams (one process, one
+    init per stream), the sounding with its re-anchors and checkpoints (good,
+    corrupted, truncated): no sanitizer report, and output identical to the
+    double build's, line for line."""
+    exe = build["column_asan"]
+    if exe is None:
+        if "sanitize" in build["asan_err"] or "asan" in build["asan_err"]:
+            pytest.skip("this gcc has no sanitizer runtime: " + build["asan_err"][-200:])
+        pytest.fail("sanitizer build failed: " + build["asan_err"])
+    rng = random.Random(7)
+    cmds = []
+    for _ in range(12):
+        cmds += random_stream(rng)
+    base = sounding_commands(step=100.0)
+    k = len(base) // 2
+    cmds += base[:k] + [("save", ())]
+    blob = run_py_column(base[:k] + [("save", ())])[2][0]
+    cmds += [("load", (blob[:-2],)), ("load", ("00" + blob[2:],)), ("load", (blob,))] + base[k:]
+    text = _cmd_text(cmds)
+    env = dict(os.environ, ASAN_OPTIONS="detect_leaks=1", UBSAN_OPTIONS="print_stacktrace=1")
+    r = subprocess.run([exe], input=text, capture_output=True, text=True, env=env, timeout=60)
+    assert r.returncode == 0, r.stderr
+    assert "runtime error" not in r.stderr and "AddressSanitizer" not in r.stderr, r.stderr
+    ref = subprocess.run([build["column_double"]], input=text, capture_output=True, text=True,
+                         timeout=60)
+    assert r.stdout == ref.stdout and r.stdout.count("\nr ") + 1 >= len(cmds)
