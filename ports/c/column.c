@@ -224,7 +224,9 @@ tg_status tg_column_init(tg_column *col, const tg_column_config *cfg)
 /* ------------------------------------------------------------ helpers */
 
 /* column._held_mixing_ratio: mixing ratio of the latest reading that had a
- * humidity, kg/kg (both calls succeeded on that reading already) */
+ * humidity, kg/kg. That reading passed feed's r < 1 - eps, the same bound as
+ * e < p up to rounding, so these checked calls fail only at that knife edge
+ * (then, as in Python, their status is returned by feed). */
 static tg_status held_mixing_ratio(const tg_column *col, TG_FLOAT *out)
 {
     TG_FLOAT e;
