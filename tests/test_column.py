@@ -873,3 +873,18 @@ def test_one_glitched_reading_is_never_the_peak_no_false_burst():
         col.feed(standard.standard_pressure(z), standard.standard_temperature(z))
     assert col.phase == PH_DESCENT
     assert abs(col.burst_gph_m - 399 * 20.0) <= 20.0 + 1e-6
+
+
+def test_virtual_temperature_out_of_range_is_a_reading_error():
+    # hot saturated air: Tv = T/(1 - (e/p)(1 - eps)) (Wallace & Hobbs 2006 eq.
+    # 3.16, from memory) is about 396 K at 345 K and 1000 hPa, beyond the 350 K
+    # that tinygeo.layer_thickness accepts: rejected as 'temperature', nothing changes
+    col = Column(10.0, max_t_step_k=None)        # isolate from the temperature-step check
+    col.feed(100000.0, 300.0, 50.0, 0.0)
+    before = col.to_bytes()
+    with pytest.raises(ReadingError) as e:
+        col.feed(99990.0, 345.0, 100.0, 1.0)
+    assert e.value.reason == "temperature" and "350 K" in str(e.value)
+    assert col.rejected == 1
+    col.rejected = 0
+    assert col.to_bytes() == before

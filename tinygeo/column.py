@@ -292,7 +292,7 @@ import math
 import struct
 
 from .potential import msl_height, GPH_MIN_M, GPH_MAX_M, _coefs, _gph, _geom, _newton
-from .layers import layer_thickness, ln_ratio, _half_k_ln
+from .layers import ln_ratio, _half_k_ln
 from .moisture import vapour_pressure, mixing_ratio, _q, _boiling, _tv_w, _ONE_M_EPS
 from .constants import G0, RD, WGS84, GRS80
 from .errors import (TinygeoError, RangeError, ReadingError, CheckpointError, check_lat,
@@ -620,7 +620,13 @@ class Column:
                 flags = FL_DRY
             else:
                 if w != w:
-                    w = self._held_mixing_ratio()
+                    try:
+                        w = self._held_mixing_ratio()
+                    except RangeError as e:
+                        # e >= p at the rounding edge of feed's r < 1 - eps test
+                        self._bad("humidity", "rh_pct=None: no mixing ratio can be held from the "
+                                  "latest humid reading (%s); pass rh_pct or set dry_fallback=True"
+                                  % (e,))
                 if w > 1.0:
                     self._bad("humidity", "rh_pct=None: held mixing ratio %r kg/kg outside 0..1 kg/kg; "
                               "pass rh_pct or set dry_fallback=True" % (w,))
@@ -651,11 +657,11 @@ class Column:
                 tm2 = tv0 + tv
                 dz = a * tm2
             else:
-                try:
-                    dz = layer_thickness(p0, p, tv0, tv)   # raises, with the message
-                except RangeError as e:
-                    self._bad("temperature", "virtual temperature %r K (t_k=%r) at p_pa=%r: %s"
-                              % (tv, t, p, e))
+                # the range tinygeo.layer_thickness accepts for Tv (checked here,
+                # not by calling it, so nothing below runs with dz unset)
+                self._bad("temperature", "virtual temperature %r K (t_k=%r) at p_pa=%r outside "
+                          "%g..%g K; check the humidity and temperature units"
+                          % (tv, t, p, T_MIN_K, T_MAX_K))
             if p > p0:
                 flags |= FL_DESCENT
             # classic Kahan step: c carries the part of the sum lost so far

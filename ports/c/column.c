@@ -226,7 +226,7 @@ tg_status tg_column_init(tg_column *col, const tg_column_config *cfg)
 /* column._held_mixing_ratio: mixing ratio of the latest reading that had a
  * humidity, kg/kg. That reading passed feed's r < 1 - eps, the same bound as
  * e < p up to rounding, so these checked calls fail only at that knife edge
- * (then, as in Python, their status is returned by feed). */
+ * (then feed rejects the reading with reason 'humidity', as Python does). */
 static tg_status held_mixing_ratio(const tg_column *col, TG_FLOAT *out)
 {
     TG_FLOAT e;
@@ -489,14 +489,10 @@ tg_status tg_column_feed(tg_column *col, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_F
             flags = TG_FL_DRY;
         } else {
             if (w != w) {
-                /* Python lets a RangeError of vapour_pressure/mixing_ratio
-                 * escape here (not a ReadingError, rejected not counted); C
-                 * returns its status the same way */
-                tg_status st = held_mixing_ratio(col, &w);
-                if (st != TG_OK) {
-                    *bits_out = 0;
-                    return st;
-                }
+                /* a RangeError of vapour_pressure/mixing_ratio (the knife
+                 * edge e >= p) is a 'humidity' rejection, as in Python */
+                if (held_mixing_ratio(col, &w) != TG_OK)
+                    return bad(col, TG_REASON_HUMIDITY, bits_out);
             }
             if (w > TG_L(1.0))
                 return bad(col, TG_REASON_HUMIDITY, bits_out);
