@@ -157,6 +157,8 @@ def test_first_reading_sits_at_start_height_and_anchor_step():
     tv = virtual_temperature(285.0, 94900.0, 40.0)
     expect = geopotential_height(512.0, 47.0) + layer_thickness(95000.0, 94900.0, tv, tv)
     assert abs(col.gph_m - expect) < 1e-9
+    # 100 Pa near 950 hPa is about 8.4 m: ~8.3 m per hPa near sea level, a
+    # little more at 950 hPa (common practice; hypsometric equation)
     assert 8.0 < col.height_m - 512.0 < 9.0
 
 
@@ -497,6 +499,8 @@ def test_gps_difference_and_explicit_reanchor():
     assert col.height_m == pytest.approx(250.0, abs=1e-6)
     assert col.sigma_bias_m == pytest.approx(8.0, rel=0.01)
     col.feed(97000.0, 282.0, 50.0, 30.0)
+    # 980 hPa -> 970 hPa at ~282 K is (Rd/g0) T ln(98000/97000) = 85 m
+    # (hypsometric equation, Wallace & Hobbs 2006 eq. 3.29, from memory)
     assert 80.0 < col.height_m - 250.0 < 95.0
     assert h < col.height_m
 

@@ -205,7 +205,10 @@ def geopotential(height_m, lat_deg, ellipsoid=WGS84):
     """Normal geopotential number U0 - U above the ellipsoid, m^2/s^2.
 
     Equal to g0 * geopotential_height(height_m, lat_deg, ellipsoid), g0 =
-    9.80665 m/s^2; same parameters, model and accuracy (relative).
+    9.80665 m/s^2; same parameters, model and accuracy (relative). Source:
+    the normal potential of the level ellipsoid, Heiskanen & Moritz (1967)
+    eq. 2-126 (from memory), with the constants of NIMA TR8350.2 Table 3.4 or
+    Moritz (1980).
 
     Example: geopotential(10000.0, 45.0) -> 97907.939 m^2/s^2 (WGS 84)
     """
@@ -215,7 +218,9 @@ def geopotential(height_m, lat_deg, ellipsoid=WGS84):
 def geometric_height(gph_m, lat_deg, ellipsoid=WGS84):
     """Height above the ellipsoid (mean sea level) of a geopotential height, m.
 
-    Inverse of geopotential_height: three Newton steps on the series, started
+    Inverse of geopotential_height (source: the normal potential of
+    Heiskanen & Moritz 1967 eq. 2-126, from memory, through the series of this
+    module; Newton's method): three Newton steps on the series, started
     from h0 = Z / (1 + D1 + D2 Z/a) (error below 60 m at 98 km), which leaves
     an error below 1e-9 m in double precision; a fixed number of steps, so the
     cost is bounded.
