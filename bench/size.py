@@ -188,13 +188,24 @@ def load_order(files):
     """Core module names, each after the core modules it imports (read from
     its import statements), the package itself last."""
     import ast
+
+    def _import_time_nodes(tree):
+        # every node that runs at import: function bodies are skipped (a lazy
+        # import inside a method, e.g. Column.to_bytes, is not a dependency)
+        todo = [tree]
+        while todo:
+            node = todo.pop()
+            yield node
+            for child in ast.iter_child_nodes(node):
+                if not isinstance(child, (ast.FunctionDef, ast.AsyncFunctionDef, ast.Lambda)):
+                    todo.append(child)
     names = [module_name(f) for f in files]
     deps = {}
     for f in files:
         me = module_name(f)
         tree = ast.parse(open(os.path.join(ROOT, f)).read())
         found = set()
-        for node in ast.walk(tree):
+        for node in _import_time_nodes(tree):
             if isinstance(node, ast.ImportFrom):
                 if node.level == 1 and node.module:
                     found.add("tinygeo." + node.module.split(".")[0])

@@ -17,7 +17,8 @@ from tinygeo.constants import RD, G0
 from tinygeo.column import (Column, CHECKPOINT_BYTES, MANDATORY_PA, EV_LEVEL, EV_TROPOPAUSE,
                             EV_BURST, EV_LANDED, EV_LAUNCH, FL_DRY, FL_HELD_MIXING, FL_NO_TIME,
                             FL_DESCENT, FL_SAME_P, PH_WAIT, PH_ASCENT, PH_DESCENT, PH_LANDED,
-                            _ST_F, _ST_I, _crc_soft)
+                            _ST_F, _ST_I)
+from tinygeo._column_rare import _crc_soft
 from tinygeo import column as column_mod
 from tinygeo.errors import ReadingError, CheckpointError, TinygeoError
 from tinygeo.potential import geopotential_height, geometric_height

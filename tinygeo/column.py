@@ -295,14 +295,8 @@ from .potential import msl_height, GPH_MIN_M, GPH_MAX_M, _coefs, _gph, _geom, _n
 from .layers import ln_ratio, _half_k_ln
 from .moisture import vapour_pressure, mixing_ratio, _q, _boiling, _tv_w, _ONE_M_EPS
 from .constants import G0, RD, WGS84, GRS80
-from .errors import (TinygeoError, RangeError, ReadingError, CheckpointError, check_lat,
-                     check_range, temperature_hint, pressure_hint, _fmt)
-
-try:
-    from binascii import crc32 as _crc32
-    _HAVE_CRC32 = True
-except ImportError:  # pragma: no cover - firmware without binascii.crc32
-    _HAVE_CRC32 = False
+from .errors import (RangeError, ReadingError, check_lat, check_range, temperature_hint,
+                     pressure_hint, _fmt)
 
 # --- events, flags, phases ----------------------------------------------------
 EV_LEVEL = 1
@@ -354,36 +348,6 @@ _NODE_W2 = 6000.0          # gpm: and gives the start of the next node's Newton 
 _RH_SLOPE_MIN = 1.0        # %RH below which dTv/dRH is held, not recomputed
 
 
-def _crc(data):
-    """CRC-32 (IEEE 802.3, reflected polynomial 0xEDB88320, as zlib/binascii)."""
-    if _HAVE_CRC32:
-        return _crc32(data) & 0xFFFFFFFF
-    return _crc_soft(data)
-
-
-def _crc_table():
-    out = []
-    for i in range(16):
-        c = i
-        for _ in range(4):
-            c = (c >> 1) ^ (0xEDB88320 if c & 1 else 0)
-        out.append(c)
-    return tuple(out)
-
-
-_CRC_NIBBLE = _crc_table()
-
-
-def _crc_soft(data):
-    # The same CRC-32, four bits at a time with a 16-entry table.
-    c = 0xFFFFFFFF
-    t = _CRC_NIBBLE
-    for b in data:
-        c = t[(c ^ b) & 15] ^ (c >> 4)
-        c = t[(c ^ (b >> 4)) & 15] ^ (c >> 4)
-    return c ^ 0xFFFFFFFF
-
-
 # --- checkpoint layout ----------------------------------------------------------
 # Settings first (the constructor is called with them on restore), then state.
 _CFG_F = ("lat_deg", "start_height_m", "_anchor", "sigma_p_pa", "sigma_t_k", "sigma_rh_pct",
@@ -405,9 +369,8 @@ _MAGIC = b"TGCK"
 _VERSION = 3
 _HEAD = "<4sBH"            # magic, version, payload length
 _HEAD_LEN = struct.calcsize(_HEAD)
-_PAYLOAD = "<" + "d" * (len(_CFG_F) + len(_ST_F)) + "i" * (len(_CFG_I) + len(_ST_I))
-_PAYLOAD_LEN = struct.calcsize(_PAYLOAD)
-CHECKPOINT_BYTES = _HEAD_LEN + _PAYLOAD_LEN + 4
+# header, the doubles ('<d') then the ints ('<i'), CRC-32 (no padding with '<')
+CHECKPOINT_BYTES = _HEAD_LEN + 8 * (len(_CFG_F) + len(_ST_F)) + 4 * (len(_CFG_I) + len(_ST_I)) + 4
 """Size of a checkpoint blob, bytes."""
 
 
@@ -1015,43 +978,15 @@ class Column:
         default 10 m, a typical GPS vertical error; common practice) as a
         systematic part. Never called by the column itself.
         """
-        if self.count == 0 or self._gps_n != self.count:
-            raise TinygeoError("reanchor_gps(): the latest reading has no gps_m; feed a reading "
-                               "with gps_m first")
-        sg = _setting("sigma_gps_m", sigma_gps_m, 0, 10000, "m")
-        target = _gph(self.gps_m, self._pc, self.ellipsoid.a_m)
-        d = target - self.gph_m
-        old_h = self.height_m
-        self.gph_m = target
-        self._c = _ZERO
-        for name in ("max_gph_m", "_g_t", "_min_gph", "_launch_gph", "_burst_line", "_tp_g",
-                     "_tp_top", "_env_g"):
-            setattr(self, name, getattr(self, name) + d)
-        self._tp_th = self._tp_th + WMO_LAPSE_K_PER_GPM * d
-        self._set_nodes(self._nodes(target))
-        self.height_m = self._n_h
-        self._h_tm = self._h_tm + (self.height_m - old_h)
-        self.gps_diff_m = self.height_m - self.gps_m
-        # uncertainty restarts here: the reading is the new (noisy) start
-        self._var_done = _ZERO
-        self._ct = _ZERO
-        self._tm2 = _ZERO
-        self._p_start = self.p_pa
-        self._sum_rh = _ZERO
-        self._sum_p = _ZERO
-        self._var_anchor = sg * sg
-        return self.height_m - old_h
+        from ._column_rare import reanchor_gps
+        return reanchor_gps(self, sigma_gps_m)
 
     # ------------------------------------------------------------ checkpoint
     def to_bytes(self):
         """The whole column (settings and state) as a checkpoint blob, bytes
         (CHECKPOINT_BYTES long; layout in the module docstring)."""
-        vals = [getattr(self, n) for n in _CFG_F]
-        vals += [getattr(self, n) for n in _ST_F]
-        vals += [int(getattr(self, n)) for n in _CFG_I]
-        vals += [getattr(self, n) for n in _ST_I]
-        body = struct.pack(_HEAD, _MAGIC, _VERSION, _PAYLOAD_LEN) + struct.pack(_PAYLOAD, *vals)
-        return body + struct.pack("<I", _crc(body))
+        from ._column_rare import to_bytes
+        return to_bytes(self)
 
     @classmethod
     def from_bytes(cls, blob, on_event=None):
@@ -1061,66 +996,8 @@ class Column:
         bytes, truncated, too long, of another version, corrupted (CRC-32
         mismatch) or holding impossible settings.
         """
-        try:
-            blob = bytes(blob)
-        except (TypeError, ValueError):
-            raise CheckpointError("checkpoint is %s, not bytes; pass what to_bytes() returned"
-                                  % _fmt(blob))
-        n = len(blob)
-        if n < _HEAD_LEN + 4:
-            raise CheckpointError("checkpoint of %d bytes is too short (a blob has %d); truncated?"
-                                  % (n, CHECKPOINT_BYTES))
-        magic, version, length = struct.unpack(_HEAD, blob[:_HEAD_LEN])
-        if magic != _MAGIC:
-            raise CheckpointError("not a tinygeo column checkpoint (magic %r, expected %r)"
-                                  % (magic, _MAGIC))
-        if version != _VERSION:
-            raise CheckpointError("checkpoint version %d, this tinygeo reads version %d; restart "
-                                  "the column or use the tinygeo that wrote it" % (version, _VERSION))
-        if length != _PAYLOAD_LEN or n != CHECKPOINT_BYTES:
-            raise CheckpointError("checkpoint of %d bytes (payload %d), expected %d (payload %d); "
-                                  "truncated or corrupted" % (n, length, CHECKPOINT_BYTES, _PAYLOAD_LEN))
-        body = blob[:n - 4]
-        (crc,) = struct.unpack("<I", blob[n - 4:])
-        if crc != _crc(body):
-            raise CheckpointError("checkpoint CRC-32 mismatch (stored %08x, computed %08x): "
-                                  "corrupted; use an older checkpoint" % (crc, _crc(body)))
-        vals = struct.unpack(_PAYLOAD, body[_HEAD_LEN:])
-        nf = len(_CFG_F)
-        ns = len(_ST_F)
-        cfg = dict(zip(_CFG_F, vals[:nf]))
-        ci = dict(zip(_CFG_I, vals[nf + ns:nf + ns + len(_CFG_I)]))
-        if ci["_ell"] not in (0, 1):
-            raise CheckpointError("checkpoint holds an unknown ellipsoid code %d" % ci["_ell"])
-        try:
-            col = cls(cfg["lat_deg"], cfg["start_height_m"],
-                      None if cfg["_anchor"] != cfg["_anchor"] else cfg["_anchor"],
-                      (WGS84, GRS80)[ci["_ell"]], ci["ice"], ci["dry_fallback"],
-                      cfg["sigma_p_pa"], cfg["sigma_t_k"], cfg["sigma_rh_pct"],
-                      cfg["bias_p_pa"], cfg["bias_t_k"], cfg["bias_rh_pct"],
-                      None if cfg["_max_rate"] != cfg["_max_rate"] else cfg["_max_rate"],
-                      cfg["landing_s"], cfg["landing_tol_pa"], cfg["launch_m"],
-                      cfg["burst_drop_m"], ci["burst_readings"], cfg["tropopause_max_p_pa"],
-                      cfg["rh_tol_pct"], ci["track_sigma"], on_event,
-                      None if cfg["_geoid_n"] != cfg["_geoid_n"] else cfg["_geoid_n"],
-                      None if cfg["_t_step"] != cfg["_t_step"] else cfg["_t_step"],
-                      cfg["max_t_rate_k_s"], cfg["max_t_gradient_k_m"])
-        except TinygeoError as e:
-            raise CheckpointError("checkpoint holds settings the column refuses: %s" % e)
-        i = nf
-        for name in _ST_F:
-            setattr(col, name, vals[i])
-            i += 1
-        i = nf + ns + len(_CFG_I)
-        for name in _ST_I:
-            setattr(col, name, vals[i])
-            i += 1
-        if not (0 <= col.phase <= PH_LANDED and 0 <= col._lvl <= 16 and 0 <= col._tp_state <= 3
-                and col.count >= 0 and col.rejected >= 0):
-            raise CheckpointError("checkpoint holds an impossible state (phase %d, level index %d, "
-                                  "count %d); not written by this tinygeo"
-                                  % (col.phase, col._lvl, col.count))
-        return col
+        from ._column_rare import from_bytes
+        return from_bytes(cls, blob, on_event)
 
     @property
     def _ell(self):
@@ -1129,8 +1006,8 @@ class Column:
         return 0 if self.ellipsoid is WGS84 else 1
 
     def __repr__(self):
-        return "Column(lat_deg=%r, count=%d, p_pa=%r, gph_m=%r, phase=%d)" % (
-            self.lat_deg, self.count, self.p_pa, self.gph_m, self.phase)
+        from ._column_rare import repr_
+        return repr_(self)
 
 
 def _hint(h):

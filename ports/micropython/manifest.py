@@ -20,6 +20,7 @@ package(
     "tinygeo",
     files=(
         "__init__.py",
+        "_column_rare.py",
         "column.py",
         "constants.py",
         "errors.py",

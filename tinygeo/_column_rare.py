@@ -1,0 +1,167 @@
+"""The rarely used parts of tinygeo.column.Column: the checkpoint encoding and
+decoding (``to_bytes``, ``from_bytes``, the CRC-32), ``reanchor_gps`` and
+``repr``. The Column methods import this module the first time one of them
+is called, so a logger that never checkpoints, re-anchors or prints a column
+does not hold this bytecode in RAM (bench/size.py). Same code, same results:
+the layout, formulas and messages are documented in tinygeo/column.py (the
+field-name tuples of the layout stay there).
+"""
+import struct
+
+from .column import (_CFG_F, _CFG_I, _ST_F, _ST_I, _MAGIC, _VERSION, _HEAD, _HEAD_LEN,
+                     CHECKPOINT_BYTES, PH_LANDED, WMO_LAPSE_K_PER_GPM, _ZERO, _setting)
+from .potential import _gph
+from .constants import WGS84, GRS80
+from .errors import TinygeoError, CheckpointError, _fmt
+
+try:
+    from binascii import crc32 as _crc32
+    _HAVE_CRC32 = True
+except ImportError:  # pragma: no cover - firmware without binascii.crc32
+    _HAVE_CRC32 = False
+
+_PAYLOAD = "<" + "d" * (len(_CFG_F) + len(_ST_F)) + "i" * (len(_CFG_I) + len(_ST_I))
+_PAYLOAD_LEN = struct.calcsize(_PAYLOAD)
+
+
+def _crc(data):
+    """CRC-32 (IEEE 802.3, reflected polynomial 0xEDB88320, as zlib/binascii)."""
+    if _HAVE_CRC32:
+        return _crc32(data) & 0xFFFFFFFF
+    return _crc_soft(data)
+
+
+def _crc_table():
+    out = []
+    for i in range(16):
+        c = i
+        for _ in range(4):
+            c = (c >> 1) ^ (0xEDB88320 if c & 1 else 0)
+        out.append(c)
+    return tuple(out)
+
+
+_CRC_NIBBLE = _crc_table()
+
+
+def _crc_soft(data):
+    # The same CRC-32, four bits at a time with a 16-entry table.
+    c = 0xFFFFFFFF
+    t = _CRC_NIBBLE
+    for b in data:
+        c = t[(c ^ b) & 15] ^ (c >> 4)
+        c = t[(c ^ (b >> 4)) & 15] ^ (c >> 4)
+    return c ^ 0xFFFFFFFF
+
+
+def reanchor_gps(self, sigma_gps_m):
+    """Column.reanchor_gps (see its docstring)."""
+    if self.count == 0 or self._gps_n != self.count:
+        raise TinygeoError("reanchor_gps(): the latest reading has no gps_m; feed a reading "
+                           "with gps_m first")
+    sg = _setting("sigma_gps_m", sigma_gps_m, 0, 10000, "m")
+    target = _gph(self.gps_m, self._pc, self.ellipsoid.a_m)
+    d = target - self.gph_m
+    old_h = self.height_m
+    self.gph_m = target
+    self._c = _ZERO
+    for name in ("max_gph_m", "_g_t", "_min_gph", "_launch_gph", "_burst_line", "_tp_g",
+                 "_tp_top", "_env_g"):
+        setattr(self, name, getattr(self, name) + d)
+    self._tp_th = self._tp_th + WMO_LAPSE_K_PER_GPM * d
+    self._set_nodes(self._nodes(target))
+    self.height_m = self._n_h
+    self._h_tm = self._h_tm + (self.height_m - old_h)
+    self.gps_diff_m = self.height_m - self.gps_m
+    # uncertainty restarts here: the reading is the new (noisy) start
+    self._var_done = _ZERO
+    self._ct = _ZERO
+    self._tm2 = _ZERO
+    self._p_start = self.p_pa
+    self._sum_rh = _ZERO
+    self._sum_p = _ZERO
+    self._var_anchor = sg * sg
+    return self.height_m - old_h
+
+
+def to_bytes(self):
+    """Column.to_bytes: the checkpoint blob (layout in tinygeo/column.py)."""
+    vals = [getattr(self, n) for n in _CFG_F]
+    vals += [getattr(self, n) for n in _ST_F]
+    vals += [int(getattr(self, n)) for n in _CFG_I]
+    vals += [getattr(self, n) for n in _ST_I]
+    body = struct.pack(_HEAD, _MAGIC, _VERSION, _PAYLOAD_LEN) + struct.pack(_PAYLOAD, *vals)
+    return body + struct.pack("<I", _crc(body))
+
+
+def _opt(x):
+    # a stored optional setting: nan means None
+    return None if x != x else x
+
+
+def from_bytes(cls, blob, on_event):
+    """Column.from_bytes (see its docstring)."""
+    try:
+        blob = bytes(blob)
+    except (TypeError, ValueError):
+        raise CheckpointError("checkpoint is %s, not bytes; pass what to_bytes() returned"
+                              % _fmt(blob))
+    n = len(blob)
+    if n < _HEAD_LEN + 4:
+        raise CheckpointError("checkpoint of %d bytes is too short (a blob has %d); truncated?"
+                              % (n, CHECKPOINT_BYTES))
+    magic, version, length = struct.unpack(_HEAD, blob[:_HEAD_LEN])
+    if magic != _MAGIC:
+        raise CheckpointError("not a tinygeo column checkpoint (magic %r, expected %r)"
+                              % (magic, _MAGIC))
+    if version != _VERSION:
+        raise CheckpointError("checkpoint version %d, this tinygeo reads version %d; restart "
+                              "the column or use the tinygeo that wrote it" % (version, _VERSION))
+    if length != _PAYLOAD_LEN or n != CHECKPOINT_BYTES:
+        raise CheckpointError("checkpoint of %d bytes (payload %d), expected %d (payload %d); "
+                              "truncated or corrupted" % (n, length, CHECKPOINT_BYTES, _PAYLOAD_LEN))
+    body = blob[:n - 4]
+    (crc,) = struct.unpack("<I", blob[n - 4:])
+    if crc != _crc(body):
+        raise CheckpointError("checkpoint CRC-32 mismatch (stored %08x, computed %08x): "
+                              "corrupted; use an older checkpoint" % (crc, _crc(body)))
+    vals = struct.unpack(_PAYLOAD, body[_HEAD_LEN:])
+    nf = len(_CFG_F)
+    ns = len(_ST_F)
+    cfg = dict(zip(_CFG_F, vals[:nf]))
+    ci = dict(zip(_CFG_I, vals[nf + ns:nf + ns + len(_CFG_I)]))
+    if ci["_ell"] not in (0, 1):
+        raise CheckpointError("checkpoint holds an unknown ellipsoid code %d" % ci["_ell"])
+    try:
+        col = cls(cfg["lat_deg"], cfg["start_height_m"], _opt(cfg["_anchor"]),
+                  (WGS84, GRS80)[ci["_ell"]], ci["ice"], ci["dry_fallback"],
+                  cfg["sigma_p_pa"], cfg["sigma_t_k"], cfg["sigma_rh_pct"],
+                  cfg["bias_p_pa"], cfg["bias_t_k"], cfg["bias_rh_pct"],
+                  _opt(cfg["_max_rate"]),
+                  cfg["landing_s"], cfg["landing_tol_pa"], cfg["launch_m"],
+                  cfg["burst_drop_m"], ci["burst_readings"], cfg["tropopause_max_p_pa"],
+                  cfg["rh_tol_pct"], ci["track_sigma"], on_event,
+                  _opt(cfg["_geoid_n"]), _opt(cfg["_t_step"]),
+                  cfg["max_t_rate_k_s"], cfg["max_t_gradient_k_m"])
+    except TinygeoError as e:
+        raise CheckpointError("checkpoint holds settings the column refuses: %s" % e)
+    i = nf
+    for name in _ST_F:
+        setattr(col, name, vals[i])
+        i += 1
+    i = nf + ns + len(_CFG_I)
+    for name in _ST_I:
+        setattr(col, name, vals[i])
+        i += 1
+    if not (0 <= col.phase <= PH_LANDED and 0 <= col._lvl <= 16 and 0 <= col._tp_state <= 3
+            and col.count >= 0 and col.rejected >= 0):
+        raise CheckpointError("checkpoint holds an impossible state (phase %d, level index %d, "
+                              "count %d); not written by this tinygeo"
+                              % (col.phase, col._lvl, col.count))
+    return col
+
+
+def repr_(self):
+    """Column.__repr__."""
+    return "Column(lat_deg=%r, count=%d, p_pa=%r, gph_m=%r, phase=%d)" % (
+        self.lat_deg, self.count, self.p_pa, self.gph_m, self.phase)
