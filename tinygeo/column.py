@@ -378,6 +378,21 @@ class Column:
     """The running hypsometric integration of an atmospheric column (see the
     module docstring for every option, attribute, event and formula)."""
 
+    # the state (declared for type checkers; set by __init__ from _ST_I and _ST_F)
+    count: int; rejected: int; flags: int; phase: int; _lvl: int; _burst_n: int; _tp_state: int
+    _gps_n: int
+    p_pa: float; t_k: float; tv_k: float; rh_pct: float; time_s: float; gph_m: float; _c: float
+    height_m: float; rate_m_s: float; max_gph_m: float; launch_time_s: float; burst_gph_m: float
+    burst_time_s: float; burst_p_pa: float; level_p_pa: float; level_gph_m: float
+    level_height_m: float; level_t_k: float; tropopause_p_pa: float; tropopause_gph_m: float
+    tropopause_t_k: float; gps_m: float; gps_diff_m: float; _t_last: float; _g_t: float
+    _min_gph: float; _launch_gph: float; _max_time: float; _max_p: float; _burst_line: float
+    _env_g: float; _land_lo: float; _land_hi: float; _land_t: float; _h_t: float; _h_p: float
+    _h_rh: float; _w_held: float; _tp_g: float; _tp_top: float; _tp_th: float; _tp_p: float
+    _tp_t: float; _n_g: float; _n_h: float; _n_k1: float; _n_k2: float; _n_lo: float; _n_hi: float
+    _h_tm: float; _var_done: float; _ct: float; _tm2: float; _s2: float; _p_start: float
+    _sum_rh: float; _sum_p: float; _slope: float; _var_anchor: float
+
     def __init__(self, lat_deg, start_height_m=0, anchor_p_pa=None, ellipsoid=WGS84,
                  ice=False, dry_fallback=False, sigma_p_pa=10, sigma_t_k=0.2,
                  sigma_rh_pct=1, bias_p_pa=50, bias_t_k=0.2, bias_rh_pct=3,
@@ -445,75 +460,15 @@ class Column:
         self._min_rate = -self._max_rate
         self._spk2 = _KH * _KH * self.sigma_p_pa * self.sigma_p_pa   # (K/2 sigma_p)^2
         self._st2 = self.sigma_t_k * self.sigma_t_k
-        # --- state
-        self.count = 0
-        self.rejected = 0
-        self.flags = 0
-        self.phase = PH_WAIT
-        self._lvl = 0
-        self._burst_n = 0
-        self._tp_state = 0
+        # --- state: every int of _ST_I 0 (but _gps_n), every float of _ST_F
+        # nan (but the zeros, which share one float)
+        for n in _ST_I:
+            setattr(self, n, 0)
         self._gps_n = -1
-        # every float of the state (the order of _ST_F, the checkpoint layout)
-        self.p_pa = _NAN
-        self.t_k = _NAN
-        self.tv_k = _NAN
-        self.rh_pct = _NAN
-        self.time_s = _NAN
-        self.gph_m = _NAN
-        self._c = _ZERO
-        self.height_m = _NAN
-        self.rate_m_s = _NAN
-        self.max_gph_m = _NAN
-        self.launch_time_s = _NAN
-        self.burst_gph_m = _NAN
-        self.burst_time_s = _NAN
-        self.burst_p_pa = _NAN
-        self.level_p_pa = _NAN
-        self.level_gph_m = _NAN
-        self.level_height_m = _NAN
-        self.level_t_k = _NAN
-        self.tropopause_p_pa = _NAN
-        self.tropopause_gph_m = _NAN
-        self.tropopause_t_k = _NAN
-        self.gps_m = _NAN
-        self.gps_diff_m = _NAN
-        self._t_last = _NAN
-        self._g_t = _NAN
-        self._min_gph = _NAN
-        self._launch_gph = _NAN
-        self._max_time = _NAN
-        self._max_p = _NAN
-        self._env_g = _NAN     # highest gph of any reading (the tropopause search's envelope)
-        self._burst_line = _NAN
-        self._land_lo = _NAN
-        self._land_hi = _NAN
-        self._land_t = _NAN
-        self._h_t = _NAN
-        self._h_p = _NAN
-        self._h_rh = _NAN
-        self._w_held = _NAN
-        self._tp_g = _NAN
-        self._tp_top = _NAN
-        self._tp_th = _NAN
-        self._tp_p = _NAN
-        self._tp_t = _NAN
-        self._n_g = _NAN
-        self._n_h = _NAN
-        self._n_k1 = _NAN
-        self._n_k2 = _NAN
-        self._n_lo = _NAN
-        self._n_hi = _NAN
-        self._h_tm = _NAN
-        self._var_done = _ZERO
-        self._ct = _ZERO
-        self._tm2 = _ZERO
-        self._s2 = _ZERO
-        self._p_start = _NAN
-        self._sum_rh = _ZERO
-        self._sum_p = _ZERO
-        self._slope = _ZERO
-        self._var_anchor = _ZERO
+        for n in _ST_F:
+            setattr(self, n, _NAN)
+        self._c = self._var_done = self._ct = self._tm2 = self._s2 = _ZERO
+        self._sum_rh = self._sum_p = self._slope = self._var_anchor = _ZERO
 
     # ------------------------------------------------------------------ feed
     def feed(self, p_pa, t_k, rh_pct=None, time_s=None, gps_m=None):
@@ -529,23 +484,21 @@ class Column:
         # ---- 1. check the values (nothing is written before step 3)
         p = self._num(p_pa, "p_pa", "Pa")
         if not P_MIN_PA <= p <= P_MAX_PA:
-            self._bad("pressure", "p_pa=%s outside %g..%g Pa%s"
-                      % (_fmt(p_pa), P_MIN_PA, P_MAX_PA, _hint(pressure_hint(p))))
+            self._out("pressure", "p_pa", p_pa, P_MIN_PA, P_MAX_PA, "Pa", pressure_hint(p))
         t = self._num(t_k, "t_k", "K")
         if not T_MIN_K <= t <= T_MAX_K:
-            self._bad("temperature", "t_k=%s outside %g..%g K%s"
-                      % (_fmt(t_k), T_MIN_K, T_MAX_K, _hint(temperature_hint(t))))
+            self._out("temperature", "t_k", t_k, T_MIN_K, T_MAX_K, "K", temperature_hint(t))
         if rh_pct is not None:
             rh = self._num(rh_pct, "rh_pct", "%")
             if rh < 0.0 or rh > 100.0:     # floats are built only out here (rare)
                 tol = self.rh_tol_pct
                 if rh < -tol or rh > 100.0 + tol:
-                    self._bad("humidity", "rh_pct=%s outside %g..%g %%; percent expected, not a 0..1 "
-                              "fraction (None if unknown)" % (_fmt(rh_pct), -tol, 100.0 + tol))
+                    self._out("humidity", "rh_pct", rh_pct, -tol, 100.0 + tol, "%",
+                              "percent, not a 0..1 fraction (None if unknown)")
         if time_s is not None:
             ts = self._num(time_s, "time_s", "s")
             if ts < self._t_last:
-                self._bad("time", "time_s=%s is before the previous %r s; time must not decrease "
+                self._bad("time", "time_s=%s before the previous %r s; time must not decrease "
                           "(clock reset? new Column)" % (_fmt(time_s), self._t_last))
         if gps_m is not None:
             gps = self._num(gps_m, "gps_m", "m")
@@ -555,8 +508,8 @@ class Column:
                 except RangeError as e:
                     self._bad("gps", "gps_m=%s (ellipsoidal): %s" % (_fmt(gps_m), e))
             if not GPS_MIN_M <= gps <= GPS_MAX_M:
-                self._bad("gps", "gps_m=%s outside %g..%g m above mean sea level; ellipsoidal? "
-                          "set geoid_undulation_m" % (_fmt(gps_m), GPS_MIN_M, GPS_MAX_M))
+                self._out("gps", "gps_m", gps_m, GPS_MIN_M, GPS_MAX_M, "m",
+                          "above sea level; ellipsoidal? set geoid_undulation_m")
 
         # ---- 2. compute the new state in locals
         flags = 0
@@ -587,12 +540,11 @@ class Column:
                         w = self._held_mixing_ratio()
                     except RangeError as e:
                         # e >= p at the rounding edge of feed's r < 1 - eps test
-                        self._bad("humidity", "rh_pct=None: no mixing ratio can be held from the "
-                                  "latest humid reading (%s); pass rh_pct or set dry_fallback=True"
-                                  % (e,))
+                        self._bad("humidity", "rh_pct=None: no mixing ratio to hold (%s); %s"
+                                  % (e, "pass rh_pct or set dry_fallback=True"))
                 if w > 1.0:
-                    self._bad("humidity", "rh_pct=None: held mixing ratio %r kg/kg outside 0..1 kg/kg; "
-                              "pass rh_pct or set dry_fallback=True" % (w,))
+                    self._bad("humidity", "rh_pct=None: held mixing ratio %r outside 0..1 kg/kg; %s"
+                              % (w, "pass rh_pct or set dry_fallback=True"))
                 tv = _tv_w(t, w)                # tinygeo.virtual_temperature_from_mixing_ratio
                 flags = FL_HELD_MIXING
         t0 = self.t_k
@@ -622,9 +574,8 @@ class Column:
             else:
                 # the range tinygeo.layer_thickness accepts for Tv (checked here,
                 # not by calling it, so nothing below runs with dz unset)
-                self._bad("temperature", "virtual temperature %r K (t_k=%r) at p_pa=%r outside "
-                          "%g..%g K; check the humidity and temperature units"
-                          % (tv, t, p, T_MIN_K, T_MAX_K))
+                self._bad("temperature", "virtual temperature %r (t_k=%r, p_pa=%r) outside %g..%g K; "
+                          "check the units" % (tv, t, p, T_MIN_K, T_MAX_K))
             if p > p0:
                 flags |= FL_DESCENT
             # classic Kahan step: c carries the part of the sum lost so far
@@ -656,15 +607,14 @@ class Column:
             dt = ts - self._t_last
             if dt == 0.0:
                 if g != self._g_t:
-                    self._bad("time", "time_s=%s repeats the previous time but the column moved "
-                              "%.3g gpm; time must increase" % (_fmt(time_s), g - self._g_t))
+                    self._bad("time", "time_s=%s repeated but the column moved %.3g gpm; time "
+                              "must increase" % (_fmt(time_s), g - self._g_t))
                 rate = _NAN     # a duplicate: the rate stays as it was
             else:
                 rate = (h - self._h_tm) / dt
                 if rate > self._max_rate or rate < self._min_rate:
-                    self._bad("rate", "p_pa=%s implies %.1f m/s over %.3g s, beyond max_rate_m_s=%g; "
-                              "a pressure glitch, or a wrong unit/time stamp"
-                              % (_fmt(p_pa), rate, dt, self._max_rate))
+                    self._bad("rate", "p_pa=%s gives %.1f m/s over %.3g s, beyond max_rate_m_s=%g; "
+                              "glitch, or wrong unit/time" % (_fmt(p_pa), rate, dt, self._max_rate))
         else:
             rate = _NAN
 
@@ -793,10 +743,9 @@ class Column:
         elif isinstance(x, int) and not isinstance(x, bool):
             v = float(x)
         else:
-            self._bad("number", "%s=%s is not a number; pass a finite float in %s" % (name, _fmt(x), unit))
+            v = _NAN
         if v != v or v == _INF or v == _NINF:   # comparisons allocate nothing
-            self._bad("number", "%s=%s is not finite; pass a finite number in %s (None if unknown)"
-                      % (name, _fmt(x), unit))
+            self._bad("number", "%s=%s is not a finite number; pass one in %s" % (name, _fmt(x), unit))
         return v
 
     def _t_jump(self, dtk, dz, ts, t_k):
@@ -806,7 +755,12 @@ class Column:
             allow += self.max_t_rate_k_s * (ts - self._t_last)
         if abs(dtk) > allow:
             self._bad("temperature", "t_k=%s jumps %+.1f K from %r K, over the %.1f K allowed; "
-                      "sensor glitch? (max_t_step_k=None: no check)" % (_fmt(t_k), dtk, self.t_k, allow))
+                      "glitch? (max_t_step_k=None: no check)" % (_fmt(t_k), dtk, self.t_k, allow))
+
+    def _out(self, reason, name, x, lo, hi, unit, hint):
+        # a value outside lo..hi: name, value, range with unit, hint
+        self._bad(reason, "%s=%s outside %g..%g %s%s" % (name, _fmt(x), lo, hi, unit,
+                                                       "; " + hint if hint else ""))
 
     def _bad(self, reason, msg):
         self.rejected += 1
@@ -1009,6 +963,3 @@ class Column:
         from ._column_rare import repr_
         return repr_(self)
 
-
-def _hint(h):
-    return "; " + h if h else ""
