@@ -69,7 +69,7 @@ def reanchor_gps(self, sigma_gps_m):
                  "_tp_top", "_env_g"):
         setattr(self, name, getattr(self, name) + d)
     self._tp_th = self._tp_th + WMO_LAPSE_K_PER_GPM * d
-    self._set_nodes(self._nodes(target))
+    self._n_g, self._n_h, self._n_k1, self._n_k2, self._n_lo, self._n_hi = self._nodes(target)
     self.height_m = self._n_h
     self._h_tm = self._h_tm + (self.height_m - old_h)
     self.gps_diff_m = self.height_m - self.gps_m

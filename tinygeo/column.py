@@ -537,7 +537,12 @@ class Column:
             else:
                 if w != w:
                     try:
-                        w = self._held_mixing_ratio()
+                        # the mixing ratio of the latest reading that had a humidity, kg/kg
+                        if self._h_rh <= 0.0:
+                            w = 0.0
+                        else:
+                            w = mixing_ratio(vapour_pressure(self._h_t, self._h_p, self._h_rh,
+                                                             self.ice), self._h_p)
                     except RangeError as e:
                         # e >= p at the rounding edge of feed's r < 1 - eps test
                         self._bad("humidity", "rh_pct=None: no mixing ratio to hold (%s); %s"
@@ -585,7 +590,13 @@ class Column:
         # temperature step (see max_t_step_k); a nan t0 (first reading) passes
         dtk = t - t0
         if dtk > self._t_step or dtk < self._t_step_neg:
-            self._t_jump(dtk, dz, ts if time_s is not None else _NAN, t_k)
+            # the full allowance, only for a change beyond max_t_step_k
+            allow = self._t_step + self.max_t_gradient_k_m * abs(dz)
+            if time_s is not None and self._t_last == self._t_last:
+                allow += self.max_t_rate_k_s * (ts - self._t_last)
+            if abs(dtk) > allow:
+                self._bad("temperature", "t_k=%s jumps %+.1f K from %r K, over the %.1f K allowed; "
+                          "glitch? (max_t_step_k=None: no check)" % (_fmt(t_k), dtk, t0, allow))
         # geometric height from the node pair (new nodes are kept in locals until the commit)
         if self._n_lo <= g <= self._n_hi:
             nodes = None
@@ -637,7 +648,7 @@ class Column:
             self._h_rh = rh
             self._w_held = _NAN
         if nodes is not None:
-            self._set_nodes(nodes)
+            self._n_g, self._n_h, self._n_k1, self._n_k2, self._n_lo, self._n_hi = nodes
         self.height_m = h
         if time_s is None:
             self.time_s = _NAN
@@ -748,15 +759,6 @@ class Column:
             self._bad("number", "%s=%s is not a finite number; pass one in %s" % (name, _fmt(x), unit))
         return v
 
-    def _t_jump(self, dtk, dz, ts, t_k):
-        # the full temperature-step allowance, only for a change beyond max_t_step_k
-        allow = self._t_step + self.max_t_gradient_k_m * abs(dz)
-        if ts == ts and self._t_last == self._t_last:
-            allow += self.max_t_rate_k_s * (ts - self._t_last)
-        if abs(dtk) > allow:
-            self._bad("temperature", "t_k=%s jumps %+.1f K from %r K, over the %.1f K allowed; "
-                      "glitch? (max_t_step_k=None: no check)" % (_fmt(t_k), dtk, self.t_k, allow))
-
     def _out(self, reason, name, x, lo, hi, unit, hint):
         # a value outside lo..hi: name, value, range with unit, hint
         self._bad(reason, "%s=%s outside %g..%g %s%s" % (name, _fmt(x), lo, hi, unit,
@@ -765,13 +767,6 @@ class Column:
     def _bad(self, reason, msg):
         self.rejected += 1
         raise ReadingError(msg, reason)
-
-    def _held_mixing_ratio(self):
-        # mixing ratio of the latest reading that had a humidity, kg/kg
-        if self._h_rh <= 0.0:
-            return 0.0
-        e = vapour_pressure(self._h_t, self._h_p, self._h_rh, self.ice)
-        return mixing_ratio(e, self._h_p)
 
     def _nodes(self, g, guess=_NAN):
         # exact geometric height h at g (tinygeo.geometric_height, with the
@@ -796,9 +791,6 @@ class Column:
         sa = d / (ga - g)               # divided differences of h over gph (Newton form)
         k2 = (d / (gb - ga) - sa) / (gb - g)
         return (g, h, sa - k2 * (ga - g), k2, g - _NODE_W, g + _NODE_W)
-
-    def _set_nodes(self, nodes):
-        self._n_g, self._n_h, self._n_k1, self._n_k2, self._n_lo, self._n_hi = nodes
 
     def _sigma_step(self, first, p0, p, tm2, a, slope):
         # Streaming first-order propagation (module docstring, "Uncertainty").
