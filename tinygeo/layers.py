@@ -226,9 +226,8 @@ def layer_thickness_lapse(p_lower_pa, p_upper_pa, tv_lower_k, lapse_k_m):
             if y == 0.0:
                 return _RG * t0 * x
             return _RG * t0 * x * (em / y)
-    raise ModelRangeError("lapse_k_m=%r over ln(p_lower/p_upper)=%g puts Tv = %r K * exp(%.4g) at "
-                          "p_upper_pa, outside 150..350 K; use a smaller lapse rate or a thinner layer"
-                          % (lapse, x, t0, y))
+    raise ModelRangeError("lapse_k_m=%r puts Tv at p_upper_pa (%r K * exp(%.4g)) outside 150..350 K; "
+                          "use a smaller lapse or a thinner layer" % (lapse, t0, y))
 
 
 def pressure_across_layer(p_lower_pa, thickness_gpm, tv_mean_k):
@@ -270,11 +269,11 @@ def layer_mean_tv(p_lower_pa, p_upper_pa, thickness_gpm):
     p2 = _check_p("p_upper_pa", p_upper_pa)
     dz = as_finite("thickness_gpm", thickness_gpm, "gpm")
     if p1 == p2:
-        raise RangeError("p_lower_pa == p_upper_pa == %r: a layer of zero depth has no mean "
-                         "temperature; pass two different pressures" % (p1,))
+        raise RangeError("p_lower_pa == p_upper_pa == %r Pa: zero depth, no mean Tv; pass two "
+                         "different pressures" % (p1,))
     tv = _GR * dz / _lnr(p1, p2)
     if tv < 150.0 or tv > 350.0:
-        raise ModelRangeError("mean Tv %.1f K from thickness_gpm=%r between %r and %r Pa is outside "
-                              "150..350 K; check the thickness (gpm) and the pressures (Pa)"
-                              % (tv, dz, p1, p2))
+        raise ModelRangeError("thickness_gpm=%r between %r and %r Pa gives a mean Tv of %.1f K, "
+                              "outside 150..350 K; check the thickness (gpm) and the pressures"
+                              % (dz, p1, p2, tv))
     return tv

@@ -249,8 +249,8 @@ def dew_point(e_pa, p_pa, ice=False):
         t = _BW * y / (_AW - y)
     td = t + ZERO_C_K
     if td < 150.0 or td > 350.0:
-        raise ModelRangeError("dew point %.2f K for e_pa=%g Pa lies outside 150..350 K, the range of "
-                              "the saturation formula; check e_pa (pascal expected)" % (td, e))
+        raise ModelRangeError("dew point %.2f K for e_pa=%g Pa outside 150..350 K (the formula's "
+                              "range); check e_pa (pascal expected)" % (td, e))
     return td
 
 

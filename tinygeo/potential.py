@@ -96,16 +96,6 @@ _GRS80 = (
 )
 
 
-def _table(ellipsoid):
-    name = getattr(ellipsoid, "name", None)
-    if name == "WGS84":
-        return _WGS84
-    if name == "GRS80":
-        return _GRS80
-    raise TinygeoError("ellipsoid=%r has no geopotential series; pass tinygeo.WGS84 or tinygeo.GRS80"
-                       % (ellipsoid,))
-
-
 def _poly(row, s):
     # Horner in s, highest power first
     acc = 0.0
@@ -116,19 +106,22 @@ def _poly(row, s):
     return acc
 
 
-def _sin2(lat_deg):
-    sp = math.sin(lat_deg * _DEG)
-    return sp * sp
-
-
 def _coefs(lat_deg, ellipsoid):
     # The series evaluated at one latitude, once: a list of 12 floats,
     # D_1(s) .. D_6(s) then 1*D_1(s) .. 6*D_6(s) (the slope's coefficients),
     # s = sin^2(lat). No checks (callers check). The same values, operation for
     # operation, as evaluating the polynomials at every use, so results built
     # on them are bit-identical; a Column keeps one such list for its latitude.
-    tab = _table(ellipsoid)
-    s = _sin2(lat_deg)
+    name = getattr(ellipsoid, "name", None)
+    if name == "WGS84":
+        tab = _WGS84
+    elif name == "GRS80":
+        tab = _GRS80
+    else:
+        raise TinygeoError("ellipsoid=%r has no geopotential series; pass tinygeo.WGS84 or "
+                           "tinygeo.GRS80" % (ellipsoid,))
+    s = math.sin(lat_deg * _DEG)
+    s = s * s
     c = [_poly(row, s) for row in tab]
     c += [(i + 1) * c[i] for i in range(len(tab))]
     return c

@@ -171,7 +171,7 @@ def qfe(p_pa, barometer_above_field_m, t_k, rh_pct=None, ice=False):
     p = _check_station_p(p_pa)
     dh = check_range("barometer_above_field_m", barometer_above_field_m,
                      -FIELD_STEP_MAX_M, FIELD_STEP_MAX_M, "m",
-                     "height of the barometer above the aerodrome reference elevation, in metres")
+                     "barometer height above the aerodrome elevation, in metres")
     t = check_t_k("t_k", t_k, T_MIN_K, T_MAX_K)
     tv = _tv(t, p, rh_pct, ice)
     return p + p * math.expm1(_G_RD * dh / tv)
@@ -207,9 +207,8 @@ def qnh(p_pa, elevation_m):
         q = standard._pressure(h)
     if q is None or q < QNH_MIN_PA or q > QNH_MAX_PA:
         raise ModelRangeError(
-            "p_pa=%r at elevation_m=%r gives a QNH outside %g..%g Pa; p_pa must be the "
-            "pressure at the aerodrome elevation (QFE), in Pa, and elevation_m its height "
-            "above mean sea level in metres" % (p, e, QNH_MIN_PA, QNH_MAX_PA))
+            "p_pa=%r at elevation_m=%r gives a QNH outside %g..%g Pa; pass the QFE in Pa and "
+            "the elevation above mean sea level in m" % (p, e, QNH_MIN_PA, QNH_MAX_PA))
     return q
 
 

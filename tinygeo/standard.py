@@ -138,13 +138,6 @@ def _layer_of_height(h):
     return i
 
 
-def _layer_of_pressure(p):
-    i = 6
-    while i > 0 and p > _P_BASE[i]:
-        i -= 1
-    return i
-
-
 def _pressure(h):
     # eq. 33a/33b in the q-form of the module docstring; h already checked.
     i = _layer_of_height(h)
@@ -160,7 +153,9 @@ def _pressure(h):
 
 def _altitude(p):
     # inverse of eq. 33a/33b in the e-form of the module docstring; p already checked.
-    i = _layer_of_pressure(p)
+    i = 6           # the layer of p
+    while i > 0 and p > _P_BASE[i]:
+        i -= 1
     tb = _T_BASE[i]
     y = _RD_G * tb * _ln_ratio(_P_BASE[i], p)
     x = _LAPSE[i] * y / tb
@@ -185,12 +180,11 @@ def _check_gph(gph_m):
     if h > TOP_GPH_M:
         raise ModelRangeError(
             "gph_m=%r above the top of the standard atmosphere %g gpm (86 km geometric); "
-            "U.S. Standard Atmosphere 1976 layers end there and tinygeo has no model above"
-            % (h, TOP_GPH_M))
+            "no model above" % (h, TOP_GPH_M))
     if h < BOTTOM_GPH_M:
         raise ModelRangeError(
-            "gph_m=%r below the bottom of the standard atmosphere %.2f gpm (-5000 m geometric, "
-            "first row of its tables); pass a geopotential height in metres" % (h, BOTTOM_GPH_M))
+            "gph_m=%r below the bottom of the standard atmosphere %.2f gpm (-5000 m geometric); "
+            "geopotential metres expected" % (h, BOTTOM_GPH_M))
     return h
 
 
@@ -277,8 +271,7 @@ def ussa76_geopotential_height(z_m):
     """
     z = as_finite("z_m", z_m, "m")
     if z < BOTTOM_Z_M or z > 86000.0:
-        raise ModelRangeError("z_m=%r outside -5000..86000 m, the geometric range of the "
-                              "standard's tables" % z)
+        raise ModelRangeError("z_m=%r outside -5000..86000 m, the standard's table range" % z)
     return R0_M * z / (R0_M + z)
 
 
@@ -297,6 +290,6 @@ def ussa76_geometric_height(gph_m):
     h = as_finite("gph_m", gph_m, "gpm")
     top = R0_M * 86000.0 / (R0_M + 86000.0)
     if h < BOTTOM_GPH_M or h > top:
-        raise ModelRangeError("gph_m=%r outside %.3f..%.3f gpm, the geopotential range of the "
-                              "standard's tables" % (h, BOTTOM_GPH_M, top))
+        raise ModelRangeError("gph_m=%r outside %.3f..%.3f gpm, the standard's table range"
+                              % (h, BOTTOM_GPH_M, top))
     return R0_M * h / (R0_M - h)
