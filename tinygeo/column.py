@@ -296,7 +296,7 @@ from .layers import ln_ratio, _half_k_ln
 from .moisture import vapour_pressure, mixing_ratio, _q, _boiling, _tv_w, _ONE_M_EPS
 from .constants import G0, RD, WGS84, GRS80
 from .errors import (RangeError, ReadingError, check_lat, check_range, temperature_hint,
-                     pressure_hint, _fmt)
+                     pressure_hint, _fmt, _INF, _NINF)
 
 # --- events, flags, phases ----------------------------------------------------
 EV_LEVEL = 1
@@ -339,8 +339,6 @@ WMO_DEPTH_GPM = 2000.0
 _NAN = float("nan")
 _setting = check_range     # a setting: a float in lo..hi (unit), else RangeError
 _ZERO = 0.0                # one shared object for every zero the column stores
-_INF = float("inf")
-_NINF = float("-inf")
 _KH = 0.5 * RD / G0        # half of Rd/g0, gpm/K
 _NODE_D = 1500.0           # m between the nodes of the height quadratic
 _NODE_W = 3000.0           # gpm: the quadratic is used within +-_NODE_W of its node
