@@ -128,21 +128,16 @@ def from_bytes(cls, blob, on_event):
     vals = struct.unpack(_PAYLOAD, body[_HEAD_LEN:])
     nf = len(_CFG_F)
     ns = len(_ST_F)
-    cfg = dict(zip(_CFG_F, vals[:nf]))
-    ci = dict(zip(_CFG_I, vals[nf + ns:nf + ns + len(_CFG_I)]))
-    if ci["_ell"] not in (0, 1):
-        raise CheckpointError("checkpoint holds an unknown ellipsoid code %d" % ci["_ell"])
+    # the settings, in the order of _CFG_F and _CFG_I
+    (lat, start, anchor, sp, st, srh, bp, bt, brh, rate, land_s, land_tol, launch, drop, trop,
+     rh_tol, geoid, t_step, t_rate, t_grad) = vals[:nf]
+    ell, ice, dry, burst_n, track = vals[nf + ns:nf + ns + len(_CFG_I)]
+    if ell not in (0, 1):
+        raise CheckpointError("checkpoint holds an unknown ellipsoid code %d" % ell)
     try:
-        col = cls(cfg["lat_deg"], cfg["start_height_m"], _opt(cfg["_anchor"]),
-                  (WGS84, GRS80)[ci["_ell"]], ci["ice"], ci["dry_fallback"],
-                  cfg["sigma_p_pa"], cfg["sigma_t_k"], cfg["sigma_rh_pct"],
-                  cfg["bias_p_pa"], cfg["bias_t_k"], cfg["bias_rh_pct"],
-                  _opt(cfg["_max_rate"]),
-                  cfg["landing_s"], cfg["landing_tol_pa"], cfg["launch_m"],
-                  cfg["burst_drop_m"], ci["burst_readings"], cfg["tropopause_max_p_pa"],
-                  cfg["rh_tol_pct"], ci["track_sigma"], on_event,
-                  _opt(cfg["_geoid_n"]), _opt(cfg["_t_step"]),
-                  cfg["max_t_rate_k_s"], cfg["max_t_gradient_k_m"])
+        col = cls(lat, start, _opt(anchor), (WGS84, GRS80)[ell], ice, dry, sp, st, srh, bp, bt, brh,
+                  _opt(rate), land_s, land_tol, launch, drop, burst_n, trop, rh_tol, track,
+                  on_event, _opt(geoid), _opt(t_step), t_rate, t_grad)
     except TinygeoError as e:
         raise CheckpointError("checkpoint holds settings the column refuses: %s" % e)
     i = nf
