@@ -252,12 +252,6 @@ VECTOR_REFS = {"sea_level_pressure": ref_msl_ode, "qfe": _ref_qfe, "qnh": ref_qn
                "indicated_altitude": _ref_indicated}
 
 
-def _r(x):
-    # repr of a reference value, with findroot's 1e-40 noise around 0 shown as 0.0
-    x = float(x)
-    return repr(0.0 if abs(x) < 1e-30 else x)
-
-
 @pytest.mark.parametrize("case", VECTOR_CASES, ids=lambda c: "%s:%d" % (c[1], c[0]))
 def test_vector_through_module(case):
     check_vector_through_module(case, VECTOR_FUNCS)

@@ -52,8 +52,8 @@ GPS_EVERY = 10               # a GPS height every tenth reading
 class SensorAdapter:
     """What a logger needs from a sensor; subclass it for a real driver.
 
-    ``read()`` takes one reading and returns True, or False when there is no
-    more data (a simulated flight ended; a real sensor normally never ends).
+    The subclass defines ``read()``, which takes one reading and returns
+    True, or False when there is no more data (a simulated flight ended; a real sensor normally never ends).
     After a True return these attributes hold the reading, already in the
     units tinygeo takes (convert hPa -> Pa and degC -> K here, not in the loop):
 
@@ -78,8 +78,8 @@ class SensorAdapter:
     def seek(self, index):
         self.index = index
 
-    def read(self):
-        raise NotImplementedError("subclass SensorAdapter and implement read()")
+    # ``read()`` is the subclass's own (see SimulatedFlight.read below for the
+    # pattern): this class holds only the shared attributes and ``seek``.
 
 
 def air_temperature_k(z_m):
