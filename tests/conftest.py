@@ -55,6 +55,39 @@ def run_script(exe, args, cwd=ROOT, timeout=120, extra_env=None):
     return p.stdout
 
 
+
+WASM32_DIR = ROOT / "tests" / "wasm32"
+WASM32_RUN = WASM32_DIR / "run.mjs"
+WASM32_PKG = WASM32_DIR / "node_modules" / "@micropython" / "micropython-webassembly-pyscript"
+
+
+def require_wasm32():
+    """Skip locally when the 32-bit MicroPython (npm package, run with node) is
+    missing; in CI a missing runtime is a failure."""
+    if shutil.which("node") and WASM32_PKG.exists():
+        return
+    if IN_CI:
+        pytest.fail("32-bit MicroPython missing; .ci/run must run 'npm ci --prefix tests/wasm32'")
+    pytest.skip("32-bit MicroPython not installed (npm ci --prefix tests/wasm32; needs node)")
+
+
+def run_wasm32(script, args=(), copies=(), heapsize=None, cwd=None, timeout=180):
+    """Run ``script`` (a host path) on the 32-bit MicroPython WebAssembly port
+    with ``tinygeo/`` importable; ``copies`` are extra (host folder, runtime
+    folder) pairs copied into its in-memory file system. Returns stdout;
+    fails with both streams on a non-zero exit."""
+    cmd = [shutil.which("node") or "node", str(WASM32_RUN), "--copy", "%s:/lib/tinygeo" % (ROOT / "tinygeo")]
+    for host, inside in copies:
+        cmd += ["--copy", "%s:%s" % (host, inside)]
+    if heapsize:
+        cmd += ["--heapsize", str(heapsize)]
+    if cwd:
+        cmd += ["--cwd", cwd]
+    cmd += [str(script)] + [str(a) for a in args]
+    p = subprocess.run(cmd, capture_output=True, text=True, timeout=timeout)
+    assert p.returncode == 0, "%s failed (rc=%d):\n%s\n%s" % (cmd, p.returncode, p.stdout, p.stderr)
+    return p.stdout
+
 @pytest.fixture(autouse=True)
 def _mpmath_precision():
     """Every test starts with mpmath at 40 significant digits and cannot leak a
