@@ -33,7 +33,8 @@ Conventions
 import math
 
 from .constants import RD, G0
-from .errors import RangeError, ModelRangeError, check_t_k, check_p_pa, check_range, as_finite
+from . import errors   # errors.RangeError & co. on the error paths: fewer module globals
+from .errors import check_t_k, check_p_pa, as_finite
 
 P_MIN_PA = 0.1
 """Lowest pressure accepted here, Pa (below the 0.3734 Pa top of USSA76)."""
@@ -212,22 +213,22 @@ def layer_thickness_lapse(p_lower_pa, p_upper_pa, tv_lower_k, lapse_k_m):
     t0 = check_t_k("tv_lower_k", tv_lower_k)
     lapse = as_finite("lapse_k_m", lapse_k_m, "K/m")
     if lapse < -1.0 or lapse > 1.0:
-        check_range("lapse_k_m", lapse, -1.0, 1.0, "K/m",
-                    "K/km passed? divide by 1000" if -30.0 <= lapse <= 30.0 else "typical values are -0.01..0.01")
+        errors.check_range("lapse_k_m", lapse, -1.0, 1.0, "K/m", "K/km passed? divide by 1000"
+                           if abs(lapse) <= 30.0 else "typical values are -0.01..0.01")
     x = _lnr(p1, p2)
     rg = RD / G0           # gpm per K
     y = -rg * lapse * x
     # Tv at the far end is Tv0 exp(y); with both ends in 150..350 K, |y| <= ln(350/150) < 0.85,
     # so the first test also keeps expm1 far from overflow (float32 overflows at y = 88).
-    if -0.85 <= y <= 0.85:
+    if abs(y) <= 0.85:
         em = math.expm1(y)
         t2 = t0 + t0 * em
         if 150.0 <= t2 <= 350.0:
             if y == 0.0:
                 return rg * t0 * x
             return rg * t0 * x * (em / y)
-    raise ModelRangeError("lapse_k_m=%r puts Tv at p_upper_pa (%r K * exp(%.4g)) outside 150..350 K; "
-                          "use a smaller lapse or thinner layer" % (lapse, t0, y))
+    raise errors.ModelRangeError("lapse_k_m=%r puts Tv at p_upper_pa (%r K * exp(%.4g)) outside 150..350 K; "
+                                 "use a smaller lapse or thinner layer" % (lapse, t0, y))
 
 
 def pressure_across_layer(p_lower_pa, thickness_gpm, tv_mean_k):
@@ -244,9 +245,8 @@ def pressure_across_layer(p_lower_pa, thickness_gpm, tv_mean_k):
     Example: pressure_across_layer(100000.0, 430.157, 286.5) -> 95000.0 Pa.
     """
     p1 = check_p_pa("p_lower_pa", p_lower_pa, P_MIN_PA, P_MAX_PA)
-    dz = as_finite("thickness_gpm", thickness_gpm, "gpm")
-    if dz < -200000.0 or dz > 200000.0:
-        check_range("thickness_gpm", dz, -200000.0, 200000.0, "gpm", "geopotential metres expected")
+    dz = errors.check_range("thickness_gpm", thickness_gpm, -200000.0, 200000.0, "gpm",
+                            "geopotential metres expected")
     tv = check_t_k("tv_mean_k", tv_mean_k)
     return p1 * math.exp(-(G0 / RD) * dz / tv)
 
@@ -269,10 +269,11 @@ def layer_mean_tv(p_lower_pa, p_upper_pa, thickness_gpm):
     p2 = check_p_pa("p_upper_pa", p_upper_pa, P_MIN_PA, P_MAX_PA)
     dz = as_finite("thickness_gpm", thickness_gpm, "gpm")
     if p1 == p2:
-        raise RangeError("p_lower_pa == p_upper_pa == %r Pa: zero depth; pass two different pressures" % (p1,))
+        raise errors.RangeError("p_lower_pa == p_upper_pa == %r Pa: zero depth; pass two different "
+                                "pressures" % (p1,))
     tv = G0 / RD * dz / _lnr(p1, p2)
     if tv < 150.0 or tv > 350.0:
-        raise ModelRangeError("thickness_gpm=%r between %r and %r Pa gives mean Tv %.1f K, "
-                              "outside 150..350 K; check the thickness (gpm) and pressures"
-                              % (dz, p1, p2, tv))
+        raise errors.ModelRangeError("thickness_gpm=%r between %r and %r Pa gives mean Tv %.1f K, "
+                                     "outside 150..350 K; check the thickness (gpm) and pressures"
+                                     % (dz, p1, p2, tv))
     return tv
