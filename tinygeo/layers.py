@@ -33,16 +33,15 @@ Conventions
 import math
 
 from .constants import RD, G0
-from .errors import RangeError, ModelRangeError, check_t_k, check_p_pa, as_finite
+from . import errors   # errors.RangeError & co. on the error paths: fewer module globals
+from .errors import check_t_k, check_p_pa, as_finite
 
 P_MIN_PA = 0.1
 """Lowest pressure accepted here, Pa (below the 0.3734 Pa top of USSA76)."""
 P_MAX_PA = 120000.0
 """Highest pressure accepted here, Pa."""
 
-_RG = RD / G0           # gpm per K: Rd/g0 = 29.2712 gpm/K
-_HALF_RG = 0.5 * RD / G0
-_GR = G0 / RD           # K per gpm
+_HALF_RG = 0.5 * RD / G0   # gpm per K: (Rd/g0)/2, Rd/g0 = 29.2712 gpm/K
 
 # --- ln(p1/p2) without log1p ------------------------------------------------
 # ln(p1/p2) = 2 atanh(d), d = (p1 - p2)/(p1 + p2)
@@ -64,14 +63,14 @@ LN_TERMS_F32 = 6
 LN_TERMS_F64 = 13
 
 
-def _ln_coefs(n_terms):
+def _ln_coefs(n):
     # Coefficients 2/(2k+1), highest first, for Horner's scheme in d^2:
     # (2/(2N-1), ..., 2/5, 2/3); the leading 2 is added by _lnr, which returns
     # d (2 + d^2 (2/3 + d^2 (2/5 + ...))): the factor 2 sits in the
     # coefficients (one multiplication fewer; 2/(2k+1) is rounded as well as
     # 1/(2k+1), so the error analysis above is unchanged).
     c = []
-    k = n_terms - 1
+    k = n - 1
     while k >= 1:
         c.append(2.0 / (2 * k + 1))
         k -= 1
@@ -90,19 +89,23 @@ _LN_C = _ln_coefs(LN_TERMS_F32 if _FLOAT32 else LN_TERMS_F64)
 #   float64: |d| < 1e-3: m = 2 (1.4e-19); |d| < 1e-2: m = 4 (1.1e-21);
 #            |d| < 0.05: m = 6 (5e-18); otherwise all 12 (|d| < 0.25).
 #   float32: |d| < 1e-2: m = 1 (2e-9); |d| < 0.05: m = 2 (2.2e-9); otherwise all 5.
-def _ln_tiers(float32):
+def _ln_tiers(f32):
     # (d^2 thresholds, coefficients used below each) for the precision in use
-    if float32:
-        return (1e-4, 2.5e-3, 2.5e-3), (1, 2, 2)
-    return (1e-6, 1e-4, 2.5e-3), (2, 4, 6)
+    # (built at run time, not stored as constant tuples: only the one in use is kept)
+    a = 1e-4
+    b = 2.5e-3
+    m = 2
+    if f32:
+        return (a, b, b), (1, m, m)
+    return (1e-6, a, b), (m, 4, 6)
 
 
 _TIER_D2, _TIER_M = _ln_tiers(_FLOAT32)
 
 
-def _lnr(p1, p2):
+def _lnr(p1_pa, p2_pa):
     # ln(p1/p2) for p1, p2 > 0, no checks (see the error analysis above).
-    d = (p1 - p2) / (p1 + p2)
+    d = (p1_pa - p2_pa) / (p1_pa + p2_pa)
     if -LN_SWITCH < d < LN_SWITCH:
         d2 = d * d
         n = len(_LN_C)
@@ -121,12 +124,8 @@ def _lnr(p1, p2):
             i += 1
         return d * (2.0 + d2 * acc)
     if d > 0.0:
-        return math.log(p1 / p2)
-    return -math.log(p2 / p1)   # same rounding either way round: exact antisymmetry
-
-
-def _check_p(name, p):
-    return check_p_pa(name, p, P_MIN_PA, P_MAX_PA)
+        return math.log(p1_pa / p2_pa)
+    return -math.log(p2_pa / p1_pa)   # same rounding either way round: exact antisymmetry
 
 
 def ln_ratio(p1_pa, p2_pa):
@@ -147,7 +146,8 @@ def ln_ratio(p1_pa, p2_pa):
 
     Example: ln_ratio(100000.0, 99999.0) -> 1.0000050000333e-05.
     """
-    return _lnr(_check_p("p1_pa", p1_pa), _check_p("p2_pa", p2_pa))
+    return _lnr(check_p_pa("p1_pa", p1_pa, P_MIN_PA, P_MAX_PA),
+                check_p_pa("p2_pa", p2_pa, P_MIN_PA, P_MAX_PA))
 
 
 def layer_thickness(p_lower_pa, p_upper_pa, tv_lower_k, tv_upper_k):
@@ -165,24 +165,24 @@ def layer_thickness(p_lower_pa, p_upper_pa, tv_lower_k, tv_upper_k):
 
     Example: layer_thickness(100000.0, 95000.0, 288.0, 285.0) -> 430.157 gpm.
     """
-    p1 = _check_p("p_lower_pa", p_lower_pa)
-    p2 = _check_p("p_upper_pa", p_upper_pa)
+    p1 = check_p_pa("p_lower_pa", p_lower_pa, P_MIN_PA, P_MAX_PA)
+    p2 = check_p_pa("p_upper_pa", p_upper_pa, P_MIN_PA, P_MAX_PA)
     t1 = check_t_k("tv_lower_k", tv_lower_k)
     t2 = check_t_k("tv_upper_k", tv_upper_k)
     return _thickness(p1, p2, t1, t2)
 
 
-def _half_k_ln(p1, p2):
+def _half_k_ln(p1_pa, p2_pa):
     # (Rd/g0)/2 ln(p1/p2), gpm per K: the thickness per kelvin of Tv1 + Tv2,
     # and dz/dTv of either end of the layer; no checks
-    return _HALF_RG * _lnr(p1, p2)
+    return _HALF_RG * _lnr(p1_pa, p2_pa)
 
 
-def _thickness(p1, p2, t1, t2):
+def _thickness(p_lower_pa, p_upper_pa, tv_lower_k, tv_upper_k):
     # layer_thickness without the argument checks, for callers that have
     # checked the pressures and temperatures already; tinygeo.column computes
     # the same two products (it keeps _half_k_ln for its uncertainty)
-    return _half_k_ln(p1, p2) * (t1 + t2)
+    return _half_k_ln(p_lower_pa, p_upper_pa) * (tv_lower_k + tv_upper_k)
 
 
 def layer_thickness_lapse(p_lower_pa, p_upper_pa, tv_lower_k, lapse_k_m):
@@ -208,26 +208,27 @@ def layer_thickness_lapse(p_lower_pa, p_upper_pa, tv_lower_k, lapse_k_m):
     -> 11000.00 gpm ([USSA76] Table 4: 22632.06 Pa at the 11 km
     geopotential layer base, from memory).
     """
-    p1 = _check_p("p_lower_pa", p_lower_pa)
-    p2 = _check_p("p_upper_pa", p_upper_pa)
+    p1 = check_p_pa("p_lower_pa", p_lower_pa, P_MIN_PA, P_MAX_PA)
+    p2 = check_p_pa("p_upper_pa", p_upper_pa, P_MIN_PA, P_MAX_PA)
     t0 = check_t_k("tv_lower_k", tv_lower_k)
     lapse = as_finite("lapse_k_m", lapse_k_m, "K/m")
     if lapse < -1.0 or lapse > 1.0:
-        hint = "K/km passed? divide by 1000" if -30.0 <= lapse <= 30.0 else "typical values are -0.01..0.01"
-        raise RangeError("lapse_k_m=%r outside -1..1 K/m; %s" % (lapse, hint))
+        errors.check_range("lapse_k_m", lapse, -1.0, 1.0, "K/m", "K/km passed? divide by 1000"
+                           if abs(lapse) <= 30.0 else "typical values are -0.01..0.01")
     x = _lnr(p1, p2)
-    y = -_RG * lapse * x
+    rg = RD / G0           # gpm per K
+    y = -rg * lapse * x
     # Tv at the far end is Tv0 exp(y); with both ends in 150..350 K, |y| <= ln(350/150) < 0.85,
     # so the first test also keeps expm1 far from overflow (float32 overflows at y = 88).
-    if -0.85 <= y <= 0.85:
+    if abs(y) <= 0.85:
         em = math.expm1(y)
         t2 = t0 + t0 * em
         if 150.0 <= t2 <= 350.0:
             if y == 0.0:
-                return _RG * t0 * x
-            return _RG * t0 * x * (em / y)
-    raise ModelRangeError("lapse_k_m=%r puts Tv at p_upper_pa (%r K * exp(%.4g)) outside 150..350 K; "
-                          "use a smaller lapse or a thinner layer" % (lapse, t0, y))
+                return rg * t0 * x
+            return rg * t0 * x * (em / y)
+    raise errors.ModelRangeError("lapse_k_m=%r puts Tv at p_upper_pa (%r K * exp(%.4g)) outside 150..350 K; "
+                                 "use a smaller lapse or thinner layer" % (lapse, t0, y))
 
 
 def pressure_across_layer(p_lower_pa, thickness_gpm, tv_mean_k):
@@ -243,12 +244,11 @@ def pressure_across_layer(p_lower_pa, thickness_gpm, tv_mean_k):
 
     Example: pressure_across_layer(100000.0, 430.157, 286.5) -> 95000.0 Pa.
     """
-    p1 = _check_p("p_lower_pa", p_lower_pa)
-    dz = as_finite("thickness_gpm", thickness_gpm, "gpm")
-    if dz < -200000.0 or dz > 200000.0:
-        raise RangeError("thickness_gpm=%r outside -200000..200000 gpm; geopotential metres expected" % (dz,))
+    p1 = check_p_pa("p_lower_pa", p_lower_pa, P_MIN_PA, P_MAX_PA)
+    dz = errors.check_range("thickness_gpm", thickness_gpm, -200000.0, 200000.0, "gpm",
+                            "geopotential metres expected")
     tv = check_t_k("tv_mean_k", tv_mean_k)
-    return p1 * math.exp(-_GR * dz / tv)
+    return p1 * math.exp(-(G0 / RD) * dz / tv)
 
 
 def layer_mean_tv(p_lower_pa, p_upper_pa, thickness_gpm):
@@ -265,15 +265,15 @@ def layer_mean_tv(p_lower_pa, p_upper_pa, thickness_gpm):
 
     Example: layer_mean_tv(100000.0, 50000.0, 5574.0) -> 274.73 K.
     """
-    p1 = _check_p("p_lower_pa", p_lower_pa)
-    p2 = _check_p("p_upper_pa", p_upper_pa)
+    p1 = check_p_pa("p_lower_pa", p_lower_pa, P_MIN_PA, P_MAX_PA)
+    p2 = check_p_pa("p_upper_pa", p_upper_pa, P_MIN_PA, P_MAX_PA)
     dz = as_finite("thickness_gpm", thickness_gpm, "gpm")
     if p1 == p2:
-        raise RangeError("p_lower_pa == p_upper_pa == %r Pa: zero depth, no mean Tv; pass two "
-                         "different pressures" % (p1,))
-    tv = _GR * dz / _lnr(p1, p2)
+        raise errors.RangeError("p_lower_pa == p_upper_pa == %r Pa: zero depth; pass two different "
+                                "pressures" % (p1,))
+    tv = G0 / RD * dz / _lnr(p1, p2)
     if tv < 150.0 or tv > 350.0:
-        raise ModelRangeError("thickness_gpm=%r between %r and %r Pa gives a mean Tv of %.1f K, "
-                              "outside 150..350 K; check the thickness (gpm) and the pressures"
-                              % (dz, p1, p2, tv))
+        raise errors.ModelRangeError("thickness_gpm=%r between %r and %r Pa gives mean Tv %.1f K, "
+                                     "outside 150..350 K; check the thickness (gpm) and pressures"
+                                     % (dz, p1, p2, tv))
     return tv

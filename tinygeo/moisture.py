@@ -61,8 +61,8 @@ humidity -3..103 % (check_rh's sensor-noise margin; values are not clamped).
 import math
 
 from .constants import EPSILON, ZERO_C_K
-from .errors import (RangeError, ModelRangeError, check_t_k, check_p_pa, check_rh,
-                     as_finite, pressure_hint)
+from . import errors   # errors.RangeError & co. where used once or twice: fewer module globals
+from .errors import check_t_k, check_p_pa
 
 # --- Coefficients [WMO8] Annex 4.B (Magnus forms, SI) ------------------------
 E0_PA = 611.2
@@ -97,17 +97,12 @@ _QC = 0.01 * E0_PA * _ONE_M_EPS   # Pa per %RH: (1 - eps) e/p per %RH is _QC f x
 
 
 def _ex(t_k, ice):
-    # exp(a t/(b + t)) of the Magnus form [WMO8] (e_w = 611.2 Pa times it),
-    # no checks (callers check t_k)
+    # exp(a t/(b + t)) of the Magnus form [WMO8] (e_w = 611.2 Pa times it,
+    # E0_PA * _ex(t_k, ice)), no checks (callers check t_k)
     t = t_k - ZERO_C_K
     if ice and t <= 0.0:
         return math.exp(_AI * t / (_BI + t))
     return math.exp(_AW * t / (_BW + t))
-
-
-def _es(t_k, ice):
-    # Magnus form [WMO8], no checks (callers check t_k). Pa.
-    return E0_PA * _ex(t_k, ice)
 
 
 def _f(p_pa):
@@ -118,17 +113,14 @@ def _f(p_pa):
 
 
 def _boiling(e_pa, p_pa):
-    msg = "vapour pressure e=%g Pa is not below the air pressure p_pa=%g Pa" % (e_pa, p_pa)
-    hint = pressure_hint(p_pa)
-    if hint:
-        return RangeError(msg + "; " + hint)
-    return RangeError(msg + " (water would boil); check t_k/td_k and p_pa")
+    return errors.RangeError("vapour pressure e=%g Pa is not below the air pressure p_pa=%g Pa; %s" % (
+        e_pa, p_pa, errors.pressure_hint(p_pa) or "water would boil: check t_k/td_k and p_pa"))
 
 
 def _check_e(e_pa, p_pa):
-    e = as_finite("e_pa", e_pa, "Pa")
+    e = errors.as_finite("e_pa", e_pa, "Pa")
     if e < 0.0:
-        raise RangeError("e_pa=%r is negative; vapour pressure is >= 0 Pa" % (e,))
+        raise errors.RangeError("e_pa=%r is negative; vapour pressure is >= 0 Pa" % (e,))
     if e >= p_pa:
         raise _boiling(e, p_pa)
     return e
@@ -155,7 +147,7 @@ def saturation_vapour_pressure(t_k, ice=False):
     saturation_vapour_pressure(293.15) -> 2332.6 (IAPWS-95: 2339.2).
     """
     t_k = check_t_k("t_k", t_k)
-    return _es(t_k, ice)
+    return E0_PA * _ex(t_k, ice)   # Magnus form [WMO8], Pa
 
 
 def enhancement_factor(p_pa):
@@ -194,8 +186,8 @@ def vapour_pressure(t_k, p_pa, rh_pct, ice=False):
     """
     t_k = check_t_k("t_k", t_k)
     p_pa = check_p_pa("p_pa", p_pa, P_MIN_PA, P_MAX_PA)
-    rh_pct = check_rh(rh_pct)
-    e = rh_pct * 0.01 * _f(p_pa) * _es(t_k, ice)
+    rh_pct = errors.check_rh(rh_pct)
+    e = rh_pct * 0.01 * _f(p_pa) * (E0_PA * _ex(t_k, ice))
     if e >= p_pa:
         raise _boiling(e, p_pa)
     return e
@@ -215,7 +207,7 @@ def vapour_pressure_from_dew_point(td_k, p_pa, ice=False):
     """
     td_k = check_t_k("td_k", td_k)
     p_pa = check_p_pa("p_pa", p_pa, P_MIN_PA, P_MAX_PA)
-    e = _f(p_pa) * _es(td_k, ice)
+    e = _f(p_pa) * (E0_PA * _ex(td_k, ice))
     if e >= p_pa:
         raise _boiling(e, p_pa)
     return e
@@ -241,7 +233,7 @@ def dew_point(e_pa, p_pa, ice=False):
     p_pa = check_p_pa("p_pa", p_pa, P_MIN_PA, P_MAX_PA)
     e = _check_e(e_pa, p_pa)
     if e == 0.0:
-        raise RangeError("e_pa=0.0: dry air has no dew point; pass e_pa > 0 Pa")
+        raise errors.RangeError("e_pa=0.0: dry air has no dew point; pass e_pa > 0 Pa")
     y = math.log(e / (_f(p_pa) * E0_PA))
     if ice and y <= 0.0:
         t = _BI * y / (_AI - y)
@@ -249,8 +241,8 @@ def dew_point(e_pa, p_pa, ice=False):
         t = _BW * y / (_AW - y)
     td = t + ZERO_C_K
     if td < 150.0 or td > 350.0:
-        raise ModelRangeError("dew point %.2f K for e_pa=%g Pa outside 150..350 K (the formula's "
-                              "range); check e_pa (pascal expected)" % (td, e))
+        raise errors.ModelRangeError("dew point %.2f K for e_pa=%g Pa outside 150..350 K; "
+                                     "check e_pa (pascal expected)" % (td, e))
     return td
 
 
@@ -309,7 +301,7 @@ def virtual_temperature(t_k, p_pa, rh_pct, ice=False):
     Example: virtual_temperature(293.15, 101325.0, 50.0) -> 294.4372 K.
     """
     return _tv(check_t_k("t_k", t_k), check_p_pa("p_pa", p_pa, P_MIN_PA, P_MAX_PA),
-               check_rh(rh_pct), ice)
+               errors.check_rh(rh_pct), ice)
 
 
 def _q(t_k, p_pa, ice):
@@ -342,14 +334,13 @@ def virtual_temperature_from_mixing_ratio(t_k, w_kg_kg):
     Example: virtual_temperature_from_mixing_ratio(293.15, 0.0072772) -> 294.4372 K.
     """
     t_k = check_t_k("t_k", t_k)
-    w = as_finite("w_kg_kg", w_kg_kg, "kg/kg")
+    w = errors.as_finite("w_kg_kg", w_kg_kg, "kg/kg")
     if w < 0.0 or w > 1.0:
-        hint = "mixing ratio in kg/kg expected; g/kg passed? divide by 1000" if 1.0 < w <= 100.0 else \
-            "mixing ratio is >= 0"
-        raise RangeError("w_kg_kg=%r outside 0..1 kg/kg; %s" % (w, hint))
+        errors.check_range("w_kg_kg", w, 0.0, 1.0, "kg/kg",
+                           "g/kg passed? divide by 1000" if 1.0 < w <= 100.0 else "mixing ratio is >= 0")
     return _tv_w(t_k, w)
 
 
-def _tv_w(t_k, w):
+def _tv_w(t_k, w_kg_kg):
     # virtual_temperature_from_mixing_ratio without the checks (callers check)
-    return t_k * (1.0 + w / EPSILON) / (1.0 + w)
+    return t_k * (1.0 + w_kg_kg / EPSILON) / (1.0 + w_kg_kg)
