@@ -107,8 +107,8 @@ def _coefs(lat_deg, ellipsoid):
     elif name == "GRS80":
         tab = _GRS80
     else:
-        raise TinygeoError("ellipsoid=%r has no geopotential series; pass tinygeo.WGS84 or "
-                           "tinygeo.GRS80" % (ellipsoid,))
+        raise TinygeoError("ellipsoid=%r has no geopotential series; use tinygeo.WGS84 or GRS80"
+                           % (ellipsoid,))
     s = math.sin(lat_deg * _DEG)
     s = s * s
     c = []
@@ -225,7 +225,7 @@ def geometric_height(gph_m, lat_deg, ellipsoid=WGS84):
     Example: geometric_height(9983.8313, 45.0) -> 10000.0000 m (WGS 84)
     """
     z = check_range("gph_m", gph_m, GPH_MIN_M, GPH_MAX_M, "gpm",
-                    "geopotential height in metres (gpm); km or feet passed?")
+                    "gpm expected; km or feet passed?")
     return _geom(z, _coefs(check_lat(lat_deg), ellipsoid), ellipsoid.a_m)
 
 

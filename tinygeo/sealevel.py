@@ -160,7 +160,7 @@ def qfe(p_pa, barometer_above_field_m, t_k, rh_pct=None, ice=False):
     p = check_p_pa("p_pa", p_pa, P_STATION_MIN_PA, P_STATION_MAX_PA)
     dh = check_range("barometer_above_field_m", barometer_above_field_m,
                      -FIELD_STEP_MAX_M, FIELD_STEP_MAX_M, "m",
-                     "barometer height above the aerodrome elevation, in metres")
+                     "barometer height above the field, m")
     t = check_t_k("t_k", t_k, T_MIN_K, T_MAX_K)
     tv = t
     if rh_pct is not None:
@@ -198,8 +198,8 @@ def qnh(p_pa, elevation_m):
         q = standard._pressure(h)
     if q is None or q < QNH_MIN_PA or q > QNH_MAX_PA:
         raise ModelRangeError(
-            "p_pa=%r at elevation_m=%r gives a QNH outside %g..%g Pa; pass the QFE in Pa and "
-            "the elevation above mean sea level in m" % (p, e, QNH_MIN_PA, QNH_MAX_PA))
+            "p_pa=%r at elevation_m=%r gives a QNH outside %g..%g Pa; pass the QFE (Pa) and "
+            "the elevation above mean sea level (m)" % (p, e, QNH_MIN_PA, QNH_MAX_PA))
     return q
 
 

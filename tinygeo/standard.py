@@ -110,9 +110,6 @@ BOTTOM_GPH_M = R0_M * BOTTOM_Z_M / (R0_M + BOTTOM_Z_M)
 _G_RD = G0 / RD
 """g0 / Rd = g0' M0 / R*, K/gpm (0.0341632) [USSA76 Table 2]."""
 
-_RD_G = RD / G0
-"""Rd / g0, gpm/K (29.2713)."""
-
 
 def _pressure(h):
     # eq. 33a/33b in the q-form of the module docstring; h already checked.
@@ -150,7 +147,7 @@ def _altitude(p):
     u = 1.0 + d
     if u != 1.0:
         d = d * math.log(u) / (u - 1.0)
-    y = _RD_G * tb * d
+    y = RD / G0 * tb * d     # Rd / g0 = 29.2713 gpm/K
     x = _LAPSE[i] * y / tb
     if x == 0.0:
         e = 1.0
@@ -172,12 +169,12 @@ def _check_gph(gph_m):
     h = as_finite("gph_m", gph_m, "gpm")
     if h > TOP_GPH_M:
         raise ModelRangeError(
-            "gph_m=%r above the top of the standard atmosphere %g gpm (86 km geometric); "
-            "no model above" % (h, TOP_GPH_M))
+            "gph_m=%r above the top of the standard atmosphere %g gpm (86 km geometric)"
+            % (h, TOP_GPH_M))
     if h < BOTTOM_GPH_M:
         raise ModelRangeError(
             "gph_m=%r below the bottom of the standard atmosphere %.2f gpm (-5000 m geometric); "
-            "geopotential metres expected" % (h, BOTTOM_GPH_M))
+            "gpm expected" % (h, BOTTOM_GPH_M))
     return h
 
 
