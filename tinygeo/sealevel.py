@@ -56,7 +56,7 @@ import math
 
 from . import moisture
 from . import standard
-from .constants import G0, RD
+from .standard import _G_RD     # g0 / Rd, K/gpm [USSA76 Table 2]
 from .errors import ModelRangeError, RangeError, as_finite, check_p_pa, check_range, check_t_k
 
 LAPSE_K_GPM = 0.0065
@@ -85,19 +85,6 @@ pressures of 870 and 1084.8 hPa, common practice)."""
 FIELD_STEP_MAX_M = 200.0
 """Largest barometer height above (or below) the aerodrome reference elevation
 for qfe, m: the step is a small hypsometric correction."""
-
-_G_RD = G0 / RD
-
-
-def _tv(t_k, p_pa, rh_pct, ice):
-    if rh_pct is None:
-        return t_k
-    return moisture.virtual_temperature(t_k, p_pa, rh_pct, ice)
-
-
-def _check_station_p(p_pa):
-    return check_p_pa("p_pa", p_pa, P_STATION_MIN_PA, P_STATION_MAX_PA)
-
 
 def _check_height(name, height_m):
     # check_range's message plus a hint for the likely unit mistakes (feet, km)
@@ -135,10 +122,12 @@ def sea_level_pressure(p_pa, t_k, height_m, rh_pct=None, lat_deg=None, ice=False
     Example (a buoy, invented scenario): barometer 4 m above the sea, 1008.2 hPa,
     18 degC, dry: sea_level_pressure(100820.0, 291.15, 4.0) -> 100867.3 Pa.
     """
-    p = _check_station_p(p_pa)
+    p = check_p_pa("p_pa", p_pa, P_STATION_MIN_PA, P_STATION_MAX_PA)
     t = check_t_k("t_k", t_k, T_MIN_K, T_MAX_K)
     h = _check_height("height_m", height_m)
-    tv = _tv(t, p, rh_pct, ice)
+    tv = t
+    if rh_pct is not None:
+        tv = moisture.virtual_temperature(t, p, rh_pct, ice)
     if lat_deg is not None:
         # imported here so a buoy that never passes a latitude does not load
         # the gravity model on a small board
@@ -168,12 +157,14 @@ def qfe(p_pa, barometer_above_field_m, t_k, rh_pct=None, ice=False):
     Example (invented): barometer 12 m above the field, 965.3 hPa, 5 degC:
     qfe(96530.0, 12.0, 278.15) -> 96672.4 Pa.
     """
-    p = _check_station_p(p_pa)
+    p = check_p_pa("p_pa", p_pa, P_STATION_MIN_PA, P_STATION_MAX_PA)
     dh = check_range("barometer_above_field_m", barometer_above_field_m,
                      -FIELD_STEP_MAX_M, FIELD_STEP_MAX_M, "m",
-                     "barometer height above the aerodrome elevation, in metres")
+                     "barometer height above the field, m")
     t = check_t_k("t_k", t_k, T_MIN_K, T_MAX_K)
-    tv = _tv(t, p, rh_pct, ice)
+    tv = t
+    if rh_pct is not None:
+        tv = moisture.virtual_temperature(t, p, rh_pct, ice)
     return p + p * math.expm1(_G_RD * dh / tv)
 
 
@@ -199,7 +190,7 @@ def qnh(p_pa, elevation_m):
     Example (invented): field at 430 m, QFE 962.0 hPa:
     qnh(96200.0, 430.0) -> 101257.4 Pa.
     """
-    p = _check_station_p(p_pa)
+    p = check_p_pa("p_pa", p_pa, P_STATION_MIN_PA, P_STATION_MAX_PA)
     e = _check_height("elevation_m", elevation_m)
     h = standard._altitude(p) - e    # at most 7685 gpm: always layer 0
     q = None
@@ -207,8 +198,8 @@ def qnh(p_pa, elevation_m):
         q = standard._pressure(h)
     if q is None or q < QNH_MIN_PA or q > QNH_MAX_PA:
         raise ModelRangeError(
-            "p_pa=%r at elevation_m=%r gives a QNH outside %g..%g Pa; pass the QFE in Pa and "
-            "the elevation above mean sea level in m" % (p, e, QNH_MIN_PA, QNH_MAX_PA))
+            "p_pa=%r at elevation_m=%r gives a QNH outside %g..%g Pa; pass the QFE (Pa) and "
+            "the elevation above mean sea level (m)" % (p, e, QNH_MIN_PA, QNH_MAX_PA))
     return q
 
 

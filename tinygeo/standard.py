@@ -72,9 +72,9 @@ in tests/test_standard.py::test_float32_near_sea_level), against about 6 mm for
 the naive ln(p) - ln(P0); about 6 mm (under one ulp of the height) over the whole
 range; about 2 mm near sea level and 6 cm at the top with 30-bit floats.
 
-``_ln1p``/``_ln_ratio`` are private here on purpose so the standard atmosphere
-depends on nothing but constants and errors; tinygeo.layers.ln_ratio is the
-public stable ln(p1/p2).
+The ln(1 + x) of ``_pressure``/``_altitude`` is written out here on purpose
+so the standard atmosphere depends on nothing but constants and errors;
+tinygeo.layers.ln_ratio is the public stable ln(p1/p2).
 """
 import math
 
@@ -110,44 +110,27 @@ BOTTOM_GPH_M = R0_M * BOTTOM_Z_M / (R0_M + BOTTOM_Z_M)
 _G_RD = G0 / RD
 """g0 / Rd = g0' M0 / R*, K/gpm (0.0341632) [USSA76 Table 2]."""
 
-_RD_G = RD / G0
-"""Rd / g0, gpm/K (29.2713)."""
-
-
-def _ln1p(x):
-    # ln(1 + x) for x > -1, accurate near 0 without math.log1p:
-    # W. Kahan's form x * ln(u) / (u - 1), u = fl(1 + x) (Goldberg 1991,
-    # "What every computer scientist should know about floating-point
-    # arithmetic", ACM Computing Surveys 23(1), Theorem 4).
-    u = 1.0 + x
-    if u == 1.0:
-        return x
-    return x * math.log(u) / (u - 1.0)
-
-
-def _ln_ratio(a, b):
-    # ln(a / b) for positive a, b; a - b is exact when a and b are within a
-    # factor of two of each other (Sterbenz), so close pressures lose nothing.
-    return _ln1p((a - b) / b)
-
-
-def _layer_of_height(h):
-    i = 6
-    while i > 0 and h < _H_BASE[i]:
-        i -= 1
-    return i
-
 
 def _pressure(h):
     # eq. 33a/33b in the q-form of the module docstring; h already checked.
-    i = _layer_of_height(h)
+    i = 6           # the layer of h
+    while i > 0 and h < _H_BASE[i]:
+        i -= 1
     tb = _T_BASE[i]
     dh = h - _H_BASE[i]
     x = _LAPSE[i] * dh / tb
     if x == 0.0:
         q = 1.0
     else:
-        q = _ln1p(x) / x
+        # ln(1 + x) for x > -1, accurate near 0 without math.log1p:
+        # W. Kahan's form x * ln(u) / (u - 1), u = fl(1 + x) (Goldberg 1991,
+        # "What every computer scientist should know about floating-point
+        # arithmetic", ACM Computing Surveys 23(1), Theorem 4); then / x
+        q = x
+        u = 1.0 + x
+        if u != 1.0:
+            q = x * math.log(u) / (u - 1.0)
+        q = q / x
     return _P_BASE[i] * math.exp(-_G_RD * dh * q / tb)
 
 
@@ -157,7 +140,14 @@ def _altitude(p):
     while i > 0 and p > _P_BASE[i]:
         i -= 1
     tb = _T_BASE[i]
-    y = _RD_G * tb * _ln_ratio(_P_BASE[i], p)
+    # ln(Pb / p) as ln(1 + d), d = (Pb - p) / p: Pb - p is exact when Pb and p
+    # are within a factor of two of each other (Sterbenz), so close pressures
+    # lose nothing; ln(1 + d) in Kahan's form as in _pressure
+    d = (_P_BASE[i] - p) / p
+    u = 1.0 + d
+    if u != 1.0:
+        d = d * math.log(u) / (u - 1.0)
+    y = RD / G0 * tb * d     # Rd / g0 = 29.2713 gpm/K
     x = _LAPSE[i] * y / tb
     if x == 0.0:
         e = 1.0
@@ -179,12 +169,12 @@ def _check_gph(gph_m):
     h = as_finite("gph_m", gph_m, "gpm")
     if h > TOP_GPH_M:
         raise ModelRangeError(
-            "gph_m=%r above the top of the standard atmosphere %g gpm (86 km geometric); "
-            "no model above" % (h, TOP_GPH_M))
+            "gph_m=%r above the top of the standard atmosphere %g gpm (86 km geometric)"
+            % (h, TOP_GPH_M))
     if h < BOTTOM_GPH_M:
         raise ModelRangeError(
             "gph_m=%r below the bottom of the standard atmosphere %.2f gpm (-5000 m geometric); "
-            "geopotential metres expected" % (h, BOTTOM_GPH_M))
+            "gpm expected" % (h, BOTTOM_GPH_M))
     return h
 
 
@@ -203,7 +193,9 @@ def standard_temperature(gph_m):
     standard_temperature(1000.0) -> 281.65.
     """
     h = _check_gph(gph_m)
-    i = _layer_of_height(h)
+    i = 6           # the layer of h
+    while i > 0 and h < _H_BASE[i]:
+        i -= 1
     return _T_BASE[i] + _LAPSE[i] * (h - _H_BASE[i])
 
 
