@@ -52,7 +52,7 @@ def _fmt(value):
 
 
 _INF = float("inf")
-_NINF = float("-inf")
+_NINF = -_INF
 
 
 def as_finite(name, value, unit, error=RangeError):
