@@ -44,7 +44,11 @@ _WHERE = (
 
 def __getattr__(name):
     if name == "__all__":
-        return [n for n in _WHERE.split() if n[-1] != ":"] + ["__version__"]
+        a = ["__version__"]
+        for n in _WHERE.split():
+            if n[-1] != ":":
+                a.append(n)
+        return a
     # " name " in the table: its module is the last "module:" before it
     i = _WHERE.find(" " + name + " ")
     if i < 1 or ":" in name:
