@@ -24,41 +24,44 @@ you use there.
 """
 __version__ = "0.1.0"
 
-# module: the public names it gives the package (one string each: no tuple of
-# ~60 names is built at import)
+# "module:" followed by the public names it gives the package, space-separated
+# (and space-framed); one string, so no tuple of ~60 names is built at import
 _WHERE = (
-    ("errors", "TinygeoError RangeError ModelRangeError ReadingError CheckpointError"),
-    ("constants", "G0 RD RV EPSILON WGS84 GRS80"),
-    ("gravity", "normal_gravity somigliana_gravity"),
-    ("potential", "geopotential geopotential_height geometric_height msl_height"),
-    ("moisture", "saturation_vapour_pressure enhancement_factor vapour_pressure "
-                 "vapour_pressure_from_dew_point dew_point mixing_ratio specific_humidity "
-                 "virtual_temperature virtual_temperature_from_mixing_ratio"),
-    ("layers", "ln_ratio layer_thickness layer_thickness_lapse pressure_across_layer layer_mean_tv"),
-    ("standard", "standard_temperature standard_pressure pressure_altitude"),
-    ("sealevel", "sea_level_pressure qfe qnh indicated_altitude"),
-    ("column", "Column EV_LEVEL EV_TROPOPAUSE EV_BURST EV_LANDED EV_LAUNCH FL_DRY FL_HELD_MIXING "
-               "FL_NO_TIME FL_DESCENT FL_SAME_P PH_WAIT PH_ASCENT PH_DESCENT PH_LANDED"),
+    " errors: TinygeoError RangeError ModelRangeError ReadingError CheckpointError "
+    "constants: G0 RD RV EPSILON WGS84 GRS80 "
+    "gravity: normal_gravity somigliana_gravity "
+    "potential: geopotential geopotential_height geometric_height msl_height "
+    "moisture: saturation_vapour_pressure enhancement_factor vapour_pressure "
+    "vapour_pressure_from_dew_point dew_point mixing_ratio specific_humidity "
+    "virtual_temperature virtual_temperature_from_mixing_ratio "
+    "layers: ln_ratio layer_thickness layer_thickness_lapse pressure_across_layer layer_mean_tv "
+    "standard: standard_temperature standard_pressure pressure_altitude "
+    "sealevel: sea_level_pressure qfe qnh indicated_altitude "
+    "column: Column EV_LEVEL EV_TROPOPAUSE EV_BURST EV_LANDED EV_LAUNCH FL_DRY FL_HELD_MIXING "
+    "FL_NO_TIME FL_DESCENT FL_SAME_P PH_WAIT PH_ASCENT PH_DESCENT PH_LANDED "
 )
 
 
 def __getattr__(name):
     if name == "__all__":
-        return [n for _, names in _WHERE for n in names.split()] + ["__version__"]
-    mod = None
-    for m, names in _WHERE:
-        if name in names.split():
-            mod = m
-            break
-    if mod is None:
-        if name.startswith("__"):
-            raise AttributeError("module 'tinygeo' has no attribute '%s'" % name)
-        # a submodule (``from . import standard`` asks the package first on
-        # MicroPython)
-        try:
-            return __import__("tinygeo." + name, None, None, ("*",))
-        except ImportError:
-            raise AttributeError("module 'tinygeo' has no attribute '%s'" % name)
+        a = ["__version__"]
+        for n in _WHERE.split():
+            if n[-1] != ":":
+                a.append(n)
+        return a
+    # " name " in the table: its module is the last "module:" before it
+    i = _WHERE.find(" " + name + " ")
+    if i < 1 or ":" in name:
+        if not name.startswith("__"):
+            # a submodule (``from . import standard`` asks the package first on
+            # MicroPython)
+            try:
+                return __import__("tinygeo." + name, None, None, ("*",))
+            except ImportError:
+                pass
+        raise AttributeError("module 'tinygeo' has no attribute '%s'" % name)
+    i = _WHERE.rfind(":", 0, i)
+    mod = _WHERE[_WHERE.rfind(" ", 0, i) + 1:i]
     # a non-empty fromlist makes __import__ return the submodule itself
     value = getattr(__import__("tinygeo." + mod, None, None, (name,)), name)
     globals()[name] = value     # later reads find it without this function

@@ -52,7 +52,7 @@ def _fmt(value):
 
 
 _INF = float("inf")
-_NINF = float("-inf")
+_NINF = -_INF
 
 
 def as_finite(name, value, unit, error=RangeError):
@@ -62,9 +62,10 @@ def as_finite(name, value, unit, error=RangeError):
     try:
         x = float(value)
     except (TypeError, ValueError):
-        raise error("%s=%s is not a number; pass a finite number in %s" % (name, _fmt(value), unit))
-    if x != x or x == _INF or x == _NINF:   # comparisons allocate nothing
-        raise error("%s=%s is not finite; pass a finite number in %s" % (name, _fmt(value), unit))
+        x = None
+    if x is None or x != x or x == _INF or x == _NINF:   # comparisons allocate nothing
+        raise error("%s=%s is not %s; pass a finite number in %s"
+                    % (name, _fmt(value), "a number" if x is None else "finite", unit))
     return x
 
 
@@ -72,9 +73,12 @@ def check_range(name, value, lo, hi, unit, hint=None, error=RangeError):
     """Return ``value`` as a float if ``lo <= value <= hi``; otherwise raise ``error``.
 
     The message is ``"<name>=<value> outside <lo>..<hi> <unit>"`` followed by
-    ``"; <hint>"`` when a hint is given."""
+    ``"; <hint>"`` when a hint is given. ``hint`` is a string, or a function
+    of the rejected float that returns one (or None)."""
     x = as_finite(name, value, unit, error)
     if x < lo or x > hi:
+        if callable(hint):
+            hint = hint(x)
         msg = "%s=%s outside %g..%g %s" % (name, _fmt(value), lo, hi, unit)
         if hint:
             msg += "; " + hint
@@ -84,52 +88,40 @@ def check_range(name, value, lo, hi, unit, hint=None, error=RangeError):
 
 def temperature_hint(t):
     """A hint for a temperature in kelvin that was rejected, or None."""
-    if -100.0 <= t <= 70.0:
+    if -100 <= t <= 70:
         return "Celsius passed? add 273.15"
-    if -150.0 <= t <= 160.0 and t != 0.0:
+    if -150 <= t <= 160 and t != 0:
         return "Fahrenheit or Celsius passed? convert to kelvin"
     return None
 
 
 def pressure_hint(p):
     """A hint for a pressure in pascal that was rejected, or None."""
-    if 0.0 < p <= 1200.0:
+    if 0 < p <= 1200:
         return "hPa or mbar passed? multiply by 100"
-    if 1200.0 < p <= 1.2e6 and p >= 1.2e5:
+    if 1200 < p <= 1200000 and p >= 120000:
         return "check the unit: pascal expected (1013.25 hPa = 101325 Pa)"
-    if p <= 0.0:
+    if p <= 0:
         return "pressure must be positive"
     return None
 
 
-def check_t_k(name, value, lo=150.0, hi=350.0, error=RangeError):
+def check_t_k(name, value, lo=150, hi=350, error=RangeError):
     """Check a temperature in kelvin (default range 150..350 K)."""
-    x = as_finite(name, value, "K", error)
-    if x < lo or x > hi:
-        return check_range(name, x, lo, hi, "K", temperature_hint(x), error)
-    return x
+    return check_range(name, value, lo, hi, "K", temperature_hint, error)
 
 
 def check_p_pa(name, value, lo, hi, error=RangeError):
     """Check a pressure in pascal within ``lo..hi`` Pa."""
-    x = as_finite(name, value, "Pa", error)
-    if x < lo or x > hi:
-        return check_range(name, x, lo, hi, "Pa", pressure_hint(x), error)
-    return x
+    return check_range(name, value, lo, hi, "Pa", pressure_hint, error)
 
 
 def check_lat(value, name="lat_deg"):
     """Check a geodetic latitude in degrees (-90..90)."""
-    x = as_finite(name, value, "deg")
-    if x < -90.0 or x > 90.0:
-        return check_range(name, x, -90.0, 90.0, "deg", "latitude is -90..90 degrees, north positive")
-    return x
+    return check_range(name, value, -90, 90, "deg", "latitude is -90..90 degrees, north positive")
 
 
-def check_rh(value, name="rh_pct", tol=3.0, error=RangeError):
+def check_rh(value, name="rh_pct", tol=3, error=RangeError):
     """Check a relative humidity in percent (0..100, accepting ``tol`` % beyond
     either end as sensor noise; the value is returned unchanged, not clamped)."""
-    x = as_finite(name, value, "%", error)
-    if x < -tol or x > 100.0 + tol:
-        return check_range(name, x, -tol, 100.0 + tol, "%", "relative humidity is in percent", error)
-    return x
+    return check_range(name, value, -tol, 100 + tol, "%", "relative humidity is in percent", error)
