@@ -25,7 +25,12 @@ from tinygeo.errors import RangeError, TinygeoError
 sys.path.insert(0, str(VECTORS))
 import gen_gravity as gen  # noqa: E402
 
-ELLS = [("WGS84", WGS84, P._WGS84), ("GRS80", GRS80, P._GRS80)]
+def _rows(text):
+    # potential keeps each table as text: rows separated by ";", numbers by spaces
+    return [[float(x) for x in row.split()] for row in text.split(";")]
+
+
+ELLS = [("WGS84", WGS84, _rows(P._WGS84)), ("GRS80", GRS80, _rows(P._GRS80))]
 LATS = [0.0, 7.5, 15.0, 22.5, 30.0, 37.5, 45.0, 52.5, 60.0, 67.5, 75.0, 82.5, 90.0]
 HEIGHTS = [-1000.0, -500.0, 0.0, 1.0, 1000.0, 5000.0, 11000.0, 20000.0, 35000.0, 50000.0,
            65000.0, 80000.0, 90000.0, 100000.0]

@@ -7,7 +7,9 @@ Usage (from the repository root):
 
 What is copied: module-level assignments whose value is a number, a
 negation, an arithmetic expression of numbers only (e.g. 1.0 / 298.257223563),
-or a (nested) tuple of those; the keyword arguments of the ``Ellipsoid(...)``
+or a (nested) tuple of those; a string of number literals with rows
+separated by ";" (potential's series tables), as a tuple of tuples would be;
+the keyword arguments of the ``Ellipsoid(...)``
 calls of constants.py; strings and bytes (as C strings); and tuples of
 strings (the checkpoint layout of column.py) as X-macro lists,
 NAME(X) -> X(a) X(b) ..., with the leading underscore of each name dropped. Names that depend on other names
@@ -81,7 +83,45 @@ def _is_str(node):
     return isinstance(node, ast.Constant) and isinstance(node.value, (str, bytes))
 
 
+def _number_rows(node):
+    # a string of number literals, rows separated by ";" (potential's series
+    # tables, kept as text there so that they take no RAM on a board): the
+    # rows as lists of literal texts, or None
+    if not (isinstance(node, ast.Constant) and isinstance(node.value, str) and ";" in node.value):
+        return None
+    rows = []
+    for r in node.value.split(";"):
+        row = []
+        for text in r.split():
+            try:
+                expr = ast.parse(text, mode="eval").body
+            except SyntaxError:
+                return None
+            if not _is_number_expr(expr):
+                return None
+            # as _c_number writes the same literal in a tuple: (-x)
+            row.append(text if isinstance(expr, ast.Constant) else "(" + text + ")")
+        rows.append(row)
+    return rows
+
+
+def _emit_rows(name, rows, lines):
+    width = max(len(r) for r in rows)
+    out = []
+    for r in rows:
+        items = ["TG_L(%s)" % x for x in r] + ["TG_L(0.0)"] * (width - len(r))
+        out.append("{ " + ", ".join(items) + " }")
+    lines.append("#define %s_ROWS %d" % (name, len(out)))
+    lines.append("#define %s_WIDTH %d" % (name, width))
+    lines.append("#define %s_LENS { %s }" % (name, ", ".join(str(len(r)) for r in rows)))
+    lines.append("#define %s { \\\n    %s }" % (name, ", \\\n    ".join(out)))
+
+
 def _emit_value(src, name, node, lines):
+    rows = _number_rows(node)
+    if rows is not None:
+        _emit_rows(name, rows, lines)
+        return True
     if _is_str(node):
         text = node.value.decode("ascii") if isinstance(node.value, bytes) else node.value
         assert all(32 <= ord(ch) < 127 and ch not in '"\\' for ch in text), text
@@ -109,16 +149,7 @@ def _emit_value(src, name, node, lines):
             return True
         if all(isinstance(e, ast.Tuple) and e.elts and all(_is_number_expr(x) for x in e.elts)
                for e in node.elts):
-            width = max(len(e.elts) for e in node.elts)
-            rows = []
-            for e in node.elts:
-                items = ["TG_L(%s)" % _c_number(src, x)[0] for x in e.elts]
-                items += ["TG_L(0.0)"] * (width - len(items))
-                rows.append("{ " + ", ".join(items) + " }")
-            lines.append("#define %s_ROWS %d" % (name, len(rows)))
-            lines.append("#define %s_WIDTH %d" % (name, width))
-            lines.append("#define %s_LENS { %s }" % (name, ", ".join(str(len(e.elts)) for e in node.elts)))
-            lines.append("#define %s { \\\n    %s }" % (name, ", \\\n    ".join(rows)))
+            _emit_rows(name, [[_c_number(src, x)[0] for x in e.elts] for e in node.elts], lines)
             return True
     return False
 

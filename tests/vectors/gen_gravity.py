@@ -190,9 +190,12 @@ def derive_coefficients(name):
 
 @_at_dps
 def format_tables(name, tables):
+    # the text form of tinygeo/potential.py: one string per ellipsoid, rows
+    # separated by ";", numbers by spaces
     lines = ["_%s = (" % name]
     for n, row in enumerate(tables):
-        lines.append("    (%s),  # D_%d" % (", ".join(mp.nstr(x, 17, min_fixed=1, max_fixed=0) for x in row), n + 1))
+        sep = ";" if n < len(tables) - 1 else ""
+        lines.append('    "%s%s"  # D_%d' % (" ".join(mp.nstr(x, 17, min_fixed=1, max_fixed=0) for x in row), sep, n + 1))
     lines.append(")")
     return "\n".join(lines)
 
