@@ -87,7 +87,7 @@ static TG_FLOAT thickness(TG_FLOAT p1, TG_FLOAT p2, TG_FLOAT t1, TG_FLOAT t2)
     return tg__layers_half_k_ln(p1, p2) * (t1 + t2);
 }
 
-/* layers._check_p */
+/* the pressure check of layers.py: check_p_pa(..., P_MIN_PA, P_MAX_PA) */
 static tg_status check_p(TG_FLOAT p)
 {
     return tg__check_p_pa(p, P_MIN_PA, P_MAX_PA, TG_RANGE);

@@ -31,7 +31,8 @@ static TG_FLOAT ex(TG_FLOAT t_k, int ice)
     return TG_EXP(AW * t / (BW + t));
 }
 
-/* moisture._es: Magnus form [WMO8], no checks (callers check t_k). Pa. */
+/* E0_PA * _ex(t_k, ice) of moisture.py (written out there at each use): Magnus
+ * form [WMO8], no checks (callers check t_k). Pa. */
 TG_FLOAT tg__moisture_es(TG_FLOAT t_k, int ice)
 {
     return E0_PA * ex(t_k, ice);

@@ -10,14 +10,14 @@
 #define GPH_MAX_M TGPY_POTENTIAL_GPH_MAX_M
 #define DEG TG_DEG                      /* _DEG = math.pi / 180.0 */
 
-/* potential._table: Python picks the table by ellipsoid.name; C uses the
+/* potential._coefs picks the table by ellipsoid.name; C uses the
  * pointer the ellipsoid carries (deliberate: no string compare). */
 static const tg_series *table(const tg_ellipsoid *ellipsoid)
 {
     return ellipsoid->series;
 }
 
-/* potential._poly: Horner in s, highest power first */
+/* the Horner loop of potential._coefs: in s, highest power first */
 static TG_FLOAT poly(const tg_series *tab, int row, TG_FLOAT s)
 {
     TG_FLOAT acc = TG_L(0.0);

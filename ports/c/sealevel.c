@@ -17,7 +17,8 @@
 #define FIELD_STEP_MAX_M TGPY_SEALEVEL_FIELD_STEP_MAX_M
 #define G_RD (TG_G0 / TG_RD)      /* _G_RD = G0 / RD */
 
-/* sealevel._tv: rh_pct NULL = None (dry air) */
+/* the virtual temperature step of sealevel.py (written out at its call
+ * sites there): rh_pct NULL = None (dry air) */
 static tg_status tv_of(TG_FLOAT t_k, TG_FLOAT p_pa, const TG_FLOAT *rh_pct, int ice, TG_FLOAT *out)
 {
     if (rh_pct == NULL) {

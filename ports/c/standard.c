@@ -16,11 +16,11 @@ typedef char tg__layers_are_7[(TGPY_STANDARD__H_BASE_N == 7 && TGPY_STANDARD__P_
 /* BOTTOM_GPH_M = R0_M * BOTTOM_Z_M / (R0_M + BOTTOM_Z_M) */
 #define BOTTOM_GPH_M (TG_R0_M * BOTTOM_Z_M / (TG_R0_M + BOTTOM_Z_M))
 #define G_RD (TG_G0 / TG_RD)      /* _G_RD = G0 / RD, K/gpm */
-#define RD_G (TG_RD / TG_G0)      /* _RD_G = RD / G0, gpm/K */
+#define RD_G (TG_RD / TG_G0)      /* RD / G0 of standard._altitude, gpm/K */
 
-/* standard._ln1p: ln(1 + x) for x > -1, Kahan's form x ln(u)/(u - 1) (Goldberg
- * 1991, Theorem 4); C99 has log1p, but the port keeps Python's form so both
- * round alike (deliberate). */
+/* the ln(1 + x) that standard.py writes out in _pressure/_altitude: x > -1,
+ * Kahan's form x ln(u)/(u - 1) (Goldberg 1991, Theorem 4); C99 has log1p, but
+ * the port keeps Python's form so both round alike (deliberate). */
 static TG_FLOAT ln1p(TG_FLOAT x)
 {
     TG_FLOAT u = TG_L(1.0) + x;
@@ -29,7 +29,7 @@ static TG_FLOAT ln1p(TG_FLOAT x)
     return x * TG_LOG(u) / (u - TG_L(1.0));
 }
 
-/* standard._ln_ratio: ln(a / b), a - b exact when a, b are close (Sterbenz) */
+/* ln(a / b) as standard.py writes it out: a - b exact when a, b are close (Sterbenz) */
 static TG_FLOAT ln_ratio(TG_FLOAT a, TG_FLOAT b)
 {
     return ln1p((a - b) / b);

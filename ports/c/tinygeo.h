@@ -23,7 +23,7 @@
  *   TG_MODEL_RANGE  the value lies outside the range the published model is
  *                   defined for (Python: ModelRangeError);
  *   TG_ELLIPSOID    an ellipsoid without a geopotential series (Python:
- *                   TinygeoError from potential._table);
+ *                   TinygeoError from potential._coefs);
  *   TG_READING      a column reading was rejected (Python: ReadingError; the
  *                   reason is stored in the column, see tg_column_feed);
  *   TG_STATE        a column method called in a state that does not allow it
