@@ -6,6 +6,8 @@
 //   node tests/wasm32/run.mjs [--heapsize BYTES] [--copy HOSTDIR:DIR]... [--cwd DIR]
 //                             SCRIPT.py [ARG...]
 //
+// --heapsize sets the first heap area only: this port adds heap areas on demand, so it is no
+// limit (measure memory with gc.mem_alloc() deltas, not by a heap too small to finish).
 // --copy copies the host folder HOSTDIR (recursively, without __pycache__) into the runtime's in-memory file
 // system at DIR; sys.path is ['', '.frozen', '/lib'], so "--copy build:/lib" makes the
 // packages in build/ importable. sys.argv is [SCRIPT, ARG...]. Exit status: 0 when the
