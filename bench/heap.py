@@ -151,6 +151,16 @@ def per_call(fn, n):
 _NODE_COL = Column(LAT_DEG, LAUNCH_HEIGHT_M)
 
 
+_LATS = [LAT_DEG, LAT_DEG + 0.5]
+
+
+def _two_latitudes():
+    # alternate between two latitudes: potential evaluates its series (reads
+    # its text tables) on every call, as for a Column's first node
+    _LATS.reverse()
+    return tinygeo.geometric_height(5000.0, _LATS[0])
+
+
 def breakdown():
     """(label, bytes per call) for the core functions one feed uses."""
     p0, p1, t1, rh = 90000.0, 89950.0, 279.9, 50.0
@@ -165,7 +175,9 @@ def breakdown():
         ("virtual_temperature_from_mixing_ratio(t, w)",
          per_call(lambda: tinygeo.virtual_temperature_from_mixing_ratio(t1, 0.005), 200)),
         ("errors.as_finite(name, x, unit)", per_call(lambda: errors.as_finite("p_pa", p1, "Pa"), 200)),
-        ("geometric_height(gph, lat) (column: first node only)",
+        ("geometric_height(gph, lat), a new latitude each call",
+         per_call(_two_latitudes, 10)),
+        ("geometric_height(gph, lat), the same latitude again",
          per_call(lambda: tinygeo.geometric_height(5000.0, LAT_DEG), 10)),
         ("Column height node after the first (every 3 km)",
          per_call(lambda: _NODE_COL._nodes(5000.0, 5004.0), 10)),
