@@ -951,15 +951,15 @@ def test_column_checkpoints_are_interchangeable_with_python(build):
     # impossible phase with a valid CRC
     import struct as _struct
     from tinygeo import column as _column
-    from tinygeo._column_rare import _crc
+    from tinygeo._column_rare import _crc, _HEAD_LEN
     body = bytearray(raw[:-4])
-    off = _column._HEAD_LEN + 8 * (len(_column._CFG_F) + len(_column._ST_F)) + \
+    off = _HEAD_LEN + 8 * (len(_column._CFG_F) + len(_column._ST_F)) + \
         4 * (len(_column._CFG_I) + list(_column._ST_I).index("phase"))
     body[off:off + 4] = _struct.pack("<i", 7)
     bad.append(bytes(body) + _struct.pack("<I", _crc(bytes(body))))
     # unknown ellipsoid code with a valid CRC
     body = bytearray(raw[:-4])
-    off = _column._HEAD_LEN + 8 * (len(_column._CFG_F) + len(_column._ST_F))
+    off = _HEAD_LEN + 8 * (len(_column._CFG_F) + len(_column._ST_F))
     body[off:off + 4] = _struct.pack("<i", 5)
     bad.append(bytes(body) + _struct.pack("<I", _crc(bytes(body))))
     cmds = (base[:k] + [("save", ())] + [("load", (b.hex(),)) for b in bad] + [("load", (py_blob,))]

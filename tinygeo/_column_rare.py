@@ -8,11 +8,11 @@ field-name tuples of the layout stay there).
 """
 import struct
 
-from .column import (_CFG_F, _CFG_I, _ST_F, _ST_I, _MAGIC, _VERSION, _HEAD, _HEAD_LEN,
-                     CHECKPOINT_BYTES, PH_LANDED, WMO_LAPSE_K_PER_GPM, _ZERO, _setting)
+from .column import (_CFG_F, _CFG_I, _ST_F, _ST_I, _MAGIC, _VERSION, _HEAD,
+                     CHECKPOINT_BYTES, PH_LANDED, WMO_LAPSE_K_PER_GPM)
 from .potential import _gph
 from .constants import WGS84, GRS80
-from .errors import TinygeoError, CheckpointError, _fmt
+from .errors import TinygeoError, CheckpointError, check_range, _fmt
 
 try:
     from binascii import crc32 as _crc32
@@ -20,6 +20,7 @@ try:
 except ImportError:  # pragma: no cover - firmware without binascii.crc32
     _HAVE_CRC32 = False
 
+_HEAD_LEN = struct.calcsize(_HEAD)
 _PAYLOAD = "<" + "d" * (len(_CFG_F) + len(_ST_F)) + "i" * (len(_CFG_I) + len(_ST_I))
 _PAYLOAD_LEN = struct.calcsize(_PAYLOAD)
 
@@ -59,12 +60,12 @@ def reanchor_gps(self, sigma_gps_m):
     if self.count == 0 or self._gps_n != self.count:
         raise TinygeoError("reanchor_gps(): the latest reading has no gps_m; feed a reading "
                            "with gps_m first")
-    sg = _setting("sigma_gps_m", sigma_gps_m, 0, 10000, "m")
+    sg = check_range("sigma_gps_m", sigma_gps_m, 0, 10000, "m")
     target = _gph(self.gps_m, self._pc, self.ellipsoid.a_m)
     d = target - self.gph_m
     old_h = self.height_m
     self.gph_m = target
-    self._c = _ZERO
+    self._c = 0.0
     for name in ("max_gph_m", "_g_t", "_min_gph", "_launch_gph", "_burst_line", "_tp_g",
                  "_tp_top", "_env_g"):
         setattr(self, name, getattr(self, name) + d)
@@ -74,12 +75,12 @@ def reanchor_gps(self, sigma_gps_m):
     self._h_tm = self._h_tm + (self.height_m - old_h)
     self.gps_diff_m = self.height_m - self.gps_m
     # uncertainty restarts here: the reading is the new (noisy) start
-    self._var_done = _ZERO
-    self._ct = _ZERO
-    self._tm2 = _ZERO
+    self._var_done = 0.0
+    self._ct = 0.0
+    self._tm2 = 0.0
     self._p_start = self.p_pa
-    self._sum_rh = _ZERO
-    self._sum_p = _ZERO
+    self._sum_rh = 0.0
+    self._sum_p = 0.0
     self._var_anchor = sg * sg
     return self.height_m - old_h
 
@@ -156,7 +157,7 @@ def from_bytes(cls, blob, on_event):
     return col
 
 
-def repr_(self):
+def __repr__(self):
     """Column.__repr__."""
     return "Column(lat_deg=%r, count=%d, p_pa=%r, gph_m=%r, phase=%d)" % (
         self.lat_deg, self.count, self.p_pa, self.gph_m, self.phase)

@@ -289,14 +289,17 @@ start pressure (_p_start) instead of version 1's -dz/dp and sum of dz/dTv;
 version 1 blobs are refused.
 """
 import math
-import struct
 
-from .potential import msl_height, GPH_MIN_M, GPH_MAX_M, _coefs, _gph, _geom, _newton
-from .layers import ln_ratio, _half_k_ln
-from .moisture import vapour_pressure, mixing_ratio, _q, _boiling, _tv_w, _ONE_M_EPS
-from .constants import G0, RD, WGS84, GRS80
-from .errors import (RangeError, ReadingError, check_lat, check_range, temperature_hint,
-                     pressure_hint, _fmt, _INF, _NINF)
+from .potential import msl_height, GPH_MIN_M, GPH_MAX_M, _gph, _geom, _newton
+from .layers import ln_ratio, _half_k_ln, _HALF_RG
+from .moisture import _q, _tv_w, _ONE_M_EPS
+from .constants import WGS84, GRS80
+from .errors import RangeError, ReadingError, _fmt, _INF, _NINF
+# What only the constructor or a rejection uses (check_lat, check_range, the
+# hints, potential._coefs, moisture._boiling, and vapour_pressure/mixing_ratio
+# for a held mixing ratio) is imported where it is used: fewer names in this
+# module's dict (on MicroPython a dict grows in steps; 59 names fit the step
+# below 73).
 
 # --- events, flags, phases ----------------------------------------------------
 EV_LEVEL = 1
@@ -337,13 +340,15 @@ WMO_DEPTH_GPM = 2000.0
 """2 km, the depth over which the WMO definition checks the mean lapse rate."""
 
 _NAN = float("nan")
-_setting = check_range     # a setting: a float in lo..hi (unit), else RangeError
-_ZERO = 0.0                # one shared object for every zero the column stores
-_KH = 0.5 * RD / G0        # half of Rd/g0, gpm/K
-_NODE_D = 1500.0           # m between the nodes of the height quadratic
-_NODE_W = 3000.0           # gpm: the quadratic is used within +-_NODE_W of its node
-_NODE_W2 = 6000.0          # gpm: and gives the start of the next node's Newton step within it
-_RH_SLOPE_MIN = 1.0        # %RH below which dTv/dRH is held, not recomputed
+# _HALF_RG (tinygeo.layers) = 0.5 * RD / G0: half of Rd/g0, gpm/K.
+# The zero the column stores is the literal 0.0 (equal float literals are one
+# object of the module's constant table, so every stored zero shares it).
+# Integral constants are ints: free on MicroPython (a float constant is a heap
+# object for the module's lifetime); every operation gives the same double.
+_NODE_D = 1500             # m between the nodes of the height quadratic
+_NODE_W = 3000             # gpm: the quadratic is used within +-_NODE_W of its node
+_NODE_W2 = 6000            # gpm: and gives the start of the next node's Newton step within it
+_RH_SLOPE_MIN = 1          # %RH below which dTv/dRH is held, not recomputed
 
 
 # --- checkpoint layout ----------------------------------------------------------
@@ -365,10 +370,9 @@ _ST_F = ("p_pa", "t_k", "tv_k", "rh_pct", "time_s", "gph_m", "_c", "height_m", "
 _ST_I = ("count", "rejected", "flags", "phase", "_lvl", "_burst_n", "_tp_state", "_gps_n")
 _MAGIC = b"TGCK"
 _VERSION = 3
-_HEAD = "<4sBH"            # magic, version, payload length
-_HEAD_LEN = struct.calcsize(_HEAD)
+_HEAD = "<4sBH"            # magic, version, payload length (7 bytes: _column_rare._HEAD_LEN)
 # header, the doubles ('<d') then the ints ('<i'), CRC-32 (no padding with '<')
-CHECKPOINT_BYTES = _HEAD_LEN + 8 * (len(_CFG_F) + len(_ST_F)) + 4 * (len(_CFG_I) + len(_ST_I)) + 4
+CHECKPOINT_BYTES = 7 + 8 * (len(_CFG_F) + len(_ST_F)) + 4 * (len(_CFG_I) + len(_ST_I)) + 4
 """Size of a checkpoint blob, bytes."""
 
 
@@ -398,6 +402,8 @@ class Column:
                  burst_drop_m=50, burst_readings=3, tropopause_max_p_pa=50000,
                  rh_tol_pct=3, track_sigma=True, on_event=None, geoid_undulation_m=None,
                  max_t_step_k=3, max_t_rate_k_s=1, max_t_gradient_k_m=0.1):
+        from .errors import check_lat, check_range, pressure_hint
+        from .potential import _coefs
         # --- settings (checked here; RangeError names the bad one)
         self.lat_deg = check_lat(lat_deg)
         if ellipsoid is WGS84 or getattr(ellipsoid, "name", None) == "WGS84":
@@ -417,35 +423,35 @@ class Column:
                                        else None)
         self.ice = bool(ice)
         self.dry_fallback = bool(dry_fallback)
-        self.sigma_p_pa = _setting("sigma_p_pa", sigma_p_pa, 0, 10000, "Pa")
-        self.sigma_t_k = _setting("sigma_t_k", sigma_t_k, 0, 50, "K")
-        self.sigma_rh_pct = _setting("sigma_rh_pct", sigma_rh_pct, 0, 100, "%")
-        self.bias_p_pa = _setting("bias_p_pa", bias_p_pa, 0, 10000, "Pa")
-        self.bias_t_k = _setting("bias_t_k", bias_t_k, 0, 50, "K")
-        self.bias_rh_pct = _setting("bias_rh_pct", bias_rh_pct, 0, 100, "%")
+        self.sigma_p_pa = check_range("sigma_p_pa", sigma_p_pa, 0, 10000, "Pa")
+        self.sigma_t_k = check_range("sigma_t_k", sigma_t_k, 0, 50, "K")
+        self.sigma_rh_pct = check_range("sigma_rh_pct", sigma_rh_pct, 0, 100, "%")
+        self.bias_p_pa = check_range("bias_p_pa", bias_p_pa, 0, 10000, "Pa")
+        self.bias_t_k = check_range("bias_t_k", bias_t_k, 0, 50, "K")
+        self.bias_rh_pct = check_range("bias_rh_pct", bias_rh_pct, 0, 100, "%")
         if max_rate_m_s is None:
             self._max_rate = _NAN
         else:
-            self._max_rate = _setting("max_rate_m_s", max_rate_m_s, 1, 10000, "m/s")
-        self.landing_s = _setting("landing_s", landing_s, 0, 1e6, "s")
-        self.landing_tol_pa = _setting("landing_tol_pa", landing_tol_pa, 0, 10000, "Pa")
-        self.launch_m = _setting("launch_m", launch_m, 0, 10000, "gpm")
-        self.burst_drop_m = _setting("burst_drop_m", burst_drop_m, 0, 100000, "gpm")
+            self._max_rate = check_range("max_rate_m_s", max_rate_m_s, 1, 10000, "m/s")
+        self.landing_s = check_range("landing_s", landing_s, 0, 1000000, "s")
+        self.landing_tol_pa = check_range("landing_tol_pa", landing_tol_pa, 0, 10000, "Pa")
+        self.launch_m = check_range("launch_m", launch_m, 0, 10000, "gpm")
+        self.burst_drop_m = check_range("burst_drop_m", burst_drop_m, 0, 100000, "gpm")
         if not isinstance(burst_readings, int) or burst_readings < 1 or burst_readings > 100000:
             raise RangeError("burst_readings=%s outside 1..100000 readings; pass an int"
                              % _fmt(burst_readings))
         self.burst_readings = burst_readings
-        self.tropopause_max_p_pa = _setting("tropopause_max_p_pa", tropopause_max_p_pa, 0,
+        self.tropopause_max_p_pa = check_range("tropopause_max_p_pa", tropopause_max_p_pa, 0,
                                             P_MAX_PA, "Pa")
-        self.rh_tol_pct = _setting("rh_tol_pct", rh_tol_pct, 0, 3, "%")
+        self.rh_tol_pct = check_range("rh_tol_pct", rh_tol_pct, 0, 3, "%")
         self.track_sigma = bool(track_sigma)
         if max_t_step_k is None:
             self._t_step = _NAN
         else:
-            self._t_step = _setting("max_t_step_k", max_t_step_k, 0, 100, "K")
+            self._t_step = check_range("max_t_step_k", max_t_step_k, 0, 100, "K")
         self._t_step_neg = -self._t_step        # derived, so feed builds no float for its check
-        self.max_t_rate_k_s = _setting("max_t_rate_k_s", max_t_rate_k_s, 0, 100, "K/s")
-        self.max_t_gradient_k_m = _setting("max_t_gradient_k_m", max_t_gradient_k_m, 0, 10, "K/m")
+        self.max_t_rate_k_s = check_range("max_t_rate_k_s", max_t_rate_k_s, 0, 100, "K/s")
+        self.max_t_gradient_k_m = check_range("max_t_gradient_k_m", max_t_gradient_k_m, 0, 10, "K/m")
         self.on_event = on_event
         if geoid_undulation_m is None:
             self._geoid_n = _NAN
@@ -456,7 +462,7 @@ class Column:
         # the geopotential series at this latitude, evaluated once (tinygeo.potential)
         self._pc = _coefs(self.lat_deg, self.ellipsoid)
         self._min_rate = -self._max_rate
-        self._spk2 = _KH * _KH * self.sigma_p_pa * self.sigma_p_pa   # (K/2 sigma_p)^2
+        self._spk2 = _HALF_RG * _HALF_RG * self.sigma_p_pa * self.sigma_p_pa   # (K/2 sigma_p)^2
         self._st2 = self.sigma_t_k * self.sigma_t_k
         # --- state: every int of _ST_I 0 (but _gps_n), every float of _ST_F
         # nan (but the zeros, which share one float)
@@ -465,8 +471,8 @@ class Column:
         self._gps_n = -1
         for n in _ST_F:
             setattr(self, n, _NAN)
-        self._c = self._var_done = self._ct = self._tm2 = self._s2 = _ZERO
-        self._sum_rh = self._sum_p = self._slope = self._var_anchor = _ZERO
+        self._c = self._var_done = self._ct = self._tm2 = self._s2 = 0.0
+        self._sum_rh = self._sum_p = self._slope = self._var_anchor = 0.0
 
     # ------------------------------------------------------------------ feed
     def feed(self, p_pa, t_k, rh_pct=None, time_s=None, gps_m=None):
@@ -480,34 +486,38 @@ class Column:
         ``rejected`` for a bad reading. Formulas: see the module docstring.
         """
         # ---- 1. check the values (nothing is written before step 3)
+        # (the messages, by number, are in _bad)
         p = self._num(p_pa, "p_pa", "Pa")
         if not P_MIN_PA <= p <= P_MAX_PA:
-            self._out("pressure", "p_pa", p_pa, P_MIN_PA, P_MAX_PA, "Pa", pressure_hint(p))
+            from .errors import pressure_hint
+            hint = pressure_hint(p)
+            self._bad("pressure", 1, "p_pa", _fmt(p_pa), P_MIN_PA, P_MAX_PA, "Pa",
+                      "; " + hint if hint else "")
         t = self._num(t_k, "t_k", "K")
         if not T_MIN_K <= t <= T_MAX_K:
-            self._out("temperature", "t_k", t_k, T_MIN_K, T_MAX_K, "K", temperature_hint(t))
+            from .errors import temperature_hint
+            hint = temperature_hint(t)
+            self._bad("temperature", 1, "t_k", _fmt(t_k), T_MIN_K, T_MAX_K, "K",
+                      "; " + hint if hint else "")
         if rh_pct is not None:
             rh = self._num(rh_pct, "rh_pct", "%")
-            if rh < 0.0 or rh > 100.0:     # floats are built only out here (rare)
+            if rh < 0 or rh > 100:     # floats are built only out here (rare)
                 tol = self.rh_tol_pct
-                if rh < -tol or rh > 100.0 + tol:
-                    self._out("humidity", "rh_pct", rh_pct, -tol, 100.0 + tol, "%",
-                              "percent, not a 0..1 fraction (None if unknown)")
+                if rh < -tol or rh > 100 + tol:
+                    self._bad("humidity", 2, _fmt(rh_pct), -tol, 100 + tol)
         if time_s is not None:
             ts = self._num(time_s, "time_s", "s")
             if ts < self._t_last:
-                self._bad("time", "time_s=%s before the previous %r s; time must not decrease "
-                          "(clock reset? new Column)" % (_fmt(time_s), self._t_last))
+                self._bad("time", 3, _fmt(time_s), self._t_last)
         if gps_m is not None:
             gps = self._num(gps_m, "gps_m", "m")
             if self._geoid_n == self._geoid_n:
                 try:
                     gps = msl_height(gps, self._geoid_n)
                 except RangeError as e:
-                    self._bad("gps", "gps_m=%s (ellipsoidal): %s" % (_fmt(gps_m), e))
+                    self._bad("gps", 4, _fmt(gps_m), e)
             if not GPS_MIN_M <= gps <= GPS_MAX_M:
-                self._out("gps", "gps_m", gps_m, GPS_MIN_M, GPS_MAX_M, "m",
-                          "above sea level; ellipsoidal? set geoid_undulation_m")
+                self._bad("gps", 5, _fmt(gps_m), GPS_MIN_M, GPS_MAX_M)
 
         # ---- 2. compute the new state in locals
         flags = 0
@@ -518,9 +528,9 @@ class Column:
             q = _q(t, p, self.ice)
             r = rh * q
             if r >= _ONE_M_EPS:
-                self._bad("humidity", "rh_pct=%s at t_k=%r, p_pa=%r: %s"
-                          % (_fmt(rh_pct), t, p, _boiling(r * p / _ONE_M_EPS, p)))
-            tv = t / (1.0 - r)
+                from .moisture import _boiling
+                self._bad("humidity", 6, _fmt(rh_pct), t, p, _boiling(r * p / _ONE_M_EPS, p))
+            tv = t / (1 - r)
             if rh >= _RH_SLOPE_MIN:
                 slope = tv * q
             else:
@@ -539,15 +549,14 @@ class Column:
                         if self._h_rh <= 0.0:
                             w = 0.0
                         else:
+                            from .moisture import vapour_pressure, mixing_ratio
                             w = mixing_ratio(vapour_pressure(self._h_t, self._h_p, self._h_rh,
                                                              self.ice), self._h_p)
                     except RangeError as e:
                         # e >= p at the rounding edge of feed's r < 1 - eps test
-                        self._bad("humidity", "rh_pct=None: no mixing ratio to hold (%s); %s"
-                                  % (e, "pass rh_pct or set dry_fallback=True"))
-                if w > 1.0:
-                    self._bad("humidity", "rh_pct=None: held mixing ratio %r outside 0..1 kg/kg; %s"
-                              % (w, "pass rh_pct or set dry_fallback=True"))
+                        self._bad("humidity", 7, e)
+                if w > 1:
+                    self._bad("humidity", 8, w)
                 tv = _tv_w(t, w)                # tinygeo.virtual_temperature_from_mixing_ratio
                 flags = FL_HELD_MIXING
         t0 = self.t_k
@@ -577,8 +586,7 @@ class Column:
             else:
                 # the range tinygeo.layer_thickness accepts for Tv (checked here,
                 # not by calling it, so nothing below runs with dz unset)
-                self._bad("temperature", "virtual temperature %r (t_k=%r, p_pa=%r) outside %g..%g K; "
-                          "check the units" % (tv, t, p, T_MIN_K, T_MAX_K))
+                self._bad("temperature", 9, tv, t, p, T_MIN_K, T_MAX_K)
             if p > p0:
                 flags |= FL_DESCENT
             # classic Kahan step: c carries the part of the sum lost so far
@@ -593,8 +601,7 @@ class Column:
             if time_s is not None and self._t_last == self._t_last:
                 allow += self.max_t_rate_k_s * (ts - self._t_last)
             if abs(dtk) > allow:
-                self._bad("temperature", "t_k=%s jumps %+.1f K from %r K, over the %.1f K allowed; "
-                          "glitch? (max_t_step_k=None: no check)" % (_fmt(t_k), dtk, t0, allow))
+                self._bad("temperature", 10, _fmt(t_k), dtk, t0, allow)
         # geometric height from the node pair (new nodes are kept in locals until the commit)
         if self._n_lo <= g <= self._n_hi:
             nodes = None
@@ -616,14 +623,12 @@ class Column:
             dt = ts - self._t_last
             if dt == 0.0:
                 if g != self._g_t:
-                    self._bad("time", "time_s=%s repeated but the column moved %.3g gpm; time "
-                              "must increase" % (_fmt(time_s), g - self._g_t))
+                    self._bad("time", 11, _fmt(time_s), g - self._g_t)
                 rate = _NAN     # a duplicate: the rate stays as it was
             else:
                 rate = (h - self._h_tm) / dt
                 if rate > self._max_rate or rate < self._min_rate:
-                    self._bad("rate", "p_pa=%s gives %.1f m/s over %.3g s, beyond max_rate_m_s=%g; "
-                              "glitch, or wrong unit/time" % (_fmt(p_pa), rate, dt, self._max_rate))
+                    self._bad("rate", 12, _fmt(p_pa), rate, dt, self._max_rate)
         else:
             rate = _NAN
 
@@ -664,8 +669,32 @@ class Column:
             self.gps_m = gps
             self.gps_diff_m = h - gps
             self._gps_n = self.count
-        if self.track_sigma:
-            self._sigma_step(first, p0, p, tm2, a, slope)
+        if not self.track_sigma:
+            pass
+        elif first and p0 != p0:
+            # Streaming first-order propagation (module docstring, "Uncertainty");
+            # tm2 = Tv0 + Tv, a = (Rd/g0)/2 ln(p0/p) = dz/dTv of either end.
+            # The first reading: no layer yet; its sensitivities are all 0 so far
+            self._s2 = self._st2 + (slope * self.sigma_rh_pct) ** 2
+            self._p_start = p
+        else:
+            if first:
+                # anchored start: the anchor is exact, the first reading is both ends
+                self._ct = a + a
+                self._p_start = p0
+            else:
+                # final sensitivities of the previous reading: dz_n/dp = _HALF_RG pco,
+                # dz_n/dTv = ct (its slope's share of the humidity bias: ct slope)
+                pco = (tm2 - self._tm2) / p0
+                ct = self._ct + a
+                self._var_done += ct * ct * self._s2 + pco * pco * self._spk2
+                self._sum_p += pco
+                self._sum_rh += ct * self._slope
+                self._ct = a
+            self._tm2 = tm2
+            if first or slope != self._slope:
+                sr = slope * self.sigma_rh_pct
+                self._s2 = self._st2 + sr * sr
         self._slope = slope
 
         # ---- 4. events
@@ -754,15 +783,32 @@ class Column:
         else:
             v = _NAN
         if v != v or v == _INF or v == _NINF:   # comparisons allocate nothing
-            self._bad("number", "%s=%s is not a finite number; pass one in %s" % (name, _fmt(x), unit))
+            self._bad("number", 0, name, _fmt(x), unit)
         return v
 
-    def _out(self, reason, name, x, lo, hi, unit, hint):
-        # a value outside lo..hi: name, value, range with unit, hint
-        self._bad(reason, "%s=%s outside %g..%g %s%s" % (name, _fmt(x), lo, hi, unit,
-                                                       "; " + hint if hint else ""))
-
-    def _bad(self, reason, msg):
+    def _bad(self, reason, i, *args):
+        # count the rejection and raise ReadingError(message i % args, reason).
+        # The messages are one text, "|"-separated: on MicroPython every string
+        # constant with a space is an object in RAM for the module's lifetime,
+        # one text is one object (its characters stay in flash with ROMFS or
+        # frozen bytecode); split only here, when a reading is rejected.
+        msg = ("%s=%s is not a finite number; pass one in %s"          # 0 name, value, unit
+               "|%s=%s outside %g..%g %s%s"                              # 1 name, value, lo, hi, unit, "; hint"
+               "|rh_pct=%s outside %g..%g %%; percent, not a 0..1 fraction (None if unknown)"
+               "|time_s=%s before the previous %r s; time must not decrease "
+               "(clock reset? new Column)"                               # 3
+               "|gps_m=%s (ellipsoidal): %s"                             # 4
+               "|gps_m=%s outside %g..%g m; above sea level; ellipsoidal? set geoid_undulation_m"
+               "|rh_pct=%s at t_k=%r, p_pa=%r: %s"                       # 6
+               "|rh_pct=None: no mixing ratio to hold (%s); pass rh_pct or set dry_fallback=True"
+               "|rh_pct=None: held mixing ratio %r outside 0..1 kg/kg; pass rh_pct or set "
+               "dry_fallback=True"                                       # 8
+               "|virtual temperature %r (t_k=%r, p_pa=%r) outside %g..%g K; check the units"
+               "|t_k=%s jumps %+.1f K from %r K, over the %.1f K allowed; glitch? "
+               "(max_t_step_k=None: no check)"                           # 10
+               "|time_s=%s repeated but the column moved %.3g gpm; time must increase"
+               "|p_pa=%s gives %.1f m/s over %.3g s, beyond max_rate_m_s=%g; glitch, or "
+               "wrong unit/time").split("|")[i] % args                   # 12
         self.rejected += 1
         raise ReadingError(msg, reason)
 
@@ -782,39 +828,13 @@ class Column:
         else:
             h = _geom(g, c, a)
         d = _NODE_D
-        if h + 2.0 * d > GPH_MAX_M:
+        if h + 2 * d > GPH_MAX_M:
             d = -d
         ga = _gph(h + d, c, a)
-        gb = _gph(h + 2.0 * d, c, a)
+        gb = _gph(h + 2 * d, c, a)
         sa = d / (ga - g)               # divided differences of h over gph (Newton form)
         k2 = (d / (gb - ga) - sa) / (gb - g)
         return (g, h, sa - k2 * (ga - g), k2, g - _NODE_W, g + _NODE_W)
-
-    def _sigma_step(self, first, p0, p, tm2, a, slope):
-        # Streaming first-order propagation (module docstring, "Uncertainty").
-        # tm2 = Tv0 + Tv, a = (Rd/g0)/2 ln(p0/p) = dz/dTv of either end.
-        if first and p0 != p0:
-            # the first reading: no layer yet; its sensitivities are all 0 so far
-            self._s2 = self._st2 + (slope * self.sigma_rh_pct) ** 2
-            self._p_start = p
-            return
-        if first:
-            # anchored start: the anchor is exact, the first reading is both ends
-            self._ct = a + a
-            self._p_start = p0
-        else:
-            # final sensitivities of the previous reading: dz_n/dp = _KH pco,
-            # dz_n/dTv = ct (its slope's share of the humidity bias: ct slope)
-            pco = (tm2 - self._tm2) / p0
-            ct = self._ct + a
-            self._var_done += ct * ct * self._s2 + pco * pco * self._spk2
-            self._sum_p += pco
-            self._sum_rh += ct * self._slope
-            self._ct = a
-        self._tm2 = tm2
-        if first or slope != self._slope:
-            sr = slope * self.sigma_rh_pct
-            self._s2 = self._st2 + sr * sr
 
     def _levels(self, p0, p, g0, g, t0, t):
         # report every mandatory level in [p, p0) not reported yet (ascent only)
@@ -893,21 +913,22 @@ class Column:
         """Systematic part of the 1-sigma height uncertainty, m (gpm)."""
         if self.count == 0 or not self.track_sigma:
             return _NAN
-        return math.sqrt(self._bias_var())
+        # (Rd/g0) ln(p0/p) dT: the sum of dz/dTv over all readings telescopes
+        bt = 2 * _half_k_ln(self._p_start, self.p_pa) * self.bias_t_k
+        bh = (self._sum_rh + self._ct * self._slope) * self.bias_rh_pct
+        bp = _HALF_RG * (self._sum_p - self._tm2 / self.p_pa) * self.bias_p_pa
+        return math.sqrt(bt * bt + bh * bh + bp * bp + self._var_anchor)
 
     @property
     def sigma_m(self):
         """Total 1-sigma height uncertainty, m (gpm): random and systematic
         parts added in squares."""
         r = self.sigma_random_m
-        return math.sqrt(r * r + self._bias_var())
-
-    def _bias_var(self):
-        # (Rd/g0) ln(p0/p) dT: the sum of dz/dTv over all readings telescopes
-        bt = 2.0 * _half_k_ln(self._p_start, self.p_pa) * self.bias_t_k
+        # the systematic variance, as in sigma_bias_m
+        bt = 2 * _half_k_ln(self._p_start, self.p_pa) * self.bias_t_k
         bh = (self._sum_rh + self._ct * self._slope) * self.bias_rh_pct
-        bp = _KH * (self._sum_p - self._tm2 / self.p_pa) * self.bias_p_pa
-        return bt * bt + bh * bh + bp * bp + self._var_anchor
+        bp = _HALF_RG * (self._sum_p - self._tm2 / self.p_pa) * self.bias_p_pa
+        return math.sqrt(r * r + (bt * bt + bh * bh + bp * bp + self._var_anchor))
 
     # ------------------------------------------------------------ GPS
     def reanchor_gps(self, sigma_gps_m=10):
@@ -950,6 +971,6 @@ class Column:
         return 0 if self.ellipsoid is WGS84 else 1
 
     def __repr__(self):
-        from ._column_rare import repr_
-        return repr_(self)
+        from ._column_rare import __repr__
+        return __repr__(self)
 
