@@ -54,10 +54,12 @@ from tinygeo.column import Column                    # noqa: E402
 from flightsim import SimulatedFlight, LAUNCH_HEIGHT_M  # noqa: E402
 
 LAT_DEG = 48.2
-FEED_BUDGET = 2048
 # bytes per GC block: 4 words (32 on the 64-bit unix runtime, 16 on a 32-bit
 # build such as the WebAssembly port run by tests/wasm32/run.mjs)
 BLOCK = 32 if sys.maxsize > 2 ** 32 else 16
+# the budget: 2048 B on the 64-bit unix runtime, i.e. 64 float-sized blocks,
+# which is 1024 B on a 32-bit build
+FEED_BUDGET = 64 * BLOCK
 LONG_RUN = 100000
 
 
