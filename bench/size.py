@@ -87,6 +87,7 @@ import gc
 import sys
 image = sys.argv[1]
 alloc = sys.argv[2] == "alloc"
+qstrs = sys.argv[2] == "qstr"
 names = sys.argv[3:]
 if image != "-":
     import vfs
@@ -114,6 +115,9 @@ _scrub(90)
 gc.collect()
 gc.collect()
 print("in_use", gc.mem_alloc())
+if qstrs:
+    import micropython
+    micropython.qstr_info()
 """
 
 
@@ -177,7 +181,7 @@ def _run_probe(runtime, where, names, rom, alloc):
         script = os.path.join(tmp, "_probe.py")
         with open(script, "w") as f:
             f.write(_PROBE)
-        tail = ["alloc" if alloc else "-"] + list(names)
+        tail = [("qstr" if alloc == "qstr" else "alloc") if alloc else "-"] + list(names)
         if runtime == "u64":
             env = dict(os.environ, MICROPYPATH="/nonexistent" if rom else where)
             cmd = [tool("micropython"), script, where if rom else "-"] + tail
@@ -193,7 +197,17 @@ def _run_probe(runtime, where, names, rom, alloc):
         shutil.rmtree(tmp)
     if p.returncode != 0 or "in_use" not in p.stdout:
         raise SystemExit("import under %s failed:\n%s%s" % (runtime, p.stdout, p.stderr))
-    return dict((k, int(v)) for k, v in (line.split() for line in p.stdout.split("\n") if line.strip()))
+    got = {}
+    for line in p.stdout.split("\n"):
+        if line.startswith("qstr pool:"):
+            # "qstr pool: n_pool=4, n_qstr=223, n_str_data_bytes=2442, n_total_bytes=4666"
+            for item in line.split(":", 1)[1].split(","):
+                k, v = item.strip().split("=")
+                got[k] = int(v)
+        elif line.strip():
+            k, v = line.split()
+            got[k] = int(v)
+    return got
 
 
 _BASE = {}
@@ -210,6 +224,16 @@ def probe(runtime, where, names, rom=False, alloc=False):
         _BASE[key] = _run_probe(runtime, where, [], rom, False)["in_use"]
     got = _run_probe(runtime, where, names, rom, alloc)
     return got["in_use"] - _BASE[key], got.get("allocated")
+
+
+def qstr_figures(image, names):
+    """New qstrs, their pools' bytes and the names' text bytes when ``names``
+    are imported from the ROMFS image on the 32-bit runtime
+    (``micropython.qstr_info()``, minus a run that imports nothing)."""
+    a = _run_probe("w32", image, [], True, "qstr")
+    b = _run_probe("w32", image, names, True, "qstr")
+    return (b["n_qstr"] - a["n_qstr"], b["n_total_bytes"] - a["n_total_bytes"],
+            b["n_str_data_bytes"] - a["n_str_data_bytes"])
 
 
 def module_name(f):
@@ -322,11 +346,18 @@ def main():
             figures[label] = row
             print("   %-36s %9d %9d %9d %9d" % ((label,) + row))
         # the 32-bit runtime's figures move a little with the import order (its
-        # collector scans the C stack conservatively): the core in four orders
-        orders = [core_mods, core_mods[::-1], core_mods[1::2] + core_mods[::2],
-                  core_mods[::2][::-1] + core_mods[1::2]]
-        spread = [probe("w32", image, o, rom=True)[0] for o in orders]
-        print("   core, w32 ROMFS, in four import orders: %s B" % ", ".join(str(v) for v in spread))
+        # collector scans the C stack conservatively): each set in four orders
+        spreads = {}
+        for label, names in sets:
+            orders = [names, names[::-1], names[1::2] + names[::2], names[::2][::-1] + names[1::2]]
+            spreads[label] = [probe("w32", image, o, rom=True)[0] for o in orders]
+            print("   %s, w32 ROMFS, in four import orders: %s B" % (
+                label.split(" (")[0], ", ".join(str(v) for v in spreads[label])))
+        spread = spreads[sets[0][0]]
+        for label, names in sets[:2]:
+            q = qstr_figures(image, names)
+            print("   %s, w32 ROMFS: %d new qstrs; qstr_info total %d B, %d B of it the names' text" % (
+                label.split(" (")[0], q[0], q[1], q[2]))
         r_py, a_py = probe("u64", src_dir, core_mods, alloc=True)
         r_mpy, a_mpy = probe("u64", plain_dir, core_mods, alloc=True)
         print("   core from .py source (u64): retained %d B; allocated during the import with the" % r_py)
@@ -348,38 +379,33 @@ def main():
             now = probe("u64", plain_dir, order[:i + 1])[0]
             print("   %-24s %9d %6d" % (name, now, now - prev))
             prev = now
-        print("   (not given for w32: there the same prefixes give steps of -0.9..+6 KB, not additive,")
-        print("   while whole sets in any import order agree within 0.2 KB; see 2.)")
+        print("   (not given for w32: prefixes of the load order are not additive there; whole sets")
+        print("   are, within the spread over import orders shown in 2.)")
 
         print("")
         print("4. smallest heap (8 KB steps) in which the example logger ports/micropython/main.py")
         print("   --step 5 completes the whole simulated flight (core, simulated sensor, checkpoints):")
-        # (u64 only: the WebAssembly port grows its heap on demand, so -X heapsize is no limit there)
-        for label, runtime, where in (("u64, core as .mpy", "u64", plain_dir), ("u64, core as .py", "u64", src_dir)):
-            kb = smallest_heap_kb(runtime, where, tmp)
-            print("   %-18s %s" % (label, ("%d KB" % kb) if kb else "more than 512 KB"))
+        # (u64 only: the WebAssembly port grows its heap on demand, so a heap size is no limit there)
+        for label, where in (("u64, package as .mpy", plain_dir), ("u64, package as .py", src_dir)):
+            kb = smallest_heap_kb(where, tmp)
+            print("   %-21s %s" % (label, ("%d KB" % kb) if kb else "more than 512 KB"))
     finally:
         shutil.rmtree(tmp)
     return 0
 
 
-def smallest_heap_kb(runtime, path_dir, tmp):
-    """Smallest heap, KB in 8 KB steps up to 512, in which main.py finishes."""
-    port = os.path.join(ROOT, "ports", "micropython")
-    main_py = os.path.join(port, "main.py")
+def smallest_heap_kb(path_dir, tmp):
+    """Smallest heap, KB in 8 KB steps up to 512, in which main.py finishes
+    on the unix runtime with the package from ``path_dir``."""
+    main_py = os.path.join(ROOT, "ports", "micropython", "main.py")
     for kb in range(16, 513, 8):
         work = os.path.join(tmp, "work")
         if os.path.exists(work):
             shutil.rmtree(work)
         os.makedirs(work)
-        if runtime == "u64":
-            p = subprocess.run([tool("micropython"), "-X", "heapsize=%dK" % kb, main_py, "--step", "5",
-                                "--checkpoint", os.path.join(work, "heap.ckpt")], capture_output=True,
-                               text=True, env=dict(os.environ, MICROPYPATH=path_dir), cwd=work)
-        else:
-            p = subprocess.run(["node", WASM32_RUN, "--heapsize", str(kb * 1024), "--copy", path_dir + ":/lib",
-                                "--copy", port + ":/app", "--cwd", "/app", main_py, "--step", "5",
-                                "--checkpoint", "/app/heap.ckpt"], capture_output=True, text=True)
+        p = subprocess.run([tool("micropython"), "-X", "heapsize=%dK" % kb, main_py, "--step", "5",
+                            "--checkpoint", os.path.join(work, "heap.ckpt")], capture_output=True,
+                           text=True, env=dict(os.environ, MICROPYPATH=path_dir), cwd=work)
         if p.returncode == 0 and "summary" in p.stdout:
             return kb
     return None

@@ -70,6 +70,13 @@ def core_set():
 
 
 # --------------------------------------------------------------- install files
+def test_make_package_refuses_unknown_options():
+    # an unknown option or stray argument must not fall through to "rewrite both files"
+    for argv in (["--bogus"], ["extra"], ["--rom-dir"], ["--serve-dir", "--mpy"]):
+        assert make_package.main(argv) == 2, argv
+    assert make_package.main(["--help"]) == 0
+
+
 def test_generated_files_are_current():
     assert make_package.stale() == [], "run: python ports/micropython/make_package.py"
 
@@ -400,9 +407,9 @@ def test_example_runs_from_a_romfs_image_built_by_mpremote(tmp_path, full_runs):
     require_micropython()
     mpremote = shutil.which("mpremote") or str(pathlib.Path(sys.executable).with_name("mpremote"))
     tree = tmp_path / "tree"
-    for rel in core_set():
-        (tree / rel).parent.mkdir(parents=True, exist_ok=True)
-        shutil.copyfile(ROOT / rel, tree / rel)
+    written = make_package.build_rom_dir(str(tree))     # make_package.py --rom-dir
+    assert sorted(written) == sorted(core_set())
+    assert sorted(os.listdir(tree)) == ["tinygeo"]
     image = tmp_path / "tinygeo.romfs"
     p = subprocess.run([mpremote, "romfs", "-o", str(image), "build", str(tree)],
                        capture_output=True, text=True, timeout=120)

@@ -1,12 +1,17 @@
 """The library on a 32-bit MicroPython, compared with CPython.
 
 The MicroPython unix runtime of the other runtime tests is a 64-bit build.
-Boards are 32-bit (4-byte words, 16-byte GC blocks, small ints of 31 bits),
-and the only 32-bit MicroPython this host can run is the WebAssembly port
-(npm ``@micropython/micropython-webassembly-pyscript``, MicroPython 1.29,
-double-precision floats) under Node.js, driven by ``tests/wasm32/run.mjs``.
-Here every shared vector file, every tests/mp/ script and the MicroPython
-example logger run on it and agree with CPython as in test_micropython.py.
+Boards are 32-bit (4-byte words, 16-byte GC blocks), and the only 32-bit
+MicroPython this host can run is the WebAssembly port (npm
+``@micropython/micropython-webassembly-pyscript``, MicroPython 1.29,
+double-precision floats, unlike most boards' single precision: the float32
+behaviour is tested by emulation, tests/floatemu.py) under Node.js, driven by
+``tests/wasm32/run.mjs``. Here every shared vector file, every tests/mp/
+script and the MicroPython example logger run on it and agree with CPython
+within the tolerances of test_micropython.py (4 ulps for the vectors; the
+checkpoint CRC is not compared, see below), the logger also from a ROMFS
+image built by ``mpremote romfs build`` (the bytecode-in-flash case of the
+import budget).
 bench/size.py and bench/heap.py use the same runtime for the 32-bit memory
 figures.
 """
@@ -26,7 +31,7 @@ def test_runtime_is_32_bit_micropython():
     require_wasm32()
     probe = ROOT / "tests" / "wasm32" / "probe_word.py"
     out = run_wasm32(probe).split()
-    # name, small-int limit (2**30 - 1 on a 32-bit build), GC block bytes
+    # name, sys.maxsize (2**31 - 1 on a 32-bit build), heap bytes of one float
     assert out[0] == "micropython"
     assert int(out[1]) == 2 ** 31 - 1
     assert int(out[2]) == 16, "a float should take one 16-byte GC block on 32 bits"
@@ -76,3 +81,42 @@ def test_example_logger_same_as_cpython(tmp_path):
     assert_same_output(cp, mp)
     summary = mp.strip().splitlines()[-1].split()
     assert summary[:5] == ["summary", "accepted", "1580", "rejected", "1"], summary
+
+
+def test_example_logger_from_a_romfs_image(tmp_path):
+    # the package as a ROMFS image built by mpremote, mounted with vfs.VfsRom
+    # on the 32-bit runtime, nothing else of tinygeo on the module path
+    require_wasm32()
+    import shutil
+    import subprocess
+    from test_ports import MAIN, STEP, assert_same_output, make_package, run_main
+    mpremote = shutil.which("mpremote") or str(ROOT / ".venv" / "bin" / "mpremote")
+    tree = tmp_path / "tree"
+    make_package.build_rom_dir(str(tree))      # make_package.py --rom-dir
+    img = tmp_path / "img"
+    img.mkdir()
+    p = subprocess.run([mpremote, "romfs", "-o", str(img / "tinygeo.romfs"), "build", str(tree)],
+                       capture_output=True, text=True, timeout=120)
+    assert p.returncode == 0, p.stdout + p.stderr
+    boot = tmp_path / "boot_rom.py"
+    boot.write_text(
+        "import sys, vfs\n"
+        "f = open('/img/tinygeo.romfs', 'rb')\n"
+        "vfs.mount(vfs.VfsRom(f.read()), '/rom')\n"
+        "f.close()\n"
+        "sys.path[:] = ['/rom', '/app']\n"
+        "import tinygeo.column\n"
+        "assert tinygeo.column.__file__ == '/rom/tinygeo/column.mpy', tinygeo.column.__file__\n"
+        "import main\n"
+        "main.run(main.options(sys.argv[1:]))\n")
+    (tmp_path / "cp").mkdir()
+    (tmp_path / "mp").mkdir()
+    cp = run_main(sys.executable, tmp_path / "cp")
+    node = shutil.which("node") or "node"
+    from conftest import WASM32_RUN
+    p = subprocess.run([node, str(WASM32_RUN), "--copy", "%s:/img" % img, "--copy", "%s:/app" % MAIN.parent,
+                        "--copy", "%s:/work" % (tmp_path / "mp"), "--cwd", "/app", str(boot),
+                        "--step", STEP, "--checkpoint", "/work/tg.ckpt"],
+                       capture_output=True, text=True, timeout=180)
+    assert p.returncode == 0, p.stdout + p.stderr
+    assert_same_output(cp, p.stdout)

@@ -9,7 +9,7 @@ computer has it mounted over USB.
 Drive layout (``python ports/circuitpython/build_lib.py`` builds it)::
 
     CIRCUITPY/code.py                 this file
-    CIRCUITPY/lib/tinygeo/*.py|.mpy   the core modules
+    CIRCUITPY/lib/tinygeo/*.py|.mpy   the package modules
     CIRCUITPY/lib/flightsim.py        sensor adapter + simulated flight (demo)
     CIRCUITPY/lib/logbook.py          checkpoints and printed lines
 

@@ -1,6 +1,6 @@
 """tinygeo example logger for MicroPython: sensor -> Column -> live heights, events, checkpoints.
 
-On a board: install the core (``mpremote mip install ports/micropython/package.json``),
+On a board: install the package (``mpremote mip install ports/micropython/package.json``),
 copy this file with ``flightsim.py`` and ``logbook.py`` to the board's root
 (``mpremote cp main.py flightsim.py logbook.py :``), and reset. On the host,
 with the unix MicroPython runtime (or CPython), from the repository root::

@@ -1,6 +1,6 @@
-"""(Re)generate the MicroPython install files from the list of core modules.
+"""(Re)generate the MicroPython install files from the list of package modules.
 
-The core is every ``.py`` file under ``tinygeo/`` except the host tools
+The device package is every ``.py`` file under ``tinygeo/`` except the host tools
 (``tinygeo/host/``) and ``tinygeo/__main__.py``: those need CPython and are
 never installed on a device. This script writes, next to itself:
 
@@ -9,7 +9,7 @@ never installed on a device. This script writes, next to itself:
   folder) to a URL relative to ``package.json`` itself (``../../tinygeo/...``),
   so no hosting URL is baked in. ``mpremote mip install`` reads relative URLs
   as paths on the computer it runs on.
-- ``manifest.py`` for freezing the core into firmware with MicroPython's
+- ``manifest.py`` for freezing the package into firmware with MicroPython's
   manifest syntax (``metadata()`` and ``package(..., files=..., base_path=...)``).
 
 Usage (CPython, from anywhere)::
@@ -17,6 +17,7 @@ Usage (CPython, from anywhere)::
     python ports/micropython/make_package.py            # rewrite both files
     python ports/micropython/make_package.py --check    # exit 1 if either is stale
     python ports/micropython/make_package.py --serve-dir build/mip [--mpy]
+    python ports/micropython/make_package.py --rom-dir build/rom
 
 ``--serve-dir`` builds a self-contained folder (``package.json`` + copies of the
 core files, or ``.mpy`` files compiled by ``mpy-cross`` with ``--mpy``) that a
@@ -24,8 +25,14 @@ board can install from over HTTP with ``mip.install("http://HOST:PORT/package.js
 while ``python -m http.server`` serves that folder; its URLs have no ``..``
 because plain HTTP servers do not all resolve dot segments.
 
-tests/test_ports.py runs ``--check`` and a real ``mip.install`` from a
-``--serve-dir`` folder under the MicroPython unix runtime.
+``--rom-dir`` writes a folder holding only ``tinygeo/`` (the package files) for
+``mpremote romfs deploy build/rom`` (or ``mpremote romfs -o tinygeo.romfs
+build build/rom``): the package in a board's ROMFS partition, compiled to
+``.mpy`` by mpremote, its bytecode run in place from flash.
+
+tests/test_ports.py runs ``--check``, a real ``mip.install`` from a
+``--serve-dir`` folder under the MicroPython unix runtime, and the example
+logger from a ROMFS image of a ``--rom-dir`` folder.
 """
 import json
 import os
@@ -172,17 +179,54 @@ def build_serve_dir(dest, mpy=False, mpy_cross="mpy-cross", root=ROOT):
     return written
 
 
+def build_rom_dir(dest, root=ROOT):
+    """Write ``dest/tinygeo/...``: a copy of the package files and nothing else,
+    the folder ``mpremote romfs build``/``deploy`` takes. Returns the paths
+    written, relative to ``dest``."""
+    if os.path.isdir(dest):
+        shutil.rmtree(dest)
+    written = []
+    for f in core_files(root):
+        out = os.path.join(dest, f)
+        os.makedirs(os.path.dirname(out), exist_ok=True)
+        shutil.copyfile(os.path.join(root, f), out)
+        written.append(f)
+    return written
+
+
+_OPTIONS = ("--check", "--serve-dir", "--mpy", "--rom-dir")
+
+
 def main(argv):
+    if "-h" in argv or "--help" in argv:
+        print(__doc__.split("Usage (CPython, from anywhere)::")[1].split("``--serve-dir``")[0].strip("\n"))
+        return 0
+    for i, a in enumerate(argv):
+        if a.startswith("-") and a not in _OPTIONS:
+            print("unknown option %s (python ports/micropython/make_package.py --help)" % a)
+            return 2
+        if not a.startswith("-") and (i == 0 or argv[i - 1] not in ("--serve-dir", "--rom-dir")):
+            print("unexpected argument %s (python ports/micropython/make_package.py --help)" % a)
+            return 2
+    if "--rom-dir" in argv:
+        i = argv.index("--rom-dir")
+        if i + 1 >= len(argv) or argv[i + 1].startswith("-"):
+            print("--rom-dir needs a folder")
+            return 2
+        written = build_rom_dir(argv[i + 1])
+        print("wrote %d modules to %s/tinygeo; then: mpremote romfs deploy %s" % (
+            len(written), argv[i + 1], argv[i + 1]))
+        return 0
     if "--check" in argv:
         bad = stale()
         if bad:
             print("stale (run python ports/micropython/make_package.py): " + ", ".join(bad))
             return 1
-        print("package.json and manifest.py list the %d core modules" % len(core_files()))
+        print("package.json and manifest.py list the %d package modules" % len(core_files()))
         return 0
     if "--serve-dir" in argv:
         i = argv.index("--serve-dir")
-        if i + 1 >= len(argv):
+        if i + 1 >= len(argv) or argv[i + 1].startswith("-"):
             print("--serve-dir needs a folder")
             return 2
         written = build_serve_dir(argv[i + 1], mpy="--mpy" in argv)
