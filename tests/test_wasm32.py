@@ -37,6 +37,28 @@ def test_runtime_is_32_bit_micropython():
     assert int(out[2]) == 16, "a float should take one 16-byte GC block on 32 bits"
 
 
+@pytest.mark.parametrize("code,status,err", [
+    ("x = 1\n", 0, ""),
+    ("import sys\nsys.exit(4)\n", 4, ""),
+    ("raise SystemExit('bad option --x')\n", 1, "bad option --x"),
+    ("raise SystemExit(True)\n", 1, ""),
+    ("raise SystemExit\n", 0, ""),
+    ("raise ValueError('broken')\n", 1, "ValueError: broken"),
+])
+def test_runner_exit_status_as_cpython(tmp_path, code, status, err):
+    # run_wasm32 trusts the exit status: an abort must never read as success
+    require_wasm32()
+    import shutil
+    import subprocess
+    from conftest import WASM32_RUN
+    script = tmp_path / "s.py"
+    script.write_text(code)
+    p = subprocess.run([shutil.which("node") or "node", str(WASM32_RUN), str(script)],
+                       capture_output=True, text=True, timeout=60)
+    assert p.returncode == status, (p.returncode, p.stdout, p.stderr)
+    assert err in p.stderr
+
+
 @pytest.mark.parametrize("path", FILES, ids=lambda p: p.name)
 def test_vectors_agree_with_cpython(path):
     require_wasm32()

@@ -51,7 +51,7 @@ def __getattr__(name):
         return a
     # " name " in the table: its module is the last "module:" before it
     i = _WHERE.find(" " + name + " ")
-    if i < 1 or ":" in name:
+    if i < 1 or ":" in name or " " in name:
         if not name.startswith("__"):
             # a submodule (``from . import standard`` asks the package first on
             # MicroPython)

@@ -74,7 +74,8 @@ def check_range(name, value, lo, hi, unit, hint=None, error=RangeError):
 
     The message is ``"<name>=<value> outside <lo>..<hi> <unit>"`` followed by
     ``"; <hint>"`` when a hint is given. ``hint`` is a string, or a function
-    of the rejected float that returns one (or None)."""
+    of the rejected float that returns a string or None (called only when
+    the value is rejected; it must not raise)."""
     x = as_finite(name, value, unit, error)
     if x < lo or x > hi:
         if callable(hint):

@@ -106,14 +106,15 @@ _LAST = [None]  # type: list
 
 
 def _coefs(lat_deg, ellipsoid):
-    # The series evaluated at one latitude, once: a list of 12 floats,
+    # The series evaluated at one latitude, once: a tuple of 12 floats,
     # D_1(s) .. D_6(s) then 1*D_1(s) .. 6*D_6(s) (the slope's coefficients),
     # s = sin^2(lat). No checks (callers check). The same values, operation for
     # operation, as evaluating the polynomials at every use, so results built
     # on them are bit-identical; a Column keeps one such list for its latitude.
     # The list of the last call is kept and returned again for the same
     # latitude and ellipsoid (a station or buoy calling geopotential_height
-    # at its one latitude reads the text tables once). Callers never modify it.
+    # at its one latitude reads the text tables once); a tuple, so no caller
+    # can change what the next one gets.
     last = _LAST[0]
     if last is not None and last[0] == lat_deg and last[1] is ellipsoid:
         return last[2]
@@ -139,8 +140,9 @@ def _coefs(lat_deg, ellipsoid):
         c.append(acc)
     for i in range(6):
         c.append((i + 1) * c[i])
-    _LAST[0] = (lat_deg, ellipsoid, c)
-    return c
+    out = tuple(c)              # shared by every caller (and the cache): read-only
+    _LAST[0] = (lat_deg, ellipsoid, out)
+    return out
 
 
 def _gph(h, c, a):

@@ -12,13 +12,15 @@
 // system at DIR; sys.path is ['', '.frozen', '/lib'], so "--copy build:/lib" makes the
 // packages in build/ importable. sys.argv is [SCRIPT, ARG...]. Exit status: 0 when the
 // script ran to its end or raised SystemExit(0 or None); SystemExit(n) gives n; any other
-// uncaught exception prints its traceback on stderr and gives 1.
+// uncaught exception prints its traceback on stderr and gives 1. SystemExit("message")
+// prints the message on stderr and gives 1, as CPython does.
 //
 // The script is run in parts, cut at every line that reads exactly "#: next call" (a comment
 // elsewhere), one runPython call per part in the same interpreter. gc.collect() here frees
 // only what the calls before the current one left: the collector scans the current call's
 // whole C stack conservatively, so garbage made in the same call is kept alive. A script
-// that measures retained heap collects at the start of a part.
+// that measures retained heap collects at the start of a part. Line numbers in a traceback
+// count from the start of the part, not of the file.
 import fs from "node:fs";
 import path from "node:path";
 import url from "node:url";
@@ -71,8 +73,15 @@ try {
 } catch (error) {
   if (error.name !== "PythonError") throw error;
   if (error.type === "SystemExit") {
-    const m = /SystemExit:?\s*(-?\d+)?/.exec(error.message);
-    status = m && m[1] ? parseInt(m[1], 10) : 0;
+    // as CPython: no value or None -> 0, an int -> that int, False/True -> 0/1,
+    // anything else (a message) -> printed on stderr, status 1
+    const lines = error.message.trimEnd().split("\n");
+    const last = lines[lines.length - 1];
+    const value = last.startsWith("SystemExit:") ? last.slice("SystemExit:".length).trim() : "";
+    if (value === "" || value === "None" || value === "False") status = 0;
+    else if (value === "True") status = 1;
+    else if (/^-?\d+$/.test(value)) status = parseInt(value, 10);
+    else { process.stderr.write(value + "\n"); status = 1; }
   } else {
     process.stderr.write(error.message);
     status = 1;
