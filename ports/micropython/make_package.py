@@ -227,14 +227,18 @@ def main(argv):
         if not a.startswith("-") and (i == 0 or argv[i - 1] not in ("--serve-dir", "--rom-dir")):
             print("unexpected argument %s (python ports/micropython/make_package.py --help)" % a)
             return 2
-    if "--rom-dir" in argv:
-        i = argv.index("--rom-dir")
-        if i + 1 >= len(argv) or argv[i + 1].startswith("-"):
-            print("--rom-dir needs a folder")
-            return 2
-        written = build_rom_dir(argv[i + 1])
-        print("wrote %d modules to %s/tinygeo; then: mpremote romfs deploy %s" % (
-            len(written), argv[i + 1], argv[i + 1]))
+    folders = {}
+    for opt in ("--rom-dir", "--serve-dir"):
+        if opt in argv:
+            i = argv.index(opt)
+            if i + 1 >= len(argv) or argv[i + 1].startswith("-"):
+                print("%s needs a folder" % opt)
+                return 2
+            folders[opt] = argv[i + 1]
+    if "--rom-dir" in folders:
+        dest = folders["--rom-dir"]
+        written = build_rom_dir(dest)
+        print("wrote %d modules to %s/tinygeo; then: mpremote romfs deploy %s" % (len(written), dest, dest))
         return 0
     if "--check" in argv:
         bad = stale()
@@ -243,13 +247,10 @@ def main(argv):
             return 1
         print("package.json and manifest.py list the %d package modules" % len(core_files()))
         return 0
-    if "--serve-dir" in argv:
-        i = argv.index("--serve-dir")
-        if i + 1 >= len(argv) or argv[i + 1].startswith("-"):
-            print("--serve-dir needs a folder")
-            return 2
-        written = build_serve_dir(argv[i + 1], mpy="--mpy" in argv)
-        print("wrote %d modules and package.json to %s" % (len(written), argv[i + 1]))
+    if "--serve-dir" in folders:
+        dest = folders["--serve-dir"]
+        written = build_serve_dir(dest, mpy="--mpy" in argv)
+        print("wrote %d modules and package.json to %s" % (len(written), dest))
         return 0
     for path, text in sorted(wanted().items()):
         with open(path, "w") as f:
