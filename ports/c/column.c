@@ -34,7 +34,7 @@ typedef char tg__mandatory_16[TGPY_COLUMN_MANDATORY_PA_N == 16 ? 1 : -1];
 #define WMO_DEPTH_GPM TGPY_COLUMN_WMO_DEPTH_GPM
 #define GPH_MIN_M TGPY_POTENTIAL_GPH_MIN_M
 #define GPH_MAX_M TGPY_POTENTIAL_GPH_MAX_M
-#define KH (TG_L(0.5) * TG_RD / TG_G0)   /* _KH = 0.5 * RD / G0, gpm/K */
+#define KH (TG_L(0.5) * TG_RD / TG_G0)   /* layers._HALF_RG = 0.5 * RD / G0, gpm/K */
 #define NODE_D TGPY_COLUMN__NODE_D
 #define NODE_W TGPY_COLUMN__NODE_W
 #define NODE_W2 TGPY_COLUMN__NODE_W2
@@ -89,7 +89,7 @@ void tg_column_config_defaults(tg_column_config *cfg, TG_FLOAT lat_deg)
     cfg->max_t_gradient_k_m = TG_L(0.1);
 }
 
-/* column._setting = check_range */
+/* the settings' check: errors.check_range, as Column.__init__ calls it */
 #define SETTING(x, lo, hi) TG_TRY(tg__check_range((x), TG_L(lo), TG_L(hi), TG_RANGE))
 
 static tg_status init_checked(tg_column *col, const tg_column_config *cfg, TG_FLOAT *out)
@@ -223,7 +223,7 @@ tg_status tg_column_init(tg_column *col, const tg_column_config *cfg)
 
 /* ------------------------------------------------------------ helpers */
 
-/* column._held_mixing_ratio: mixing ratio of the latest reading that had a
+/* the held mixing ratio of Column.feed (written out there): mixing ratio of the latest reading that had a
  * humidity, kg/kg. That reading passed feed's r < 1 - eps, the same bound as
  * e < p up to rounding, so these checked calls fail only at that knife edge
  * (then feed rejects the reading with reason 'humidity', as Python does). */
@@ -281,7 +281,7 @@ static void nodes(const tg_column *col, TG_FLOAT g, TG_FLOAT guess, nodes_t *nd)
     nd->hi = g + NODE_W;
 }
 
-/* column._set_nodes */
+/* the node commit of Column.feed (written out there) */
 static void set_nodes(tg_column *col, const nodes_t *nd)
 {
     col->n_g = nd->g;
@@ -292,7 +292,8 @@ static void set_nodes(tg_column *col, const nodes_t *nd)
     col->n_hi = nd->hi;
 }
 
-/* column._sigma_step: streaming first-order propagation; tm2 = Tv0 + Tv,
+/* the uncertainty step of Column.feed (written out there): streaming
+ * first-order propagation; tm2 = Tv0 + Tv,
  * a = (Rd/g0)/2 ln(p0/p) = dz/dTv of either end */
 static void sigma_step(tg_column *col, int first, TG_FLOAT p0, TG_FLOAT p, TG_FLOAT tm2, TG_FLOAT a,
                        TG_FLOAT slope)
@@ -406,7 +407,7 @@ static tg_status bad(tg_column *col, tg_reason reason, int *bits)
     return TG_READING;
 }
 
-/* column._t_jump: the full temperature-step allowance, only for a change
+/* the temperature-step check of Column.feed (written out there): the full allowance, only for a change
  * beyond max_t_step_k; 1 if the step exceeds it (Python: _bad('temperature')) */
 static int t_jump(const tg_column *col, TG_FLOAT dtk, TG_FLOAT dz, TG_FLOAT ts)
 {
