@@ -71,12 +71,16 @@ def require_wasm32():
     pytest.skip("32-bit MicroPython not installed (npm ci --prefix tests/wasm32; needs node)")
 
 
-def run_wasm32(script, args=(), copies=(), heapsize=None, cwd=None, timeout=180):
+def run_wasm32(script, args=(), copies=(), heapsize=None, cwd=None, timeout=180, package=True,
+               check=True):
     """Run ``script`` (a host path) on the 32-bit MicroPython WebAssembly port
-    with ``tinygeo/`` importable; ``copies`` are extra (host folder, runtime
-    folder) pairs copied into its in-memory file system. Returns stdout;
-    fails with both streams on a non-zero exit."""
-    cmd = [shutil.which("node") or "node", str(WASM32_RUN), "--copy", "%s:/lib/tinygeo" % (ROOT / "tinygeo")]
+    with ``tinygeo/`` importable from /lib (unless ``package`` is false);
+    ``copies`` are extra (host folder, runtime folder) pairs copied into its
+    in-memory file system. Returns stdout, failing with both streams on a
+    non-zero exit; with ``check=False``, the CompletedProcess."""
+    cmd = [shutil.which("node") or "node", str(WASM32_RUN)]
+    if package:
+        cmd += ["--copy", "%s:/lib/tinygeo" % (ROOT / "tinygeo")]
     for host, inside in copies:
         cmd += ["--copy", "%s:%s" % (host, inside)]
     if heapsize:
@@ -85,25 +89,10 @@ def run_wasm32(script, args=(), copies=(), heapsize=None, cwd=None, timeout=180)
         cmd += ["--cwd", cwd]
     cmd += [str(script)] + [str(a) for a in args]
     p = subprocess.run(cmd, capture_output=True, text=True, timeout=timeout)
+    if not check:
+        return p
     assert p.returncode == 0, "%s failed (rc=%d):\n%s\n%s" % (cmd, p.returncode, p.stdout, p.stderr)
     return p.stdout
-
-@pytest.fixture(autouse=True)
-def _mpmath_precision():
-    """Every test starts with mpmath at 40 significant digits and cannot leak a
-    change of the global precision into the next test (tests that need more or
-    less set it themselves)."""
-    try:
-        import mpmath
-    except ImportError:  # pragma: no cover - mpmath is a dev dependency
-        yield
-        return
-    old = mpmath.mp.dps
-    mpmath.mp.dps = 40
-    try:
-        yield
-    finally:
-        mpmath.mp.dps = old
 
 
 def check_vector_through_module(case, funcs):

@@ -400,22 +400,23 @@ def test_example_runs_on_mpy_files_only(tmp_path, full_runs):
 
 
 
-def test_example_runs_from_a_romfs_image_built_by_mpremote(tmp_path, full_runs):
-    # The low-RAM deployment bench/size.py measures (bytecode in flash): the
-    # package as a ROMFS image built by mpremote's own builder, mounted with
-    # vfs.VfsRom, nothing of tinygeo on the module path but the image.
-    require_micropython()
+def build_romfs_image(tree, image):
+    """A ``make_package.py --rom-dir`` folder at ``tree``, packed by mpremote's
+    own builder (compiling to .mpy) into the ROMFS image ``image``."""
     mpremote = shutil.which("mpremote") or str(pathlib.Path(sys.executable).with_name("mpremote"))
-    tree = tmp_path / "tree"
     written = make_package.build_rom_dir(str(tree))     # make_package.py --rom-dir
     assert sorted(written) == sorted(core_set())
     assert sorted(os.listdir(tree)) == ["tinygeo"]
-    image = tmp_path / "tinygeo.romfs"
     p = subprocess.run([mpremote, "romfs", "-o", str(image), "build", str(tree)],
                        capture_output=True, text=True, timeout=120)
-    assert p.returncode == 0 and image.exists(), p.stdout + p.stderr
-    boot = tmp_path / "boot_rom.py"
-    boot.write_text(
+    assert p.returncode == 0 and os.path.exists(image), p.stdout + p.stderr
+
+
+def romfs_boot_script(path, image, app_dir):
+    """Write a script that mounts ``image`` at /rom with vfs.VfsRom, leaves only
+    /rom and ``app_dir`` (main.py's folder) on the module path, checks that
+    tinygeo comes from the image and runs main.py with the script's arguments."""
+    path.write_text(
         "import sys, vfs\n"
         "f = open(%r, 'rb')\n"
         "vfs.mount(vfs.VfsRom(f.read()), '/rom')\n"
@@ -424,10 +425,22 @@ def test_example_runs_from_a_romfs_image_built_by_mpremote(tmp_path, full_runs):
         "import tinygeo.column\n"
         "assert tinygeo.column.__file__ == '/rom/tinygeo/column.mpy', tinygeo.column.__file__\n"
         "import main\n"
-        "main.run(main.options(sys.argv[1:]))\n" % (str(image), str(MP_PORT)))
+        "main.run(main.options(sys.argv[1:]))\n" % (str(image), str(app_dir)))
+
+
+def test_example_runs_from_a_romfs_image_built_by_mpremote(tmp_path, full_runs):
+    # The low-RAM deployment bench/size.py measures (bytecode in flash): the
+    # package as a ROMFS image built by mpremote's own builder, mounted with
+    # vfs.VfsRom, nothing of tinygeo on the module path but the image.
+    require_micropython()
+    image = tmp_path / "tinygeo.romfs"
+    build_romfs_image(tmp_path / "tree", image)
+    boot = tmp_path / "boot_rom.py"
+    romfs_boot_script(boot, image, MP_PORT)
     out = run_script(MICROPYTHON, [boot, "--step", STEP, "--checkpoint", str(tmp_path / "tg.ckpt")],
                      cwd=tmp_path, extra_env={"MICROPYPATH": "/nonexistent"})
     assert_same_output(full_runs["micropython"], out)
+
 
 # --------------------------------------------------------------- CircuitPython
 @pytest.fixture(scope="module")

@@ -48,13 +48,9 @@ def test_runtime_is_32_bit_micropython():
 def test_runner_exit_status_as_cpython(tmp_path, code, status, err):
     # run_wasm32 trusts the exit status: an abort must never read as success
     require_wasm32()
-    import shutil
-    import subprocess
-    from conftest import WASM32_RUN
     script = tmp_path / "s.py"
     script.write_text(code)
-    p = subprocess.run([shutil.which("node") or "node", str(WASM32_RUN), str(script)],
-                       capture_output=True, text=True, timeout=60)
+    p = run_wasm32(script, package=False, check=False, timeout=60)
     assert p.returncode == status, (p.returncode, p.stdout, p.stderr)
     assert err in p.stderr
 
@@ -109,36 +105,16 @@ def test_example_logger_from_a_romfs_image(tmp_path):
     # the package as a ROMFS image built by mpremote, mounted with vfs.VfsRom
     # on the 32-bit runtime, nothing else of tinygeo on the module path
     require_wasm32()
-    import shutil
-    import subprocess
-    from test_ports import MAIN, STEP, assert_same_output, make_package, run_main
-    mpremote = shutil.which("mpremote") or str(ROOT / ".venv" / "bin" / "mpremote")
-    tree = tmp_path / "tree"
-    make_package.build_rom_dir(str(tree))      # make_package.py --rom-dir
+    from test_ports import (MAIN, STEP, assert_same_output, build_romfs_image, romfs_boot_script,
+                            run_main)
     img = tmp_path / "img"
     img.mkdir()
-    p = subprocess.run([mpremote, "romfs", "-o", str(img / "tinygeo.romfs"), "build", str(tree)],
-                       capture_output=True, text=True, timeout=120)
-    assert p.returncode == 0, p.stdout + p.stderr
+    build_romfs_image(tmp_path / "tree", img / "tinygeo.romfs")
     boot = tmp_path / "boot_rom.py"
-    boot.write_text(
-        "import sys, vfs\n"
-        "f = open('/img/tinygeo.romfs', 'rb')\n"
-        "vfs.mount(vfs.VfsRom(f.read()), '/rom')\n"
-        "f.close()\n"
-        "sys.path[:] = ['/rom', '/app']\n"
-        "import tinygeo.column\n"
-        "assert tinygeo.column.__file__ == '/rom/tinygeo/column.mpy', tinygeo.column.__file__\n"
-        "import main\n"
-        "main.run(main.options(sys.argv[1:]))\n")
+    romfs_boot_script(boot, "/img/tinygeo.romfs", "/app")
     (tmp_path / "cp").mkdir()
     (tmp_path / "mp").mkdir()
     cp = run_main(sys.executable, tmp_path / "cp")
-    node = shutil.which("node") or "node"
-    from conftest import WASM32_RUN
-    p = subprocess.run([node, str(WASM32_RUN), "--copy", "%s:/img" % img, "--copy", "%s:/app" % MAIN.parent,
-                        "--copy", "%s:/work" % (tmp_path / "mp"), "--cwd", "/app", str(boot),
-                        "--step", STEP, "--checkpoint", "/work/tg.ckpt"],
-                       capture_output=True, text=True, timeout=180)
-    assert p.returncode == 0, p.stdout + p.stderr
-    assert_same_output(cp, p.stdout)
+    mp = run_wasm32(boot, ["--step", STEP, "--checkpoint", "/work/tg.ckpt"], package=False,
+                    copies=[(img, "/img"), (MAIN.parent, "/app"), (tmp_path / "mp", "/work")], cwd="/app")
+    assert_same_output(cp, mp)
