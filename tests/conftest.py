@@ -95,6 +95,24 @@ def run_wasm32(script, args=(), copies=(), heapsize=None, cwd=None, timeout=180,
     return p.stdout
 
 
+@pytest.fixture(autouse=True)
+def _mpmath_precision():
+    """Every test starts with mpmath at 40 significant digits and cannot leak a
+    change of the global precision into the next test (tests that need more or
+    less set it themselves)."""
+    try:
+        import mpmath
+    except ImportError:  # pragma: no cover - mpmath is a dev dependency
+        yield
+        return
+    old = mpmath.mp.dps
+    mpmath.mp.dps = 40
+    try:
+        yield
+    finally:
+        mpmath.mp.dps = old
+
+
 def check_vector_through_module(case, funcs):
     """A shared vector case evaluated through the module function in ``funcs``
     lies within the case's tolerance of its expected value."""
