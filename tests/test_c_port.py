@@ -393,19 +393,19 @@ def test_tables_not_stale():
 
 
 def test_layers_ln_tiers_not_stale():
-    """The |d| tiers of layers._ln_tiers (literals inside a function, which the
+    """The |d| tiers of layers.ln_tiers (literals inside a function, which the
     table generator does not read) are the ones in ports/c/layers.c."""
     import re
     from tinygeo import layers
     with open(os.path.join(PORT, "layers.c")) as f:
         src = f.read()
     for flag in (True, False):
-        tag = "_ln_tiers(%s)" % flag
+        tag = "ln_tiers(%s)" % flag
         d2 = re.search(r"TIER_D2\[3\] = \{([^}]*)\};\s*/\* " + re.escape(tag), src).group(1)
         m = re.search(r"TIER_M\[3\] = \{([^}]*)\};\s*/\* " + re.escape(tag), src).group(1)
         c_d2 = tuple(float(x) for x in re.findall(r"TG_L\(([^)]*)\)", d2))
         c_m = tuple(int(x) for x in m.split(","))
-        assert (c_d2, c_m) == layers._ln_tiers(flag), (tag, c_d2, c_m)
+        assert (c_d2, c_m) == layers.ln_tiers(flag), (tag, c_d2, c_m)
 
 
 def test_shared_vectors_double(build):

@@ -92,10 +92,10 @@ def test_inverse_against_exact_potential(name, ell, tab, references):
 def test_first_coefficient_is_somigliana():
     # d gph/dh at h = 0 is gamma_0/g0: D_1(s) + 1 against Somigliana with the
     # published gamma_e, k (TR8350.2 Table 3.4, Moritz 1980); 1e-10 relative
-    # (D_1(s) is the first entry of potential._coefs)
+    # (D_1(s) is the first entry of potential.series)
     for _, ell, tab in ELLS:
         for lat in LATS:
-            assert abs((1.0 + P._coefs(lat, ell)[0]) * G0 - G.somigliana_gravity(lat, ell)) < 1e-9
+            assert abs((1.0 + P.series(lat, ell)[0]) * G0 - G.somigliana_gravity(lat, ell)) < 1e-9
 
 
 def test_consistent_with_normal_gravity():

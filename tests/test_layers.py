@@ -78,15 +78,15 @@ F32_ULP_CASES = [1.0 + 1e-6, 1.0 - 1e-6, 1.0 + 1e-5, 1.0 + 1e-4, 1.0 - 1e-3, 1.0
 
 
 def test_ln_ratio_float32(monkeypatch):
-    """The module's own _lnr run on numpy.float32 numbers with the float32
+    """The module's own lnr run on numpy.float32 numbers with the float32
     term count: every + - * / is rounded to float32 (numpy >= 2 keeps Python
     float constants weak). math.log in the other branch runs in double and is
     rounded to float32 afterwards (a board's logf adds up to ~1 ulp more)."""
     assert int(np.__version__.split(".")[0]) >= 2
-    monkeypatch.setattr(layers, "_LN_C", layers._ln_coefs(layers.LN_TERMS_F32))
-    d2s, ms = layers._ln_tiers(True)
-    monkeypatch.setattr(layers, "_TIER_D2", d2s)
-    monkeypatch.setattr(layers, "_TIER_M", ms)
+    monkeypatch.setattr(layers, "LN_C", layers.ln_coefs(layers.LN_TERMS_F32))
+    d2s, ms = layers.ln_tiers(True)
+    monkeypatch.setattr(layers, "TIER_D2", d2s)
+    monkeypatch.setattr(layers, "TIER_M", ms)
     rnd = np.random.default_rng(20261201)
     # include the thin layers of the truncated tiers (|d| up to 1e-2, 5e-2)
     ratios = F32_ULP_CASES + [1.0 + x for x in (1e-5, 1e-4, 1.9e-3, 2.1e-3, 1.99e-2, 2.01e-2, 0.099, 0.101)] + list(np.exp(rnd.uniform(-3.0, 3.0, 500))) + list(1.0 + rnd.uniform(-0.3, 0.3, 500))
@@ -97,7 +97,7 @@ def test_ln_ratio_float32(monkeypatch):
             p2 = np.float32(p2f)
             if p1 == p2:
                 continue
-            got = layers._lnr(p1, p2)
+            got = layers.lnr(p1, p2)
             if not isinstance(got, np.float32):
                 got = np.float32(got)
             ref = mpmath.log(mpmath.mpf(float(p1)) / mpmath.mpf(float(p2)))
@@ -122,11 +122,11 @@ def test_series_truncation_budget():
     s = layers.LN_SWITCH
     for n, u in ((layers.LN_TERMS_F32, 2.0 ** -24), (layers.LN_TERMS_F64, 2.0 ** -53)):
         d = mpmath.mpf(s)
-        c = layers._ln_coefs(n)
+        c = layers.ln_coefs(n)
         acc = mpmath.mpf(0)
         for ck in c:
             acc = acc * d * d + ck
-        series = d * (2 + d * d * acc)   # _ln_coefs holds 2/(2k+1), highest first
+        series = d * (2 + d * d * acc)   # ln_coefs holds 2/(2k+1), highest first
         exact = 2 * mpmath.atanh(d)
         assert abs((series - exact) / exact) < 0.1 * u
         assert len(c) == n - 1

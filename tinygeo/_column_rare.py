@@ -10,9 +10,9 @@ import struct
 
 from .column import (_CFG_F, _CFG_I, _ST_F, _ST_I, _MAGIC, _VERSION, _HEAD,
                      CHECKPOINT_BYTES, PH_LANDED, WMO_LAPSE_K_PER_GPM)
-from .potential import _gph
+from .potential import gph_series
 from .constants import WGS84, GRS80
-from .errors import TinygeoError, CheckpointError, check_range, _fmt
+from .errors import TinygeoError, CheckpointError, check_range, quote
 
 try:
     from binascii import crc32 as _crc32
@@ -61,7 +61,7 @@ def reanchor_gps(self, sigma_gps_m):
         raise TinygeoError("reanchor_gps(): the latest reading has no gps_m; feed a reading "
                            "with gps_m first")
     sg = check_range("sigma_gps_m", sigma_gps_m, 0, 10000, "m")
-    target = _gph(self.gps_m, self._pc, self.ellipsoid.a_m)
+    target = gph_series(self.gps_m, self._pc, self.ellipsoid.a_m)
     d = target - self.gph_m
     old_h = self.height_m
     self.gph_m = target
@@ -106,7 +106,7 @@ def from_bytes(cls, blob, on_event):
         blob = bytes(blob)
     except (TypeError, ValueError):
         raise CheckpointError("checkpoint is %s, not bytes; pass what to_bytes() returned"
-                              % _fmt(blob))
+                              % quote(blob))
     n = len(blob)
     if n < _HEAD_LEN + 4:
         raise CheckpointError("checkpoint of %d bytes is too short (a blob has %d); truncated?"

@@ -9,8 +9,8 @@ calls the core modules for every formula: ``tinygeo.moisture`` (virtual
 temperature), ``tinygeo.layers`` (thickness of the layer between two
 readings, stable ln(p1/p2)) and ``tinygeo.potential`` (geopotential height of
 the start, geometric height of the column). Having checked a reading itself,
-it uses their unchecked internal forms (moisture._q, layers._half_k_ln,
-potential._gph/_geom with the latitude's series evaluated once): the same
+it uses their unchecked internal forms (moisture.rh_q, layers.half_k_ln,
+potential.gph_series/height_series with the latitude's series evaluated once): the same
 formulas, without building the floats of a second round of argument checks
 (on MicroPython every float result is a heap block; bench/heap.py).
 
@@ -290,13 +290,13 @@ version 1 blobs are refused.
 """
 import math
 
-from .potential import msl_height, GPH_MIN_M, GPH_MAX_M, _gph, _geom, _newton
-from .layers import ln_ratio, _half_k_ln, _HALF_RG
-from .moisture import _q, _tv_w, _ONE_M_EPS
+from .potential import msl_height, GPH_MIN_M, GPH_MAX_M, gph_series, height_series, newton_step
+from .layers import ln_ratio, half_k_ln, HALF_RG
+from .moisture import rh_q, tv_w, ONE_M_EPS
 from .constants import WGS84, GRS80
-from .errors import RangeError, ReadingError, _fmt, _INF, _NINF
+from .errors import RangeError, ReadingError, quote, INF, NINF
 # What only the constructor or a rejection uses (check_lat, check_range, the
-# hints, potential._coefs, moisture._boiling, and vapour_pressure/mixing_ratio
+# hints, potential.series, moisture.boiling_error, and vapour_pressure/mixing_ratio
 # for a held mixing ratio) is imported where it is used: fewer names in this
 # module's dict (on MicroPython a dict grows in steps; 59 names fit the step
 # below 73).
@@ -340,7 +340,7 @@ WMO_DEPTH_GPM = 2000.0
 """2 km, the depth over which the WMO definition checks the mean lapse rate."""
 
 _NAN = float("nan")
-# _HALF_RG (tinygeo.layers) = 0.5 * RD / G0: half of Rd/g0, gpm/K.
+# HALF_RG (tinygeo.layers) = 0.5 * RD / G0: half of Rd/g0, gpm/K.
 # The zero the column stores is the literal 0.0 (equal float literals are one
 # object of the module's constant table, so every stored zero shares it).
 # Integral constants are ints: free on MicroPython (a float constant is a heap
@@ -403,7 +403,7 @@ class Column:
                  rh_tol_pct=3, track_sigma=True, on_event=None, geoid_undulation_m=None,
                  max_t_step_k=3, max_t_rate_k_s=1, max_t_gradient_k_m=0.1):
         from .errors import check_lat, check_range, pressure_hint
-        from .potential import _coefs
+        from .potential import series
         # --- settings (checked here; RangeError names the bad one)
         self.lat_deg = check_lat(lat_deg)
         if ellipsoid is WGS84 or getattr(ellipsoid, "name", None) == "WGS84":
@@ -412,7 +412,7 @@ class Column:
             self.ellipsoid = GRS80
         else:
             raise RangeError("ellipsoid=%s not supported; pass tinygeo.WGS84 or tinygeo.GRS80"
-                             % _fmt(ellipsoid))
+                             % quote(ellipsoid))
         self.start_height_m = check_range("start_height_m", start_height_m, -1000, 100000, "m",
                                           "height above mean sea level in metres")
         if anchor_p_pa is None:
@@ -439,7 +439,7 @@ class Column:
         self.burst_drop_m = check_range("burst_drop_m", burst_drop_m, 0, 100000, "gpm")
         if not isinstance(burst_readings, int) or burst_readings < 1 or burst_readings > 100000:
             raise RangeError("burst_readings=%s outside 1..100000 readings; pass an int"
-                             % _fmt(burst_readings))
+                             % quote(burst_readings))
         self.burst_readings = burst_readings
         self.tropopause_max_p_pa = check_range("tropopause_max_p_pa", tropopause_max_p_pa, 0,
                                             P_MAX_PA, "Pa")
@@ -460,9 +460,9 @@ class Column:
                                         "geoid undulation N in metres (Earth: about -107..+86 m)")
         # --- derived settings
         # the geopotential series at this latitude, evaluated once (tinygeo.potential)
-        self._pc = _coefs(self.lat_deg, self.ellipsoid)
+        self._pc = series(self.lat_deg, self.ellipsoid)
         self._min_rate = -self._max_rate
-        self._spk2 = _HALF_RG * _HALF_RG * self.sigma_p_pa * self.sigma_p_pa   # (K/2 sigma_p)^2
+        self._spk2 = HALF_RG * HALF_RG * self.sigma_p_pa * self.sigma_p_pa   # (K/2 sigma_p)^2
         self._st2 = self.sigma_t_k * self.sigma_t_k
         # --- state: every int of _ST_I 0 (but _gps_n), every float of _ST_F
         # nan (but the zeros, which share one float)
@@ -491,45 +491,45 @@ class Column:
         if not P_MIN_PA <= p <= P_MAX_PA:
             from .errors import pressure_hint
             hint = pressure_hint(p)
-            self._bad("pressure", 1, "p_pa", _fmt(p_pa), P_MIN_PA, P_MAX_PA, "Pa",
+            self._bad("pressure", 1, "p_pa", quote(p_pa), P_MIN_PA, P_MAX_PA, "Pa",
                       "; " + hint if hint else "")
         t = self._num(t_k, "t_k", "K")
         if not T_MIN_K <= t <= T_MAX_K:
             from .errors import temperature_hint
             hint = temperature_hint(t)
-            self._bad("temperature", 1, "t_k", _fmt(t_k), T_MIN_K, T_MAX_K, "K",
+            self._bad("temperature", 1, "t_k", quote(t_k), T_MIN_K, T_MAX_K, "K",
                       "; " + hint if hint else "")
         if rh_pct is not None:
             rh = self._num(rh_pct, "rh_pct", "%")
             if rh < 0 or rh > 100:     # floats are built only out here (rare)
                 tol = self.rh_tol_pct
                 if rh < -tol or rh > 100 + tol:
-                    self._bad("humidity", 2, _fmt(rh_pct), -tol, 100 + tol)
+                    self._bad("humidity", 2, quote(rh_pct), -tol, 100 + tol)
         if time_s is not None:
             ts = self._num(time_s, "time_s", "s")
             if ts < self._t_last:
-                self._bad("time", 3, _fmt(time_s), self._t_last)
+                self._bad("time", 3, quote(time_s), self._t_last)
         if gps_m is not None:
             gps = self._num(gps_m, "gps_m", "m")
             if self._geoid_n == self._geoid_n:
                 try:
                     gps = msl_height(gps, self._geoid_n)
                 except RangeError as e:
-                    self._bad("gps", 4, _fmt(gps_m), e)
+                    self._bad("gps", 4, quote(gps_m), e)
             if not GPS_MIN_M <= gps <= GPS_MAX_M:
-                self._bad("gps", 5, _fmt(gps_m), GPS_MIN_M, GPS_MAX_M)
+                self._bad("gps", 5, quote(gps_m), GPS_MIN_M, GPS_MAX_M)
 
         # ---- 2. compute the new state in locals
         flags = 0
         first = self.count == 0
         if rh_pct is not None:
-            # tinygeo.virtual_temperature (its moisture._tv, inlined to share q):
+            # tinygeo.virtual_temperature (its moisture.tv_rh, inlined to share q):
             # Tv = T/(1 - r), r = (1 - eps) e/p = rh q, and dTv/dRH = Tv q
-            q = _q(t, p, self.ice)
+            q = rh_q(t, p, self.ice)
             r = rh * q
-            if r >= _ONE_M_EPS:
-                from .moisture import _boiling
-                self._bad("humidity", 6, _fmt(rh_pct), t, p, _boiling(r * p / _ONE_M_EPS, p))
+            if r >= ONE_M_EPS:
+                from .moisture import boiling_error
+                self._bad("humidity", 6, quote(rh_pct), t, p, boiling_error(r * p / ONE_M_EPS, p))
             tv = t / (1 - r)
             if rh >= _RH_SLOPE_MIN:
                 slope = tv * q
@@ -557,13 +557,13 @@ class Column:
                         self._bad("humidity", 7, e)
                 if w > 1:
                     self._bad("humidity", 8, w)
-                tv = _tv_w(t, w)                # tinygeo.virtual_temperature_from_mixing_ratio
+                tv = tv_w(t, w)                # tinygeo.virtual_temperature_from_mixing_ratio
                 flags = FL_HELD_MIXING
         t0 = self.t_k
         if first:
             p0 = self._anchor
             tv0 = tv
-            s = _gph(self.start_height_m, self._pc, self.ellipsoid.a_m)
+            s = gph_series(self.start_height_m, self._pc, self.ellipsoid.a_m)
             c = 0.0
         else:
             p0 = self.p_pa
@@ -580,7 +580,7 @@ class Column:
         else:
             if T_MIN_K <= tv <= T_MAX_K and T_MIN_K <= tv0 <= T_MAX_K:
                 # tinygeo.layer_thickness (arguments checked above), as its two products
-                a = _half_k_ln(p0, p)       # (Rd/g0)/2 ln(p0/p): also dz/dTv of either end
+                a = half_k_ln(p0, p)       # (Rd/g0)/2 ln(p0/p): also dz/dTv of either end
                 tm2 = tv0 + tv
                 dz = a * tm2
             else:
@@ -601,7 +601,7 @@ class Column:
             if time_s is not None and self._t_last == self._t_last:
                 allow += self.max_t_rate_k_s * (ts - self._t_last)
             if abs(dtk) > allow:
-                self._bad("temperature", 10, _fmt(t_k), dtk, t0, allow)
+                self._bad("temperature", 10, quote(t_k), dtk, t0, allow)
         # geometric height from the node pair (new nodes are kept in locals until the commit)
         if self._n_lo <= g <= self._n_hi:
             nodes = None
@@ -623,12 +623,12 @@ class Column:
             dt = ts - self._t_last
             if dt == 0.0:
                 if g != self._g_t:
-                    self._bad("time", 11, _fmt(time_s), g - self._g_t)
+                    self._bad("time", 11, quote(time_s), g - self._g_t)
                 rate = _NAN     # a duplicate: the rate stays as it was
             else:
                 rate = (h - self._h_tm) / dt
                 if rate > self._max_rate or rate < self._min_rate:
-                    self._bad("rate", 12, _fmt(p_pa), rate, dt, self._max_rate)
+                    self._bad("rate", 12, quote(p_pa), rate, dt, self._max_rate)
         else:
             rate = _NAN
 
@@ -683,7 +683,7 @@ class Column:
                 self._ct = a + a
                 self._p_start = p0
             else:
-                # final sensitivities of the previous reading: dz_n/dp = _HALF_RG pco,
+                # final sensitivities of the previous reading: dz_n/dp = HALF_RG pco,
                 # dz_n/dTv = ct (its slope's share of the humidity bias: ct slope)
                 pco = (tm2 - self._tm2) / p0
                 ct = self._ct + a
@@ -782,8 +782,8 @@ class Column:
             v = float(x)
         else:
             v = _NAN
-        if v != v or v == _INF or v == _NINF:   # comparisons allocate nothing
-            self._bad("number", 0, name, _fmt(x), unit)
+        if v != v or v == INF or v == NINF:   # comparisons allocate nothing
+            self._bad("number", 0, name, quote(x), unit)
         return v
 
     def _bad(self, reason, i, *args):
@@ -814,24 +814,24 @@ class Column:
 
     def _nodes(self, g, guess=_NAN):
         # exact geometric height h at g (tinygeo.geometric_height, with the
-        # series evaluated once for the column's latitude: potential._geom;
-        # from a guess within a few mm, one Newton step: potential._newton)
+        # series evaluated once for the column's latitude: potential.height_series;
+        # from a guess within a few mm, one Newton step: potential.newton_step)
         # and the quadratic in gph through it and the gph of h + D and h + 2D
-        # (potential._gph); see "Geometric height". Returns the tuple
+        # (potential.gph_series); see "Geometric height". Returns the tuple
         # (g, h, k1, k2, lo, hi) and writes nothing.
         if not GPH_MIN_M <= g <= GPH_MAX_M:
             return (g, _NAN, _NAN, _NAN, g, g)
         c = self._pc
         a = self.ellipsoid.a_m
         if guess == guess:
-            h = _newton(g, guess, c, a)
+            h = newton_step(g, guess, c, a)
         else:
-            h = _geom(g, c, a)
+            h = height_series(g, c, a)
         d = _NODE_D
         if h + 2 * d > GPH_MAX_M:
             d = -d
-        ga = _gph(h + d, c, a)
-        gb = _gph(h + 2 * d, c, a)
+        ga = gph_series(h + d, c, a)
+        gb = gph_series(h + 2 * d, c, a)
         sa = d / (ga - g)               # divided differences of h over gph (Newton form)
         k2 = (d / (gb - ga) - sa) / (gb - g)
         return (g, h, sa - k2 * (ga - g), k2, g - _NODE_W, g + _NODE_W)
@@ -856,10 +856,10 @@ class Column:
             if self._n_lo <= gl <= self._n_hi and self._n_h == self._n_h:
                 # one Newton step from the node quadratic (a few mm off)
                 d = gl - self._n_g
-                self.level_height_m = _newton(gl, self._n_h + d * (self._n_k1 + d * self._n_k2),
+                self.level_height_m = newton_step(gl, self._n_h + d * (self._n_k1 + d * self._n_k2),
                                               self._pc, self.ellipsoid.a_m)
             elif GPH_MIN_M <= gl <= GPH_MAX_M:
-                self.level_height_m = _geom(gl, self._pc, self.ellipsoid.a_m)
+                self.level_height_m = height_series(gl, self._pc, self.ellipsoid.a_m)
             else:
                 self.level_height_m = _NAN
             lvl += 1
@@ -914,9 +914,9 @@ class Column:
         if self.count == 0 or not self.track_sigma:
             return _NAN
         # (Rd/g0) ln(p0/p) dT: the sum of dz/dTv over all readings telescopes
-        bt = 2 * _half_k_ln(self._p_start, self.p_pa) * self.bias_t_k
+        bt = 2 * half_k_ln(self._p_start, self.p_pa) * self.bias_t_k
         bh = (self._sum_rh + self._ct * self._slope) * self.bias_rh_pct
-        bp = _HALF_RG * (self._sum_p - self._tm2 / self.p_pa) * self.bias_p_pa
+        bp = HALF_RG * (self._sum_p - self._tm2 / self.p_pa) * self.bias_p_pa
         return math.sqrt(bt * bt + bh * bh + bp * bp + self._var_anchor)
 
     @property
@@ -925,9 +925,9 @@ class Column:
         parts added in squares."""
         r = self.sigma_random_m
         # the systematic variance, as in sigma_bias_m
-        bt = 2 * _half_k_ln(self._p_start, self.p_pa) * self.bias_t_k
+        bt = 2 * half_k_ln(self._p_start, self.p_pa) * self.bias_t_k
         bh = (self._sum_rh + self._ct * self._slope) * self.bias_rh_pct
-        bp = _HALF_RG * (self._sum_p - self._tm2 / self.p_pa) * self.bias_p_pa
+        bp = HALF_RG * (self._sum_p - self._tm2 / self.p_pa) * self.bias_p_pa
         return math.sqrt(r * r + (bt * bt + bh * bh + bp * bp + self._var_anchor))
 
     # ------------------------------------------------------------ GPS

@@ -43,7 +43,7 @@ class CheckpointError(TinygeoError):
     a tinygeo checkpoint at all. Nothing is restored from it."""
 
 
-def _fmt(value):
+def quote(value):
     # repr() of a float is fine on both interpreters; keep non-numbers short.
     try:
         return repr(value)[:40]
@@ -51,8 +51,8 @@ def _fmt(value):
         return "<unprintable>"
 
 
-_INF = float("inf")
-_NINF = -_INF
+INF = float("inf")
+NINF = -INF
 
 
 def as_finite(name, value, unit, error=RangeError):
@@ -63,9 +63,9 @@ def as_finite(name, value, unit, error=RangeError):
         x = float(value)
     except (TypeError, ValueError):
         x = None
-    if x is None or x != x or x == _INF or x == _NINF:   # comparisons allocate nothing
+    if x is None or x != x or x == INF or x == NINF:   # comparisons allocate nothing
         raise error("%s=%s is not %s; pass a finite number in %s"
-                    % (name, _fmt(value), "a number" if x is None else "finite", unit))
+                    % (name, quote(value), "a number" if x is None else "finite", unit))
     return x
 
 
@@ -80,7 +80,7 @@ def check_range(name, value, lo, hi, unit, hint=None, error=RangeError):
     if x < lo or x > hi:
         if callable(hint):
             hint = hint(x)
-        msg = "%s=%s outside %g..%g %s" % (name, _fmt(value), lo, hi, unit)
+        msg = "%s=%s outside %g..%g %s" % (name, quote(value), lo, hi, unit)
         if hint:
             msg += "; " + hint
         raise error(msg)

@@ -41,7 +41,7 @@ P_MIN_PA = 0.1
 P_MAX_PA = 120000.0
 """Highest pressure accepted here, Pa."""
 
-_HALF_RG = 0.5 * RD / G0   # gpm per K: (Rd/g0)/2, Rd/g0 = 29.2712 gpm/K
+HALF_RG = 0.5 * RD / G0   # gpm per K: (Rd/g0)/2, Rd/g0 = 29.2712 gpm/K
 
 # --- ln(p1/p2) without log1p ------------------------------------------------
 # ln(p1/p2) = 2 atanh(d), d = (p1 - p2)/(p1 + p2)
@@ -63,9 +63,9 @@ LN_TERMS_F32 = 6
 LN_TERMS_F64 = 13
 
 
-def _ln_coefs(n):
+def ln_coefs(n):
     # Coefficients 2/(2k+1), highest first, for Horner's scheme in d^2:
-    # (2/(2N-1), ..., 2/5, 2/3); the leading 2 is added by _lnr, which returns
+    # (2/(2N-1), ..., 2/5, 2/3); the leading 2 is added by lnr, which returns
     # d (2 + d^2 (2/3 + d^2 (2/5 + ...))): the factor 2 sits in the
     # coefficients (one multiplication fewer; 2/(2k+1) is rounded as well as
     # 1/(2k+1), so the error analysis above is unchanged).
@@ -77,8 +77,8 @@ def _ln_coefs(n):
     return tuple(c)
 
 
-_FLOAT32 = (1.0 + 2.0 ** -30) == 1.0   # True on float32 / 30-bit float builds
-_LN_C = _ln_coefs(LN_TERMS_F32 if _FLOAT32 else LN_TERMS_F64)
+FLOAT32 = (1.0 + 2.0 ** -30) == 1.0   # True on float32 / 30-bit float builds
+LN_C = ln_coefs(LN_TERMS_F32 if FLOAT32 else LN_TERMS_F64)
 
 
 # Fewer terms serve the thin layers between consecutive readings (|d| ~ 1e-4,
@@ -89,7 +89,7 @@ _LN_C = _ln_coefs(LN_TERMS_F32 if _FLOAT32 else LN_TERMS_F64)
 #   float64: |d| < 1e-3: m = 2 (1.4e-19); |d| < 1e-2: m = 4 (1.1e-21);
 #            |d| < 0.05: m = 6 (5e-18); otherwise all 12 (|d| < 0.25).
 #   float32: |d| < 1e-2: m = 1 (2e-9); |d| < 0.05: m = 2 (2.2e-9); otherwise all 5.
-def _ln_tiers(f32):
+def ln_tiers(f32):
     # (d^2 thresholds, coefficients used below each) for the precision in use
     # (built at run time, not stored as constant tuples: only the one in use is kept)
     a = 1e-4
@@ -100,27 +100,27 @@ def _ln_tiers(f32):
     return (1e-6, a, b), (m, 4, 6)
 
 
-_TIER_D2, _TIER_M = _ln_tiers(_FLOAT32)
+TIER_D2, TIER_M = ln_tiers(FLOAT32)
 
 
-def _lnr(p1_pa, p2_pa):
+def lnr(p1_pa, p2_pa):
     # ln(p1/p2) for p1, p2 > 0, no checks (see the error analysis above).
     d = (p1_pa - p2_pa) / (p1_pa + p2_pa)
     if -LN_SWITCH < d < LN_SWITCH:
         d2 = d * d
-        n = len(_LN_C)
-        if d2 < _TIER_D2[0]:
-            i = n - _TIER_M[0]
-        elif d2 < _TIER_D2[1]:
-            i = n - _TIER_M[1]
-        elif d2 < _TIER_D2[2]:
-            i = n - _TIER_M[2]
+        n = len(LN_C)
+        if d2 < TIER_D2[0]:
+            i = n - TIER_M[0]
+        elif d2 < TIER_D2[1]:
+            i = n - TIER_M[1]
+        elif d2 < TIER_D2[2]:
+            i = n - TIER_M[2]
         else:
             i = 0
-        acc = _LN_C[i]
+        acc = LN_C[i]
         i += 1
         while i < n:
-            acc = acc * d2 + _LN_C[i]
+            acc = acc * d2 + LN_C[i]
             i += 1
         return d * (2.0 + d2 * acc)
     if d > 0.0:
@@ -146,7 +146,7 @@ def ln_ratio(p1_pa, p2_pa):
 
     Example: ln_ratio(100000.0, 99999.0) -> 1.0000050000333e-05.
     """
-    return _lnr(check_p_pa("p1_pa", p1_pa, P_MIN_PA, P_MAX_PA),
+    return lnr(check_p_pa("p1_pa", p1_pa, P_MIN_PA, P_MAX_PA),
                 check_p_pa("p2_pa", p2_pa, P_MIN_PA, P_MAX_PA))
 
 
@@ -169,20 +169,20 @@ def layer_thickness(p_lower_pa, p_upper_pa, tv_lower_k, tv_upper_k):
     p2 = check_p_pa("p_upper_pa", p_upper_pa, P_MIN_PA, P_MAX_PA)
     t1 = check_t_k("tv_lower_k", tv_lower_k)
     t2 = check_t_k("tv_upper_k", tv_upper_k)
-    return _thickness(p1, p2, t1, t2)
+    return thickness(p1, p2, t1, t2)
 
 
-def _half_k_ln(p1_pa, p2_pa):
+def half_k_ln(p1_pa, p2_pa):
     # (Rd/g0)/2 ln(p1/p2), gpm per K: the thickness per kelvin of Tv1 + Tv2,
     # and dz/dTv of either end of the layer; no checks
-    return _HALF_RG * _lnr(p1_pa, p2_pa)
+    return HALF_RG * lnr(p1_pa, p2_pa)
 
 
-def _thickness(p_lower_pa, p_upper_pa, tv_lower_k, tv_upper_k):
+def thickness(p_lower_pa, p_upper_pa, tv_lower_k, tv_upper_k):
     # layer_thickness without the argument checks, for callers that have
     # checked the pressures and temperatures already; tinygeo.column computes
-    # the same two products (it keeps _half_k_ln for its uncertainty)
-    return _half_k_ln(p_lower_pa, p_upper_pa) * (tv_lower_k + tv_upper_k)
+    # the same two products (it keeps half_k_ln for its uncertainty)
+    return half_k_ln(p_lower_pa, p_upper_pa) * (tv_lower_k + tv_upper_k)
 
 
 def layer_thickness_lapse(p_lower_pa, p_upper_pa, tv_lower_k, lapse_k_m):
@@ -215,7 +215,7 @@ def layer_thickness_lapse(p_lower_pa, p_upper_pa, tv_lower_k, lapse_k_m):
     if lapse < -1.0 or lapse > 1.0:
         errors.check_range("lapse_k_m", lapse, -1.0, 1.0, "K/m", "K/km passed? divide by 1000"
                            if abs(lapse) <= 30.0 else "typical values are -0.01..0.01")
-    x = _lnr(p1, p2)
+    x = lnr(p1, p2)
     rg = RD / G0           # gpm per K
     y = -rg * lapse * x
     # Tv at the far end is Tv0 exp(y); with both ends in 150..350 K, |y| <= ln(350/150) < 0.85,
@@ -271,7 +271,7 @@ def layer_mean_tv(p_lower_pa, p_upper_pa, thickness_gpm):
     if p1 == p2:
         raise errors.RangeError("p_lower_pa == p_upper_pa == %r Pa: zero depth; pass two different "
                                 "pressures" % (p1,))
-    tv = G0 / RD * dz / _lnr(p1, p2)
+    tv = G0 / RD * dz / lnr(p1, p2)
     if tv < 150.0 or tv > 350.0:
         raise errors.ModelRangeError("thickness_gpm=%r between %r and %r Pa gives mean Tv %.1f K, "
                                      "outside 150..350 K; check the thickness (gpm) and pressures"

@@ -92,8 +92,8 @@ the U.S. Standard Atmosphere 1976)."""
 P_MAX_PA = 120000.0
 """Highest pressure accepted by this module, Pa."""
 
-_ONE_M_EPS = 1.0 - EPSILON
-_QC = 0.01 * E0_PA * _ONE_M_EPS   # Pa per %RH: (1 - eps) e/p per %RH is _QC f x / p
+ONE_M_EPS = 1.0 - EPSILON
+_QC = 0.01 * E0_PA * ONE_M_EPS   # Pa per %RH: (1 - eps) e/p per %RH is _QC f x / p
 
 
 def _ex(t_k, ice):
@@ -112,7 +112,7 @@ def _f(p_pa):
     return _F0 + _F1 * p_pa - _F2 / p_pa
 
 
-def _boiling(e_pa, p_pa):
+def boiling_error(e_pa, p_pa):
     return errors.RangeError("vapour pressure e=%g Pa is not below the air pressure p_pa=%g Pa; %s" % (
         e_pa, p_pa, errors.pressure_hint(p_pa) or "water would boil: check t_k/td_k and p_pa"))
 
@@ -122,7 +122,7 @@ def _check_e(e_pa, p_pa):
     if e < 0.0:
         raise errors.RangeError("e_pa=%r is negative; vapour pressure is >= 0 Pa" % (e,))
     if e >= p_pa:
-        raise _boiling(e, p_pa)
+        raise boiling_error(e, p_pa)
     return e
 
 
@@ -189,7 +189,7 @@ def vapour_pressure(t_k, p_pa, rh_pct, ice=False):
     rh_pct = errors.check_rh(rh_pct)
     e = rh_pct * 0.01 * _f(p_pa) * (E0_PA * _ex(t_k, ice))
     if e >= p_pa:
-        raise _boiling(e, p_pa)
+        raise boiling_error(e, p_pa)
     return e
 
 
@@ -209,7 +209,7 @@ def vapour_pressure_from_dew_point(td_k, p_pa, ice=False):
     p_pa = check_p_pa("p_pa", p_pa, P_MIN_PA, P_MAX_PA)
     e = _f(p_pa) * (E0_PA * _ex(td_k, ice))
     if e >= p_pa:
-        raise _boiling(e, p_pa)
+        raise boiling_error(e, p_pa)
     return e
 
 
@@ -275,7 +275,7 @@ def specific_humidity(e_pa, p_pa):
     """
     p_pa = check_p_pa("p_pa", p_pa, P_MIN_PA, P_MAX_PA)
     e = _check_e(e_pa, p_pa)
-    return EPSILON * e / (p_pa - _ONE_M_EPS * e)
+    return EPSILON * e / (p_pa - ONE_M_EPS * e)
 
 
 def virtual_temperature(t_k, p_pa, rh_pct, ice=False):
@@ -300,24 +300,24 @@ def virtual_temperature(t_k, p_pa, rh_pct, ice=False):
 
     Example: virtual_temperature(293.15, 101325.0, 50.0) -> 294.4372 K.
     """
-    return _tv(check_t_k("t_k", t_k), check_p_pa("p_pa", p_pa, P_MIN_PA, P_MAX_PA),
+    return tv_rh(check_t_k("t_k", t_k), check_p_pa("p_pa", p_pa, P_MIN_PA, P_MAX_PA),
                errors.check_rh(rh_pct), ice)
 
 
-def _q(t_k, p_pa, ice):
-    # (1 - eps) e'_w/p per %RH (dimensionless per %): with r = rh_pct * _q,
+def rh_q(t_k, p_pa, ice):
+    # (1 - eps) e'_w/p per %RH (dimensionless per %): with r = rh_pct * rh_q,
     # e/p = r/(1 - eps) and Tv = T/(1 - r) ([WH06] eq. 3.16), and
-    # dTv/dRH = Tv _q at constant T and p; e'_w = f(p) e_w(T) as in
+    # dTv/dRH = Tv rh_q at constant T and p; e'_w = f(p) e_w(T) as in
     # vapour_pressure. No checks (callers check).
     return _QC * _f(p_pa) * _ex(t_k, ice) / p_pa
 
 
-def _tv(t_k, p_pa, rh_pct, ice):
+def tv_rh(t_k, p_pa, rh_pct, ice):
     # virtual_temperature without the argument checks, for callers that have
     # checked t_k, p_pa and rh_pct already; RangeError if e >= p
-    r = rh_pct * _q(t_k, p_pa, ice)
-    if r >= _ONE_M_EPS:
-        raise _boiling(r * p_pa / _ONE_M_EPS, p_pa)
+    r = rh_pct * rh_q(t_k, p_pa, ice)
+    if r >= ONE_M_EPS:
+        raise boiling_error(r * p_pa / ONE_M_EPS, p_pa)
     return t_k / (1.0 - r)
 
 
@@ -338,9 +338,9 @@ def virtual_temperature_from_mixing_ratio(t_k, w_kg_kg):
     if w < 0.0 or w > 1.0:
         errors.check_range("w_kg_kg", w, 0.0, 1.0, "kg/kg",
                            "g/kg passed? divide by 1000" if 1.0 < w <= 100.0 else "mixing ratio is >= 0")
-    return _tv_w(t_k, w)
+    return tv_w(t_k, w)
 
 
-def _tv_w(t_k, w_kg_kg):
+def tv_w(t_k, w_kg_kg):
     # virtual_temperature_from_mixing_ratio without the checks (callers check)
     return t_k * (1.0 + w_kg_kg / EPSILON) / (1.0 + w_kg_kg)

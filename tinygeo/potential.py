@@ -78,7 +78,7 @@ _DEG = math.pi / 180.0
 # coeffs` (mpmath Taylor expansion of the closed-form normal potential, 50
 # digits, least-squares fit in s = sin^2(lat) at 16 Chebyshev nodes); checked
 # by tests/test_geopotential.py. Kept as text and read with float() when a
-# latitude's series is evaluated (_coefs: once per Column), which gives the
+# latitude's series is evaluated (series: once per Column), which gives the
 # same doubles as float literals would; literals would be float objects held
 # in RAM for as long as the module is loaded (about 0.55 KB per ellipsoid on a
 # 32-bit board), text stays in flash when the bytecode runs in place.
@@ -105,7 +105,7 @@ _GRS80 = (
 _LAST = [None]  # type: list
 
 
-def _coefs(lat_deg, ellipsoid):
+def series(lat_deg, ellipsoid):
     # The series evaluated at one latitude, once: a tuple of 12 floats,
     # D_1(s) .. D_6(s) then 1*D_1(s) .. 6*D_6(s) (the slope's coefficients),
     # s = sin^2(lat). No checks (callers check). The same values, operation for
@@ -145,9 +145,9 @@ def _coefs(lat_deg, ellipsoid):
     return out
 
 
-def _gph(h, c, a):
+def gph_series(h, c, a):
     # geopotential height of h, gpm: h + h * sum_n D_n t^(n-1), t = h/a
-    # (Horner in t); c from _coefs, a the ellipsoid's semi-major axis, m
+    # (Horner in t); c from series, a the ellipsoid's semi-major axis, m
     t = h / a
     acc = c[5]
     i = 4
@@ -157,10 +157,10 @@ def _gph(h, c, a):
     return h + h * acc
 
 
-def _newton(z, h, c, a):
+def newton_step(z, h, c, a):
     # one Newton step towards the geometric height of the geopotential height
     # z, m, from h: on the residual (h - z) + excess(h), (h - z) exact in
-    # floating point; c from _coefs. The error goes from e to about
+    # floating point; c from series. The error goes from e to about
     # 1.6e-7 e^2 per m (|gph''/(2 gph')| ~ 1/a), so a start within a few mm
     # of the answer is exact to 1e-12 m after one step.
     t = h / a
@@ -174,12 +174,12 @@ def _newton(z, h, c, a):
     return h - ((h - z) + h * ex) / (1.0 + sl)
 
 
-def _geom(z, c, a):
+def height_series(z, c, a):
     # geometric height of the geopotential height z, m: three Newton steps
-    # from h0 = z / (1 + D1 + D2 z/a); c from _coefs. No checks (callers check).
+    # from h0 = z / (1 + D1 + D2 z/a); c from series. No checks (callers check).
     h = z / (1.0 + c[0] + c[1] * (z / a))
     for _ in range(3):
-        h = _newton(z, h, c, a)
+        h = newton_step(z, h, c, a)
     return h
 
 
@@ -209,7 +209,7 @@ def geopotential_height(height_m, lat_deg, ellipsoid=WGS84):
     # a logger that needs only the column does not load the gravity module)
     h = check_range("height_m", height_m, -1000.0, 100000.0, "m",
                     "height above mean sea level in metres (km or feet passed?)")
-    return _gph(h, _coefs(check_lat(lat_deg), ellipsoid), ellipsoid.a_m)
+    return gph_series(h, series(check_lat(lat_deg), ellipsoid), ellipsoid.a_m)
 
 
 def geopotential(height_m, lat_deg, ellipsoid=WGS84):
@@ -246,7 +246,7 @@ def geometric_height(gph_m, lat_deg, ellipsoid=WGS84):
     """
     z = check_range("gph_m", gph_m, GPH_MIN_M, GPH_MAX_M, "gpm",
                     "gpm expected; km or feet passed?")
-    return _geom(z, _coefs(check_lat(lat_deg), ellipsoid), ellipsoid.a_m)
+    return height_series(z, series(check_lat(lat_deg), ellipsoid), ellipsoid.a_m)
 
 
 def msl_height(ellipsoidal_height_m, geoid_undulation_m):

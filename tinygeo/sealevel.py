@@ -56,7 +56,7 @@ import math
 
 from . import moisture
 from . import standard
-from .standard import _G_RD     # g0 / Rd, K/gpm [USSA76 Table 2]
+from .standard import G_RD     # g0 / Rd, K/gpm [USSA76 Table 2]
 from .errors import ModelRangeError, RangeError, as_finite, check_p_pa, check_range, check_t_k
 
 LAPSE_K_GPM = 0.0065
@@ -134,7 +134,7 @@ def sea_level_pressure(p_pa, t_k, height_m, rh_pct=None, lat_deg=None, ice=False
         from . import potential
         h = potential.geopotential_height(h, lat_deg)
     tv_mean = tv + 0.5 * LAPSE_K_GPM * h
-    return p + p * math.expm1(_G_RD * h / tv_mean)
+    return p + p * math.expm1(G_RD * h / tv_mean)
 
 
 def qfe(p_pa, barometer_above_field_m, t_k, rh_pct=None, ice=False):
@@ -165,7 +165,7 @@ def qfe(p_pa, barometer_above_field_m, t_k, rh_pct=None, ice=False):
     tv = t
     if rh_pct is not None:
         tv = moisture.virtual_temperature(t, p, rh_pct, ice)
-    return p + p * math.expm1(_G_RD * dh / tv)
+    return p + p * math.expm1(G_RD * dh / tv)
 
 
 def qnh(p_pa, elevation_m):
@@ -192,10 +192,10 @@ def qnh(p_pa, elevation_m):
     """
     p = check_p_pa("p_pa", p_pa, P_STATION_MIN_PA, P_STATION_MAX_PA)
     e = _check_height("elevation_m", elevation_m)
-    h = standard._altitude(p) - e    # at most 7685 gpm: always layer 0
+    h = standard.altitude_at(p) - e    # at most 7685 gpm: always layer 0
     q = None
     if h >= standard.BOTTOM_GPH_M:
-        q = standard._pressure(h)
+        q = standard.pressure_at(h)
     if q is None or q < QNH_MIN_PA or q > QNH_MAX_PA:
         raise ModelRangeError(
             "p_pa=%r at elevation_m=%r gives a QNH outside %g..%g Pa; pass the QFE (Pa) and "
@@ -219,4 +219,4 @@ def indicated_altitude(p_pa, qnh_pa):
     Example: indicated_altitude(96200.0, 101257.4) -> 430.0 m.
     """
     q = check_p_pa("qnh_pa", qnh_pa, QNH_MIN_PA, QNH_MAX_PA)
-    return standard.pressure_altitude(p_pa) - standard._altitude(q)
+    return standard.pressure_altitude(p_pa) - standard.altitude_at(q)

@@ -72,7 +72,7 @@ in tests/test_standard.py::test_float32_near_sea_level), against about 6 mm for
 the naive ln(p) - ln(P0); about 6 mm (under one ulp of the height) over the whole
 range; about 2 mm near sea level and 6 cm at the top with 30-bit floats.
 
-The ln(1 + x) of ``_pressure``/``_altitude`` is written out here on purpose
+The ln(1 + x) of ``pressure_at``/``altitude_at`` is written out here on purpose
 so the standard atmosphere depends on nothing but constants and errors;
 tinygeo.layers.ln_ratio is the public stable ln(p1/p2).
 """
@@ -107,11 +107,11 @@ BOTTOM_Z_M = -5000.0
 BOTTOM_GPH_M = R0_M * BOTTOM_Z_M / (R0_M + BOTTOM_Z_M)
 """Bottom of the modelled range, gpm: -5003.936 gpm, eq. 18 of BOTTOM_Z_M."""
 
-_G_RD = G0 / RD
+G_RD = G0 / RD
 """g0 / Rd = g0' M0 / R*, K/gpm (0.0341632) [USSA76 Table 2]."""
 
 
-def _pressure(h):
+def pressure_at(h):
     # eq. 33a/33b in the q-form of the module docstring; h already checked.
     i = 6           # the layer of h
     while i > 0 and h < _H_BASE[i]:
@@ -131,10 +131,10 @@ def _pressure(h):
         if u != 1.0:
             q = x * math.log(u) / (u - 1.0)
         q = q / x
-    return _P_BASE[i] * math.exp(-_G_RD * dh * q / tb)
+    return _P_BASE[i] * math.exp(-G_RD * dh * q / tb)
 
 
-def _altitude(p):
+def altitude_at(p):
     # inverse of eq. 33a/33b in the e-form of the module docstring; p already checked.
     i = 6           # the layer of p
     while i > 0 and p > _P_BASE[i]:
@@ -142,7 +142,7 @@ def _altitude(p):
     tb = _T_BASE[i]
     # ln(Pb / p) as ln(1 + d), d = (Pb - p) / p: Pb - p is exact when Pb and p
     # are within a factor of two of each other (Sterbenz), so close pressures
-    # lose nothing; ln(1 + d) in Kahan's form as in _pressure
+    # lose nothing; ln(1 + d) in Kahan's form as in pressure_at
     d = (_P_BASE[i] - p) / p
     u = 1.0 + d
     if u != 1.0:
@@ -156,12 +156,12 @@ def _altitude(p):
     return _H_BASE[i] + y * e
 
 
-TOP_P_PA = _pressure(TOP_GPH_M)
+TOP_P_PA = pressure_at(TOP_GPH_M)
 """Pressure at TOP_GPH_M, Pa: 0.37338359 (Table 4 prints 0.3733836). Computed
 at import with the same code as standard_pressure, so the two ends of the range
 agree exactly on every float format."""
 
-BOTTOM_P_PA = _pressure(BOTTOM_GPH_M)
+BOTTOM_P_PA = pressure_at(BOTTOM_GPH_M)
 """Pressure at BOTTOM_GPH_M, Pa (177 761.5 Pa; Table I prints 1.7776E+05)."""
 
 
@@ -212,7 +212,7 @@ def standard_pressure(gph_m):
     Example: standard_pressure(11000.0) -> 22632.064 (Table 4: 22632.06);
     standard_pressure(0.0) -> 101325.0.
     """
-    return _pressure(_check_gph(gph_m))
+    return pressure_at(_check_gph(gph_m))
 
 
 def pressure_altitude(p_pa):
@@ -245,7 +245,7 @@ def pressure_altitude(p_pa):
         if hint:
             msg += "; " + hint
         raise ModelRangeError(msg)
-    return _altitude(p)
+    return altitude_at(p)
 
 
 def ussa76_geopotential_height(z_m):

@@ -34,12 +34,12 @@ typedef char tg__mandatory_16[TGPY_COLUMN_MANDATORY_PA_N == 16 ? 1 : -1];
 #define WMO_DEPTH_GPM TGPY_COLUMN_WMO_DEPTH_GPM
 #define GPH_MIN_M TGPY_POTENTIAL_GPH_MIN_M
 #define GPH_MAX_M TGPY_POTENTIAL_GPH_MAX_M
-#define KH (TG_L(0.5) * TG_RD / TG_G0)   /* layers._HALF_RG = 0.5 * RD / G0, gpm/K */
+#define KH (TG_L(0.5) * TG_RD / TG_G0)   /* layers.HALF_RG = 0.5 * RD / G0, gpm/K */
 #define NODE_D TGPY_COLUMN__NODE_D
 #define NODE_W TGPY_COLUMN__NODE_W
 #define NODE_W2 TGPY_COLUMN__NODE_W2
 #define RH_SLOPE_MIN TGPY_COLUMN__RH_SLOPE_MIN
-#define ONE_M_EPS (TG_L(1.0) - TG_EPSILON)   /* moisture._ONE_M_EPS */
+#define ONE_M_EPS (TG_L(1.0) - TG_EPSILON)   /* moisture.ONE_M_EPS */
 #define NAN_ TG_NAN
 typedef char tg__pc_size[(sizeof(((tg_column *)0)->pc) == TG_PC_N * sizeof(TG_FLOAT)) ? 1 : -1];
 
@@ -244,10 +244,10 @@ typedef struct nodes_t {
     TG_FLOAT g, h, k1, k2, lo, hi;
 } nodes_t;
 
-/* column._nodes: exact geometric height h at g (potential._geom with the
- * column's series; from a guess within a few mm, one potential._newton
+/* column._nodes: exact geometric height h at g (potential.height_series with the
+ * column's series; from a guess within a few mm, one potential.newton_step
  * step) and the quadratic in gph through it and the gph of h + D and h + 2D
- * (potential._gph). Writes only *nd. */
+ * (potential.gph_series). Writes only *nd. */
 static void nodes(const tg_column *col, TG_FLOAT g, TG_FLOAT guess, nodes_t *nd)
 {
     const TG_FLOAT *c = col->pc;
@@ -470,7 +470,7 @@ tg_status tg_column_feed(tg_column *col, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_F
     flags = 0;
     first = col->count == 0;
     if (rh_pct != NULL) {
-        /* tinygeo.virtual_temperature (its moisture._tv, inlined to share q):
+        /* tinygeo.virtual_temperature (its moisture.tv_rh, inlined to share q):
          * Tv = T/(1 - r), r = (1 - eps) e/p = rh q, and dTv/dRH = Tv q */
         TG_FLOAT q = tg__moisture_q(t, p, col->ice);
         TG_FLOAT r = rh * q;

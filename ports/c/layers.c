@@ -9,10 +9,10 @@
 #define LN_SWITCH TGPY_LAYERS_LN_SWITCH
 
 #define RG (TG_RD / TG_G0)                  /* _RG = RD / G0, gpm per K */
-#define HALF_RG (TG_L(0.5) * TG_RD / TG_G0) /* _HALF_RG = 0.5 * RD / G0 */
+#define HALF_RG (TG_L(0.5) * TG_RD / TG_G0) /* HALF_RG = 0.5 * RD / G0 */
 #define GR (TG_G0 / TG_RD)                  /* _GR = G0 / RD, K per gpm */
 
-/* _FLOAT32 / _LN_C: Python detects the precision of the interpreter at
+/* FLOAT32 / LN_C: Python detects the precision of the interpreter at
  * import; C knows it at compile time (deliberate difference). */
 #if TG_SINGLE
 #define LN_TERMS TGPY_LAYERS_LN_TERMS_F32
@@ -20,7 +20,7 @@
 #define LN_TERMS TGPY_LAYERS_LN_TERMS_F64
 #endif
 
-/* layers._ln_coefs: 2/(2k+1) (the factor 2 of the series folded in), highest
+/* layers.ln_coefs: 2/(2k+1) (the factor 2 of the series folded in), highest
  * k first; Python builds the list for k = N-1 .. 1 at import, C keeps
  * k = 12 .. 1 and starts at k = N-1. */
 static const TG_FLOAT LN_C_ALL[12] = {
@@ -31,23 +31,23 @@ static const TG_FLOAT LN_C_ALL[12] = {
 };
 typedef char tg__ln_terms_fit[(LN_TERMS >= 2 && LN_TERMS - 1 <= 12) ? 1 : -1];
 
-/* layers._ln_tiers: the series is cut by |d| tier (d^2 thresholds, number of
+/* layers.ln_tiers: the series is cut by |d| tier (d^2 thresholds, number of
  * coefficients used below each); the literals of the function in layers.py
  * (tests/test_c_port.py compares them with it) */
 #if TG_SINGLE
-static const TG_FLOAT TIER_D2[3] = { TG_L(1e-4), TG_L(2.5e-3), TG_L(2.5e-3) };   /* _ln_tiers(True) */
-static const int TIER_M[3] = { 1, 2, 2 };                                      /* _ln_tiers(True) */
+static const TG_FLOAT TIER_D2[3] = { TG_L(1e-4), TG_L(2.5e-3), TG_L(2.5e-3) };   /* ln_tiers(True) */
+static const int TIER_M[3] = { 1, 2, 2 };                                      /* ln_tiers(True) */
 #else
-static const TG_FLOAT TIER_D2[3] = { TG_L(1e-6), TG_L(1e-4), TG_L(2.5e-3) };     /* _ln_tiers(False) */
-static const int TIER_M[3] = { 2, 4, 6 };                                      /* _ln_tiers(False) */
+static const TG_FLOAT TIER_D2[3] = { TG_L(1e-6), TG_L(1e-4), TG_L(2.5e-3) };     /* ln_tiers(False) */
+static const int TIER_M[3] = { 2, 4, 6 };                                      /* ln_tiers(False) */
 #endif
 
-/* layers._lnr: ln(p1/p2) for p1, p2 > 0, no checks */
+/* layers.lnr: ln(p1/p2) for p1, p2 > 0, no checks */
 TG_FLOAT tg__layers_lnr(TG_FLOAT p1, TG_FLOAT p2)
 {
     TG_FLOAT d = (p1 - p2) / (p1 + p2);
     if (-LN_SWITCH < d && d < LN_SWITCH) {
-        /* _LN_C[j] is LN_C_ALL[base + j], j = 0 .. n-1 */
+        /* LN_C[j] is LN_C_ALL[base + j], j = 0 .. n-1 */
         const TG_FLOAT *ln_c = LN_C_ALL + (12 - (LN_TERMS - 1));
         const int n = LN_TERMS - 1;
         TG_FLOAT d2 = d * d;
@@ -74,14 +74,14 @@ TG_FLOAT tg__layers_lnr(TG_FLOAT p1, TG_FLOAT p2)
     return -TG_LOG(p2 / p1);   /* same rounding either way round: exact antisymmetry */
 }
 
-/* layers._half_k_ln: (Rd/g0)/2 ln(p1/p2), gpm per K: the thickness per
+/* layers.half_k_ln: (Rd/g0)/2 ln(p1/p2), gpm per K: the thickness per
  * kelvin of Tv1 + Tv2, and dz/dTv of either end of the layer; no checks */
 TG_FLOAT tg__layers_half_k_ln(TG_FLOAT p1, TG_FLOAT p2)
 {
     return HALF_RG * tg__layers_lnr(p1, p2);
 }
 
-/* layers._thickness: layer_thickness without the argument checks */
+/* layers.thickness: layer_thickness without the argument checks */
 static TG_FLOAT thickness(TG_FLOAT p1, TG_FLOAT p2, TG_FLOAT t1, TG_FLOAT t2)
 {
     return tg__layers_half_k_ln(p1, p2) * (t1 + t2);

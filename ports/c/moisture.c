@@ -16,9 +16,9 @@
 #define F_ONE_PA TGPY_MOISTURE_F_ONE_PA
 #define P_MIN_PA TGPY_MOISTURE_P_MIN_PA
 #define P_MAX_PA TGPY_MOISTURE_P_MAX_PA
-#define ONE_M_EPS (TG_L(1.0) - TG_EPSILON)  /* _ONE_M_EPS = 1.0 - EPSILON */
+#define ONE_M_EPS (TG_L(1.0) - TG_EPSILON)  /* ONE_M_EPS = 1.0 - EPSILON */
 
-/* _QC = 0.01 * E0_PA * _ONE_M_EPS: Pa per %RH, (1 - eps) e/p per %RH is _QC f x / p */
+/* _QC = 0.01 * E0_PA * ONE_M_EPS: Pa per %RH, (1 - eps) e/p per %RH is _QC f x / p */
 #define QC (TG_L(0.01) * E0_PA * ONE_M_EPS)
 
 /* moisture._ex: exp(a t/(b + t)) of the Magnus form [WMO8] (e_w = 611.2 Pa
@@ -46,7 +46,7 @@ TG_FLOAT tg__moisture_f(TG_FLOAT p_pa)
     return F0 + F1 * p_pa - F2 / p_pa;
 }
 
-/* moisture._check_e: e >= 0, finite, below p_pa (Python: _boiling) */
+/* moisture._check_e: e >= 0, finite, below p_pa (Python: boiling_error) */
 static tg_status check_e(TG_FLOAT e_pa, TG_FLOAT p_pa)
 {
     if (!isfinite(e_pa))
@@ -81,7 +81,7 @@ tg_status tg_vapour_pressure(TG_FLOAT t_k, TG_FLOAT p_pa, TG_FLOAT rh_pct, int i
     TG_TRY(tg__check_rh(rh_pct, TG_L(3.0), TG_RANGE));
     e = rh_pct * TG_L(0.01) * tg__moisture_f(p_pa) * tg__moisture_es(t_k, ice);
     if (e >= p_pa)
-        return tg__fail(TG_RANGE, out);      /* _boiling */
+        return tg__fail(TG_RANGE, out);      /* boiling_error */
     *out = e;
     return TG_OK;
 }
@@ -94,7 +94,7 @@ tg_status tg_vapour_pressure_from_dew_point(TG_FLOAT td_k, TG_FLOAT p_pa, int ic
     TG_TRY(tg__check_p_pa(p_pa, P_MIN_PA, P_MAX_PA, TG_RANGE));
     e = tg__moisture_f(p_pa) * tg__moisture_es(td_k, ice);
     if (e >= p_pa)
-        return tg__fail(TG_RANGE, out);      /* _boiling */
+        return tg__fail(TG_RANGE, out);      /* boiling_error */
     *out = e;
     return TG_OK;
 }
@@ -135,20 +135,20 @@ tg_status tg_specific_humidity(TG_FLOAT e_pa, TG_FLOAT p_pa, TG_FLOAT *out)
     return TG_OK;
 }
 
-/* moisture._q: (1 - eps) e'_w/p per %RH: with r = rh_pct * _q, e/p = r/(1 - eps),
- * Tv = T/(1 - r) and dTv/dRH = Tv _q at constant T and p. No checks. */
+/* moisture.rh_q: (1 - eps) e'_w/p per %RH: with r = rh_pct * rh_q, e/p = r/(1 - eps),
+ * Tv = T/(1 - r) and dTv/dRH = Tv rh_q at constant T and p. No checks. */
 TG_FLOAT tg__moisture_q(TG_FLOAT t_k, TG_FLOAT p_pa, int ice)
 {
     return QC * tg__moisture_f(p_pa) * ex(t_k, ice) / p_pa;
 }
 
-/* moisture._tv: virtual_temperature without the argument checks; TG_RANGE
- * (Python: _boiling) if e >= p */
+/* moisture.tv_rh: virtual_temperature without the argument checks; TG_RANGE
+ * (Python: boiling_error) if e >= p */
 static tg_status tv(TG_FLOAT t_k, TG_FLOAT p_pa, TG_FLOAT rh_pct, int ice, TG_FLOAT *out)
 {
     TG_FLOAT r = rh_pct * tg__moisture_q(t_k, p_pa, ice);
     if (r >= ONE_M_EPS)
-        return tg__fail(TG_RANGE, out);      /* _boiling */
+        return tg__fail(TG_RANGE, out);      /* boiling_error */
     *out = t_k / (TG_L(1.0) - r);
     return TG_OK;
 }
@@ -173,7 +173,7 @@ tg_status tg_virtual_temperature_from_mixing_ratio(TG_FLOAT t_k, TG_FLOAT w_kg_k
     return TG_OK;
 }
 
-/* moisture._tv_w: virtual_temperature_from_mixing_ratio without the checks */
+/* moisture.tv_w: virtual_temperature_from_mixing_ratio without the checks */
 TG_FLOAT tg__moisture_tv_w(TG_FLOAT t_k, TG_FLOAT w)
 {
     return t_k * (TG_L(1.0) + w / TG_EPSILON) / (TG_L(1.0) + w);

@@ -10,14 +10,14 @@
 #define GPH_MAX_M TGPY_POTENTIAL_GPH_MAX_M
 #define DEG TG_DEG                      /* _DEG = math.pi / 180.0 */
 
-/* potential._coefs picks the table by ellipsoid.name; C uses the
+/* potential.series picks the table by ellipsoid.name; C uses the
  * pointer the ellipsoid carries (deliberate: no string compare). */
 static const tg_series *table(const tg_ellipsoid *ellipsoid)
 {
     return ellipsoid->series;
 }
 
-/* the Horner loop of potential._coefs: in s, highest power first */
+/* the Horner loop of potential.series: in s, highest power first */
 static TG_FLOAT poly(const tg_series *tab, int row, TG_FLOAT s)
 {
     TG_FLOAT acc = TG_L(0.0);
@@ -36,7 +36,7 @@ static TG_FLOAT sin2(TG_FLOAT lat_deg)
     return sp * sp;
 }
 
-/* potential._coefs: the series evaluated at one latitude, once: D_1(s) ..
+/* potential.series: the series evaluated at one latitude, once: D_1(s) ..
  * D_6(s) then 1*D_1(s) .. 6*D_6(s) (the slope's coefficients), s =
  * sin^2(lat). No checks (callers check). Python returns a list of 12 floats;
  * C fills the caller's array (a tg_column keeps one for its latitude). */
@@ -51,8 +51,8 @@ void tg__potential_coefs(TG_FLOAT lat_deg, const tg_ellipsoid *ellipsoid, TG_FLO
         c[i + 6] = (TG_FLOAT)(i + 1) * c[i];
 }
 
-/* potential._gph: geopotential height of h, gpm: h + h * sum_n D_n t^(n-1),
- * t = h/a (Horner in t); c from _coefs, a the semi-major axis, m */
+/* potential.gph_series: geopotential height of h, gpm: h + h * sum_n D_n t^(n-1),
+ * t = h/a (Horner in t); c from series, a the semi-major axis, m */
 TG_FLOAT tg__potential_gph(TG_FLOAT h, const TG_FLOAT *c, TG_FLOAT a)
 {
     TG_FLOAT t = h / a;
@@ -65,7 +65,7 @@ TG_FLOAT tg__potential_gph(TG_FLOAT h, const TG_FLOAT *c, TG_FLOAT a)
     return h + h * acc;
 }
 
-/* potential._newton: one Newton step towards the geometric height of the
+/* potential.newton_step: one Newton step towards the geometric height of the
  * geopotential height z, from h, on the residual (h - z) + excess(h) */
 TG_FLOAT tg__potential_newton(TG_FLOAT z, TG_FLOAT h, const TG_FLOAT *c, TG_FLOAT a)
 {
@@ -81,7 +81,7 @@ TG_FLOAT tg__potential_newton(TG_FLOAT z, TG_FLOAT h, const TG_FLOAT *c, TG_FLOA
     return h - ((h - z) + h * ex) / (TG_L(1.0) + sl);
 }
 
-/* potential._geom: geometric height of the geopotential height z, m: three
+/* potential.height_series: geometric height of the geopotential height z, m: three
  * Newton steps from h0 = z / (1 + D1 + D2 z/a). No checks. */
 TG_FLOAT tg__potential_geom(TG_FLOAT z, const TG_FLOAT *c, TG_FLOAT a)
 {

@@ -15,7 +15,7 @@
 #define QNH_MIN_PA TGPY_SEALEVEL_QNH_MIN_PA
 #define QNH_MAX_PA TGPY_SEALEVEL_QNH_MAX_PA
 #define FIELD_STEP_MAX_M TGPY_SEALEVEL_FIELD_STEP_MAX_M
-#define G_RD (TG_G0 / TG_RD)      /* _G_RD = G0 / RD */
+#define G_RD (TG_G0 / TG_RD)      /* G_RD = G0 / RD */
 
 /* the virtual temperature step of sealevel.py (written out at its call
  * sites there): rh_pct NULL = None (dry air) */

@@ -15,10 +15,10 @@ typedef char tg__layers_are_7[(TGPY_STANDARD__H_BASE_N == 7 && TGPY_STANDARD__P_
 #define BOTTOM_Z_M TGPY_STANDARD_BOTTOM_Z_M
 /* BOTTOM_GPH_M = R0_M * BOTTOM_Z_M / (R0_M + BOTTOM_Z_M) */
 #define BOTTOM_GPH_M (TG_R0_M * BOTTOM_Z_M / (TG_R0_M + BOTTOM_Z_M))
-#define G_RD (TG_G0 / TG_RD)      /* _G_RD = G0 / RD, K/gpm */
-#define RD_G (TG_RD / TG_G0)      /* RD / G0 of standard._altitude, gpm/K */
+#define G_RD (TG_G0 / TG_RD)      /* G_RD = G0 / RD, K/gpm */
+#define RD_G (TG_RD / TG_G0)      /* RD / G0 of standard.altitude_at, gpm/K */
 
-/* the ln(1 + x) that standard.py writes out in _pressure/_altitude: x > -1,
+/* the ln(1 + x) that standard.py writes out in pressure_at/altitude_at: x > -1,
  * Kahan's form x ln(u)/(u - 1) (Goldberg 1991, Theorem 4); C99 has log1p, but
  * the port keeps Python's form so both round alike (deliberate). */
 static TG_FLOAT ln1p(TG_FLOAT x)
@@ -51,7 +51,7 @@ static int layer_of_pressure(TG_FLOAT p)
     return i;
 }
 
-/* standard._pressure: eq. 33a/33b in the q-form; h already checked */
+/* standard.pressure_at: eq. 33a/33b in the q-form; h already checked */
 TG_FLOAT tg__standard_pressure_unchecked(TG_FLOAT h)
 {
     int i = layer_of_height(h);
@@ -66,7 +66,7 @@ TG_FLOAT tg__standard_pressure_unchecked(TG_FLOAT h)
     return P_BASE[i] * TG_EXP(-G_RD * dh * q / tb);
 }
 
-/* standard._altitude: inverse of eq. 33a/33b in the e-form; p already checked */
+/* standard.altitude_at: inverse of eq. 33a/33b in the e-form; p already checked */
 TG_FLOAT tg__standard_altitude_unchecked(TG_FLOAT p)
 {
     int i = layer_of_pressure(p);
@@ -86,7 +86,7 @@ TG_FLOAT tg__standard_bottom_gph_m(void)
     return BOTTOM_GPH_M;
 }
 
-/* TOP_P_PA = _pressure(TOP_GPH_M), BOTTOM_P_PA = _pressure(BOTTOM_GPH_M):
+/* TOP_P_PA = pressure_at(TOP_GPH_M), BOTTOM_P_PA = pressure_at(BOTTOM_GPH_M):
  * Python computes them at import with the same code; C computes them on
  * first use and keeps them (the only static state of the core functions;
  * the value is the same whoever writes it first). */

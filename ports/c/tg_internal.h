@@ -105,22 +105,22 @@ static inline tg_status tg__check_rh(TG_FLOAT x, TG_FLOAT tol, tg_status error)
 }
 
 /* ---- private helpers shared between modules (Python: module-private
- * functions imported across modules, e.g. standard._altitude in sealevel) -- */
-TG_FLOAT tg__standard_pressure_unchecked(TG_FLOAT h);   /* standard._pressure */
-TG_FLOAT tg__standard_altitude_unchecked(TG_FLOAT p);   /* standard._altitude */
+ * functions imported across modules, e.g. standard.altitude_at in sealevel) -- */
+TG_FLOAT tg__standard_pressure_unchecked(TG_FLOAT h);   /* standard.pressure_at */
+TG_FLOAT tg__standard_altitude_unchecked(TG_FLOAT p);   /* standard.altitude_at */
 TG_FLOAT tg__standard_bottom_gph_m(void);               /* standard.BOTTOM_GPH_M */
-TG_FLOAT tg__layers_lnr(TG_FLOAT p1, TG_FLOAT p2);      /* layers._lnr */
-TG_FLOAT tg__layers_half_k_ln(TG_FLOAT p1, TG_FLOAT p2); /* layers._half_k_ln */
+TG_FLOAT tg__layers_lnr(TG_FLOAT p1, TG_FLOAT p2);      /* layers.lnr */
+TG_FLOAT tg__layers_half_k_ln(TG_FLOAT p1, TG_FLOAT p2); /* layers.half_k_ln */
 TG_FLOAT tg__moisture_es(TG_FLOAT t_k, int ice);        /* moisture._es */
 TG_FLOAT tg__moisture_f(TG_FLOAT p_pa);                 /* moisture._f */
-TG_FLOAT tg__moisture_q(TG_FLOAT t_k, TG_FLOAT p_pa, int ice);   /* moisture._q */
-TG_FLOAT tg__moisture_tv_w(TG_FLOAT t_k, TG_FLOAT w);   /* moisture._tv_w */
-/* potential._coefs: the series at one latitude, D_1(s)..D_6(s) then
+TG_FLOAT tg__moisture_q(TG_FLOAT t_k, TG_FLOAT p_pa, int ice);   /* moisture.rh_q */
+TG_FLOAT tg__moisture_tv_w(TG_FLOAT t_k, TG_FLOAT w);   /* moisture.tv_w */
+/* potential.series: the series at one latitude, D_1(s)..D_6(s) then
  * 1*D_1(s)..6*D_6(s) (Python: a list of 12 floats) */
 #define TG_PC_N 12
 void tg__potential_coefs(TG_FLOAT lat_deg, const tg_ellipsoid *ellipsoid, TG_FLOAT c[TG_PC_N]);
-TG_FLOAT tg__potential_gph(TG_FLOAT h, const TG_FLOAT *c, TG_FLOAT a);              /* _gph */
-TG_FLOAT tg__potential_newton(TG_FLOAT z, TG_FLOAT h, const TG_FLOAT *c, TG_FLOAT a); /* _newton */
-TG_FLOAT tg__potential_geom(TG_FLOAT z, const TG_FLOAT *c, TG_FLOAT a);             /* _geom */
+TG_FLOAT tg__potential_gph(TG_FLOAT h, const TG_FLOAT *c, TG_FLOAT a);              /* gph_series */
+TG_FLOAT tg__potential_newton(TG_FLOAT z, TG_FLOAT h, const TG_FLOAT *c, TG_FLOAT a); /* newton_step */
+TG_FLOAT tg__potential_geom(TG_FLOAT z, const TG_FLOAT *c, TG_FLOAT a);             /* height_series */
 
 #endif /* TG_INTERNAL_H */

@@ -23,7 +23,7 @@
  *   TG_MODEL_RANGE  the value lies outside the range the published model is
  *                   defined for (Python: ModelRangeError);
  *   TG_ELLIPSOID    an ellipsoid without a geopotential series (Python:
- *                   TinygeoError from potential._coefs);
+ *                   TinygeoError from potential.series);
  *   TG_READING      a column reading was rejected (Python: ReadingError; the
  *                   reason is stored in the column, see tg_column_feed);
  *   TG_STATE        a column method called in a state that does not allow it
@@ -229,7 +229,7 @@ typedef struct tg_column {
     int ell, lvl, tp_state;
     long burst_n, gps_n;
     TG_FLOAT anchor, max_rate, min_rate, spk2, st2, geoid_n, t_step, t_step_neg;
-    TG_FLOAT pc[12];                  /* the geopotential series at lat_deg (potential._coefs) */
+    TG_FLOAT pc[12];                  /* the geopotential series at lat_deg (potential.series) */
     TG_FLOAT c, t_last, g_t, min_gph, launch_gph, max_time, max_p, burst_line, env_g;
     TG_FLOAT land_lo, land_hi, land_t, h_t, h_p, h_rh, w_held;
     TG_FLOAT tp_g, tp_top, tp_th, tp_p, tp_t;

@@ -76,8 +76,8 @@ def _run(D):
         a = _f(D[i]); b = _f(D[i + 1]); t1 = _f(D[i + 2]); t2 = _f(D[i + 3])
         print('C', _h(ln_ratio(a, b)), _h(layer_thickness(a, b, t1, t2)))
 """, """gc.collect()
-print('K', _FLOAT32, _h(RD), _h(G0), _h(_HALF_RG))
-for c in _LN_C:
+print('K', FLOAT32, _h(RD), _h(G0), _h(HALF_RG))
+for c in LN_C:
     print('K', _h(c))
 print('M', gc.mem_free())
 """]
@@ -118,9 +118,9 @@ def emulate(mode, rows):
         out.append(("%08x" % floatemu.f32_bits(m.ln_ratio(a, b)),
                     "%08x" % floatemu.f32_bits(m.layer_thickness(a, b, t1, t2))))
     consts = ("%08x" % floatemu.f32_bits(m.RD), "%08x" % floatemu.f32_bits(m.G0),
-              "%08x" % floatemu.f32_bits(m._HALF_RG)) + tuple("%08x" % floatemu.f32_bits(c)
-                                                            for c in m._LN_C)
-    return m._FLOAT32, consts, out
+              "%08x" % floatemu.f32_bits(m.HALF_RG)) + tuple("%08x" % floatemu.f32_bits(c)
+                                                            for c in m.LN_C)
+    return m.FLOAT32, consts, out
 
 
 def run_device(rows, per_script=5):
@@ -158,13 +158,13 @@ def main(argv):
     flag, consts, dev = run_device(rows)
     print("# tinygeo.layers (errors, constants, layers statements) on the emulated micro:bit vs floatemu")
     print("# command: python tests/microbit/layers_on_device.py %d" % n)
-    print("# device: _FLOAT32 = %s; RD, G0, _HALF_RG, series coefficients = %s" % (flag, " ".join(consts)))
+    print("# device: FLOAT32 = %s; RD, G0, HALF_RG, series coefficients = %s" % (flag, " ".join(consts)))
     for mode in floatemu.MODES:
         eflag, econsts, emu = emulate(mode, rows)
         same_c = sum(x == y for x, y in zip(consts, econsts))
         same_ln = sum(d[0] == e[0] for d, e in zip(dev, emu))
         same_lt = sum(d[1] == e[1] for d, e in zip(dev, emu))
-        print("%-5s _FLOAT32 %-5s constants %d/%d  ln_ratio %d/%d  layer_thickness %d/%d" % (
+        print("%-5s FLOAT32 %-5s constants %d/%d  ln_ratio %d/%d  layer_thickness %d/%d" % (
             mode, eflag == flag, same_c, len(consts), same_ln, len(dev), same_lt, len(dev)))
         if mode == "r30t":
             for row, d, e in zip(rows, dev, emu):
