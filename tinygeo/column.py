@@ -2,17 +2,14 @@
 reading: live geopotential and geometric height, vertical rate, flight events,
 height uncertainty, GPS cross-check and power-loss checkpoints.
 
-``Column`` keeps a fixed set of attributes and updates them in place: every
-``feed`` costs O(1) time and memory (no list, dict or string is built on the
-accepted path; one 6-tuple when a new height node is taken, every 3 km) and
-calls the core modules for every formula: ``tinygeo.moisture`` (virtual
-temperature), ``tinygeo.layers`` (thickness of the layer between two
-readings, stable ln(p1/p2)) and ``tinygeo.potential`` (geopotential height of
-the start, geometric height of the column). Having checked a reading itself,
-it uses their unchecked internal forms (moisture.rh_q, layers.half_k_ln,
-potential.gph_series/height_series with the latitude's series evaluated once): the same
-formulas, without building the floats of a second round of argument checks
-(on MicroPython every float result is a heap block; bench/heap.py).
+``Column`` sets its state up once and updates it in place: every ``feed``
+costs O(1) time and memory (no list, dict or string is built on the accepted
+path; one 6-tuple when a new height node is taken, every 3 km). The formulas
+come from the core modules' kernels (the unchecked fast forms, called after
+``feed`` has checked the reading once): ``tinygeo.moisture`` (virtual
+temperature), ``tinygeo.layers`` (the layer's thickness, stable ln(p1/p2)),
+``tinygeo.potential`` (geopotential and geometric height), and
+``tinygeo.standard`` (pressure altitude, for the start guard).
 
 Logger loop (a sketch; ``sensor`` is your driver, ``flash`` your storage)::
 
@@ -25,9 +22,9 @@ Logger loop (a sketch; ``sensor`` is your driver, ``flash`` your storage)::
         try:
             bits = col.feed(r.p_pa, r.t_k, r.rh_pct, r.time_s, r.gps_m)
         except ReadingError as e:
-            log("rejected %s: %s" % (e.reason, e))   # the column is unchanged
+            log("rejected %s: %s" % (e.reason, e))   # the column's results are unchanged
             continue
-        show(col.height_m, col.rate_m_s, col.sigma_m)
+        show(col.height_m, col.smooth_rate_gpm_s, col.sigma_m)
         if bits & EV_BURST:
             release_parachute_log(col.burst_gph_m)
         if col.count % 30 == 0:
@@ -35,200 +32,190 @@ Logger loop (a sketch; ``sensor`` is your driver, ``flash`` your storage)::
         if bits & EV_LANDED:
             break
 
-The contract (constructor, ``feed``, attributes, events, flags, phases)
------------------------------------------------------------------------
-``Column(lat_deg, start_height_m=0.0, anchor_p_pa=None, ellipsoid=WGS84,
-ice=False, dry_fallback=False, sigma_p_pa=10.0, sigma_t_k=0.2,
-sigma_rh_pct=1.0, bias_p_pa=50.0, bias_t_k=0.2, bias_rh_pct=3.0,
-max_rate_m_s=200.0, landing_s=60.0, landing_tol_pa=50.0, launch_m=20.0,
-burst_drop_m=50.0, burst_readings=3, tropopause_max_p_pa=50000.0,
-rh_tol_pct=3.0, track_sigma=True, on_event=None, geoid_undulation_m=None,
-max_t_step_k=3.0, max_t_rate_k_s=1.0, max_t_gradient_k_m=0.1)``
+The contract
+------------
+``Column(lat_deg, start_height_m=0, anchor_p_pa=None, ellipsoid=WGS84,
+ice=False, dry_fallback=False, sigma_p_pa=10, sigma_t_k=0.2, sigma_rh_pct=1,
+bias_p_pa=50, bias_t_k=0.2, bias_rh_pct=3, max_rate_m_s=200,
+start_guard_m=3000, time_unit_s=1, smooth_s=20, launch_gpm=20,
+burst_drop_gpm=50, burst_rate_gpm_s=3, burst_readings=3, float_s=600,
+float_band_gpm=150, landing_s=60, landing_band_gpm=10,
+tropopause_max_p_pa=50000, tropopause_layer_gpm=100, rh_tol_pct=3,
+takeover_readings=3, track_sigma=True, on_event=None,
+geoid_undulation_m=None, max_t_step_k=3, max_t_rate_k_s=1,
+max_t_gradient_k_gpm=0.1)``
 
-- lat_deg: geodetic latitude of the flight, degrees, -90..90 (kept fixed: the
-  latitude only enters the conversion between geopotential and geometric
-  height, 0.5 % at most).
-- start_height_m: height above mean sea level, m, of the first accepted
-  reading; or, with anchor_p_pa, of the pressure anchor_p_pa.
+Site and model
+- lat_deg: geodetic latitude, degrees, -90..90 (kept fixed: the latitude
+  only enters the conversion between geopotential and geometric height,
+  0.5 % at most).
+- start_height_m: height above mean sea level, m, -1000..100000, of the
+  first reading; or, with anchor_p_pa, of the pressure anchor_p_pa.
 - anchor_p_pa: a pressure, Pa, known to sit at start_height_m (a station
-  barometer, a surveyed launch pad). The first reading is then placed by one
-  hypsometric step from it, with the first reading's virtual temperature at
-  both ends (an isothermal step: exact for the few metres a launch pad sits
-  above or below its reference).
+  barometer, a surveyed launch pad). The first reading is placed by one
+  hypsometric step from it with its own virtual temperature at both ends
+  (exact for the few metres a pad sits above or below its reference).
 - ellipsoid: tinygeo.WGS84 (default) or tinygeo.GRS80.
 - ice: humidity relative to ice at and below 0 degC (default: to water, the
-  WMO upper-air convention); passed to tinygeo.moisture.
-- dry_fallback: what a reading without humidity uses. False (default): the
-  mixing ratio of the latest reading that had a humidity is held (flag
-  FL_HELD_MIXING; dry air, FL_DRY, if there was none yet). True: dry air
-  (flag FL_DRY).
+  WMO upper-air convention). dry_fallback: see "Humidity".
+- geoid_undulation_m: None (default): gps_m is a height above mean sea level;
+  a number N, m, -150..150: gps_m is an ellipsoidal (GPS receiver) height,
+  converted with tinygeo.msl_height(gps_m, N) = h - N.
+
+Sensor (the noise sets every threshold; see "Noise")
 - sigma_p_pa, sigma_t_k, sigma_rh_pct: RANDOM 1-sigma errors of one reading
-  (noise, independent from reading to reading).
+  (noise, independent from reading to reading), Pa 0..10000, K 0..50, % 0..100.
 - bias_p_pa, bias_t_k, bias_rh_pct: SYSTEMATIC 1-sigma errors (calibration
   offsets, the same for the whole flight).
   Defaults (common practice for a radiosonde-class sensor set, from memory,
-  not a specification of any product): pressure noise 0.1 hPa and calibration
-  0.5 hPa; temperature noise 0.2 K and calibration 0.2 K; humidity noise 1 %RH
-  and calibration 3 %RH. A consumer MEMS barometer is closer to 0.02 hPa noise
-  and 1 hPa offset (data-sheet class, from memory).
-- max_rate_m_s: fastest believable vertical speed, m/s (|rate_m_s|, the
-  geometric height difference over the time step; above 98 750 gpm, where
-  height_m is nan, nothing is checked); a reading implying more is rejected
-  (reason 'rate'). None disables the check.
-  200 m/s is above the free fall of a burst balloon's train in the thin upper
-  air (tens of m/s, up to about 100 m/s at 30 km; common practice).
-- landing_s, landing_tol_pa: after the burst, pressure within landing_tol_pa of
-  a reference reading for landing_s seconds (time_s needed) means landed.
-- launch_m: rise, gpm, above the lowest height seen while waiting that means
-  launched (PH_WAIT -> PH_ASCENT, EV_LAUNCH).
-- burst_drop_m, burst_readings: descent is confirmed when burst_readings
-  readings in a row lie at least burst_drop_m (gpm) below the highest point
-  (EV_BURST, PH_DESCENT); burst_gph_m is that highest point.
-- tropopause_max_p_pa: only readings at or above this level (pressure at or
-  below it) can be the tropopause (500 hPa by default, common practice, which
-  keeps surface inversions out of the search).
+  not a specification of any product): pressure noise 0.1 hPa and
+  calibration 0.5 hPa; temperature 0.2 K and 0.2 K; humidity 1 %RH and
+  3 %RH. A consumer MEMS barometer is closer to 0.02 hPa noise and 1 hPa
+  offset (data-sheet class, from memory).
+- time_unit_s: seconds per unit of time_s, 1e-6..1e6 (default 1; 0.001 for
+  milliseconds from a tick counter).
+
+Checks (see "Checks and recovery")
+- max_rate_m_s: fastest believable vertical speed, m/s, 1..10000, or None
+  (no check). 200 m/s is above the free fall of a burst balloon's train in
+  the thin upper air (tens of m/s, up to about 100 m/s at 30 km; common
+  practice).
+- max_t_step_k, max_t_rate_k_s, max_t_gradient_k_gpm: the temperature-step
+  check, K 0..100 (None: no check), K/s 0..100, K/gpm 0..10. Defaults 3 K (a
+  few times the noise of any radiosonde-class sensor), 1 K/s (cloud exits and
+  the sun change a sensor's reading by a few K over several seconds) and
+  0.1 K/gpm (the strongest real inversions, about 10 K per 100 m; common
+  practice).
+- start_guard_m: the first reading is refused when its pressure altitude
+  (U.S. Standard Atmosphere 1976) lies more than this from start_height_m,
+  m, 100..100000, or None (no guard). Default 3000 m: real weather moves the
+  pressure altitude of a place by at most about -600..+1300 m (sea-level
+  pressures of 1085..870 hPa, the recorded extremes; common practice) and a
+  cold high site by a few hundred metres more, while a pressure in hPa passed
+  as Pa lies 28 km or more away and kPa 40 km. The same guard applies to
+  anchor_p_pa (RangeError).
 - rh_tol_pct: how far beyond 0..100 %RH a humidity is still accepted, 0..3 %
-  (sensor noise; the value is passed on unchanged, as tinygeo.moisture
-  accepts -3..103 %).
-- track_sigma: False skips the uncertainty bookkeeping (sigma_* become nan)
-  for a leaner feed.
-- on_event: callable(column, bits) called after a reading with events has
-  updated the column (see EV_LEVEL for readings crossing several levels).
-- geoid_undulation_m: None (default): gps_m is a height above mean sea
-  level. A number N, m, -150..150: gps_m is an ellipsoidal (GPS receiver)
-  height and is converted with tinygeo.msl_height(gps_m, N) = h - N.
-- max_t_step_k, max_t_rate_k_s, max_t_gradient_k_m: the temperature-step
-  check against sensor glitches (reason 'temperature'). A reading is rejected
-  when its temperature differs from the latest accepted one by more than
-      max_t_step_k + max_t_rate_k_s dt + max_t_gradient_k_m |dz|
-  where dt is the time since the latest accepted reading with a time stamp
-  (0 when this reading or every earlier one has none) and dz the
-  thickness, gpm, of the layer between the latest accepted reading and this
-  one. The allowance grows with the time and the height since the latest
-  accepted reading, so after a genuine step change the column accepts the
-  new temperatures again after (jump - max_t_step_k)/max_t_rate_k_s seconds
-  or the matching climb; without time stamps and without a pressure change
-  (standing still, untimed) it does not grow. Defaults: 3 K (a few times the
-  noise of any radiosonde-class sensor), 1 K/s (cloud exits and the sun
-  change a sensor's reading by a few K over several seconds) and 0.1 K/m
-  (the strongest real inversions, about 10 K per 100 m; common practice):
-  at 5 m/s and 1 s steps a reading may differ by 4.5 K from the previous one,
-  at 2 s steps by 6 K, while the sharpest real inversion changes it by 0.5 K
-  per second. max_t_step_k=None disables the check; ranges 0..100 K,
-  0..100 K/s, 0..10 K/m.
+  (sensor noise; the value is used unchanged).
+- takeover_readings: readings in a row, 2..100, that agree with each other
+  and contradict the column before the column follows them (default 3).
+
+Events (see "Events")
+- smooth_s: time constant of the height track, s, 1..10000 (default 20).
+- launch_gpm: rise of the track above its lowest point while waiting,
+  0..10000 gpm (default 20), beyond the noise.
+- burst_drop_gpm, burst_rate_gpm_s, burst_readings: the descent is confirmed
+  when burst_readings confirmed readings in a row (1..100000) find the track
+  burst_drop_gpm (0..100000) below its highest point and sinking faster than
+  burst_rate_gpm_s (0..1000), each beyond the noise (defaults 50 gpm,
+  3 gpm/s, 3: a parachute sinks at 5 m/s or more at any height, a zero-
+  pressure balloon at sunset more slowly; common practice).
+- float_s, float_band_gpm: a float is the track staying within
+  float_band_gpm (0..100000) beyond the noise of one height for float_s
+  seconds (1..1000000) during the ascent (defaults 600 s and 150 gpm).
+- landing_s, landing_band_gpm: after the descent, landed when the confirmed
+  readings stay within landing_band_gpm (0..10000) beyond the noise for
+  landing_s seconds (0..1000000) (defaults 60 s, 10 gpm).
+- tropopause_max_p_pa, tropopause_layer_gpm: the tropopause is searched at
+  and above this pressure (0..120000 Pa; 500 hPa by default, common
+  practice), on the profile averaged over layers of tropopause_layer_gpm
+  (1..5000 gpm; default 100).
+- on_event: callable(column, bits) called after a reading whose feed raised
+  events (see EV_LEVEL for readings crossing several levels).
+- track_sigma: False skips the uncertainty bookkeeping (sigma_* are nan).
 
 ``feed(p_pa, t_k, rh_pct=None, time_s=None, gps_m=None) -> int`` adds one
 reading and returns the bits of the events it caused (0 = none).
 p_pa: pressure, Pa, 0.1..120000; t_k: air temperature, K, 150..350;
-rh_pct: relative humidity, %, or None; time_s: a time stamp, s, any origin,
-never decreasing, or None; gps_m: GPS height above mean sea level, m,
--1000..100000, or None (an ellipsoidal height if geoid_undulation_m is
-set). A bad reading raises
-tinygeo.errors.ReadingError with ``.reason`` one of 'number' (not a finite
-number), 'pressure', 'temperature', 'humidity', 'time', 'rate', 'gps', after
-incrementing ``rejected`` -- nothing else changes.
+rh_pct: relative humidity, %, or None; time_s: a time stamp in units of
+time_unit_s, any origin (int or float), or None; gps_m: GPS height, m,
+-1000..100000 above mean sea level (ellipsoidal if geoid_undulation_m is
+set), nan for "no fix", or None. A rejected reading raises
+tinygeo.errors.ReadingError with ``.reason`` one of 'number', 'pressure',
+'temperature', 'humidity', 'time', 'rate', 'gps' (see "Checks and
+recovery").
 
-Attributes after each accepted reading (nan where not known yet):
-  count, rejected (int): readings accepted / rejected.
-  p_pa, t_k, tv_k, rh_pct, time_s: the latest accepted reading (tv_k is the
-    virtual temperature used; rh_pct and time_s are nan when not given).
+Attributes (nan where not known yet)
+  count, rejected, retracted (int): readings accepted (retracted ones taken
+    off again), rejected (retracted ones included), and those retracted.
+    Counters stop at COUNT_MAX.
+  p_pa, t_k, tv_k, rh_pct, flags: the latest accepted reading (tv_k the
+    virtual temperature used; rh_pct nan when not given).
+  time_s: seconds since the first time stamp (time_origin, as given).
   gph_m: geopotential height, gpm (compensated running sum).
-  height_m: geometric height above mean sea level, m (see "Geometric height").
-  rate_m_s: vertical speed between the two latest readings with a time, m/s
-    (nan when this reading has no time; the raw difference, not smoothed).
-  flags (int): FL_* bits of the latest reading: FL_DRY 1 (no humidity, dry
-    air assumed), FL_HELD_MIXING 2 (no humidity, the last mixing ratio used),
-    FL_NO_TIME 4 (no time_s, so no rate), FL_DESCENT 8 (pressure rose:
-    integrating downwards), FL_SAME_P 16 (pressure repeated: nothing added).
-  phase (int): PH_WAIT, PH_ASCENT, PH_DESCENT, PH_LANDED.
-  max_gph_m: highest gph so far that the next reading confirmed (a reading
-    counts as the peak once the reading after it is at least as high, or as
-    the lower of the two: one glitched reading is never the peak); with
-    _max_time/_max_p its time and pressure; launch_time_s.
-  burst_gph_m, burst_time_s, burst_p_pa: that peak at the confirmed descent
-    (set with EV_BURST); within one reading's rise of the true top.
+  height_m: geometric height above mean sea level, m.
+  rate_m_s: raw vertical speed between the two latest timed readings, m/s
+    (the difference of two noisy heights: read smooth_rate_gpm_s for a rate).
+  noise_gph_m: the height noise of one reading at the latest confirmed
+    reading, gpm: (Rd/g0) Tv sigma_p_pa / p.
+  smooth_gph_m, smooth_rate_gpm_s: the height track of the confirmed readings
+    (see "Events"), gpm and gpm/s.
+  phase (int): PH_WAIT, PH_ASCENT, PH_FLOAT, PH_DESCENT, PH_LANDED.
+  max_gph_m: the track's highest point so far, gpm; launch_time_s.
+  burst_gph_m, burst_time_s, burst_p_pa: the track's highest point at the
+    confirmed descent (set with EV_BURST).
+  float_gph_m, float_time_s: the track's height and the time where the float
+    began (set with EV_FLOAT).
+  landing_time_s: the time of the reading that confirmed the landing.
   level_p_pa, level_gph_m, level_height_m, level_t_k: the mandatory level of
     the latest EV_LEVEL.
-  tropopause_p_pa, tropopause_gph_m, tropopause_t_k (set with EV_TROPOPAUSE).
-  sigma_m, sigma_random_m, sigma_bias_m: 1-sigma height uncertainty, m
-    (properties computed from the running sums; see "Uncertainty").
+  tropopause_p_pa, tropopause_gph_m, tropopause_t_k, tropopause_time_s:
+    the tropopause level itself (set with EV_TROPOPAUSE, which fires 2 km
+    above it, where the definition is confirmed).
+  sigma_m, sigma_random_m, sigma_bias_m: 1-sigma height uncertainty, m.
   gps_m, gps_diff_m: the latest GPS height given (above mean sea level), and
-    barometric height minus it at that reading, m.
+    the barometric height minus it at that reading, m.
+  Every setting is an attribute of the same name (anchor_p_pa, max_rate_m_s,
+  start_guard_m and max_t_step_k are None when not set).
+
+Flags (flags, bits of the latest accepted reading): FL_DRY 1 (no humidity,
+dry air assumed), FL_HELD_MIXING 2 (no humidity, the last mixing ratio used),
+FL_NO_TIME 4 (no time_s), FL_DESCENT 8 (pressure rose: integrating
+downwards), FL_SAME_P 16 (pressure repeated: nothing added), FL_NO_GPS 32
+(gps_m was nan: no fix, ignored), FL_CAPPED 64 (the held mixing ratio was
+above saturation at this reading's temperature and was capped),
+FL_REPLACED 128 (this reading replaced the previous one, which the readings
+contradicted), FL_TAKEOVER 256 (the column followed a run of readings that
+contradicted it; FL_TAKEOVER alone when it restarted from them).
 
 Methods: ``reanchor_gps()``, ``to_bytes()``, ``Column.from_bytes(blob)``.
 
 Integration
 -----------
 Between two readings (p1, Tv1) and (p2, Tv2) the column rises by
-tinygeo.layer_thickness(p1, p2, Tv1, Tv2) = (Rd/g0) (Tv1+Tv2)/2
-ln(p1/p2) gpm (hypsometric equation, Wallace and Hobbs 2006 eq. 3.29/3.30;
-the trapezoid in ln p), negative when the pressure rises (descent, FL_DESCENT),
-exactly zero for a repeated pressure (FL_SAME_P; the reading still updates
-temperature, time and events). Float32 care: the logarithm is the stable
-ln_ratio of tinygeo.layers, and the running sum of thousands of small
-increments is compensated (classic Kahan summation, Kahan 1965, "Further
-remarks on reducing truncation errors", Comm. ACM 8(1) 40): the correction
-is folded into every step, so it never grows beyond one unit in the last
-place of the sum; a separately accumulated Neumaier-type correction drifts
-when floats are truncated rather than rounded (30-bit MicroPython builds).
+(Rd/g0) (Tv1+Tv2)/2 ln(p1/p2) gpm (hypsometric equation, Wallace and Hobbs
+2006 eq. 3.29/3.30; the trapezoid in ln p; tinygeo.layer_thickness),
+negative when the pressure rises (FL_DESCENT), exactly zero for a repeated
+pressure (FL_SAME_P). The logarithm is the stable ln_ratio of
+tinygeo.layers; the running sum is compensated (classic Kahan summation,
+Kahan 1965, "Further remarks on reducing truncation errors", Comm. ACM 8(1)
+40): its error stays within one unit in the last place of the sum, also when
+floats are truncated rather than rounded (30-bit MicroPython builds).
+Because the sum telescopes in ln p, the height of a reading is that of its
+measured pressure: a skipped or rejected reading costs time resolution, not
+height, and a pressure glitch leaves no offset once it is passed.
 
-Geometric height
-----------------
-height_m comes from tinygeo.potential: at a node gph g0 the exact
-h0 = geometric_height(g0), and geopotential_height of h0 + 1500 m and
-h0 + 3000 m; between refreshes height_m is the quadratic in gph through these
-three points, used while gph_m stays within 3000 gpm of g0 (then a new node
-is taken at the current gph_m). h(gph) has d3h/dgph3 ~ 6/R^2 = 1.5e-13 per
-m^2, so the interpolation error is below 3 mm (double precision), and one
-Newton solve plus two series evaluations every 3 km replace a Newton solve
-per reading. At a node height_m is geometric_height(gph_m) (so the first
-reading sits at start_height_m to 1e-9 m): the full Newton solve for the
-first node (and after a jump of more than 6000 gpm), else one Newton step
-started from the old quadratic (a few mm off, so the step leaves about
-1e-12 m). The series coefficients of the latitude (tinygeo.potential) are
-evaluated once, in the constructor: a node costs about 70 float results
-(MicroPython heap blocks) instead of 800. rate_m_s is the difference
-of these heights over the time step. Above 98 750 gpm (outside
-geometric_height) height_m is nan.
+Geometric height: at a node gph g0 the exact h0 = geometric_height(g0),
+and geopotential_height of h0 + 1500 m and h0 + 3000 m; between refreshes
+height_m is the quadratic in gph through these three points, used while
+gph_m stays within 3000 gpm of g0. h(gph) has d3h/dgph3 ~ 6/R^2, so the
+interpolation error is below 3 mm; at a node height_m is exact (the full
+Newton solve for the first node and after a jump of more than 6000 gpm,
+else one Newton step from the old quadratic). The series of the latitude are
+evaluated once, in the constructor. Above 98 750 gpm height_m is nan.
 
-Events
-------
-EV_LEVEL: a WMO mandatory isobaric level (MANDATORY_PA) was crossed; its gph,
-  height and temperature are interpolated linearly in ln p between the two
-  readings (ln p from tinygeo.ln_ratio). Levels are reported on the way
-  up only (phases PH_WAIT and PH_ASCENT), each at most once, the first time
-  the column reaches it; a level at or below the start is never reported,
-  except one exactly equal to the first reading's pressure. On descent nothing
-  is reported (the ascent is the sounding). If one reading crosses several
-  levels (sparse data), on_event is first called with EV_LEVEL alone for each
-  lower one (level_* set to it), then with the reading's bits for the highest,
-  which level_* keep.
-EV_TROPOPAUSE: the first tropopause by the WMO lapse-rate definition: "the
-  lowest level at which the lapse rate decreases to 2 K/km or less, provided
-  also the average lapse rate between this level and all higher levels within
-  2 km does not exceed 2 K/km" (WMO 1957, WMO-No. 49 Technical Regulations;
-  wording from memory), with lapse rates per km of geopotential height and
-  temperature t_k (not tv_k). The profile searched is the ascent envelope:
-  readings higher than every earlier one (dips from pendulum motion or noise
-  are skipped), in phases PH_WAIT/PH_ASCENT, at pressures <=
-  tropopause_max_p_pa. Exactly, for envelope points i with
-  theta_i = t_i + 0.002 gph_i (K): i is the tropopause when no envelope point
-  j after it with gph_j <= gph_i + 2000 has theta_j < theta_i, the point just
-  after it (even if farther than 2 km: sparse data) has theta >= theta_i, and
-  a point above gph_i + 2000 exists. The event fires at that point, i.e. about
-  2 km above the tropopause. Look-ahead is bounded by O(1) state: along the
-  envelope, a point that rejects the current candidate also rejects every point
-  between them (they have theta >= the candidate's and lie less than 2 km
-  below it), so one candidate at a time gives exactly the brute-force answer
-  (tests/test_column.py compares both on random profiles).
-EV_BURST: descent confirmed (see burst_drop_m); PH_ASCENT -> PH_DESCENT.
-EV_LANDED: pressure steady after the burst (see landing_s); -> PH_LANDED.
-EV_LAUNCH: the rise of launch_m above the waiting height; PH_WAIT ->
-  PH_ASCENT.
-Bit values: EV_LEVEL 1, EV_TROPOPAUSE 2, EV_BURST 4, EV_LANDED 8,
-EV_LAUNCH 16; phases PH_WAIT 0, PH_ASCENT 1, PH_DESCENT 2, PH_LANDED 3.
-Phases only move forward: a rise after the confirmed descent is integrated
-but starts no new ascent.
+Humidity
+--------
+With rh_pct the virtual temperature is exact: Tv = T/(1 - r), r = (1 - eps)
+e/p (Wallace and Hobbs 2006 eq. 3.16; e from the WMO-No. 8 Magnus form and
+enhancement factor, tinygeo.moisture). Without it: dry air (FL_DRY) if
+dry_fallback or no humidity came yet, else the mixing ratio w of the latest
+reading that had one, held (FL_HELD_MIXING), but never above the saturation
+mixing ratio at the current temperature and pressure (FL_CAPPED): air
+cannot hold more vapour than saturation, and a rising parcel that keeps its
+mixing ratio condenses the excess (Wallace and Hobbs 2006 sec. 3.5, the
+conservation of the mixing ratio below saturation). Held air that cools is
+then taken as saturated, the upper bound. The missing humidity enters the
+uncertainty as a systematic term (below).
 
 Uncertainty
 -----------
@@ -241,65 +228,152 @@ Tm_i = (Tv_{i-1}+Tv_i)/2 the sensitivities are
   dz_n/dTv_i = K (L_i + L_{i+1})/2 (the end readings get one half-layer),
   dz_n/dp_i  = K (Tm_{i+1} - Tm_i)/p_i inside, K Tm_1/p_0 at the start and
                -K Tm_n/p_n at the latest reading,
-  dTv/dT ~ 1 and dTv/dRH = Tv q at constant T and p, where
-  r = RH q = (1 - eps) e/p and Tv = T/(1 - r) (readings under 1 %RH and
-  readings without humidity keep the last slope). dTv/dT = 1 neglects that at constant RH a warmer
-  reading also holds more vapour (Tv - T grows by about 6 % per K): the
-  temperature terms come out a few per cent low in humid soundings (2-4 % on
-  the tests' 0-31 km humid sounding, exact for dry air).
-Random part: sum of (sensitivity x sigma)^2 over every reading (each reading's
-sensitivity is final once the next reading arrives, so the sum is kept in
-O(1)): temperature and humidity noise add as a random walk over the layers,
-pressure noise counts at the two ends (and barely inside).
-Systematic part: a calibration offset is the same for every reading, so its
-sensitivities add before squaring: temperature (Rd/g0) dT ln(p0/p),
-humidity K sum_i (dTv/dRH)_mean L_i dRH, pressure (sum_i dz_n/dp_i) dp, which
-at the latest reading is -(Rd Tv/(g0 p)) dp (at 10 hPa, 0.5 hPa is about
-340 m). The three are independent (added in squares); after reanchor_gps the
-GPS sigma joins them. sigma_m = sqrt(random^2 + systematic^2). Computed in
-geopotential metres (within 1.1 % of metres up to 35 km). Not modelled: the
-error of the dry assumption when humidity is missing (Tv - T reaches 3-5 K
-in warm moist air; watch FL_DRY / FL_HELD_MIXING), sensor lag, and
-non-hydrostatic motion.
+  dTv/dT ~ 1 and dTv/dRH = Tv q at constant T and p (r = RH q); readings
+  under 1 %RH and readings without humidity keep the last slope.
+Random part: sum of (sensitivity x sigma)^2 over every reading (a
+reading's sensitivity is final once the next reading arrives, so the sum is
+kept in O(1)). Systematic part: a calibration offset is the same for every
+reading, so its sensitivities add before squaring: temperature
+(Rd/g0) dT ln(p0/p), humidity K sum_i (dTv/dRH)_i (L_i + L_{i+1})/2 dRH,
+pressure (sum_i dz_n/dp_i) dp (at 10 hPa, 0.5 hPa is about 340 m).
+Missing humidity: the true mixing ratio lies anywhere between 0 and the
+saturation value w_s, so a reading without humidity gets a Tv uncertainty
+of dTv/dw w_s/sqrt(3) with dTv/dw = T (1/eps - 1) (the largest RMS error of
+an estimate in [0, w_s] when the truth is uniform there); it is systematic
+(the same weather for many readings), so these add before squaring. The
+parts add in squares; after reanchor_gps the GPS sigma joins them.
+sigma_m = sqrt(random^2 + systematic^2), in geopotential metres (within
+1.1 % of metres up to 35 km). Not modelled: sensor lag, non-hydrostatic
+motion.
 
-Bad readings and the rejected counter
--------------------------------------
-Every check and every computation happens before the first attribute is
-written, so a rejected reading leaves the column exactly as it was, except
-``rejected``, a diagnostic counter that is deliberately outside the results:
-a stream with bad readings interleaved gives bit-identical results
-(every other attribute, every event, every later height) to the same stream
-without them, and differs only in ``rejected`` (also stored in checkpoints).
-Time: a time_s lower than the latest given one is rejected ('time'); an equal
-time_s is accepted only if the height does not change (a duplicate), because
-otherwise the speed is infinite ('time').
+Noise
+-----
+A reading's pressure noise sigma_p_pa moves its height by
+sigma_z = (Rd/g0) Tv sigma_p / p (noise_gph_m): 0.8 m at the ground, 120 m at
+5 hPa for 10 Pa. Every threshold of the checks and events adds NOISE_K = 4
+times the relevant noise (a Gaussian noise exceeds 4 sigma with probability
+6e-5), so noise alone does not fake a glitch or an event.
+
+Checks and recovery
+-------------------
+``feed`` first checks the values on their own (a number: int or float, not
+bool or text; in range; a hint for Celsius given as kelvin, hPa as Pa, a
+fraction as percent). A reading failing these is rejected and changes
+nothing but ``rejected``. Then it is checked against the latest accepted
+reading: its time must not go back; the height change must not need a
+vertical speed above max_rate_m_s, beyond the noise: |dz| <= max_rate dt +
+4 sqrt(2) sigma_z (with dt = 0 a repeated time stamp passes when the height
+moved within the noise); its temperature may differ by at most
+max_t_step_k + 4 sqrt(2) sigma_t + max_t_rate_k_s dt +
+max_t_gradient_k_gpm |dz| (the allowance grows with time and height, so
+after a genuine step the new temperatures pass again). The first reading
+must lie within start_guard_m of start_height_m (reason 'pressure').
+
+The column keeps one reading of look-back. A reading that contradicts the
+latest one is rejected, and remembered: if the next reading also contradicts
+the latest one, and both agree with the reading before it, the latest
+reading was the bad one (a pressure glitch after a gap, a time stamp far
+ahead): it is retracted (``retracted``, ``rejected``) and the column goes on
+from the reading before it with the new reading (FL_REPLACED). Readings that
+contradict both but agree with each other form a run; after
+takeover_readings of them the column follows the run (FL_TAKEOVER): before
+anything is confirmed (a bad first reading) it restarts from the run's first
+reading, placed at start_height_m; later (a clock reset, a real change
+faster than the checks allow) it integrates on through them. So no single
+bad reading, the first included, and no single wrong time stamp locks the
+column: it costs at most takeover_readings + 1 readings, and the heights
+after it are those of a column that never saw it (to a few mm: the skipped
+reading's layer is integrated as one). Nothing is lost to a rejection but
+the reading itself; a rejected reading changes nothing of the results, only
+``rejected`` and the recovery memory (the remembered run, not saved in
+checkpoints). Because the latest reading may still be retracted, events are
+decided on confirmed readings: a reading is confirmed when the next reading
+is accepted on top of it, so events come one reading late.
+
+Time: stamps are kept relative to the first one (time_origin), and an int
+stamp is subtracted as an int before it becomes a float, so tick counters
+(milliseconds, time_unit_s=0.001) and large origins (seconds since a year's
+start, the epoch) keep their resolution on float32 and 30-bit boards. Pass
+ints there: a float time stamp is already rounded to the board's precision
+before the column sees it (float32 spacing is 2 s at 1.7e7 s). GPS: a gps_m
+of nan means "no fix": the reading is kept, its GPS ignored (FL_NO_GPS).
+
+Events
+------
+The height track is a critically damped g-h filter (fading-memory
+polynomial filter of degree 1: gains g = 1 - th^2, h = (1 - th)^2 with
+th = exp(-dt/smooth_s) per step dt; Morrison 1969, "Introduction to
+Sequential Smoothing and Prediction"; the steady-state noise ratios
+sigma_x^2/sigma^2 = (1 - th)(1 + 4th + 5th^2)/(1 + th)^3 and
+sigma_v^2/sigma^2 = 2(1 - th)^3/((1 + th)^3 dt^2) are those of that filter
+(from memory)) run on the confirmed readings' gph: smooth_gph_m and
+smooth_rate_gpm_s, O(1) memory. Without time stamps each reading counts as
+one second. Its noise, sigma_x and sigma_v, scales every event threshold.
+EV_LAUNCH 16: in PH_WAIT, the track rises launch_gpm + 4 sigma_x above its
+  lowest point -> PH_ASCENT (launch_time_s).
+EV_FLOAT 32: in PH_ASCENT, the track stays within float_band_gpm + 4 sigma_x
+  of one height for float_s seconds -> PH_FLOAT (float_gph_m, float_time_s,
+  where the float began). In PH_FLOAT a rise above the band is a new ascent
+  (PH_ASCENT, no event). Floats are a normal flight for zero-pressure and
+  superpressure balloons.
+EV_BURST 4: in PH_ASCENT or PH_FLOAT (a cut-down after a float is a burst),
+  burst_readings confirmed readings in a row find the track burst_drop_gpm
+  + 4 sigma_x below its highest point and sinking faster than
+  burst_rate_gpm_s + 4 sigma_v -> PH_DESCENT; burst_gph_m, burst_time_s,
+  burst_p_pa are the track's highest point.
+EV_LANDED 8: in PH_DESCENT, the confirmed readings stay within
+  landing_band_gpm + 4 sigma_z of one height for landing_s seconds ->
+  PH_LANDED.
+EV_LEVEL 1: a WMO mandatory isobaric level (MANDATORY_PA) was crossed
+  between two confirmed readings on the way up (phases WAIT, ASCENT, FLOAT);
+  its gph, height and temperature are interpolated linearly in ln p. Each
+  level once; a level at or below the start is never reported, except one
+  exactly equal to the first reading's pressure. If one reading crosses
+  several levels, on_event is first called with EV_LEVEL alone for each lower
+  one (level_* set to it), then with the reading's bits for the highest.
+EV_TROPOPAUSE 2: the first tropopause by the WMO lapse-rate definition: "the
+  lowest level at which the lapse rate decreases to 2 K/km or less, provided
+  also the average lapse rate between this level and all higher levels
+  within 2 km does not exceed 2 K/km" (WMO 1957; WMO-No. 49 Technical
+  Regulations; wording from memory), lapse rates per km of geopotential
+  height, with t_k (not tv_k). The profile searched: the confirmed ascent
+  readings averaged over layers of tropopause_layer_gpm (mean gph and mean
+  t_k of the readings in each layer: with 0.2 K noise per reading a point
+  lapse rate over 5 m is +-60 K/km, over averaged 100 gpm layers +-0.6 K/km).
+  With theta = t + 0.002 gph (K) per layer point, a point i is the
+  tropopause when theta of the point before it is higher (the lapse rate
+  DECREASES TO 2 K/km or less at i: above 2 K/km below it), it lies at or
+  above tropopause_max_p_pa, no point j after it with gph_j <= gph_i + 2000
+  has theta_j < theta_i, and a point above gph_i + 2000 exists. O(1): one
+  candidate at a time gives the same answer as checking every point (a
+  point that rejects the candidate has theta below every point between
+  them, so it decreases to the rate itself; tests compare with a brute-force
+  search). The event fires where the definition is confirmed, 2 km above;
+  the attributes name the level itself.
+Bit values: EV_LEVEL 1, EV_TROPOPAUSE 2, EV_BURST 4, EV_LANDED 8,
+EV_LAUNCH 16, EV_FLOAT 32; phases PH_WAIT 0, PH_ASCENT 1, PH_FLOAT 2,
+PH_DESCENT 3, PH_LANDED 4. Phases move forward, except PH_FLOAT ->
+PH_ASCENT.
 
 Checkpoint
 ----------
-to_bytes() packs every setting and every state variable: magic b"TGCK",
-version, payload length, the payload (floats as IEEE doubles '<d', so a
-float32 board stores its values exactly too and a restore continues
-bit-identically on the same platform), then CRC-32 (IEEE 802.3 polynomial;
-binascii.crc32 when the firmware has it, else the same CRC computed here)
-of everything before it. CRC-32 detects every single-bit error and every burst
-of up to 32 bits; truncation is caught by the length. on_event is not stored
-(pass it to from_bytes). CHECKPOINT_BYTES is the blob size. Version 2 (this
-one) keeps the uncertainty sums as Tv0 + Tv of the latest layer (_tm2) and the
-start pressure (_p_start) instead of version 1's -dz/dp and sum of dz/dTv;
-version 1 blobs are refused.
+to_bytes() packs every setting and the state (both records of the
+look-back, the event state) in the frame of tinygeo.checkpoint (magic
+b"TGCK", version, length, doubles and int32s, CRC-32); CHECKPOINT_BYTES is
+the blob size. from_bytes refuses a blob whose CRC fails, of another
+version or length, and one holding a value no column can hold (any inf; a
+nan where a value must be; a value outside its range; counters beyond
+COUNT_MAX). The recovery memory (a run of contradicting readings) is not
+saved: after a restore the column starts it afresh. on_event is not stored.
 """
 import math
 
-from .potential import msl_height, GPH_MIN_M, GPH_MAX_M, gph_series, height_series, newton_step
-from .layers import ln_ratio, half_k_ln, HALF_RG
-from .moisture import rh_q, tv_w, ONE_M_EPS
-from .constants import WGS84, GRS80
-from .errors import RangeError, ReadingError, quote, INF, NINF
-# What only the constructor or a rejection uses (check_lat, check_range, the
-# hints, potential.series, moisture.boiling_error, and vapour_pressure/mixing_ratio
-# for a held mixing ratio) is imported where it is used: fewer names in this
-# module's dict (on MicroPython a dict grows in steps; 59 names fit the step
-# below 73).
+from .potential import GPH_MIN_M, GPH_MAX_M, msl_height, gph_series, newton_step, height_series
+from .layers import lnr, half_k_ln, HALF_RG
+from .moisture import rh_q, tv_w, ONE_M_EPS, boiling_error
+from .standard import altitude_at
+from .constants import WGS84, GRS80, EPSILON, check_ellipsoid
+from .errors import ReadingError, RangeError, quote, real, INF, NINF
 
 # --- events, flags, phases ----------------------------------------------------
 EV_LEVEL = 1
@@ -307,17 +381,23 @@ EV_TROPOPAUSE = 2
 EV_BURST = 4
 EV_LANDED = 8
 EV_LAUNCH = 16
+EV_FLOAT = 32
 
 FL_DRY = 1
 FL_HELD_MIXING = 2
 FL_NO_TIME = 4
 FL_DESCENT = 8
 FL_SAME_P = 16
+FL_NO_GPS = 32
+FL_CAPPED = 64
+FL_REPLACED = 128
+FL_TAKEOVER = 256
 
 PH_WAIT = 0
 PH_ASCENT = 1
-PH_DESCENT = 2
-PH_LANDED = 3
+PH_FLOAT = 2
+PH_DESCENT = 3
+PH_LANDED = 4
 
 MANDATORY_PA = (100000.0, 92500.0, 85000.0, 70000.0, 50000.0, 40000.0, 30000.0, 25000.0,
                 20000.0, 15000.0, 10000.0, 7000.0, 5000.0, 3000.0, 2000.0, 1000.0)
@@ -335,144 +415,257 @@ GPS_MIN_M = -1000.0
 GPS_MAX_M = 100000.0
 
 WMO_LAPSE_K_PER_GPM = 0.002
-"""2 K/km, the lapse rate of the WMO tropopause definition, in K per gpm."""
+"""2 K/km, the lapse rate of the WMO tropopause definition, in K/gpm."""
 WMO_DEPTH_GPM = 2000.0
 """2 km, the depth over which the WMO definition checks the mean lapse rate."""
 
+NOISE_K = 4
+"""Multiple of a noise sigma that every check and event threshold allows."""
+COUNT_MAX = 1073741823
+"""2**30 - 1: count, rejected and retracted stop here (MicroPython's
+small-int limit on 32-bit boards, so a counter never allocates; 3.4 years of
+10 Hz readings)."""
+
 _NAN = float("nan")
-# HALF_RG (tinygeo.layers) = 0.5 * RD / G0: half of Rd/g0, gpm/K.
-# The zero the column stores is the literal 0.0 (equal float literals are one
-# object of the module's constant table, so every stored zero shares it).
 # Integral constants are ints: free on MicroPython (a float constant is a heap
 # object for the module's lifetime); every operation gives the same double.
 _NODE_D = 1500             # m between the nodes of the height quadratic
 _NODE_W = 3000             # gpm: the quadratic is used within +-_NODE_W of its node
 _NODE_W2 = 6000            # gpm: and gives the start of the next node's Newton step within it
 _RH_SLOPE_MIN = 1          # %RH below which dTv/dRH is held, not recomputed
+_SQRT2 = 1.4142135623730951
+# dTv/dw / T = 1/eps - 1 at w = 0 (from Tv = T (1 + w/eps)/(1 + w)), times
+# 1/sqrt(3) (the RMS error bound of a mixing ratio known to lie in [0, w_s]);
+# see "Humidity" and "Uncertainty"
+_HUM_K = (1.0 / EPSILON - 1.0) * 0.5773502691896258
+
+
+class _Rec:
+    """One reading and the integration state after it (the look-back keeps
+    two: the latest accepted reading and the one before it).
+
+    The reading (written by Column._check): p_pa, t_k, rh_pct (nan: not
+    given), tsr (time stamp as given, int or float, or None), gpsr (GPS as
+    given: None, nan or m above MSL). The state after it (Column._compute):
+    tv_k, flags, gph_m, c (Kahan compensation), height_m, rdh/rdt (the
+    height change and time of the latest timed step: rate_m_s), nodes (a
+    new height node waiting, or None), t0 (the first time stamp, as given),
+    tr, g_t, h_tm (stamp, gph and height of the latest timed reading), dt
+    (seconds since the timed reading before it, nan if none), h_t, h_p, h_rh
+    (the latest reading with humidity), w (its mixing ratio, held; nan until
+    needed), gps_m, gps_diff_m, gps_here, and the uncertainty sums var_done,
+    var_p, tm2, s2, p_start, sum_rh, sum_p, slope, sum_hum, tvh (see
+    "Uncertainty")."""
+
+    def __init__(self):
+        nan = _NAN
+        self.p_pa = self.t_k = self.rh_pct = self.tv_k = nan
+        self.tsr = self.gpsr = self.nodes = self.t0 = self.tr = None
+        self.flags = 0
+        self.gph_m = self.height_m = self.rdh = self.rdt = self.dt = nan
+        self.c = 0.0
+        self.g_t = self.h_tm = nan
+        self.h_t = self.h_p = self.h_rh = self.w = nan
+        self.gps_m = self.gps_diff_m = nan
+        self.gps_here = False
+        self.var_done = self.var_p = self.ct = self.tm2 = self.s2 = self.sum_rh = self.sum_p = 0.0
+        self.slope = self.sum_hum = self.tvh = 0.0
+        self.p_start = nan
 
 
 # --- checkpoint layout ----------------------------------------------------------
-# Settings first (the constructor is called with them on restore), then state.
-_CFG_F = ("lat_deg", "start_height_m", "_anchor", "sigma_p_pa", "sigma_t_k", "sigma_rh_pct",
-          "bias_p_pa", "bias_t_k", "bias_rh_pct", "_max_rate", "landing_s", "landing_tol_pa",
-          "launch_m", "burst_drop_m", "tropopause_max_p_pa", "rh_tol_pct", "_geoid_n",
-          "_t_step", "max_t_rate_k_s", "max_t_gradient_k_m")
-_CFG_I = ("_ell", "ice", "dry_fallback", "burst_readings", "track_sigma")
-_ST_F = ("p_pa", "t_k", "tv_k", "rh_pct", "time_s", "gph_m", "_c", "height_m", "rate_m_s",
-         "max_gph_m", "launch_time_s", "burst_gph_m", "burst_time_s", "burst_p_pa",
-         "level_p_pa", "level_gph_m", "level_height_m", "level_t_k",
-         "tropopause_p_pa", "tropopause_gph_m", "tropopause_t_k", "gps_m", "gps_diff_m",
-         "_t_last", "_g_t", "_min_gph", "_launch_gph", "_max_time", "_max_p", "_burst_line", "_env_g",
-         "_land_lo", "_land_hi", "_land_t", "_h_t", "_h_p", "_h_rh", "_w_held",
-         "_tp_g", "_tp_top", "_tp_th", "_tp_p", "_tp_t",
-         "_n_g", "_n_h", "_n_k1", "_n_k2", "_n_lo", "_n_hi", "_h_tm",
-         "_var_done", "_ct", "_tm2", "_s2", "_p_start", "_sum_rh", "_sum_p", "_slope", "_var_anchor")
-_ST_I = ("count", "rejected", "flags", "phase", "_lvl", "_burst_n", "_tp_state", "_gps_n")
+# the record fields a checkpoint stores for both records (floats, then ints);
+# time stamps (tsr, tr) are stored relative to t0, t0 itself apart (see to_bytes)
+_REC_F = ("p_pa", "t_k", "rh_pct", "tv_k", "gph_m", "c", "height_m", "rdh", "rdt", "tsr", "tr",
+          "dt", "g_t", "h_tm", "h_t", "h_p", "h_rh", "w", "gps_m", "gps_diff_m", "var_done", "var_p",
+          "ct", "tm2", "s2", "p_start", "sum_rh", "sum_p", "slope", "sum_hum", "tvh")
+_REC_I = ("flags", "gps_here")
+# the settings (the constructor is called with them on restore)
+_CFG_F = ("lat_deg", "start_height_m", "anchor_p_pa", "sigma_p_pa", "sigma_t_k", "sigma_rh_pct",
+          "bias_p_pa", "bias_t_k", "bias_rh_pct", "max_rate_m_s", "start_guard_m",
+          "time_unit_s", "smooth_s", "launch_gpm", "burst_drop_gpm", "burst_rate_gpm_s",
+          "float_s", "float_band_gpm", "landing_s", "landing_band_gpm", "tropopause_max_p_pa",
+          "tropopause_layer_gpm", "rh_tol_pct", "geoid_undulation_m", "max_t_step_k",
+          "max_t_rate_k_s", "max_t_gradient_k_gpm")
+_CFG_I = ("ellipsoid_code", "ice", "dry_fallback", "burst_readings", "takeover_readings",
+          "track_sigma")
+# the column's event state; the clocks (time stamps as given, or confirmed
+# reading counts without time) are stored relative to t0, like the records'
+_ST_F = ("smooth_gph_m", "_f_v", "max_gph_m", "launch_time_s",
+         "burst_gph_m", "burst_time_s", "burst_p_pa", "float_gph_m", "float_time_s",
+         "landing_time_s", "level_p_pa", "level_gph_m", "level_height_m", "level_t_k",
+         "tropopause_p_pa", "tropopause_gph_m", "tropopause_t_k", "tropopause_time_s",
+         "_e_p", "_e_g", "_e_t", "_f_dt", "_f_a", "_f_b", "_f_cx", "_f_cv", "_f_bv",
+         "_max_clk", "_max_p", "_min_g", "_launch_line", "_fl_g", "_fl_lo", "_fl_hi", "_fl_clk",
+         "_fl_end", "_land_lo", "_land_hi", "_land_end", "_tb_top", "_tb_g0", "_tb_g1", "_tb_st",
+         "_tb_c0", "_tb_c1", "_tb_th", "_tp_g", "_tp_top", "_tp_th", "_tp_p", "_tp_t", "_tp_clk",
+         "_n_g", "_n_h", "_n_k1", "_n_k2", "_n_lo", "_n_hi", "_var_anchor")
+_CLK_F = ("_max_clk", "_fl_clk", "_fl_end", "_land_end", "_tb_c0", "_tb_c1", "_tp_clk")
+_ST_I = ("count", "rejected", "retracted", "phase", "_has_b", "_e_n", "_lvl", "_burst_n",
+         "_tb_n", "_tp_state", "_t0_int", "_t0_hi", "_t0_lo")
+# what a restored value may be (tinygeo.checkpoint.check_values: name lo hi,
+# "n" where nan means "not known yet"); kept as text: read only on a restore
+_RESTORE_COL = ("count 0 1073741823;rejected 0 1073741823;retracted 0 1073741823;phase 0 4;"
+                "_has_b 0 1;_e_n 0 *;_lvl 0 16;_burst_n 0 *;_tb_n 0 *;_tp_state 0 3;"
+                "smooth_gph_m -20000 200000 n;max_gph_m -20000 200000 n;"
+                "burst_p_pa 0.1 120000 n;level_p_pa 1000 100000 n;level_t_k 150 350 n;"
+                "tropopause_p_pa 0 120000 n;tropopause_t_k 150 350 n;_var_anchor 0 *;"
+                "_f_dt 0 * n;_f_a 0 1 n;_f_cx 0 * n;_f_cv 0 * n")
+_RESTORE_REC = ("p_pa 0.1 120000;t_k 150 350;rh_pct -3 103 n;tv_k 150 350;"
+                "gph_m -20000 200000;c -1 1;height_m -20000 200000 n;dt 0 * n;"
+                "h_t 150 350 n;h_p 0.1 120000 n;h_rh -3 103 n;w 0 1 n;"
+                "gps_m -1000 100000 n;var_done 0 *;var_p 0 *;tm2 0 700;s2 0 *;"
+                "p_start 0.1 120000 n;tvh 0 *;flags 0 511;gps_here 0 1")
 _MAGIC = b"TGCK"
-_VERSION = 3
-_HEAD = "<4sBH"            # magic, version, payload length (7 bytes: _column_rare._HEAD_LEN)
-# header, the doubles ('<d') then the ints ('<i'), CRC-32 (no padding with '<')
-CHECKPOINT_BYTES = 7 + 8 * (len(_CFG_F) + len(_ST_F)) + 4 * (len(_CFG_I) + len(_ST_I)) + 4
-"""Size of a checkpoint blob, bytes."""
+_VERSION = 4
+CHECKPOINT_BYTES = (7 + 8 * (len(_CFG_F) + len(_ST_F) + 1 + 2 * len(_REC_F))
+                    + 4 * (len(_CFG_I) + len(_ST_I) + 2 * len(_REC_I)) + 4)
+"""Size of a checkpoint blob, bytes (the frame of tinygeo.checkpoint)."""
 
 
 class Column:
     """The running hypsometric integration of an atmospheric column (see the
     module docstring for every option, attribute, event and formula)."""
 
-    # the state (declared for type checkers; set by __init__ from _ST_I and _ST_F)
-    count: int; rejected: int; flags: int; phase: int; _lvl: int; _burst_n: int; _tp_state: int
-    _gps_n: int
-    p_pa: float; t_k: float; tv_k: float; rh_pct: float; time_s: float; gph_m: float; _c: float
-    height_m: float; rate_m_s: float; max_gph_m: float; launch_time_s: float; burst_gph_m: float
-    burst_time_s: float; burst_p_pa: float; level_p_pa: float; level_gph_m: float
-    level_height_m: float; level_t_k: float; tropopause_p_pa: float; tropopause_gph_m: float
-    tropopause_t_k: float; gps_m: float; gps_diff_m: float; _t_last: float; _g_t: float
-    _min_gph: float; _launch_gph: float; _max_time: float; _max_p: float; _burst_line: float
-    _env_g: float; _land_lo: float; _land_hi: float; _land_t: float; _h_t: float; _h_p: float
-    _h_rh: float; _w_held: float; _tp_g: float; _tp_top: float; _tp_th: float; _tp_p: float
-    _tp_t: float; _n_g: float; _n_h: float; _n_k1: float; _n_k2: float; _n_lo: float; _n_hi: float
-    _h_tm: float; _var_done: float; _ct: float; _tm2: float; _s2: float; _p_start: float
-    _sum_rh: float; _sum_p: float; _slope: float; _var_anchor: float
+    # event state (declared for type checkers; set by _reset_events from _ST_F)
+    smooth_gph_m: float; _f_v: float; max_gph_m: float
+    launch_time_s: float; burst_gph_m: float; burst_time_s: float; burst_p_pa: float
+    float_gph_m: float; float_time_s: float; landing_time_s: float; level_p_pa: float
+    level_gph_m: float; level_height_m: float; level_t_k: float; tropopause_p_pa: float
+    tropopause_gph_m: float; tropopause_t_k: float; tropopause_time_s: float
+    _e_p: float; _e_g: float; _e_t: float; _f_dt: float
+    _f_a: float; _f_b: float; _f_cx: float; _f_cv: float; _f_bv: float; _max_clk: float
+    _max_p: float
+    _min_g: float; _launch_line: float; _fl_g: float; _fl_lo: float; _fl_hi: float
+    _fl_clk: float; _fl_end: float; _land_lo: float; _land_hi: float; _land_end: float
+    _tb_top: float; _tb_g0: float; _tb_g1: float; _tb_st: float; _tb_c0: float; _tb_c1: float
+    _tb_th: float; _tp_g: float; _tp_top: float; _tp_th: float; _tp_p: float; _tp_t: float
+    _tp_clk: float
+    _n_g: float; _n_h: float; _n_k1: float; _n_k2: float; _n_lo: float; _n_hi: float
+    _var_anchor: float
+    count: int; rejected: int; retracted: int; phase: int; _has_b: int; _e_n: int
+    _lvl: int; _burst_n: int; _tb_n: int; _tp_state: int
 
     def __init__(self, lat_deg, start_height_m=0, anchor_p_pa=None, ellipsoid=WGS84,
                  ice=False, dry_fallback=False, sigma_p_pa=10, sigma_t_k=0.2,
                  sigma_rh_pct=1, bias_p_pa=50, bias_t_k=0.2, bias_rh_pct=3,
-                 max_rate_m_s=200, landing_s=60, landing_tol_pa=50, launch_m=20,
-                 burst_drop_m=50, burst_readings=3, tropopause_max_p_pa=50000,
-                 rh_tol_pct=3, track_sigma=True, on_event=None, geoid_undulation_m=None,
-                 max_t_step_k=3, max_t_rate_k_s=1, max_t_gradient_k_m=0.1):
-        from .errors import check_lat, check_range, pressure_hint
+                 max_rate_m_s=200, start_guard_m=3000, time_unit_s=1, smooth_s=20,
+                 launch_gpm=20, burst_drop_gpm=50, burst_rate_gpm_s=3, burst_readings=3,
+                 float_s=600, float_band_gpm=150, landing_s=60, landing_band_gpm=10,
+                 tropopause_max_p_pa=50000, tropopause_layer_gpm=100, rh_tol_pct=3,
+                 takeover_readings=3, track_sigma=True, on_event=None,
+                 geoid_undulation_m=None, max_t_step_k=3, max_t_rate_k_s=1,
+                 max_t_gradient_k_gpm=0.1):
+        # What only the constructor or a rejection uses is imported where it is
+        # used: fewer names in the module's dict (RAM on MicroPython).
+        from .errors import check_lat, check_range, check_flag, pressure_hint
         from .potential import series
         # --- settings (checked here; RangeError names the bad one)
         self.lat_deg = check_lat(lat_deg)
-        if ellipsoid is WGS84 or getattr(ellipsoid, "name", None) == "WGS84":
-            self.ellipsoid = WGS84
-        elif ellipsoid is GRS80 or getattr(ellipsoid, "name", None) == "GRS80":
-            self.ellipsoid = GRS80
-        else:
-            raise RangeError("ellipsoid=%s not supported; pass tinygeo.WGS84 or tinygeo.GRS80"
-                             % quote(ellipsoid))
+        self.ellipsoid = check_ellipsoid(ellipsoid)
         self.start_height_m = check_range("start_height_m", start_height_m, -1000, 100000, "m",
                                           "height above mean sea level in metres")
-        if anchor_p_pa is None:
-            self._anchor = _NAN
-        else:
-            self._anchor = check_range("anchor_p_pa", anchor_p_pa, 0.1, P_MAX_PA, "Pa",
-                                       pressure_hint(anchor_p_pa) if isinstance(anchor_p_pa, (int, float))
-                                       else None)
-        self.ice = bool(ice)
-        self.dry_fallback = bool(dry_fallback)
+        self.ice = check_flag("ice", ice)
+        self.dry_fallback = check_flag("dry_fallback", dry_fallback)
         self.sigma_p_pa = check_range("sigma_p_pa", sigma_p_pa, 0, 10000, "Pa")
         self.sigma_t_k = check_range("sigma_t_k", sigma_t_k, 0, 50, "K")
         self.sigma_rh_pct = check_range("sigma_rh_pct", sigma_rh_pct, 0, 100, "%")
         self.bias_p_pa = check_range("bias_p_pa", bias_p_pa, 0, 10000, "Pa")
         self.bias_t_k = check_range("bias_t_k", bias_t_k, 0, 50, "K")
         self.bias_rh_pct = check_range("bias_rh_pct", bias_rh_pct, 0, 100, "%")
-        if max_rate_m_s is None:
-            self._max_rate = _NAN
-        else:
-            self._max_rate = check_range("max_rate_m_s", max_rate_m_s, 1, 10000, "m/s")
+        self.max_rate_m_s = None if max_rate_m_s is None else \
+            check_range("max_rate_m_s", max_rate_m_s, 1, 10000, "m/s")
+        self.start_guard_m = None if start_guard_m is None else \
+            check_range("start_guard_m", start_guard_m, 100, 100000, "m")
+        self.time_unit_s = check_range("time_unit_s", time_unit_s, 1e-6, 1e6, "s",
+                                       "seconds per unit of time_s (0.001 for milliseconds)")
+        self.smooth_s = check_range("smooth_s", smooth_s, 1, 10000, "s")
+        self.launch_gpm = check_range("launch_gpm", launch_gpm, 0, 10000, "gpm")
+        self.burst_drop_gpm = check_range("burst_drop_gpm", burst_drop_gpm, 0, 100000, "gpm")
+        self.burst_rate_gpm_s = check_range("burst_rate_gpm_s", burst_rate_gpm_s, 0, 1000, "gpm/s")
+        self.burst_readings = _count_setting("burst_readings", burst_readings, 1, 100000)
+        self.float_s = check_range("float_s", float_s, 1, 1000000, "s")
+        self.float_band_gpm = check_range("float_band_gpm", float_band_gpm, 0, 100000, "gpm")
         self.landing_s = check_range("landing_s", landing_s, 0, 1000000, "s")
-        self.landing_tol_pa = check_range("landing_tol_pa", landing_tol_pa, 0, 10000, "Pa")
-        self.launch_m = check_range("launch_m", launch_m, 0, 10000, "gpm")
-        self.burst_drop_m = check_range("burst_drop_m", burst_drop_m, 0, 100000, "gpm")
-        if not isinstance(burst_readings, int) or burst_readings < 1 or burst_readings > 100000:
-            raise RangeError("burst_readings=%s outside 1..100000 readings; pass an int"
-                             % quote(burst_readings))
-        self.burst_readings = burst_readings
+        self.landing_band_gpm = check_range("landing_band_gpm", landing_band_gpm, 0, 10000, "gpm")
         self.tropopause_max_p_pa = check_range("tropopause_max_p_pa", tropopause_max_p_pa, 0,
-                                            P_MAX_PA, "Pa")
+                                               120000, "Pa")
+        self.tropopause_layer_gpm = check_range("tropopause_layer_gpm", tropopause_layer_gpm, 1,
+                                                5000, "gpm")
         self.rh_tol_pct = check_range("rh_tol_pct", rh_tol_pct, 0, 3, "%")
-        self.track_sigma = bool(track_sigma)
-        if max_t_step_k is None:
-            self._t_step = _NAN
-        else:
-            self._t_step = check_range("max_t_step_k", max_t_step_k, 0, 100, "K")
-        self._t_step_neg = -self._t_step        # derived, so feed builds no float for its check
-        self.max_t_rate_k_s = check_range("max_t_rate_k_s", max_t_rate_k_s, 0, 100, "K/s")
-        self.max_t_gradient_k_m = check_range("max_t_gradient_k_m", max_t_gradient_k_m, 0, 10, "K/m")
+        self.takeover_readings = _count_setting("takeover_readings", takeover_readings, 2, 100)
+        self.track_sigma = check_flag("track_sigma", track_sigma)
         self.on_event = on_event
-        if geoid_undulation_m is None:
-            self._geoid_n = _NAN
-        else:
-            self._geoid_n = check_range("geoid_undulation_m", geoid_undulation_m, -150, 150, "m",
-                                        "geoid undulation N in metres (Earth: about -107..+86 m)")
-        # --- derived settings
+        self.geoid_undulation_m = None if geoid_undulation_m is None else \
+            check_range("geoid_undulation_m", geoid_undulation_m, -150, 150, "m",
+                        "geoid undulation N in metres (Earth: about -107..+86 m)")
+        self.max_t_step_k = None if max_t_step_k is None else \
+            check_range("max_t_step_k", max_t_step_k, 0, 100, "K")
+        self.max_t_rate_k_s = check_range("max_t_rate_k_s", max_t_rate_k_s, 0, 100, "K/s")
+        self.max_t_gradient_k_gpm = check_range("max_t_gradient_k_gpm", max_t_gradient_k_gpm, 0,
+                                                10, "K/gpm")
+        # --- derived settings (so that feed builds no float for them)
         # the geopotential series at this latitude, evaluated once (tinygeo.potential)
         self._pc = series(self.lat_deg, self.ellipsoid)
-        self._min_rate = -self._max_rate
+        self._a_m = self.ellipsoid.a_m
+        self._g_start = gph_series(self.start_height_m, self._pc, self._a_m)
+        self.anchor_p_pa = None
+        self._anchor = _NAN
+        if anchor_p_pa is not None:
+            self._anchor = check_range("anchor_p_pa", anchor_p_pa, 0.1, P_MAX_PA, "Pa",
+                                       pressure_hint)
+            why = self._guard(self._anchor)
+            if why:
+                raise RangeError("anchor_p_pa=%s %s" % (quote(anchor_p_pa), why))
+            self.anchor_p_pa = self._anchor
+        rate = _NAN if self.max_rate_m_s is None else self.max_rate_m_s
+        self._max_rate = rate
+        self._c_dt = self._c_lim = self._c_neg = _NAN   # max_rate_m_s dt for the latest dt
+        # time stamps -> s: skipped for 1 (no float built per reading)
+        self._unit = None if self.time_unit_s == 1 else self.time_unit_s
+        u = self.time_unit_s
+        self._float_u = self.float_s / u          # float_s and landing_s in stamp units
+        self._land_u = self.landing_s / u
+        # (Rd/g0) sigma_p: the height noise of a reading is _kz Tv / p (noise_gph_m);
+        # the rate check allows 4 sqrt(2) of it
+        self._kz = 2 * HALF_RG * self.sigma_p_pa
+        self._kn = NOISE_K * _SQRT2 * self._kz
+        # the temperature step allowed without time or climb, with the noise
+        if self.max_t_step_k is None:
+            self._t_lim = self._t_lim_neg = _NAN
+        else:
+            self._t_lim = self.max_t_step_k + NOISE_K * _SQRT2 * self.sigma_t_k
+            self._t_lim_neg = -self._t_lim
         self._spk2 = HALF_RG * HALF_RG * self.sigma_p_pa * self.sigma_p_pa   # (K/2 sigma_p)^2
         self._st2 = self.sigma_t_k * self.sigma_t_k
-        # --- state: every int of _ST_I 0 (but _gps_n), every float of _ST_F
-        # nan (but the zeros, which share one float)
-        for n in _ST_I:
-            setattr(self, n, 0)
-        self._gps_n = -1
+        # --- state: the records of the look-back (_h the latest accepted
+        # reading, _b the one before it) and scratch records; counters; the
+        # recovery memory; the event state
+        self._h = _Rec()
+        self._b = _Rec()
+        self._n = _Rec()
+        self._m = _Rec()
+        self._cr = _Rec()          # the latest reading of the run (recovery memory)
+        self._run = 0              # readings in the run
+        self._run_b = 0            # of which the latest ones in a row agree with _b
+        self._why = None           # (reason, message number, arguments) of the latest contradiction
+        self.count = 0
+        self.rejected = 0
+        self.retracted = 0
+        self._has_b = 0
+        self._n_g = self._n_h = self._n_k1 = self._n_k2 = _NAN
+        self._n_lo = self._n_hi = _NAN
+        self._var_anchor = 0.0
+        self._reset_events()
+
+    def _reset_events(self):
+        # the event state of a column that has confirmed nothing yet
         for n in _ST_F:
-            setattr(self, n, _NAN)
-        self._c = self._var_done = self._ct = self._tm2 = self._s2 = 0.0
-        self._sum_rh = self._sum_p = self._slope = self._var_anchor = 0.0
+            if not n.startswith("_n_") and n != "_var_anchor":
+                setattr(self, n, _NAN)
+        self.phase = PH_WAIT
+        self._e_n = self._lvl = self._burst_n = self._tb_n = self._tp_state = 0
+        self._tb_st = 0.0
 
     # ------------------------------------------------------------------ feed
     def feed(self, p_pa, t_k, rh_pct=None, time_s=None, gps_m=None):
@@ -480,13 +673,23 @@ class Column:
 
         p_pa: pressure, Pa, 0.1..120000; t_k: temperature, K, 150..350;
         rh_pct: relative humidity, %, -rh_tol_pct..100 + rh_tol_pct, or None;
-        time_s: time stamp, s, not below the latest one given, or None;
-        gps_m: GPS height above mean sea level, m, -1000..100000, or None.
-        Raises ReadingError (``.reason``) and changes nothing but
-        ``rejected`` for a bad reading. Formulas: see the module docstring.
+        time_s: time stamp in units of time_unit_s (int or float), or None;
+        gps_m: GPS height, m, -1000..100000, nan (no fix) or None.
+        Raises ReadingError (``.reason``); see the module docstring ("Checks
+        and recovery") for what a rejected reading changes.
         """
-        # ---- 1. check the values (nothing is written before step 3)
-        # (the messages, by number, are in _bad)
+        n = self._n
+        self._check(n, p_pa, t_k, rh_pct, time_s, gps_m)      # 1. the values on their own
+        if self.count == 0:                                    # 2. the first reading: the start
+            self._compute(None, n)
+            return self._advance()
+        if self._compute(self._h, n) == 0:                     # 3. on top of the latest reading
+            return self._advance()
+        return self._recover(n)                                # 4. or not: look-back, recovery
+
+    # ------------------------------------------------------------ 1. check
+    def _check(self, n, p_pa, t_k, rh_pct, time_s, gps_m):
+        # every value on its own: a real number, in range; written into record n
         p = self._num(p_pa, "p_pa", "Pa")
         if not P_MIN_PA <= p <= P_MAX_PA:
             from .errors import pressure_hint
@@ -499,321 +702,299 @@ class Column:
             hint = temperature_hint(t)
             self._bad("temperature", 1, "t_k", quote(t_k), T_MIN_K, T_MAX_K, "K",
                       "; " + hint if hint else "")
+        rh = _NAN
         if rh_pct is not None:
             rh = self._num(rh_pct, "rh_pct", "%")
             if rh < 0 or rh > 100:     # floats are built only out here (rare)
                 tol = self.rh_tol_pct
                 if rh < -tol or rh > 100 + tol:
                     self._bad("humidity", 2, quote(rh_pct), -tol, 100 + tol)
-        if time_s is not None:
-            ts = self._num(time_s, "time_s", "s")
-            if ts < self._t_last:
-                self._bad("time", 3, quote(time_s), self._t_last)
+        if time_s is not None and (isinstance(time_s, bool) or not isinstance(time_s, int)):
+            time_s = self._num(time_s, "time_s", "s")   # ints stay ints (see "Time")
+        gps = None
         if gps_m is not None:
-            gps = self._num(gps_m, "gps_m", "m")
-            if self._geoid_n == self._geoid_n:
-                try:
-                    gps = msl_height(gps, self._geoid_n)
-                except RangeError as e:
-                    self._bad("gps", 4, quote(gps_m), e)
-            if not GPS_MIN_M <= gps <= GPS_MAX_M:
-                self._bad("gps", 5, quote(gps_m), GPS_MIN_M, GPS_MAX_M)
+            gps = self._num(gps_m, "gps_m", "m", True)
+            if gps == gps:
+                if self.geoid_undulation_m is not None:
+                    try:
+                        gps = msl_height(gps, self.geoid_undulation_m)
+                    except RangeError as e:
+                        self._bad("gps", 4, quote(gps_m), e)
+                if not GPS_MIN_M <= gps <= GPS_MAX_M:
+                    self._bad("gps", 5, quote(gps_m), GPS_MIN_M, GPS_MAX_M)
+        n.p_pa = p
+        n.t_k = t
+        n.rh_pct = rh
+        n.tsr = time_s
+        n.gpsr = gps
 
-        # ---- 2. compute the new state in locals
+    def _num(self, x, name, unit, nan_ok=False):
+        # a finite float (the rule of tinygeo.errors.real); anything else is rejected
+        v = x if isinstance(x, float) else real(x)
+        if v is None or v == INF or v == NINF or (v != v and not nan_ok):
+            self._bad("number", 0, name, quote(x), unit)
+        return v
+
+    def _guard(self, p):
+        # the start guard: "" if the standard pressure altitude of p lies within
+        # start_guard_m of start_height_m, else what is wrong
+        if self.start_guard_m is None:
+            return ""
+        pa = altitude_at(p)
+        if abs(pa - self._g_start) <= self.start_guard_m:
+            return ""
+        from .errors import pressure_hint
+        hint = pressure_hint(p)
+        return ("is at pressure altitude %.0f gpm, %.0f gpm from start_height_m=%g (start_guard_m="
+                "%g); %s" % (pa, pa - self._g_start, self.start_height_m, self.start_guard_m,
+                             hint or "wrong unit or start height? (start_guard_m=None: no guard)"))
+
+    # ------------------------------------------------------------ 2. compute
+    def _compute(self, a, n):
+        # Fill record n (which holds the reading: p_pa, t_k, rh_pct, tsr, gpsr)
+        # with the state after it on top of record a (None: n is the first
+        # reading). Returns 0 if n agrees with a, else the number of the message
+        # saying why (its reason and arguments in self._why). Raises
+        # ReadingError only for what no look-back can mend (vapour pressure
+        # above the air pressure, a virtual temperature out of range, the start
+        # guard). Writes nothing but n and self._why.
+        p = n.p_pa
+        t = n.t_k
+        rh = n.rh_pct
+        why = 0
         flags = 0
-        first = self.count == 0
-        if rh_pct is not None:
-            # tinygeo.virtual_temperature (its moisture.tv_rh, inlined to share q):
-            # Tv = T/(1 - r), r = (1 - eps) e/p = rh q, and dTv/dRH = Tv q
+        # -- humidity -> virtual temperature (see "Humidity")
+        if rh == rh:
+            # tinygeo.virtual_temperature (its moisture.tv_rh, written out to
+            # share q): Tv = T/(1 - r), r = (1 - eps) e/p = rh q, dTv/dRH = Tv q
             q = rh_q(t, p, self.ice)
             r = rh * q
             if r >= ONE_M_EPS:
-                from .moisture import boiling_error
-                self._bad("humidity", 6, quote(rh_pct), t, p, boiling_error(r * p / ONE_M_EPS, p))
+                self._bad("humidity", 6, quote(rh), t, p, boiling_error(r * p / ONE_M_EPS, p))
             tv = t / (1 - r)
             if rh >= _RH_SLOPE_MIN:
                 slope = tv * q
             else:
-                slope = self._slope
-            w = _NAN
+                slope = 0.0 if a is None else a.slope
+            n.h_t = t
+            n.h_p = p
+            n.h_rh = rh
+            n.w = _NAN
+            tvh = 0.0
         else:
-            slope = self._slope
-            w = self._w_held
-            if self.dry_fallback or self._h_p != self._h_p:
-                tv = t
+            if a is None:
+                slope = 0.0
+                n.h_t = n.h_p = n.h_rh = n.w = _NAN
+            else:
+                slope = a.slope
+                n.h_t = a.h_t
+                n.h_p = a.h_p
+                n.h_rh = a.h_rh
+                n.w = a.w
+            held = not self.dry_fallback and n.h_p == n.h_p
+            ws = 0.0
+            if held or self.track_sigma:
+                # the saturation mixing ratio here: e_s/p = x = 100 q/(1 - eps)
+                x = rh_q(t, p, self.ice) * 100 / ONE_M_EPS
+                ws = 1.0 if x >= 0.5 else EPSILON * x / (1 - x)
+            if not held:
+                w = 0.0
                 flags = FL_DRY
             else:
+                w = n.w
                 if w != w:
-                    try:
-                        # the mixing ratio of the latest reading that had a humidity, kg/kg
-                        if self._h_rh <= 0.0:
-                            w = 0.0
-                        else:
-                            from .moisture import vapour_pressure, mixing_ratio
-                            w = mixing_ratio(vapour_pressure(self._h_t, self._h_p, self._h_rh,
-                                                             self.ice), self._h_p)
-                    except RangeError as e:
-                        # e >= p at the rounding edge of feed's r < 1 - eps test
-                        self._bad("humidity", 7, e)
-                if w > 1:
-                    self._bad("humidity", 8, w)
-                tv = tv_w(t, w)                # tinygeo.virtual_temperature_from_mixing_ratio
+                    # the mixing ratio of the latest reading that had a humidity,
+                    # kg/kg (its r < 1 - eps was checked: e < p): held from now on
+                    if n.h_rh <= 0:
+                        w = 0.0
+                    else:
+                        e = n.h_rh * rh_q(n.h_t, n.h_p, self.ice) * n.h_p / ONE_M_EPS
+                        w = EPSILON * e / (n.h_p - e)
+                    n.w = w
                 flags = FL_HELD_MIXING
-        t0 = self.t_k
-        if first:
+                if w > ws:
+                    w = ws
+                    flags = FL_HELD_MIXING | FL_CAPPED
+            tv = tv_w(t, w)            # tinygeo.virtual_temperature_from_mixing_ratio
+            tvh = _HUM_K * t * ws if self.track_sigma else 0.0   # Tv sigma of the unknown humidity, K
+        if not T_MIN_K <= tv <= T_MAX_K:
+            self._bad("temperature", 9, tv, t, p, T_MIN_K, T_MAX_K)
+        # -- the layer from a (Kahan-summed hypsometric thickness)
+        if a is None:
+            off = self._guard(p)
+            if off:
+                self._bad("pressure", 13, quote(p), off)
             p0 = self._anchor
             tv0 = tv
-            s = gph_series(self.start_height_m, self._pc, self.ellipsoid.a_m)
+            s = self._g_start
             c = 0.0
         else:
-            p0 = self.p_pa
-            tv0 = self.tv_k
-            s = self.gph_m
-            c = self._c
+            p0 = a.p_pa
+            tv0 = a.tv_k
+            s = a.gph_m
+            c = a.c
+        tm2 = tv0 + tv
         if p0 != p0 or p == p0:   # first reading without anchor, or a repeated pressure
-            dz = 0.0
-            a = 0.0
-            tm2 = tv0 + tv
-            if not first:
-                flags |= FL_SAME_P
+            dz = half = 0.0
             g = s
+            if a is not None:
+                flags |= FL_SAME_P
         else:
-            if T_MIN_K <= tv <= T_MAX_K and T_MIN_K <= tv0 <= T_MAX_K:
-                # tinygeo.layer_thickness (arguments checked above), as its two products
-                a = half_k_ln(p0, p)       # (Rd/g0)/2 ln(p0/p): also dz/dTv of either end
-                tm2 = tv0 + tv
-                dz = a * tm2
-            else:
-                # the range tinygeo.layer_thickness accepts for Tv (checked here,
-                # not by calling it, so nothing below runs with dz unset)
-                self._bad("temperature", 9, tv, t, p, T_MIN_K, T_MAX_K)
+            # tinygeo.layer_thickness (arguments checked), as its two products
+            half = half_k_ln(p0, p)      # (Rd/g0)/2 ln(p0/p): also dz/dTv of either end
+            dz = half * tm2
             if p > p0:
                 flags |= FL_DESCENT
             # classic Kahan step: c carries the part of the sum lost so far
             y = dz - c
             g = s + y
             c = (g - s) - y
-        # temperature step (see max_t_step_k); a nan t0 (first reading) passes
-        dtk = t - t0
-        if dtk > self._t_step or dtk < self._t_step_neg:
-            # the full allowance, only for a change beyond max_t_step_k
-            allow = self._t_step + self.max_t_gradient_k_m * abs(dz)
-            if time_s is not None and self._t_last == self._t_last:
-                allow += self.max_t_rate_k_s * (ts - self._t_last)
-            if abs(dtk) > allow:
-                self._bad("temperature", 10, quote(t_k), dtk, t0, allow)
-        # geometric height from the node pair (new nodes are kept in locals until the commit)
+        n.tv_k = tv
+        n.gph_m = g
+        n.c = c
+        # -- geometric height from the node pair (a new node waits in n.nodes)
+        d = g - self._n_g
         if self._n_lo <= g <= self._n_hi:
-            nodes = None
-            d = g - self._n_g
+            n.nodes = None
             h = self._n_h + d * (self._n_k1 + d * self._n_k2)
         else:
             guess = _NAN
-            d = g - self._n_g
             if -_NODE_W2 <= d <= _NODE_W2:
                 # just out of the window: the old quadratic is within a few mm
                 guess = self._n_h + d * (self._n_k1 + d * self._n_k2)
-            nodes = self._nodes(g, guess)
-            d = g - nodes[0]
-            h = nodes[1] + d * (nodes[2] + d * nodes[3])
-        if time_s is None:
+            nd = self._nodes(g, guess)
+            n.nodes = nd
+            d = g - nd[0]
+            h = nd[1] + d * (nd[2] + d * nd[3])
+        n.height_m = h
+        # -- time, and the checks against a (see "Checks and recovery")
+        tsr = n.tsr
+        if a is None:
+            n.tr = None
+            n.g_t = n.h_tm = n.rdh = n.rdt = _NAN
+            n.t0 = tsr
+        else:
+            n.tr = a.tr
+            n.g_t = a.g_t
+            n.h_tm = a.h_tm
+            n.rdh = a.rdh
+            n.rdt = a.rdt
+            n.t0 = a.t0 if a.t0 is not None else tsr
+        dt = _NAN
+        if tsr is None:
             flags |= FL_NO_TIME
-            rate = _NAN
-        elif self._t_last == self._t_last:
-            dt = ts - self._t_last
-            if dt == 0.0:
-                if g != self._g_t:
-                    self._bad("time", 11, quote(time_s), g - self._g_t)
-                rate = _NAN     # a duplicate: the rate stays as it was
+            n.rdh = n.rdt = _NAN
+        else:
+            if n.tr is not None:
+                # the difference of two stamps as given: ints subtract exactly,
+                # before anything becomes a float (see "Time")
+                dt = tsr - n.tr
+                if self._unit is not None:
+                    dt = dt * self._unit
+                if dt < 0:
+                    why = 3
+                    self._why = ("time", 3, quote(tsr), self._rel(n.tr, n))
+            n.tr = tsr
+            n.g_t = g
+            n.h_tm = h
+        n.dt = dt
+        if a is not None:
+            # temperature step (see max_t_step_k); the noise is in _t_lim
+            dtk = t - a.t_k
+            if why == 0 and (dtk > self._t_lim or dtk < self._t_lim_neg):
+                allow = self._t_lim + self.max_t_gradient_k_gpm * abs(dz)
+                if dt == dt:
+                    allow += self.max_t_rate_k_s * dt
+                if abs(dtk) > allow:
+                    why = 10
+                    self._why = ("temperature", 10, quote(t), dtk, a.t_k, allow)
+            if dt == dt and a.h_tm == a.h_tm:
+                dh = h - a.h_tm
+                if dt > 0:
+                    # rate_m_s = dh/dt, built where it is read
+                    n.rdh = dh
+                    n.rdt = dt
+                    if dt != self._c_dt:
+                        # max_rate_m_s dt, kept while dt repeats
+                        self._c_dt = dt
+                        self._c_lim = self._max_rate * dt
+                        self._c_neg = -self._c_lim
+                    if why == 0 and (dh > self._c_lim or dh < self._c_neg):
+                        # beyond max_rate_m_s: still passes within the noise
+                        # (built only out here, rarely)
+                        noise = self._kn * tv / p
+                        if abs(dh) > self._c_lim + noise:
+                            why = 12
+                            self._why = ("rate", 12, quote(p), dh / dt, dt, self.max_rate_m_s,
+                                         noise)
+                elif why == 0 and dh != 0:
+                    # a repeated time stamp: the height may move within the noise
+                    if abs(dh) > self._kn * tv / p:
+                        why = 11
+                        self._why = ("time", 11, quote(tsr), dh)
+        # -- GPS
+        gps = n.gpsr
+        if gps is None or gps != gps:
+            if gps is not None:
+                flags |= FL_NO_GPS
+            n.gps_here = False
+            if a is None:
+                n.gps_m = n.gps_diff_m = _NAN
             else:
-                rate = (h - self._h_tm) / dt
-                if rate > self._max_rate or rate < self._min_rate:
-                    self._bad("rate", 12, quote(p_pa), rate, dt, self._max_rate)
+                n.gps_m = a.gps_m
+                n.gps_diff_m = a.gps_diff_m
         else:
-            rate = _NAN
-
-        # ---- 3. commit (no exception is raised from here on, but by on_event)
-        time0 = self.time_s    # the previous reading's time (for the peak, below)
-        self.count += 1
-        self.p_pa = p
-        self.t_k = t
-        self.tv_k = tv
-        self.gph_m = g
-        self._c = c
-        self.flags = flags
-        if rh_pct is None:
-            self.rh_pct = _NAN
-            self._w_held = w
-        else:
-            self.rh_pct = rh
-            self._h_t = t
-            self._h_p = p
-            self._h_rh = rh
-            self._w_held = _NAN
-        if nodes is not None:
-            self._n_g, self._n_h, self._n_k1, self._n_k2, self._n_lo, self._n_hi = nodes
-        self.height_m = h
-        if time_s is None:
-            self.time_s = _NAN
-            self.rate_m_s = _NAN
-        else:
-            self.time_s = ts
-            if rate == rate:
-                self.rate_m_s = rate
-            elif ts != self._t_last:
-                self.rate_m_s = _NAN
-            self._t_last = ts
-            self._g_t = g
-            self._h_tm = h
-        if gps_m is not None:
-            self.gps_m = gps
-            self.gps_diff_m = h - gps
-            self._gps_n = self.count
+            n.gps_here = True
+            n.gps_m = gps
+            n.gps_diff_m = h - gps
+        n.flags = flags
+        # -- uncertainty (see "Uncertainty"): tm2 = Tv0 + Tv,
+        # half = (Rd/g0)/2 ln(p0/p) = dz/dTv of either end of the layer
+        n.slope = slope
+        n.tvh = tvh
         if not self.track_sigma:
-            pass
-        elif first and p0 != p0:
-            # Streaming first-order propagation (module docstring, "Uncertainty");
-            # tm2 = Tv0 + Tv, a = (Rd/g0)/2 ln(p0/p) = dz/dTv of either end.
-            # The first reading: no layer yet; its sensitivities are all 0 so far
-            self._s2 = self._st2 + (slope * self.sigma_rh_pct) ** 2
-            self._p_start = p
-        else:
-            if first:
-                # anchored start: the anchor is exact, the first reading is both ends
-                self._ct = a + a
-                self._p_start = p0
+            return why
+        if a is None:
+            n.var_done = n.var_p = n.sum_p = n.sum_rh = n.sum_hum = 0.0
+            if p0 != p0:
+                # the first reading: no layer yet; its sensitivities are all 0 so far
+                n.ct = n.tm2 = 0.0
+                n.p_start = p
             else:
-                # final sensitivities of the previous reading: dz_n/dp = HALF_RG pco,
-                # dz_n/dTv = ct (its slope's share of the humidity bias: ct slope)
-                pco = (tm2 - self._tm2) / p0
-                ct = self._ct + a
-                self._var_done += ct * ct * self._s2 + pco * pco * self._spk2
-                self._sum_p += pco
-                self._sum_rh += ct * self._slope
-                self._ct = a
-            self._tm2 = tm2
-            if first or slope != self._slope:
-                sr = slope * self.sigma_rh_pct
-                self._s2 = self._st2 + sr * sr
-        self._slope = slope
-
-        # ---- 4. events
-        bits = 0
-        ph = self.phase
-        if first:
-            self.max_gph_m = g
-            self._env_g = g
-            self._max_time = self.time_s
-            self._max_p = p
-            self._min_gph = g
-            self._launch_gph = g + self.launch_m
-            bits |= self._tropopause(g, t, p)
-            lvl = 0
-            while lvl < 16 and MANDATORY_PA[lvl] > p:
-                lvl += 1
-            self._lvl = lvl
-            if lvl < 16 and MANDATORY_PA[lvl] == p:
-                bits |= self._levels(p, p, g, g, t, t)
+                # anchored start: the anchor is exact, the first reading is both ends
+                n.ct = half + half
+                n.tm2 = tm2
+                n.p_start = p0
+            sr = slope * self.sigma_rh_pct
+            n.s2 = self._st2 + sr * sr
+            return why
+        # the final sensitivities of reading a: dz_n/dp = HALF_RG pco, dz_n/dTv = ct
+        pco = (tm2 - a.tm2) / p0
+        ct = a.ct + half
+        n.var_done = a.var_done + ct * ct * a.s2
+        n.var_p = a.var_p + pco * pco       # times (K/2 sigma_p)^2 where it is read
+        n.sum_p = a.sum_p + pco
+        n.sum_rh = a.sum_rh + ct * a.slope
+        n.sum_hum = a.sum_hum + ct * a.tvh if a.tvh else a.sum_hum
+        n.ct = half
+        n.tm2 = tm2
+        n.p_start = a.p_start
+        if slope != a.slope:
+            sr = slope * self.sigma_rh_pct
+            n.s2 = self._st2 + sr * sr
         else:
-            if ph < PH_DESCENT:
-                if self._lvl < 16 and MANDATORY_PA[self._lvl] >= p:
-                    bits |= self._levels(p0, p, s, g, t0, t)
-                if g > self._env_g:
-                    bits |= self._tropopause(g, t, p)
-            if g > self._env_g:
-                self._env_g = g
-            # The peak is the higher of the lower ends of consecutive pairs: a
-            # reading counts only once the next one is at least as high as it,
-            # or it is the lower of the pair. One glitched reading (a pressure
-            # dropout that passes the rate check, e.g. with no time stamps)
-            # then never becomes the "highest point" that a false burst would
-            # be measured from. Costs at most one reading's rise at the top.
-            pk = s if s < g else g
-            if pk > self.max_gph_m:
-                self.max_gph_m = pk
-                if s < g:
-                    self._max_time = time0
-                    self._max_p = p0
-                else:
-                    self._max_time = self.time_s
-                    self._max_p = p
-                self._burst_line = pk - self.burst_drop_m
-                self._burst_n = 0
-            if ph == PH_WAIT:
-                if g < self._min_gph:
-                    self._min_gph = g
-                    self._launch_gph = g + self.launch_m
-                elif g >= self._launch_gph:
-                    self.phase = PH_ASCENT
-                    self.launch_time_s = self.time_s
-                    self._burst_line = self.max_gph_m - self.burst_drop_m
-                    self._burst_n = 0
-                    bits |= EV_LAUNCH
-            elif ph == PH_ASCENT:
-                if g <= self._burst_line:
-                    self._burst_n += 1
-                    if self._burst_n >= self.burst_readings:
-                        self.phase = PH_DESCENT
-                        self.burst_gph_m = self.max_gph_m
-                        self.burst_time_s = self._max_time
-                        self.burst_p_pa = self._max_p
-                        bits |= EV_BURST
-                else:
-                    self._burst_n = 0
-            elif ph == PH_DESCENT and time_s is not None:
-                if self._land_lo <= p <= self._land_hi:
-                    if ts - self._land_t >= self.landing_s:
-                        self.phase = PH_LANDED
-                        bits |= EV_LANDED
-                else:   # a new reference reading
-                    self._land_lo = p - self.landing_tol_pa
-                    self._land_hi = p + self.landing_tol_pa
-                    self._land_t = ts
-        if bits and self.on_event is not None:
-            self.on_event(self, bits)
-        return bits
+            n.s2 = a.s2
+        return why
 
-    # ------------------------------------------------------------ helpers
-    def _num(self, x, name, unit):
-        # a finite float from an int or float; anything else is rejected
-        if isinstance(x, float):
-            v = x
-        elif isinstance(x, int) and not isinstance(x, bool):
-            v = float(x)
-        else:
-            v = _NAN
-        if v != v or v == INF or v == NINF:   # comparisons allocate nothing
-            self._bad("number", 0, name, quote(x), unit)
-        return v
-
-    def _bad(self, reason, i, *args):
-        # count the rejection and raise ReadingError(message i % args, reason).
-        # The messages are one text, "|"-separated: on MicroPython every string
-        # constant with a space is an object in RAM for the module's lifetime,
-        # one text is one object (its characters stay in flash with ROMFS or
-        # frozen bytecode); split only here, when a reading is rejected.
-        msg = ("%s=%s is not a finite number; pass one in %s"          # 0 name, value, unit
-               "|%s=%s outside %g..%g %s%s"                              # 1 name, value, lo, hi, unit, "; hint"
-               "|rh_pct=%s outside %g..%g %%; percent, not a 0..1 fraction (None if unknown)"
-               "|time_s=%s before the previous %r s; time must not decrease "
-               "(clock reset? new Column)"                               # 3
-               "|gps_m=%s (ellipsoidal): %s"                             # 4
-               "|gps_m=%s outside %g..%g m; above sea level; ellipsoidal? set geoid_undulation_m"
-               "|rh_pct=%s at t_k=%r, p_pa=%r: %s"                       # 6
-               "|rh_pct=None: no mixing ratio to hold (%s); pass rh_pct or set dry_fallback=True"
-               "|rh_pct=None: held mixing ratio %r outside 0..1 kg/kg; pass rh_pct or set "
-               "dry_fallback=True"                                       # 8
-               "|virtual temperature %r (t_k=%r, p_pa=%r) outside %g..%g K; check the units"
-               "|t_k=%s jumps %+.1f K from %r K, over the %.1f K allowed; glitch? "
-               "(max_t_step_k=None: no check)"                           # 10
-               "|time_s=%s repeated but the column moved %.3g gpm; time must increase"
-               "|p_pa=%s gives %.1f m/s over %.3g s, beyond max_rate_m_s=%g; glitch, or "
-               "wrong unit/time").split("|")[i] % args                   # 12
-        self.rejected += 1
-        raise ReadingError(msg, reason)
+    def _rel(self, stamp, r):
+        # a time stamp as seconds since the first one (record r's t0)
+        if stamp is None or r.t0 is None:
+            return _NAN
+        d = stamp - r.t0
+        return d * self.time_unit_s
 
     def _nodes(self, g, guess=_NAN):
-        # exact geometric height h at g (tinygeo.geometric_height, with the
+        # exact geometric height h at g (tinygeo.geometric_height with the
         # series evaluated once for the column's latitude: potential.height_series;
         # from a guess within a few mm, one Newton step: potential.newton_step)
         # and the quadratic in gph through it and the gph of h + D and h + 2D
@@ -822,7 +1003,7 @@ class Column:
         if not GPH_MIN_M <= g <= GPH_MAX_M:
             return (g, _NAN, _NAN, _NAN, g, g)
         c = self._pc
-        a = self.ellipsoid.a_m
+        a = self._a_m
         if guess == guess:
             h = newton_step(g, guess, c, a)
         else:
@@ -836,6 +1017,326 @@ class Column:
         k2 = (d / (gb - ga) - sa) / (gb - g)
         return (g, h, sa - k2 * (ga - g), k2, g - _NODE_W, g + _NODE_W)
 
+    # ------------------------------------------------------------ 3. commit
+    def _advance(self):
+        # n is accepted on top of the latest reading, which is now final: its
+        # events, then the records move on (n the latest, the latest the one
+        # before), nothing copied
+        n = self._n
+        bits = 0
+        if self.count:
+            bits = self._confirm(self._h)
+            self._has_b = 1
+        self._n = self._b
+        self._b = self._h
+        self._h = n
+        self._accept(n, 1)
+        return self._tell(bits)
+
+    def _accept(self, n, counted):
+        # bookkeeping of a new latest reading: its height node, the counter,
+        # the recovery memory cleared
+        if n.nodes is not None:
+            self._n_g, self._n_h, self._n_k1, self._n_k2, self._n_lo, self._n_hi = n.nodes
+            n.nodes = None
+        if counted and self.count < COUNT_MAX:
+            self.count += 1
+        self._run = self._run_b = 0
+
+    def _tell(self, bits):
+        if bits and self.on_event is not None:
+            self.on_event(self, bits)
+        return bits
+
+    # ------------------------------------------------------------ 4. recover
+    def _recover(self, n):
+        # n contradicts the latest reading (self._why says how; n holds the
+        # state on top of it). Look-back: two readings in a row that contradict
+        # it and agree with the reading before it retract it. Else n joins the
+        # run of contradicting readings (or starts one); takeover_readings of
+        # them in a row, each agreeing with the one before, are followed.
+        # Otherwise n is rejected.
+        why = self._why
+        m = self._m
+        if self._has_b and self._compute(self._b, m) == 0:
+            self._run_b += 1
+            if self._run_b >= 2:
+                # the latest reading was the bad one: go on from the one before
+                self._m = self._h
+                self._h = m
+                m.flags |= FL_REPLACED
+                self._inc_rejected()
+                if self.retracted < COUNT_MAX:
+                    self.retracted += 1
+                self._accept(m, 0)
+                return 0
+        else:
+            self._run_b = 0
+        # the run: n on top of the run's latest reading (self._cr), or a new run
+        cr = self._cr
+        if self._run and self._compute(cr, m) == 0:
+            new = m
+            self._run += 1
+        elif self._has_b:
+            new = n                # a new run, on top of the latest reading
+            self._run = 1
+        else:
+            # nothing confirmed yet: a new run starts afresh from the start
+            # height (the first reading may be the bad one)
+            self._compute(None, m)
+            new = m
+            self._run = 1
+        # new becomes the run's latest reading; its slot takes the old one
+        self._cr = new
+        if new is m:
+            self._m = cr
+        else:
+            self._n = cr
+        if self._run < self.takeover_readings:
+            self._why = why
+            self._refuse()
+        # takeover: the run's latest reading becomes the latest, the one before
+        # it (cr) the one before; the old pair becomes scratch
+        old_h = self._h
+        old_b = self._b
+        self._h = new
+        self._b = cr
+        self._cr = old_h
+        if self._n is cr:
+            self._n = old_b
+        else:
+            self._m = old_b
+        new.flags |= FL_TAKEOVER
+        if self._has_b:
+            # cr joins the column's readings (it was rejected when it came)
+            if self.count < COUNT_MAX:
+                self.count += 1
+        else:
+            # restart: the column forgets its first reading (never confirmed)
+            self._reset_events()
+            self.count = 1
+            self._inc_rejected()
+        bits = self._confirm(cr)
+        self._has_b = 1
+        self._accept(new, 1)
+        return self._tell(bits)
+
+    def _refuse(self):
+        # raise ReadingError for the contradiction in self._why
+        w = self._why
+        self._why = None
+        self._bad(w[0], w[1], *w[2:])
+
+    def _inc_rejected(self):
+        if self.rejected < COUNT_MAX:
+            self.rejected += 1
+
+    def _bad(self, reason, i, *args):
+        # count the rejection and raise ReadingError(message i % args, reason).
+        # The messages are one text, "|"-separated: on MicroPython every string
+        # constant with a space is an object in RAM for the module's lifetime,
+        # one text is one object (its characters stay in flash with ROMFS or
+        # frozen bytecode); split only here, when a reading is rejected.
+        msg = ("%s=%s is not a finite number; pass one in %s"          # 0 name, value, unit
+               "|%s=%s outside %g..%g %s%s"                              # 1 name, value, lo, hi, unit, "; hint"
+               "|rh_pct=%s outside %g..%g %%; percent, not a 0..1 fraction (None if unknown)"
+               "|time_s=%s before the latest reading's %.3f s (since the first stamp); time must "
+               "not decrease (clock reset? a run of readings that agree takes over)"   # 3
+               "|gps_m=%s (ellipsoidal): %s"                             # 4
+               "|gps_m=%s outside %g..%g m; above sea level; ellipsoidal? set geoid_undulation_m"
+               "|rh_pct=%s at t_k=%r, p_pa=%r: %s"                       # 6
+               "|"
+               "|"                                                       # 8
+               "|virtual temperature %.2f K (t_k=%r, p_pa=%r) outside %g..%g K; check the units"
+               "|t_k=%s jumps %+.1f K from %.2f K, over the %.1f K allowed; glitch? "
+               "(max_t_step_k=None: no check)"                           # 10
+               "|time_s=%s repeated but the column moved %.1f gpm, more than the noise; "
+               "time must increase"                                      # 11
+               "|p_pa=%s moves the column %.0f m/s over %.3g s, beyond max_rate_m_s=%s with "
+               "%.0f m of noise allowed; glitch, or wrong unit/time"     # 12
+               "|p_pa=%s %s").split("|")[i] % args                       # 13
+        self._inc_rejected()
+        raise ReadingError(msg, reason)
+
+    # ------------------------------------------------------------ 5. events
+    def _confirm(self, r):
+        # record r is final: the height track, then the events it causes, on
+        # the sequence of confirmed readings (its predecessor in _e_p, _e_g,
+        # _e_t). The clock of events is r's time stamp as given, or without
+        # time the count of confirmed readings (each one second).
+        g = r.gph_m
+        t = r.t_k
+        p = r.p_pa
+        clk = r.tsr
+        if clk is None:
+            clk = self._e_n
+        bits = 0
+        if self._e_n == 0:
+            self.smooth_gph_m = g
+            self._f_v = 0.0
+            self.max_gph_m = self._min_g = g
+            self._launch_line = _NAN
+            self._max_clk = clk
+            self._max_p = p
+            self._tb_top = g + self.tropopause_layer_gpm
+            lvl = 0
+            while lvl < 16 and MANDATORY_PA[lvl] > p:
+                lvl += 1
+            self._lvl = lvl
+            if lvl < 16 and MANDATORY_PA[lvl] == p:
+                bits = self._levels(p, p, g, g, t, t)
+            self._layer_point(r, g, t, clk)
+        else:
+            dt = r.dt
+            if dt != dt:
+                dt = 1 if r.tsr is None else 0
+            if dt > 0:
+                self._track(g, dt)
+            ph = self.phase
+            if ph <= PH_FLOAT:
+                if self._lvl < 16 and MANDATORY_PA[self._lvl] >= p:
+                    bits = self._levels(self._e_p, p, self._e_g, g, self._e_t, t)
+                if self._tp_state != 3:
+                    bits |= self._layer_point(r, g, t, clk)
+            bits |= self._phase(r, ph, g, p, clk)
+        self._e_p = p
+        self._e_g = g
+        self._e_t = t
+        if self._e_n < COUNT_MAX:
+            self._e_n += 1
+        return bits
+
+    def _track(self, z, dt):
+        # one step of the critically damped g-h filter (see "Events"); the rate
+        # is kept per step (_f_v, gpm per _f_dt seconds: one float fewer per
+        # reading), smooth_rate_gpm_s = _f_v / _f_dt
+        if dt != self._f_dt:
+            # the gains and noise ratios for this step length (kept while dt
+            # repeats); the rate rescaled to it
+            if self._f_dt == self._f_dt:
+                self._f_v = self._f_v * dt / self._f_dt
+            th = math.exp(-dt / self.smooth_s)
+            u = 1 - th
+            v = 1 + th
+            v3 = v * v * v
+            self._f_a = 1 - th * th
+            self._f_b = u * u
+            self._f_cx = NOISE_K * math.sqrt(u * (1 + 4 * th + 5 * th * th) / v3)
+            self._f_cv = NOISE_K * math.sqrt(2 * u * u * u / v3)      # per step
+            self._f_bv = -self.burst_rate_gpm_s * dt                   # per step
+            self._f_dt = dt
+        pred = self.smooth_gph_m + self._f_v
+        res = z - pred
+        self.smooth_gph_m = pred + self._f_a * res
+        self._f_v = self._f_v + self._f_b * res
+
+    @property
+    def smooth_rate_gpm_s(self):
+        """The height track's rate, gpm/s (0 before it has two readings)."""
+        if self._f_dt != self._f_dt:
+            return self._f_v
+        return self._f_v / self._f_dt
+
+    def _sx(self, r):
+        # 4 sigma of the track's height, gpm, from record r's height noise
+        # (built only where a threshold is reset or tested, not per reading)
+        k = self._f_cx
+        if k != k:
+            k = NOISE_K
+        return k * (self._kz * r.tv_k / r.p_pa)
+
+    def _phase(self, r, ph, g, p, clk):
+        # launch, float, burst and landing on the track (see "Events"). Each
+        # threshold is set when its reference point is (re)set, so a reading
+        # that moves nothing builds no float here.
+        hs = self.smooth_gph_m
+        if ph == PH_WAIT:
+            if hs < self._min_g or self._launch_line != self._launch_line:
+                if hs < self._min_g:
+                    self._min_g = hs
+                self._launch_line = self._min_g + self.launch_gpm + self._sx(r)
+            elif hs >= self._launch_line:
+                self.phase = PH_ASCENT
+                self.launch_time_s = self._clock_s(clk, r)
+                self.max_gph_m = hs
+                self._max_clk = clk
+                self._max_p = p
+                self._float_ref(r, hs, clk)
+                return EV_LAUNCH
+            return 0
+        if ph <= PH_FLOAT:
+            if hs > self.max_gph_m:
+                # a new highest point: no descent below it yet
+                self.max_gph_m = hs
+                self._max_clk = clk
+                self._max_p = p
+                self._burst_n = 0
+            elif self._f_v < self._f_bv and self._sinking(r, hs):
+                # sinking beyond the noise, below the highest point (the cheap
+                # rate test first: while climbing no float is built here)
+                self._burst_n += 1
+                if self._burst_n >= self.burst_readings:
+                    self.phase = PH_DESCENT
+                    self.burst_gph_m = self.max_gph_m
+                    self.burst_time_s = self._clock_s(self._max_clk, r)
+                    self.burst_p_pa = self._max_p
+                    self._land_ref(r, g, clk)
+                    return EV_BURST
+                return 0
+            else:
+                self._burst_n = 0
+            if hs > self._fl_hi or hs < self._fl_lo:
+                if ph == PH_FLOAT and hs > self._fl_hi:
+                    self.phase = PH_ASCENT      # a new ascent after the float
+                self._float_ref(r, hs, clk)
+            elif ph == PH_ASCENT and clk >= self._fl_end:
+                self.phase = PH_FLOAT
+                self.float_gph_m = self._fl_g
+                self.float_time_s = self._clock_s(self._fl_clk, r)
+                return EV_FLOAT
+            return 0
+        if ph == PH_DESCENT:
+            if g > self._land_hi or g < self._land_lo:
+                self._land_ref(r, g, clk)
+            elif clk >= self._land_end:
+                self.phase = PH_LANDED
+                self.landing_time_s = self._clock_s(clk, r)
+                return EV_LANDED
+        return 0
+
+    def _sinking(self, r, hs):
+        # the burst test beyond the noise: the track burst_drop_gpm + 4 sigma_x
+        # below its highest point and sinking faster than burst_rate_gpm_s +
+        # 4 sigma_v (sigma_v = cv/cx sigma_x of the filter's noise ratios)
+        sx = self._sx(r)
+        if self._f_cx != self._f_cx:
+            return False
+        return hs < self.max_gph_m - self.burst_drop_gpm - sx and \
+            self._f_v < self._f_bv - self._f_cv * (sx / self._f_cx)
+
+    def _clock_s(self, clk, r):
+        # an event clock as seconds since the first time stamp (without time:
+        # the count of confirmed readings)
+        if r.tsr is None:
+            return clk * 1.0
+        return self._rel(clk, r)
+
+    def _float_ref(self, r, hs, clk):
+        # a new reference height of the float test and its band (see EV_FLOAT)
+        band = self.float_band_gpm + self._sx(r)
+        self._fl_g = hs
+        self._fl_lo = hs - band
+        self._fl_hi = hs + band
+        self._fl_clk = clk
+        self._fl_end = clk + (self.float_s if r.tsr is None else self._float_u)
+
+    def _land_ref(self, r, g, clk):
+        # a new reference height of the landing test and its band (see EV_LANDED)
+        band = self.landing_band_gpm + NOISE_K * (self._kz * r.tv_k / r.p_pa)
+        self._land_lo = g - band
+        self._land_hi = g + band
+        self._land_end = clk + (self.landing_s if r.tsr is None else self._land_u)
+
     def _levels(self, p0, p, g0, g, t0, t):
         # report every mandatory level in [p, p0) not reported yet (ascent only)
         bits = 0
@@ -848,18 +1349,18 @@ class Column:
             if p0 == p:
                 f = 0.0
             else:
-                f = ln_ratio(p0, lev) / ln_ratio(p0, p)
+                f = lnr(p0, lev) / lnr(p0, p)
             self.level_p_pa = lev
-            self.level_gph_m = g0 + f * (g - g0)
+            gl = g0 + f * (g - g0)
+            self.level_gph_m = gl
             self.level_t_k = t0 + f * (t - t0)
-            gl = self.level_gph_m
             if self._n_lo <= gl <= self._n_hi and self._n_h == self._n_h:
                 # one Newton step from the node quadratic (a few mm off)
                 d = gl - self._n_g
                 self.level_height_m = newton_step(gl, self._n_h + d * (self._n_k1 + d * self._n_k2),
-                                              self._pc, self.ellipsoid.a_m)
+                                                  self._pc, self._a_m)
             elif GPH_MIN_M <= gl <= GPH_MAX_M:
-                self.level_height_m = height_series(gl, self._pc, self.ellipsoid.a_m)
+                self.level_height_m = height_series(gl, self._pc, self._a_m)
             else:
                 self.level_height_m = _NAN
             lvl += 1
@@ -867,13 +1368,39 @@ class Column:
             bits = EV_LEVEL
         return bits
 
-    def _tropopause(self, g, t, p):
-        # one new envelope point (g above every earlier reading); O(1) search,
-        # see the module docstring for the rule and why one candidate suffices
-        st = self._tp_state
-        if st == 3 or (st == 0 and p > self.tropopause_max_p_pa):
-            return 0
+    def _layer_point(self, r, g, t, clk):
+        # the tropopause search's profile: the confirmed ascent readings
+        # averaged over layers of tropopause_layer_gpm (see EV_TROPOPAUSE): the
+        # layer's mean temperature at the middle of its readings' gph range
+        bits = 0
+        if g >= self._tb_top and self._tb_n:
+            gm = (self._tb_g0 + self._tb_g1) / 2
+            tm = self._tb_st / self._tb_n
+            # the pressure at gm, from this reading's (hypsometric, with its Tv;
+            # the layer is thin)
+            pm = r.p_pa * math.exp((g - gm) / (2 * HALF_RG * r.tv_k))
+            bits = self._tropopause(gm, tm, pm, r)
+            top = self._tb_top + self.tropopause_layer_gpm
+            if g >= top:
+                top = g + self.tropopause_layer_gpm
+            self._tb_top = top
+            self._tb_n = 0
+            self._tb_st = 0.0
+        if self._tb_n == 0:
+            self._tb_g0 = g
+            self._tb_c0 = clk
+        self._tb_n += 1
+        self._tb_st += t
+        self._tb_g1 = g
+        self._tb_c1 = clk
+        return bits
+
+    def _tropopause(self, g, t, p, r):
+        # one new point of the averaged profile; O(1) search (see EV_TROPOPAUSE)
         th = t + WMO_LAPSE_K_PER_GPM * g
+        below = self._tb_th          # theta of the point before (nan: none)
+        self._tb_th = th
+        st = self._tp_state
         if st != 0:
             if g > self._tp_top:
                 if st == 2 or th >= self._tp_th:
@@ -881,21 +1408,95 @@ class Column:
                     self.tropopause_p_pa = self._tp_p
                     self.tropopause_gph_m = self._tp_g
                     self.tropopause_t_k = self._tp_t
+                    self.tropopause_time_s = self._clock_s(self._tp_clk, r)
                     return EV_TROPOPAUSE
             elif th >= self._tp_th:
                 self._tp_state = 2
                 return 0
-        # no candidate, or it was just rejected by this point: this point is the next one
-        if p <= self.tropopause_max_p_pa:
+        # no candidate, or it was just rejected by this point: this point is the
+        # next one if the lapse rate decreases to 2 K/km here (theta falls to it)
+        if p <= self.tropopause_max_p_pa and below > th:
             self._tp_state = 1
             self._tp_g = g
             self._tp_top = g + WMO_DEPTH_GPM
             self._tp_th = th
             self._tp_p = p
             self._tp_t = t
+            # the middle of the layer's clock span
+            c0 = self._tb_c0
+            self._tp_clk = c0 + (self._tb_c1 - c0) / 2
         else:
             self._tp_state = 0
         return 0
+
+    # ------------------------------------------------------------ the latest reading
+    @property
+    def p_pa(self):
+        """Pressure of the latest accepted reading, Pa."""
+        return self._h.p_pa
+
+    @property
+    def t_k(self):
+        """Temperature of the latest accepted reading, K."""
+        return self._h.t_k
+
+    @property
+    def tv_k(self):
+        """Virtual temperature used for the latest accepted reading, K."""
+        return self._h.tv_k
+
+    @property
+    def rh_pct(self):
+        """Relative humidity of the latest accepted reading, % (nan: not given)."""
+        return self._h.rh_pct
+
+    @property
+    def time_s(self):
+        """Time of the latest accepted reading, s since the first stamp (nan: none)."""
+        return self._rel(self._h.tsr, self._h)
+
+    @property
+    def time_origin(self):
+        """The first time stamp, as given (None before any)."""
+        return self._h.t0
+
+    @property
+    def gph_m(self):
+        """Geopotential height of the latest accepted reading, gpm."""
+        return self._h.gph_m
+
+    @property
+    def height_m(self):
+        """Geometric height above mean sea level of the latest accepted reading, m."""
+        return self._h.height_m
+
+    @property
+    def rate_m_s(self):
+        """Raw vertical speed between the two latest timed readings, m/s."""
+        r = self._h
+        return r.rdh / r.rdt
+
+    @property
+    def flags(self):
+        """FL_* bits of the latest accepted reading."""
+        return self._h.flags
+
+    @property
+    def gps_m(self):
+        """The latest GPS height given, m above mean sea level (nan: none)."""
+        return self._h.gps_m
+
+    @property
+    def gps_diff_m(self):
+        """Barometric height minus the GPS height at the latest reading with one, m."""
+        return self._h.gps_diff_m
+
+    @property
+    def noise_gph_m(self):
+        """Height noise of one reading at the latest accepted reading, gpm:
+        (Rd/g0) Tv sigma_p_pa / p (nan before the first reading)."""
+        r = self._h
+        return self._kz * r.tv_k / r.p_pa
 
     # ------------------------------------------------------------ uncertainty
     @property
@@ -904,31 +1505,35 @@ class Column:
         the first reading or with track_sigma=False."""
         if self.count == 0 or not self.track_sigma:
             return _NAN
-        x = self._tm2 / self.p_pa               # -dz/dp at the latest reading, over K/2
-        v = self._var_done + self._ct * self._ct * self._s2 + x * x * self._spk2
-        return math.sqrt(v)
+        r = self._h
+        x = r.tm2 / r.p_pa               # -dz/dp at the latest reading, over K/2
+        return math.sqrt(r.var_done + r.ct * r.ct * r.s2 + (r.var_p + x * x) * self._spk2)
 
     @property
     def sigma_bias_m(self):
         """Systematic part of the 1-sigma height uncertainty, m (gpm)."""
         if self.count == 0 or not self.track_sigma:
             return _NAN
+        return math.sqrt(self._bias2())
+
+    def _bias2(self):
+        # the systematic variance (see "Uncertainty")
+        r = self._h
         # (Rd/g0) ln(p0/p) dT: the sum of dz/dTv over all readings telescopes
-        bt = 2 * half_k_ln(self._p_start, self.p_pa) * self.bias_t_k
-        bh = (self._sum_rh + self._ct * self._slope) * self.bias_rh_pct
-        bp = HALF_RG * (self._sum_p - self._tm2 / self.p_pa) * self.bias_p_pa
-        return math.sqrt(bt * bt + bh * bh + bp * bp + self._var_anchor)
+        bt = 2 * half_k_ln(r.p_start, r.p_pa) * self.bias_t_k
+        bh = (r.sum_rh + r.ct * r.slope) * self.bias_rh_pct
+        bp = HALF_RG * (r.sum_p - r.tm2 / r.p_pa) * self.bias_p_pa
+        bw = r.sum_hum + r.ct * r.tvh
+        return bt * bt + bh * bh + bp * bp + bw * bw + self._var_anchor
 
     @property
     def sigma_m(self):
         """Total 1-sigma height uncertainty, m (gpm): random and systematic
         parts added in squares."""
         r = self.sigma_random_m
-        # the systematic variance, as in sigma_bias_m
-        bt = 2 * half_k_ln(self._p_start, self.p_pa) * self.bias_t_k
-        bh = (self._sum_rh + self._ct * self._slope) * self.bias_rh_pct
-        bp = HALF_RG * (self._sum_p - self._tm2 / self.p_pa) * self.bias_p_pa
-        return math.sqrt(r * r + (bt * bt + bh * bh + bp * bp + self._var_anchor))
+        if r != r:
+            return r
+        return math.sqrt(r * r + self._bias2())
 
     # ------------------------------------------------------------ GPS
     def reanchor_gps(self, sigma_gps_m=10):
@@ -937,40 +1542,177 @@ class Column:
 
         Needs a gps_m with the latest accepted reading (TinygeoError
         otherwise). Every live height moves by the same geopotential shift
-        (gph_m, max_gph_m and the burst, launch and tropopause-search
-        references); events already reported keep their values. The
-        uncertainty restarts at this reading with sigma_gps_m (m, 1-sigma,
-        default 10 m, a typical GPS vertical error; common practice) as a
-        systematic part. Never called by the column itself.
+        (both readings of the look-back, the track, the highest and lowest
+        points, the landing reference, the tropopause search); events already
+        reported keep their values. The uncertainty restarts at this reading
+        with sigma_gps_m (m, 1-sigma, default 10 m, a typical GPS vertical
+        error; common practice) as a systematic part. Never called by the
+        column itself.
         """
-        from ._column_rare import reanchor_gps
-        return reanchor_gps(self, sigma_gps_m)
+        from .errors import TinygeoError, check_range
+        h = self._h
+        if self.count == 0 or not h.gps_here:
+            raise TinygeoError("reanchor_gps(): the latest reading has no gps_m; feed a reading "
+                               "with gps_m first")
+        sg = check_range("sigma_gps_m", sigma_gps_m, 0, 10000, "m")
+        target = gph_series(h.gps_m, self._pc, self._a_m)
+        d = target - h.gph_m
+        old_h = h.height_m
+        nd = self._nodes(target)
+        self._n_g, self._n_h, self._n_k1, self._n_k2, self._n_lo, self._n_hi = nd
+        h.height_m = nd[1]
+        shift = h.height_m - old_h
+        b = self._b
+        for r in (h, b):
+            r.gph_m = r.gph_m + d
+            r.g_t = r.g_t + d
+            r.h_tm = r.h_tm + shift
+            r.c = 0.0
+        b.height_m = b.height_m + shift
+        h.gps_diff_m = h.height_m - h.gps_m
+        for name in ("smooth_gph_m", "max_gph_m", "_min_g", "_launch_line", "_fl_g", "_fl_lo",
+                     "_fl_hi", "_land_lo", "_land_hi", "_e_g", "_tb_top", "_tb_g0", "_tb_g1",
+                     "_tp_g", "_tp_top"):
+            setattr(self, name, getattr(self, name) + d)
+        self._tb_th = self._tb_th + WMO_LAPSE_K_PER_GPM * d
+        self._tp_th = self._tp_th + WMO_LAPSE_K_PER_GPM * d
+        # uncertainty restarts here: the reading is the new (noisy) start
+        h.var_done = h.var_p = h.ct = h.tm2 = h.sum_rh = h.sum_p = h.sum_hum = 0.0
+        h.p_start = h.p_pa
+        self._var_anchor = sg * sg
+        return shift
 
     # ------------------------------------------------------------ checkpoint
+    @property
+    def ellipsoid_code(self):
+        """0 for WGS84, 1 for GRS80 (the checkpoint's code)."""
+        return 0 if self.ellipsoid is WGS84 else 1
+
     def to_bytes(self):
         """The whole column (settings and state) as a checkpoint blob, bytes
-        (CHECKPOINT_BYTES long; layout in the module docstring)."""
-        from ._column_rare import to_bytes
-        return to_bytes(self)
+        (CHECKPOINT_BYTES long; tinygeo.checkpoint's frame).
+
+        Time stamps are stored relative to the first one as doubles, the
+        first one itself as a double and, when it is an int, exactly as two
+        int32 halves (a float32 board restores int stamps exactly)."""
+        from .checkpoint import pack
+        t0 = self._h.t0
+        t0i = isinstance(t0, int) and not isinstance(t0, bool) and -(1 << 62) < t0 < (1 << 62)
+        self._t0_int = 1 if t0i else 0
+        self._t0_hi = (t0 >> 32) if t0i else 0
+        self._t0_lo = (t0 & 0xFFFFFFFF) - (1 << 32) if t0i and t0 & 0x80000000 else \
+            ((t0 & 0xFFFFFFFF) if t0i else 0)
+        f = []
+        for n in _CFG_F:
+            v = getattr(self, n)
+            f.append(_NAN if v is None else v)
+        for n in _ST_F:
+            v = getattr(self, n)
+            if n in _CLK_F and t0 is not None and v == v:
+                v = v - t0
+            f.append(v)
+        f.append(_NAN if t0 is None else t0 * 1.0)
+        ints = [getattr(self, n) * 1 for n in _CFG_I]
+        for n in _ST_I:
+            ints.append(getattr(self, n))
+        for r in (self._h, self._b):
+            for n in _REC_F:
+                v = getattr(r, n)
+                if v is None:
+                    v = _NAN
+                elif n in ("tsr", "tr") and t0 is not None:
+                    v = v - t0
+                f.append(v)
+            for n in _REC_I:
+                ints.append(getattr(r, n) * 1)
+        return pack(_MAGIC, _VERSION, f, ints)
 
     @classmethod
     def from_bytes(cls, blob, on_event=None):
-        """A Column restored from a to_bytes() blob; continues bit-identically.
+        """A Column restored from a to_bytes() blob; continues bit-identically
+        (the recovery memory is not stored; see "Checkpoint").
 
         Raises CheckpointError (nothing restored) for a blob that is not
         bytes, truncated, too long, of another version, corrupted (CRC-32
-        mismatch) or holding impossible settings.
+        mismatch) or holding impossible settings or state.
         """
-        from ._column_rare import from_bytes
-        return from_bytes(cls, blob, on_event)
+        from .checkpoint import unpack, check_finite, check_values
+        from .errors import CheckpointError, TinygeoError
+        nf = len(_CFG_F) + len(_ST_F) + 1 + 2 * len(_REC_F)
+        ni = len(_CFG_I) + len(_ST_I) + 2 * len(_REC_I)
+        f, ints = unpack(blob, _MAGIC, _VERSION, nf, ni, "column")
+        check_finite(f, "column")
+        k = len(_CFG_F)
+        (lat, start, anchor, sp, st, srh, bp, bt, brh, rate, guard, unit, smooth, launch, drop,
+         brate, fl_s, fl_band, land_s, land_band, trop, trop_layer, rh_tol, geoid, t_step, t_rate,
+         t_grad) = f[:k]
+        ell, ice, dry, burst_n, takeover, track = ints[:len(_CFG_I)]
+        if ell not in (0, 1):
+            raise CheckpointError("column checkpoint holds an unknown ellipsoid code %d" % ell)
 
-    @property
-    def _ell(self):
-        # the ellipsoid's checkpoint code (a property: one attribute fewer
-        # in every Column's dict)
-        return 0 if self.ellipsoid is WGS84 else 1
+        def opt(x):
+            return None if x != x else x
+        try:
+            col = cls(lat, start, opt(anchor), (WGS84, GRS80)[ell], ice, dry, sp, st, srh, bp, bt,
+                      brh, opt(rate), opt(guard), unit, smooth, launch, drop, brate, burst_n, fl_s,
+                      fl_band, land_s, land_band, trop, trop_layer, rh_tol, takeover, track,
+                      on_event, opt(geoid), opt(t_step), t_rate, t_grad)
+        except TinygeoError as e:
+            raise CheckpointError("column checkpoint holds settings the column refuses: %s" % e)
+        j = len(_CFG_I)
+        for n in _ST_I:
+            setattr(col, n, ints[j])
+            j += 1
+        # the first time stamp: exact from its int32 halves when it was an int
+        t0 = f[k + len(_ST_F)]
+        if t0 != t0:
+            t0 = None
+        elif col._t0_int:
+            t0 = (col._t0_hi << 32) + (col._t0_lo & 0xFFFFFFFF)
+
+        def back(v):
+            # a stored time relative to t0, as the stamp it was
+            if v != v:
+                return None
+            if t0 is None:
+                return v
+            if col._t0_int and v == int(v):
+                return t0 + int(v)
+            return t0 + v
+        i = k
+        for n in _ST_F:
+            v = f[i]
+            if n in _CLK_F and t0 is not None and v == v:
+                v = back(v)
+            setattr(col, n, v)
+            i += 1
+        i += 1
+        for r in (col._h, col._b):
+            for n in _REC_F:
+                v = f[i]
+                if n in ("tsr", "tr"):
+                    v = back(v)
+                setattr(r, n, v)
+                i += 1
+            for n in _REC_I:
+                setattr(r, n, ints[j])
+                j += 1
+            r.t0 = t0
+            r.gps_here = bool(r.gps_here)
+        check_values(col, _RESTORE_COL, "column")
+        if col.count:
+            check_values(col._h, _RESTORE_REC, "column")
+        if col._has_b:
+            check_values(col._b, _RESTORE_REC, "column")
+        return col
 
     def __repr__(self):
-        from ._column_rare import __repr__
-        return __repr__(self)
+        return "Column(lat_deg=%r, count=%d, p_pa=%r, gph_m=%r, phase=%d)" % (
+            self.lat_deg, self.count, self.p_pa, self.gph_m, self.phase)
 
+
+def _count_setting(name, value, lo, hi):
+    # an int setting (not a bool) within lo..hi
+    if isinstance(value, bool) or not isinstance(value, int) or value < lo or value > hi:
+        raise RangeError("%s=%s outside %d..%d readings; pass an int" % (name, quote(value), lo, hi))
+    return value

@@ -154,3 +154,20 @@ GRS80 = Ellipsoid(
 
 GRS80_J2 = 108263e-8
 """Dynamical form factor J2 of GRS 80 (defining constant) [Moritz80]."""
+
+
+def check_ellipsoid(value):
+    """Return tinygeo.WGS84 or tinygeo.GRS80 for ``value``; otherwise raise
+    tinygeo.errors.RangeError.
+
+    Accepted: those two objects, or an Ellipsoid whose defining constants
+    (a_m, f, gm, omega) equal one of theirs (a copy, e.g. unpickled), which
+    maps to it. Anything else (a name such as "WGS84", another ellipsoid) is
+    refused with the same clear error everywhere an ellipsoid is taken: the
+    geopotential series of tinygeo.potential exist for these two only."""
+    for e in (WGS84, GRS80):
+        if value is e or (isinstance(value, Ellipsoid) and value.a_m == e.a_m and value.f == e.f
+                          and value.gm == e.gm and value.omega == e.omega):
+            return e
+    from .errors import RangeError, quote
+    raise RangeError("ellipsoid=%s not supported; pass tinygeo.WGS84 or tinygeo.GRS80" % quote(value))

@@ -44,7 +44,7 @@ class CheckpointError(TinygeoError):
 
 
 def quote(value):
-    # repr() of a float is fine on both interpreters; keep non-numbers short.
+    """``value`` as quoted in a message: its repr, cut to 40 characters."""
     try:
         return repr(value)[:40]
     except Exception:  # pragma: no cover - repr of exotic objects
@@ -55,18 +55,50 @@ INF = float("inf")
 NINF = -INF
 
 
+def real(value):
+    """``value`` as a float if it is a real number, else None.
+
+    The one input rule of every public function and of ``Column.feed``: an
+    int (not a bool) or a float, or on CPython any other real number type
+    that converts with float() (numpy floats, Fraction, Decimal). Text
+    (``"45"``, ``"4_5"``), bytes, bool and complex are NOT numbers here,
+    even where float() would read them. An int too large for a float
+    (``10**400``) gives inf, so it fails the finiteness test of the caller
+    (on MicroPython float() of a huge int already gives inf). A nan or inf
+    passes through; callers test finiteness."""
+    if isinstance(value, float):
+        return value
+    if isinstance(value, bool) or isinstance(value, (str, bytes, bytearray)):
+        return None
+    try:
+        return float(value)
+    except OverflowError:
+        return INF
+    except (TypeError, ValueError):
+        return None
+
+
 def as_finite(name, value, unit, error=RangeError):
-    """Return ``value`` as a float, or raise ``error`` if it is not a finite number.
+    """Return ``value`` as a float, or raise ``error`` if it is not a finite
+    real number (see ``real`` for what counts as a number).
 
     ``name`` and ``unit`` are used in the message only."""
-    try:
-        x = float(value)
-    except (TypeError, ValueError):
-        x = None
+    x = real(value)
     if x is None or x != x or x == INF or x == NINF:   # comparisons allocate nothing
         raise error("%s=%s is not %s; pass a finite number in %s"
                     % (name, quote(value), "a number" if x is None else "finite", unit))
     return x
+
+
+def check_flag(name, value):
+    """Return ``value`` as a bool if it is True or False or a number equal to
+    1 or 0 (the shared vector files write flags as 0 and 1); otherwise raise
+    RangeError (so ``ice="False"``, a non-empty string, is not taken as True)."""
+    if value is True or value is False:
+        return value
+    if isinstance(value, (int, float)) and (value == 0 or value == 1):
+        return value == 1
+    raise RangeError("%s=%s is not a flag; pass True or False" % (name, quote(value)))
 
 
 def check_range(name, value, lo, hi, unit, hint=None, error=RangeError):

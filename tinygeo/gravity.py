@@ -43,7 +43,7 @@ m/s^2 at 100 km.
 """
 import math
 
-from .constants import WGS84
+from .constants import WGS84, check_ellipsoid
 from .errors import check_lat, check_range
 
 HEIGHT_MIN_M = -1000.0
@@ -96,6 +96,7 @@ def somigliana_gravity(lat_deg, ellipsoid=WGS84):
     Example: somigliana_gravity(45.0) -> 9.806197769 (WGS 84)
     """
     phi = check_lat(lat_deg) * _DEG
+    ellipsoid = check_ellipsoid(ellipsoid)
     sp = math.sin(phi)
     s = sp * sp
     return ellipsoid.gamma_e * (1.0 + ellipsoid.k_somigliana * s) / math.sqrt(1.0 - ellipsoid.e2 * s)
@@ -135,6 +136,7 @@ def normal_gravity(lat_deg, height_m=0.0, ellipsoid=WGS84):
     """
     phi = check_lat(lat_deg) * _DEG
     h = check_height(height_m)
+    ellipsoid = check_ellipsoid(ellipsoid)
     e2 = ellipsoid.e2
     a = ellipsoid.a_m
     sphi = math.sin(phi)

@@ -23,12 +23,12 @@ Conventions
 - p_lower_pa is the pressure at the bottom of the layer (the reference level),
   p_upper_pa at the top. Thickness = gph(p_upper) - gph(p_lower): positive when
   p_upper_pa < p_lower_pa, negative the other way, zero for equal pressures.
-- lapse_k_m is the METEOROLOGICAL lapse rate L = -dTv/dz (K per gpm):
-  POSITIVE when Tv decreases with height (troposphere: +0.0065 K/m), negative
+- lapse_k_gpm is the METEOROLOGICAL lapse rate L = -dTv/dz (K/gpm):
+  POSITIVE when Tv decreases with height (troposphere: +0.0065 K/gpm), negative
   in an inversion. Note [USSA76] tabulates the opposite sign (Lb = dT/dH =
-  -0.0065 K/m in its first layer).
+  -0.0065 K/gpm in its first layer).
 - Accepted ranges: pressures 0.1..120000 Pa, virtual temperatures 150..350 K,
-  lapse rates -1..1 K/m (a K/km value gets a hint), thickness +-200000 gpm.
+  lapse rates -1..1 K/gpm (a K/km value gets a hint), thickness +-200000 gpm.
 """
 import math
 
@@ -40,6 +40,15 @@ P_MIN_PA = 0.1
 """Lowest pressure accepted here, Pa (below the 0.3734 Pa top of USSA76)."""
 P_MAX_PA = 120000.0
 """Highest pressure accepted here, Pa."""
+
+# ---------------------------------------------------------------------------
+# Kernels: arguments not checked (HALF_RG .. thickness).
+# The fast forms the checked functions below are built on, public so that
+# tinygeo.column and the host tools call them after checking their inputs
+# once (every check builds floats: heap blocks on MicroPython). A bad
+# argument gives a wrong number or a Python error here, never a tinygeo
+# error.
+# ---------------------------------------------------------------------------
 
 HALF_RG = 0.5 * RD / G0   # gpm per K: (Rd/g0)/2, Rd/g0 = 29.2712 gpm/K
 
@@ -128,6 +137,23 @@ def lnr(p1_pa, p2_pa):
     return -math.log(p2_pa / p1_pa)   # same rounding either way round: exact antisymmetry
 
 
+def half_k_ln(p1_pa, p2_pa):
+    # (Rd/g0)/2 ln(p1/p2), gpm per K: the thickness per kelvin of Tv1 + Tv2,
+    # and dz/dTv of either end of the layer; no checks
+    return HALF_RG * lnr(p1_pa, p2_pa)
+
+
+def thickness(p_lower_pa, p_upper_pa, tv_lower_k, tv_upper_k):
+    # layer_thickness without the argument checks, for callers that have
+    # checked the pressures and temperatures already; tinygeo.column computes
+    # the same two products (it keeps half_k_ln for its uncertainty)
+    return half_k_ln(p_lower_pa, p_upper_pa) * (tv_lower_k + tv_upper_k)
+
+
+# ---------------------------------------------------------------------------
+# Checked public functions
+# ---------------------------------------------------------------------------
+
 def ln_ratio(p1_pa, p2_pa):
     """Natural logarithm of the pressure ratio, ln(p1/p2), dimensionless.
 
@@ -172,25 +198,12 @@ def layer_thickness(p_lower_pa, p_upper_pa, tv_lower_k, tv_upper_k):
     return thickness(p1, p2, t1, t2)
 
 
-def half_k_ln(p1_pa, p2_pa):
-    # (Rd/g0)/2 ln(p1/p2), gpm per K: the thickness per kelvin of Tv1 + Tv2,
-    # and dz/dTv of either end of the layer; no checks
-    return HALF_RG * lnr(p1_pa, p2_pa)
-
-
-def thickness(p_lower_pa, p_upper_pa, tv_lower_k, tv_upper_k):
-    # layer_thickness without the argument checks, for callers that have
-    # checked the pressures and temperatures already; tinygeo.column computes
-    # the same two products (it keeps half_k_ln for its uncertainty)
-    return half_k_ln(p_lower_pa, p_upper_pa) * (tv_lower_k + tv_upper_k)
-
-
-def layer_thickness_lapse(p_lower_pa, p_upper_pa, tv_lower_k, lapse_k_m):
+def layer_thickness_lapse(p_lower_pa, p_upper_pa, tv_lower_k, lapse_k_gpm):
     """Thickness of a layer with a constant virtual-temperature lapse rate, gpm.
 
     p_lower_pa, p_upper_pa: pressures at the bottom and top, Pa, 0.1..120000;
     tv_lower_k: virtual temperature at p_lower_pa, K, 150..350;
-    lapse_k_m: L = -dTv/dZ, K per gpm, -1..1; POSITIVE for Tv decreasing with
+    lapse_k_gpm: L = -dTv/dZ, K/gpm, -1..1; POSITIVE for Tv decreasing with
                height (meteorological sign; the opposite of [USSA76]'s Lb).
 
     Formula: [USSA76] eq. (33a) solved for the height difference, with
@@ -211,9 +224,9 @@ def layer_thickness_lapse(p_lower_pa, p_upper_pa, tv_lower_k, lapse_k_m):
     p1 = check_p_pa("p_lower_pa", p_lower_pa, P_MIN_PA, P_MAX_PA)
     p2 = check_p_pa("p_upper_pa", p_upper_pa, P_MIN_PA, P_MAX_PA)
     t0 = check_t_k("tv_lower_k", tv_lower_k)
-    lapse = as_finite("lapse_k_m", lapse_k_m, "K/m")
+    lapse = as_finite("lapse_k_gpm", lapse_k_gpm, "K/gpm")
     if lapse < -1.0 or lapse > 1.0:
-        errors.check_range("lapse_k_m", lapse, -1.0, 1.0, "K/m", "K/km passed? divide by 1000"
+        errors.check_range("lapse_k_gpm", lapse, -1.0, 1.0, "K/gpm", "K/km passed? divide by 1000"
                            if abs(lapse) <= 30.0 else "typical values are -0.01..0.01")
     x = lnr(p1, p2)
     rg = RD / G0           # gpm per K
@@ -227,7 +240,7 @@ def layer_thickness_lapse(p_lower_pa, p_upper_pa, tv_lower_k, lapse_k_m):
             if y == 0.0:
                 return rg * t0 * x
             return rg * t0 * x * (em / y)
-    raise errors.ModelRangeError("lapse_k_m=%r puts Tv at p_upper_pa (%r K * exp(%.4g)) outside 150..350 K; "
+    raise errors.ModelRangeError("lapse_k_gpm=%r puts Tv at p_upper_pa (%r K * exp(%.4g)) outside 150..350 K; "
                                  "use a smaller lapse or thinner layer" % (lapse, t0, y))
 
 

@@ -92,8 +92,20 @@ the U.S. Standard Atmosphere 1976)."""
 P_MAX_PA = 120000.0
 """Highest pressure accepted by this module, Pa."""
 
+# ---------------------------------------------------------------------------
+# Kernels: arguments not checked (ONE_M_EPS .. tv_w).
+# The fast forms the checked functions below are built on, public so that
+# tinygeo.column, tinygeo.sealevel and the host tools call them after
+# checking their inputs once (every check builds floats: heap blocks on
+# MicroPython). A bad argument gives a wrong number or a Python error here,
+# never a tinygeo error.
+# ---------------------------------------------------------------------------
+
 ONE_M_EPS = 1.0 - EPSILON
 _QC = 0.01 * E0_PA * ONE_M_EPS   # Pa per %RH: (1 - eps) e/p per %RH is _QC f x / p
+_QC_F0 = _QC * _F0               # _QC times the enhancement factor's coefficients (rh_q)
+_QC_F1 = _QC * _F1
+_QC_F2 = _QC * _F2
 
 
 def _ex(t_k, ice):
@@ -116,6 +128,39 @@ def boiling_error(e_pa, p_pa):
     return errors.RangeError("vapour pressure e=%g Pa is not below the air pressure p_pa=%g Pa; %s" % (
         e_pa, p_pa, errors.pressure_hint(p_pa) or "water would boil: check t_k/td_k and p_pa"))
 
+
+def rh_q(t_k, p_pa, ice):
+    # (1 - eps) e'_w/p per %RH (dimensionless per %): with r = rh_pct * rh_q,
+    # e/p = r/(1 - eps) and Tv = T/(1 - r) ([WH06] eq. 3.16), and
+    # dTv/dRH = Tv rh_q at constant T and p; e'_w = f(p) e_w(T) as in
+    # vapour_pressure. No checks (callers check). _QC f(p) is evaluated as
+    # _QC_F0 + _QC_F1 p - _QC_F2/p (the coefficients times _QC): one float
+    # result fewer per call than _QC * _f(p) (a heap block on MicroPython;
+    # the column calls this for every reading).
+    if p_pa <= F_ONE_PA:
+        qf = _QC
+    else:
+        qf = _QC_F0 + _QC_F1 * p_pa - _QC_F2 / p_pa
+    return qf * _ex(t_k, ice) / p_pa
+
+
+def tv_rh(t_k, p_pa, rh_pct, ice):
+    # virtual_temperature without the argument checks, for callers that have
+    # checked t_k, p_pa and rh_pct already; RangeError if e >= p
+    r = rh_pct * rh_q(t_k, p_pa, ice)
+    if r >= ONE_M_EPS:
+        raise boiling_error(r * p_pa / ONE_M_EPS, p_pa)
+    return t_k / (1.0 - r)
+
+
+def tv_w(t_k, w_kg_kg):
+    # virtual_temperature_from_mixing_ratio without the checks (callers check)
+    return t_k * (1.0 + w_kg_kg / EPSILON) / (1.0 + w_kg_kg)
+
+
+# ---------------------------------------------------------------------------
+# Checked public functions
+# ---------------------------------------------------------------------------
 
 def _check_e(e_pa, p_pa):
     e = errors.as_finite("e_pa", e_pa, "Pa")
@@ -146,6 +191,7 @@ def saturation_vapour_pressure(t_k, ice=False):
     Example: saturation_vapour_pressure(273.15) -> 611.2 (by construction);
     saturation_vapour_pressure(293.15) -> 2332.6 (IAPWS-95: 2339.2).
     """
+    ice = errors.check_flag("ice", ice)
     t_k = check_t_k("t_k", t_k)
     return E0_PA * _ex(t_k, ice)   # Magnus form [WMO8], Pa
 
@@ -184,6 +230,7 @@ def vapour_pressure(t_k, p_pa, rh_pct, ice=False):
 
     Example: vapour_pressure(293.15, 101325.0, 50.0) -> 1171.80 Pa.
     """
+    ice = errors.check_flag("ice", ice)
     t_k = check_t_k("t_k", t_k)
     p_pa = check_p_pa("p_pa", p_pa, P_MIN_PA, P_MAX_PA)
     rh_pct = errors.check_rh(rh_pct)
@@ -205,6 +252,7 @@ def vapour_pressure_from_dew_point(td_k, p_pa, ice=False):
 
     Example: vapour_pressure_from_dew_point(283.15, 101325.0) -> 1231.82 Pa.
     """
+    ice = errors.check_flag("ice", ice)
     td_k = check_t_k("td_k", td_k)
     p_pa = check_p_pa("p_pa", p_pa, P_MIN_PA, P_MAX_PA)
     e = _f(p_pa) * (E0_PA * _ex(td_k, ice))
@@ -230,11 +278,18 @@ def dew_point(e_pa, p_pa, ice=False):
 
     Example: dew_point(1231.82, 101325.0) -> 283.150 K.
     """
+    ice = errors.check_flag("ice", ice)
     p_pa = check_p_pa("p_pa", p_pa, P_MIN_PA, P_MAX_PA)
     e = _check_e(e_pa, p_pa)
     if e == 0.0:
         raise errors.RangeError("e_pa=0.0: dry air has no dew point; pass e_pa > 0 Pa")
-    y = math.log(e / (_f(p_pa) * E0_PA))
+    x = e / (_f(p_pa) * E0_PA)
+    if x <= 0.0:
+        # a vapour pressure so small that e/611.2 Pa underflows (5e-324 Pa):
+        # its dew point lies far below the model's 150 K
+        raise errors.ModelRangeError("dew point for e_pa=%g Pa is below 150 K; check e_pa "
+                                     "(pascal expected)" % (e,))
+    y = math.log(x)
     if ice and y <= 0.0:
         t = _BI * y / (_AI - y)
     else:
@@ -300,25 +355,9 @@ def virtual_temperature(t_k, p_pa, rh_pct, ice=False):
 
     Example: virtual_temperature(293.15, 101325.0, 50.0) -> 294.4372 K.
     """
+    ice = errors.check_flag("ice", ice)
     return tv_rh(check_t_k("t_k", t_k), check_p_pa("p_pa", p_pa, P_MIN_PA, P_MAX_PA),
                errors.check_rh(rh_pct), ice)
-
-
-def rh_q(t_k, p_pa, ice):
-    # (1 - eps) e'_w/p per %RH (dimensionless per %): with r = rh_pct * rh_q,
-    # e/p = r/(1 - eps) and Tv = T/(1 - r) ([WH06] eq. 3.16), and
-    # dTv/dRH = Tv rh_q at constant T and p; e'_w = f(p) e_w(T) as in
-    # vapour_pressure. No checks (callers check).
-    return _QC * _f(p_pa) * _ex(t_k, ice) / p_pa
-
-
-def tv_rh(t_k, p_pa, rh_pct, ice):
-    # virtual_temperature without the argument checks, for callers that have
-    # checked t_k, p_pa and rh_pct already; RangeError if e >= p
-    r = rh_pct * rh_q(t_k, p_pa, ice)
-    if r >= ONE_M_EPS:
-        raise boiling_error(r * p_pa / ONE_M_EPS, p_pa)
-    return t_k / (1.0 - r)
 
 
 def virtual_temperature_from_mixing_ratio(t_k, w_kg_kg):
@@ -339,8 +378,3 @@ def virtual_temperature_from_mixing_ratio(t_k, w_kg_kg):
         errors.check_range("w_kg_kg", w, 0.0, 1.0, "kg/kg",
                            "g/kg passed? divide by 1000" if 1.0 < w <= 100.0 else "mixing ratio is >= 0")
     return tv_w(t_k, w)
-
-
-def tv_w(t_k, w_kg_kg):
-    # virtual_temperature_from_mixing_ratio without the checks (callers check)
-    return t_k * (1.0 + w_kg_kg / EPSILON) / (1.0 + w_kg_kg)

@@ -57,8 +57,8 @@ Sources
 """
 import math
 
-from .constants import G0, WGS84
-from .errors import TinygeoError, check_lat, check_range
+from .constants import G0, WGS84, check_ellipsoid
+from .errors import check_lat, check_range
 
 GPH_MIN_M = -1005.0
 """Lowest accepted geopotential height, gpm. The accepted gph range covers the
@@ -100,13 +100,23 @@ _GRS80 = (
 )
 
 
+# ---------------------------------------------------------------------------
+# Kernels: arguments not checked.
+# The fast forms the checked functions below are built on, public so that
+# tinygeo.column and the host tools call them after checking their inputs
+# once (every check builds floats: heap blocks on MicroPython). A bad
+# argument gives a wrong number or a Python error here, never a tinygeo
+# error: check first (check_lat, check_ellipsoid, check_range).
+# ---------------------------------------------------------------------------
+
 # the last series evaluated: (lat_deg, ellipsoid, list), one tuple so that a
 # reader never sees a half-updated entry
 _LAST = [None]  # type: list
 
 
 def series(lat_deg, ellipsoid):
-    # The series evaluated at one latitude, once: a tuple of 12 floats,
+    # The series evaluated at one latitude, once (ellipsoid: tinygeo.WGS84 or
+    # tinygeo.GRS80, as check_ellipsoid returns them): a tuple of 12 floats,
     # D_1(s) .. D_6(s) then 1*D_1(s) .. 6*D_6(s) (the slope's coefficients),
     # s = sin^2(lat). No checks (callers check). The same values, operation for
     # operation, as evaluating the polynomials at every use, so results built
@@ -118,14 +128,8 @@ def series(lat_deg, ellipsoid):
     last = _LAST[0]
     if last is not None and last[0] == lat_deg and last[1] is ellipsoid:
         return last[2]
-    name = getattr(ellipsoid, "name", None)
-    if name == "WGS84":
-        tab = _WGS84
-    elif name == "GRS80":
-        tab = _GRS80
-    else:
-        raise TinygeoError("ellipsoid=%r has no geopotential series; use tinygeo.WGS84 or GRS80"
-                           % (ellipsoid,))
+    # the WGS84 or GRS80 object itself (check_ellipsoid maps copies to it)
+    tab = _WGS84 if ellipsoid is WGS84 else _GRS80
     s = math.sin(lat_deg * _DEG)
     s = s * s
     c = []
@@ -183,6 +187,10 @@ def height_series(z, c, a):
     return h
 
 
+# ---------------------------------------------------------------------------
+# Checked public functions
+# ---------------------------------------------------------------------------
+
 def geopotential_height(height_m, lat_deg, ellipsoid=WGS84):
     """Geopotential height (U0 - U)/g0 of a point of the normal field, gpm.
 
@@ -209,7 +217,8 @@ def geopotential_height(height_m, lat_deg, ellipsoid=WGS84):
     # a logger that needs only the column does not load the gravity module)
     h = check_range("height_m", height_m, -1000.0, 100000.0, "m",
                     "height above mean sea level in metres (km or feet passed?)")
-    return gph_series(h, series(check_lat(lat_deg), ellipsoid), ellipsoid.a_m)
+    e = check_ellipsoid(ellipsoid)
+    return gph_series(h, series(check_lat(lat_deg), e), e.a_m)
 
 
 def geopotential(height_m, lat_deg, ellipsoid=WGS84):
@@ -246,7 +255,8 @@ def geometric_height(gph_m, lat_deg, ellipsoid=WGS84):
     """
     z = check_range("gph_m", gph_m, GPH_MIN_M, GPH_MAX_M, "gpm",
                     "gpm expected; km or feet passed?")
-    return height_series(z, series(check_lat(lat_deg), ellipsoid), ellipsoid.a_m)
+    e = check_ellipsoid(ellipsoid)
+    return height_series(z, series(check_lat(lat_deg), e), e.a_m)
 
 
 def msl_height(ellipsoidal_height_m, geoid_undulation_m):

@@ -57,7 +57,8 @@ import math
 from . import moisture
 from . import standard
 from .standard import G_RD     # g0 / Rd, K/gpm [USSA76 Table 2]
-from .errors import ModelRangeError, RangeError, as_finite, check_p_pa, check_range, check_t_k
+from .errors import (ModelRangeError, RangeError, as_finite, check_flag, check_p_pa, check_range,
+                     check_t_k)
 
 LAPSE_K_GPM = 0.0065
 """Lapse rate of the fictitious column, K/gpm [WMO8] (the standard atmosphere's
@@ -122,6 +123,7 @@ def sea_level_pressure(p_pa, t_k, height_m, rh_pct=None, lat_deg=None, ice=False
     Example (a buoy, invented scenario): barometer 4 m above the sea, 1008.2 hPa,
     18 degC, dry: sea_level_pressure(100820.0, 291.15, 4.0) -> 100867.3 Pa.
     """
+    ice = check_flag("ice", ice)
     p = check_p_pa("p_pa", p_pa, P_STATION_MIN_PA, P_STATION_MAX_PA)
     t = check_t_k("t_k", t_k, T_MIN_K, T_MAX_K)
     h = _check_height("height_m", height_m)
@@ -151,12 +153,13 @@ def qfe(p_pa, barometer_above_field_m, t_k, rh_pct=None, ice=False):
     One hypsometric step through an isothermal layer at the station's virtual
     temperature: QFE = p exp(g0 dh / (Rd Tv)) ([WMO8] Vol. I Ch. 3, reduction
     to aerodrome level; QFE as defined in [ICAO3], from memory). Over 200 m
-    the isothermal assumption errs by under 1 Pa (lapse 0.0065 K/m).
+    the isothermal assumption errs by under 1 Pa (lapse 0.0065 K/gpm).
     The result is unrounded (reports round down to whole hPa).
 
     Example (invented): barometer 12 m above the field, 965.3 hPa, 5 degC:
     qfe(96530.0, 12.0, 278.15) -> 96672.4 Pa.
     """
+    ice = check_flag("ice", ice)
     p = check_p_pa("p_pa", p_pa, P_STATION_MIN_PA, P_STATION_MAX_PA)
     dh = check_range("barometer_above_field_m", barometer_above_field_m,
                      -FIELD_STEP_MAX_M, FIELD_STEP_MAX_M, "m",

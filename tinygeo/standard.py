@@ -107,6 +107,14 @@ BOTTOM_Z_M = -5000.0
 BOTTOM_GPH_M = R0_M * BOTTOM_Z_M / (R0_M + BOTTOM_Z_M)
 """Bottom of the modelled range, gpm: -5003.936 gpm, eq. 18 of BOTTOM_Z_M."""
 
+# ---------------------------------------------------------------------------
+# Kernels: arguments not checked (G_RD, pressure_at, altitude_at).
+# The fast forms the checked functions below are built on, public so that
+# tinygeo.sealevel, tinygeo.column and the host tools call them after
+# checking their inputs once. Outside the model's range they return a number
+# of no meaning or raise a Python error, never a tinygeo error.
+# ---------------------------------------------------------------------------
+
 G_RD = G0 / RD
 """g0 / Rd = g0' M0 / R*, K/gpm (0.0341632) [USSA76 Table 2]."""
 
@@ -164,6 +172,10 @@ agree exactly on every float format."""
 BOTTOM_P_PA = pressure_at(BOTTOM_GPH_M)
 """Pressure at BOTTOM_GPH_M, Pa (177 761.5 Pa; Table I prints 1.7776E+05)."""
 
+
+# ---------------------------------------------------------------------------
+# Checked public functions
+# ---------------------------------------------------------------------------
 
 def _check_gph(gph_m):
     h = as_finite("gph_m", gph_m, "gpm")

@@ -1,0 +1,110 @@
+"""The record format: tinygeo's own plain-text table of per-reading results,
+written the same way by a device (MicroPython, or the C twin in
+ports/c/record.c) and by ``tinygeo replay`` on a host, and read by
+``tinygeo compare`` and ``tinygeo plot``.
+
+This module only writes; it runs on a board (``%`` formatting only, no
+``str.format``, nothing but the event bits' values from tinygeo.column, which
+it does not import: a logger that writes records loads this module and the
+column, nothing more). The host's reader (tinygeo/host/table.py) imports the
+layout from here, so the two cannot drift apart.
+
+Layout (UTF-8 text, one record per line, fields separated by one TAB)::
+
+    # tinygeo table 1
+    # site lat_deg=47.3 start_height_m=420 ...
+    line  time_s  p_pa  t_k  rh_pct  td_k  gps_m  gph_m  height_m  rate_m_s  sigma_m  flags  events
+    12    0.000   96512.00  ...
+
+* Lines starting with ``#`` are comments. The first one names the layout and
+  its version (``MAGIC``; tables written before it was renamed start with
+  ``# tinygeo replay table 1``, the same layout, still read). ``# site`` holds
+  the column set-up as ``key=value`` words (``site_line``), so a reader can
+  rebuild the same column; a host replay adds ``# input`` and, after the
+  rows, ``#:`` summary records.
+* The first line that is not a comment is the header (``HEADER``).
+* ``line``: the number of the reading (the log line in a replay; on a device
+  the running number of the reading offered to the column, rejected ones
+  included). Only accepted readings get a row.
+* Inputs as fed to the column: ``time_s`` (s), ``p_pa`` (Pa), ``t_k`` (K),
+  ``rh_pct`` (%), ``gps_m`` (m above MSL); ``td_k`` the dew point (K) where the
+  writer computed it. ``nan`` means "not given" or "not computed".
+* Column outputs: ``gph_m`` geopotential height (gpm), ``height_m``
+  geometric height above MSL (m), ``rate_m_s`` vertical rate (m/s, up
+  positive), ``sigma_m`` 1-sigma height uncertainty (m), ``flags`` (the
+  column's flag bits as a decimal integer), ``events``: ``-`` when none,
+  otherwise words joined by ``+`` in the order of ``EVENT_WORDS``; a level is
+  ``level<hPa>`` (e.g. ``level850``, one word per level, lowest first).
+* Fixed decimals (``FORMAT``) make the output byte-identical for the same
+  input on one interpreter; MicroPython may round the last printed digit
+  differently, so readers compare numbers, not text.
+"""
+
+MAGIC = "# tinygeo table 1"
+"""First line of a table (name and version of the layout)."""
+SITE_PREFIX = "# site "
+
+COLUMNS = ("line", "time_s", "p_pa", "t_k", "rh_pct", "td_k", "gps_m",
+           "gph_m", "height_m", "rate_m_s", "sigma_m", "flags", "events")
+HEADER = "\t".join(COLUMNS)
+FORMAT = "%d\t%.3f\t%.2f\t%.3f\t%.2f\t%.3f\t%.2f\t%.3f\t%.3f\t%.3f\t%.3f\t%d\t%s"
+
+# The column's event bits (tinygeo.column EV_*) with their words, in the
+# order the words are written; the level word carries the pressure.
+# tests/test_record.py checks the bits against tinygeo.column.
+EVENT_WORDS = ((16, "launch"), (1, "level"), (2, "tropopause"), (4, "burst"), (8, "landed"))
+EV_LEVEL = 1
+
+_NAN = float("nan")
+
+
+def events_text(bits, level_p_pa):
+    """The ``events`` field for event ``bits``: '-' when none.
+
+    ``level_p_pa``: the mandatory level crossed, Pa, or a list/tuple of them
+    (lowest first) when one reading crossed several; used when the level bit
+    is set. Example: ``events_text(1 | 4, 85000.0) == 'level850+burst'``."""
+    if not bits:
+        return "-"
+    out = ""
+    for bit, word in EVENT_WORDS:
+        if bits & bit:
+            if bit == EV_LEVEL:
+                levels = level_p_pa if isinstance(level_p_pa, (list, tuple)) else (level_p_pa,)
+                for p in levels:
+                    out += "+level%d" % int(p / 100.0 + 0.5)
+            else:
+                out += "+" + word
+    return out[1:]
+
+
+def row(line, time_s, p_pa, t_k, rh_pct, td_k, gps_m, gph_m, height_m, rate_m_s, sigma_m,
+        flags, events):
+    """One table row (no newline). ``events`` is the text of events_text;
+    pass nan for a value not given or not computed (None is written nan)."""
+    return FORMAT % (line, _f(time_s), _f(p_pa), _f(t_k), _f(rh_pct), _f(td_k), _f(gps_m),
+                     _f(gph_m), _f(height_m), _f(rate_m_s), _f(sigma_m), flags, events)
+
+
+def _f(x):
+    return _NAN if x is None else x
+
+
+def column_row(line, col, bits, rh_pct=None, gps_m=None, td_k=None):
+    """The row of the reading a tinygeo.column.Column has just accepted.
+
+    ``line``: the reading's number; ``col``: the column after its feed;
+    ``bits``: what feed returned; ``rh_pct``, ``gps_m``: the values given
+    with the reading (None: not given); ``td_k``: a dew point if the writer
+    computed one. Time, pressure and temperature are the column's latest
+    reading (time_s as the column holds it)."""
+    return row(line, col.time_s, col.p_pa, col.t_k, rh_pct, td_k, gps_m, col.gph_m, col.height_m,
+               col.rate_m_s, col.sigma_m, col.flags, events_text(bits, col.level_p_pa))
+
+
+def site_line(col):
+    """The ``# site`` line describing a column's set-up (the keywords a reader
+    needs to rebuild the same column: latitude, start height, anchor)."""
+    return "%slat_deg=%r start_height_m=%r anchor_p_pa=%r" % (
+        SITE_PREFIX, col.lat_deg, col.start_height_m,
+        _NAN if col.anchor_p_pa is None else col.anchor_p_pa)
