@@ -5,7 +5,7 @@ good readings, and recovery from single bad readings.
 Run from the repository root with the venv active (CPython)::
 
     python bench/montecarlo.py              # 20 seeds, about 1 min
-    python bench/montecarlo.py --quick      # 3 seeds, 1-hour floats, a few s
+    python bench/montecarlo.py --quick      # 3 seeds, 1-hour floats, about 12 s
     python bench/montecarlo.py --seeds 50 --first-seed 100
 
 Columns under test (their public API only; event and phase names read by name,
