@@ -765,7 +765,9 @@ class Run:
     the first accepted one), ``events`` [(k, bits, burst_gph_m, burst_time_s)]
     for readings with bits, ``levels`` [(k, level_p_pa, level_gph_m)] for
     every level reported (through on_event when the column has one unset,
-    else from the returned bits), ``column`` the column at the end."""
+    else from the returned bits), ``sigma_m`` {k: the column's sigma_m after
+    reading k} for the indices run_column was asked for, ``column`` the column
+    at the end."""
 
     def __init__(self, n):
         self.present = [False] * n
@@ -775,6 +777,7 @@ class Run:
         self.phase = [None] * n
         self.events = []
         self.levels = []
+        self.sigma_m = {}
         self.column = None
 
 
@@ -786,7 +789,6 @@ def run_column(factory, stream, sigma_at=()):
     ev_level = names["EV_LEVEL"] or 0
     col = factory()
     run = Run(len(stream))
-    run.sigma_m = {}
     sigma_at = set(sigma_at)
     current = [0]
     via_callback = getattr(col, "on_event", 0) is None
