@@ -35,10 +35,29 @@ def test_non_numbers(bad):
     assert "t_k=" in str(e.value) and "K" in str(e.value)
 
 
-def test_accepts_numeric_strings_and_ints():
-    # float() semantics: a numeric string or an int is a number
+def test_ints_are_numbers_text_and_bools_are_not():
+    # the one input rule (errors.real): int and float (and other real number
+    # types on CPython) are numbers; text, bytes and bool are not, even where
+    # float() would read them
     assert errors.check_t_k("t_k", 300) == 300.0
-    assert errors.check_range("x", "2.5", 0.0, 3.0, "m") == 2.5
+    for bad in ("2.5", "2_5", b"2.5", bytearray(b"2"), True, False, 1 + 0j):
+        with pytest.raises(RangeError) as e:
+            errors.check_range("x", bad, 0.0, 3.0, "m")
+        assert "x=" in str(e.value) and "not a number" in str(e.value)
+
+
+def test_huge_int_is_a_range_error_not_overflow():
+    with pytest.raises(RangeError) as e:
+        errors.check_range("x", 10 ** 400, 0.0, 3.0, "m")
+    assert "not finite" in str(e.value)
+
+
+def test_flags():
+    assert errors.check_flag("ice", True) is True and errors.check_flag("ice", 0) is False
+    for bad in ("False", "", None, 2, 0.5):
+        with pytest.raises(RangeError) as e:
+            errors.check_flag("ice", bad)
+        assert "ice=" in str(e.value) and "True or False" in str(e.value)
 
 
 def test_latitude():

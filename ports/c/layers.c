@@ -113,18 +113,18 @@ tg_status tg_layer_thickness(TG_FLOAT p_lower_pa, TG_FLOAT p_upper_pa, TG_FLOAT 
 }
 
 tg_status tg_layer_thickness_lapse(TG_FLOAT p_lower_pa, TG_FLOAT p_upper_pa,
-                                   TG_FLOAT tv_lower_k, TG_FLOAT lapse_k_m, TG_FLOAT *out)
+                                   TG_FLOAT tv_lower_k, TG_FLOAT lapse_k_gpm, TG_FLOAT *out)
 {
     TG_FLOAT t0, x, y, em, t2;
     TG_TRY(check_p(p_lower_pa));
     TG_TRY(check_p(p_upper_pa));
     TG_TRY(tg__check_t_k(tv_lower_k, TG_T_LO, TG_T_HI, TG_RANGE));
     t0 = tv_lower_k;
-    TG_TRY(tg__as_finite(lapse_k_m, TG_RANGE));
-    if (lapse_k_m < TG_L(-1.0) || lapse_k_m > TG_L(1.0))
+    TG_TRY(tg__as_finite(lapse_k_gpm, TG_RANGE));
+    if (lapse_k_gpm < TG_L(-1.0) || lapse_k_gpm > TG_L(1.0))
         return tg__fail(TG_RANGE, out);
     x = tg__layers_lnr(p_lower_pa, p_upper_pa);
-    y = -RG * lapse_k_m * x;
+    y = -RG * lapse_k_gpm * x;
     /* Tv at the far end is Tv0 exp(y); |y| <= ln(350/150) < 0.85 (see layers.py) */
     if (TG_L(-0.85) <= y && y <= TG_L(0.85)) {
         em = TG_EXPM1(y);

@@ -125,7 +125,7 @@ tg_status tg_ln_ratio(TG_FLOAT p1_pa, TG_FLOAT p2_pa, TG_FLOAT *out);           
 tg_status tg_layer_thickness(TG_FLOAT p_lower_pa, TG_FLOAT p_upper_pa, TG_FLOAT tv_lower_k,
                              TG_FLOAT tv_upper_k, TG_FLOAT *out);                   /* gpm */
 tg_status tg_layer_thickness_lapse(TG_FLOAT p_lower_pa, TG_FLOAT p_upper_pa,
-                                   TG_FLOAT tv_lower_k, TG_FLOAT lapse_k_m,
+                                   TG_FLOAT tv_lower_k, TG_FLOAT lapse_k_gpm,
                                    TG_FLOAT *out);                                  /* gpm */
 tg_status tg_pressure_across_layer(TG_FLOAT p_lower_pa, TG_FLOAT thickness_gpm,
                                    TG_FLOAT tv_mean_k, TG_FLOAT *out);              /* Pa */
