@@ -175,7 +175,9 @@ downwards), FL_SAME_P 16 (pressure repeated: nothing added), FL_NO_GPS 32
 above saturation at this reading's temperature and was capped),
 FL_REPLACED 128 (this reading replaced the previous one, which the readings
 contradicted), FL_TAKEOVER 256 (the column followed a run of readings that
-contradicted it; FL_TAKEOVER alone when it restarted from them).
+contradicted it; FL_TAKEOVER alone when it restarted from them),
+FL_SAME_TIME 512 (time_s repeated the previous stamp: no rate check for
+this step).
 
 Methods: ``reanchor_gps()``, ``to_bytes()``, ``Column.from_bytes(blob)``.
 
@@ -262,8 +264,8 @@ fraction as percent). A reading failing these is rejected and changes
 nothing but ``rejected``. Then it is checked against the latest accepted
 reading: its time must not go back; the height change must not need a
 vertical speed above max_rate_m_s, beyond the noise: |dz| <= max_rate dt +
-4 sqrt(2) sigma_z (with dt = 0 a repeated time stamp passes when the height
-moved within the noise); its temperature may differ by at most
+4 sqrt(2) sigma_z (a repeated time stamp, dt = 0, skips this check:
+FL_SAME_TIME); its temperature may differ by at most
 max_t_step_k + 4 sqrt(2) sigma_t + max_t_rate_k_s dt +
 max_t_gradient_k_gpm |dz| (the allowance grows with time and height, so
 after a genuine step the new temperatures pass again). The first reading
@@ -392,6 +394,7 @@ FL_NO_GPS = 32
 FL_CAPPED = 64
 FL_REPLACED = 128
 FL_TAKEOVER = 256
+FL_SAME_TIME = 512
 
 PH_WAIT = 0
 PH_ASCENT = 1
@@ -515,7 +518,7 @@ _RESTORE_REC = ("p_pa 0.1 120000;t_k 150 350;rh_pct -3 103 n;tv_k 150 350;"
                 "gph_m -20000 200000;c -1 1;height_m -20000 200000 n;dt 0 * n;"
                 "h_t 150 350 n;h_p 0.1 120000 n;h_rh -3 103 n;w 0 1 n;"
                 "gps_m -1000 100000 n;var_done 0 *;var_p 0 *;tm2 0 700;s2 0 *;"
-                "p_start 0.1 120000 n;tvh 0 *;flags 0 511;gps_here 0 1")
+                "p_start 0.1 120000 n;tvh 0 *;flags 0 1023;gps_here 0 1")
 _MAGIC = b"TGCK"
 _VERSION = 4
 CHECKPOINT_BYTES = (7 + 8 * (len(_CFG_F) + len(_ST_F) + 1 + 2 * len(_REC_F))
@@ -649,6 +652,7 @@ class Column:
         self._run = 0              # readings in the run
         self._run_b = 0            # of which the latest ones in a row agree with _b
         self._why = None           # (reason, message number, arguments) of the latest contradiction
+        self._run_why = None       # the same for the run's first reading
         self.count = 0
         self.rejected = 0
         self.retracted = 0
@@ -683,9 +687,10 @@ class Column:
         if self.count == 0:                                    # 2. the first reading: the start
             self._compute(None, n)
             return self._advance()
-        if self._compute(self._h, n) == 0:                     # 3. on top of the latest reading
+        ok = self._compute(self._h, n) == 0                    # 3. on top of the latest reading
+        if ok and not self._run:
             return self._advance()
-        return self._recover(n)                                # 4. or not: look-back, recovery
+        return self._recover(n, ok)                            # 4. or: look-back, recovery
 
     # ------------------------------------------------------------ 1. check
     def _check(self, n, p_pa, t_k, rh_pct, time_s, gps_m):
@@ -927,11 +932,11 @@ class Column:
                             why = 12
                             self._why = ("rate", 12, quote(p), dh / dt, dt, self.max_rate_m_s,
                                          noise)
-                elif why == 0 and dh != 0:
-                    # a repeated time stamp: the height may move within the noise
-                    if abs(dh) > self._kn * tv / p:
-                        why = 11
-                        self._why = ("time", 11, quote(tsr), dh)
+                else:
+                    # a repeated time stamp (a coarse clock, a float32 stamp):
+                    # no rate check is possible for this step; the look-back
+                    # still compares the next reading with this one
+                    flags |= FL_SAME_TIME
         # -- GPS
         gps = n.gpsr
         if gps is None or gps != gps:
@@ -1049,43 +1054,57 @@ class Column:
         return bits
 
     # ------------------------------------------------------------ 4. recover
-    def _recover(self, n):
-        # n contradicts the latest reading (self._why says how; n holds the
-        # state on top of it). Look-back: two readings in a row that contradict
-        # it and agree with the reading before it retract it. Else n joins the
-        # run of contradicting readings (or starts one); takeover_readings of
-        # them in a row, each agreeing with the one before, are followed.
-        # Otherwise n is rejected.
-        why = self._why
+    def _recover(self, n, ok):
+        # n contradicts the latest reading (ok False; self._why says how), or a
+        # run of readings that contradicted it is under way (ok: n agrees with
+        # the latest reading too; n holds the state on top of it).
+        # Look-back: a reading that agrees with the reading before the latest
+        # one, right after one that contradicted the latest and agreed with
+        # the one before, retracts the latest. Else n joins the run if it
+        # agrees with the run's latest reading (or starts one if it contradicts
+        # the latest reading); takeover_readings of them in a row are followed.
+        # A reading that agrees with the latest one but not with the run is
+        # accepted (the run was noise).
         m = self._m
-        if self._has_b and self._compute(self._b, m) == 0:
-            self._run_b += 1
-            if self._run_b >= 2:
-                # the latest reading was the bad one: go on from the one before
-                self._m = self._h
-                self._h = m
-                m.flags |= FL_REPLACED
-                self._inc_rejected()
-                if self.retracted < COUNT_MAX:
-                    self.retracted += 1
-                self._accept(m, 0)
-                return 0
-        else:
-            self._run_b = 0
-        # the run: n on top of the run's latest reading (self._cr), or a new run
+        # the reading, into the second scratch record
+        m.p_pa = n.p_pa
+        m.t_k = n.t_k
+        m.rh_pct = n.rh_pct
+        m.tsr = n.tsr
+        m.gpsr = n.gpsr
+        agree_b = self._has_b and self._compute(self._b, m) == 0
+        if agree_b and self._run_b:
+            # the latest reading was the bad one: go on from the one before
+            self._m = self._h
+            self._h = m
+            m.flags |= FL_REPLACED
+            self._inc_rejected()
+            if self.retracted < COUNT_MAX:
+                self.retracted += 1
+            self._accept(m, 0)
+            return 0
         cr = self._cr
         if self._run and self._compute(cr, m) == 0:
-            new = m
+            new = m                # the run goes on
             self._run += 1
-        elif self._has_b:
-            new = n                # a new run, on top of the latest reading
-            self._run = 1
+        elif ok:
+            return self._advance()
         else:
-            # nothing confirmed yet: a new run starts afresh from the start
-            # height (the first reading may be the bad one)
-            self._compute(None, m)
-            new = m
+            # a new run: on top of the latest reading, or, when nothing is
+            # confirmed yet (the first reading may be the bad one), afresh
+            # from the start height
+            self._run_why = self._why
+            if self._has_b:
+                new = n
+            else:
+                self._compute(None, m)
+                new = m
             self._run = 1
+            self._run_b = 0
+        if agree_b:
+            self._run_b += 1
+        else:
+            self._run_b = 0
         # new becomes the run's latest reading; its slot takes the old one
         self._cr = new
         if new is m:
@@ -1093,7 +1112,7 @@ class Column:
         else:
             self._n = cr
         if self._run < self.takeover_readings:
-            self._why = why
+            self._why = self._run_why
             self._refuse()
         # takeover: the run's latest reading becomes the latest, the one before
         # it (cr) the one before; the old pair becomes scratch
@@ -1150,8 +1169,7 @@ class Column:
                "|virtual temperature %.2f K (t_k=%r, p_pa=%r) outside %g..%g K; check the units"
                "|t_k=%s jumps %+.1f K from %.2f K, over the %.1f K allowed; glitch? "
                "(max_t_step_k=None: no check)"                           # 10
-               "|time_s=%s repeated but the column moved %.1f gpm, more than the noise; "
-               "time must increase"                                      # 11
+               "|"                                                       # 11
                "|p_pa=%s moves the column %.0f m/s over %.3g s, beyond max_rate_m_s=%s with "
                "%.0f m of noise allowed; glitch, or wrong unit/time"     # 12
                "|p_pa=%s %s").split("|")[i] % args                       # 13
