@@ -401,7 +401,8 @@ static int tropopause(tg_column *col, TG_FLOAT g, TG_FLOAT t, TG_FLOAT p)
 /* column._bad: count the rejection, keep everything else */
 static tg_status bad(tg_column *col, tg_reason reason, int *bits)
 {
-    col->rejected += 1;
+    if (col->rejected < INT32_MAX)   /* saturates (Python's int grows on) */
+        col->rejected += 1;
     col->reason = reason;
     *bits = 0;
     return TG_READING;
@@ -578,7 +579,8 @@ tg_status tg_column_feed(tg_column *col, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_F
 
     /* ---- 3. commit (nothing fails from here on) */
     time0 = col->time_s;   /* the previous reading's time (for the peak, below) */
-    col->count += 1;
+    if (col->count < INT32_MAX)   /* saturates after 2^31 - 1 readings (Python's int grows on) */
+        col->count += 1;
     col->p_pa = p;
     col->t_k = t;
     col->tv_k = tv;
@@ -676,7 +678,9 @@ tg_status tg_column_feed(tg_column *col, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_F
             }
         } else if (ph == TG_PH_ASCENT) {
             if (g <= col->burst_line) {
-                col->burst_n += 1;
+                if (col->burst_n < col->burst_readings)   /* the same test below; no overflow
+                                                            * from a crafted checkpoint */
+                    col->burst_n += 1;
                 if (col->burst_n >= col->burst_readings) {
                     col->phase = TG_PH_DESCENT;
                     col->burst_gph_m = col->max_gph_m;
@@ -831,19 +835,33 @@ static const unsigned char *get_f64(const unsigned char *b, double *x)
     return b + 8;
 }
 
-static unsigned char *put_i32(unsigned char *b, long v)
+/* struct "<I": little-endian uint32 */
+static unsigned char *put_u32(unsigned char *b, uint32_t u)
 {
-    uint32_t u = (uint32_t)v;   /* two's complement, as struct "<i" */
     int i;
     for (i = 0; i < 4; i++)
         b[i] = (unsigned char)(u >> (8 * i));
     return b + 4;
 }
 
-static const unsigned char *get_i32(const unsigned char *b, long *v)
+static uint32_t get_u32(const unsigned char *b)
 {
-    uint32_t u = (uint32_t)b[0] | ((uint32_t)b[1] << 8) | ((uint32_t)b[2] << 16) | ((uint32_t)b[3] << 24);
-    *v = (long)(u & 0x7FFFFFFFu) - (long)(u & 0x80000000u);
+    return (uint32_t)b[0] | ((uint32_t)b[1] << 8) | ((uint32_t)b[2] << 16) | ((uint32_t)b[3] << 24);
+}
+
+/* struct "<i": two's complement int32. Both directions are defined for every
+ * value and bit pattern whatever the width of int and long: int32_t ->
+ * uint32_t is modular; back, a pattern of 2^31 or more is -(int32_t)~u - 1
+ * (~u is below 2^31), never an out-of-range conversion or an overflow. */
+static unsigned char *put_i32(unsigned char *b, int32_t v)
+{
+    return put_u32(b, (uint32_t)v);
+}
+
+static const unsigned char *get_i32(const unsigned char *b, int32_t *v)
+{
+    uint32_t u = get_u32(b);
+    *v = u <= 0x7FFFFFFFu ? (int32_t)u : -(int32_t)~u - 1;
     return b + 4;
 }
 
@@ -858,20 +876,20 @@ tg_status tg_column_to_bytes(const tg_column *col, unsigned char *buf, size_t si
     b[6] = (unsigned char)(PAYLOAD_LEN >> 8);
     b += HEAD_LEN;
 #define PUT_F(name) b = put_f64(b, col->name);
-#define PUT_I(name) b = put_i32(b, (long)col->name);
+#define PUT_I(name) b = put_i32(b, col->name);
     TGPY_COLUMN__CFG_F(PUT_F)
     TGPY_COLUMN__ST_F(PUT_F)
     TGPY_COLUMN__CFG_I(PUT_I)
     TGPY_COLUMN__ST_I(PUT_I)
 #undef PUT_F
 #undef PUT_I
-    put_i32(b, (long)crc32_ieee(buf, (size_t)(b - buf)));
+    put_u32(b, crc32_ieee(buf, (size_t)(b - buf)));
     return TG_OK;
 }
 
 /* the decoded payload, one member per field of the layout */
 #define DECL_D(name) double name;
-#define DECL_L(name) long name;
+#define DECL_L(name) int32_t name;
 struct ck_vals {
     TGPY_COLUMN__CFG_F(DECL_D)
     TGPY_COLUMN__ST_F(DECL_D)
@@ -888,19 +906,17 @@ tg_status tg_column_from_bytes(tg_column *col, const unsigned char *blob, size_t
     tg_column_config cfg;
     tg_column c;
     const unsigned char *b;
-    uint32_t crc;
-    long length;
+    uint32_t crc, length;
     if (blob == NULL || n < HEAD_LEN + 4)
         return TG_CHECKPOINT;                                  /* too short */
     if (memcmp(blob, TGPY_COLUMN__MAGIC, 4) != 0)
         return TG_CHECKPOINT;                                  /* not a checkpoint */
     if (blob[4] != TGPY_COLUMN__VERSION)
         return TG_CHECKPOINT;                                  /* another version */
-    length = (long)blob[5] | ((long)blob[6] << 8);
+    length = (uint32_t)blob[5] | ((uint32_t)blob[6] << 8);
     if (length != PAYLOAD_LEN || n != TG_CHECKPOINT_BYTES)
         return TG_CHECKPOINT;                                  /* truncated or corrupted */
-    crc = (uint32_t)blob[n - 4] | ((uint32_t)blob[n - 3] << 8) | ((uint32_t)blob[n - 2] << 16)
-        | ((uint32_t)blob[n - 1] << 24);
+    crc = get_u32(blob + n - 4);
     if (crc != crc32_ieee(blob, n - 4))
         return TG_CHECKPOINT;                                  /* CRC-32 mismatch */
     b = blob + HEAD_LEN;
