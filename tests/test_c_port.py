@@ -543,6 +543,63 @@ def test_float_close_to_float32_emulation(build):
         assert d <= EMU_ULPS, "%s: %d ulps from the f32 emulation at %r" % (label, d, args)
 
 
+KAHAN_C = r"""
+#include <stdio.h>
+struct col { float g, c; };
+/* the Kahan step of column.c's feed, one reading per call as there */
+__attribute__((noinline)) static void feed(struct col *col, float dz)
+{
+    float s = col->g;
+    float y = dz - col->c;
+    float g = s + y;
+    col->c = (g - s) - y;
+    col->g = g;
+}
+int main(void)
+{
+    volatile float dz = 0.0012345f;   /* not folded at compile time */
+    struct col col = { 0.0f, 0.0f };
+    long i;
+    for (i = 0; i < 10000000L; i++)
+        feed(&col, dz);
+    printf("%.3f\n", col.g);
+    return 0;
+}
+"""
+
+
+def test_fast_math_is_refused():
+    """Building the port with -ffast-math, -Ofast or -ffinite-math-only stops at
+    the #error of tg_internal.h, which says why; the figures it quotes are
+    those of the Kahan step of column.c in float, compiled here with and
+    without -ffast-math."""
+    gcc = shutil.which("gcc")
+    if gcc is None:
+        if os.environ.get("CI", "").lower() == "true":
+            pytest.fail("gcc not found, and CI=true: the C port must be tested in CI")
+        pytest.skip("gcc not found")
+    with tempfile.TemporaryDirectory(prefix="tinygeo_fm_") as tmp:
+        for flag, words in (("-ffast-math", ("Kahan", "12345.000 without", "11952.650 with -ffast-math")),
+                            ("-Ofast", ("Kahan",)),
+                            ("-ffinite-math-only", ("NaN for None", "isfinite"))):
+            for src in _sources():
+                r = subprocess.run([gcc, "-std=c99", "-O2", flag, "-c", src, "-o",
+                                    os.path.join(tmp, "x.o")], capture_output=True, text=True)
+                assert r.returncode != 0, (flag, src)
+                assert "#error" in r.stderr and all(w in r.stderr for w in words), (flag, src, r.stderr)
+        path = os.path.join(tmp, "kahan.c")
+        with open(path, "w") as f:
+            f.write(KAHAN_C)
+        sums = []
+        for flags in ([], ["-ffast-math"]):
+            exe = os.path.join(tmp, "kahan%d" % len(sums))
+            subprocess.run([gcc, "-std=c99", "-O2"] + flags + ["-o", exe, path], check=True)
+            sums.append(subprocess.run([exe], capture_output=True, text=True, check=True).stdout.strip())
+        # 1e7 x 0.0012345 = 12345 (exact arithmetic); -ffast-math drops the
+        # compensation and leaves the naive float sum (gcc 12: 11952.650)
+        assert sums == ["12345.000", "11952.650"], sums
+
+
 def test_sanitizers(build):
     """An ASan/UBSan double build runs the shared vectors, random and bad inputs clean."""
     exe = build["asan"]
