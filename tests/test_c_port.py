@@ -394,6 +394,65 @@ def test_tables_not_stale():
         assert f.read() == gen_tables.generate(), "ports/c/tg_tables.h is stale: run python ports/c/gen_tables.py"
 
 
+def _gen_tables_on_copy(tmp, edit):
+    """Run ports/c/gen_tables.py --check on a copy of tinygeo/ whose column.py
+    was edited by edit(text) -> text: (exit status, output)."""
+    dst = os.path.join(tmp, "tinygeo")
+    shutil.rmtree(dst, ignore_errors=True)
+    shutil.copytree(os.path.join(ROOT, "tinygeo"), dst, ignore=shutil.ignore_patterns("__pycache__", "host"))
+    path = os.path.join(dst, "column.py")
+    with open(path) as f:
+        text = f.read()
+    new = edit(text)
+    assert new != text or edit is _unchanged, "the edit found nothing to change"
+    with open(path, "w") as f:
+        f.write(new)
+    r = subprocess.run([sys.executable, os.path.join(PORT, "gen_tables.py"), "--check", "--root", tmp],
+                       capture_output=True, text=True, timeout=60)
+    return r.returncode, r.stdout + r.stderr
+
+
+def _unchanged(text):
+    return text
+
+
+def _add_setting(text, check):
+    # a new keyword parameter of Column.__init__ and its check (after the
+    # latitude's), as a contributor would add one
+    import re
+    text = text.replace("def __init__(self, lat_deg, ", "def __init__(self, lat_deg, new_gate_m=5, ", 1)
+    m = re.search(r"\n( +)self\.lat_deg = check_lat\(lat_deg\)\n", text)
+    return text[:m.end()] + m.group(1) + check + "\n" + text[m.end():]
+
+
+def test_tables_follow_column_settings(tmp_path):
+    """tg_tables.h carries Column.__init__'s defaults and check_range bounds:
+    --check fails when column.py changes a default or a range, or adds a
+    setting, and tg_tables.h was not regenerated; a new setting checked with
+    check_range("name", ...) is picked up without touching the generator; one
+    checked any other way stops the generator with its name."""
+    tmp = str(tmp_path)
+    rc, out = _gen_tables_on_copy(tmp, _unchanged)
+    assert rc == 0, out
+    rc, out = _gen_tables_on_copy(tmp, lambda t: t.replace("sigma_p_pa=10,", "sigma_p_pa=12,", 1))
+    assert rc == 1 and "+#define TGPY_COLUMN_SET_SIGMA_P_PA_DEF TG_L(12)" in out, out
+    rc, out = _gen_tables_on_copy(tmp, lambda t: t.replace(
+        'check_range("launch_m", launch_m, 0, 10000,', 'check_range("launch_m", launch_m, 0, 20000,', 1))
+    assert rc == 1 and "+#define TGPY_COLUMN_SET_LAUNCH_M_HI TG_L(20000)" in out, out
+    rc, out = _gen_tables_on_copy(tmp, lambda t: t.replace(
+        "burst_readings < 1 or burst_readings > 100000", "burst_readings < 2 or burst_readings > 100000", 1))
+    assert rc == 1 and "+#define TGPY_COLUMN_SET_BURST_READINGS_LO 2" in out, out
+    rc, out = _gen_tables_on_copy(tmp, lambda t: _add_setting(
+        t, 'self.new_gate_m = check_range("new_gate_m", new_gate_m, 0, 50, "m")'))
+    assert rc == 1, out
+    for line in ("+#define TGPY_COLUMN_SET_N 27", "+#define TGPY_COLUMN_SET_NEW_GATE_M_DEF TG_L(5)",
+                 "+#define TGPY_COLUMN_SET_NEW_GATE_M_LO TG_L(0)", "+#define TGPY_COLUMN_SET_NEW_GATE_M_HI TG_L(50)"):
+        assert line in out, (line, out)
+    rc, out = _gen_tables_on_copy(tmp, lambda t: _add_setting(
+        t, "self.new_gate_m = float(new_gate_m) if 0 <= new_gate_m <= 50 else self._refuse()"))
+    assert rc == 2 and "Column.__init__ parameter 'new_gate_m'" in out, out
+
+
 def test_layers_ln_tiers_not_stale():
     """The |d| tiers of layers.ln_tiers (literals inside a function, which the
     table generator does not read) are the ones in ports/c/layers.c."""

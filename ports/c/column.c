@@ -58,39 +58,48 @@ const char *tg_reason_name(tg_reason reason)
     return "unknown";
 }
 
+/* The defaults and ranges of the settings are Column.__init__'s, generated
+ * into tg_tables.h (TGPY_COLUMN_SET_<NAME>_DEF/_LO/_HI; None -> NaN). A
+ * setting added to Column stops the build here until tg_column_config has it. */
+typedef char tg__settings_26[TGPY_COLUMN_SET_N == 26 ? 1 : -1];
+#define DEF(name) TGPY_COLUMN_SET_##name##_DEF
+
 void tg_column_config_defaults(tg_column_config *cfg, TG_FLOAT lat_deg)
 {
     cfg->lat_deg = lat_deg;
-    cfg->start_height_m = TG_L(0.0);
-    cfg->anchor_p_pa = NAN_;
-    cfg->ellipsoid = &tg_wgs84;
-    cfg->ice = 0;
-    cfg->dry_fallback = 0;
-    cfg->sigma_p_pa = TG_L(10.0);
-    cfg->sigma_t_k = TG_L(0.2);
-    cfg->sigma_rh_pct = TG_L(1.0);
-    cfg->bias_p_pa = TG_L(50.0);
-    cfg->bias_t_k = TG_L(0.2);
-    cfg->bias_rh_pct = TG_L(3.0);
-    cfg->max_rate_m_s = TG_L(200.0);
-    cfg->landing_s = TG_L(60.0);
-    cfg->landing_tol_pa = TG_L(50.0);
-    cfg->launch_m = TG_L(20.0);
-    cfg->burst_drop_m = TG_L(50.0);
-    cfg->burst_readings = 3;
-    cfg->tropopause_max_p_pa = TG_L(50000.0);
-    cfg->rh_tol_pct = TG_L(3.0);
-    cfg->track_sigma = 1;
-    cfg->on_event = NULL;
+    cfg->start_height_m = DEF(START_HEIGHT_M);
+    cfg->anchor_p_pa = DEF(ANCHOR_P_PA);
+    cfg->ellipsoid = &tg_wgs84;   /* ellipsoid=WGS84 */
+    cfg->ice = DEF(ICE);
+    cfg->dry_fallback = DEF(DRY_FALLBACK);
+    cfg->sigma_p_pa = DEF(SIGMA_P_PA);
+    cfg->sigma_t_k = DEF(SIGMA_T_K);
+    cfg->sigma_rh_pct = DEF(SIGMA_RH_PCT);
+    cfg->bias_p_pa = DEF(BIAS_P_PA);
+    cfg->bias_t_k = DEF(BIAS_T_K);
+    cfg->bias_rh_pct = DEF(BIAS_RH_PCT);
+    cfg->max_rate_m_s = DEF(MAX_RATE_M_S);
+    cfg->landing_s = DEF(LANDING_S);
+    cfg->landing_tol_pa = DEF(LANDING_TOL_PA);
+    cfg->launch_m = DEF(LAUNCH_M);
+    cfg->burst_drop_m = DEF(BURST_DROP_M);
+    cfg->burst_readings = DEF(BURST_READINGS);
+    cfg->tropopause_max_p_pa = DEF(TROPOPAUSE_MAX_P_PA);
+    cfg->rh_tol_pct = DEF(RH_TOL_PCT);
+    cfg->track_sigma = DEF(TRACK_SIGMA);
+    cfg->on_event = NULL;         /* on_event=None */
     cfg->on_event_ctx = NULL;
-    cfg->geoid_undulation_m = NAN_;
-    cfg->max_t_step_k = TG_L(3.0);
-    cfg->max_t_rate_k_s = TG_L(1.0);
-    cfg->max_t_gradient_k_m = TG_L(0.1);
+    cfg->geoid_undulation_m = DEF(GEOID_UNDULATION_M);
+    cfg->max_t_step_k = DEF(MAX_T_STEP_K);
+    cfg->max_t_rate_k_s = DEF(MAX_T_RATE_K_S);
+    cfg->max_t_gradient_k_m = DEF(MAX_T_GRADIENT_K_M);
 }
+#undef DEF
 
-/* the settings' check: errors.check_range, as Column.__init__ calls it */
-#define SETTING(x, lo, hi) TG_TRY(tg__check_range((x), TG_L(lo), TG_L(hi), TG_RANGE))
+/* errors.check_range(name, value, lo, hi, ...) as Column.__init__ calls it,
+ * with the generated range of that setting */
+#define SETTING(x, name) \
+    TG_TRY(tg__check_range((x), TGPY_COLUMN_SET_##name##_LO, TGPY_COLUMN_SET_##name##_HI, TG_RANGE))
 
 static tg_status init_checked(tg_column *col, const tg_column_config *cfg, TG_FLOAT *out)
 {
@@ -111,68 +120,69 @@ static tg_status init_checked(tg_column *col, const tg_column_config *cfg, TG_FL
     } else {
         return tg__fail(TG_RANGE, out);
     }
-    SETTING(cfg->start_height_m, -1000.0, 100000.0);
+    SETTING(cfg->start_height_m, START_HEIGHT_M);
     n.start_height_m = cfg->start_height_m;
     /* anchor_p_pa: NaN stands for None (deliberate: C has no None in a struct) */
     if (cfg->anchor_p_pa != cfg->anchor_p_pa) {
         n.anchor = NAN_;
     } else {
-        TG_TRY(tg__check_range(cfg->anchor_p_pa, TG_L(0.1), P_MAX_PA, TG_RANGE));
+        SETTING(cfg->anchor_p_pa, ANCHOR_P_PA);
         n.anchor = cfg->anchor_p_pa;
     }
     n.ice = cfg->ice != 0;
     n.dry_fallback = cfg->dry_fallback != 0;
-    SETTING(cfg->sigma_p_pa, 0.0, 10000.0);
+    SETTING(cfg->sigma_p_pa, SIGMA_P_PA);
     n.sigma_p_pa = cfg->sigma_p_pa;
-    SETTING(cfg->sigma_t_k, 0.0, 50.0);
+    SETTING(cfg->sigma_t_k, SIGMA_T_K);
     n.sigma_t_k = cfg->sigma_t_k;
-    SETTING(cfg->sigma_rh_pct, 0.0, 100.0);
+    SETTING(cfg->sigma_rh_pct, SIGMA_RH_PCT);
     n.sigma_rh_pct = cfg->sigma_rh_pct;
-    SETTING(cfg->bias_p_pa, 0.0, 10000.0);
+    SETTING(cfg->bias_p_pa, BIAS_P_PA);
     n.bias_p_pa = cfg->bias_p_pa;
-    SETTING(cfg->bias_t_k, 0.0, 50.0);
+    SETTING(cfg->bias_t_k, BIAS_T_K);
     n.bias_t_k = cfg->bias_t_k;
-    SETTING(cfg->bias_rh_pct, 0.0, 100.0);
+    SETTING(cfg->bias_rh_pct, BIAS_RH_PCT);
     n.bias_rh_pct = cfg->bias_rh_pct;
     if (cfg->max_rate_m_s != cfg->max_rate_m_s) {   /* NaN = None: no rate check */
         n.max_rate = NAN_;
     } else {
-        SETTING(cfg->max_rate_m_s, 1.0, 10000.0);
+        SETTING(cfg->max_rate_m_s, MAX_RATE_M_S);
         n.max_rate = cfg->max_rate_m_s;
     }
-    SETTING(cfg->landing_s, 0.0, 1e6);
+    SETTING(cfg->landing_s, LANDING_S);
     n.landing_s = cfg->landing_s;
-    SETTING(cfg->landing_tol_pa, 0.0, 10000.0);
+    SETTING(cfg->landing_tol_pa, LANDING_TOL_PA);
     n.landing_tol_pa = cfg->landing_tol_pa;
-    SETTING(cfg->launch_m, 0.0, 10000.0);
+    SETTING(cfg->launch_m, LAUNCH_M);
     n.launch_m = cfg->launch_m;
-    SETTING(cfg->burst_drop_m, 0.0, 100000.0);
+    SETTING(cfg->burst_drop_m, BURST_DROP_M);
     n.burst_drop_m = cfg->burst_drop_m;
-    if (cfg->burst_readings < 1 || cfg->burst_readings > 100000)
+    if (cfg->burst_readings < TGPY_COLUMN_SET_BURST_READINGS_LO
+        || cfg->burst_readings > TGPY_COLUMN_SET_BURST_READINGS_HI)
         return tg__fail(TG_RANGE, out);
     n.burst_readings = cfg->burst_readings;
-    TG_TRY(tg__check_range(cfg->tropopause_max_p_pa, TG_L(0.0), P_MAX_PA, TG_RANGE));
+    SETTING(cfg->tropopause_max_p_pa, TROPOPAUSE_MAX_P_PA);
     n.tropopause_max_p_pa = cfg->tropopause_max_p_pa;
-    SETTING(cfg->rh_tol_pct, 0.0, 3.0);
+    SETTING(cfg->rh_tol_pct, RH_TOL_PCT);
     n.rh_tol_pct = cfg->rh_tol_pct;
     n.track_sigma = cfg->track_sigma != 0;
     if (cfg->max_t_step_k != cfg->max_t_step_k) {   /* NaN = None: no temperature-step check */
         n.t_step = NAN_;
     } else {
-        SETTING(cfg->max_t_step_k, 0.0, 100.0);
+        SETTING(cfg->max_t_step_k, MAX_T_STEP_K);
         n.t_step = cfg->max_t_step_k;
     }
     n.t_step_neg = -n.t_step;         /* derived (Python: so feed builds no float for its check) */
-    SETTING(cfg->max_t_rate_k_s, 0.0, 100.0);
+    SETTING(cfg->max_t_rate_k_s, MAX_T_RATE_K_S);
     n.max_t_rate_k_s = cfg->max_t_rate_k_s;
-    SETTING(cfg->max_t_gradient_k_m, 0.0, 10.0);
+    SETTING(cfg->max_t_gradient_k_m, MAX_T_GRADIENT_K_M);
     n.max_t_gradient_k_m = cfg->max_t_gradient_k_m;
     n.on_event = cfg->on_event;
     n.on_event_ctx = cfg->on_event_ctx;
     if (cfg->geoid_undulation_m != cfg->geoid_undulation_m) {   /* NaN = None */
         n.geoid_n = NAN_;
     } else {
-        SETTING(cfg->geoid_undulation_m, -150.0, 150.0);
+        SETTING(cfg->geoid_undulation_m, GEOID_UNDULATION_M);
         n.geoid_n = cfg->geoid_undulation_m;
     }
     /* --- derived settings */

@@ -173,7 +173,8 @@ struct tg_column;
 typedef void (*tg_column_event_fn)(struct tg_column *col, int bits, void *ctx);
 
 /* The Column constructor's keyword arguments, in Python's order and units.
- * tg_column_config_defaults() fills in Python's defaults. The settings that
+ * tg_column_config_defaults() fills in Python's defaults (generated from
+ * Column.__init__ into tg_tables.h, as are the ranges). The settings that
  * Python takes as None are NaN here (Python stores them as NaN too):
  * anchor_p_pa = NaN: no anchor; max_rate_m_s = NaN: no rate check;
  * geoid_undulation_m = NaN: GPS heights are above mean sea level;
