@@ -4,7 +4,34 @@
  * rate, events, first-order uncertainty, GPS cross-check). The contract, the
  * formulas and their sources (Wallace & Hobbs 2006 eq. 3.29/3.30; Kahan 1965;
  * WMO-No. 49 tropopause; JCGM 100:2008 eqs. 10/13) are documented in
- * column.py; the code below follows column.py statement by statement.
+ * column.py.
+ *
+ * tg_column_feed mirrors Column.feed: the same steps in the same order
+ * (1. check the values, writing nothing; 2. compute the new state in locals;
+ * 3. commit; 4. events), the same local names (p, t, tv, slope, w, p0, tv0,
+ * s, c, dz, a, tm2, g, h, rate, ...) and the same branch order, so the two
+ * read side by side and give the same bits in double (tests/test_c_port.py).
+ * Column's helpers have twins named after them: Column._nodes -> nodes(),
+ * Column._levels -> levels(), Column._tropopause -> tropopause(),
+ * Column._bad -> bad(); reanchor_gps, to_bytes and from_bytes follow
+ * _column_rare.py. Deliberate differences:
+ * - a rejected reading returns TG_READING and leaves its reason word in
+ *   col->reason (Python raises ReadingError with a message; C keeps none);
+ *   None is a NULL pointer for a reading and NaN for a setting;
+ * - parts that Column.feed writes out in place are small functions here,
+ *   called at the same point: held_mixing_ratio (the held mixing ratio),
+ *   t_jump (the temperature-step allowance), set_nodes (the node commit),
+ *   sigma_step (the uncertainty step);
+ * - nodes() fills a nodes_t where Column._nodes returns a tuple;
+ * - levels() calls layers.lnr where Column._levels calls layers.ln_ratio
+ *   (the pressures passed feed's checks; same value);
+ * - count and rejected stop at INT32_MAX (Python's ints grow on), and the
+ *   burst counter is not incremented past burst_readings (the same events):
+ *   no signed overflow, whatever a checkpoint holds;
+ * - on_event receives a context pointer; the ellipsoid code _ell is a
+ *   member written at init (Python: a property);
+ * - the settings' defaults and ranges come from tg_tables.h, generated from
+ *   Column.__init__.
  */
 #include <stddef.h>
 #include <stdint.h>
@@ -187,7 +214,7 @@ static tg_status init_checked(tg_column *col, const tg_column_config *cfg, TG_FL
     }
     /* --- derived settings */
     /* the geopotential series at this latitude, evaluated once (tinygeo.potential) */
-    tg__potential_coefs(n.lat_deg, n.ellipsoid, n.pc);
+    tg__potential_series(n.lat_deg, n.ellipsoid, n.pc);
     n.min_rate = -n.max_rate;
     n.spk2 = KH * KH * n.sigma_p_pa * n.sigma_p_pa;   /* (K/2 sigma_p)^2 */
     n.st2 = n.sigma_t_k * n.sigma_t_k;
@@ -249,12 +276,12 @@ static tg_status held_mixing_ratio(const tg_column *col, TG_FLOAT *out)
 }
 
 /* the height node pair of column.py (_n_g, _n_h, _n_k1, _n_k2, _n_lo, _n_hi);
- * Python: the tuple returned by _nodes */
+ * Python: the tuple returned by Column._nodes */
 typedef struct nodes_t {
     TG_FLOAT g, h, k1, k2, lo, hi;
 } nodes_t;
 
-/* column._nodes: exact geometric height h at g (potential.height_series with the
+/* Column._nodes: exact geometric height h at g (potential.height_series with the
  * column's series; from a guess within a few mm, one potential.newton_step
  * step) and the quadratic in gph through it and the gph of h + D and h + 2D
  * (potential.gph_series). Writes only *nd. */
@@ -273,14 +300,14 @@ static void nodes(const tg_column *col, TG_FLOAT g, TG_FLOAT guess, nodes_t *nd)
     }
     a = col->ellipsoid->a_m;
     if (guess == guess)
-        h = tg__potential_newton(g, guess, c, a);
+        h = tg__potential_newton_step(g, guess, c, a);
     else
-        h = tg__potential_geom(g, c, a);
+        h = tg__potential_height_series(g, c, a);
     d = NODE_D;
     if (h + TG_L(2.0) * d > GPH_MAX_M)
         d = -d;
-    ga = tg__potential_gph(h + d, c, a);
-    gb = tg__potential_gph(h + TG_L(2.0) * d, c, a);
+    ga = tg__potential_gph_series(h + d, c, a);
+    gb = tg__potential_gph_series(h + TG_L(2.0) * d, c, a);
     sa = d / (ga - g);               /* divided differences of h over gph (Newton form) */
     k2 = (d / (gb - ga) - sa) / (gb - g);
     nd->g = g;
@@ -336,7 +363,7 @@ static void sigma_step(tg_column *col, int first, TG_FLOAT p0, TG_FLOAT p, TG_FL
     }
 }
 
-/* column._levels: every mandatory level in [p, p0) not reported yet (ascent only) */
+/* Column._levels: every mandatory level in [p, p0) not reported yet (ascent only) */
 static int levels(tg_column *col, TG_FLOAT p0, TG_FLOAT p, TG_FLOAT g0, TG_FLOAT g, TG_FLOAT t0, TG_FLOAT t)
 {
     int bits = 0;
@@ -358,10 +385,10 @@ static int levels(tg_column *col, TG_FLOAT p0, TG_FLOAT p, TG_FLOAT g0, TG_FLOAT
         if (col->n_lo <= gl && gl <= col->n_hi && col->n_h == col->n_h) {
             /* one Newton step from the node quadratic (a few mm off) */
             TG_FLOAT d = gl - col->n_g;
-            col->level_height_m = tg__potential_newton(gl, col->n_h + d * (col->n_k1 + d * col->n_k2),
+            col->level_height_m = tg__potential_newton_step(gl, col->n_h + d * (col->n_k1 + d * col->n_k2),
                                                        col->pc, col->ellipsoid->a_m);
         } else if (GPH_MIN_M <= gl && gl <= GPH_MAX_M) {
-            col->level_height_m = tg__potential_geom(gl, col->pc, col->ellipsoid->a_m);
+            col->level_height_m = tg__potential_height_series(gl, col->pc, col->ellipsoid->a_m);
         } else {
             col->level_height_m = NAN_;
         }
@@ -372,7 +399,7 @@ static int levels(tg_column *col, TG_FLOAT p0, TG_FLOAT p, TG_FLOAT g0, TG_FLOAT
     return bits;
 }
 
-/* column._tropopause: one new envelope point, O(1) search */
+/* Column._tropopause: one new envelope point, O(1) search */
 static int tropopause(tg_column *col, TG_FLOAT g, TG_FLOAT t, TG_FLOAT p)
 {
     int st = col->tp_state;
@@ -408,7 +435,7 @@ static int tropopause(tg_column *col, TG_FLOAT g, TG_FLOAT t, TG_FLOAT p)
     return 0;
 }
 
-/* column._bad: count the rejection, keep everything else */
+/* Column._bad: count the rejection, keep everything else */
 static tg_status bad(tg_column *col, tg_reason reason, int *bits)
 {
     if (col->rejected < INT32_MAX)   /* saturates (Python's int grows on) */
@@ -483,7 +510,7 @@ tg_status tg_column_feed(tg_column *col, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_F
     if (rh_pct != NULL) {
         /* tinygeo.virtual_temperature (its moisture.tv_rh, inlined to share q):
          * Tv = T/(1 - r), r = (1 - eps) e/p = rh q, and dTv/dRH = Tv q */
-        TG_FLOAT q = tg__moisture_q(t, p, col->ice);
+        TG_FLOAT q = tg__moisture_rh_q(t, p, col->ice);
         TG_FLOAT r = rh * q;
         if (r >= ONE_M_EPS)
             return bad(col, TG_REASON_HUMIDITY, bits_out);
@@ -516,7 +543,7 @@ tg_status tg_column_feed(tg_column *col, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_F
     if (first) {
         p0 = col->anchor;
         tv0 = tv;
-        s = tg__potential_gph(col->start_height_m, col->pc, col->ellipsoid->a_m);
+        s = tg__potential_gph_series(col->start_height_m, col->pc, col->ellipsoid->a_m);
         c = TG_L(0.0);
     } else {
         p0 = col->p_pa;
@@ -754,6 +781,7 @@ TG_FLOAT tg_column_sigma_m(const tg_column *col)
 }
 
 /* ------------------------------------------------------------ GPS */
+/* _column_rare.reanchor_gps */
 tg_status tg_column_reanchor_gps(tg_column *col, TG_FLOAT sigma_gps_m, TG_FLOAT *out)
 {
     TG_FLOAT sg, target, d, old_h;
@@ -762,7 +790,7 @@ tg_status tg_column_reanchor_gps(tg_column *col, TG_FLOAT sigma_gps_m, TG_FLOAT 
         return tg__fail(TG_STATE, out);
     TG_TRY(tg__check_range(sigma_gps_m, TG_L(0.0), TG_L(10000.0), TG_RANGE));
     sg = sigma_gps_m;
-    target = tg__potential_gph(col->gps_m, col->pc, col->ellipsoid->a_m);
+    target = tg__potential_gph_series(col->gps_m, col->pc, col->ellipsoid->a_m);
     d = target - col->gph_m;
     old_h = col->height_m;
     col->gph_m = target;
@@ -794,9 +822,10 @@ tg_status tg_column_reanchor_gps(tg_column *col, TG_FLOAT sigma_gps_m, TG_FLOAT 
 }
 
 /* ------------------------------------------------------------ checkpoint */
-/* Layout of column.py: struct "<4sBH" (magic, version, payload length), then
- * "<" + "d" * (len(_CFG_F) + len(_ST_F)) + "i" * (len(_CFG_I) + len(_ST_I)),
- * then "<I" CRC-32 of everything before it. The field lists come from
+/* Layout of column.py: struct column._HEAD = "<4sBH" (magic, version,
+ * payload length), then _column_rare._PAYLOAD = "<" + "d" * (len(_CFG_F) +
+ * len(_ST_F)) + "i" * (len(_CFG_I) + len(_ST_I)), then "<I" CRC-32 of
+ * everything before it. The field lists come from
  * column.py through tg_tables.h (X-macros), so the order cannot drift. */
 #define HEAD_LEN 7
 #define PAYLOAD_LEN (8 * (TGPY_COLUMN__CFG_F_N + TGPY_COLUMN__ST_F_N) + 4 * (TGPY_COLUMN__CFG_I_N + TGPY_COLUMN__ST_I_N))
@@ -805,7 +834,7 @@ typedef char tg__head_layout[(sizeof(TGPY_COLUMN__HEAD) == 6 && sizeof(TGPY_COLU
 typedef char tg__checkpoint_size[(HEAD_LEN + PAYLOAD_LEN + 4 == TG_CHECKPOINT_BYTES) ? 1 : -1];
 typedef char tg__ieee_double[(sizeof(double) == 8 && sizeof(uint64_t) == 8) ? 1 : -1];
 
-/* column._crc_soft: CRC-32 (IEEE 802.3, reflected polynomial 0xEDB88320, as
+/* _column_rare._crc_soft: CRC-32 (IEEE 802.3, reflected polynomial 0xEDB88320, as
  * zlib/binascii), four bits at a time with a 16-entry table */
 static uint32_t crc32_ieee(const unsigned char *data, size_t n)
 {
@@ -875,6 +904,7 @@ static const unsigned char *get_i32(const unsigned char *b, int32_t *v)
     return b + 4;
 }
 
+/* _column_rare.to_bytes */
 tg_status tg_column_to_bytes(const tg_column *col, unsigned char *buf, size_t size)
 {
     unsigned char *b = buf;
@@ -909,6 +939,7 @@ struct ck_vals {
 #undef DECL_D
 #undef DECL_L
 
+/* _column_rare.from_bytes: the same checks in the same order */
 tg_status tg_column_from_bytes(tg_column *col, const unsigned char *blob, size_t n,
                                tg_column_event_fn on_event, void *on_event_ctx)
 {

@@ -122,23 +122,24 @@ static inline tg_status tg__check_rh(TG_FLOAT x, TG_FLOAT tol, tg_status error)
     return tg__check_range(x, -tol, TG_L(100.0) + tol, error);
 }
 
-/* ---- private helpers shared between modules (Python: module-private
- * functions imported across modules, e.g. standard.altitude_at in sealevel) -- */
-TG_FLOAT tg__standard_pressure_unchecked(TG_FLOAT h);   /* standard.pressure_at */
-TG_FLOAT tg__standard_altitude_unchecked(TG_FLOAT p);   /* standard.altitude_at */
-TG_FLOAT tg__standard_bottom_gph_m(void);               /* standard.BOTTOM_GPH_M */
-TG_FLOAT tg__layers_lnr(TG_FLOAT p1, TG_FLOAT p2);      /* layers.lnr */
-TG_FLOAT tg__layers_half_k_ln(TG_FLOAT p1, TG_FLOAT p2); /* layers.half_k_ln */
-TG_FLOAT tg__moisture_es(TG_FLOAT t_k, int ice);        /* moisture._es */
-TG_FLOAT tg__moisture_f(TG_FLOAT p_pa);                 /* moisture._f */
-TG_FLOAT tg__moisture_q(TG_FLOAT t_k, TG_FLOAT p_pa, int ice);   /* moisture.rh_q */
-TG_FLOAT tg__moisture_tv_w(TG_FLOAT t_k, TG_FLOAT w);   /* moisture.tv_w */
+/* ---- the unchecked forms shared between modules: each C name is the Python
+ * name of the function (tg__<module>_<name>); callers check the arguments ---- */
+TG_FLOAT tg__standard_pressure_at(TG_FLOAT h);                       /* standard.pressure_at */
+TG_FLOAT tg__standard_altitude_at(TG_FLOAT p);                       /* standard.altitude_at */
+TG_FLOAT tg__standard_bottom_gph_m(void);                            /* standard.BOTTOM_GPH_M */
+TG_FLOAT tg__layers_lnr(TG_FLOAT p1, TG_FLOAT p2);                   /* layers.lnr */
+TG_FLOAT tg__layers_half_k_ln(TG_FLOAT p1, TG_FLOAT p2);             /* layers.half_k_ln */
+TG_FLOAT tg__moisture_es(TG_FLOAT t_k, int ice);                     /* E0_PA * moisture._ex */
+TG_FLOAT tg__moisture_f(TG_FLOAT p_pa);                              /* moisture._f */
+TG_FLOAT tg__moisture_rh_q(TG_FLOAT t_k, TG_FLOAT p_pa, int ice);    /* moisture.rh_q */
+TG_FLOAT tg__moisture_tv_w(TG_FLOAT t_k, TG_FLOAT w);                /* moisture.tv_w */
 /* potential.series: the series at one latitude, D_1(s)..D_6(s) then
- * 1*D_1(s)..6*D_6(s) (Python: a list of 12 floats) */
+ * 1*D_1(s)..6*D_6(s) (Python: a tuple of 12 floats; C fills the caller's array) */
 #define TG_PC_N 12
-void tg__potential_coefs(TG_FLOAT lat_deg, const tg_ellipsoid *ellipsoid, TG_FLOAT c[TG_PC_N]);
-TG_FLOAT tg__potential_gph(TG_FLOAT h, const TG_FLOAT *c, TG_FLOAT a);              /* gph_series */
-TG_FLOAT tg__potential_newton(TG_FLOAT z, TG_FLOAT h, const TG_FLOAT *c, TG_FLOAT a); /* newton_step */
-TG_FLOAT tg__potential_geom(TG_FLOAT z, const TG_FLOAT *c, TG_FLOAT a);             /* height_series */
+void tg__potential_series(TG_FLOAT lat_deg, const tg_ellipsoid *ellipsoid, TG_FLOAT c[TG_PC_N]);
+TG_FLOAT tg__potential_gph_series(TG_FLOAT h, const TG_FLOAT *c, TG_FLOAT a);     /* potential.gph_series */
+TG_FLOAT tg__potential_newton_step(TG_FLOAT z, TG_FLOAT h, const TG_FLOAT *c,
+                                   TG_FLOAT a);                                   /* potential.newton_step */
+TG_FLOAT tg__potential_height_series(TG_FLOAT z, const TG_FLOAT *c, TG_FLOAT a);  /* potential.height_series */
 
 #endif /* TG_INTERNAL_H */
