@@ -385,11 +385,7 @@ def _run_cases(exe, tmpdir, tag, cases):
 def test_tables_not_stale():
     """ports/c/tg_tables.h holds exactly the literals of the Python modules
     (regenerate with python ports/c/gen_tables.py)."""
-    sys.path.insert(0, PORT)
-    try:
-        import gen_tables
-    finally:
-        sys.path.remove(PORT)
+    gen_tables = _gen_tables_module()
     with open(gen_tables.OUT) as f:
         assert f.read() == gen_tables.generate(), "ports/c/tg_tables.h is stale: run python ports/c/gen_tables.py"
 
@@ -451,6 +447,40 @@ def test_tables_follow_column_settings(tmp_path):
     rc, out = _gen_tables_on_copy(tmp, lambda t: _add_setting(
         t, "self.new_gate_m = float(new_gate_m) if 0 <= new_gate_m <= 50 else self._refuse()"))
     assert rc == 2 and "Column.__init__ parameter 'new_gate_m'" in out, out
+
+
+def _gen_tables_module():
+    sys.path.insert(0, PORT)
+    try:
+        import gen_tables
+    finally:
+        sys.path.remove(PORT)
+    return gen_tables
+
+
+def test_c_comments_cite_existing_python(tmp_path):
+    """Every Python name a comment of ports/c cites (column.py, Column.feed,
+    potential.gph_series, _column_rare.to_bytes, tinygeo/errors.py, ...)
+    exists in the module it names (rules: gen_tables.check_citations); and the
+    check finds a stale citation of each kind."""
+    gen_tables = _gen_tables_module()
+    assert gen_tables.check_citations() == []
+    bad = tmp_path / "stale.c"
+    bad.write_text("/* column._nodes (a method, not module-level), Column._no_such, "
+                   "potential.gph_series, moisture._es,\n * tinygeo.no_such, errors.check_range, "
+                   "tinygeo.potential.series, tinygeo.potential.coefs, gone.py, nowhere.c,\n"
+                   " * tinygeo/none.py, tinygeo/column.py, cfg.ice, math.pi, e.g. */\n"
+                   "// constants.Ellipsoid.a_m constants.Ellipsoid.nope moisture.py\n"
+                   "int x; /* Column.feed Column.count Column.sigma_m column.c */\n")
+    got = gen_tables.check_citations(files=[str(bad)])
+    cites = [p.split(": ")[1] for p in got]
+    assert cites == ["tinygeo/none.py", "column._nodes", "Column._no_such", "moisture._es", "tinygeo.no_such",
+                     "tinygeo.potential.coefs", "constants.Ellipsoid.nope"], got
+    assert got[0].endswith(":3: tinygeo/none.py: no such file") and ":4: " in got[-1], got
+    # --check runs it: a Python method renamed under the C comments that cite it
+    rc, out = _gen_tables_on_copy(str(tmp_path), lambda t: t.replace("def _nodes(", "def _node_pair(", 1)
+                                  .replace("self._nodes(", "self._node_pair("))
+    assert rc == 1 and "Column._nodes: no such method or attribute" in out, out
 
 
 def test_layers_ln_tiers_not_stale():

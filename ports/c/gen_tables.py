@@ -31,10 +31,14 @@ number of parameters); column.c takes its defaults and ranges from these
 only. A new setting checked with ``check_range("name", name, lo, hi, ...)``
 is picked up as it is; a setting checked any other way stops the generator
 with its name (see column_settings for the forms it reads).
+--check also runs check_citations: every Python name the C comments cite
+(column.py, Column.feed, potential.gph_series, ...) must exist in the module
+it names (the rules are in its docstring).
 tests/test_c_port.py runs --check.
 """
 import ast
 import os
+import re
 import sys
 
 HERE = os.path.dirname(os.path.abspath(__file__))
@@ -384,6 +388,168 @@ def generate(root=ROOT):
     return "\n".join(out) + "\n"
 
 
+# ----------------------------------------------------------------------------- comment check
+_FILE_EXT = ("py", "c", "h", "md", "txt")
+_CHAIN = re.compile(r"(?<![\w./-])([A-Za-z_]\w*(?:\.[A-Za-z_]\w*)+)")
+_PATH = re.compile(r"(?<![\w./-])((?:[\w.-]+/)+[\w.-]+\.(?:py|c|h|md|txt))(?![\w*])")
+_COMMENT = re.compile(r"/\*.*?\*/|//[^\n]*", re.S)
+
+
+def _defined_names(body):
+    # names a block of statements defines (def, class, assignment), looking
+    # into if/try/for/while/with blocks but not into functions and classes;
+    # imports do not count
+    out = set()
+    for st in body:
+        if isinstance(st, (ast.FunctionDef, ast.AsyncFunctionDef, ast.ClassDef)):
+            out.add(st.name)
+        elif isinstance(st, (ast.Assign, ast.AnnAssign, ast.AugAssign)):
+            for t in (st.targets if isinstance(st, ast.Assign) else [st.target]):
+                for n in ast.walk(t):
+                    if isinstance(n, ast.Name):
+                        out.add(n.id)
+        for field in ("body", "orelse", "finalbody"):
+            if not isinstance(st, (ast.FunctionDef, ast.AsyncFunctionDef, ast.ClassDef)):
+                out |= _defined_names(getattr(st, field, []) or [])
+        for h in getattr(st, "handlers", []) or []:
+            out |= _defined_names(h.body)
+    return out
+
+
+def _class_members(cls):
+    # methods, class-level names, and every self.<name> a method assigns
+    out = _defined_names(cls.body)
+    for f in cls.body:
+        if not isinstance(f, (ast.FunctionDef, ast.AsyncFunctionDef)):
+            continue
+        for n in ast.walk(f):
+            targets = []
+            if isinstance(n, ast.Assign):
+                targets = n.targets
+            elif isinstance(n, (ast.AugAssign, ast.AnnAssign)):
+                targets = [n.target]
+            for t in targets:
+                for a in ast.walk(t):
+                    if isinstance(a, ast.Attribute) and isinstance(a.value, ast.Name) and a.value.id == "self":
+                        out.add(a.attr)
+    return out
+
+
+def python_index(root=ROOT):
+    """{module: (module-level names, {class: members})} for every tinygeo/*.py."""
+    index = {}
+    pkg = os.path.join(root, "tinygeo")
+    for fn in sorted(os.listdir(pkg)):
+        if not fn.endswith(".py"):
+            continue
+        with open(os.path.join(pkg, fn)) as f:
+            tree = ast.parse(f.read())
+        classes = dict((c.name, _class_members(c)) for c in tree.body if isinstance(c, ast.ClassDef))
+        index[fn[:-3]] = (_defined_names(tree.body), classes)
+    return index
+
+
+def check_citations(root=ROOT, files=None):
+    """Check that every Python name the C port's comments cite exists.
+
+    Read: the comments (/* */ and //) of ports/c/*.c and *.h, and the whole
+    text of ports/c/README.md (or the given files). The rules:
+
+    * a dotted name whose first part is a module of tinygeo/ (a file
+      tinygeo/<module>.py), ``tinygeo``, or a class defined at module level
+      in one of them (Column, Ellipsoid, RangeError, ...) is a citation;
+      every other dotted word (cfg.ice, math.pi, e.g.) is left alone;
+    * ``<module>.<ext>`` with ext py/c/h/md/txt names a file: <module>.py
+      must exist in tinygeo/, <module>.c/.h in ports/c/;
+    * ``<module>.<name>``: name is defined at module level in
+      tinygeo/<module>.py (def, class, or assignment, also inside if/try
+      blocks; a name the module only imports does not count: cite the module
+      that defines it); private names (``moisture._ex``) included;
+    * ``<module>.<Class>.<member>`` and ``<Class>.<member>``: member is a
+      method or a class-level name of the class, or an attribute one of its
+      methods assigns (self.<member> = ...); a third part after anything but
+      a class (``constants.WGS84.a_m``) is not checked;
+    * ``tinygeo.<name>``: a submodule of the package or a module-level name
+      of one of its modules (the package gives its public names lazily);
+      ``tinygeo.<module>.<name>...`` as ``<module>.<name>...``;
+    * a path with a slash and one of those extensions (tinygeo/column.py,
+      tests/test_c_port.py) must exist from the repository root; patterns
+      with * are left alone.
+
+    root is the checkout whose tinygeo/ is read (default: this one); the
+    C files and the other paths are always this checkout's.
+
+    Unqualified names (``_nodes``, ``feed``) are not checked: qualify a
+    citation to have it checked. Returns a list of "file:line: problem"."""
+    index = python_index(root)
+    classes = {}
+    for mod, (_, cls) in index.items():
+        for name, members in cls.items():
+            classes.setdefault(name, members)
+    if files is None:   # this port's files (root may be another copy of tinygeo/)
+        files = sorted(os.path.join(HERE, f) for f in os.listdir(HERE)
+                       if f.endswith((".c", ".h")) or f == "README.md")
+    problems = []
+
+    def member(cls_members, name, cite):
+        return None if name in cls_members else "%s: no such method or attribute" % cite
+
+    def check(cite):
+        parts = cite.split(".")
+        head = parts[0]
+        if len(parts) == 2 and parts[1] in _FILE_EXT:
+            if head in index or head == "tinygeo":
+                if parts[1] == "py" and not os.path.exists(os.path.join(root, "tinygeo", cite)):
+                    return "%s: no file tinygeo/%s" % (cite, cite)
+                if parts[1] in ("c", "h") and not os.path.exists(os.path.join(HERE, cite)):
+                    return "%s: no file ports/c/%s" % (cite, cite)
+            return None
+        if head == "tinygeo":
+            if parts[1] in index:
+                err = check(".".join(parts[1:])) if len(parts) > 2 else None
+                return err and "tinygeo." + err
+            if os.path.isdir(os.path.join(root, "tinygeo", parts[1])):
+                return None
+            if any(parts[1] in names for names, _ in index.values()):
+                return None
+            return "%s: tinygeo has no module or name %r" % (cite, parts[1])
+        if head in index:
+            names, cls = index[head]
+            if parts[1] not in names:
+                return "%s: tinygeo/%s.py defines no %r" % (cite, head, parts[1])
+            if len(parts) > 2 and parts[1] in cls:
+                return member(cls[parts[1]], parts[2], cite)
+            return None
+        if head in classes:
+            return member(classes[head], parts[1], cite)
+        return None
+
+    for path in files:
+        with open(path) as f:
+            text = f.read()
+        if path.endswith(".md"):
+            chunks = [(0, text)]
+        else:
+            chunks = [(m.start(), m.group(0)) for m in _COMMENT.finditer(text)]
+        rel = os.path.relpath(path, ROOT)
+        for start, chunk in chunks:
+            for m in _PATH.finditer(chunk):
+                base = root if m.group(1).startswith("tinygeo/") else ROOT
+                if not os.path.exists(os.path.join(base, m.group(1))):
+                    line = text.count("\n", 0, start + m.start()) + 1
+                    problems.append("%s:%d: %s: no such file" % (rel, line, m.group(1)))
+            for m in _CHAIN.finditer(chunk):
+                cite = m.group(1)
+                if cite.split(".")[0] not in index and cite.split(".")[0] not in classes and \
+                        not cite.startswith("tinygeo."):
+                    continue
+                err = check(cite)
+                if err:
+                    line = text.count("\n", 0, start + m.start()) + 1
+                    problems.append("%s:%d: %s" % (rel, line, err))
+    return problems
+
+
 def main(argv):
     root = ROOT
     if "--root" in argv:   # another checkout (tests: an edited copy of tinygeo/)
@@ -404,6 +570,12 @@ def main(argv):
             sys.stdout.writelines(difflib.unified_diff(old.splitlines(True), text.splitlines(True),
                                                        "tg_tables.h (checked in)", "tg_tables.h (from tinygeo/ modules)"))
             print("ports/c/tg_tables.h is stale: run python ports/c/gen_tables.py")
+            return 1
+        problems = check_citations(root)
+        if problems:
+            print("\n".join(problems))
+            print("ports/c: comments cite Python names that do not exist (rules: "
+                  "gen_tables.check_citations)")
             return 1
         return 0
     with open(OUT, "w") as f:
