@@ -18,7 +18,9 @@ double), and checks:
 * the float build agrees closely with the project's float32 emulation of the
   Python modules (tests/floatemu.py, f32), in float32 ulps;
 * ports/c/tg_tables.h is not stale against the Python literals;
-* an AddressSanitizer/UndefinedBehaviorSanitizer build runs everything clean.
+* an AddressSanitizer/UndefinedBehaviorSanitizer build runs everything clean;
+* a 32-bit build (gcc -m32, 32-bit long) under UBSan restores checkpoints with
+  negative int32s and counters at INT32_MAX without an overflow.
 
 When gcc is missing the tests skip, except under CI (env CI=true) where they
 fail. Everything runs in a few seconds.
@@ -383,13 +385,102 @@ def _run_cases(exe, tmpdir, tag, cases):
 def test_tables_not_stale():
     """ports/c/tg_tables.h holds exactly the literals of the Python modules
     (regenerate with python ports/c/gen_tables.py)."""
+    gen_tables = _gen_tables_module()
+    with open(gen_tables.OUT) as f:
+        assert f.read() == gen_tables.generate(), "ports/c/tg_tables.h is stale: run python ports/c/gen_tables.py"
+
+
+def _gen_tables_on_copy(tmp, edit):
+    """Run ports/c/gen_tables.py --check on a copy of tinygeo/ whose column.py
+    was edited by edit(text) -> text: (exit status, output)."""
+    dst = os.path.join(tmp, "tinygeo")
+    shutil.rmtree(dst, ignore_errors=True)
+    shutil.copytree(os.path.join(ROOT, "tinygeo"), dst, ignore=shutil.ignore_patterns("__pycache__", "host"))
+    path = os.path.join(dst, "column.py")
+    with open(path) as f:
+        text = f.read()
+    new = edit(text)
+    assert new != text or edit is _unchanged, "the edit found nothing to change"
+    with open(path, "w") as f:
+        f.write(new)
+    r = subprocess.run([sys.executable, os.path.join(PORT, "gen_tables.py"), "--check", "--root", tmp],
+                       capture_output=True, text=True, timeout=60)
+    return r.returncode, r.stdout + r.stderr
+
+
+def _unchanged(text):
+    return text
+
+
+def _add_setting(text, check):
+    # a new keyword parameter of Column.__init__ and its check (after the
+    # latitude's), as a contributor would add one
+    import re
+    text = text.replace("def __init__(self, lat_deg, ", "def __init__(self, lat_deg, new_gate_m=5, ", 1)
+    m = re.search(r"\n( +)self\.lat_deg = check_lat\(lat_deg\)\n", text)
+    return text[:m.end()] + m.group(1) + check + "\n" + text[m.end():]
+
+
+def test_tables_follow_column_settings(tmp_path):
+    """tg_tables.h carries Column.__init__'s defaults and check_range bounds:
+    --check fails when column.py changes a default or a range, or adds a
+    setting, and tg_tables.h was not regenerated; a new setting checked with
+    check_range("name", ...) is picked up without touching the generator; one
+    checked any other way stops the generator with its name."""
+    tmp = str(tmp_path)
+    rc, out = _gen_tables_on_copy(tmp, _unchanged)
+    assert rc == 0, out
+    rc, out = _gen_tables_on_copy(tmp, lambda t: t.replace("sigma_p_pa=10,", "sigma_p_pa=12,", 1))
+    assert rc == 1 and "+#define TGPY_COLUMN_SET_SIGMA_P_PA_DEF TG_L(12)" in out, out
+    rc, out = _gen_tables_on_copy(tmp, lambda t: t.replace(
+        'check_range("launch_m", launch_m, 0, 10000,', 'check_range("launch_m", launch_m, 0, 20000,', 1))
+    assert rc == 1 and "+#define TGPY_COLUMN_SET_LAUNCH_M_HI TG_L(20000)" in out, out
+    rc, out = _gen_tables_on_copy(tmp, lambda t: t.replace(
+        "burst_readings < 1 or burst_readings > 100000", "burst_readings < 2 or burst_readings > 100000", 1))
+    assert rc == 1 and "+#define TGPY_COLUMN_SET_BURST_READINGS_LO 2" in out, out
+    rc, out = _gen_tables_on_copy(tmp, lambda t: _add_setting(
+        t, 'self.new_gate_m = check_range("new_gate_m", new_gate_m, 0, 50, "m")'))
+    assert rc == 1, out
+    for line in ("+#define TGPY_COLUMN_SET_N 27", "+#define TGPY_COLUMN_SET_NEW_GATE_M_DEF TG_L(5)",
+                 "+#define TGPY_COLUMN_SET_NEW_GATE_M_LO TG_L(0)", "+#define TGPY_COLUMN_SET_NEW_GATE_M_HI TG_L(50)"):
+        assert line in out, (line, out)
+    rc, out = _gen_tables_on_copy(tmp, lambda t: _add_setting(
+        t, "self.new_gate_m = float(new_gate_m) if 0 <= new_gate_m <= 50 else self._refuse()"))
+    assert rc == 2 and "Column.__init__ parameter 'new_gate_m'" in out, out
+
+
+def _gen_tables_module():
     sys.path.insert(0, PORT)
     try:
         import gen_tables
     finally:
         sys.path.remove(PORT)
-    with open(gen_tables.OUT) as f:
-        assert f.read() == gen_tables.generate(), "ports/c/tg_tables.h is stale: run python ports/c/gen_tables.py"
+    return gen_tables
+
+
+def test_c_comments_cite_existing_python(tmp_path):
+    """Every Python name a comment of ports/c cites (column.py, Column.feed,
+    potential.gph_series, _column_rare.to_bytes, tinygeo/errors.py, ...)
+    exists in the module it names (rules: gen_tables.check_citations); and the
+    check finds a stale citation of each kind."""
+    gen_tables = _gen_tables_module()
+    assert gen_tables.check_citations() == []
+    bad = tmp_path / "stale.c"
+    bad.write_text("/* column._nodes (a method, not module-level), Column._no_such, "
+                   "potential.gph_series, moisture._es,\n * tinygeo.no_such, errors.check_range, "
+                   "tinygeo.potential.series, tinygeo.potential.coefs, gone.py, nowhere.c,\n"
+                   " * tinygeo/none.py, tinygeo/column.py, cfg.ice, math.pi, e.g. */\n"
+                   "// constants.Ellipsoid.a_m constants.Ellipsoid.nope moisture.py\n"
+                   "int x; /* Column.feed Column.count Column.sigma_m column.c */\n")
+    got = gen_tables.check_citations(files=[str(bad)])
+    cites = [p.split(": ")[1] for p in got]
+    assert cites == ["tinygeo/none.py", "column._nodes", "Column._no_such", "moisture._es", "tinygeo.no_such",
+                     "tinygeo.potential.coefs", "constants.Ellipsoid.nope"], got
+    assert got[0].endswith(":3: tinygeo/none.py: no such file") and ":4: " in got[-1], got
+    # --check runs it: a Python method renamed under the C comments that cite it
+    rc, out = _gen_tables_on_copy(str(tmp_path), lambda t: t.replace("def _nodes(", "def _node_pair(", 1)
+                                  .replace("self._nodes(", "self._node_pair("))
+    assert rc == 1 and "Column._nodes: no such method or attribute" in out, out
 
 
 def test_layers_ln_tiers_not_stale():
@@ -539,6 +630,63 @@ def test_float_close_to_float32_emulation(build):
         print("  %-40s max %d ulp" % (label, worst[label][0]))
     for label, (d, args) in worst.items():
         assert d <= EMU_ULPS, "%s: %d ulps from the f32 emulation at %r" % (label, d, args)
+
+
+KAHAN_C = r"""
+#include <stdio.h>
+struct col { float g, c; };
+/* the Kahan step of column.c's feed, one reading per call as there */
+__attribute__((noinline)) static void feed(struct col *col, float dz)
+{
+    float s = col->g;
+    float y = dz - col->c;
+    float g = s + y;
+    col->c = (g - s) - y;
+    col->g = g;
+}
+int main(void)
+{
+    volatile float dz = 0.0012345f;   /* not folded at compile time */
+    struct col col = { 0.0f, 0.0f };
+    long i;
+    for (i = 0; i < 10000000L; i++)
+        feed(&col, dz);
+    printf("%.3f\n", col.g);
+    return 0;
+}
+"""
+
+
+def test_fast_math_is_refused():
+    """Building the port with -ffast-math, -Ofast or -ffinite-math-only stops at
+    the #error of tg_internal.h, which says why; the figures it quotes are
+    those of the Kahan step of column.c in float, compiled here with and
+    without -ffast-math."""
+    gcc = shutil.which("gcc")
+    if gcc is None:
+        if os.environ.get("CI", "").lower() == "true":
+            pytest.fail("gcc not found, and CI=true: the C port must be tested in CI")
+        pytest.skip("gcc not found")
+    with tempfile.TemporaryDirectory(prefix="tinygeo_fm_") as tmp:
+        for flag, words in (("-ffast-math", ("Kahan", "12345.000 without", "11952.650 with -ffast-math")),
+                            ("-Ofast", ("Kahan",)),
+                            ("-ffinite-math-only", ("NaN for None", "isfinite"))):
+            for src in _sources():
+                r = subprocess.run([gcc, "-std=c99", "-O2", flag, "-c", src, "-o",
+                                    os.path.join(tmp, "x.o")], capture_output=True, text=True)
+                assert r.returncode != 0, (flag, src)
+                assert "#error" in r.stderr and all(w in r.stderr for w in words), (flag, src, r.stderr)
+        path = os.path.join(tmp, "kahan.c")
+        with open(path, "w") as f:
+            f.write(KAHAN_C)
+        sums = []
+        for flags in ([], ["-ffast-math"]):
+            exe = os.path.join(tmp, "kahan%d" % len(sums))
+            subprocess.run([gcc, "-std=c99", "-O2"] + flags + ["-o", exe, path], check=True)
+            sums.append(subprocess.run([exe], capture_output=True, text=True, check=True).stdout.strip())
+        # 1e7 x 0.0012345 = 12345 (exact arithmetic); -ffast-math drops the
+        # compensation and leaves the naive float sum (gcc 12: 11952.650)
+        assert sums == ["12345.000", "11952.650"], sums
 
 
 def test_sanitizers(build):
@@ -948,20 +1096,9 @@ def test_column_checkpoints_are_interchangeable_with_python(build):
     ver = bytearray(raw)
     ver[4] = 2
     bad.append(bytes(ver))                        # another version (CRC checked after)
-    # impossible phase with a valid CRC
-    import struct as _struct
     from tinygeo import column as _column
-    from tinygeo._column_rare import _crc, _HEAD_LEN
-    body = bytearray(raw[:-4])
-    off = _HEAD_LEN + 8 * (len(_column._CFG_F) + len(_column._ST_F)) + \
-        4 * (len(_column._CFG_I) + list(_column._ST_I).index("phase"))
-    body[off:off + 4] = _struct.pack("<i", 7)
-    bad.append(bytes(body) + _struct.pack("<I", _crc(bytes(body))))
-    # unknown ellipsoid code with a valid CRC
-    body = bytearray(raw[:-4])
-    off = _HEAD_LEN + 8 * (len(_column._CFG_F) + len(_column._ST_F))
-    body[off:off + 4] = _struct.pack("<i", 5)
-    bad.append(bytes(body) + _struct.pack("<I", _crc(bytes(body))))
+    bad.append(_craft_blob(raw, phase=7))         # impossible phase with a valid CRC
+    bad.append(_craft_blob(raw, ell=5))           # unknown ellipsoid code with a valid CRC
     cmds = (base[:k] + [("save", ())] + [("load", (b.hex(),)) for b in bad] + [("load", (py_blob,))]
             + base[k:k + 300] + [("save", ())] + base[k + 300:] + [("save", ())])
     crow, cev, cblobs = run_c_column(build["column_double"], cmds)
@@ -996,6 +1133,107 @@ def test_float_build_checkpoint_reads_in_python_and_resumes(build):
     assert len(rows_resumed) == len(plain[0])
     for a, b in zip(rows_resumed, plain[0]):
         assert a[0] == b[0] and all(_same(x, y) for x, y in zip(a[3], b[3]))
+
+
+def _craft_blob(raw, **ints):
+    """A checkpoint blob with some int32 fields replaced (a valid CRC-32 again):
+    the state a firmware could hold after running long enough, or a blob made
+    by hand."""
+    import struct as _struct
+    from tinygeo import column as _column
+    from tinygeo._column_rare import _crc, _HEAD_LEN
+    names = [n.lstrip("_") for n in _column._CFG_I + _column._ST_I]   # as the C members
+    body = bytearray(raw[:-4])
+    base = _HEAD_LEN + 8 * (len(_column._CFG_F) + len(_column._ST_F))
+    for name, v in ints.items():
+        off = base + 4 * names.index(name)
+        body[off:off + 4] = _struct.pack("<i", v)
+    return bytes(body) + _struct.pack("<I", _crc(bytes(body)))
+
+
+INT32_MAX = 2 ** 31 - 1
+M32_FLAGS = ["-m32", "-msse2", "-mfpmath=sse", "-std=c99", "-Wall", "-Wextra", "-Werror", "-O1", "-g",
+             "-fsanitize=undefined", "-fno-sanitize-recover=all"]
+"""A 32-bit x86 build (int, long and pointers of 32 bits, as on Cortex-M, rp2
+and esp32) under UndefinedBehaviorSanitizer, every report fatal; SSE2 for
+double arithmetic (the x87 unit would round to 80 bits in between)."""
+
+
+def _m32_streams():
+    """Commands for the -m32 test: the sounding with its first 40 readings
+    without GPS and a checkpoint saved and restored there (it holds gps_n = -1,
+    a negative int32), then a checkpoint with count and rejected one below
+    INT32_MAX, burst_n = INT32_MAX and gps_n = INT32_MIN (a valid CRC): a
+    reading below the burst line (the burst counter must not overflow), more
+    readings and bad readings (both counters reach INT32_MAX and stay there;
+    Python's ints grow on)."""
+    base = sounding_commands(step=100.0)
+    head = [base[0]] + [(v, a[:4] + (None,)) for v, a in base[1:41]] + [("save", ())]
+    blob_a = run_py_column(head)[2][0]
+    cmds = head + [("load", (blob_a,))] + base[41:200] + [("save", ())]
+    blob_b = bytes.fromhex(run_py_column(cmds)[2][-1])
+    crafted = _craft_blob(blob_b, count=INT32_MAX - 1, rejected=INT32_MAX - 1, burst_n=INT32_MAX,
+                          gps_n=-2 ** 31)
+    low = base[150][1][:3] + (None, None)   # 5 km down, untimed (no rate check)
+    cmds += [("load", (crafted.hex(),)), ("feed", low)] + base[200:206]
+    cmds += [("feed", (NAN, 250.0, None, None, None)), ("feed", (50000.0, 25.0, None, None, None))]
+    return cmds
+
+
+def test_column_32bit_long_ubsan(build):
+    """column.c built with -m32 (32-bit long) under UBSan: checkpoints with a
+    negative int32 (gps_n = -1 before the first GPS height, INT32_MIN) and
+    counters at INT32_MAX restore and run without any signed overflow or
+    out-of-range conversion, bit-identical to CPython in double (count and
+    rejected saturate at INT32_MAX where Python's ints grow on), and the float
+    build prints what the 64-bit float build prints."""
+    gcc = shutil.which("gcc")
+    with tempfile.TemporaryDirectory(prefix="tinygeo_m32_") as tmp:
+        probe = os.path.join(tmp, "probe.c")
+        with open(probe, "w") as f:
+            f.write("typedef char long_is_32[sizeof(long) == 4 ? 1 : -1];\nint main(void) { return 0; }\n")
+        r = subprocess.run([gcc] + M32_FLAGS + ["-o", os.path.join(tmp, "probe"), probe],
+                           capture_output=True, text=True)
+        if r.returncode != 0:
+            if os.environ.get("CI", "").lower() == "true":
+                pytest.fail("gcc -m32 with UBSan does not build (CI installs gcc-multilib): " + r.stderr)
+            pytest.skip("gcc -m32 with UBSan not available (apt-get install gcc-multilib): "
+                        + r.stderr[-200:])
+        exes = {}
+        for kind, extra in (("double", []), ("float", FLOAT_FLAGS)):
+            exe = os.path.join(tmp, "column_run_m32_" + kind)
+            cmd = [gcc] + M32_FLAGS + extra + ["-o", exe] + _sources() + \
+                [os.path.join(PORT, "column_run.c"), "-lm"]
+            r = subprocess.run(cmd, capture_output=True, text=True)
+            assert r.returncode == 0, "%s\n%s" % (" ".join(cmd), r.stderr)
+            exes[kind] = exe
+        cmds = _m32_streams()
+        env = dict(os.environ, UBSAN_OPTIONS="print_stacktrace=1")
+        r = subprocess.run([exes["double"]], input=_cmd_text(cmds), capture_output=True, text=True,
+                           env=env, timeout=60)
+        assert r.returncode == 0 and "runtime error" not in r.stderr, r.stderr
+        crow, cev, _ = run_c_column(exes["double"], cmds)
+        prow, pev, _ = run_py_column(cmds)
+        # C's counters saturate at INT32_MAX (tinygeo.h); Python's go on
+        prow = [(p[0], p[1], p[2], None if p[3] is None else
+                 tuple(min(x, INT32_MAX) if n in ("count", "rejected") else x
+                       for n, x in zip(COL_ATTRS, p[3]))) for p in prow]
+        pev = [(min(c, INT32_MAX), b) for c, b in pev]
+        assert cev == pev
+        _compare_rows(cmds, crow, prow)
+        loads = [r_[0] for r_, (verb, _) in zip(crow, cmds) if verb == "load"]
+        assert loads == ["ok", "ok"], loads
+        last = crow[-1][3]
+        assert last[0] == last[1] == INT32_MAX, last[:2]
+        assert any(b & tinygeo.column.EV_BURST for c, b in cev if c == INT32_MAX), cev[-3:]
+        fcmds = _round_cmds(cmds)
+        r32 = subprocess.run([exes["float"]], input=_cmd_text(fcmds), capture_output=True, text=True,
+                             env=env, timeout=60)
+        assert r32.returncode == 0 and "runtime error" not in r32.stderr, r32.stderr
+        r64 = subprocess.run([build["column_float"]], input=_cmd_text(fcmds), capture_output=True,
+                             text=True, timeout=60)
+        # the sign of a NaN is not a result (printf shows it; i386 and x86_64 differ)
+        assert r32.stdout.replace("-nan", "nan") == r64.stdout.replace("-nan", "nan")
 
 
 def test_column_bad_settings(build):

@@ -4,7 +4,34 @@
  * rate, events, first-order uncertainty, GPS cross-check). The contract, the
  * formulas and their sources (Wallace & Hobbs 2006 eq. 3.29/3.30; Kahan 1965;
  * WMO-No. 49 tropopause; JCGM 100:2008 eqs. 10/13) are documented in
- * column.py; the code below follows column.py statement by statement.
+ * column.py.
+ *
+ * tg_column_feed mirrors Column.feed: the same steps in the same order
+ * (1. check the values, writing nothing; 2. compute the new state in locals;
+ * 3. commit; 4. events), the same local names (p, t, tv, slope, w, p0, tv0,
+ * s, c, dz, a, tm2, g, h, rate, ...) and the same branch order, so the two
+ * read side by side and give the same bits in double (tests/test_c_port.py).
+ * Column's helpers have twins named after them: Column._nodes -> nodes(),
+ * Column._levels -> levels(), Column._tropopause -> tropopause(),
+ * Column._bad -> bad(); reanchor_gps, to_bytes and from_bytes follow
+ * _column_rare.py. Deliberate differences:
+ * - a rejected reading returns TG_READING and leaves its reason word in
+ *   col->reason (Python raises ReadingError with a message; C keeps none);
+ *   None is a NULL pointer for a reading and NaN for a setting;
+ * - parts that Column.feed writes out in place are small functions here,
+ *   called at the same point: held_mixing_ratio (the held mixing ratio),
+ *   t_jump (the temperature-step allowance), set_nodes (the node commit),
+ *   sigma_step (the uncertainty step);
+ * - nodes() fills a nodes_t where Column._nodes returns a tuple;
+ * - levels() calls layers.lnr where Column._levels calls layers.ln_ratio
+ *   (the pressures passed feed's checks; same value);
+ * - count and rejected stop at INT32_MAX (Python's ints grow on), and the
+ *   burst counter is not incremented past burst_readings (the same events):
+ *   no signed overflow, whatever a checkpoint holds;
+ * - on_event receives a context pointer; the ellipsoid code _ell is a
+ *   member written at init (Python: a property);
+ * - the settings' defaults and ranges come from tg_tables.h, generated from
+ *   Column.__init__.
  */
 #include <stddef.h>
 #include <stdint.h>
@@ -58,39 +85,48 @@ const char *tg_reason_name(tg_reason reason)
     return "unknown";
 }
 
+/* The defaults and ranges of the settings are Column.__init__'s, generated
+ * into tg_tables.h (TGPY_COLUMN_SET_<NAME>_DEF/_LO/_HI; None -> NaN). A
+ * setting added to Column stops the build here until tg_column_config has it. */
+typedef char tg__settings_26[TGPY_COLUMN_SET_N == 26 ? 1 : -1];
+#define DEF(name) TGPY_COLUMN_SET_##name##_DEF
+
 void tg_column_config_defaults(tg_column_config *cfg, TG_FLOAT lat_deg)
 {
     cfg->lat_deg = lat_deg;
-    cfg->start_height_m = TG_L(0.0);
-    cfg->anchor_p_pa = NAN_;
-    cfg->ellipsoid = &tg_wgs84;
-    cfg->ice = 0;
-    cfg->dry_fallback = 0;
-    cfg->sigma_p_pa = TG_L(10.0);
-    cfg->sigma_t_k = TG_L(0.2);
-    cfg->sigma_rh_pct = TG_L(1.0);
-    cfg->bias_p_pa = TG_L(50.0);
-    cfg->bias_t_k = TG_L(0.2);
-    cfg->bias_rh_pct = TG_L(3.0);
-    cfg->max_rate_m_s = TG_L(200.0);
-    cfg->landing_s = TG_L(60.0);
-    cfg->landing_tol_pa = TG_L(50.0);
-    cfg->launch_m = TG_L(20.0);
-    cfg->burst_drop_m = TG_L(50.0);
-    cfg->burst_readings = 3;
-    cfg->tropopause_max_p_pa = TG_L(50000.0);
-    cfg->rh_tol_pct = TG_L(3.0);
-    cfg->track_sigma = 1;
-    cfg->on_event = NULL;
+    cfg->start_height_m = DEF(START_HEIGHT_M);
+    cfg->anchor_p_pa = DEF(ANCHOR_P_PA);
+    cfg->ellipsoid = &tg_wgs84;   /* ellipsoid=WGS84 */
+    cfg->ice = DEF(ICE);
+    cfg->dry_fallback = DEF(DRY_FALLBACK);
+    cfg->sigma_p_pa = DEF(SIGMA_P_PA);
+    cfg->sigma_t_k = DEF(SIGMA_T_K);
+    cfg->sigma_rh_pct = DEF(SIGMA_RH_PCT);
+    cfg->bias_p_pa = DEF(BIAS_P_PA);
+    cfg->bias_t_k = DEF(BIAS_T_K);
+    cfg->bias_rh_pct = DEF(BIAS_RH_PCT);
+    cfg->max_rate_m_s = DEF(MAX_RATE_M_S);
+    cfg->landing_s = DEF(LANDING_S);
+    cfg->landing_tol_pa = DEF(LANDING_TOL_PA);
+    cfg->launch_m = DEF(LAUNCH_M);
+    cfg->burst_drop_m = DEF(BURST_DROP_M);
+    cfg->burst_readings = DEF(BURST_READINGS);
+    cfg->tropopause_max_p_pa = DEF(TROPOPAUSE_MAX_P_PA);
+    cfg->rh_tol_pct = DEF(RH_TOL_PCT);
+    cfg->track_sigma = DEF(TRACK_SIGMA);
+    cfg->on_event = NULL;         /* on_event=None */
     cfg->on_event_ctx = NULL;
-    cfg->geoid_undulation_m = NAN_;
-    cfg->max_t_step_k = TG_L(3.0);
-    cfg->max_t_rate_k_s = TG_L(1.0);
-    cfg->max_t_gradient_k_m = TG_L(0.1);
+    cfg->geoid_undulation_m = DEF(GEOID_UNDULATION_M);
+    cfg->max_t_step_k = DEF(MAX_T_STEP_K);
+    cfg->max_t_rate_k_s = DEF(MAX_T_RATE_K_S);
+    cfg->max_t_gradient_k_m = DEF(MAX_T_GRADIENT_K_M);
 }
+#undef DEF
 
-/* the settings' check: errors.check_range, as Column.__init__ calls it */
-#define SETTING(x, lo, hi) TG_TRY(tg__check_range((x), TG_L(lo), TG_L(hi), TG_RANGE))
+/* errors.check_range(name, value, lo, hi, ...) as Column.__init__ calls it,
+ * with the generated range of that setting */
+#define SETTING(x, name) \
+    TG_TRY(tg__check_range((x), TGPY_COLUMN_SET_##name##_LO, TGPY_COLUMN_SET_##name##_HI, TG_RANGE))
 
 static tg_status init_checked(tg_column *col, const tg_column_config *cfg, TG_FLOAT *out)
 {
@@ -111,73 +147,74 @@ static tg_status init_checked(tg_column *col, const tg_column_config *cfg, TG_FL
     } else {
         return tg__fail(TG_RANGE, out);
     }
-    SETTING(cfg->start_height_m, -1000.0, 100000.0);
+    SETTING(cfg->start_height_m, START_HEIGHT_M);
     n.start_height_m = cfg->start_height_m;
     /* anchor_p_pa: NaN stands for None (deliberate: C has no None in a struct) */
     if (cfg->anchor_p_pa != cfg->anchor_p_pa) {
         n.anchor = NAN_;
     } else {
-        TG_TRY(tg__check_range(cfg->anchor_p_pa, TG_L(0.1), P_MAX_PA, TG_RANGE));
+        SETTING(cfg->anchor_p_pa, ANCHOR_P_PA);
         n.anchor = cfg->anchor_p_pa;
     }
     n.ice = cfg->ice != 0;
     n.dry_fallback = cfg->dry_fallback != 0;
-    SETTING(cfg->sigma_p_pa, 0.0, 10000.0);
+    SETTING(cfg->sigma_p_pa, SIGMA_P_PA);
     n.sigma_p_pa = cfg->sigma_p_pa;
-    SETTING(cfg->sigma_t_k, 0.0, 50.0);
+    SETTING(cfg->sigma_t_k, SIGMA_T_K);
     n.sigma_t_k = cfg->sigma_t_k;
-    SETTING(cfg->sigma_rh_pct, 0.0, 100.0);
+    SETTING(cfg->sigma_rh_pct, SIGMA_RH_PCT);
     n.sigma_rh_pct = cfg->sigma_rh_pct;
-    SETTING(cfg->bias_p_pa, 0.0, 10000.0);
+    SETTING(cfg->bias_p_pa, BIAS_P_PA);
     n.bias_p_pa = cfg->bias_p_pa;
-    SETTING(cfg->bias_t_k, 0.0, 50.0);
+    SETTING(cfg->bias_t_k, BIAS_T_K);
     n.bias_t_k = cfg->bias_t_k;
-    SETTING(cfg->bias_rh_pct, 0.0, 100.0);
+    SETTING(cfg->bias_rh_pct, BIAS_RH_PCT);
     n.bias_rh_pct = cfg->bias_rh_pct;
     if (cfg->max_rate_m_s != cfg->max_rate_m_s) {   /* NaN = None: no rate check */
         n.max_rate = NAN_;
     } else {
-        SETTING(cfg->max_rate_m_s, 1.0, 10000.0);
+        SETTING(cfg->max_rate_m_s, MAX_RATE_M_S);
         n.max_rate = cfg->max_rate_m_s;
     }
-    SETTING(cfg->landing_s, 0.0, 1e6);
+    SETTING(cfg->landing_s, LANDING_S);
     n.landing_s = cfg->landing_s;
-    SETTING(cfg->landing_tol_pa, 0.0, 10000.0);
+    SETTING(cfg->landing_tol_pa, LANDING_TOL_PA);
     n.landing_tol_pa = cfg->landing_tol_pa;
-    SETTING(cfg->launch_m, 0.0, 10000.0);
+    SETTING(cfg->launch_m, LAUNCH_M);
     n.launch_m = cfg->launch_m;
-    SETTING(cfg->burst_drop_m, 0.0, 100000.0);
+    SETTING(cfg->burst_drop_m, BURST_DROP_M);
     n.burst_drop_m = cfg->burst_drop_m;
-    if (cfg->burst_readings < 1 || cfg->burst_readings > 100000)
+    if (cfg->burst_readings < TGPY_COLUMN_SET_BURST_READINGS_LO
+        || cfg->burst_readings > TGPY_COLUMN_SET_BURST_READINGS_HI)
         return tg__fail(TG_RANGE, out);
     n.burst_readings = cfg->burst_readings;
-    TG_TRY(tg__check_range(cfg->tropopause_max_p_pa, TG_L(0.0), P_MAX_PA, TG_RANGE));
+    SETTING(cfg->tropopause_max_p_pa, TROPOPAUSE_MAX_P_PA);
     n.tropopause_max_p_pa = cfg->tropopause_max_p_pa;
-    SETTING(cfg->rh_tol_pct, 0.0, 3.0);
+    SETTING(cfg->rh_tol_pct, RH_TOL_PCT);
     n.rh_tol_pct = cfg->rh_tol_pct;
     n.track_sigma = cfg->track_sigma != 0;
     if (cfg->max_t_step_k != cfg->max_t_step_k) {   /* NaN = None: no temperature-step check */
         n.t_step = NAN_;
     } else {
-        SETTING(cfg->max_t_step_k, 0.0, 100.0);
+        SETTING(cfg->max_t_step_k, MAX_T_STEP_K);
         n.t_step = cfg->max_t_step_k;
     }
     n.t_step_neg = -n.t_step;         /* derived (Python: so feed builds no float for its check) */
-    SETTING(cfg->max_t_rate_k_s, 0.0, 100.0);
+    SETTING(cfg->max_t_rate_k_s, MAX_T_RATE_K_S);
     n.max_t_rate_k_s = cfg->max_t_rate_k_s;
-    SETTING(cfg->max_t_gradient_k_m, 0.0, 10.0);
+    SETTING(cfg->max_t_gradient_k_m, MAX_T_GRADIENT_K_M);
     n.max_t_gradient_k_m = cfg->max_t_gradient_k_m;
     n.on_event = cfg->on_event;
     n.on_event_ctx = cfg->on_event_ctx;
     if (cfg->geoid_undulation_m != cfg->geoid_undulation_m) {   /* NaN = None */
         n.geoid_n = NAN_;
     } else {
-        SETTING(cfg->geoid_undulation_m, -150.0, 150.0);
+        SETTING(cfg->geoid_undulation_m, GEOID_UNDULATION_M);
         n.geoid_n = cfg->geoid_undulation_m;
     }
     /* --- derived settings */
     /* the geopotential series at this latitude, evaluated once (tinygeo.potential) */
-    tg__potential_coefs(n.lat_deg, n.ellipsoid, n.pc);
+    tg__potential_series(n.lat_deg, n.ellipsoid, n.pc);
     n.min_rate = -n.max_rate;
     n.spk2 = KH * KH * n.sigma_p_pa * n.sigma_p_pa;   /* (K/2 sigma_p)^2 */
     n.st2 = n.sigma_t_k * n.sigma_t_k;
@@ -239,12 +276,12 @@ static tg_status held_mixing_ratio(const tg_column *col, TG_FLOAT *out)
 }
 
 /* the height node pair of column.py (_n_g, _n_h, _n_k1, _n_k2, _n_lo, _n_hi);
- * Python: the tuple returned by _nodes */
+ * Python: the tuple returned by Column._nodes */
 typedef struct nodes_t {
     TG_FLOAT g, h, k1, k2, lo, hi;
 } nodes_t;
 
-/* column._nodes: exact geometric height h at g (potential.height_series with the
+/* Column._nodes: exact geometric height h at g (potential.height_series with the
  * column's series; from a guess within a few mm, one potential.newton_step
  * step) and the quadratic in gph through it and the gph of h + D and h + 2D
  * (potential.gph_series). Writes only *nd. */
@@ -263,14 +300,14 @@ static void nodes(const tg_column *col, TG_FLOAT g, TG_FLOAT guess, nodes_t *nd)
     }
     a = col->ellipsoid->a_m;
     if (guess == guess)
-        h = tg__potential_newton(g, guess, c, a);
+        h = tg__potential_newton_step(g, guess, c, a);
     else
-        h = tg__potential_geom(g, c, a);
+        h = tg__potential_height_series(g, c, a);
     d = NODE_D;
     if (h + TG_L(2.0) * d > GPH_MAX_M)
         d = -d;
-    ga = tg__potential_gph(h + d, c, a);
-    gb = tg__potential_gph(h + TG_L(2.0) * d, c, a);
+    ga = tg__potential_gph_series(h + d, c, a);
+    gb = tg__potential_gph_series(h + TG_L(2.0) * d, c, a);
     sa = d / (ga - g);               /* divided differences of h over gph (Newton form) */
     k2 = (d / (gb - ga) - sa) / (gb - g);
     nd->g = g;
@@ -326,7 +363,7 @@ static void sigma_step(tg_column *col, int first, TG_FLOAT p0, TG_FLOAT p, TG_FL
     }
 }
 
-/* column._levels: every mandatory level in [p, p0) not reported yet (ascent only) */
+/* Column._levels: every mandatory level in [p, p0) not reported yet (ascent only) */
 static int levels(tg_column *col, TG_FLOAT p0, TG_FLOAT p, TG_FLOAT g0, TG_FLOAT g, TG_FLOAT t0, TG_FLOAT t)
 {
     int bits = 0;
@@ -348,10 +385,10 @@ static int levels(tg_column *col, TG_FLOAT p0, TG_FLOAT p, TG_FLOAT g0, TG_FLOAT
         if (col->n_lo <= gl && gl <= col->n_hi && col->n_h == col->n_h) {
             /* one Newton step from the node quadratic (a few mm off) */
             TG_FLOAT d = gl - col->n_g;
-            col->level_height_m = tg__potential_newton(gl, col->n_h + d * (col->n_k1 + d * col->n_k2),
+            col->level_height_m = tg__potential_newton_step(gl, col->n_h + d * (col->n_k1 + d * col->n_k2),
                                                        col->pc, col->ellipsoid->a_m);
         } else if (GPH_MIN_M <= gl && gl <= GPH_MAX_M) {
-            col->level_height_m = tg__potential_geom(gl, col->pc, col->ellipsoid->a_m);
+            col->level_height_m = tg__potential_height_series(gl, col->pc, col->ellipsoid->a_m);
         } else {
             col->level_height_m = NAN_;
         }
@@ -362,7 +399,7 @@ static int levels(tg_column *col, TG_FLOAT p0, TG_FLOAT p, TG_FLOAT g0, TG_FLOAT
     return bits;
 }
 
-/* column._tropopause: one new envelope point, O(1) search */
+/* Column._tropopause: one new envelope point, O(1) search */
 static int tropopause(tg_column *col, TG_FLOAT g, TG_FLOAT t, TG_FLOAT p)
 {
     int st = col->tp_state;
@@ -398,10 +435,11 @@ static int tropopause(tg_column *col, TG_FLOAT g, TG_FLOAT t, TG_FLOAT p)
     return 0;
 }
 
-/* column._bad: count the rejection, keep everything else */
+/* Column._bad: count the rejection, keep everything else */
 static tg_status bad(tg_column *col, tg_reason reason, int *bits)
 {
-    col->rejected += 1;
+    if (col->rejected < INT32_MAX)   /* saturates (Python's int grows on) */
+        col->rejected += 1;
     col->reason = reason;
     *bits = 0;
     return TG_READING;
@@ -472,7 +510,7 @@ tg_status tg_column_feed(tg_column *col, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_F
     if (rh_pct != NULL) {
         /* tinygeo.virtual_temperature (its moisture.tv_rh, inlined to share q):
          * Tv = T/(1 - r), r = (1 - eps) e/p = rh q, and dTv/dRH = Tv q */
-        TG_FLOAT q = tg__moisture_q(t, p, col->ice);
+        TG_FLOAT q = tg__moisture_rh_q(t, p, col->ice);
         TG_FLOAT r = rh * q;
         if (r >= ONE_M_EPS)
             return bad(col, TG_REASON_HUMIDITY, bits_out);
@@ -505,7 +543,7 @@ tg_status tg_column_feed(tg_column *col, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_F
     if (first) {
         p0 = col->anchor;
         tv0 = tv;
-        s = tg__potential_gph(col->start_height_m, col->pc, col->ellipsoid->a_m);
+        s = tg__potential_gph_series(col->start_height_m, col->pc, col->ellipsoid->a_m);
         c = TG_L(0.0);
     } else {
         p0 = col->p_pa;
@@ -578,7 +616,8 @@ tg_status tg_column_feed(tg_column *col, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_F
 
     /* ---- 3. commit (nothing fails from here on) */
     time0 = col->time_s;   /* the previous reading's time (for the peak, below) */
-    col->count += 1;
+    if (col->count < INT32_MAX)   /* saturates after 2^31 - 1 readings (Python's int grows on) */
+        col->count += 1;
     col->p_pa = p;
     col->t_k = t;
     col->tv_k = tv;
@@ -676,7 +715,9 @@ tg_status tg_column_feed(tg_column *col, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_F
             }
         } else if (ph == TG_PH_ASCENT) {
             if (g <= col->burst_line) {
-                col->burst_n += 1;
+                if (col->burst_n < col->burst_readings)   /* the same test below; no overflow
+                                                            * from a crafted checkpoint */
+                    col->burst_n += 1;
                 if (col->burst_n >= col->burst_readings) {
                     col->phase = TG_PH_DESCENT;
                     col->burst_gph_m = col->max_gph_m;
@@ -740,6 +781,7 @@ TG_FLOAT tg_column_sigma_m(const tg_column *col)
 }
 
 /* ------------------------------------------------------------ GPS */
+/* _column_rare.reanchor_gps */
 tg_status tg_column_reanchor_gps(tg_column *col, TG_FLOAT sigma_gps_m, TG_FLOAT *out)
 {
     TG_FLOAT sg, target, d, old_h;
@@ -748,7 +790,7 @@ tg_status tg_column_reanchor_gps(tg_column *col, TG_FLOAT sigma_gps_m, TG_FLOAT 
         return tg__fail(TG_STATE, out);
     TG_TRY(tg__check_range(sigma_gps_m, TG_L(0.0), TG_L(10000.0), TG_RANGE));
     sg = sigma_gps_m;
-    target = tg__potential_gph(col->gps_m, col->pc, col->ellipsoid->a_m);
+    target = tg__potential_gph_series(col->gps_m, col->pc, col->ellipsoid->a_m);
     d = target - col->gph_m;
     old_h = col->height_m;
     col->gph_m = target;
@@ -780,9 +822,10 @@ tg_status tg_column_reanchor_gps(tg_column *col, TG_FLOAT sigma_gps_m, TG_FLOAT 
 }
 
 /* ------------------------------------------------------------ checkpoint */
-/* Layout of column.py: struct "<4sBH" (magic, version, payload length), then
- * "<" + "d" * (len(_CFG_F) + len(_ST_F)) + "i" * (len(_CFG_I) + len(_ST_I)),
- * then "<I" CRC-32 of everything before it. The field lists come from
+/* Layout of column.py: struct column._HEAD = "<4sBH" (magic, version,
+ * payload length), then _column_rare._PAYLOAD = "<" + "d" * (len(_CFG_F) +
+ * len(_ST_F)) + "i" * (len(_CFG_I) + len(_ST_I)), then "<I" CRC-32 of
+ * everything before it. The field lists come from
  * column.py through tg_tables.h (X-macros), so the order cannot drift. */
 #define HEAD_LEN 7
 #define PAYLOAD_LEN (8 * (TGPY_COLUMN__CFG_F_N + TGPY_COLUMN__ST_F_N) + 4 * (TGPY_COLUMN__CFG_I_N + TGPY_COLUMN__ST_I_N))
@@ -791,7 +834,7 @@ typedef char tg__head_layout[(sizeof(TGPY_COLUMN__HEAD) == 6 && sizeof(TGPY_COLU
 typedef char tg__checkpoint_size[(HEAD_LEN + PAYLOAD_LEN + 4 == TG_CHECKPOINT_BYTES) ? 1 : -1];
 typedef char tg__ieee_double[(sizeof(double) == 8 && sizeof(uint64_t) == 8) ? 1 : -1];
 
-/* column._crc_soft: CRC-32 (IEEE 802.3, reflected polynomial 0xEDB88320, as
+/* _column_rare._crc_soft: CRC-32 (IEEE 802.3, reflected polynomial 0xEDB88320, as
  * zlib/binascii), four bits at a time with a 16-entry table */
 static uint32_t crc32_ieee(const unsigned char *data, size_t n)
 {
@@ -831,22 +874,37 @@ static const unsigned char *get_f64(const unsigned char *b, double *x)
     return b + 8;
 }
 
-static unsigned char *put_i32(unsigned char *b, long v)
+/* struct "<I": little-endian uint32 */
+static unsigned char *put_u32(unsigned char *b, uint32_t u)
 {
-    uint32_t u = (uint32_t)v;   /* two's complement, as struct "<i" */
     int i;
     for (i = 0; i < 4; i++)
         b[i] = (unsigned char)(u >> (8 * i));
     return b + 4;
 }
 
-static const unsigned char *get_i32(const unsigned char *b, long *v)
+static uint32_t get_u32(const unsigned char *b)
 {
-    uint32_t u = (uint32_t)b[0] | ((uint32_t)b[1] << 8) | ((uint32_t)b[2] << 16) | ((uint32_t)b[3] << 24);
-    *v = (long)(u & 0x7FFFFFFFu) - (long)(u & 0x80000000u);
+    return (uint32_t)b[0] | ((uint32_t)b[1] << 8) | ((uint32_t)b[2] << 16) | ((uint32_t)b[3] << 24);
+}
+
+/* struct "<i": two's complement int32. Both directions are defined for every
+ * value and bit pattern whatever the width of int and long: int32_t ->
+ * uint32_t is modular; back, a pattern of 2^31 or more is -(int32_t)~u - 1
+ * (~u is below 2^31), never an out-of-range conversion or an overflow. */
+static unsigned char *put_i32(unsigned char *b, int32_t v)
+{
+    return put_u32(b, (uint32_t)v);
+}
+
+static const unsigned char *get_i32(const unsigned char *b, int32_t *v)
+{
+    uint32_t u = get_u32(b);
+    *v = u <= 0x7FFFFFFFu ? (int32_t)u : -(int32_t)~u - 1;
     return b + 4;
 }
 
+/* _column_rare.to_bytes */
 tg_status tg_column_to_bytes(const tg_column *col, unsigned char *buf, size_t size)
 {
     unsigned char *b = buf;
@@ -858,20 +916,20 @@ tg_status tg_column_to_bytes(const tg_column *col, unsigned char *buf, size_t si
     b[6] = (unsigned char)(PAYLOAD_LEN >> 8);
     b += HEAD_LEN;
 #define PUT_F(name) b = put_f64(b, col->name);
-#define PUT_I(name) b = put_i32(b, (long)col->name);
+#define PUT_I(name) b = put_i32(b, col->name);
     TGPY_COLUMN__CFG_F(PUT_F)
     TGPY_COLUMN__ST_F(PUT_F)
     TGPY_COLUMN__CFG_I(PUT_I)
     TGPY_COLUMN__ST_I(PUT_I)
 #undef PUT_F
 #undef PUT_I
-    put_i32(b, (long)crc32_ieee(buf, (size_t)(b - buf)));
+    put_u32(b, crc32_ieee(buf, (size_t)(b - buf)));
     return TG_OK;
 }
 
 /* the decoded payload, one member per field of the layout */
 #define DECL_D(name) double name;
-#define DECL_L(name) long name;
+#define DECL_L(name) int32_t name;
 struct ck_vals {
     TGPY_COLUMN__CFG_F(DECL_D)
     TGPY_COLUMN__ST_F(DECL_D)
@@ -881,6 +939,7 @@ struct ck_vals {
 #undef DECL_D
 #undef DECL_L
 
+/* _column_rare.from_bytes: the same checks in the same order */
 tg_status tg_column_from_bytes(tg_column *col, const unsigned char *blob, size_t n,
                                tg_column_event_fn on_event, void *on_event_ctx)
 {
@@ -888,19 +947,17 @@ tg_status tg_column_from_bytes(tg_column *col, const unsigned char *blob, size_t
     tg_column_config cfg;
     tg_column c;
     const unsigned char *b;
-    uint32_t crc;
-    long length;
+    uint32_t crc, length;
     if (blob == NULL || n < HEAD_LEN + 4)
         return TG_CHECKPOINT;                                  /* too short */
     if (memcmp(blob, TGPY_COLUMN__MAGIC, 4) != 0)
         return TG_CHECKPOINT;                                  /* not a checkpoint */
     if (blob[4] != TGPY_COLUMN__VERSION)
         return TG_CHECKPOINT;                                  /* another version */
-    length = (long)blob[5] | ((long)blob[6] << 8);
+    length = (uint32_t)blob[5] | ((uint32_t)blob[6] << 8);
     if (length != PAYLOAD_LEN || n != TG_CHECKPOINT_BYTES)
         return TG_CHECKPOINT;                                  /* truncated or corrupted */
-    crc = (uint32_t)blob[n - 4] | ((uint32_t)blob[n - 3] << 8) | ((uint32_t)blob[n - 2] << 16)
-        | ((uint32_t)blob[n - 1] << 24);
+    crc = get_u32(blob + n - 4);
     if (crc != crc32_ieee(blob, n - 4))
         return TG_CHECKPOINT;                                  /* CRC-32 mismatch */
     b = blob + HEAD_LEN;

@@ -22,7 +22,7 @@
 static void on_event(tg_column *col, int bits, void *ctx)
 {
     (void)ctx;
-    printf("e %ld %d\n", col->count, bits);
+    printf("e %ld %d\n", (long)col->count, bits);
 }
 
 static int opt(const char *tok, TG_FLOAT *v)
@@ -44,7 +44,7 @@ static void show(const tg_column *c, tg_status st, double res)
     };
     size_t i;
     printf("r %s %s %.17g %ld %ld %d %d", tg_status_name(st), tg_reason_name(c->reason), res,
-           c->count, c->rejected, c->flags, c->phase);
+           (long)c->count, (long)c->rejected, (int)c->flags, (int)c->phase);
     for (i = 0; i < sizeof v / sizeof v[0]; i++)
         printf(" %.17g", (double)v[i]);
     printf("\n");

@@ -4,6 +4,7 @@ modules, copied digit for digit from the Python sources.
 Usage (from the repository root):
     python ports/c/gen_tables.py            rewrite ports/c/tg_tables.h
     python ports/c/gen_tables.py --check    exit 1 (and say what differs) if it is stale
+    ... [--root DIR]                        read DIR/tinygeo/ instead of this checkout's
 
 What is copied: module-level assignments whose value is a number, a
 negation, an arithmetic expression of numbers only (e.g. 1.0 / 298.257223563),
@@ -22,10 +23,22 @@ leading underscores kept), each number wrapped in TG_L(...) so that the float
 build rounds the double literal once. A tuple becomes a brace initializer plus
 TGPY_..._N (its length); a tuple of tuples becomes a rectangular initializer
 padded with zeros plus TGPY_..._LENS (the row lengths).
+
+The Column settings (column_settings below): the default of every parameter
+of ``Column.__init__`` in tinygeo/column.py and the range its check there
+accepts, as TGPY_COLUMN_SET_<NAME>_DEF/_LO/_HI, plus TGPY_COLUMN_SET_N (the
+number of parameters); column.c takes its defaults and ranges from these
+only. A new setting checked with ``check_range("name", name, lo, hi, ...)``
+is picked up as it is; a setting checked any other way stops the generator
+with its name (see column_settings for the forms it reads).
+--check also runs check_citations: every Python name the C comments cite
+(column.py, Column.feed, potential.gph_series, ...) must exist in the module
+it names (the rules are in its docstring).
 tests/test_c_port.py runs --check.
 """
 import ast
 import os
+import re
 import sys
 
 HERE = os.path.dirname(os.path.abspath(__file__))
@@ -154,14 +167,202 @@ def _emit_value(src, name, node, lines):
     return False
 
 
-def generate():
+class SettingError(Exception):
+    """A Column.__init__ parameter whose check the generator does not read."""
+
+
+def _is_name(node, name):
+    return isinstance(node, ast.Name) and node.id == name
+
+
+def _bound(node, constants, what):
+    # a check's bound: a number literal (C: TG_L(text)) or a module-level
+    # number of column.py (C: its TGPY_COLUMN_ macro)
+    if _is_number_expr(node):
+        return node
+    if isinstance(node, ast.Name) and node.id in constants:
+        return node
+    raise SettingError("%s: bound %s is neither a number literal nor a module-level number of "
+                       "column.py" % (what, ast.dump(node)))
+
+
+def _int_range(test, name):
+    # "not isinstance(name, int) or name < LO or name > HI": (LO, HI) nodes, or None
+    if not (isinstance(test, ast.BoolOp) and isinstance(test.op, ast.Or) and len(test.values) == 3):
+        return None
+    inst, low, high = test.values
+    if not (isinstance(inst, ast.UnaryOp) and isinstance(inst.op, ast.Not)
+            and isinstance(inst.operand, ast.Call) and _is_name(inst.operand.func, "isinstance")
+            and len(inst.operand.args) == 2 and _is_name(inst.operand.args[0], name)
+            and _is_name(inst.operand.args[1], "int")):
+        return None
+    out = []
+    for cmp_, op in ((low, ast.Lt), (high, ast.Gt)):
+        if not (isinstance(cmp_, ast.Compare) and _is_name(cmp_.left, name) and len(cmp_.ops) == 1
+                and isinstance(cmp_.ops[0], op)):
+            return None
+        c = cmp_.comparators[0]
+        if not (isinstance(c, ast.Constant) and type(c.value) is int):
+            return None
+        out.append(c)
+    return tuple(out)
+
+
+def column_settings(src, tree):
+    """The parameters of Column.__init__ (tinygeo/column.py): a list of
+    (name, kind, default node or None, lo node, hi node). The forms read:
+
+    * ``check_range("name", name, lo, hi, unit, ...)`` (the string is the
+      parameter's name; exactly one such call): kind "range", a number
+      setting. Its default is a number, or None when the call sits under an
+      ``if name is None:`` (C: NaN, which Column also stores for None). lo
+      and hi are number literals or module-level numbers of column.py.
+    * ``if not isinstance(name, int) or name < LO or name > HI:`` (int
+      literals): kind "int", an integer setting with an int default.
+    * ``bool(name)``: kind "flag", default True or False (C: 1 or 0).
+    * ``check_lat(name)``: kind "lat", no default (errors.check_lat's range,
+      tg__check_lat in C).
+    * a default that is a module-level name (``ellipsoid=WGS84``): kind
+      "object" (C: a pointer), not a number.
+    * default None and the parameter only stored (``self.x = name``): kind
+      "passthrough" (a callback; C: a function pointer and its context).
+
+    Any other parameter raises SettingError naming it: a range checked by
+    hand would otherwise be copied into C by hand, and forgotten."""
+    constants = set()
+    init = None
+    for stmt in tree.body:
+        if isinstance(stmt, ast.Assign) and len(stmt.targets) == 1 and \
+                isinstance(stmt.targets[0], ast.Name) and _is_number_expr(stmt.value):
+            constants.add(stmt.targets[0].id)
+        if isinstance(stmt, ast.ClassDef) and stmt.name == "Column":
+            for f in stmt.body:
+                if isinstance(f, ast.FunctionDef) and f.name == "__init__":
+                    init = f
+    if init is None:
+        raise SettingError("column.py has no Column.__init__")
+    a = init.args
+    params = a.args[1:] + a.kwonlyargs
+    defaults = [None] * (len(a.args) - 1 - len(a.defaults)) + list(a.defaults) + list(a.kw_defaults)
+    if a.vararg or a.kwarg:
+        raise SettingError("Column.__init__ takes *args/**kwargs: settings must be named parameters")
+    ranges, ints, flags, lats, none_guarded, uses = {}, {}, set(), set(), set(), {}
+    for node in ast.walk(init):
+        if isinstance(node, ast.Call) and isinstance(node.func, ast.Name):
+            fn = node.func.id
+            if fn == "check_range" and len(node.args) >= 4 and isinstance(node.args[1], ast.Name):
+                name = node.args[1].id
+                label = node.args[0]
+                if not (isinstance(label, ast.Constant) and label.value == name):
+                    raise SettingError("check_range(%s, %s, ...) in Column.__init__: the first "
+                                       "argument must be the string %r"
+                                       % (ast.dump(label), name, name))
+                if name in ranges:
+                    raise SettingError("Column.__init__ checks %s with check_range twice" % name)
+                what = "Column.__init__ check_range(%r, ...)" % name
+                ranges[name] = (_bound(node.args[2], constants, what),
+                                _bound(node.args[3], constants, what))
+            elif fn == "bool" and len(node.args) == 1 and isinstance(node.args[0], ast.Name):
+                flags.add(node.args[0].id)
+            elif fn == "check_lat" and node.args and isinstance(node.args[0], ast.Name):
+                lats.add(node.args[0].id)
+        elif isinstance(node, ast.If):
+            t = node.test
+            if (isinstance(t, ast.Compare) and isinstance(t.left, ast.Name) and len(t.ops) == 1
+                    and isinstance(t.ops[0], ast.Is) and isinstance(t.comparators[0], ast.Constant)
+                    and t.comparators[0].value is None):
+                none_guarded.add(t.left.id)
+            for p in params:
+                r = _int_range(t, p.arg)
+                if r is not None:
+                    ints[p.arg] = r
+        elif isinstance(node, ast.Name) and isinstance(node.ctx, ast.Load):
+            uses.setdefault(node.id, []).append(node)
+    stored = {}
+    for node in ast.walk(init):
+        if (isinstance(node, ast.Assign) and len(node.targets) == 1 and isinstance(node.value, ast.Name)
+                and isinstance(node.targets[0], ast.Attribute) and _is_name(node.targets[0].value, "self")):
+            stored[node.value.id] = stored.get(node.value.id, 0) + 1
+    out = []
+    for p, d in zip(params, defaults):
+        name = p.arg
+        where = "Column.__init__ parameter %r" % name
+        forms = [k for k, hit in (("range", name in ranges), ("int", name in ints),
+                                  ("flag", name in flags), ("lat", name in lats)) if hit]
+        if len(forms) > 1:
+            raise SettingError("%s is checked in several ways (%s)" % (where, ", ".join(forms)))
+        is_none = isinstance(d, ast.Constant) and d.value is None
+        if forms == ["range"]:
+            if not (_is_number_expr(d) or (is_none and name in none_guarded)):
+                raise SettingError("%s: default %s is not a number (or None with an "
+                                   "'if %s is None:' branch)" % (where, ast.dump(d), name))
+            out.append((name, "range", d, ranges[name][0], ranges[name][1]))
+        elif forms == ["int"]:
+            if not (isinstance(d, ast.Constant) and type(d.value) is int):
+                raise SettingError("%s: default %s is not an int" % (where, ast.dump(d)))
+            out.append((name, "int", d, ints[name][0], ints[name][1]))
+        elif forms == ["flag"]:
+            if not (isinstance(d, ast.Constant) and isinstance(d.value, bool)):
+                raise SettingError("%s: bool() of a default %s that is not True/False"
+                                   % (where, ast.dump(d)))
+            out.append((name, "flag", d, None, None))
+        elif forms == ["lat"]:
+            if d is not None:
+                raise SettingError("%s: the latitude has a default" % where)
+            out.append((name, "lat", None, None, None))
+        elif isinstance(d, ast.Name):
+            out.append((name, "object", d, None, None))
+        elif is_none and stored.get(name, 0) == len(uses.get(name, ())) == 1:
+            out.append((name, "passthrough", d, None, None))
+        else:
+            raise SettingError(
+                "%s: no range check that gen_tables.py reads (check_range(%r, %s, lo, hi, unit), "
+                "'if not isinstance(%s, int) or %s < LO or %s > HI', bool(%s), check_lat(%s)); "
+                "write its check in one of these forms so that ports/c/column.c gets its default "
+                "and range from tg_tables.h" % (where, name, name, name, name, name, name, name))
+    return out
+
+
+def _emit_settings(src, tree, lines):
+    sets = column_settings(src, tree)
+    lines.append("/* Column.__init__: %d parameters; per setting its default (_DEF; None -> TG_NAN,"
+                 % len(sets))
+    lines.append(" * as Column stores NaN for None; True/False -> 1/0) and the range its check")
+    lines.append(" * accepts (_LO, _HI). Read by gen_tables.column_settings. */")
+    lines.append("#define TGPY_COLUMN_SET_N %d" % len(sets))
+    others = ["%s (%s)" % (name, kind) for name, kind, _, _, _ in sets
+              if kind not in ("range", "int", "flag")]
+    if others:
+        lines.append("/* the other parameters (kinds of gen_tables.column_settings): %s */"
+                     % ", ".join(others))
+    for name, kind, d, lo, hi in sets:
+        base = "TGPY_COLUMN_SET_%s" % name.upper()
+        if kind == "range":
+            if isinstance(d, ast.Constant) and d.value is None:
+                lines.append("#define %s_DEF TG_NAN   /* None */" % base)
+            else:
+                lines.append("#define %s_DEF TG_L(%s)" % (base, _c_number(src, d)[0]))
+            for suffix, b in (("LO", lo), ("HI", hi)):
+                if isinstance(b, ast.Name):
+                    lines.append("#define %s_%s TGPY_COLUMN_%s" % (base, suffix, b.id.upper()))
+                else:
+                    lines.append("#define %s_%s TG_L(%s)" % (base, suffix, _c_number(src, b)[0]))
+        elif kind == "int":
+            lines.append("#define %s_DEF %d" % (base, d.value))
+            lines.append("#define %s_LO %d" % (base, lo.value))
+            lines.append("#define %s_HI %d" % (base, hi.value))
+        elif kind == "flag":
+            lines.append("#define %s_DEF %d   /* %s */" % (base, int(d.value), d.value))
+
+
+def generate(root=ROOT):
     out = ["/* tg_tables.h -- GENERATED by ports/c/gen_tables.py from tinygeo/ modules; do not edit.",
            " * Every number is the literal of the Python source, digit for digit; the",
            " * source of each (standard, table) is named beside it in the Python module.",
            " * Regenerate: python ports/c/gen_tables.py; tests/test_c_port.py fails when stale. */",
            "#ifndef TG_TABLES_H", "#define TG_TABLES_H", ""]
     for mod in MODULES:
-        path = os.path.join(ROOT, "tinygeo", mod + ".py")
+        path = os.path.join(root, "tinygeo", mod + ".py")
         with open(path) as f:
             src = f.read()
         tree = ast.parse(src)
@@ -180,13 +381,184 @@ def generate():
                     _emit_value(src, "%s_%s" % (base, kw.arg.upper()), kw.value, out)
                 continue
             _emit_value(src, base, val, out)
+        if mod == "column":
+            _emit_settings(src, tree, out)
         out.append("")
     out.append("#endif /* TG_TABLES_H */")
     return "\n".join(out) + "\n"
 
 
+# ----------------------------------------------------------------------------- comment check
+_FILE_EXT = ("py", "c", "h", "md", "txt")
+_CHAIN = re.compile(r"(?<![\w./-])([A-Za-z_]\w*(?:\.[A-Za-z_]\w*)+)")
+_PATH = re.compile(r"(?<![\w./-])((?:[\w.-]+/)+[\w.-]+\.(?:py|c|h|md|txt))(?![\w*])")
+_COMMENT = re.compile(r"/\*.*?\*/|//[^\n]*", re.S)
+
+
+def _defined_names(body):
+    # names a block of statements defines (def, class, assignment), looking
+    # into if/try/for/while/with blocks but not into functions and classes;
+    # imports do not count
+    out = set()
+    for st in body:
+        if isinstance(st, (ast.FunctionDef, ast.AsyncFunctionDef, ast.ClassDef)):
+            out.add(st.name)
+        elif isinstance(st, (ast.Assign, ast.AnnAssign, ast.AugAssign)):
+            for t in (st.targets if isinstance(st, ast.Assign) else [st.target]):
+                for n in ast.walk(t):
+                    if isinstance(n, ast.Name):
+                        out.add(n.id)
+        for field in ("body", "orelse", "finalbody"):
+            if not isinstance(st, (ast.FunctionDef, ast.AsyncFunctionDef, ast.ClassDef)):
+                out |= _defined_names(getattr(st, field, []) or [])
+        for h in getattr(st, "handlers", []) or []:
+            out |= _defined_names(h.body)
+    return out
+
+
+def _class_members(cls):
+    # methods, class-level names, and every self.<name> a method assigns
+    out = _defined_names(cls.body)
+    for f in cls.body:
+        if not isinstance(f, (ast.FunctionDef, ast.AsyncFunctionDef)):
+            continue
+        for n in ast.walk(f):
+            targets = []
+            if isinstance(n, ast.Assign):
+                targets = n.targets
+            elif isinstance(n, (ast.AugAssign, ast.AnnAssign)):
+                targets = [n.target]
+            for t in targets:
+                for a in ast.walk(t):
+                    if isinstance(a, ast.Attribute) and isinstance(a.value, ast.Name) and a.value.id == "self":
+                        out.add(a.attr)
+    return out
+
+
+def python_index(root=ROOT):
+    """{module: (module-level names, {class: members})} for every tinygeo/*.py."""
+    index = {}
+    pkg = os.path.join(root, "tinygeo")
+    for fn in sorted(os.listdir(pkg)):
+        if not fn.endswith(".py"):
+            continue
+        with open(os.path.join(pkg, fn)) as f:
+            tree = ast.parse(f.read())
+        classes = dict((c.name, _class_members(c)) for c in tree.body if isinstance(c, ast.ClassDef))
+        index[fn[:-3]] = (_defined_names(tree.body), classes)
+    return index
+
+
+def check_citations(root=ROOT, files=None):
+    """Check that every Python name the C port's comments cite exists.
+
+    Read: the comments (/* */ and //) of ports/c/*.c and *.h, and the whole
+    text of ports/c/README.md (or the given files). The rules:
+
+    * a dotted name whose first part is a module of tinygeo/ (a file
+      tinygeo/<module>.py), ``tinygeo``, or a class defined at module level
+      in one of them (Column, Ellipsoid, RangeError, ...) is a citation;
+      every other dotted word (cfg.ice, math.pi, e.g.) is left alone;
+    * ``<module>.<ext>`` with ext py/c/h/md/txt names a file: <module>.py
+      must exist in tinygeo/, <module>.c/.h in ports/c/;
+    * ``<module>.<name>``: name is defined at module level in
+      tinygeo/<module>.py (def, class, or assignment, also inside if/try
+      blocks; a name the module only imports does not count: cite the module
+      that defines it); private names (``moisture._ex``) included;
+    * ``<module>.<Class>.<member>`` and ``<Class>.<member>``: member is a
+      method or a class-level name of the class, or an attribute one of its
+      methods assigns (self.<member> = ...); a third part after anything but
+      a class (``constants.WGS84.a_m``) is not checked;
+    * ``tinygeo.<name>``: a submodule of the package or a module-level name
+      of one of its modules (the package gives its public names lazily);
+      ``tinygeo.<module>.<name>...`` as ``<module>.<name>...``;
+    * a path with a slash and one of those extensions (tinygeo/column.py,
+      tests/test_c_port.py) must exist from the repository root; patterns
+      with * are left alone.
+
+    root is the checkout whose tinygeo/ is read (default: this one); the
+    C files and the other paths are always this checkout's.
+
+    Unqualified names (``_nodes``, ``feed``) are not checked: qualify a
+    citation to have it checked. Returns a list of "file:line: problem"."""
+    index = python_index(root)
+    classes = {}
+    for mod, (_, cls) in index.items():
+        for name, members in cls.items():
+            classes.setdefault(name, members)
+    if files is None:   # this port's files (root may be another copy of tinygeo/)
+        files = sorted(os.path.join(HERE, f) for f in os.listdir(HERE)
+                       if f.endswith((".c", ".h")) or f == "README.md")
+    problems = []
+
+    def member(cls_members, name, cite):
+        return None if name in cls_members else "%s: no such method or attribute" % cite
+
+    def check(cite):
+        parts = cite.split(".")
+        head = parts[0]
+        if len(parts) == 2 and parts[1] in _FILE_EXT:
+            if head in index or head == "tinygeo":
+                if parts[1] == "py" and not os.path.exists(os.path.join(root, "tinygeo", cite)):
+                    return "%s: no file tinygeo/%s" % (cite, cite)
+                if parts[1] in ("c", "h") and not os.path.exists(os.path.join(HERE, cite)):
+                    return "%s: no file ports/c/%s" % (cite, cite)
+            return None
+        if head == "tinygeo":
+            if parts[1] in index:
+                err = check(".".join(parts[1:])) if len(parts) > 2 else None
+                return err and "tinygeo." + err
+            if os.path.isdir(os.path.join(root, "tinygeo", parts[1])):
+                return None
+            if any(parts[1] in names for names, _ in index.values()):
+                return None
+            return "%s: tinygeo has no module or name %r" % (cite, parts[1])
+        if head in index:
+            names, cls = index[head]
+            if parts[1] not in names:
+                return "%s: tinygeo/%s.py defines no %r" % (cite, head, parts[1])
+            if len(parts) > 2 and parts[1] in cls:
+                return member(cls[parts[1]], parts[2], cite)
+            return None
+        if head in classes:
+            return member(classes[head], parts[1], cite)
+        return None
+
+    for path in files:
+        with open(path) as f:
+            text = f.read()
+        if path.endswith(".md"):
+            chunks = [(0, text)]
+        else:
+            chunks = [(m.start(), m.group(0)) for m in _COMMENT.finditer(text)]
+        rel = os.path.relpath(path, ROOT)
+        for start, chunk in chunks:
+            for m in _PATH.finditer(chunk):
+                base = root if m.group(1).startswith("tinygeo/") else ROOT
+                if not os.path.exists(os.path.join(base, m.group(1))):
+                    line = text.count("\n", 0, start + m.start()) + 1
+                    problems.append("%s:%d: %s: no such file" % (rel, line, m.group(1)))
+            for m in _CHAIN.finditer(chunk):
+                cite = m.group(1)
+                if cite.split(".")[0] not in index and cite.split(".")[0] not in classes and \
+                        not cite.startswith("tinygeo."):
+                    continue
+                err = check(cite)
+                if err:
+                    line = text.count("\n", 0, start + m.start()) + 1
+                    problems.append("%s:%d: %s" % (rel, line, err))
+    return problems
+
+
 def main(argv):
-    text = generate()
+    root = ROOT
+    if "--root" in argv:   # another checkout (tests: an edited copy of tinygeo/)
+        root = argv[argv.index("--root") + 1]
+    try:
+        text = generate(root)
+    except SettingError as e:
+        print("gen_tables.py: %s" % e)
+        return 2
     if "--check" in argv:
         try:
             with open(OUT) as f:
@@ -198,6 +570,12 @@ def main(argv):
             sys.stdout.writelines(difflib.unified_diff(old.splitlines(True), text.splitlines(True),
                                                        "tg_tables.h (checked in)", "tg_tables.h (from tinygeo/ modules)"))
             print("ports/c/tg_tables.h is stale: run python ports/c/gen_tables.py")
+            return 1
+        problems = check_citations(root)
+        if problems:
+            print("\n".join(problems))
+            print("ports/c: comments cite Python names that do not exist (rules: "
+                  "gen_tables.check_citations)")
             return 1
         return 0
     with open(OUT, "w") as f:

@@ -31,8 +31,8 @@ static TG_FLOAT ex(TG_FLOAT t_k, int ice)
     return TG_EXP(AW * t / (BW + t));
 }
 
-/* E0_PA * _ex(t_k, ice) of moisture.py (written out there at each use): Magnus
- * form [WMO8], no checks (callers check t_k). Pa. */
+/* E0_PA * moisture._ex(t_k, ice) (written out at each use there; C-only
+ * name): Magnus form [WMO8], no checks (callers check t_k). Pa. */
 TG_FLOAT tg__moisture_es(TG_FLOAT t_k, int ice)
 {
     return E0_PA * ex(t_k, ice);
@@ -137,16 +137,16 @@ tg_status tg_specific_humidity(TG_FLOAT e_pa, TG_FLOAT p_pa, TG_FLOAT *out)
 
 /* moisture.rh_q: (1 - eps) e'_w/p per %RH: with r = rh_pct * rh_q, e/p = r/(1 - eps),
  * Tv = T/(1 - r) and dTv/dRH = Tv rh_q at constant T and p. No checks. */
-TG_FLOAT tg__moisture_q(TG_FLOAT t_k, TG_FLOAT p_pa, int ice)
+TG_FLOAT tg__moisture_rh_q(TG_FLOAT t_k, TG_FLOAT p_pa, int ice)
 {
     return QC * tg__moisture_f(p_pa) * ex(t_k, ice) / p_pa;
 }
 
 /* moisture.tv_rh: virtual_temperature without the argument checks; TG_RANGE
  * (Python: boiling_error) if e >= p */
-static tg_status tv(TG_FLOAT t_k, TG_FLOAT p_pa, TG_FLOAT rh_pct, int ice, TG_FLOAT *out)
+static tg_status tv_rh(TG_FLOAT t_k, TG_FLOAT p_pa, TG_FLOAT rh_pct, int ice, TG_FLOAT *out)
 {
-    TG_FLOAT r = rh_pct * tg__moisture_q(t_k, p_pa, ice);
+    TG_FLOAT r = rh_pct * tg__moisture_rh_q(t_k, p_pa, ice);
     if (r >= ONE_M_EPS)
         return tg__fail(TG_RANGE, out);      /* boiling_error */
     *out = t_k / (TG_L(1.0) - r);
@@ -159,7 +159,7 @@ tg_status tg_virtual_temperature(TG_FLOAT t_k, TG_FLOAT p_pa, TG_FLOAT rh_pct, i
     TG_TRY(tg__check_t_k(t_k, TG_T_LO, TG_T_HI, TG_RANGE));
     TG_TRY(tg__check_p_pa(p_pa, P_MIN_PA, P_MAX_PA, TG_RANGE));
     TG_TRY(tg__check_rh(rh_pct, TG_L(3.0), TG_RANGE));
-    return tv(t_k, p_pa, rh_pct, ice, out);
+    return tv_rh(t_k, p_pa, rh_pct, ice, out);
 }
 
 tg_status tg_virtual_temperature_from_mixing_ratio(TG_FLOAT t_k, TG_FLOAT w_kg_kg,

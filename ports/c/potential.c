@@ -29,7 +29,7 @@ static TG_FLOAT poly(const tg_series *tab, int row, TG_FLOAT s)
     return acc;
 }
 
-/* potential._sin2 */
+/* s = sin^2(lat) of potential.series (written out there) */
 static TG_FLOAT sin2(TG_FLOAT lat_deg)
 {
     TG_FLOAT sp = TG_SIN(lat_deg * DEG);
@@ -38,9 +38,11 @@ static TG_FLOAT sin2(TG_FLOAT lat_deg)
 
 /* potential.series: the series evaluated at one latitude, once: D_1(s) ..
  * D_6(s) then 1*D_1(s) .. 6*D_6(s) (the slope's coefficients), s =
- * sin^2(lat). No checks (callers check). Python returns a list of 12 floats;
- * C fills the caller's array (a tg_column keeps one for its latitude). */
-void tg__potential_coefs(TG_FLOAT lat_deg, const tg_ellipsoid *ellipsoid, TG_FLOAT c[TG_PC_N])
+ * sin^2(lat). No checks (callers check). Python returns a tuple of 12 floats
+ * and keeps the last one (potential._LAST) for the next call at the same
+ * latitude; C fills the caller's array and keeps nothing (deliberate: no
+ * hidden state; a tg_column keeps its latitude's series itself). */
+void tg__potential_series(TG_FLOAT lat_deg, const tg_ellipsoid *ellipsoid, TG_FLOAT c[TG_PC_N])
 {
     const tg_series *tab = table(ellipsoid);
     TG_FLOAT s = sin2(lat_deg);
@@ -53,7 +55,7 @@ void tg__potential_coefs(TG_FLOAT lat_deg, const tg_ellipsoid *ellipsoid, TG_FLO
 
 /* potential.gph_series: geopotential height of h, gpm: h + h * sum_n D_n t^(n-1),
  * t = h/a (Horner in t); c from series, a the semi-major axis, m */
-TG_FLOAT tg__potential_gph(TG_FLOAT h, const TG_FLOAT *c, TG_FLOAT a)
+TG_FLOAT tg__potential_gph_series(TG_FLOAT h, const TG_FLOAT *c, TG_FLOAT a)
 {
     TG_FLOAT t = h / a;
     TG_FLOAT acc = c[5];
@@ -67,7 +69,7 @@ TG_FLOAT tg__potential_gph(TG_FLOAT h, const TG_FLOAT *c, TG_FLOAT a)
 
 /* potential.newton_step: one Newton step towards the geometric height of the
  * geopotential height z, from h, on the residual (h - z) + excess(h) */
-TG_FLOAT tg__potential_newton(TG_FLOAT z, TG_FLOAT h, const TG_FLOAT *c, TG_FLOAT a)
+TG_FLOAT tg__potential_newton_step(TG_FLOAT z, TG_FLOAT h, const TG_FLOAT *c, TG_FLOAT a)
 {
     TG_FLOAT t = h / a;
     TG_FLOAT ex = c[5];
@@ -83,12 +85,12 @@ TG_FLOAT tg__potential_newton(TG_FLOAT z, TG_FLOAT h, const TG_FLOAT *c, TG_FLOA
 
 /* potential.height_series: geometric height of the geopotential height z, m: three
  * Newton steps from h0 = z / (1 + D1 + D2 z/a). No checks. */
-TG_FLOAT tg__potential_geom(TG_FLOAT z, const TG_FLOAT *c, TG_FLOAT a)
+TG_FLOAT tg__potential_height_series(TG_FLOAT z, const TG_FLOAT *c, TG_FLOAT a)
 {
     TG_FLOAT h = z / (TG_L(1.0) + c[0] + c[1] * (z / a));
     int k;
     for (k = 0; k < 3; k++)
-        h = tg__potential_newton(z, h, c, a);
+        h = tg__potential_newton_step(z, h, c, a);
     return h;
 }
 
@@ -105,8 +107,8 @@ tg_status tg_geopotential_height(TG_FLOAT height_m, TG_FLOAT lat_deg,
     TG_TRY(tg__check_lat(lat_deg));
     if (table(ellipsoid) == NULL)
         return tg__fail(TG_ELLIPSOID, out);
-    tg__potential_coefs(lat_deg, ellipsoid, c);
-    *out = tg__potential_gph(h, c, ellipsoid->a_m);
+    tg__potential_series(lat_deg, ellipsoid, c);
+    *out = tg__potential_gph_series(h, c, ellipsoid->a_m);
     return TG_OK;
 }
 
@@ -130,8 +132,8 @@ tg_status tg_geometric_height(TG_FLOAT gph_m, TG_FLOAT lat_deg, const tg_ellipso
     TG_TRY(tg__check_lat(lat_deg));
     if (table(ellipsoid) == NULL)
         return tg__fail(TG_ELLIPSOID, out);
-    tg__potential_coefs(lat_deg, ellipsoid, c);
-    *out = tg__potential_geom(z, c, ellipsoid->a_m);
+    tg__potential_series(lat_deg, ellipsoid, c);
+    *out = tg__potential_height_series(z, c, ellipsoid->a_m);
     return TG_OK;
 }
 

@@ -75,10 +75,10 @@ tg_status tg_qnh(TG_FLOAT p_pa, TG_FLOAT elevation_m, TG_FLOAT *out)
     int have_q = 0;
     TG_TRY(check_station_p(p_pa));
     TG_TRY(check_height(elevation_m));
-    h = tg__standard_altitude_unchecked(p_pa) - elevation_m;   /* at most 7685 gpm: layer 0 */
+    h = tg__standard_altitude_at(p_pa) - elevation_m;   /* at most 7685 gpm: layer 0 */
     q = TG_L(0.0);
     if (h >= tg__standard_bottom_gph_m()) {
-        q = tg__standard_pressure_unchecked(h);
+        q = tg__standard_pressure_at(h);
         have_q = 1;
     }
     if (!have_q || q < QNH_MIN_PA || q > QNH_MAX_PA)
@@ -92,6 +92,6 @@ tg_status tg_indicated_altitude(TG_FLOAT p_pa, TG_FLOAT qnh_pa, TG_FLOAT *out)
     TG_FLOAT hp;
     TG_TRY(tg__check_p_pa(qnh_pa, QNH_MIN_PA, QNH_MAX_PA, TG_RANGE));
     TG_TRY(tg_pressure_altitude(p_pa, &hp));
-    *out = hp - tg__standard_altitude_unchecked(qnh_pa);
+    *out = hp - tg__standard_altitude_at(qnh_pa);
     return TG_OK;
 }

@@ -52,7 +52,7 @@ static int layer_of_pressure(TG_FLOAT p)
 }
 
 /* standard.pressure_at: eq. 33a/33b in the q-form; h already checked */
-TG_FLOAT tg__standard_pressure_unchecked(TG_FLOAT h)
+TG_FLOAT tg__standard_pressure_at(TG_FLOAT h)
 {
     int i = layer_of_height(h);
     TG_FLOAT tb = T_BASE[i];
@@ -67,7 +67,7 @@ TG_FLOAT tg__standard_pressure_unchecked(TG_FLOAT h)
 }
 
 /* standard.altitude_at: inverse of eq. 33a/33b in the e-form; p already checked */
-TG_FLOAT tg__standard_altitude_unchecked(TG_FLOAT p)
+TG_FLOAT tg__standard_altitude_at(TG_FLOAT p)
 {
     int i = layer_of_pressure(p);
     TG_FLOAT tb = T_BASE[i];
@@ -94,7 +94,7 @@ static TG_FLOAT top_p_pa(void)
 {
     static TG_FLOAT v = TG_L(0.0);
     if (v == TG_L(0.0))
-        v = tg__standard_pressure_unchecked(TOP_GPH_M);
+        v = tg__standard_pressure_at(TOP_GPH_M);
     return v;
 }
 
@@ -102,7 +102,7 @@ static TG_FLOAT bottom_p_pa(void)
 {
     static TG_FLOAT v = TG_L(0.0);
     if (v == TG_L(0.0))
-        v = tg__standard_pressure_unchecked(BOTTOM_GPH_M);
+        v = tg__standard_pressure_at(BOTTOM_GPH_M);
     return v;
 }
 
@@ -130,7 +130,7 @@ tg_status tg_standard_temperature(TG_FLOAT gph_m, TG_FLOAT *out)
 tg_status tg_standard_pressure(TG_FLOAT gph_m, TG_FLOAT *out)
 {
     TG_TRY(check_gph(gph_m));
-    *out = tg__standard_pressure_unchecked(gph_m);
+    *out = tg__standard_pressure_at(gph_m);
     return TG_OK;
 }
 
@@ -141,7 +141,7 @@ tg_status tg_pressure_altitude(TG_FLOAT p_pa, TG_FLOAT *out)
         return tg__fail(TG_MODEL_RANGE, out);
     if (p_pa > bottom_p_pa())
         return tg__fail(TG_MODEL_RANGE, out);
-    *out = tg__standard_altitude_unchecked(p_pa);
+    *out = tg__standard_altitude_at(p_pa);
     return TG_OK;
 }
 

@@ -7,6 +7,24 @@
 #include <math.h>
 #include "tinygeo.h"
 
+/* Floating-point rules the port relies on. -ffast-math (also implied by
+ * -Ofast) lets the compiler treat float arithmetic as real arithmetic: it
+ * reassociates sums, which deletes the Kahan compensation of the column's
+ * height sum (column.c: c = (g - s) - y is zero algebraically) and reorders
+ * the ln-ratio series of layers.c, and it assumes no NaN or infinity, while
+ * the port stores NaN for None and checks its arguments with isfinite().
+ * Measured with gcc 12 -O2 on x86_64 (tests/test_c_port.py): 1e7 float
+ * steps of 0.0012345, one feed-like call each, sum to 12345.000 with the
+ * Kahan step and to 11952.650 with -ffast-math (the naive float sum). For results bit-identical to Python also keep a*b + c from
+ * being fused into one FMA: -ffp-contract=off (gcc's default in ISO mode,
+ * -std=c99; its GNU modes and other compilers may fuse where the target has
+ * FMA, changing the last bits; see README.md). */
+#ifdef __FAST_MATH__
+#error "tinygeo: do not build with -ffast-math or -Ofast: it deletes the Kahan compensation of the column's sum (1e7 float steps of 0.0012345: 12345.000 without, 11952.650 with -ffast-math), reorders the ln series and breaks the NaN/isfinite checks; use -O2 (with -ffp-contract=off for bit-identity)"
+#elif defined(__FINITE_MATH_ONLY__) && __FINITE_MATH_ONLY__
+#error "tinygeo: do not build with -ffinite-math-only: the port stores NaN for None and rejects NaN/inf inputs with isfinite(), which that option folds to true"
+#endif
+
 /* TG_SINGLE is 1 when TG_FLOAT is float (token pasting: TG_IS_float is
  * defined, TG_IS_double is not and reads as 0 in #if). */
 #define TG_IS_float 1
@@ -104,23 +122,24 @@ static inline tg_status tg__check_rh(TG_FLOAT x, TG_FLOAT tol, tg_status error)
     return tg__check_range(x, -tol, TG_L(100.0) + tol, error);
 }
 
-/* ---- private helpers shared between modules (Python: module-private
- * functions imported across modules, e.g. standard.altitude_at in sealevel) -- */
-TG_FLOAT tg__standard_pressure_unchecked(TG_FLOAT h);   /* standard.pressure_at */
-TG_FLOAT tg__standard_altitude_unchecked(TG_FLOAT p);   /* standard.altitude_at */
-TG_FLOAT tg__standard_bottom_gph_m(void);               /* standard.BOTTOM_GPH_M */
-TG_FLOAT tg__layers_lnr(TG_FLOAT p1, TG_FLOAT p2);      /* layers.lnr */
-TG_FLOAT tg__layers_half_k_ln(TG_FLOAT p1, TG_FLOAT p2); /* layers.half_k_ln */
-TG_FLOAT tg__moisture_es(TG_FLOAT t_k, int ice);        /* moisture._es */
-TG_FLOAT tg__moisture_f(TG_FLOAT p_pa);                 /* moisture._f */
-TG_FLOAT tg__moisture_q(TG_FLOAT t_k, TG_FLOAT p_pa, int ice);   /* moisture.rh_q */
-TG_FLOAT tg__moisture_tv_w(TG_FLOAT t_k, TG_FLOAT w);   /* moisture.tv_w */
+/* ---- the unchecked forms shared between modules: each C name is the Python
+ * name of the function (tg__<module>_<name>); callers check the arguments ---- */
+TG_FLOAT tg__standard_pressure_at(TG_FLOAT h);                       /* standard.pressure_at */
+TG_FLOAT tg__standard_altitude_at(TG_FLOAT p);                       /* standard.altitude_at */
+TG_FLOAT tg__standard_bottom_gph_m(void);                            /* standard.BOTTOM_GPH_M */
+TG_FLOAT tg__layers_lnr(TG_FLOAT p1, TG_FLOAT p2);                   /* layers.lnr */
+TG_FLOAT tg__layers_half_k_ln(TG_FLOAT p1, TG_FLOAT p2);             /* layers.half_k_ln */
+TG_FLOAT tg__moisture_es(TG_FLOAT t_k, int ice);                     /* E0_PA * moisture._ex */
+TG_FLOAT tg__moisture_f(TG_FLOAT p_pa);                              /* moisture._f */
+TG_FLOAT tg__moisture_rh_q(TG_FLOAT t_k, TG_FLOAT p_pa, int ice);    /* moisture.rh_q */
+TG_FLOAT tg__moisture_tv_w(TG_FLOAT t_k, TG_FLOAT w);                /* moisture.tv_w */
 /* potential.series: the series at one latitude, D_1(s)..D_6(s) then
- * 1*D_1(s)..6*D_6(s) (Python: a list of 12 floats) */
+ * 1*D_1(s)..6*D_6(s) (Python: a tuple of 12 floats; C fills the caller's array) */
 #define TG_PC_N 12
-void tg__potential_coefs(TG_FLOAT lat_deg, const tg_ellipsoid *ellipsoid, TG_FLOAT c[TG_PC_N]);
-TG_FLOAT tg__potential_gph(TG_FLOAT h, const TG_FLOAT *c, TG_FLOAT a);              /* gph_series */
-TG_FLOAT tg__potential_newton(TG_FLOAT z, TG_FLOAT h, const TG_FLOAT *c, TG_FLOAT a); /* newton_step */
-TG_FLOAT tg__potential_geom(TG_FLOAT z, const TG_FLOAT *c, TG_FLOAT a);             /* height_series */
+void tg__potential_series(TG_FLOAT lat_deg, const tg_ellipsoid *ellipsoid, TG_FLOAT c[TG_PC_N]);
+TG_FLOAT tg__potential_gph_series(TG_FLOAT h, const TG_FLOAT *c, TG_FLOAT a);     /* potential.gph_series */
+TG_FLOAT tg__potential_newton_step(TG_FLOAT z, TG_FLOAT h, const TG_FLOAT *c,
+                                   TG_FLOAT a);                                   /* potential.newton_step */
+TG_FLOAT tg__potential_height_series(TG_FLOAT z, const TG_FLOAT *c, TG_FLOAT a);  /* potential.height_series */
 
 #endif /* TG_INTERNAL_H */

@@ -51,6 +51,7 @@
 #endif
 
 #include <stddef.h>
+#include <stdint.h>
 
 #ifdef __cplusplus
 extern "C" {
@@ -172,7 +173,8 @@ struct tg_column;
 typedef void (*tg_column_event_fn)(struct tg_column *col, int bits, void *ctx);
 
 /* The Column constructor's keyword arguments, in Python's order and units.
- * tg_column_config_defaults() fills in Python's defaults. The settings that
+ * tg_column_config_defaults() fills in Python's defaults (generated from
+ * Column.__init__ into tg_tables.h, as are the ranges). The settings that
  * Python takes as None are NaN here (Python stores them as NaN too):
  * anchor_p_pa = NaN: no anchor; max_rate_m_s = NaN: no rate check;
  * geoid_undulation_m = NaN: GPS heights are above mean sea level;
@@ -183,7 +185,7 @@ typedef struct tg_column_config {
     int ice, dry_fallback;
     TG_FLOAT sigma_p_pa, sigma_t_k, sigma_rh_pct, bias_p_pa, bias_t_k, bias_rh_pct;
     TG_FLOAT max_rate_m_s, landing_s, landing_tol_pa, launch_m, burst_drop_m;
-    long burst_readings;
+    int32_t burst_readings;
     TG_FLOAT tropopause_max_p_pa, rh_tol_pct;
     int track_sigma;
     tg_column_event_fn on_event;
@@ -204,30 +206,31 @@ const char *tg_reason_name(tg_reason reason);   /* "number", "pressure", ... */
 
 /* The column's state. Public fields are the Python attributes of the same
  * name (NaN where not known yet); the rest is private. Fixed size, no
- * allocation: a tg_column can be a static or a stack variable. */
+ * allocation: a tg_column can be a static or a stack variable. The integers
+ * are int32_t, the checkpoint's int32s ('<i'), whatever the width of int and
+ * long; count and rejected stop at INT32_MAX. */
 typedef struct tg_column {
     /* settings */
     TG_FLOAT lat_deg, start_height_m;
     const tg_ellipsoid *ellipsoid;
-    int ice, dry_fallback, track_sigma;
+    int32_t ice, dry_fallback, track_sigma;
     TG_FLOAT sigma_p_pa, sigma_t_k, sigma_rh_pct, bias_p_pa, bias_t_k, bias_rh_pct;
     TG_FLOAT landing_s, landing_tol_pa, launch_m, burst_drop_m, tropopause_max_p_pa, rh_tol_pct;
     TG_FLOAT max_t_rate_k_s, max_t_gradient_k_m;
-    long burst_readings;
+    int32_t burst_readings;
     tg_column_event_fn on_event;
     void *on_event_ctx;
     /* attributes */
-    long count, rejected;
+    int32_t count, rejected;          /* saturate at INT32_MAX (Python's ints grow on) */
     tg_reason reason;                 /* of the latest rejection (C only, diagnostic like rejected) */
-    int flags, phase;
+    int32_t flags, phase;
     TG_FLOAT p_pa, t_k, tv_k, rh_pct, time_s, gph_m, height_m, rate_m_s;
     TG_FLOAT max_gph_m, launch_time_s, burst_gph_m, burst_time_s, burst_p_pa;
     TG_FLOAT level_p_pa, level_gph_m, level_height_m, level_t_k;
     TG_FLOAT tropopause_p_pa, tropopause_gph_m, tropopause_t_k;
     TG_FLOAT gps_m, gps_diff_m;
     /* private (Python's _names without the underscore) */
-    int ell, lvl, tp_state;
-    long burst_n, gps_n;
+    int32_t ell, lvl, tp_state, burst_n, gps_n;
     TG_FLOAT anchor, max_rate, min_rate, spk2, st2, geoid_n, t_step, t_step_neg;
     TG_FLOAT pc[12];                  /* the geopotential series at lat_deg (potential.series) */
     TG_FLOAT c, t_last, g_t, min_gph, launch_gph, max_time, max_p, burst_line, env_g;
