@@ -1127,17 +1127,18 @@ class Column:
             self._m = old_b
         new.flags |= FL_TAKEOVER
         if self._has_b:
-            # cr joins the column's readings (it was rejected when it came)
-            if self.count < COUNT_MAX:
-                self.count += 1
+            # the run's readings join the column's (they were rejected when
+            # they came and count in both)
+            self.count = min(self.count + self._run, COUNT_MAX)
         else:
             # restart: the column forgets its first reading (never confirmed)
+            # and starts from the run's first reading
             self._reset_events()
-            self.count = 1
+            self.count = self._run
             self._inc_rejected()
         bits = self._confirm(cr)
         self._has_b = 1
-        self._accept(new, 1)
+        self._accept(new, 0)
         return self._tell(bits)
 
     def _refuse(self):
