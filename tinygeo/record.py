@@ -52,7 +52,7 @@ FORMAT = "%d\t%.3f\t%.2f\t%.3f\t%.2f\t%.3f\t%.2f\t%.3f\t%.3f\t%.3f\t%.3f\t%d\t%s
 # The column's event bits (tinygeo.column EV_*) with their words, in the
 # order the words are written; the level word carries the pressure.
 # tests/test_record.py checks the bits against tinygeo.column.
-EVENT_WORDS = ((16, "launch"), (1, "level"), (2, "tropopause"), (4, "burst"), (8, "landed"))
+EVENT_WORDS = ((16, "launch"), (1, "level"), (2, "tropopause"), (4, "burst"), (8, "landed"), (32, "float"))
 EV_LEVEL = 1
 
 _NAN = float("nan")
