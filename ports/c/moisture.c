@@ -20,6 +20,11 @@
 
 /* _QC = 0.01 * E0_PA * ONE_M_EPS: Pa per %RH, (1 - eps) e/p per %RH is _QC f x / p */
 #define QC (TG_L(0.01) * E0_PA * ONE_M_EPS)
+/* _QC_F0 = _QC * _F0, _QC_F1 = _QC * _F1, _QC_F2 = _QC * _F2: _QC times the
+ * enhancement factor's coefficients (rh_q) */
+#define QC_F0 (QC * F0)
+#define QC_F1 (QC * F1)
+#define QC_F2 (QC * F2)
 
 /* moisture._ex: exp(a t/(b + t)) of the Magnus form [WMO8] (e_w = 611.2 Pa
  * times it), no checks (callers check t_k) */
@@ -139,7 +144,12 @@ tg_status tg_specific_humidity(TG_FLOAT e_pa, TG_FLOAT p_pa, TG_FLOAT *out)
  * Tv = T/(1 - r) and dTv/dRH = Tv rh_q at constant T and p. No checks. */
 TG_FLOAT tg__moisture_rh_q(TG_FLOAT t_k, TG_FLOAT p_pa, int ice)
 {
-    return QC * tg__moisture_f(p_pa) * ex(t_k, ice) / p_pa;
+    TG_FLOAT qf;
+    if (p_pa <= F_ONE_PA)
+        qf = QC;
+    else
+        qf = QC_F0 + QC_F1 * p_pa - QC_F2 / p_pa;
+    return qf * ex(t_k, ice) / p_pa;
 }
 
 /* moisture.tv_rh: virtual_temperature without the argument checks; TG_RANGE
