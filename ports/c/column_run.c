@@ -1,8 +1,12 @@
 /* column_run.c -- drive a tg_column from a text stream, for
  * tests/test_c_port.py (which runs the same stream through Python's Column).
  *
- * Usage: column_run [-s] < commands      (-s: print the checkpoint blob
- * after every feed too: the whole state, compared byte for byte)
+ * Usage: column_run [-s] [-r] < commands
+ *   -s: print the checkpoint blob after every feed too ("b <hex>": the whole
+ *       state, compared byte for byte);
+ *   -r: print the table record (record.c) too: "m <magic>", "h <header>" and
+ *       "s <site line>" after init, "w <row>" after every accepted reading
+ *       (tg_record_column_row with the reading's number, its rh_pct and gps_m).
  *
  * Input, one command per line ("-" stands for Python's None):
  *   init <lat_deg> [<name>=<value> ...]  tg_column_init with Column's keyword
@@ -23,7 +27,7 @@
 #include <string.h>
 #include "tinygeo.h"
 
-static int every_blob;
+static int every_blob, records;
 
 static void on_event(tg_column *col, int bits, void *ctx)
 {
@@ -109,7 +113,11 @@ int main(int argc, char **argv)
     static tg_column col;
     static char line[16384];
     int lineno = 0;
-    every_blob = argc > 1 && strcmp(argv[1], "-s") == 0;
+    int i, n_feed = 0;
+    for (i = 1; i < argc; i++) {
+        every_blob |= strcmp(argv[i], "-s") == 0;
+        records |= strcmp(argv[i], "-r") == 0;
+    }
     while (fgets(line, sizeof line, stdin) != NULL) {
         char *tok[64];
         int n = 0;
@@ -124,7 +132,6 @@ int main(int argc, char **argv)
         if (strcmp(tok[0], "init") == 0 && n >= 2) {
             tg_column_config cfg;
             tg_status st;
-            int i;
             tg_column_config_defaults(&cfg, (TG_FLOAT)num(tok[1]));
             for (i = 2; i < n; i++) {
                 char *eq = strchr(tok[i], '=');
@@ -140,6 +147,11 @@ int main(int argc, char **argv)
             }
             cfg.on_event = on_event;
             st = tg_column_init(&col, &cfg);
+            if (records && st == TG_OK) {
+                char text[512];
+                tg_record_site_line(&col, text, sizeof text);
+                printf("m %s\nh %s\ns %s\n", tg_record_magic, tg_record_header, text);
+            }
             show(&col, st, 0.0);
         } else if (strcmp(tok[0], "feed") == 0 && n == 6) {
             TG_FLOAT rh = (TG_FLOAT)num(tok[3]), gps = (TG_FLOAT)num(tok[5]);
@@ -150,6 +162,13 @@ int main(int argc, char **argv)
                                           has_gps ? &gps : NULL, &bits);
             if (every_blob)
                 blob(&col);
+            if (records && st == TG_OK) {
+                char text[512];
+                tg_record_column_row(n_feed, &col, bits, has_rh ? &rh : NULL, has_gps ? &gps : NULL,
+                                     NULL, text, sizeof text);
+                printf("w %s\n", text);
+            }
+            n_feed++;
             show(&col, st, (double)bits);
         } else if (strcmp(tok[0], "reanchor") == 0 && n == 2) {
             TG_FLOAT shift;

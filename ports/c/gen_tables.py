@@ -45,7 +45,7 @@ HERE = os.path.dirname(os.path.abspath(__file__))
 ROOT = os.path.dirname(os.path.dirname(HERE))
 OUT = os.path.join(HERE, "tg_tables.h")
 MODULES = ("constants", "gravity", "potential", "moisture", "layers", "standard", "sealevel",
-           "column")
+           "column", "record")
 
 
 class NotLiteral(Exception):
@@ -130,6 +130,21 @@ def _emit_rows(name, rows, lines):
     lines.append("#define %s { \\\n    %s }" % (name, ", \\\n    ".join(out)))
 
 
+def _c_string(text):
+    # a C string literal of printable ASCII text and tabs
+    assert all((32 <= ord(ch) < 127 and ch not in '"\\') or ch == "\t" for ch in text), text
+    return '"%s"' % text.replace("\t", "\\t")
+
+
+def _joined(node, tuples):
+    # '"sep".join(NAME)' of a module-level tuple of strings (record.HEADER): the text
+    if (isinstance(node, ast.Call) and isinstance(node.func, ast.Attribute) and node.func.attr == "join"
+            and _is_str(node.func.value) and len(node.args) == 1 and isinstance(node.args[0], ast.Name)
+            and node.args[0].id in tuples):
+        return node.func.value.value.join(tuples[node.args[0].id])
+    return None
+
+
 def _emit_value(src, name, node, lines):
     rows = _number_rows(node)
     if rows is not None:
@@ -137,8 +152,16 @@ def _emit_value(src, name, node, lines):
         return True
     if _is_str(node):
         text = node.value.decode("ascii") if isinstance(node.value, bytes) else node.value
-        assert all(32 <= ord(ch) < 127 and ch not in '"\\' for ch in text), text
-        lines.append('#define %s "%s"' % (name, text))
+        lines.append('#define %s %s' % (name, _c_string(text)))
+        return True
+    if isinstance(node, ast.Tuple) and node.elts and all(
+            isinstance(e, ast.Tuple) and len(e.elts) == 2 and isinstance(e.elts[0], ast.Constant)
+            and type(e.elts[0].value) is int and _is_str(e.elts[1]) for e in node.elts):
+        # a tuple of (int, string) pairs (record.EVENT_WORDS): an X-macro list
+        # NAME(X) -> X(int, "string") ...
+        lines.append("#define %s_N %d" % (name, len(node.elts)))
+        lines.append("#define %s(X) \\\n    %s" % (name, " \\\n    ".join(
+            "X(%d, %s)" % (e.elts[0].value, _c_string(e.elts[1].value)) for e in node.elts)))
         return True
     if isinstance(node, ast.Tuple) and node.elts and all(_is_str(e) for e in node.elts):
         # a tuple of attribute names (checkpoint layout): an X-macro list, the
@@ -399,6 +422,7 @@ def generate(root=ROOT):
             src = f.read()
         tree = ast.parse(src)
         out.append("/* ---- tinygeo/%s.py ---- */" % mod)
+        tuples = {}
         for stmt in tree.body:
             if not isinstance(stmt, ast.Assign) or len(stmt.targets) != 1:
                 continue
@@ -411,6 +435,12 @@ def generate(root=ROOT):
                     and val.func.id == "Ellipsoid"):
                 for kw in val.keywords:
                     _emit_value(src, "%s_%s" % (base, kw.arg.upper()), kw.value, out)
+                continue
+            if isinstance(val, ast.Tuple) and val.elts and all(_is_str(e) for e in val.elts):
+                tuples[tgt.id] = [e.value for e in val.elts]
+            text = _joined(val, tuples)
+            if text is not None:
+                out.append("#define %s %s" % (base, _c_string(text)))
                 continue
             _emit_value(src, base, val, out)
         if mod == "column":

@@ -454,4 +454,34 @@
 #define TGPY_COLUMN_SET_MAX_T_GRADIENT_K_GPM_LO TG_L(0)
 #define TGPY_COLUMN_SET_MAX_T_GRADIENT_K_GPM_HI TG_L(10)
 
+/* ---- tinygeo/record.py ---- */
+#define TGPY_RECORD_MAGIC "# tinygeo table 1"
+#define TGPY_RECORD_SITE_PREFIX "# site "
+#define TGPY_RECORD_COLUMNS_N 13
+#define TGPY_RECORD_COLUMNS(X) \
+    X(line) \
+    X(time_s) \
+    X(p_pa) \
+    X(t_k) \
+    X(rh_pct) \
+    X(td_k) \
+    X(gps_m) \
+    X(gph_m) \
+    X(height_m) \
+    X(rate_m_s) \
+    X(sigma_m) \
+    X(flags) \
+    X(events)
+#define TGPY_RECORD_HEADER "line\ttime_s\tp_pa\tt_k\trh_pct\ttd_k\tgps_m\tgph_m\theight_m\trate_m_s\tsigma_m\tflags\tevents"
+#define TGPY_RECORD_FORMAT "%d\t%.3f\t%.2f\t%.3f\t%.2f\t%.3f\t%.2f\t%.3f\t%.3f\t%.3f\t%.3f\t%d\t%s"
+#define TGPY_RECORD_EVENT_WORDS_N 6
+#define TGPY_RECORD_EVENT_WORDS(X) \
+    X(16, "launch") \
+    X(1, "level") \
+    X(2, "tropopause") \
+    X(4, "burst") \
+    X(8, "landed") \
+    X(32, "float")
+#define TGPY_RECORD_EV_LEVEL 1
+
 #endif /* TG_TABLES_H */

@@ -343,6 +343,28 @@ tg_status tg_column_to_bytes(tg_column *col, unsigned char *buf, size_t size);
 tg_status tg_column_from_bytes(tg_column *col, const unsigned char *blob, size_t n,
                                tg_column_event_fn on_event, void *on_event_ctx);
 
+/* ---- record.py: the table of per-reading results (record.c) -------------- */
+/* record.MAGIC ("# tinygeo table 1") and record.HEADER (the column names,
+ * TAB-separated): the first line and the header line of a table. */
+extern const char tg_record_magic[];
+extern const char tg_record_header[];
+/* Each writes its text into buf like snprintf (no newline) and returns the
+ * length of the whole text: a result >= size means it was cut. */
+/* record.events_text(bits, level_p_pa): "-" when no bit is set; n_levels
+ * pressures for the level bit (lowest first) */
+int tg_record_events_text(int bits, const TG_FLOAT *level_p_pa, int n_levels, char *buf,
+                          size_t size);
+/* record.row(...): NaN for a value not given */
+int tg_record_row(int32_t line, TG_FLOAT time_s, TG_FLOAT p_pa, TG_FLOAT t_k, TG_FLOAT rh_pct,
+                  TG_FLOAT td_k, TG_FLOAT gps_m, TG_FLOAT gph_m, TG_FLOAT height_m,
+                  TG_FLOAT rate_m_s, TG_FLOAT sigma_m, int32_t flags, const char *events,
+                  char *buf, size_t size);
+/* record.column_row(line, col, bits, rh_pct, gps_m, td_k): NULL for None */
+int tg_record_column_row(int32_t line, const tg_column *col, int bits, const TG_FLOAT *rh_pct,
+                         const TG_FLOAT *gps_m, const TG_FLOAT *td_k, char *buf, size_t size);
+/* record.site_line(col) */
+int tg_record_site_line(const tg_column *col, char *buf, size_t size);
+
 #ifdef __cplusplus
 }
 #endif
