@@ -70,7 +70,7 @@ typedef char tg__mandatory_16[TGPY_COLUMN_MANDATORY_PA_N == 16 ? 1 : -1];
 #define COUNT_MAX TGPY_COLUMN_COUNT_MAX
 #define GPH_MIN_M TGPY_POTENTIAL_GPH_MIN_M
 #define GPH_MAX_M TGPY_POTENTIAL_GPH_MAX_M
-#define HALF_RG (TG_L(0.5) * TG_RD / TG_G0)   /* layers.HALF_RG = 0.5 * RD / G0, gpm/K */
+#define HALF_RG TG_HALF_RG   /* layers.HALF_RG = 0.5 * RD / G0, gpm/K (tg_internal.h) */
 #define NODE_D TG_L(TGPY_COLUMN__NODE_D)
 #define NODE_W TG_L(TGPY_COLUMN__NODE_W)
 #define NODE_W2 TG_L(TGPY_COLUMN__NODE_W2)
@@ -388,23 +388,23 @@ static int check(tg_column *col, tg_rec *n, TG_FLOAT p_pa, TG_FLOAT t_k, const T
                  tg_time time_s, const TG_FLOAT *gps_m)
 {
     TG_FLOAT p, t, rh, gps;
+    /* Python tests "a finite number" first, then the range; a value in the
+     * range is finite, so C tests the range first and tells a NaN or inf
+     * ('number') from a value out of range only for a value outside it:
+     * the same reason for every value, fewer tests per reading */
     p = p_pa;
-    if (!isfinite(p))
-        return bad(col, TG_REASON_NUMBER);
     if (!(P_MIN_PA <= p && p <= P_MAX_PA))
-        return bad(col, TG_REASON_PRESSURE);
+        return bad(col, isfinite(p) ? TG_REASON_PRESSURE : TG_REASON_NUMBER);
     t = t_k;
-    if (!isfinite(t))
-        return bad(col, TG_REASON_NUMBER);
     if (!(T_MIN_K <= t && t <= T_MAX_K))
-        return bad(col, TG_REASON_TEMPERATURE);
+        return bad(col, isfinite(t) ? TG_REASON_TEMPERATURE : TG_REASON_NUMBER);
     rh = NAN_;
     if (rh_pct != NULL) {
         rh = *rh_pct;
-        if (!isfinite(rh))
-            return bad(col, TG_REASON_NUMBER);
-        if (rh < TG_L(0.0) || rh > TG_L(100.0)) {
+        if (!(TG_L(0.0) <= rh && rh <= TG_L(100.0))) {
             TG_FLOAT tol = col->rh_tol_pct;
+            if (!isfinite(rh))
+                return bad(col, TG_REASON_NUMBER);
             if (rh < -tol || rh > TG_L(100.0) + tol)
                 return bad(col, TG_REASON_HUMIDITY);
         }

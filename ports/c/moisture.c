@@ -26,21 +26,11 @@
 #define QC_F1 (QC * F1)
 #define QC_F2 (QC * F2)
 
-/* moisture._ex: exp(a t/(b + t)) of the Magnus form [WMO8] (e_w = 611.2 Pa
- * times it), no checks (callers check t_k) */
-static TG_FLOAT ex(TG_FLOAT t_k, int ice)
-{
-    TG_FLOAT t = t_k - TG_ZERO_C_K;
-    if (ice && t <= TG_L(0.0))
-        return TG_EXP(AI * t / (BI + t));
-    return TG_EXP(AW * t / (BW + t));
-}
-
 /* E0_PA * moisture._ex(t_k, ice) (written out at each use there; C-only
  * name): Magnus form [WMO8], no checks (callers check t_k). Pa. */
 TG_FLOAT tg__moisture_es(TG_FLOAT t_k, int ice)
 {
-    return E0_PA * ex(t_k, ice);
+    return E0_PA * tg__moisture_ex(t_k, ice);
 }
 
 /* moisture._f: enhancement factor [WMO8], no checks (callers check p_pa). */
@@ -138,18 +128,6 @@ tg_status tg_specific_humidity(TG_FLOAT e_pa, TG_FLOAT p_pa, TG_FLOAT *out)
     TG_TRY(check_e(e_pa, p_pa));
     *out = TG_EPSILON * e_pa / (p_pa - ONE_M_EPS * e_pa);
     return TG_OK;
-}
-
-/* moisture.rh_q: (1 - eps) e'_w/p per %RH: with r = rh_pct * rh_q, e/p = r/(1 - eps),
- * Tv = T/(1 - r) and dTv/dRH = Tv rh_q at constant T and p. No checks. */
-TG_FLOAT tg__moisture_rh_q(TG_FLOAT t_k, TG_FLOAT p_pa, int ice)
-{
-    TG_FLOAT qf;
-    if (p_pa <= F_ONE_PA)
-        qf = QC;
-    else
-        qf = QC_F0 + QC_F1 * p_pa - QC_F2 / p_pa;
-    return qf * ex(t_k, ice) / p_pa;
 }
 
 /* moisture.tv_rh: virtual_temperature without the argument checks; TG_RANGE
