@@ -163,20 +163,6 @@ void tg_column_config_defaults(tg_column_config *cfg, TG_FLOAT lat_deg)
 static void reset_events(tg_column *col);
 static TG_FLOAT nan_rec_init(tg_rec *r);
 
-/* constants.check_ellipsoid: tg_wgs84 or tg_grs80, or an ellipsoid whose
- * defining constants (a_m, f, gm, omega) equal one of theirs; NULL otherwise */
-static const tg_ellipsoid *check_ellipsoid(const tg_ellipsoid *e)
-{
-    static const tg_ellipsoid *const known[2] = { &tg_wgs84, &tg_grs80 };
-    int i;
-    for (i = 0; i < 2; i++) {
-        const tg_ellipsoid *k = known[i];
-        if (e == k || (e->a_m == k->a_m && e->f == k->f && e->gm == k->gm && e->omega == k->omega))
-            return k;
-    }
-    return NULL;
-}
-
 /* Column._guard: 1 if the standard pressure altitude of p lies within
  * start_guard_m of start_height_m (or there is no guard), else 0 */
 static int guard(const tg_column *col, TG_FLOAT p)
@@ -196,7 +182,7 @@ static tg_status init_checked(tg_column *col, const tg_column_config *cfg, TG_FL
     /* --- settings (checked here; the status names the class, not the setting) */
     TG_TRY(tg__check_lat(cfg->lat_deg));
     n.lat_deg = cfg->lat_deg;
-    n.ellipsoid = check_ellipsoid(cfg->ellipsoid ? cfg->ellipsoid : &tg_wgs84);
+    n.ellipsoid = tg__check_ellipsoid(cfg->ellipsoid);
     if (n.ellipsoid == NULL)
         return tg__fail(TG_RANGE, out);
     SETTING(cfg->start_height_m, START_HEIGHT_M);

@@ -6,7 +6,8 @@
  *       state, compared byte for byte);
  *   -r: print the table record (record.c) too: "m <magic>", "h <header>" and
  *       "s <site line>" after init, "w <row>" after every accepted reading
- *       (tg_record_column_row with the reading's number, its rh_pct and gps_m).
+ *       (tg_record_column_row with the reading's number, its rh_pct and gps_m);
+ *   -l: print the "r" line of the last command only (long streams).
  *
  * Input, one command per line ("-" stands for Python's None):
  *   init <lat_deg> [<name>=<value> ...]  tg_column_init with Column's keyword
@@ -27,7 +28,8 @@
 #include <string.h>
 #include "tinygeo.h"
 
-static int every_blob, records;
+static int every_blob, records, last_only;
+static char last_line[4096];
 
 static void on_event(tg_column *col, int bits, void *ctx)
 {
@@ -61,11 +63,12 @@ static void show(const tg_column *c, tg_status st, double res)
         (double)tg_column_sigma_random_m(c), (double)tg_column_sigma_bias_m(c),
         tg_column_time_origin(c)
     };
-    size_t i;
-    printf("r %s %s %.17g", tg_status_name(st), tg_reason_name(c->reason), res);
+    size_t i, len;
+    len = (size_t)sprintf(last_line, "r %s %s %.17g", tg_status_name(st), tg_reason_name(c->reason), res);
     for (i = 0; i < sizeof v / sizeof v[0]; i++)
-        printf(" %.17g", v[i]);
-    printf("\n");
+        len += (size_t)sprintf(last_line + len, " %.17g", v[i]);
+    if (!last_only)
+        printf("%s\n", last_line);
 }
 
 static void blob(tg_column *col)
@@ -117,6 +120,7 @@ int main(int argc, char **argv)
     for (i = 1; i < argc; i++) {
         every_blob |= strcmp(argv[i], "-s") == 0;
         records |= strcmp(argv[i], "-r") == 0;
+        last_only |= strcmp(argv[i], "-l") == 0;
     }
     while (fgets(line, sizeof line, stdin) != NULL) {
         char *tok[64];
@@ -200,5 +204,7 @@ int main(int argc, char **argv)
             return 2;
         }
     }
+    if (last_only)
+        printf("%s\n", last_line);
     return 0;
 }

@@ -122,6 +122,9 @@ static inline tg_status tg__check_rh(TG_FLOAT x, TG_FLOAT tol, tg_status error)
     return tg__check_range(x, -tol, TG_L(100.0) + tol, error);
 }
 
+/* constants.check_ellipsoid (constants.c): the canonical tg_wgs84/tg_grs80, or NULL */
+const tg_ellipsoid *tg__check_ellipsoid(const tg_ellipsoid *e);
+
 /* ---- the unchecked forms shared between modules: each C name is the Python
  * name of the function (tg__<module>_<name>); callers check the arguments ---- */
 TG_FLOAT tg__standard_pressure_at(TG_FLOAT h);                       /* standard.pressure_at */
