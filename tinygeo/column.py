@@ -510,12 +510,12 @@ _ST_I = ("count", "rejected", "retracted", "phase", "_has_b", "_e_n", "_lvl", "_
 # "n" where nan means "not known yet"); kept as text: read only on a restore
 _RESTORE_COL = ("count 0 1073741823;rejected 0 1073741823;retracted 0 1073741823;phase 0 4;"
                 "_has_b 0 1;_e_n 0 *;_lvl 0 16;_burst_n 0 *;_tb_n 0 *;_tp_state 0 3;"
-                "smooth_gph_m -20000 200000 n;max_gph_m -20000 200000 n;"
+                "smooth_gph_m -250000 250000 n;max_gph_m -250000 250000 n;"
                 "burst_p_pa 0.1 120000 n;level_p_pa 1000 100000 n;level_t_k 150 350 n;"
                 "tropopause_p_pa 0 120000 n;tropopause_t_k 150 350 n;_var_anchor 0 *;"
                 "_f_dt 0 * n;_f_a 0 1 n;_f_cx 0 * n;_f_cv 0 * n")
 _RESTORE_REC = ("p_pa 0.1 120000;t_k 150 350;rh_pct -3 103 n;tv_k 150 350;"
-                "gph_m -20000 200000;c -1 1;height_m -20000 200000 n;dt 0 * n;"
+                "gph_m -250000 250000;c -1 1;height_m -250000 250000 n;dt 0 * n;"
                 "h_t 150 350 n;h_p 0.1 120000 n;h_rh -3 103 n;w 0 1 n;"
                 "gps_m -1000 100000 n;var_done 0 *;var_p 0 *;tm2 0 700;s2 0 *;"
                 "p_start 0.1 120000 n;tvh 0 *;flags 0 1023;gps_here 0 1")
@@ -648,6 +648,7 @@ class Column:
         self._b = _Rec()
         self._n = _Rec()
         self._m = _Rec()
+        self._k = _Rec()
         self._cr = _Rec()          # the latest reading of the run (recovery memory)
         self._run = 0              # readings in the run
         self._run_b = 0            # of which the latest ones in a row agree with _b
@@ -1059,12 +1060,14 @@ class Column:
         # run of readings that contradicted it is under way (ok: n agrees with
         # the latest reading too; n holds the state on top of it).
         # Look-back: a reading that agrees with the reading before the latest
-        # one, right after one that contradicted the latest and agreed with
-        # the one before, retracts the latest. Else n joins the run if it
-        # agrees with the run's latest reading (or starts one if it contradicts
-        # the latest reading); takeover_readings of them in a row are followed.
-        # A reading that agrees with the latest one but not with the run is
-        # accepted (the run was noise).
+        # one and with the run's latest reading, right after a run reading that
+        # also agreed with the one before, retracts the latest. Else n joins
+        # the run if it agrees with the run's latest reading and contradicts
+        # the latest reading (or the latest is the unconfirmed first reading,
+        # or the run has two readings already); a reading that contradicts the
+        # latest one and not the run starts a new run; takeover_readings of
+        # them in a row are followed. A reading that agrees with the latest one
+        # and is not taken by the run is accepted (the run was a glitch).
         m = self._m
         # the reading, into the second scratch record
         m.p_pa = n.p_pa
@@ -1073,8 +1076,19 @@ class Column:
         m.tsr = n.tsr
         m.gpsr = n.gpsr
         agree_b = self._has_b and self._compute(self._b, m) == 0
-        if agree_b and self._run_b:
-            # the latest reading was the bad one: go on from the one before
+        # does n agree with the run's latest reading? (computed on top of it)
+        k = self._k
+        k.p_pa = n.p_pa
+        k.t_k = n.t_k
+        k.rh_pct = n.rh_pct
+        k.tsr = n.tsr
+        k.gpsr = n.gpsr
+        cr = self._cr
+        in_run = self._run and self._compute(cr, k) == 0
+        if agree_b and self._run_b and in_run:
+            # two readings in a row agree with each other and with the reading
+            # before the latest one, and contradict the latest (the first of
+            # them did): the latest was the bad one; go on from the one before
             self._m = self._h
             self._h = m
             m.flags |= FL_REPLACED
@@ -1083,9 +1097,11 @@ class Column:
                 self.retracted += 1
             self._accept(m, 0)
             return 0
-        cr = self._cr
-        if self._run and self._compute(cr, m) == 0:
-            new = m                # the run goes on
+        if in_run and (not ok or not self._has_b or self._run >= 2):
+            # the run goes on: n agrees with it, and contradicts the latest
+            # reading, or the latest is the first one (not confirmed yet), or
+            # the run already has two readings that agree with each other
+            new = k
             self._run += 1
         elif ok:
             return self._advance()
@@ -1097,8 +1113,8 @@ class Column:
             if self._has_b:
                 new = n
             else:
-                self._compute(None, m)
-                new = m
+                self._compute(None, k)
+                new = k
             self._run = 1
             self._run_b = 0
         if agree_b:
@@ -1107,8 +1123,8 @@ class Column:
             self._run_b = 0
         # new becomes the run's latest reading; its slot takes the old one
         self._cr = new
-        if new is m:
-            self._m = cr
+        if new is k:
+            self._k = cr
         else:
             self._n = cr
         if self._run < self.takeover_readings:
@@ -1124,7 +1140,7 @@ class Column:
         if self._n is cr:
             self._n = old_b
         else:
-            self._m = old_b
+            self._k = old_b
         new.flags |= FL_TAKEOVER
         if self._has_b:
             # the run's readings join the column's (they were rejected when
