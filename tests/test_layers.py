@@ -17,6 +17,7 @@ import numpy as np
 import pytest
 from hypothesis import given, settings, strategies as st
 
+from conftest import MICROPYTHON, require_micropython
 from tinygeo import layers
 from tinygeo.constants import RD, G0, R_STAR, M0_KG_MOL
 from tinygeo.errors import RangeError, ModelRangeError, TinygeoError
@@ -370,16 +371,10 @@ def run_vectors_under(exe, mod):
     return [line.split() for line in p.stdout.splitlines()]
 
 
-def micropython_exe():
-    import shutil
-    exe = shutil.which("micropython") or os.path.join(os.path.dirname(sys.executable), "micropython")
-    if not os.path.exists(exe):
-        pytest.skip("micropython not installed")
-    return exe
-
-
 def test_vectors_under_micropython():
-    mp_rows = run_vectors_under(micropython_exe(), "layers")
+    # skips locally without the runtime, fails in CI (conftest.require_micropython)
+    require_micropython()
+    mp_rows = run_vectors_under(MICROPYTHON, "layers")
     cp_rows = run_vectors_under(sys.executable, "layers")
     assert len(mp_rows) == len(cp_rows) >= 10
     for (g1, ok1), (g2, ok2) in zip(mp_rows, cp_rows):

@@ -28,7 +28,6 @@ References used here (outside the project):
 """
 import math
 import os
-import shutil
 import subprocess
 import sys
 import warnings
@@ -40,6 +39,7 @@ from hypothesis import given, settings, strategies as st
 from iapws.iapws95 import IAPWS95
 from iapws._iapws import _Sublimation_Pressure, _Ice
 
+from conftest import MICROPYTHON, require_micropython
 from tinygeo import moisture as m
 from tinygeo.constants import EPSILON
 from tinygeo.errors import RangeError, ModelRangeError
@@ -441,10 +441,9 @@ def run_vectors_under(exe):
 
 
 def test_vectors_under_micropython():
-    exe = shutil.which("micropython") or os.path.join(os.path.dirname(sys.executable), "micropython")
-    if not os.path.exists(exe):
-        pytest.skip("micropython not installed")
-    mp_rows = run_vectors_under(exe)
+    # skips locally without the runtime, fails in CI (conftest.require_micropython)
+    require_micropython()
+    mp_rows = run_vectors_under(MICROPYTHON)
     cp_rows = run_vectors_under(sys.executable)
     assert len(mp_rows) == len(cp_rows) >= 10
     for (g1, ok1), (g2, ok2) in zip(mp_rows, cp_rows):
