@@ -66,9 +66,10 @@ def ascent(step_gph=5.0, top=35000.0, start=0.0):
 # (Wallace and Hobbs 2006 eq. 3.16), all evaluated in mpmath here, not with
 # tinygeo.moisture.
 
-MP_RD = mp.mpf("8.31432") / mp.mpf("0.0289644")
-MP_G0 = mp.mpf("9.80665")
-MP_EPS = mp.mpf("0.621981")
+with mp.workdps(20):   # the reference's precision, set locally
+    MP_RD = mp.mpf("8.31432") / mp.mpf("0.0289644")
+    MP_G0 = mp.mpf("9.80665")
+    MP_EPS = mp.mpf("0.621981")
 
 
 def _t_rh_of_p(p):
@@ -100,17 +101,17 @@ def test_heights_match_mpmath_hydrostatic_reference():
         t, rh = _t_rh_of_p(p)
         col.feed(p, t, rh, float(i))
         gph.append(col.gph_m)
-    mp.mp.dps = 20
     kinks = [standard.standard_pressure(h) for h in (11000.0, 20000.0, 32000.0)] + [4266.6096]
     z = mp.mpf(0)
     worst = 0.0
     step = 500
-    for k in range(0, len(ps) - 1, step):
-        a, b = ps[k], ps[min(k + step, len(ps) - 1)]
-        pts = [mp.log(a)] + [mp.log(x) for x in kinks if b < x < a] + [mp.log(b)]
-        z += MP_RD / MP_G0 * mp.quad(lambda x: _tv_mp(mp.exp(x)), pts[::-1],
-                                     method="gauss-legendre")
-        worst = max(worst, abs(float(z) - gph[min(k + step, len(ps) - 1)]))
+    with mp.workdps(20):
+        for k in range(0, len(ps) - 1, step):
+            a, b = ps[k], ps[min(k + step, len(ps) - 1)]
+            pts = [mp.log(a)] + [mp.log(x) for x in kinks if b < x < a] + [mp.log(b)]
+            z += MP_RD / MP_G0 * mp.quad(lambda x: _tv_mp(mp.exp(x)), pts[::-1],
+                                         method="gauss-legendre")
+            worst = max(worst, abs(float(z) - gph[min(k + step, len(ps) - 1)]))
     assert float(z) > 35000.0
     assert worst < 0.1, worst
 

@@ -26,9 +26,16 @@ HERE = os.path.dirname(os.path.abspath(__file__))
 sys.path.insert(0, os.path.join(HERE, "vectors"))
 import runvec  # noqa: E402
 
-mp = mpmath.mp
-mp.dps = 40
-RG_MP = mpmath.mpf(R_STAR) / mpmath.mpf(M0_KG_MOL) / mpmath.mpf(G0)   # Rd/g0 from USSA76 Table 2
+DPS = 40   # mpmath working precision, digits: set locally (fixture/with), never globally
+with mpmath.workdps(DPS):
+    RG_MP = mpmath.mpf(R_STAR) / mpmath.mpf(M0_KG_MOL) / mpmath.mpf(G0)   # Rd/g0 from USSA76 Table 2
+
+
+@pytest.fixture(autouse=True)
+def _digits():
+    # every test of this module computes its mpmath references at DPS digits
+    with mpmath.workdps(DPS):
+        yield
 
 
 def rel(a, b):

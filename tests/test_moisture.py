@@ -49,6 +49,14 @@ sys.path.insert(0, os.path.join(HERE, "vectors"))
 import runvec  # noqa: E402
 
 RW = 461.51805   # J/(kg K), IAPWS-95 specific gas constant of water
+DPS = 30         # mpmath working precision, digits: set locally (fixture), never globally
+
+
+@pytest.fixture(autouse=True)
+def _digits():
+    # every test of this module computes its mpmath references at DPS digits
+    with mpmath.workdps(DPS):
+        yield
 
 
 # --- references ------------------------------------------------------------------
@@ -267,7 +275,6 @@ def test_dew_point_below_temperature(t, rh):
 # --- mixing ratio, specific humidity, virtual temperature ------------------------------------------
 
 def test_mixing_ratio_and_specific_humidity_vs_mpmath():
-    mpmath.mp.dps = 30
     eps = mpmath.mpf(EPSILON)
     for e, p in ((1171.8, 101325.0), (10.0, 30000.0), (4000.0, 80000.0), (0.0, 50000.0)):
         w = eps * e / (p - mpmath.mpf(e))                     # WMO-No. 8 Annex 4.B
@@ -277,7 +284,6 @@ def test_mixing_ratio_and_specific_humidity_vs_mpmath():
 
 
 def test_virtual_temperature_exact_form():
-    mpmath.mp.dps = 30
     eps = mpmath.mpf(EPSILON)
     worst_lin_e = worst_lin_w = 0.0
     for t, p, rh in ((303.15, 100000.0, 100.0), (293.15, 101325.0, 50.0), (250.0, 50000.0, 80.0),
@@ -377,7 +383,6 @@ def _magnus_water(t_k):
 def test_vectors_not_stale():
     # Lines whose source starts with "IAPWS" are recomputed from the iapws package,
     # lines starting with "mpmath" from the published formulas in mpmath.
-    mpmath.mp.dps = 30
     eps = mpmath.mpf(EPSILON)
     n = 0
     for lineno, func, args, expected, kind, tol, source in runvec.load(VEC):

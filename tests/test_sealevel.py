@@ -23,15 +23,27 @@ from hypothesis import assume, given, settings, strategies as st
 from tinygeo import potential, sealevel as L, standard
 from tinygeo.errors import ModelRangeError, RangeError
 
-mp.mp.dps = 40
-G0 = mp.mpf("9.80665")
-RD = mp.mpf("8.31432") / mp.mpf("0.0289644")   # [USSA76] Table 2: R*/M0
-A = mp.mpf("0.0065")                            # K/gpm
-P0 = mp.mpf(101325)
-T0 = mp.mpf("288.15")
-EPS = mp.mpf("0.621981")
+DPS = 40   # mpmath working precision, digits: set locally (with/decorator/fixture), never globally
+dps40 = mp.workdps(DPS)
 
 
+@pytest.fixture(autouse=True)
+def _digits():
+    # every test of this module computes its mpmath references at DPS digits
+    with mp.workdps(DPS):
+        yield
+
+
+with mp.workdps(DPS):
+    G0 = mp.mpf("9.80665")
+    RD = mp.mpf("8.31432") / mp.mpf("0.0289644")   # [USSA76] Table 2: R*/M0
+    A = mp.mpf("0.0065")                            # K/gpm
+    P0 = mp.mpf(101325)
+    T0 = mp.mpf("288.15")
+    EPS = mp.mpf("0.621981")
+
+
+@dps40
 def ref_tv(t_k, p_pa, rh_pct):
     """Virtual temperature from the [WMO8] Magnus form and enhancement factor, mpmath."""
     t = mp.mpf(t_k)
@@ -42,6 +54,7 @@ def ref_tv(t_k, p_pa, rh_pct):
     return t / (1 - e / mp.mpf(p_pa) * (1 - EPS))
 
 
+@dps40
 def ref_msl_ode(p_pa, tv_station, h_gpm):
     """Integrate the hydrostatic equation dp/dz = -g0 p / (Rd Tv_mean) with mpmath's
     Taylor-series ODE solver from the barometer (z = H) down to z = 0, through the
@@ -156,6 +169,7 @@ def test_qfe_humid_and_practice():
 
 
 # --- QNH and the altimeter -----------------------------------------------------------
+@dps40
 def ref_qnh(p, e):
     n = RD * A / G0
     return P0 * ((mp.mpf(p) / P0) ** n + A * mp.mpf(e) / T0) ** (1 / n)
@@ -239,10 +253,12 @@ VECTOR_FUNCS = {"sea_level_pressure": L.sea_level_pressure, "qfe": L.qfe, "qnh":
                 "indicated_altitude": L.indicated_altitude}
 
 
+@dps40
 def _ref_qfe(p, dh, t):
     return mp.mpf(p) * mp.exp(G0 * mp.mpf(dh) / (RD * mp.mpf(t)))
 
 
+@dps40
 def _ref_indicated(p, q):
     n = RD * A / G0
     return T0 / A * ((mp.mpf(q) / P0) ** n - (mp.mpf(p) / P0) ** n)
@@ -262,6 +278,7 @@ def test_vector_matches_reference(case):
     check_vector_matches_reference(case, VECTOR_REFS)
 
 
+@dps40
 def write_vectors():
     """Rewrite tests/vectors/sealevel.txt from the mpmath references above
     (run: python tests/test_sealevel.py)."""

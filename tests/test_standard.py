@@ -22,22 +22,33 @@ from hypothesis import given, settings, strategies as st
 from tinygeo import standard as S
 from tinygeo.errors import ModelRangeError
 
-mp.mp.dps = 40
-G0 = mp.mpf("9.80665")       # [USSA76] Table 2
-R_STAR = mp.mpf("8.31432")   # [USSA76] Table 2
-M0 = mp.mpf("0.0289644")     # [USSA76] Table 2
-R0 = mp.mpf(6356766)         # [USSA76] eq. 18
-HB = [0, 11000, 20000, 32000, 47000, 51000, 71000, 84852]        # [USSA76] Table 4, gpm
-LB = [mp.mpf(x) / 1000 for x in ("-6.5", "0", "1", "2.8", "0", "-2.8", "-2")]  # K/gpm
-TB = [mp.mpf("288.15")]
-PB = [mp.mpf(101325)]
-for _i in range(7):
-    _dh = HB[_i + 1] - HB[_i]
-    TB.append(TB[_i] + LB[_i] * _dh)
-    if LB[_i] == 0:
-        PB.append(PB[_i] * mp.exp(-G0 * M0 * _dh / (R_STAR * TB[_i])))
-    else:
-        PB.append(PB[_i] * (TB[_i] / TB[_i + 1]) ** (G0 * M0 / (R_STAR * LB[_i])))
+DPS = 40   # mpmath working precision, digits: set locally (with/decorator/fixture), never globally
+dps40 = mp.workdps(DPS)
+
+
+@pytest.fixture(autouse=True)
+def _digits():
+    # every test of this module computes its mpmath references at DPS digits
+    with mp.workdps(DPS):
+        yield
+
+
+with mp.workdps(DPS):
+    G0 = mp.mpf("9.80665")       # [USSA76] Table 2
+    R_STAR = mp.mpf("8.31432")   # [USSA76] Table 2
+    M0 = mp.mpf("0.0289644")     # [USSA76] Table 2
+    R0 = mp.mpf(6356766)         # [USSA76] eq. 18
+    HB = [0, 11000, 20000, 32000, 47000, 51000, 71000, 84852]        # [USSA76] Table 4, gpm
+    LB = [mp.mpf(x) / 1000 for x in ("-6.5", "0", "1", "2.8", "0", "-2.8", "-2")]  # K/gpm
+    TB = [mp.mpf("288.15")]
+    PB = [mp.mpf(101325)]
+    for _i in range(7):
+        _dh = HB[_i + 1] - HB[_i]
+        TB.append(TB[_i] + LB[_i] * _dh)
+        if LB[_i] == 0:
+            PB.append(PB[_i] * mp.exp(-G0 * M0 * _dh / (R_STAR * TB[_i])))
+        else:
+            PB.append(PB[_i] * (TB[_i] / TB[_i + 1]) ** (G0 * M0 / (R_STAR * LB[_i])))
 
 
 def ref_layer(h):
@@ -49,12 +60,14 @@ def ref_layer(h):
     return b
 
 
+@dps40
 def ref_t(h):
     """[USSA76] eq. 23 in mpmath."""
     b = ref_layer(h)
     return TB[b] + LB[b] * (mp.mpf(h) - HB[b])
 
 
+@dps40
 def ref_p(h):
     """[USSA76] eq. 33a/33b in mpmath (power form, as printed)."""
     b = ref_layer(h)
@@ -64,6 +77,7 @@ def ref_p(h):
     return PB[b] * (TB[b] / (TB[b] + LB[b] * dh)) ** (G0 * M0 / (R_STAR * LB[b]))
 
 
+@dps40
 def ref_h(p):
     """Inverse of eq. 33a/33b in mpmath, by root finding on ref_p (not a closed form)."""
     p = mp.mpf(p)
@@ -387,6 +401,7 @@ def test_vector_matches_reference(case):
     check_vector_matches_reference(case, VECTOR_REFS)
 
 
+@dps40
 def write_vectors():
     """Rewrite tests/vectors/standard.txt from the mpmath references above
     (run: python tests/test_standard.py)."""
