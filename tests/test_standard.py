@@ -33,62 +33,10 @@ def _digits():
         yield
 
 
-with mp.workdps(DPS):
-    G0 = mp.mpf("9.80665")       # [USSA76] Table 2
-    R_STAR = mp.mpf("8.31432")   # [USSA76] Table 2
-    M0 = mp.mpf("0.0289644")     # [USSA76] Table 2
-    R0 = mp.mpf(6356766)         # [USSA76] eq. 18
-    HB = [0, 11000, 20000, 32000, 47000, 51000, 71000, 84852]        # [USSA76] Table 4, gpm
-    LB = [mp.mpf(x) / 1000 for x in ("-6.5", "0", "1", "2.8", "0", "-2.8", "-2")]  # K/gpm
-    TB = [mp.mpf("288.15")]
-    PB = [mp.mpf(101325)]
-    for _i in range(7):
-        _dh = HB[_i + 1] - HB[_i]
-        TB.append(TB[_i] + LB[_i] * _dh)
-        if LB[_i] == 0:
-            PB.append(PB[_i] * mp.exp(-G0 * M0 * _dh / (R_STAR * TB[_i])))
-        else:
-            PB.append(PB[_i] * (TB[_i] / TB[_i + 1]) ** (G0 * M0 / (R_STAR * LB[_i])))
-
-
-def ref_layer(h):
-    h = mp.mpf(h)
-    b = 0
-    for j in range(7):
-        if h >= HB[j]:
-            b = j
-    return b
-
-
-@dps40
-def ref_t(h):
-    """[USSA76] eq. 23 in mpmath."""
-    b = ref_layer(h)
-    return TB[b] + LB[b] * (mp.mpf(h) - HB[b])
-
-
-@dps40
-def ref_p(h):
-    """[USSA76] eq. 33a/33b in mpmath (power form, as printed)."""
-    b = ref_layer(h)
-    dh = mp.mpf(h) - HB[b]
-    if LB[b] == 0:
-        return PB[b] * mp.exp(-G0 * M0 * dh / (R_STAR * TB[b]))
-    return PB[b] * (TB[b] / (TB[b] + LB[b] * dh)) ** (G0 * M0 / (R_STAR * LB[b]))
-
-
-@dps40
-def ref_h(p):
-    """Inverse of eq. 33a/33b in mpmath, by root finding on ref_p (not a closed form)."""
-    p = mp.mpf(p)
-    b = 0
-    for j in range(8):
-        if p <= PB[j]:
-            b = j
-    b = min(b, 6)
-    lo = mp.mpf(HB[b]) if b > 0 else mp.mpf(-6000)
-    hi = mp.mpf(HB[b + 1])
-    return mp.findroot(lambda h: ref_p(h) - p, (lo, hi), solver="anderson")
+# The mpmath reference of [USSA76] (eqs. 18, 23, 33a, 33b with the Table 2
+# constants and the Table 4 layers) lives in tests/mpref.py, shared with the
+# column and sea-level tests.
+from mpref import G0, HB, M0, PB, R0, R_STAR, TB, ref_h, ref_p, ref_t  # noqa: E402
 
 
 # --- Table 4 ------------------------------------------------------------------
