@@ -106,6 +106,8 @@ def test_first_coefficient_is_somigliana():
 
 
 def test_consistent_with_normal_gravity():
+    # a consistency check between two modules (measured 1.4e-8 m/s^2: the central
+    # difference's rounding, 1e-16 * 1e5 m / 1 m * g0), not an accuracy reference
     # numerical derivative of the series = normal gravity / g0 (the two modules
     # are independent: closed form vs series); the plumb line's tiny curvature
     # and deflection from the normal (< 1e-9 relative here) is neglected
@@ -131,12 +133,15 @@ def test_standard_atmosphere_relation():
 @settings(max_examples=300, deadline=None)
 @given(lat_st, h_st)
 def test_round_trip(lat, h):
+    # a consistency check (round trip): measured at most 2.2e-16 of max(|h|, 1 m) over
+    # 1e5 random inputs (CPython, x86-64: 1 ulp, 1.5e-11 m at 100 km); 1e-15 of it is
+    # about 4 ulps (was 1e-8 m)
     for _, ell, _ in ELLS:
         z = P.geopotential_height(h, lat, ell)
-        assert abs(P.geometric_height(z, lat, ell) - h) < 1e-8
+        assert abs(P.geometric_height(z, lat, ell) - h) <= 1e-15 * max(abs(h), 1.0)
     # and the other way, for gph whose height lies in -1000 m..100 km at every latitude
     z = min(max(h, -990.0), 98000.0)
-    assert abs(P.geopotential_height(P.geometric_height(z, lat), lat) - z) < 1e-8
+    assert abs(P.geopotential_height(P.geometric_height(z, lat), lat) - z) <= 1e-15 * max(abs(z), 1.0)
 
 
 @settings(max_examples=300, deadline=None)
@@ -151,6 +156,7 @@ def test_monotonic_in_height(lat, h1, h2):
 @settings(max_examples=200, deadline=None)
 @given(lat_st, h_st)
 def test_symmetric_in_latitude_sign(lat, h):
+    # a consistency check (symmetry), not an accuracy reference
     assert P.geopotential_height(h, -lat) == P.geopotential_height(h, lat)
     z = P.geopotential_height(h, lat)
     assert P.geometric_height(z, -lat) == P.geometric_height(z, lat)
@@ -162,7 +168,8 @@ def test_range_limits_invert():
         for h in (G.HEIGHT_MIN_M, 0.0, G.HEIGHT_MAX_M):
             z = P.geopotential_height(h, lat)
             assert P.GPH_MIN_M <= z <= P.GPH_MAX_M
-            assert abs(P.geometric_height(z, lat) - h) < 1e-8
+            # measured 0 (CPython, x86-64), about 4 ulps allowed (was 1e-8 m)
+            assert abs(P.geometric_height(z, lat) - h) <= 1e-15 * max(abs(h), 1.0)
         assert -1008.0 < P.geometric_height(P.GPH_MIN_M, lat) < -1000.0
         assert 100000.0 < P.geometric_height(P.GPH_MAX_M, lat) < 100600.0
 
