@@ -4,8 +4,8 @@ References used here (outside the project):
 - mpmath (arbitrary precision): log, numerical quadrature of the hypsometric
   integral (Rd/g0) integral Tv d(ln p) (Wallace & Hobbs 2006, eq. 3.29, from
   memory) for profiles linear in ln p and with a constant lapse rate.
-- U.S. Standard Atmosphere 1976, Table 4 layer-base pressures (from memory),
-  in tests/vectors/layers.txt.
+- U.S. Standard Atmosphere 1976, Table 4 layers, their base pressures from
+  eqs. 33a/33b evaluated with mpmath (tests/mpref.py), in tests/vectors/layers.txt.
 """
 import math
 import os
