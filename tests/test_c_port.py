@@ -440,7 +440,8 @@ def test_shared_vectors_float_report(build):
 
 def test_double_agrees_with_cpython(build):
     """Same inputs, same values: the double build matches CPython tinygeo to
-    1e-12 relative (in practice bit for bit, see the count printed)."""
+    4 ulps (a parity check, not an accuracy reference; measured bit for bit on
+    x86-64 glibc, see the count printed; was 1e-12 relative)."""
     cases = _cases(150, False)
     got = _run_cases(build["double"], build["dir"], "double_random", cases)
     worst = 0.0
@@ -457,7 +458,7 @@ def test_double_agrees_with_cpython(build):
             continue
         err = abs(value - ref) / max(abs(ref), 1e-300)
         worst = max(worst, err)
-        assert err <= 1e-12, "%s%r: C %r, Python %r (rel %.3g)" % (name, args, value, ref, err)
+        assert err <= 4 * 2.0 ** -52, "%s%r: C %r, Python %r (rel %.3g)" % (name, args, value, ref, err)
     print("double build: %d of %d results bit-identical to CPython (%d inputs raised in "
           "both), worst rel diff %.3g" % (identical, n_ok, len(cases) - n_ok, worst))
 
@@ -508,12 +509,13 @@ def test_float_within_budget(build):
     assert not over, over
 
 
-EMU_ULPS = 16
+EMU_ULPS = 4
 """Largest distance, in float32 ulps of the result, allowed between the C float
 build and the f32 emulation of the Python module on the same inputs. Both round
 every operation to binary32; they differ by the libm (glibc's expf/logf/sinf/
 expm1f vs correctly rounded) and by constant folding; the worst cases are
-results formed by cancellation (measured maxima are printed)."""
+results formed by cancellation (measured maxima are printed: 2 ulps at most,
+x86-64 glibc; was 16)."""
 
 
 def test_float_close_to_float32_emulation(build):
@@ -736,7 +738,7 @@ def test_column_double_matches_python_bit_for_bit(build):
 
 COL_FLOAT_BUDGET = {"gph_m": 0.005, "height_m": 0.012, "level_gph_m": 0.004, "level_height_m": 0.004,
                     "max_gph_m": 0.004, "burst_gph_m": 0.001, "rate_m_s": 0.004, "tv_k": 8e-05,
-                    "sigma_m": 5e-4, "gps_diff_m": 0.005}
+                    "sigma_m": 1e-4, "gps_diff_m": 0.005}   # sigma_m: measured 4.9e-5, was 5e-4
 """Float build vs Python float64 on the float32-rounded sounding (3100 readings
 to 31 km and back): largest differences allowed, in the attribute's unit
 (measured values printed by the test and listed in ports/c/README.md)."""
