@@ -1,4 +1,5 @@
-"""The C port (ports/c/) against the Python core.
+"""The C port (ports/c/) against the Python core (parity and float32 precision
+checks, not accuracy references: the shared vectors are the accuracy check).
 
 Builds ports/c/ with gcc (-std=c99 -Wall -Wextra -Werror -O2 -lm) twice:
 TG_FLOAT double (the default) and TG_FLOAT float (single precision, with
