@@ -94,7 +94,7 @@ def _tv_mp(p):
 
 def test_heights_match_mpmath_hydrostatic_reference():
     # 0-35 km at 5 m/s, one reading per second (7000 readings): the column's
-    # heights agree with the exact integral within 0.1 m (issue 3 target).
+    # heights agree with the exact integral (tolerance and goal at the assert).
     ps = ascent(5.0, 35000.0)
     col = Column(45.0)
     gph = []
