@@ -30,7 +30,6 @@ import signal
 import subprocess
 import sys
 import threading
-import time
 from functools import partial
 from http.server import SimpleHTTPRequestHandler, ThreadingHTTPServer
 
@@ -173,7 +172,7 @@ def test_mip_install_over_http_under_micropython(tmp_path, mpy):
 
 
 def test_mpremote_mip_install_resolves_relative_urls(tmp_path):
-    mip = pytest.importorskip("mpremote.mip")
+    import mpremote.mip as mip   # a dev dependency: missing is a failure, not a skip
     device = tmp_path / "device"
 
     class FolderAsDevice:
@@ -364,28 +363,67 @@ def test_torn_newest_checkpoint_falls_back_to_the_older_slot(tmp_path, full_runs
     assert second.strip().splitlines()[-1] == full_runs["micropython"].strip().splitlines()[-1]
 
 
+KILL_DRIVER = """
+import sys
+import logbook
+import main
+
+KILL_AT = %d
+_save = logbook.Checkpoints.save
+
+
+def save(self, index, column):
+    ok = _save(self, index, column)
+    if index == KILL_AT:
+        # the checkpoint file is closed: say so, then wait for the SIGKILL
+        # (stdin stays open and silent, so this blocks until the process dies)
+        print("checkpoint written at reading %%d" %% index)
+        sys.stdin.readline()
+        raise SystemExit("stdin closed before the kill")
+    return ok
+
+
+logbook.Checkpoints.save = save
+main.run(main.options(sys.argv[1:]))
+"""
+
+
 def test_example_resumes_after_sigkill(tmp_path, full_runs):
+    # The logger (main.py, unchanged, under MicroPython) is killed with SIGKILL
+    # at a known point: a driver wraps its Checkpoints.save so that after the
+    # checkpoint of reading 40 is on disk it prints a line and blocks on stdin.
+    # The test waits for that line (no sleeps, no timing), kills, and the second
+    # run must resume at exactly reading 40 and continue as the uninterrupted log.
     require_micropython()
-    env = dict(os.environ, MICROPYPATH=str(ROOT))
+    driver = tmp_path / "kill_driver.py"
+    driver.write_text(KILL_DRIVER % 40)
+    env = dict(os.environ, MICROPYPATH="%s:%s" % (ROOT, MP_PORT))
     ck = tmp_path / "tg.ckpt"
-    proc = subprocess.Popen([MICROPYTHON, str(MAIN), "--step", STEP, "--checkpoint", str(ck),
-                             "--checkpoint-every", "20", "--pace-ms", "2"],
-                            cwd=str(tmp_path), env=env, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+    proc = subprocess.Popen([MICROPYTHON, str(driver), "--step", STEP, "--checkpoint", str(ck),
+                             "--checkpoint-every", "20"],
+                            cwd=str(tmp_path), env=env, stdin=subprocess.PIPE, stdout=subprocess.PIPE,
+                            stderr=subprocess.STDOUT, text=True)
+    seen = []
     try:
-        deadline = time.time() + 30
-        while not (tmp_path / "tg.ckpt.1").exists() and time.time() < deadline:
-            time.sleep(0.01)
-        time.sleep(0.05)
-        assert proc.poll() is None, "the logger ended before it could be killed"
+        for line in proc.stdout:       # ends only if the logger ends without the line
+            seen.append(line)
+            if line.startswith("checkpoint written at reading"):
+                break
+        assert seen and seen[-1] == "checkpoint written at reading 40\n", "".join(seen[-20:])
+        assert proc.poll() is None      # blocked in readline: alive until the kill
         proc.send_signal(signal.SIGKILL)
     finally:
+        if proc.poll() is None:
+            proc.kill()
         proc.wait(timeout=30)
+        proc.stdin.close()
+        proc.stdout.close()
+    assert proc.returncode == -signal.SIGKILL
     second = run_main(MICROPYTHON, tmp_path, "--checkpoint-every", "20")
-    index = resumed_at(second, str(ck))
-    # the second checkpoint (reading 40) existed before the kill; if the kill
-    # caught a later write half done, the older slot is used: any multiple of 20
-    assert index >= 20 and index % 20 == 0
-    assert_same_output(_after(full_runs["micropython"], index), second.split("\n", 1)[1])
+    # checkpoints at 20 and 40 went to slots 0 and 1; the kill came after 40 was closed
+    assert resumed_at(second, str(ck)) == 40
+    assert second.startswith("resuming from %s " % (tmp_path / "tg.ckpt.1"))
+    assert_same_output(_after(full_runs["micropython"], 40), second.split("\n", 1)[1])
 
 
 def test_example_runs_on_mpy_files_only(tmp_path, full_runs):

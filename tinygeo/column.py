@@ -1061,7 +1061,8 @@ class Column:
         # the latest reading too; n holds the state on top of it).
         # Look-back: a reading that agrees with the reading before the latest
         # one and with the run's latest reading, right after a run reading that
-        # also agreed with the one before, retracts the latest. Else n joins
+        # also agreed with the one before, retracts the latest, unless it also
+        # agrees with the latest and fits it better (_fit). Else n joins
         # the run if it agrees with the run's latest reading and contradicts
         # the latest reading (or the latest is the unconfirmed first reading,
         # or the run has two readings already); a reading that contradicts the
@@ -1085,10 +1086,12 @@ class Column:
         k.gpsr = n.gpsr
         cr = self._cr
         in_run = self._run and self._compute(cr, k) == 0
-        if agree_b and self._run_b and in_run:
+        if agree_b and self._run_b and in_run and (not ok or self._fit(self._b, m) <
+                                                    self._fit(self._h, n)):
             # two readings in a row agree with each other and with the reading
-            # before the latest one, and contradict the latest (the first of
-            # them did): the latest was the bad one; go on from the one before
+            # before the latest one, the first contradicted the latest and the
+            # second contradicts it too or fits the one before better: the
+            # latest was the bad one; go on from the one before
             self._m = self._h
             self._h = m
             m.flags |= FL_REPLACED
@@ -1156,6 +1159,23 @@ class Column:
         self._has_b = 1
         self._accept(new, 0)
         return self._tell(bits)
+
+    def _fit(self, a, r):
+        # how well reading r (computed on top of record a) fits a: the largest
+        # share of its allowance that the temperature step and the height
+        # change use (<= 1 when r agrees with a); only on the recovery path
+        f = 0.0
+        dt = r.dt
+        if self._t_lim == self._t_lim:
+            allow = self._t_lim + self.max_t_gradient_k_gpm * abs(r.gph_m - a.gph_m)
+            if dt == dt:
+                allow += self.max_t_rate_k_s * dt
+            f = abs(r.t_k - a.t_k) / allow
+        if dt == dt and dt > 0 and a.h_tm == a.h_tm and self._max_rate == self._max_rate:
+            q = abs(r.height_m - a.h_tm) / (self._max_rate * dt + self._kn * r.tv_k / r.p_pa)
+            if q > f:
+                f = q
+        return f
 
     def _refuse(self):
         # raise ReadingError for the contradiction in self._why
