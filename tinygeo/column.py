@@ -547,7 +547,7 @@ class Column:
     _n_g: float; _n_h: float; _n_k1: float; _n_k2: float; _n_lo: float; _n_hi: float
     _var_anchor: float
     count: int; rejected: int; retracted: int; phase: int; _has_b: int; _e_n: int
-    _lvl: int; _burst_n: int; _tb_n: int; _tp_state: int
+    _lvl: int; _burst_n: int; _tb_n: int; _tp_state: int; _t0_int: int; _t0_hi: int; _t0_lo: int
 
     def __init__(self, lat_deg, start_height_m=0, anchor_p_pa=None, ellipsoid=WGS84,
                  ice=False, dry_fallback=False, sigma_p_pa=10, sigma_t_k=0.2,
@@ -1069,6 +1069,7 @@ class Column:
         # latest one and not the run starts a new run; takeover_readings of
         # them in a row are followed. A reading that agrees with the latest one
         # and is not taken by the run is accepted (the run was a glitch).
+        why_h = self._why       # how n contradicts the latest reading (when not ok)
         m = self._m
         # the reading, into the second scratch record
         m.p_pa = n.p_pa
@@ -1112,7 +1113,7 @@ class Column:
             # a new run: on top of the latest reading, or, when nothing is
             # confirmed yet (the first reading may be the bad one), afresh
             # from the start height
-            self._run_why = self._why
+            self._run_why = why_h
             if self._has_b:
                 new = n
             else:
@@ -1181,6 +1182,8 @@ class Column:
         # raise ReadingError for the contradiction in self._why
         w = self._why
         self._why = None
+        if w is None:     # not reached: every contradiction sets its reason
+            w = ("rate", 13, "?", "contradicts the latest reading")
         self._bad(w[0], w[1], *w[2:])
 
     def _inc_rejected(self):
@@ -1652,11 +1655,12 @@ class Column:
         int32 halves (a float32 board restores int stamps exactly)."""
         from .checkpoint import pack
         t0 = self._h.t0
-        t0i = isinstance(t0, int) and not isinstance(t0, bool) and -(1 << 62) < t0 < (1 << 62)
-        self._t0_int = 1 if t0i else 0
-        self._t0_hi = (t0 >> 32) if t0i else 0
-        self._t0_lo = (t0 & 0xFFFFFFFF) - (1 << 32) if t0i and t0 & 0x80000000 else \
-            ((t0 & 0xFFFFFFFF) if t0i else 0)
+        self._t0_int = self._t0_hi = self._t0_lo = 0
+        if isinstance(t0, int) and not isinstance(t0, bool) and -(1 << 62) < t0 < (1 << 62):
+            lo = t0 & 0xFFFFFFFF
+            self._t0_int = 1
+            self._t0_hi = t0 >> 32
+            self._t0_lo = lo - (1 << 32) if lo & 0x80000000 else lo
         f = []
         for n in _CFG_F:
             v = getattr(self, n)
