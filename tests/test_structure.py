@@ -157,3 +157,21 @@ def test_tests_and_bench_read_no_removed_private_module():
     # the checkpoint code moved from tinygeo/_column_rare.py to tinygeo/checkpoint.py
     for path in list((ROOT / "tests").rglob("*.py")) + list((ROOT / "bench").glob("*.py")):
         assert "_column_rare" not in path.read_text(), path
+
+
+def test_version_in_one_place_license_and_dir():
+    # the version is written once (tinygeo/__init__.py); pyproject reads it; the
+    # licence is MIT (LICENSE, pyproject, the freeze manifest agree)
+    text = (ROOT / "pyproject.toml").read_text()
+    assert 'dynamic = ["version"]' in text and 'version = {attr = "tinygeo.__version__"}' in text
+    assert '\nversion = "' not in text
+    assert 'license = {text = "MIT"}' in text
+    assert (ROOT / "LICENSE").read_text().startswith("MIT License")
+    assert 'license="MIT"' in (ROOT / "ports" / "micropython" / "manifest.py").read_text()
+    # dir(tinygeo) lists the public names without importing the modules
+    import subprocess
+    import sys
+    out = subprocess.run([sys.executable, "-c", "import sys, tinygeo; d = dir(tinygeo); "
+                          "print('Column' in d, 'normal_gravity' in d, 'tinygeo.column' in sys.modules)"],
+                         capture_output=True, text=True, cwd=str(ROOT), check=True).stdout.split()
+    assert out == ["True", "True", "False"]
