@@ -272,23 +272,31 @@ after a genuine step the new temperatures pass again). The first reading
 must lie within start_guard_m of start_height_m (reason 'pressure').
 
 The column keeps one reading of look-back. A reading that contradicts the
-latest one is rejected, and remembered: if the next reading also contradicts
-the latest one, and both agree with the reading before it, the latest
-reading was the bad one (a pressure glitch after a gap, a time stamp far
-ahead): it is retracted (``retracted``, ``rejected``) and the column goes on
-from the reading before it with the new reading (FL_REPLACED). Readings that
-contradict both but agree with each other form a run; after
-takeover_readings of them the column follows the run (FL_TAKEOVER): before
-anything is confirmed (a bad first reading) it restarts from the run's first
-reading, placed at start_height_m; later (a clock reset, a real change
-faster than the checks allow) it integrates on through them. So no single
-bad reading, the first included, and no single wrong time stamp locks the
-column: it costs at most takeover_readings + 1 readings, and the heights
-after it are those of a column that never saw it (to a few mm: the skipped
-reading's layer is integrated as one). Nothing is lost to a rejection but
-the reading itself; a rejected reading changes nothing of the results, only
-``rejected`` and the recovery memory (the remembered run, not saved in
-checkpoints). Because the latest reading may still be retracted, events are
+latest one is rejected, and remembered as the start of a run. Retraction:
+if the next reading agrees with that remembered one and with the reading
+before the latest one, and contradicts the latest too (or agrees with it
+only less well: the larger share of its speed and temperature allowances,
+_fit), the latest reading was the bad one (a pressure glitch after a gap, a
+time stamp far ahead): it is retracted (``retracted``, ``rejected``) and the
+column goes on from the reading before it with the new reading
+(FL_REPLACED). Takeover: readings that agree with each other and contradict
+the latest one form a run (a reading that agrees with both the latest one and
+the run joins the run only while the latest is the first reading, not yet
+confirmed, or once the run has two readings); after takeover_readings in a
+row the column follows the run (FL_TAKEOVER): before anything is confirmed
+(a bad first reading) it restarts from the run's first reading, placed at
+start_height_m; later (a clock reset, a real change faster than the checks
+allow) it integrates on through them. A reading that agrees with the latest
+one and is not taken by the run is accepted, and the run is forgotten. So no
+single bad reading, the first included, and no single wrong time stamp
+locks the column: it costs at most takeover_readings + 1 readings, and the
+heights after it are those of a column that never saw it (to a few mm: the
+skipped reading's layer is integrated as one; bench/montecarlo.py and
+tests/test_column_streams.py measure it at every position). A rejected
+reading changes nothing of the results, only ``rejected`` and the recovery
+memory (the remembered run, not saved in checkpoints); a reading of a run
+that is followed was rejected when it came and counts in both ``rejected``
+and ``count``. Because the latest reading may still be retracted, events are
 decided on confirmed readings: a reading is confirmed when the next reading
 is accepted on top of it, so events come one reading late.
 
