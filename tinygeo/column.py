@@ -425,7 +425,7 @@ T_MAX_K = 350.0
 GPS_MIN_M = -1000.0
 GPS_MAX_M = 100000.0
 
-WMO_LAPSE_K_PER_GPM = 0.002
+WMO_LAPSE_K_GPM = 0.002
 """2 K/km, the lapse rate of the WMO tropopause definition, in K/gpm."""
 WMO_DEPTH_GPM = 2000.0
 """2 km, the depth over which the WMO definition checks the mean lapse rate."""
@@ -1498,7 +1498,7 @@ class Column:
 
     def _tropopause(self, g, t, p, r):
         # one new point of the averaged profile; O(1) search (see EV_TROPOPAUSE)
-        th = t + WMO_LAPSE_K_PER_GPM * g
+        th = t + WMO_LAPSE_K_GPM * g
         below = self._tb_th          # theta of the point before (nan: none)
         self._tb_th = th
         st = self._tp_state
@@ -1675,8 +1675,8 @@ class Column:
                      "_fl_hi", "_land_lo", "_land_hi", "_e_g", "_tb_top", "_tb_g0", "_tb_g1",
                      "_tp_g", "_tp_top"):
             setattr(self, name, getattr(self, name) + d)
-        self._tb_th = self._tb_th + WMO_LAPSE_K_PER_GPM * d
-        self._tp_th = self._tp_th + WMO_LAPSE_K_PER_GPM * d
+        self._tb_th = self._tb_th + WMO_LAPSE_K_GPM * d
+        self._tp_th = self._tp_th + WMO_LAPSE_K_GPM * d
         # uncertainty restarts here: the reading is the new (noisy) start
         h.var_done = h.var_p = h.ct = h.tm2 = h.sum_rh = h.sum_p = h.sum_hum = 0.0
         h.p_start = h.p_pa
