@@ -64,7 +64,7 @@ typedef char tg__mandatory_16[TGPY_COLUMN_MANDATORY_PA_N == 16 ? 1 : -1];
 #define T_MAX_K TGPY_COLUMN_T_MAX_K
 #define GPS_MIN_M TGPY_COLUMN_GPS_MIN_M
 #define GPS_MAX_M TGPY_COLUMN_GPS_MAX_M
-#define WMO_LAPSE_K_PER_GPM TGPY_COLUMN_WMO_LAPSE_K_PER_GPM
+#define WMO_LAPSE_K_GPM TGPY_COLUMN_WMO_LAPSE_K_GPM
 #define WMO_DEPTH_GPM TGPY_COLUMN_WMO_DEPTH_GPM
 #define NOISE_K TG_L(TGPY_COLUMN_NOISE_K)
 #define COUNT_MAX TGPY_COLUMN_COUNT_MAX
@@ -279,13 +279,14 @@ static tg_status init_checked(tg_column *col, const tg_column_config *cfg, TG_FL
     n.spk2 = HALF_RG * HALF_RG * n.sigma_p_pa * n.sigma_p_pa;   /* (K/2 sigma_p)^2 */
     n.st2 = n.sigma_t_k * n.sigma_t_k;
     /* --- state: the records (Python: _Rec()), counters, recovery memory, events */
-    for (i = 0; i < 5; i++)
+    for (i = 0; i < 6; i++)
         nan_rec_init(&n.rec[i]);
     n.h = 0;
     n.b = 1;
     n.n = 2;
     n.m = 3;
-    n.cr = 4;
+    n.k = 4;
+    n.cr = 5;
     n.run = n.run_b = 0;
     n.why = n.run_why = TG_REASON_NONE;
     n.count = n.rejected = n.retracted = 0;
@@ -309,7 +310,7 @@ tg_status tg_column_init(tg_column *col, const tg_column_config *cfg)
 static TG_FLOAT nan_rec_init(tg_rec *r)
 {
     memset(r, 0, sizeof *r);
-    r->p_pa = r->t_k = r->rh_pct = r->tv_k = NAN_;
+    r->p_pa = r->t_k = r->rh_pct = r->tv_k = r->q = NAN_;
     r->tsr = r->tr = r->t0 = (tg_time)NAN;
     r->gps_given = 0;
     r->gpsr = NAN_;
@@ -322,7 +323,7 @@ static TG_FLOAT nan_rec_init(tg_rec *r)
     r->gps_m = r->gps_diff_m = NAN_;
     r->gps_here = 0;
     r->var_done = r->var_p = r->ct = r->tm2 = r->s2 = r->sum_rh = r->sum_p = TG_L(0.0);
-    r->slope = r->sum_hum = r->tvh = TG_L(0.0);
+    r->slope = r->sum_hum = r->tvh = r->half = r->lay = TG_L(0.0);
     r->p_start = NAN_;
     return NAN_;
 }
@@ -417,6 +418,11 @@ static int check(tg_column *col, tg_rec *n, TG_FLOAT p_pa, TG_FLOAT t_k, const T
     n->tsr = time_s;
     n->gps_given = gps_m != NULL;
     n->gpsr = gps;
+    /* (1 - eps) e_s/p per %RH at this reading (moisture.rh_q): with a
+     * humidity, or for the held humidity's cap and sigma; computed once per
+     * reading, whatever the look-back computes on top of it */
+    if (rh == rh || !col->dry_fallback || col->track_sigma)
+        n->q = tg__moisture_rh_q(t, p, col->ice);
     return 0;
 }
 
@@ -468,7 +474,7 @@ static int compute(tg_column *col, const tg_rec *a, tg_rec *n)
 {
     TG_FLOAT p = n->p_pa, t = n->t_k, rh = n->rh_pct;
     TG_FLOAT q, r, tv, slope, tvh, w, ws, x, e, p0, tv0, s, c, tm2, dz, half, g, y, d, h;
-    TG_FLOAT dt, dtk, allow, dh, noise, pco, ct, sr;
+    TG_FLOAT dt, dtk, allow, dh, noise;
     tg_time tsr;
     int why = 0;
     int32_t flags = 0;
@@ -477,7 +483,7 @@ static int compute(tg_column *col, const tg_rec *a, tg_rec *n)
     if (rh == rh) {
         /* tinygeo.virtual_temperature (its moisture.tv_rh, written out to
          * share q): Tv = T/(1 - r), r = (1 - eps) e/p = rh q, dTv/dRH = Tv q */
-        q = tg__moisture_rh_q(t, p, col->ice);
+        q = n->q;
         r = rh * q;
         if (r >= ONE_M_EPS)
             return bad(col, TG_REASON_HUMIDITY);
@@ -506,7 +512,7 @@ static int compute(tg_column *col, const tg_rec *a, tg_rec *n)
         ws = TG_L(0.0);
         if (held || col->track_sigma) {
             /* the saturation mixing ratio here: e_s/p = x = 100 q/(1 - eps) */
-            x = tg__moisture_rh_q(t, p, col->ice) * TG_L(100.0) / ONE_M_EPS;
+            x = n->q * TG_L(100.0) / ONE_M_EPS;
             ws = x >= TG_L(0.5) ? TG_L(1.0) : TG_EPSILON * x / (TG_L(1.0) - x);
         }
         if (!held) {
@@ -679,30 +685,45 @@ static int compute(tg_column *col, const tg_rec *a, tg_rec *n)
         n->gps_diff_m = h - n->gpsr;
     }
     n->flags = flags;
-    /* -- uncertainty (see "Uncertainty"): tm2 = Tv0 + Tv,
-     * half = (Rd/g0)/2 ln(p0/p) = dz/dTv of either end of the layer */
+    /* the layer's terms for the uncertainty step (sigma: only for a state
+     * that is kept, so the look-back's trial computations build none of it) */
     n->slope = slope;
     n->tvh = tvh;
+    n->half = half;
+    n->lay = tm2;
+    return why;
+}
+
+/* Column._sigma: streaming first-order propagation ("Uncertainty") for
+ * record n on top of record a (NULL: n is the first reading): lay = Tv0 + Tv
+ * of n's layer, half = (Rd/g0)/2 ln(p0/p) = dz/dTv of either end of it. Run
+ * when n is kept (accepted, retracting the latest reading, or joining a run). */
+static void sigma(const tg_column *col, const tg_rec *restrict a, tg_rec *restrict n)
+{
+    TG_FLOAT half, slope, sr, tm2, pco, ct;
     if (!col->track_sigma)
-        return why;
+        return;
+    half = n->half;
+    slope = n->slope;
     if (a == NULL) {
         n->var_done = n->var_p = n->sum_p = n->sum_rh = n->sum_hum = TG_L(0.0);
-        if (p0 != p0) {
+        if (col->anchor != col->anchor) {
             /* the first reading: no layer yet; its sensitivities are all 0 so far */
             n->ct = n->tm2 = TG_L(0.0);
-            n->p_start = p;
+            n->p_start = n->p_pa;
         } else {
             /* anchored start: the anchor is exact, the first reading is both ends */
             n->ct = half + half;
-            n->tm2 = tm2;
-            n->p_start = p0;
+            n->tm2 = n->lay;
+            n->p_start = col->anchor;
         }
         sr = slope * col->sigma_rh_pct;
         n->s2 = col->st2 + sr * sr;
-        return why;
+        return;
     }
     /* the final sensitivities of reading a: dz_n/dp = HALF_RG pco, dz_n/dTv = ct */
-    pco = (tm2 - a->tm2) / p0;
+    tm2 = n->lay;
+    pco = (tm2 - a->tm2) / a->p_pa;
     ct = a->ct + half;
     n->var_done = a->var_done + ct * ct * a->s2;
     n->var_p = a->var_p + pco * pco;   /* times (K/2 sigma_p)^2 where it is read */
@@ -718,7 +739,6 @@ static int compute(tg_column *col, const tg_rec *a, tg_rec *n)
     } else {
         n->s2 = a->s2;
     }
-    return why;
 }
 
 /* Column._rel: a time stamp as seconds since the first one (record r's t0);
@@ -916,7 +936,7 @@ static int levels(tg_column *col, TG_FLOAT p0, TG_FLOAT p, TG_FLOAT g0, TG_FLOAT
 /* Column._tropopause: one new point of the averaged profile; O(1) search */
 static int tropopause(tg_column *col, TG_FLOAT g, TG_FLOAT t, TG_FLOAT p, const tg_rec *r)
 {
-    TG_FLOAT th = t + WMO_LAPSE_K_PER_GPM * g;
+    TG_FLOAT th = t + WMO_LAPSE_K_GPM * g;
     TG_FLOAT below = col->tb_th;      /* theta of the point before (nan: none) */
     int32_t st;
     col->tb_th = th;
@@ -1086,7 +1106,44 @@ static int refuse(tg_column *col)
 {
     tg_reason w = col->why;
     col->why = TG_REASON_NONE;
+    if (w == TG_REASON_NONE)    /* not reached: every contradiction sets its reason */
+        w = TG_REASON_RATE;
     return bad(col, w);
+}
+
+/* Column._fit: how well reading r (computed on top of record a) fits a: the
+ * largest share of its allowance that the temperature step and the height
+ * change use (<= 1 when r agrees with a); only on the recovery path. (An
+ * allowance of 0, possible with max_t_step_k = sigma_t_k = 0 and the other
+ * temperature settings 0, divides by zero: Python raises ZeroDivisionError
+ * there, C gives NaN or inf: see README.md.) */
+static TG_FLOAT fit(const tg_column *col, const tg_rec *a, const tg_rec *r)
+{
+    TG_FLOAT f = TG_L(0.0), dt = r->dt, allow, q;
+    if (col->t_lim == col->t_lim) {
+        allow = col->t_lim + col->max_t_gradient_k_gpm * TG_FABS(r->gph_m - a->gph_m);
+        if (dt == dt)
+            allow += col->max_t_rate_k_s * dt;
+        f = TG_FABS(r->t_k - a->t_k) / allow;
+    }
+    if (dt == dt && dt > TG_L(0.0) && a->h_tm == a->h_tm && col->max_rate == col->max_rate) {
+        q = TG_FABS(r->height_m - a->h_tm) / (col->max_rate * dt + col->kn * r->tv_k / r->p_pa);
+        if (q > f)
+            f = q;
+    }
+    return f;
+}
+
+/* the reading of record n into scratch record x (Column._recover's copies) */
+static void copy_reading(tg_rec *x, const tg_rec *n)
+{
+    x->p_pa = n->p_pa;
+    x->t_k = n->t_k;
+    x->rh_pct = n->rh_pct;
+    x->tsr = n->tsr;
+    x->gps_given = n->gps_given;
+    x->gpsr = n->gpsr;
+    x->q = n->q;
 }
 
 /* Column._recover: n contradicts the latest reading (ok 0; col->why says
@@ -1094,27 +1151,39 @@ static int refuse(tg_column *col)
  * event bits, or -1 after bad() (the reading is rejected). */
 static int recover(tg_column *col, tg_rec *n, int ok)
 {
+    tg_reason why_h = col->why;   /* how n contradicts the latest reading (when not ok) */
     tg_rec *m = &col->rec[col->m];
+    tg_rec *k = &col->rec[col->k];
     tg_rec *cr, *nw;
     unsigned char cr_i, new_i, old_h, old_b;
-    int agree_b, k, bits;
+    int agree_b, in_run, w, bits;
     /* the reading, into the second scratch record */
-    m->p_pa = n->p_pa;
-    m->t_k = n->t_k;
-    m->rh_pct = n->rh_pct;
-    m->tsr = n->tsr;
-    m->gps_given = n->gps_given;
-    m->gpsr = n->gpsr;
+    copy_reading(m, n);
     agree_b = 0;
     if (col->has_b) {
-        k = compute(col, B(col), m);
-        if (k < 0)
+        w = compute(col, B(col), m);
+        if (w < 0)
             return -1;
-        agree_b = k == 0;
+        agree_b = w == 0;
     }
-    if (agree_b && col->run_b) {
-        /* the latest reading was the bad one: go on from the one before */
+    /* does n agree with the run's latest reading? (computed on top of it) */
+    copy_reading(k, n);
+    cr_i = col->cr;
+    cr = &col->rec[cr_i];
+    in_run = 0;
+    if (col->run) {
+        w = compute(col, cr, k);
+        if (w < 0)
+            return -1;
+        in_run = w == 0;
+    }
+    if (agree_b && col->run_b && in_run && (!ok || fit(col, B(col), m) < fit(col, H(col), n))) {
+        /* two readings in a row agree with each other and with the reading
+         * before the latest one, the first contradicted the latest and the
+         * second contradicts it too or fits the one before better: the
+         * latest was the bad one; go on from the one before */
         unsigned char mi = col->m;
+        sigma(col, B(col), m);
         col->m = col->h;
         col->h = mi;
         m->flags |= TG_FL_REPLACED;
@@ -1124,30 +1193,29 @@ static int recover(tg_column *col, tg_rec *n, int ok)
         accept(col, m, 0);
         return 0;
     }
-    cr_i = col->cr;
-    cr = &col->rec[cr_i];
-    k = 1;
-    if (col->run) {
-        k = compute(col, cr, m);
-        if (k < 0)
-            return -1;
-    }
-    if (col->run && k == 0) {
-        new_i = col->m;            /* the run goes on */
+    if (in_run && (!ok || !col->has_b || col->run >= 2)) {
+        /* the run goes on: n agrees with it, and contradicts the latest
+         * reading, or the latest is the first one (not confirmed yet), or
+         * the run already has two readings that agree with each other */
+        sigma(col, cr, k);
+        new_i = col->k;
         col->run += 1;
     } else if (ok) {
+        sigma(col, H(col), n);
         return advance(col);
     } else {
         /* a new run: on top of the latest reading, or, when nothing is
          * confirmed yet (the first reading may be the bad one), afresh
          * from the start height */
-        col->run_why = col->why;
+        col->run_why = why_h;
         if (col->has_b) {
+            sigma(col, H(col), n);
             new_i = col->n;
         } else {
-            if (compute(col, NULL, m) < 0)
+            if (compute(col, NULL, k) < 0)
                 return -1;
-            new_i = col->m;
+            sigma(col, NULL, k);
+            new_i = col->k;
         }
         col->run = 1;
         col->run_b = 0;
@@ -1158,8 +1226,8 @@ static int recover(tg_column *col, tg_rec *n, int ok)
         col->run_b = 0;
     /* new becomes the run's latest reading; its slot takes the old one */
     col->cr = new_i;
-    if (new_i == col->m)
-        col->m = cr_i;
+    if (new_i == col->k)
+        col->k = cr_i;
     else
         col->n = cr_i;
     if (col->run < col->takeover_readings) {
@@ -1177,7 +1245,7 @@ static int recover(tg_column *col, tg_rec *n, int ok)
     if (col->n == cr_i)
         col->n = old_b;
     else
-        col->m = old_b;
+        col->k = old_b;
     nw->flags |= TG_FL_TAKEOVER;
     if (col->has_b) {
         /* the run's readings join the column's (they were rejected when
@@ -1210,6 +1278,7 @@ tg_status tg_column_feed(tg_column *col, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_F
     if (col->count == 0) {                                      /* 2. the first reading: the start */
         if (compute(col, NULL, n) < 0)
             return TG_READING;
+        sigma(col, NULL, n);
         *bits = advance(col);
         return TG_OK;
     }
@@ -1218,6 +1287,7 @@ tg_status tg_column_feed(tg_column *col, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_F
         return TG_READING;
     ok = k == 0;
     if (ok && !col->run) {
+        sigma(col, H(col), n);
         *bits = advance(col);
         return TG_OK;
     }
@@ -1350,8 +1420,8 @@ tg_status tg_column_reanchor_gps(tg_column *col, TG_FLOAT sigma_gps_m, TG_FLOAT 
     col->tb_g1 = col->tb_g1 + d;
     col->tp_g = col->tp_g + d;
     col->tp_top = col->tp_top + d;
-    col->tb_th = col->tb_th + WMO_LAPSE_K_PER_GPM * d;
-    col->tp_th = col->tp_th + WMO_LAPSE_K_PER_GPM * d;
+    col->tb_th = col->tb_th + WMO_LAPSE_K_GPM * d;
+    col->tp_th = col->tp_th + WMO_LAPSE_K_GPM * d;
     /* uncertainty restarts here: the reading is the new (noisy) start */
     h->var_done = h->var_p = h->ct = h->tm2 = h->sum_rh = h->sum_p = h->sum_hum = TG_L(0.0);
     h->p_start = h->p_pa;

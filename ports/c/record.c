@@ -140,13 +140,29 @@ static void repr_double(double x, char *out)
     }
 }
 
-/* record.site_line: the "# site" line of the column's set-up */
+/* the flag settings (Python's True/False, written 1/0 by site_line) */
+static int is_flag(const char *name)
+{
+    return strcmp(name, "ice") == 0 || strcmp(name, "dry_fallback") == 0
+           || strcmp(name, "track_sigma") == 0;
+}
+
+/* record.site_line: the "# site" line of the column's set-up: key=value
+ * words of record.SITE_KEYS (nan for a setting that is None, 1/0 for a flag) */
 int tg_record_site_line(const tg_column *col, char *buf, size_t size)
 {
-    char lat[40], start[40], anchor[40];
-    repr_double((double)col->lat_deg, lat);
-    repr_double((double)col->start_height_m, start);
-    repr_double(plain(col->anchor_p_pa), anchor);
-    return snprintf(buf, size, "%slat_deg=%s start_height_m=%s anchor_p_pa=%s", TGPY_RECORD_SITE_PREFIX,
-                    lat, start, anchor);
+    char out[1024], v[40];
+    size_t len;
+    strcpy(out, TGPY_RECORD_SITE_PREFIX);
+    len = strlen(out) - 1;     /* SITE_PREFIX[:-1]: each word brings its space */
+    out[len] = '\0';
+#define WORD(name) \
+    if (is_flag(#name)) \
+        sprintf(v, "%d", (int)col->name != 0); \
+    else \
+        repr_double(plain((TG_FLOAT)col->name), v); \
+    len += (size_t)sprintf(out + len, " %s=%s", #name, v);
+    TGPY_RECORD_SITE_KEYS(WORD)
+#undef WORD
+    return snprintf(buf, size, "%s", out);
 }

@@ -189,7 +189,7 @@
 #define TGPY_COLUMN_T_MAX_K TG_L(350.0)
 #define TGPY_COLUMN_GPS_MIN_M TG_L((-1000.0))
 #define TGPY_COLUMN_GPS_MAX_M TG_L(100000.0)
-#define TGPY_COLUMN_WMO_LAPSE_K_PER_GPM TG_L(0.002)
+#define TGPY_COLUMN_WMO_LAPSE_K_GPM TG_L(0.002)
 #define TGPY_COLUMN_WMO_DEPTH_GPM TG_L(2000.0)
 #define TGPY_COLUMN_NOISE_K 4
 #define TGPY_COLUMN_COUNT_MAX 1073741823
@@ -357,8 +357,8 @@
     X(t0_int) \
     X(t0_hi) \
     X(t0_lo)
-#define TGPY_COLUMN__RESTORE_COL "count 0 1073741823;rejected 0 1073741823;retracted 0 1073741823;phase 0 4;_has_b 0 1;_e_n 0 *;_lvl 0 16;_burst_n 0 *;_tb_n 0 *;_tp_state 0 3;smooth_gph_m -20000 200000 n;max_gph_m -20000 200000 n;burst_p_pa 0.1 120000 n;level_p_pa 1000 100000 n;level_t_k 150 350 n;tropopause_p_pa 0 120000 n;tropopause_t_k 150 350 n;_var_anchor 0 *;_f_dt 0 * n;_f_a 0 1 n;_f_cx 0 * n;_f_cv 0 * n"
-#define TGPY_COLUMN__RESTORE_REC "p_pa 0.1 120000;t_k 150 350;rh_pct -3 103 n;tv_k 150 350;gph_m -20000 200000;c -1 1;height_m -20000 200000 n;dt 0 * n;h_t 150 350 n;h_p 0.1 120000 n;h_rh -3 103 n;w 0 1 n;gps_m -1000 100000 n;var_done 0 *;var_p 0 *;tm2 0 700;s2 0 *;p_start 0.1 120000 n;tvh 0 *;flags 0 1023;gps_here 0 1"
+#define TGPY_COLUMN__RESTORE_COL "count 0 1073741823;rejected 0 1073741823;retracted 0 1073741823;phase 0 4;_has_b 0 1;_e_n 0 *;_lvl 0 16;_burst_n 0 *;_tb_n 0 *;_tp_state 0 3;smooth_gph_m -250000 250000 n;max_gph_m -250000 250000 n;burst_p_pa 0.1 120000 n;level_p_pa 1000 100000 n;level_t_k 150 350 n;tropopause_p_pa 0 120000 n;tropopause_t_k 150 350 n;_var_anchor 0 *;_f_dt 0 * n;_f_a 0 1 n;_f_cx 0 * n;_f_cv 0 * n"
+#define TGPY_COLUMN__RESTORE_REC "p_pa 0.1 120000;t_k 150 350;rh_pct -3 103 n;tv_k 150 350;gph_m -250000 250000;c -1 1;height_m -250000 250000 n;dt 0 * n;h_t 150 350 n;h_p 0.1 120000 n;h_rh -3 103 n;w 0 1 n;gps_m -1000 100000 n;var_done 0 *;var_p 0 *;tm2 0 700;s2 0 *;p_start 0.1 120000 n;tvh 0 *;flags 0 1023;gps_here 0 1"
 #define TGPY_COLUMN__MAGIC "TGCK"
 #define TGPY_COLUMN__VERSION 4
 /* Column.__init__: 34 parameters; per setting its default (_DEF; None -> TG_NAN,
@@ -483,5 +483,20 @@
     X(8, "landed") \
     X(32, "float")
 #define TGPY_RECORD_EV_LEVEL 1
+#define TGPY_RECORD_SITE_KEYS_N 13
+#define TGPY_RECORD_SITE_KEYS(X) \
+    X(lat_deg) \
+    X(start_height_m) \
+    X(anchor_p_pa) \
+    X(sigma_p_pa) \
+    X(sigma_t_k) \
+    X(sigma_rh_pct) \
+    X(bias_p_pa) \
+    X(bias_t_k) \
+    X(bias_rh_pct) \
+    X(max_rate_m_s) \
+    X(time_unit_s) \
+    X(ice) \
+    X(dry_fallback)
 
 #endif /* TG_TABLES_H */

@@ -232,9 +232,11 @@ typedef struct tg_nodes {
 /* One reading and the integration state after it (Python: column._Rec, the
  * same field names; see its docstring). tsr, tr, t0 are time stamps as given
  * (NaN: None); gpsr and gps_given hold the GPS as given (gps_given 0: None;
- * gpsr NaN: no fix); nodes holds a new height node while has_nodes is 1. */
+ * gpsr NaN: no fix); q is moisture.rh_q at the reading; half and lay the
+ * layer's (Rd/g0)/2 ln(p0/p) and Tv0 + Tv for the uncertainty step; nodes
+ * holds a new height node while has_nodes is 1. */
 typedef struct tg_rec {
-    TG_FLOAT p_pa, t_k, rh_pct, tv_k, gph_m, c, height_m, rdh, rdt;
+    TG_FLOAT p_pa, t_k, rh_pct, tv_k, gph_m, c, height_m, rdh, rdt, q, half, lay;
     tg_time tsr, tr, t0;
     TG_FLOAT dt, g_t, h_tm, h_t, h_p, h_rh, w, gps_m, gps_diff_m;
     TG_FLOAT var_done, var_p, ct, tm2, s2, p_start, sum_rh, sum_p, slope, sum_hum, tvh;
@@ -283,9 +285,9 @@ typedef struct tg_column {
     tg_time max_clk, fl_clk, fl_end, land_end, tb_c0, tb_c1, tp_clk;
     TG_FLOAT n_g, n_h, n_k1, n_k2, n_lo, n_hi, var_anchor;
     /* the records: rec[h] the latest accepted reading, rec[b] the one before,
-     * rec[n] and rec[m] scratch, rec[cr] the recovery run's latest reading */
-    tg_rec rec[5];
-    unsigned char h, b, n, m, cr;
+     * rec[n], rec[m] and rec[k] scratch, rec[cr] the recovery run's latest reading */
+    tg_rec rec[6];
+    unsigned char h, b, n, m, k, cr;
     /* the recovery memory (not in checkpoints) */
     int32_t run, run_b;
     tg_reason why, run_why;           /* Python: _why, _run_why (C keeps the reason only) */
