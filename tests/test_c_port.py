@@ -482,7 +482,7 @@ def _gen_tables_module():
 
 def test_c_comments_cite_existing_python(tmp_path):
     """Every Python name a comment of ports/c cites (column.py, Column.feed,
-    potential.gph_series, _column_rare.to_bytes, tinygeo/errors.py, ...)
+    potential.gph_series, Column._recover, tinygeo/errors.py, ...)
     exists in the module it names (rules: gen_tables.check_citations); and the
     check finds a stale citation of each kind."""
     gen_tables = _gen_tables_module()
