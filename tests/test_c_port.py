@@ -21,7 +21,7 @@ double), and checks:
 * ports/c/tg_tables.h is not stale against the Python literals;
 * an AddressSanitizer/UndefinedBehaviorSanitizer build runs everything clean;
 * a 32-bit build (gcc -m32, 32-bit long) under UBSan restores checkpoints with
-  negative int32s and counters at INT32_MAX without an overflow.
+  negative int32s and counters at their limits without an overflow.
 
 When gcc (or its sanitizer runtime) is missing the tests skip, except under CI
 (env CI=true) where they fail: .ci/run installs gcc. Everything runs in a few seconds.
@@ -1115,7 +1115,8 @@ def _special_streams():
     """Streams built to take each recovery path: a bad first reading (restart
     from the run), a glitch after a gap (retraction, FL_REPLACED), a clock
     reset (a run that takes over), repeated stamps (FL_SAME_TIME), a held
-    mixing ratio above saturation (FL_CAPPED), a float (EV_FLOAT)."""
+    mixing ratio above saturation (FL_CAPPED), a float (EV_FLOAT), clocks
+    with jitter, every temperature allowance 0 (_fit)."""
     out = []
     base = {"start_height_m": 100.0, "sigma_p_pa": 2.0}
     # a bad first reading 2 km off: the next readings agree with each other
@@ -1142,7 +1143,68 @@ def _special_streams():
     out.append(cmds)
     # a float of 700 s at 2 km, then the descent
     out.append(_flight(dict(base, float_s=600.0), 400, top=700))
+    out += _jitter_streams()
+    # every temperature allowance 0 (max_t_step_k, sigma_t_k, max_t_rate_k_s,
+    # max_t_gradient_k_gpm): a glitch 50 m up starts a run (beyond 30 m/s from
+    # the latest reading, within it from the one before), the next reading
+    # agrees with all three and fits the one before better: _fit is asked with
+    # an allowance of 0 and no temperature step (a share of 0), then the
+    # latest is retracted (FL_REPLACED)
+    kw = {"start_height_m": 0.0, "sigma_p_pa": 0.0, "max_rate_m_s": 30.0, "max_t_step_k": 0.0,
+          "sigma_t_k": 0.0, "max_t_rate_k_s": 0.0, "max_t_gradient_k_gpm": 0.0}
+    zs = [0.0, 1.0, 51.0, 26.0] + [26.0 + 5.0 * i for i in range(1, 30)]
+    out.append([("init", (45.0, kw))] + [("feed", (standard.standard_pressure(z), 288.0, 50.0, float(i), None))
+                                         for i, z in enumerate(zs)])
     return out
+
+
+def _jitter_streams():
+    """Clocks with jitter: steps of 1 s (and of 1000 ms ticks from a 1.7e12
+    origin) off by up to 4 % (the track keeps its gains) and now and then
+    by 6 to 10 % (new gains), an ascent, a float and a descent."""
+    rng = random.Random(5)
+    out = []
+    for unit, origin in ((1.0, 0.0), (1000.0, 1.7e12)):
+        kw = {"start_height_m": 100.0, "sigma_p_pa": 2.0, "float_s": 60.0}
+        if unit != 1.0:
+            kw["time_unit_s"] = 0.001
+        cmds = [("init", (45.0, kw))]
+        ts, h = origin, 100.0
+        for i in range(500):
+            h += 5.0 if i < 250 else (0.0 if i < 330 else -8.0)
+            t, rh = _profile(max(h, 100.0))
+            cmds.append(("feed", (standard.standard_pressure(max(h, 100.0)), t, rh, ts, None)))
+            j = rng.uniform(-0.04, 0.04) if i % 17 else rng.choice([-1.0, 1.0]) * rng.uniform(0.06, 0.10)
+            ts += unit * (1.0 + j)
+            if unit != 1.0:
+                ts = float(round(ts))
+        out.append(cmds)
+    return out
+
+
+def test_column_track_jitter_keeps_gains(build):
+    """The jitter streams take both paths of Column._track: (in Python) a
+    step other than the one the gains were made for but within 5 % of it
+    keeps them, one beyond makes new ones; C agrees bit for bit on every
+    reading and blob (the streams are also in the random-streams test)."""
+    for cmds in _jitter_streams():
+        col, kept, made = None, 0, 0
+        for verb, args in cmds:
+            if verb == "init":
+                col = Column(args[0], **args[1])
+                continue
+            prev_h, f_dt = col._h, col._f_dt
+            col.feed(*args)
+            dt = prev_h.dt if prev_h.dt == prev_h.dt else None
+            if col.count > 2 and dt is not None and dt > 0:
+                if col._f_dt == f_dt and dt != f_dt:
+                    kept += 1
+                elif col._f_dt != f_dt:
+                    made += 1
+        assert kept >= 300 and made >= 20, (kept, made)
+        c = run_c_column(build["column_double"], cmds, ["-s"])
+        p = run_py_column(cmds, every_blob=True)
+        _compare(cmds, c, p)
 
 
 def test_column_random_streams_double_bit_identical(build):
@@ -1207,7 +1269,7 @@ def test_column_checkpoint_byte_identity_and_restore(build):
             assert c[2][j] == blob and c[2][j + 1] == blob, _blob_diff(c[2][j + 1], blob)
             assert p[0][k + 1][0] == "ok"
             n_pos += 1
-    assert len(bytes.fromhex(blob)) == CHECKPOINT_BYTES == 1295
+    assert len(bytes.fromhex(blob)) == CHECKPOINT_BYTES == 1311
     print("column checkpoints: %d restore positions in %d streams: bit-identical" % (n_pos, len(bases)))
 
 
@@ -1237,6 +1299,9 @@ def test_column_checkpoint_refusals(build):
         "count": _craft(raw, **{"st.count": COUNT_MAX + 1}),
         "rejected": _craft(raw, **{"st.rejected": -1}),
         "phase": _craft(raw, **{"st.phase": 5}),
+        "e_n": _craft(raw, **{"st._e_n": COUNT_MAX + 1}),
+        "burst_n": _craft(raw, **{"st._burst_n": 100001}),
+        "tb_n": _craft(raw, **{"st._tb_n": COUNT_MAX + 1}),
         "level": _craft(raw, **{"st._lvl": 17}),
         "tp_state": _craft(raw, **{"st._tp_state": 4}),
         "has_b": _craft(raw, **{"st._has_b": 2}),
@@ -1522,7 +1587,6 @@ def test_column_sanitizers(build):
     assert r.returncode == 0 and "runtime error" not in r.stderr, r.stdout + r.stderr
 
 
-INT32_MAX = 2 ** 31 - 1
 M32_FLAGS = ["-m32", "-msse2", "-mfpmath=sse", "-std=c99", "-Wall", "-Wextra", "-Werror", "-O1", "-g",
              "-fsanitize=undefined", "-fno-sanitize-recover=all"]
 """A 32-bit x86 build (int, long and pointers of 32 bits, as on Cortex-M, rp2
@@ -1532,8 +1596,9 @@ double arithmetic (the x87 unit would round to 80 bits in between)."""
 
 def _m32_streams():
     """Commands for the -m32 test: the sounding saved and restored early,
-    then a blob with count, rejected and retracted one below COUNT_MAX, the
-    burst and layer counters at INT32_MAX and a negative int32 first-stamp
+    then a blob with count, rejected, retracted, the event and layer counters
+    one below COUNT_MAX, the burst counter at its restore limit (100000) and
+    a negative int32 first-stamp
     half (a valid CRC): more readings, bad readings (the counters reach
     COUNT_MAX and stay there, in C and in Python), and a fall (the burst
     counter must not overflow)."""
@@ -1543,7 +1608,8 @@ def _m32_streams():
     cmds = head + [("load", (blob_a,))] + base[41:200] + [("save", ())]
     blob_b = bytes.fromhex(run_py_column(cmds)[2][-1])
     crafted = _craft(blob_b, **{"st.count": COUNT_MAX - 1, "st.rejected": COUNT_MAX - 1,
-                                "st.retracted": COUNT_MAX - 1, "st._tb_n": INT32_MAX,
+                                "st.retracted": COUNT_MAX - 1, "st._tb_n": COUNT_MAX - 1,
+                                "st._e_n": COUNT_MAX - 1, "st._burst_n": 100000,
                                 "st._t0_int": 1, "st._t0_hi": -1, "st._t0_lo": -5})
     cmds += [("load", (crafted.hex(),))] + base[200:206]
     cmds += [("feed", (NAN, 250.0, None, None, None)), ("feed", (50000.0, 25.0, None, None, None))]
@@ -1552,7 +1618,7 @@ def _m32_streams():
 
 def test_column_32bit_long_ubsan(build):
     """column.c built with -m32 (32-bit long) under UBSan: checkpoints with a
-    negative int32 and counters at COUNT_MAX and INT32_MAX restore and run
+    negative int32 and counters at their limits restore and run
     without any signed overflow or out-of-range conversion, bit-identical to
     CPython in double, and the float build prints what the 64-bit float build
     prints."""

@@ -31,9 +31,6 @@
  *   number and arguments of Column._why are not kept, only the reason;
  * - None is a NULL pointer (rh_pct, gps_m) or NaN (time_s, settings);
  * - the records are addressed by index (col->h, col->b, ...), not pointer;
- * - the burst and layer counters (_burst_n, _tb_n), which Python lets grow
- *   past int32 after a restored blob holding them near 2^31, stop at
- *   INT32_MAX (same events; no signed overflow);
  * - on_event receives a context pointer.
  */
 #include <stddef.h>
@@ -337,7 +334,8 @@ static void reset_events(tg_column *col)
     col->float_time_s = col->landing_time_s = col->level_p_pa = col->level_gph_m = NAN_;
     col->level_height_m = col->level_t_k = col->tropopause_p_pa = col->tropopause_gph_m = NAN_;
     col->tropopause_t_k = col->tropopause_time_s = NAN_;
-    col->e_p = col->e_g = col->e_t = col->f_dt = col->f_a = col->f_b = NAN_;
+    col->e_p = col->e_g = col->e_t = col->f_dt = col->f_lo = col->f_hi = NAN_;
+    col->f_a = col->f_b = NAN_;
     col->f_cx = col->f_cv = col->f_bv = col->max_p = col->min_g = col->launch_line = NAN_;
     col->fl_g = col->fl_lo = col->fl_hi = col->land_lo = col->land_hi = NAN_;
     col->tb_top = col->tb_g0 = col->tb_g1 = col->tb_th = NAN_;
@@ -754,13 +752,15 @@ static TG_FLOAT rel(const tg_column *col, tg_time stamp, const tg_rec *r)
 
 /* ------------------------------------------------------------ 5. events */
 /* Column._track: one step of the critically damped g-h filter (see
- * "Events"); the rate is kept per step (f_v, gpm per f_dt seconds) */
+ * "Events"); the rate is kept per step (f_v, gpm per f_dt seconds); a step
+ * within [f_lo, f_hi] = [0.95, 1.05] f_dt keeps the gains */
 static void track(tg_column *col, TG_FLOAT z, TG_FLOAT dt)
 {
     TG_FLOAT pred, res;
-    if (dt != col->f_dt) {
-        /* the gains and noise ratios for this step length (kept while dt
-         * repeats); the rate rescaled to it */
+    if (!(col->f_lo <= dt && dt <= col->f_hi)) {
+        /* the gains and noise ratios for this step length (kept while the
+         * step lies within 5 % of the one they were made for: a clock's
+         * jitter costs no exp and square roots); the rate rescaled to it */
         TG_FLOAT th, u, v, v3;
         if (col->f_dt == col->f_dt)
             col->f_v = col->f_v * dt / col->f_dt;
@@ -774,6 +774,8 @@ static void track(tg_column *col, TG_FLOAT z, TG_FLOAT dt)
         col->f_cv = NOISE_K * TG_SQRT(TG_L(2.0) * u * u * u / v3);   /* per step */
         col->f_bv = -col->burst_rate_gpm_s * dt;                      /* per step */
         col->f_dt = dt;
+        col->f_lo = dt * TG_L(0.95);
+        col->f_hi = dt * TG_L(1.05);
     }
     pred = col->smooth_gph_m + col->f_v;
     res = z - pred;
@@ -858,8 +860,7 @@ static int phase(tg_column *col, const tg_rec *r, int32_t ph, TG_FLOAT g, TG_FLO
             col->burst_n = 0;
         } else if (col->f_v < col->f_bv && sinking(col, r, hs)) {
             /* sinking beyond the noise, below the highest point */
-            if (col->burst_n < INT32_MAX)   /* Python's int grows on (see the file comment) */
-                col->burst_n += 1;
+            col->burst_n += 1;   /* <= 100001: a restored one is <= 100000 (_RESTORE_COL) */
             if (col->burst_n >= col->burst_readings) {
                 col->phase = TG_PH_DESCENT;
                 col->burst_gph_m = col->max_gph_m;
@@ -998,7 +999,7 @@ static int layer_point(tg_column *col, const tg_rec *r, TG_FLOAT g, TG_FLOAT t, 
         col->tb_g0 = g;
         col->tb_c0 = clk;
     }
-    if (col->tb_n < INT32_MAX)   /* Python's int grows on (see the file comment) */
+    if (col->tb_n < COUNT_MAX)
         col->tb_n += 1;
     col->tb_st += t;
     col->tb_g1 = g;
@@ -1113,18 +1114,21 @@ static int refuse(tg_column *col)
 
 /* Column._fit: how well reading r (computed on top of record a) fits a: the
  * largest share of its allowance that the temperature step and the height
- * change use (<= 1 when r agrees with a); only on the recovery path. (An
- * allowance of 0, possible with max_t_step_k = sigma_t_k = 0 and the other
- * temperature settings 0, divides by zero: Python raises ZeroDivisionError
- * there, C gives NaN or inf: see README.md.) */
+ * change use (<= 1 when r agrees with a); only on the recovery path. An
+ * allowance of 0 (max_t_step_k = sigma_t_k = 0 and the other temperature
+ * settings 0) divides nothing: a step taken is an infinite share, none 0. */
 static TG_FLOAT fit(const tg_column *col, const tg_rec *a, const tg_rec *r)
 {
-    TG_FLOAT f = TG_L(0.0), dt = r->dt, allow, q;
+    TG_FLOAT f = TG_L(0.0), dt = r->dt, allow, dtk, q;
     if (col->t_lim == col->t_lim) {
         allow = col->t_lim + col->max_t_gradient_k_gpm * TG_FABS(r->gph_m - a->gph_m);
         if (dt == dt)
             allow += col->max_t_rate_k_s * dt;
-        f = TG_FABS(r->t_k - a->t_k) / allow;
+        dtk = TG_FABS(r->t_k - a->t_k);
+        if (allow > TG_L(0.0))
+            f = dtk / allow;
+        else if (dtk > TG_L(0.0))
+            f = (TG_FLOAT)INFINITY;   /* no step allowed (every allowance set to 0) and one taken */
     }
     if (dt == dt && dt > TG_L(0.0) && a->h_tm == a->h_tm && col->max_rate == col->max_rate) {
         q = TG_FABS(r->height_m - a->h_tm) / (col->max_rate * dt + col->kn * r->tv_k / r->p_pa);

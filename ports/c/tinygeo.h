@@ -279,7 +279,7 @@ typedef struct tg_column {
     TG_FLOAT smooth_gph_m, f_v, max_gph_m, launch_time_s, burst_gph_m, burst_time_s, burst_p_pa;
     TG_FLOAT float_gph_m, float_time_s, landing_time_s, level_p_pa, level_gph_m, level_height_m;
     TG_FLOAT level_t_k, tropopause_p_pa, tropopause_gph_m, tropopause_t_k, tropopause_time_s;
-    TG_FLOAT e_p, e_g, e_t, f_dt, f_a, f_b, f_cx, f_cv, f_bv, max_p, min_g, launch_line;
+    TG_FLOAT e_p, e_g, e_t, f_dt, f_lo, f_hi, f_a, f_b, f_cx, f_cv, f_bv, max_p, min_g, launch_line;
     TG_FLOAT fl_g, fl_lo, fl_hi, land_lo, land_hi, tb_top, tb_g0, tb_g1, tb_st, tb_th;
     TG_FLOAT tp_g, tp_top, tp_th, tp_p, tp_t;
     tg_time max_clk, fl_clk, fl_end, land_end, tb_c0, tb_c1, tp_clk;
@@ -336,7 +336,7 @@ TG_FLOAT tg_column_sigma_m(const tg_column *col);
  * (Python: when it is an int; see README.md). Needs IEEE 754 binary64 doubles
  * for the packing (a float build converts each value to double, exactly).
  * on_event is not stored: pass it to tg_column_from_bytes. */
-#define TG_CHECKPOINT_BYTES 1295
+#define TG_CHECKPOINT_BYTES 1311
 /* col.to_bytes(): writes TG_CHECKPOINT_BYTES bytes (TG_RANGE if size is
  * smaller); like Python it sets col->t0_int, t0_hi, t0_lo on the way */
 tg_status tg_column_to_bytes(tg_column *col, unsigned char *buf, size_t size);
