@@ -166,18 +166,46 @@ TG_FLOAT tg__potential_height_series(TG_FLOAT z, const TG_FLOAT *c, TG_FLOAT a);
 
 typedef char tg__ln_terms_fit[(TG_LN_TERMS >= 2 && TG_LN_TERMS - 1 <= 12) ? 1 : -1];
 
+/* layers.ln_coefs: 2/(2k+1) (the factor 2 of the series folded in), highest
+ * k first; Python builds the list for k = N-1 .. 1 at import, C keeps
+ * k = 12 .. 1 and uses its last TG_LN_TERMS - 1 entries (LN_C). */
+static const TG_FLOAT tg__ln_c_all[12] = {
+    TG_L(2.0) / TG_L(25.0), TG_L(2.0) / TG_L(23.0), TG_L(2.0) / TG_L(21.0),
+    TG_L(2.0) / TG_L(19.0), TG_L(2.0) / TG_L(17.0), TG_L(2.0) / TG_L(15.0),
+    TG_L(2.0) / TG_L(13.0), TG_L(2.0) / TG_L(11.0), TG_L(2.0) / TG_L(9.0),
+    TG_L(2.0) / TG_L(7.0), TG_L(2.0) / TG_L(5.0), TG_L(2.0) / TG_L(3.0)
+};
+
+/* layers.lnr's Horner loop: acc = LN_C[i], then acc = acc * d2 + LN_C[j]
+ * for j = i+1 .. n-1 (n = len(LN_C)), the same operations in the same
+ * order. Written as a switch on the number of steps left that falls
+ * through, so that a constant i (each tier of lnr) compiles to straight-line
+ * code (bench/c_feed_cost.py: 14 instructions fewer per reading than the
+ * loop); LN_C[n - s] is tg__ln_c_all[12 - s]. */
+static inline TG_FLOAT tg__ln_horner(int i, TG_FLOAT d2)
+{
+    const TG_FLOAT *c = tg__ln_c_all;
+    TG_FLOAT acc = c[12 - (TG_LN_TERMS - 1) + i];
+    switch (TG_LN_TERMS - 2 - i) {
+    case 11: acc = acc * d2 + c[1];   /* fall through */
+    case 10: acc = acc * d2 + c[2];   /* fall through */
+    case 9: acc = acc * d2 + c[3];    /* fall through */
+    case 8: acc = acc * d2 + c[4];    /* fall through */
+    case 7: acc = acc * d2 + c[5];    /* fall through */
+    case 6: acc = acc * d2 + c[6];    /* fall through */
+    case 5: acc = acc * d2 + c[7];    /* fall through */
+    case 4: acc = acc * d2 + c[8];    /* fall through */
+    case 3: acc = acc * d2 + c[9];    /* fall through */
+    case 2: acc = acc * d2 + c[10];   /* fall through */
+    case 1: acc = acc * d2 + c[11];   /* fall through */
+    default: break;
+    }
+    return acc;
+}
+
 /* layers.lnr: ln(p1/p2) for p1, p2 > 0, no checks */
 static inline TG_FLOAT tg__layers_lnr(TG_FLOAT p1, TG_FLOAT p2)
 {
-    /* layers.ln_coefs: 2/(2k+1) (the factor 2 of the series folded in), highest
-     * k first; Python builds the list for k = N-1 .. 1 at import, C keeps
-     * k = 12 .. 1 and starts at k = N-1. */
-    static const TG_FLOAT LN_C_ALL[12] = {
-        TG_L(2.0) / TG_L(25.0), TG_L(2.0) / TG_L(23.0), TG_L(2.0) / TG_L(21.0),
-        TG_L(2.0) / TG_L(19.0), TG_L(2.0) / TG_L(17.0), TG_L(2.0) / TG_L(15.0),
-        TG_L(2.0) / TG_L(13.0), TG_L(2.0) / TG_L(11.0), TG_L(2.0) / TG_L(9.0),
-        TG_L(2.0) / TG_L(7.0), TG_L(2.0) / TG_L(5.0), TG_L(2.0) / TG_L(3.0)
-    };
     /* layers.ln_tiers: the series is cut by |d| tier (d^2 thresholds, number of
      * coefficients used below each); the literals of the function in layers.py
      * (tests/test_c_port.py compares them with it) */
@@ -190,26 +218,17 @@ static inline TG_FLOAT tg__layers_lnr(TG_FLOAT p1, TG_FLOAT p2)
     #endif
     TG_FLOAT d = (p1 - p2) / (p1 + p2);
     if (-TGPY_LAYERS_LN_SWITCH < d && d < TGPY_LAYERS_LN_SWITCH) {
-        /* LN_C[j] is LN_C_ALL[base + j], j = 0 .. n-1 */
-        const TG_FLOAT *ln_c = LN_C_ALL + (12 - (TG_LN_TERMS - 1));
-        const int n = TG_LN_TERMS - 1;
+        const int n = TG_LN_TERMS - 1;   /* len(LN_C) */
         TG_FLOAT d2 = d * d;
         TG_FLOAT acc;
-        int i;
         if (d2 < TIER_D2[0])
-            i = n - TIER_M[0];
+            acc = tg__ln_horner(n - TIER_M[0], d2);
         else if (d2 < TIER_D2[1])
-            i = n - TIER_M[1];
+            acc = tg__ln_horner(n - TIER_M[1], d2);
         else if (d2 < TIER_D2[2])
-            i = n - TIER_M[2];
+            acc = tg__ln_horner(n - TIER_M[2], d2);
         else
-            i = 0;
-        acc = ln_c[i];
-        i += 1;
-        while (i < n) {
-            acc = acc * d2 + ln_c[i];
-            i += 1;
-        }
+            acc = tg__ln_horner(0, d2);
         return d * (TG_L(2.0) + d2 * acc);
     }
     if (d > TG_L(0.0))
