@@ -52,7 +52,11 @@ typedef char tg__ev_match[(TGPY_COLUMN_EV_LEVEL == TG_EV_LEVEL && TGPY_COLUMN_EV
                            && TGPY_COLUMN_PH_LANDED == TG_PH_LANDED
                            && TGPY_COLUMN_COUNT_MAX == TG_COUNT_MAX) ? 1 : -1];
 
-static const TG_FLOAT MANDATORY_PA[16] = TGPY_COLUMN_MANDATORY_PA;
+/* column.MANDATORY_PA and, C only, a 17th entry 0 Pa below every pressure a
+ * reading can have (P_MIN_PA, and _RESTORE_REC for a restored one): with it
+ * confirm's per-reading test "_lvl < 16 and MANDATORY_PA[_lvl] >= p" is one
+ * comparison (_lvl is 0..16: only levels() moves it, and _RESTORE_COL) */
+static const TG_FLOAT MANDATORY_PA[17] = TGPY_COLUMN_MANDATORY_PA;   /* 16 given: the 17th is 0 */
 typedef char tg__mandatory_16[TGPY_COLUMN_MANDATORY_PA_N == 16 ? 1 : -1];
 
 #define P_MIN_PA TGPY_COLUMN_P_MIN_PA
@@ -260,7 +264,6 @@ static tg_status init_checked(tg_column *col, const tg_column_config *cfg, TG_FL
         n.anchor_p_pa = n.anchor;
     }
     n.max_rate = n.max_rate_m_s;       /* NaN for None, as Python's _max_rate */
-    n.c_dt = n.c_lim = n.c_neg = NAN_;
     /* time stamps -> s: skipped for 1 (Python: _unit None; C: NaN) */
     n.unit = n.time_unit_s == TG_L(1.0) ? NAN_ : n.time_unit_s;
     n.float_u = n.float_s / n.time_unit_s;
@@ -268,10 +271,9 @@ static tg_status init_checked(tg_column *col, const tg_column_config *cfg, TG_FL
     n.kz = TG_L(2.0) * HALF_RG * n.sigma_p_pa;
     n.kn = NOISE_K * SQRT2 * n.kz;
     if (n.max_t_step_k != n.max_t_step_k) {
-        n.t_lim = n.t_lim_neg = NAN_;
+        n.t_lim = NAN_;
     } else {
         n.t_lim = n.max_t_step_k + NOISE_K * SQRT2 * n.sigma_t_k;
-        n.t_lim_neg = -n.t_lim;
     }
     n.spk2 = HALF_RG * HALF_RG * n.sigma_p_pa * n.sigma_p_pa;   /* (K/2 sigma_p)^2 */
     n.st2 = n.sigma_t_k * n.sigma_t_k;
@@ -378,15 +380,15 @@ static int check(tg_column *col, tg_rec *n, TG_FLOAT p_pa, TG_FLOAT t_k, const T
      * ('number') from a value out of range only for a value outside it:
      * the same reason for every value, fewer tests per reading */
     p = p_pa;
-    if (!(P_MIN_PA <= p && p <= P_MAX_PA))
+    if (TG_UNLIKELY(!(P_MIN_PA <= p && p <= P_MAX_PA)))
         return bad(col, isfinite(p) ? TG_REASON_PRESSURE : TG_REASON_NUMBER);
     t = t_k;
-    if (!(T_MIN_K <= t && t <= T_MAX_K))
+    if (TG_UNLIKELY(!(T_MIN_K <= t && t <= T_MAX_K)))
         return bad(col, isfinite(t) ? TG_REASON_TEMPERATURE : TG_REASON_NUMBER);
     rh = NAN_;
     if (rh_pct != NULL) {
         rh = *rh_pct;
-        if (!(TG_L(0.0) <= rh && rh <= TG_L(100.0))) {
+        if (TG_UNLIKELY(!(TG_L(0.0) <= rh && rh <= TG_L(100.0)))) {
             TG_FLOAT tol = col->rh_tol_pct;
             if (!isfinite(rh))
                 return bad(col, TG_REASON_NUMBER);
@@ -394,7 +396,7 @@ static int check(tg_column *col, tg_rec *n, TG_FLOAT p_pa, TG_FLOAT t_k, const T
                 return bad(col, TG_REASON_HUMIDITY);
         }
     }
-    if (isinf(time_s))
+    if (TG_UNLIKELY(isinf(time_s)))
         return bad(col, TG_REASON_NUMBER);
     gps = NAN_;
     if (gps_m != NULL) {
@@ -472,8 +474,8 @@ static int compute(tg_column *col, const tg_rec *a, tg_rec *n)
 {
     TG_FLOAT p = n->p_pa, t = n->t_k, rh = n->rh_pct;
     TG_FLOAT q, r, tv, slope, tvh, w, ws, x, e, p0, tv0, s, c, tm2, dz, half, g, y, d, h;
-    TG_FLOAT dt, dtk, allow, dh, noise;
-    tg_time tsr;
+    TG_FLOAT dt, dtk, allow, dh, noise, lim;
+    tg_time tsr, tr;
     int why = 0;
     int32_t flags = 0;
     int held;
@@ -483,7 +485,7 @@ static int compute(tg_column *col, const tg_rec *a, tg_rec *n)
          * share q): Tv = T/(1 - r), r = (1 - eps) e/p = rh q, dTv/dRH = Tv q */
         q = n->q;
         r = rh * q;
-        if (r >= ONE_M_EPS)
+        if (TG_UNLIKELY(r >= ONE_M_EPS))
             return bad(col, TG_REASON_HUMIDITY);
         tv = t / (TG_L(1.0) - r);
         if (rh >= RH_SLOPE_MIN)
@@ -538,10 +540,10 @@ static int compute(tg_column *col, const tg_rec *a, tg_rec *n)
         tv = tg__moisture_tv_w(t, w);   /* tinygeo.virtual_temperature_from_mixing_ratio */
         tvh = col->track_sigma ? HUM_K * t * ws : TG_L(0.0);   /* Tv sigma of the unknown humidity, K */
     }
-    if (!(T_MIN_K <= tv && tv <= T_MAX_K))
+    if (TG_UNLIKELY(!(T_MIN_K <= tv && tv <= T_MAX_K)))
         return bad(col, TG_REASON_TEMPERATURE);
     /* -- the layer from a (Kahan-summed hypsometric thickness) */
-    if (a == NULL) {
+    if (TG_UNLIKELY(a == NULL)) {
         if (!guard(col, p))
             return bad(col, TG_REASON_PRESSURE);
         p0 = col->anchor;
@@ -555,12 +557,10 @@ static int compute(tg_column *col, const tg_rec *a, tg_rec *n)
         c = a->c;
     }
     tm2 = tv0 + tv;
-    if (p0 != p0 || p == p0) {   /* first reading without anchor, or a repeated pressure */
-        dz = half = TG_L(0.0);
-        g = s;
-        if (a != NULL)
-            flags |= TG_FL_SAME_P;
-    } else {
+    /* Python: if p0 != p0 or p == p0 (the same step, then the layer):
+     * C tests p0 < p or p0 > p for the layer first (false for both when p0
+     * is nan or equal), and the second of them is also "p > p0" (descent) */
+    if (TG_LIKELY(p0 > p || p0 < p)) {
         /* tinygeo.layer_thickness (arguments checked), as its two products */
         half = tg__layers_half_k_ln(p0, p);   /* (Rd/g0)/2 ln(p0/p): also dz/dTv of either end */
         dz = half * tm2;
@@ -570,13 +570,18 @@ static int compute(tg_column *col, const tg_rec *a, tg_rec *n)
         y = dz - c;
         g = s + y;
         c = (g - s) - y;
+    } else {   /* first reading without anchor, or a repeated pressure */
+        dz = half = TG_L(0.0);
+        g = s;
+        if (a != NULL)
+            flags |= TG_FL_SAME_P;
     }
     n->tv_k = tv;
     n->gph_m = g;
     n->c = c;
     /* -- geometric height from the node pair (a new node waits in n->nodes) */
     d = g - col->n_g;
-    if (col->n_lo <= g && g <= col->n_hi) {
+    if (TG_LIKELY(col->n_lo <= g && g <= col->n_hi)) {
         n->has_nodes = 0;
         h = col->n_h + d * (col->n_k1 + d * col->n_k2);
     } else {
@@ -591,34 +596,35 @@ static int compute(tg_column *col, const tg_rec *a, tg_rec *n)
         h = n->nodes.h + d * (n->nodes.k1 + d * n->nodes.k2);
     }
     n->height_m = h;
-    /* -- time, and the checks against a (see "Checks and recovery") */
+    /* -- time, and the checks against a (see "Checks and recovery").
+     * Python first copies a's tr, g_t, h_tm, rdh, rdt into n and then
+     * overwrites those the reading renews; C writes each field of n once,
+     * with the value Python leaves in it (deliberate: fewer stores) */
     tsr = n->tsr;
-    if (a == NULL) {
-        n->tr = (tg_time)NAN;
-        n->g_t = n->h_tm = n->rdh = n->rdt = NAN_;
+    if (TG_UNLIKELY(a == NULL)) {
+        tr = (tg_time)NAN;
         n->t0 = tsr;
     } else {
-        n->tr = a->tr;
-        n->g_t = a->g_t;
-        n->h_tm = a->h_tm;
-        n->rdh = a->rdh;
-        n->rdt = a->rdt;
+        tr = a->tr;
         n->t0 = a->t0 == a->t0 ? a->t0 : tsr;
     }
     dt = NAN_;
-    if (tsr != tsr) {
+    if (TG_UNLIKELY(tsr != tsr)) {
         flags |= TG_FL_NO_TIME;
+        n->tr = tr;
+        n->g_t = a == NULL ? NAN_ : a->g_t;
+        n->h_tm = a == NULL ? NAN_ : a->h_tm;
         n->rdh = n->rdt = NAN_;
     } else {
-        if (n->tr == n->tr) {
+        if (tr == tr) {
             /* the difference of two stamps: Python subtracts ints as ints, C
              * in double (exact for whole stamps below 2^53), and only then
              * makes it a TG_FLOAT (deliberate: the float build keeps 1 ms
              * of a 1.7e12 ms tick counter; README.md, "Time") */
-            dt = (TG_FLOAT)(tsr - n->tr);
+            dt = (TG_FLOAT)(tsr - tr);
             if (col->unit == col->unit)
                 dt = dt * col->unit;
-            if (dt < TG_L(0.0)) {
+            if (TG_UNLIKELY(dt < TG_L(0.0))) {
                 why = 3;
                 col->why = TG_REASON_TIME;
             }
@@ -626,12 +632,21 @@ static int compute(tg_column *col, const tg_rec *a, tg_rec *n)
         n->tr = tsr;
         n->g_t = g;
         n->h_tm = h;
+        /* rate_m_s = rdh/rdt: a's, unless this step renews it (below) */
+        if (TG_UNLIKELY(a == NULL)) {
+            n->rdh = n->rdt = NAN_;
+        } else if (TG_UNLIKELY(!(dt > TG_L(0.0) && a->h_tm == a->h_tm))) {
+            n->rdh = a->rdh;
+            n->rdt = a->rdt;
+        }
     }
     n->dt = dt;
-    if (a != NULL) {
-        /* temperature step (see max_t_step_k); the noise is in t_lim */
+    if (TG_LIKELY(a != NULL)) {
+        /* temperature step (see max_t_step_k); the noise is in t_lim. C
+         * tests |dtk| > t_lim, Python dtk > t_lim or dtk < -t_lim: the same
+         * for t_lim >= 0 (or nan, where both are false) */
         dtk = t - a->t_k;
-        if (why == 0 && (dtk > col->t_lim || dtk < col->t_lim_neg)) {
+        if (TG_UNLIKELY(why == 0 && TG_FABS(dtk) > col->t_lim)) {
             allow = col->t_lim + col->max_t_gradient_k_gpm * TG_FABS(dz);
             if (dt == dt)
                 allow += col->max_t_rate_k_s * dt;
@@ -646,16 +661,15 @@ static int compute(tg_column *col, const tg_rec *a, tg_rec *n)
                 /* rate_m_s = dh/dt, built where it is read */
                 n->rdh = dh;
                 n->rdt = dt;
-                if (dt != col->c_dt) {
-                    /* max_rate_m_s dt, kept while dt repeats */
-                    col->c_dt = dt;
-                    col->c_lim = col->max_rate * dt;
-                    col->c_neg = -col->c_lim;
-                }
-                if (why == 0 && (dh > col->c_lim || dh < col->c_neg)) {
+                /* max_rate_m_s dt: Python keeps it while dt repeats (_c_dt,
+                 * _c_lim, _c_neg); C multiplies, cheaper than the test (the
+                 * same value), and tests |dh| > lim for dh > lim or dh < -lim
+                 * (lim >= 0 or nan) */
+                lim = col->max_rate * dt;
+                if (TG_UNLIKELY(why == 0 && TG_FABS(dh) > lim)) {
                     /* beyond max_rate_m_s: still passes within the noise */
                     noise = col->kn * tv / p;
-                    if (TG_FABS(dh) > col->c_lim + noise) {
+                    if (TG_FABS(dh) > lim + noise) {
                         why = 12;
                         col->why = TG_REASON_RATE;
                     }
@@ -668,7 +682,7 @@ static int compute(tg_column *col, const tg_rec *a, tg_rec *n)
     }
     /* -- GPS */
     if (!n->gps_given || n->gpsr != n->gpsr) {
-        if (n->gps_given)
+        if (TG_UNLIKELY(n->gps_given))
             flags |= TG_FL_NO_GPS;
         n->gps_here = 0;
         if (a == NULL) {
@@ -757,7 +771,7 @@ static TG_FLOAT rel(const tg_column *col, tg_time stamp, const tg_rec *r)
 static void track(tg_column *col, TG_FLOAT z, TG_FLOAT dt)
 {
     TG_FLOAT pred, res;
-    if (!(col->f_lo <= dt && dt <= col->f_hi)) {
+    if (TG_UNLIKELY(!(col->f_lo <= dt && dt <= col->f_hi))) {
         /* the gains and noise ratios for this step length (kept while the
          * step lies within 5 % of the one they were made for: a clock's
          * jitter costs no exp and square roots); the rate rescaled to it */
@@ -1015,9 +1029,9 @@ static int confirm(tg_column *col, const tg_rec *r)
     TG_FLOAT g = r->gph_m, t = r->t_k, p = r->p_pa;
     tg_time clk = r->tsr;
     int bits = 0;
-    if (clk != clk)
+    if (TG_UNLIKELY(clk != clk))
         clk = (tg_time)col->e_n;
-    if (col->e_n == 0) {
+    if (TG_UNLIKELY(col->e_n == 0)) {
         int32_t lvl;
         col->smooth_gph_m = g;
         col->f_v = TG_L(0.0);
@@ -1036,13 +1050,13 @@ static int confirm(tg_column *col, const tg_rec *r)
     } else {
         int32_t ph;
         TG_FLOAT dt = r->dt;
-        if (dt != dt)
+        if (TG_UNLIKELY(dt != dt))
             dt = r->tsr != r->tsr ? TG_L(1.0) : TG_L(0.0);
         if (dt > TG_L(0.0))
             track(col, g, dt);
         ph = col->phase;
         if (ph <= TG_PH_FLOAT) {
-            if (col->lvl < 16 && MANDATORY_PA[col->lvl] >= p)
+            if (TG_UNLIKELY(MANDATORY_PA[col->lvl] >= p))   /* lvl 16: 0 Pa (see MANDATORY_PA) */
                 bits = levels(col, col->e_p, p, col->e_g, g, col->e_t, t);
             if (col->tp_state != 3)
                 bits |= layer_point(col, r, g, t, clk);
@@ -1061,7 +1075,7 @@ static int confirm(tg_column *col, const tg_rec *r)
 /* Column._tell */
 static int tell(tg_column *col, int bits)
 {
-    if (bits && col->on_event != NULL)
+    if (TG_UNLIKELY(bits && col->on_event != NULL))
         col->on_event(col, bits, col->on_event_ctx);
     return bits;
 }
@@ -1070,7 +1084,7 @@ static int tell(tg_column *col, int bits)
  * counter, the recovery memory cleared */
 static void accept(tg_column *col, tg_rec *n, int counted)
 {
-    if (n->has_nodes) {
+    if (TG_UNLIKELY(n->has_nodes)) {
         col->n_g = n->nodes.g;
         col->n_h = n->nodes.h;
         col->n_k1 = n->nodes.k1;
@@ -1085,19 +1099,21 @@ static void accept(tg_column *col, tg_rec *n, int counted)
 }
 
 /* Column._advance: n is accepted on top of the latest reading, which is now
- * final: its events, then the records move on, nothing copied */
-static int advance(tg_column *col)
+ * final: its events, then the records move on, nothing copied. C passes
+ * the two records, rec[h] and rec[n], which every caller holds already
+ * (Python: self._h, self._n) */
+static int advance(tg_column *col, tg_rec *h, tg_rec *n)
 {
-    unsigned char n = col->n;
+    unsigned char ni = col->n;
     int bits = 0;
     if (col->count) {
-        bits = confirm(col, H(col));
+        bits = confirm(col, h);
         col->has_b = 1;
     }
     col->n = col->b;
     col->b = col->h;
-    col->h = n;
-    accept(col, &col->rec[n], 1);
+    col->h = ni;
+    accept(col, n, 1);
     return tell(col, bits);
 }
 
@@ -1206,7 +1222,7 @@ static int recover(tg_column *col, tg_rec *n, int ok)
         col->run += 1;
     } else if (ok) {
         sigma(col, H(col), n);
-        return advance(col);
+        return advance(col, H(col), n);
     } else {
         /* a new run: on top of the latest reading, or, when nothing is
          * confirmed yet (the first reading may be the bad one), afresh
@@ -1274,25 +1290,26 @@ static int recover(tg_column *col, tg_rec *n, int ok)
 tg_status tg_column_feed(tg_column *col, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_FLOAT *rh_pct,
                          tg_time time_s, const TG_FLOAT *gps_m, int *bits)
 {
-    tg_rec *n = &col->rec[col->n];
+    tg_rec *n = &col->rec[col->n], *h;
     int k, ok;
     *bits = 0;
-    if (check(col, n, p_pa, t_k, rh_pct, time_s, gps_m) < 0)   /* 1. the values on their own */
+    if (TG_UNLIKELY(check(col, n, p_pa, t_k, rh_pct, time_s, gps_m) < 0))   /* 1. the values on their own */
         return TG_READING;
-    if (col->count == 0) {                                      /* 2. the first reading: the start */
+    h = H(col);
+    if (TG_UNLIKELY(col->count == 0)) {                         /* 2. the first reading: the start */
         if (compute(col, NULL, n) < 0)
             return TG_READING;
         sigma(col, NULL, n);
-        *bits = advance(col);
+        *bits = advance(col, h, n);
         return TG_OK;
     }
-    k = compute(col, H(col), n);                                /* 3. on top of the latest reading */
-    if (k < 0)
+    k = compute(col, h, n);                                     /* 3. on top of the latest reading */
+    if (TG_UNLIKELY(k < 0))
         return TG_READING;
     ok = k == 0;
-    if (ok && !col->run) {
-        sigma(col, H(col), n);
-        *bits = advance(col);
+    if (TG_LIKELY(ok && !col->run)) {
+        sigma(col, h, n);
+        *bits = advance(col, h, n);
         return TG_OK;
     }
     k = recover(col, n, ok);                                    /* 4. or: look-back, recovery */

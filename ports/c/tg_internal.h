@@ -50,6 +50,18 @@
 #define TG_FABS fabs
 #endif
 
+/* Branch hints for the compiler's block layout (GCC and clang; nothing
+ * elsewhere): the rare path of a test (a rejected reading, a first reading,
+ * an event) is laid out away from the common one, which then runs without
+ * taken jumps. They change no result. */
+#if defined(__GNUC__)
+#define TG_LIKELY(x) __builtin_expect(!!(x), 1)
+#define TG_UNLIKELY(x) __builtin_expect(!!(x), 0)
+#else
+#define TG_LIKELY(x) (x)
+#define TG_UNLIKELY(x) (x)
+#endif
+
 /* A literal: written as in the Python source (a double), rounded once to
  * TG_FLOAT at compile time. */
 #define TG_L(x) ((TG_FLOAT)(x))
@@ -217,7 +229,7 @@ static inline TG_FLOAT tg__layers_lnr(TG_FLOAT p1, TG_FLOAT p2)
     static const int TIER_M[3] = { 2, 4, 6 };                                      /* ln_tiers(False) */
     #endif
     TG_FLOAT d = (p1 - p2) / (p1 + p2);
-    if (-TGPY_LAYERS_LN_SWITCH < d && d < TGPY_LAYERS_LN_SWITCH) {
+    if (TG_LIKELY(-TGPY_LAYERS_LN_SWITCH < d && d < TGPY_LAYERS_LN_SWITCH)) {
         const int n = TG_LN_TERMS - 1;   /* len(LN_C) */
         TG_FLOAT d2 = d * d;
         TG_FLOAT acc;

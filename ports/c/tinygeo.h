@@ -267,9 +267,8 @@ typedef struct tg_column {
     void *on_event_ctx;
     /* derived settings */
     TG_FLOAT pc[12];                  /* the geopotential series at lat_deg (potential.series) */
-    TG_FLOAT a_m, g_start, anchor, max_rate, unit, float_u, land_u, kz, kn, t_lim, t_lim_neg;
+    TG_FLOAT a_m, g_start, anchor, max_rate, unit, float_u, land_u, kz, kn, t_lim;
     TG_FLOAT spk2, st2;
-    TG_FLOAT c_dt, c_lim, c_neg;      /* max_rate_m_s dt for the latest dt (a cache) */
     /* counters */
     int32_t count, rejected, retracted;
     tg_reason reason;                 /* of the latest rejection (C only; Python: ReadingError.reason) */
