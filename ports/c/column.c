@@ -264,8 +264,9 @@ static tg_status init_checked(tg_column *col, const tg_column_config *cfg, TG_FL
         n.anchor_p_pa = n.anchor;
     }
     n.max_rate = n.max_rate_m_s;       /* NaN for None, as Python's _max_rate */
-    /* time stamps -> s: skipped for 1 (Python: _unit None; C: NaN) */
-    n.unit = n.time_unit_s == TG_L(1.0) ? NAN_ : n.time_unit_s;
+    /* time stamps -> s: Python skips the factor 1 (_unit None); C always
+     * multiplies by unit, exact for 1 (deliberate: cheaper than the test) */
+    n.unit = n.time_unit_s;
     n.float_u = n.float_s / n.time_unit_s;
     n.land_u = n.landing_s / n.time_unit_s;
     n.kz = TG_L(2.0) * HALF_RG * n.sigma_p_pa;
@@ -474,7 +475,7 @@ static int compute(tg_column *col, const tg_rec *a, tg_rec *n)
 {
     TG_FLOAT p = n->p_pa, t = n->t_k, rh = n->rh_pct;
     TG_FLOAT q, r, tv, slope, tvh, w, ws, x, e, p0, tv0, s, c, tm2, dz, half, g, y, d, h;
-    TG_FLOAT dt, dtk, allow, dh, noise, lim;
+    TG_FLOAT dt, dtk, allow, dh, noise, lim, rdh, rdt;
     tg_time tsr, tr;
     int why = 0;
     int32_t flags = 0;
@@ -606,7 +607,9 @@ static int compute(tg_column *col, const tg_rec *a, tg_rec *n)
         n->t0 = tsr;
     } else {
         tr = a->tr;
-        n->t0 = a->t0 == a->t0 ? a->t0 : tsr;
+        n->t0 = a->t0;
+        if (TG_UNLIKELY(a->t0 != a->t0))
+            n->t0 = tsr;
     }
     dt = NAN_;
     if (TG_UNLIKELY(tsr != tsr)) {
@@ -614,7 +617,6 @@ static int compute(tg_column *col, const tg_rec *a, tg_rec *n)
         n->tr = tr;
         n->g_t = a == NULL ? NAN_ : a->g_t;
         n->h_tm = a == NULL ? NAN_ : a->h_tm;
-        n->rdh = n->rdt = NAN_;
     } else {
         if (tr == tr) {
             /* the difference of two stamps: Python subtracts ints as ints, C
@@ -622,8 +624,7 @@ static int compute(tg_column *col, const tg_rec *a, tg_rec *n)
              * makes it a TG_FLOAT (deliberate: the float build keeps 1 ms
              * of a 1.7e12 ms tick counter; README.md, "Time") */
             dt = (TG_FLOAT)(tsr - tr);
-            if (col->unit == col->unit)
-                dt = dt * col->unit;
+            dt = dt * col->unit;   /* Python: if _unit is not None (see init) */
             if (TG_UNLIKELY(dt < TG_L(0.0))) {
                 why = 3;
                 col->why = TG_REASON_TIME;
@@ -632,15 +633,11 @@ static int compute(tg_column *col, const tg_rec *a, tg_rec *n)
         n->tr = tsr;
         n->g_t = g;
         n->h_tm = h;
-        /* rate_m_s = rdh/rdt: a's, unless this step renews it (below) */
-        if (TG_UNLIKELY(a == NULL)) {
-            n->rdh = n->rdt = NAN_;
-        } else if (TG_UNLIKELY(!(dt > TG_L(0.0) && a->h_tm == a->h_tm))) {
-            n->rdh = a->rdh;
-            n->rdt = a->rdt;
-        }
     }
     n->dt = dt;
+    /* rate_m_s = rdh/rdt: nan without a time stamp, renewed by a step with
+     * one (below), else a's */
+    rdh = rdt = NAN_;
     if (TG_LIKELY(a != NULL)) {
         /* temperature step (see max_t_step_k); the noise is in t_lim. C
          * tests |dtk| > t_lim, Python dtk > t_lim or dtk < -t_lim: the same
@@ -655,12 +652,16 @@ static int compute(tg_column *col, const tg_rec *a, tg_rec *n)
                 col->why = TG_REASON_TEMPERATURE;
             }
         }
+        if (TG_LIKELY(tsr == tsr)) {
+            rdh = a->rdh;
+            rdt = a->rdt;
+        }
         if (dt == dt && a->h_tm == a->h_tm) {
             dh = h - a->h_tm;
-            if (dt > TG_L(0.0)) {
+            if (TG_LIKELY(dt > TG_L(0.0))) {
                 /* rate_m_s = dh/dt, built where it is read */
-                n->rdh = dh;
-                n->rdt = dt;
+                rdh = dh;
+                rdt = dt;
                 /* max_rate_m_s dt: Python keeps it while dt repeats (_c_dt,
                  * _c_lim, _c_neg); C multiplies, cheaper than the test (the
                  * same value), and tests |dh| > lim for dh > lim or dh < -lim
@@ -680,6 +681,8 @@ static int compute(tg_column *col, const tg_rec *a, tg_rec *n)
             }
         }
     }
+    n->rdh = rdh;
+    n->rdt = rdt;
     /* -- GPS */
     if (!n->gps_given || n->gpsr != n->gpsr) {
         if (TG_UNLIKELY(n->gps_given))
@@ -992,7 +995,7 @@ static int tropopause(tg_column *col, TG_FLOAT g, TG_FLOAT t, TG_FLOAT p, const 
 
 /* Column._layer_point: the tropopause search's profile, the confirmed ascent
  * readings averaged over layers of tropopause_layer_gpm */
-static int layer_point(tg_column *col, const tg_rec *r, TG_FLOAT g, TG_FLOAT t, tg_time clk)
+TG_INLINE int layer_point(tg_column *col, const tg_rec *r, TG_FLOAT g, TG_FLOAT t, tg_time clk)
 {
     int bits = 0;
     if (g >= col->tb_top && col->tb_n) {
@@ -1102,7 +1105,7 @@ static void accept(tg_column *col, tg_rec *n, int counted)
  * final: its events, then the records move on, nothing copied. C passes
  * the two records, rec[h] and rec[n], which every caller holds already
  * (Python: self._h, self._n) */
-static int advance(tg_column *col, tg_rec *h, tg_rec *n)
+TG_INLINE int advance(tg_column *col, tg_rec *h, tg_rec *n)
 {
     unsigned char ni = col->n;
     int bits = 0;

@@ -54,12 +54,17 @@
  * elsewhere): the rare path of a test (a rejected reading, a first reading,
  * an event) is laid out away from the common one, which then runs without
  * taken jumps. They change no result. */
+/* TG_INLINE: a small static function of the per-reading path that is
+ * worth inlining into its callers (GCC's own choice differs; measured with
+ * bench/c_feed_cost.py, see column.c where it is used). */
 #if defined(__GNUC__)
 #define TG_LIKELY(x) __builtin_expect(!!(x), 1)
 #define TG_UNLIKELY(x) __builtin_expect(!!(x), 0)
+#define TG_INLINE static inline __attribute__((always_inline))
 #else
 #define TG_LIKELY(x) (x)
 #define TG_UNLIKELY(x) (x)
+#define TG_INLINE static inline
 #endif
 
 /* A literal: written as in the Python source (a double), rounded once to
