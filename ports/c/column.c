@@ -30,7 +30,8 @@
  *   col->reason (Python raises ReadingError with a message); the message
  *   number and arguments of Column._why are not kept, only the reason;
  * - None is a NULL pointer (rh_pct, gps_m) or NaN (time_s, settings);
- * - the records are addressed by index (col->h, col->b, ...), not pointer;
+ * - the records are addressed by their byte offset in col->rec (col->h,
+ *   col->b, ...; REC()), not by pointer, so that a column may be copied;
  * - on_event receives a context pointer.
  */
 #include <stddef.h>
@@ -83,8 +84,15 @@ typedef char tg__mandatory_16[TGPY_COLUMN_MANDATORY_PA_N == 16 ? 1 : -1];
 #define NAN_ TG_NAN
 typedef char tg__pc_size[(sizeof(((tg_column *)0)->pc) == TG_PC_N * sizeof(TG_FLOAT)) ? 1 : -1];
 
-#define H(col) (&(col)->rec[(col)->h])
-#define B(col) (&(col)->rec[(col)->b])
+/* the record at byte offset off of col->rec (col->h, col->b, ...: C keeps
+ * offsets, not indices, which the compiler would multiply by
+ * sizeof(tg_rec) at every use; bench/c_feed_cost.py: 13 instructions per
+ * reading) */
+#define REC(col, off) ((tg_rec *)(void *)((unsigned char *)(col)->rec + (off)))
+#define REC_OFF(i) ((tg_recoff)((i) * sizeof(tg_rec)))
+#define H(col) REC(col, (col)->h)
+#define B(col) REC(col, (col)->b)
+typedef char tg__recoff_fits[(6 * sizeof(tg_rec) <= 65535u) ? 1 : -1];
 
 const char *tg_reason_name(tg_reason reason)
 {
@@ -281,12 +289,12 @@ static tg_status init_checked(tg_column *col, const tg_column_config *cfg, TG_FL
     /* --- state: the records (Python: _Rec()), counters, recovery memory, events */
     for (i = 0; i < 6; i++)
         nan_rec_init(&n.rec[i]);
-    n.h = 0;
-    n.b = 1;
-    n.n = 2;
-    n.m = 3;
-    n.k = 4;
-    n.cr = 5;
+    n.h = REC_OFF(0);
+    n.b = REC_OFF(1);
+    n.n = REC_OFF(2);
+    n.m = REC_OFF(3);
+    n.k = REC_OFF(4);
+    n.cr = REC_OFF(5);
     n.run = n.run_b = 0;
     n.why = n.run_why = TG_REASON_NONE;
     n.count = n.rejected = n.retracted = 0;
@@ -1103,11 +1111,11 @@ static void accept(tg_column *col, tg_rec *n, int counted)
 
 /* Column._advance: n is accepted on top of the latest reading, which is now
  * final: its events, then the records move on, nothing copied. C passes
- * the two records, rec[h] and rec[n], which every caller holds already
+ * the two records, REC(col, h) and REC(col, n), which every caller holds already
  * (Python: self._h, self._n) */
 TG_INLINE int advance(tg_column *col, tg_rec *h, tg_rec *n)
 {
-    unsigned char ni = col->n;
+    tg_recoff ni = col->n;
     int bits = 0;
     if (col->count) {
         bits = confirm(col, h);
@@ -1175,10 +1183,10 @@ static void copy_reading(tg_rec *x, const tg_rec *n)
 static int recover(tg_column *col, tg_rec *n, int ok)
 {
     tg_reason why_h = col->why;   /* how n contradicts the latest reading (when not ok) */
-    tg_rec *m = &col->rec[col->m];
-    tg_rec *k = &col->rec[col->k];
+    tg_rec *m = REC(col, col->m);
+    tg_rec *k = REC(col, col->k);
     tg_rec *cr, *nw;
-    unsigned char cr_i, new_i, old_h, old_b;
+    tg_recoff cr_i, new_i, old_h, old_b;
     int agree_b, in_run, w, bits;
     /* the reading, into the second scratch record */
     copy_reading(m, n);
@@ -1192,7 +1200,7 @@ static int recover(tg_column *col, tg_rec *n, int ok)
     /* does n agree with the run's latest reading? (computed on top of it) */
     copy_reading(k, n);
     cr_i = col->cr;
-    cr = &col->rec[cr_i];
+    cr = REC(col, cr_i);
     in_run = 0;
     if (col->run) {
         w = compute(col, cr, k);
@@ -1205,7 +1213,7 @@ static int recover(tg_column *col, tg_rec *n, int ok)
          * before the latest one, the first contradicted the latest and the
          * second contradicts it too or fits the one before better: the
          * latest was the bad one; go on from the one before */
-        unsigned char mi = col->m;
+        tg_recoff mi = col->m;
         sigma(col, B(col), m);
         col->m = col->h;
         col->h = mi;
@@ -1259,7 +1267,7 @@ static int recover(tg_column *col, tg_rec *n, int ok)
     }
     /* takeover: the run's latest reading becomes the latest, the one before
      * it (cr) the one before; the old pair becomes scratch */
-    nw = &col->rec[new_i];
+    nw = REC(col, new_i);
     old_h = col->h;
     old_b = col->b;
     col->h = new_i;
@@ -1293,7 +1301,7 @@ static int recover(tg_column *col, tg_rec *n, int ok)
 tg_status tg_column_feed(tg_column *col, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_FLOAT *rh_pct,
                          tg_time time_s, const TG_FLOAT *gps_m, int *bits)
 {
-    tg_rec *n = &col->rec[col->n], *h;
+    tg_rec *n = REC(col, col->n), *h;
     int k, ok;
     *bits = 0;
     if (TG_UNLIKELY(check(col, n, p_pa, t_k, rh_pct, time_s, gps_m) < 0))   /* 1. the values on their own */
@@ -1805,7 +1813,7 @@ tg_status tg_column_from_bytes(tg_column *col, const unsigned char *blob, size_t
 #undef GET_ST
     k++;   /* t0 */
     for (r = 0; r < 2; r++) {
-        tg_rec *rc = r == 0 ? &c.rec[c.h] : &c.rec[c.b];
+        tg_rec *rc = r == 0 ? REC(&c, c.h) : REC(&c, c.b);
         i = 0;
 #define GET_R(name) \
         v = f[k]; \

@@ -253,6 +253,8 @@ typedef struct tg_rec {
  * records are addressed by index): a tg_column can be a static or a stack
  * variable and may be copied. The integers are int32_t, the checkpoint's
  * int32s ('<i'), whatever the width of int and long. */
+typedef uint16_t tg_recoff;   /* a byte offset into tg_column.rec */
+
 typedef struct tg_column {
     /* settings (Column.__init__) */
     TG_FLOAT lat_deg, start_height_m, anchor_p_pa;
@@ -283,10 +285,12 @@ typedef struct tg_column {
     TG_FLOAT tp_g, tp_top, tp_th, tp_p, tp_t;
     tg_time max_clk, fl_clk, fl_end, land_end, tb_c0, tb_c1, tp_clk;
     TG_FLOAT n_g, n_h, n_k1, n_k2, n_lo, n_hi, var_anchor;
-    /* the records: rec[h] the latest accepted reading, rec[b] the one before,
-     * rec[n], rec[m] and rec[k] scratch, rec[cr] the recovery run's latest reading */
+    /* the records: at byte offset h of rec the latest accepted reading, at
+     * b the one before, at n, m and k scratch, at cr the recovery run's latest
+     * reading (offsets, i * sizeof(tg_rec), not pointers: the column may be
+     * copied) */
     tg_rec rec[6];
-    unsigned char h, b, n, m, k, cr;
+    tg_recoff h, b, n, m, k, cr;
     /* the recovery memory (not in checkpoints) */
     int32_t run, run_b;
     tg_reason why, run_why;           /* Python: _why, _run_why (C keeps the reason only) */
