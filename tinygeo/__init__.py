@@ -32,7 +32,7 @@ _WHERE = (
     "gravity: normal_gravity somigliana_gravity "
     "potential: geopotential geopotential_height geometric_height msl_height "
     "moisture: saturation_vapour_pressure enhancement_factor vapour_pressure "
-    "vapour_pressure_from_dew_point dew_point mixing_ratio specific_humidity "
+    "vapour_pressure_from_dew_point dew_point dew_point_from_rh mixing_ratio specific_humidity "
     "virtual_temperature virtual_temperature_from_mixing_ratio "
     "layers: ln_ratio layer_thickness layer_thickness_lapse pressure_across_layer layer_mean_tv "
     "standard: standard_temperature standard_pressure pressure_altitude "
