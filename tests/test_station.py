@@ -816,3 +816,156 @@ def test_station_vectors_wasm32():
     assert out.strip().endswith("failed 0"), out
     n = sum(runsta.run_file(str(p))[0] for p in STATION_FILES)
     assert ("checks %d " % n) in out
+
+
+# ============================================================== the bundled buoy day
+EXAMPLES = ROOT / "examples"
+BUOY = ROOT / "ports" / "micropython" / "buoy.py"
+BUOY_LOG = EXAMPLES / "buoy_day.csv"
+
+
+def _load_path(path, name):
+    import importlib.util
+    spec = importlib.util.spec_from_file_location(name, str(path))
+    mod = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(mod)
+    return mod
+
+
+make_buoy_day = _load_path(EXAMPLES / "make_buoy_day.py", "tinygeo_make_buoy_day")
+
+
+def test_bundled_buoy_day_is_current():
+    assert make_buoy_day.main(["--check"]) == 0, "run: python examples/make_buoy_day.py"
+
+
+def _log_rows():
+    for line in BUOY_LOG.read_text().splitlines():
+        if line.startswith("#") or line.startswith("time"):
+            continue
+        ts, p, t, rh = line.split(",")
+        yield int(ts), float(p) * 100.0, float(t) + 273.15, float(rh)
+
+
+def test_station_on_the_bundled_day_against_its_truth():
+    # the scenario's own sea-level pressure (make_buoy_day.mslp_pa, no tinygeo)
+    # at the middle of each burst: the station's sea-level pressure of every
+    # average with a pressure lies within what a 60 s burst leaves: the heave
+    # residual (Dirichlet bound of the scenario's six sinusoids at that sea
+    # state, rho g0 <= 12.3 Pa/m), 3 sigma of the gust noise over 60 readings,
+    # and 0.5 Pa of 0.01 hPa quantisation (measured: at most 0.60 of that sum;
+    # largest error 2.4 Pa at 13:30 in 4.5 m waves)
+    s = Station(3.5, 54.2)
+    worst = 0.0
+    norm = math.sqrt(sum(a * a for _, a, _ in make_buoy_day.WAVES) / 2.0)
+    reports = {}
+    for ts, p, t, rh in _log_rows():
+        try:
+            bits = s.feed(p, t, rh, ts)
+        except ReadingError as e:
+            reports.setdefault("rejected", []).append((ts, e.reason))
+            continue
+        if bits & S.EV_AVERAGE:
+            reports[s.time_s] = (s.tendency_code, s.flags)
+            if s.p_pa == s.p_pa:
+                tm = s.time_s - 600 + 509.5
+                hs = make_buoy_day.hs_m(tm)
+                bound = G.heave_residual_bound(
+                    [12.3 * hs / 4 * a / norm for _, a, _ in make_buoy_day.WAVES],
+                    [per for per, _, _ in make_buoy_day.WAVES], 60)
+                bound = float(bound) + 3 * (1.0 + 1.2 * hs) / math.sqrt(60) + 0.5
+                worst = max(worst, abs(s.mslp_pa - make_buoy_day.mslp_pa(tm)) / bound)
+    assert worst < 0.75, worst
+    # the faults of the scenario, as constructed in make_buoy_day.py
+    assert reports["rejected"] == [(19100, "pressure"), (45485, "pressure"), (61724, "temperature"),
+                                   (78510, "pressure"), (80890, "humidity")]
+    for end in range(9 * 3600 + 600, 10 * 3600 + 600, 600):     # the stuck hour
+        assert reports[end][1] & S.FL_STUCK_P
+    assert reports[19 * 3600 + 3000][1] & S.FL_GAP and s.missing == 1
+    assert (s.count, s.rejected, s.averages) == (8575, 5, 142)
+    # characteristics from the truth's shape: the scenario's pressure falls
+    # until its minimum (found here from make_buoy_day.mslp_pa) and rises after
+    t_min = min(range(12 * 3600, 17 * 3600, 10), key=make_buoy_day.mslp_pa)
+    assert 14 * 3600 < t_min < 15 * 3600
+    assert reports[6 * 3600][0] == 7     # [WMO306] decreasing steadily (3:00-6:00)
+    assert reports[16 * 3600][0] == 5    # decreasing, then increasing; lower (13:00-16:00)
+    assert reports[17 * 3600][0] == 3    # decreasing, then increasing; higher (14:00-17:00)
+    assert reports[20 * 3600][0] == 2    # increasing (17:00-20:00)
+
+
+def _buoy(exe, workdir, *args):
+    return run_script(exe, [BUOY, "--log", BUOY_LOG, "--checkpoint", workdir / "b.ckpt"]
+                      + list(args), cwd=workdir)
+
+
+@pytest.fixture(scope="module")
+def buoy_runs(tmp_path_factory):
+    require_micropython()
+    out = {}
+    for name, exe in (("cpython", sys.executable), ("micropython", MICROPYTHON)):
+        out[name] = _buoy(exe, tmp_path_factory.mktemp("buoy-" + name))
+    return out
+
+
+def test_buoy_logger_same_under_micropython_and_cpython(buoy_runs):
+    from test_ports import assert_same_output
+    cp, mpy = buoy_runs["cpython"], buoy_runs["micropython"]
+    assert_same_output(cp, mpy)
+    lines = mpy.strip().splitlines()
+    assert lines[0] == "start new log at reading 0"
+    assert lines[-1] == "summary accepted 8575 rejected 5 averages 142 missing 1"
+    assert sum(1 for x in lines if x.startswith("report ")) == 23        # 01:00 .. 23:00
+    assert "report 16:00" in mpy and " a 5 " in [x for x in lines if "report 16:00" in x][0]
+    for word in ("rejected pressure", "rejected temperature", "rejected humidity", "qc 09:10"):
+        assert word in mpy, word
+
+
+@pytest.mark.parametrize("first,second", [("micropython", "micropython"), ("cpython", "cpython"),
+                                          ("micropython", "cpython")])
+def test_buoy_logger_resumes_from_its_checkpoint(tmp_path, buoy_runs, first, second):
+    exe = {"micropython": MICROPYTHON, "cpython": sys.executable}
+    a = _buoy(exe[first], tmp_path, "--stop-after", "4000")
+    assert "stopped after 4000 readings" in a and "summary" not in a
+    b = _buoy(exe[second], tmp_path)
+    head = b.split("\n", 1)[0]
+    ck = str(tmp_path / "b.ckpt")
+    assert head.startswith("resuming from %s." % ck) and " at reading 3961, " in head, head
+    rest = b.strip().splitlines()[1:]
+    full = buoy_runs[second].strip().splitlines()
+    assert rest == full[len(full) - len(rest):]      # the same lines as the uninterrupted run
+
+
+def test_buoy_slots_torn_or_altered_fall_back(tmp_path):
+    buoy = _load_path(BUOY, "tinygeo_buoy_example")
+    st = Station(3.5, 54.2)
+    rows = list(_log_rows())
+    slots = buoy.Slots(str(tmp_path / "s.ckpt"))
+    for r in rows[:300]:
+        st.feed(r[1], r[2], r[3], r[0])
+    slots.save(300, st)
+    for r in rows[300:600]:
+        st.feed(r[1], r[2], r[3], r[0])
+    slots.save(600, st)
+    assert buoy.Slots(slots.path).load()[0] == 600
+    newest = tmp_path / "s.ckpt.1"
+    data = newest.read_bytes()
+    # torn: the newest slot cut short -> the older one
+    newest.write_bytes(data[:len(data) // 2])
+    assert buoy.Slots(slots.path).load()[0] == 300
+    # the header altered (its index), the blob intact: the slot CRC covers it
+    import struct
+    newest.write_bytes(data[:4] + struct.pack("<I", 900) + data[8:])
+    assert buoy.Slots(slots.path).load()[0] == 300
+    newest.write_bytes(data)
+    got = buoy.Slots(slots.path).load()
+    assert got[0] == 600 and got[1].to_bytes() == st.to_bytes()
+
+
+def test_buoy_logger_on_the_32_bit_runtime(tmp_path, buoy_runs):
+    require_wasm32()
+    from test_ports import assert_same_output
+    (tmp_path / "w").mkdir()
+    out = run_wasm32(BUOY, ["--log", "/ex/buoy_day.csv", "--checkpoint", "/work/b.ckpt"],
+                     copies=[(BUOY.parent, "/app"), (EXAMPLES, "/ex"), (tmp_path / "w", "/work")],
+                     cwd="/app")
+    assert_same_output(buoy_runs["cpython"], out)
