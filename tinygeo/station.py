@@ -498,6 +498,8 @@ class Station:
             self.iso_p_pa = self._iso_set
         else:
             self.iso_p_pa = standard_surface_pa(self.height_m)
+        if self.iso_p_pa is not None:
+            from . import layers   # noqa: F401 (sealevel.iso_tv's; loaded now, not in a feed)
         self.on_event = on_event
         # --- derived settings (built once, so that feed builds no float for them)
         self._gph = geopotential_height(self.height_m, self.lat_deg)
