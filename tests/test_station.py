@@ -695,6 +695,8 @@ def test_memory_is_fixed_after_the_first_day():
 # ============================================================== import rule
 CORE = {"errors", "constants", "gravity", "potential", "moisture", "layers", "standard",
         "sealevel", "checkpoint"}
+"""tinygeo's core modules (the formula modules and the checkpoint frame; not
+the column, the record format or the host tools)."""
 
 
 def import_violations(src):
@@ -709,6 +711,8 @@ def import_violations(src):
             if node.level == 0:
                 if node.module not in ("math", "struct", "array", "binascii"):
                     bad.append(node.module)
+            elif node.level == 1 and node.module is None:
+                bad += ["." + a.name for a in node.names if a.name not in CORE]
             elif node.level != 1 or node.module not in CORE:
                 bad.append("." * node.level + str(node.module))
             else:
@@ -730,7 +734,8 @@ def test_the_import_rule_check_can_fail():
                       ("from .moisture import _ex\n", "moisture._ex"),
                       ("import os\n", "os"),
                       ("from . import moisture\nx = moisture._f(1.0)\n", "moisture._f"),
-                      ("from .host import table\n", ".host")):
+                      ("from .host import table\n", ".host"),
+                      ("from . import column\n", ".column")):
         assert what in import_violations(src), src
 
 
