@@ -272,23 +272,31 @@ after a genuine step the new temperatures pass again). The first reading
 must lie within start_guard_m of start_height_m (reason 'pressure').
 
 The column keeps one reading of look-back. A reading that contradicts the
-latest one is rejected, and remembered: if the next reading also contradicts
-the latest one, and both agree with the reading before it, the latest
-reading was the bad one (a pressure glitch after a gap, a time stamp far
-ahead): it is retracted (``retracted``, ``rejected``) and the column goes on
-from the reading before it with the new reading (FL_REPLACED). Readings that
-contradict both but agree with each other form a run; after
-takeover_readings of them the column follows the run (FL_TAKEOVER): before
-anything is confirmed (a bad first reading) it restarts from the run's first
-reading, placed at start_height_m; later (a clock reset, a real change
-faster than the checks allow) it integrates on through them. So no single
-bad reading, the first included, and no single wrong time stamp locks the
-column: it costs at most takeover_readings + 1 readings, and the heights
-after it are those of a column that never saw it (to a few mm: the skipped
-reading's layer is integrated as one). Nothing is lost to a rejection but
-the reading itself; a rejected reading changes nothing of the results, only
-``rejected`` and the recovery memory (the remembered run, not saved in
-checkpoints). Because the latest reading may still be retracted, events are
+latest one is rejected, and remembered as the start of a run. Retraction:
+if the next reading agrees with that remembered one and with the reading
+before the latest one, and contradicts the latest too (or agrees with it
+only less well: the larger share of its speed and temperature allowances,
+_fit), the latest reading was the bad one (a pressure glitch after a gap, a
+time stamp far ahead): it is retracted (``retracted``, ``rejected``) and the
+column goes on from the reading before it with the new reading
+(FL_REPLACED). Takeover: readings that agree with each other and contradict
+the latest one form a run (a reading that agrees with both the latest one and
+the run joins the run only while the latest is the first reading, not yet
+confirmed, or once the run has two readings); after takeover_readings in a
+row the column follows the run (FL_TAKEOVER): before anything is confirmed
+(a bad first reading) it restarts from the run's first reading, placed at
+start_height_m; later (a clock reset, a real change faster than the checks
+allow) it integrates on through them. A reading that agrees with the latest
+one and is not taken by the run is accepted, and the run is forgotten. So no
+single bad reading, the first included, and no single wrong time stamp
+locks the column: it costs at most takeover_readings + 1 readings, and the
+heights after it are those of a column that never saw it (to a few mm: the
+skipped reading's layer is integrated as one; bench/montecarlo.py and
+tests/test_column_streams.py measure it at every position). A rejected
+reading changes nothing of the results, only ``rejected`` and the recovery
+memory (the remembered run, not saved in checkpoints); a reading of a run
+that is followed was rejected when it came and counts in both ``rejected``
+and ``count``. Because the latest reading may still be retracted, events are
 decided on confirmed readings: a reading is confirmed when the next reading
 is accepted on top of it, so events come one reading late.
 
@@ -309,7 +317,8 @@ Sequential Smoothing and Prediction"; the steady-state noise ratios
 sigma_x^2/sigma^2 = (1 - th)(1 + 4th + 5th^2)/(1 + th)^3 and
 sigma_v^2/sigma^2 = 2(1 - th)^3/((1 + th)^3 dt^2) are those of that filter
 (from memory)) run on the confirmed readings' gph: smooth_gph_m and
-smooth_rate_gpm_s, O(1) memory. Without time stamps each reading counts as
+smooth_rate_gpm_s, O(1) memory; a step within 5 % of the one its gains were
+made for keeps them (clock jitter). Without time stamps each reading counts as
 one second. Its noise, sigma_x and sigma_v, scales every event threshold.
 EV_LAUNCH 16: in PH_WAIT, the track rises launch_gpm + 4 sigma_x above its
   lowest point -> PH_ASCENT (launch_time_s).
@@ -417,7 +426,7 @@ T_MAX_K = 350.0
 GPS_MIN_M = -1000.0
 GPS_MAX_M = 100000.0
 
-WMO_LAPSE_K_PER_GPM = 0.002
+WMO_LAPSE_K_GPM = 0.002
 """2 K/km, the lapse rate of the WMO tropopause definition, in K/gpm."""
 WMO_DEPTH_GPM = 2000.0
 """2 km, the depth over which the WMO definition checks the mean lapse rate."""
@@ -449,20 +458,23 @@ class _Rec:
 
     The reading (written by Column._check): p_pa, t_k, rh_pct (nan: not
     given), tsr (time stamp as given, int or float, or None), gpsr (GPS as
-    given: None, nan or m above MSL). The state after it (Column._compute):
+    given: None, nan or m above MSL), q (moisture.rh_q at it, nan if not
+    needed). The state after it (Column._compute):
     tv_k, flags, gph_m, c (Kahan compensation), height_m, rdh/rdt (the
     height change and time of the latest timed step: rate_m_s), nodes (a
     new height node waiting, or None), t0 (the first time stamp, as given),
     tr, g_t, h_tm (stamp, gph and height of the latest timed reading), dt
     (seconds since the timed reading before it, nan if none), h_t, h_p, h_rh
     (the latest reading with humidity), w (its mixing ratio, held; nan until
-    needed), gps_m, gps_diff_m, gps_here, and the uncertainty sums var_done,
+    needed), gps_m, gps_diff_m, gps_here, half and lay (the layer's
+    (Rd/g0)/2 ln(p0/p) and Tv0 + Tv, for Column._sigma), and the
+    uncertainty sums var_done,
     var_p, tm2, s2, p_start, sum_rh, sum_p, slope, sum_hum, tvh (see
     "Uncertainty")."""
 
     def __init__(self):
         nan = _NAN
-        self.p_pa = self.t_k = self.rh_pct = self.tv_k = nan
+        self.p_pa = self.t_k = self.rh_pct = self.tv_k = self.q = nan
         self.tsr = self.gpsr = self.nodes = self.t0 = self.tr = None
         self.flags = 0
         self.gph_m = self.height_m = self.rdh = self.rdt = self.dt = nan
@@ -472,7 +484,7 @@ class _Rec:
         self.gps_m = self.gps_diff_m = nan
         self.gps_here = False
         self.var_done = self.var_p = self.ct = self.tm2 = self.s2 = self.sum_rh = self.sum_p = 0.0
-        self.slope = self.sum_hum = self.tvh = 0.0
+        self.slope = self.sum_hum = self.tvh = self.half = self.lay = 0.0
         self.p_start = nan
 
 
@@ -498,7 +510,8 @@ _ST_F = ("smooth_gph_m", "_f_v", "max_gph_m", "launch_time_s",
          "burst_gph_m", "burst_time_s", "burst_p_pa", "float_gph_m", "float_time_s",
          "landing_time_s", "level_p_pa", "level_gph_m", "level_height_m", "level_t_k",
          "tropopause_p_pa", "tropopause_gph_m", "tropopause_t_k", "tropopause_time_s",
-         "_e_p", "_e_g", "_e_t", "_f_dt", "_f_a", "_f_b", "_f_cx", "_f_cv", "_f_bv",
+         "_e_p", "_e_g", "_e_t", "_f_dt", "_f_lo", "_f_hi", "_f_a", "_f_b", "_f_cx", "_f_cv",
+         "_f_bv",
          "_max_clk", "_max_p", "_min_g", "_launch_line", "_fl_g", "_fl_lo", "_fl_hi", "_fl_clk",
          "_fl_end", "_land_lo", "_land_hi", "_land_end", "_tb_top", "_tb_g0", "_tb_g1", "_tb_st",
          "_tb_c0", "_tb_c1", "_tb_th", "_tp_g", "_tp_top", "_tp_th", "_tp_p", "_tp_t", "_tp_clk",
@@ -509,13 +522,14 @@ _ST_I = ("count", "rejected", "retracted", "phase", "_has_b", "_e_n", "_lvl", "_
 # what a restored value may be (tinygeo.checkpoint.check_values: name lo hi,
 # "n" where nan means "not known yet"); kept as text: read only on a restore
 _RESTORE_COL = ("count 0 1073741823;rejected 0 1073741823;retracted 0 1073741823;phase 0 4;"
-                "_has_b 0 1;_e_n 0 *;_lvl 0 16;_burst_n 0 *;_tb_n 0 *;_tp_state 0 3;"
-                "smooth_gph_m -20000 200000 n;max_gph_m -20000 200000 n;"
+                "_has_b 0 1;_e_n 0 1073741823;_lvl 0 16;_burst_n 0 100000;_tb_n 0 1073741823;"
+                "_tp_state 0 3;"
+                "smooth_gph_m -250000 250000 n;max_gph_m -250000 250000 n;"
                 "burst_p_pa 0.1 120000 n;level_p_pa 1000 100000 n;level_t_k 150 350 n;"
                 "tropopause_p_pa 0 120000 n;tropopause_t_k 150 350 n;_var_anchor 0 *;"
                 "_f_dt 0 * n;_f_a 0 1 n;_f_cx 0 * n;_f_cv 0 * n")
 _RESTORE_REC = ("p_pa 0.1 120000;t_k 150 350;rh_pct -3 103 n;tv_k 150 350;"
-                "gph_m -20000 200000;c -1 1;height_m -20000 200000 n;dt 0 * n;"
+                "gph_m -250000 250000;c -1 1;height_m -250000 250000 n;dt 0 * n;"
                 "h_t 150 350 n;h_p 0.1 120000 n;h_rh -3 103 n;w 0 1 n;"
                 "gps_m -1000 100000 n;var_done 0 *;var_p 0 *;tm2 0 700;s2 0 *;"
                 "p_start 0.1 120000 n;tvh 0 *;flags 0 1023;gps_here 0 1")
@@ -536,7 +550,7 @@ class Column:
     float_gph_m: float; float_time_s: float; landing_time_s: float; level_p_pa: float
     level_gph_m: float; level_height_m: float; level_t_k: float; tropopause_p_pa: float
     tropopause_gph_m: float; tropopause_t_k: float; tropopause_time_s: float
-    _e_p: float; _e_g: float; _e_t: float; _f_dt: float
+    _e_p: float; _e_g: float; _e_t: float; _f_dt: float; _f_lo: float; _f_hi: float
     _f_a: float; _f_b: float; _f_cx: float; _f_cv: float; _f_bv: float; _max_clk: float
     _max_p: float
     _min_g: float; _launch_line: float; _fl_g: float; _fl_lo: float; _fl_hi: float
@@ -547,7 +561,7 @@ class Column:
     _n_g: float; _n_h: float; _n_k1: float; _n_k2: float; _n_lo: float; _n_hi: float
     _var_anchor: float
     count: int; rejected: int; retracted: int; phase: int; _has_b: int; _e_n: int
-    _lvl: int; _burst_n: int; _tb_n: int; _tp_state: int
+    _lvl: int; _burst_n: int; _tb_n: int; _tp_state: int; _t0_int: int; _t0_hi: int; _t0_lo: int
 
     def __init__(self, lat_deg, start_height_m=0, anchor_p_pa=None, ellipsoid=WGS84,
                  ice=False, dry_fallback=False, sigma_p_pa=10, sigma_t_k=0.2,
@@ -648,6 +662,7 @@ class Column:
         self._b = _Rec()
         self._n = _Rec()
         self._m = _Rec()
+        self._k = _Rec()
         self._cr = _Rec()          # the latest reading of the run (recovery memory)
         self._run = 0              # readings in the run
         self._run_b = 0            # of which the latest ones in a row agree with _b
@@ -686,9 +701,11 @@ class Column:
         self._check(n, p_pa, t_k, rh_pct, time_s, gps_m)      # 1. the values on their own
         if self.count == 0:                                    # 2. the first reading: the start
             self._compute(None, n)
+            self._sigma(None, n)
             return self._advance()
         ok = self._compute(self._h, n) == 0                    # 3. on top of the latest reading
         if ok and not self._run:
+            self._sigma(self._h, n)
             return self._advance()
         return self._recover(n, ok)                            # 4. or: look-back, recovery
 
@@ -732,6 +749,11 @@ class Column:
         n.rh_pct = rh
         n.tsr = time_s
         n.gpsr = gps
+        # (1 - eps) e_s/p per %RH at this reading (moisture.rh_q): with a
+        # humidity, or for the held humidity's cap and sigma; computed once per
+        # reading, whatever the look-back computes on top of it
+        if rh == rh or not self.dry_fallback or self.track_sigma:
+            n.q = rh_q(t, p, self.ice)
 
     def _num(self, x, name, unit, nan_ok=False):
         # a finite float (the rule of tinygeo.errors.real); anything else is rejected
@@ -772,7 +794,7 @@ class Column:
         if rh == rh:
             # tinygeo.virtual_temperature (its moisture.tv_rh, written out to
             # share q): Tv = T/(1 - r), r = (1 - eps) e/p = rh q, dTv/dRH = Tv q
-            q = rh_q(t, p, self.ice)
+            q = n.q
             r = rh * q
             if r >= ONE_M_EPS:
                 self._bad("humidity", 6, quote(rh), t, p, boiling_error(r * p / ONE_M_EPS, p))
@@ -800,7 +822,7 @@ class Column:
             ws = 0.0
             if held or self.track_sigma:
                 # the saturation mixing ratio here: e_s/p = x = 100 q/(1 - eps)
-                x = rh_q(t, p, self.ice) * 100 / ONE_M_EPS
+                x = n.q * 100 / ONE_M_EPS
                 ws = 1.0 if x >= 0.5 else EPSILON * x / (1 - x)
             if not held:
                 w = 0.0
@@ -953,28 +975,41 @@ class Column:
             n.gps_m = gps
             n.gps_diff_m = h - gps
         n.flags = flags
-        # -- uncertainty (see "Uncertainty"): tm2 = Tv0 + Tv,
-        # half = (Rd/g0)/2 ln(p0/p) = dz/dTv of either end of the layer
+        # the layer's terms for the uncertainty step (_sigma: only for a state
+        # that is kept, so the look-back's trial computations build none of it)
         n.slope = slope
         n.tvh = tvh
+        n.half = half
+        n.lay = tm2
+        return why
+
+    def _sigma(self, a, n):
+        # Streaming first-order propagation (module docstring, "Uncertainty")
+        # for record n on top of record a (None: n is the first reading):
+        # lay = Tv0 + Tv of n's layer, half = (Rd/g0)/2 ln(p0/p) = dz/dTv of
+        # either end of it. Run when n is kept (accepted, retracting the latest
+        # reading, or joining a run).
         if not self.track_sigma:
-            return why
+            return
+        half = n.half
+        slope = n.slope
         if a is None:
             n.var_done = n.var_p = n.sum_p = n.sum_rh = n.sum_hum = 0.0
-            if p0 != p0:
+            if self._anchor != self._anchor:
                 # the first reading: no layer yet; its sensitivities are all 0 so far
                 n.ct = n.tm2 = 0.0
-                n.p_start = p
+                n.p_start = n.p_pa
             else:
                 # anchored start: the anchor is exact, the first reading is both ends
                 n.ct = half + half
-                n.tm2 = tm2
-                n.p_start = p0
+                n.tm2 = n.lay
+                n.p_start = self._anchor
             sr = slope * self.sigma_rh_pct
             n.s2 = self._st2 + sr * sr
-            return why
+            return
         # the final sensitivities of reading a: dz_n/dp = HALF_RG pco, dz_n/dTv = ct
-        pco = (tm2 - a.tm2) / p0
+        tm2 = n.lay
+        pco = (tm2 - a.tm2) / a.p_pa
         ct = a.ct + half
         n.var_done = a.var_done + ct * ct * a.s2
         n.var_p = a.var_p + pco * pco       # times (K/2 sigma_p)^2 where it is read
@@ -989,7 +1024,6 @@ class Column:
             n.s2 = self._st2 + sr * sr
         else:
             n.s2 = a.s2
-        return why
 
     def _rel(self, stamp, r):
         # a time stamp as seconds since the first one (record r's t0)
@@ -1059,12 +1093,16 @@ class Column:
         # run of readings that contradicted it is under way (ok: n agrees with
         # the latest reading too; n holds the state on top of it).
         # Look-back: a reading that agrees with the reading before the latest
-        # one, right after one that contradicted the latest and agreed with
-        # the one before, retracts the latest. Else n joins the run if it
-        # agrees with the run's latest reading (or starts one if it contradicts
-        # the latest reading); takeover_readings of them in a row are followed.
-        # A reading that agrees with the latest one but not with the run is
-        # accepted (the run was noise).
+        # one and with the run's latest reading, right after a run reading that
+        # also agreed with the one before, retracts the latest, unless it also
+        # agrees with the latest and fits it better (_fit). Else n joins
+        # the run if it agrees with the run's latest reading and contradicts
+        # the latest reading (or the latest is the unconfirmed first reading,
+        # or the run has two readings already); a reading that contradicts the
+        # latest one and not the run starts a new run; takeover_readings of
+        # them in a row are followed. A reading that agrees with the latest one
+        # and is not taken by the run is accepted (the run was a glitch).
+        why_h = self._why       # how n contradicts the latest reading (when not ok)
         m = self._m
         # the reading, into the second scratch record
         m.p_pa = n.p_pa
@@ -1072,9 +1110,25 @@ class Column:
         m.rh_pct = n.rh_pct
         m.tsr = n.tsr
         m.gpsr = n.gpsr
+        m.q = n.q
         agree_b = self._has_b and self._compute(self._b, m) == 0
-        if agree_b and self._run_b:
-            # the latest reading was the bad one: go on from the one before
+        # does n agree with the run's latest reading? (computed on top of it)
+        k = self._k
+        k.p_pa = n.p_pa
+        k.t_k = n.t_k
+        k.rh_pct = n.rh_pct
+        k.tsr = n.tsr
+        k.gpsr = n.gpsr
+        k.q = n.q
+        cr = self._cr
+        in_run = self._run and self._compute(cr, k) == 0
+        if agree_b and self._run_b and in_run and (not ok or self._fit(self._b, m) <
+                                                    self._fit(self._h, n)):
+            # two readings in a row agree with each other and with the reading
+            # before the latest one, the first contradicted the latest and the
+            # second contradicts it too or fits the one before better: the
+            # latest was the bad one; go on from the one before
+            self._sigma(self._b, m)
             self._m = self._h
             self._h = m
             m.flags |= FL_REPLACED
@@ -1083,22 +1137,28 @@ class Column:
                 self.retracted += 1
             self._accept(m, 0)
             return 0
-        cr = self._cr
-        if self._run and self._compute(cr, m) == 0:
-            new = m                # the run goes on
+        if in_run and (not ok or not self._has_b or self._run >= 2):
+            # the run goes on: n agrees with it, and contradicts the latest
+            # reading, or the latest is the first one (not confirmed yet), or
+            # the run already has two readings that agree with each other
+            self._sigma(cr, k)
+            new = k
             self._run += 1
         elif ok:
+            self._sigma(self._h, n)
             return self._advance()
         else:
             # a new run: on top of the latest reading, or, when nothing is
             # confirmed yet (the first reading may be the bad one), afresh
             # from the start height
-            self._run_why = self._why
+            self._run_why = why_h
             if self._has_b:
+                self._sigma(self._h, n)
                 new = n
             else:
-                self._compute(None, m)
-                new = m
+                self._compute(None, k)
+                self._sigma(None, k)
+                new = k
             self._run = 1
             self._run_b = 0
         if agree_b:
@@ -1107,8 +1167,8 @@ class Column:
             self._run_b = 0
         # new becomes the run's latest reading; its slot takes the old one
         self._cr = new
-        if new is m:
-            self._m = cr
+        if new is k:
+            self._k = cr
         else:
             self._n = cr
         if self._run < self.takeover_readings:
@@ -1124,7 +1184,7 @@ class Column:
         if self._n is cr:
             self._n = old_b
         else:
-            self._m = old_b
+            self._k = old_b
         new.flags |= FL_TAKEOVER
         if self._has_b:
             # the run's readings join the column's (they were rejected when
@@ -1141,10 +1201,33 @@ class Column:
         self._accept(new, 0)
         return self._tell(bits)
 
+    def _fit(self, a, r):
+        # how well reading r (computed on top of record a) fits a: the largest
+        # share of its allowance that the temperature step and the height
+        # change use (<= 1 when r agrees with a); only on the recovery path
+        f = 0.0
+        dt = r.dt
+        if self._t_lim == self._t_lim:
+            allow = self._t_lim + self.max_t_gradient_k_gpm * abs(r.gph_m - a.gph_m)
+            if dt == dt:
+                allow += self.max_t_rate_k_s * dt
+            dtk = abs(r.t_k - a.t_k)
+            if allow > 0:
+                f = dtk / allow
+            elif dtk > 0:
+                f = INF          # no step allowed (every allowance set to 0) and one taken
+        if dt == dt and dt > 0 and a.h_tm == a.h_tm and self._max_rate == self._max_rate:
+            q = abs(r.height_m - a.h_tm) / (self._max_rate * dt + self._kn * r.tv_k / r.p_pa)
+            if q > f:
+                f = q
+        return f
+
     def _refuse(self):
         # raise ReadingError for the contradiction in self._why
         w = self._why
         self._why = None
+        if w is None:     # not reached: every contradiction sets its reason
+            w = ("rate", 13, "?", "contradicts the latest reading")
         self._bad(w[0], w[1], *w[2:])
 
     def _inc_rejected(self):
@@ -1156,7 +1239,7 @@ class Column:
         # The messages are one text, "|"-separated: on MicroPython every string
         # constant with a space is an object in RAM for the module's lifetime,
         # one text is one object (its characters stay in flash with ROMFS or
-        # frozen bytecode); split only here, when a reading is rejected.
+        # frozen bytecode); cut only here, when a reading is rejected.
         msg = ("%s=%s is not a finite number; pass one in %s"          # 0 name, value, unit
                "|%s=%s outside %g..%g %s%s"                              # 1 name, value, lo, hi, unit, "; hint"
                "|rh_pct=%s outside %g..%g %%; percent, not a 0..1 fraction (None if unknown)"
@@ -1173,9 +1256,15 @@ class Column:
                "|"                                                       # 11
                "|p_pa=%s moves the column %.0f m/s over %.3g s, beyond max_rate_m_s=%s with "
                "%.0f m of noise allowed; glitch, or wrong unit/time"     # 12
-               "|p_pa=%s %s").split("|")[i] % args                       # 13
+               "|p_pa=%s %s")                                            # 13
+        # the i-th message, found without splitting the whole text
+        a = 0
+        while i:
+            a = msg.find("|", a) + 1
+            i -= 1
+        b = msg.find("|", a)
         self._inc_rejected()
-        raise ReadingError(msg, reason)
+        raise ReadingError((msg[a:] if b < 0 else msg[a:b]) % args, reason)
 
     # ------------------------------------------------------------ 5. events
     def _confirm(self, r):
@@ -1228,10 +1317,13 @@ class Column:
     def _track(self, z, dt):
         # one step of the critically damped g-h filter (see "Events"); the rate
         # is kept per step (_f_v, gpm per _f_dt seconds: one float fewer per
-        # reading), smooth_rate_gpm_s = _f_v / _f_dt
-        if dt != self._f_dt:
-            # the gains and noise ratios for this step length (kept while dt
-            # repeats); the rate rescaled to it
+        # reading), smooth_rate_gpm_s = _f_v / _f_dt. A step within 5 % of the
+        # one the gains were made for keeps them (a clock's jitter costs no
+        # exp and square roots per reading; the track's step is then off by
+        # at most 5 % of one step's motion, which the next residual absorbs)
+        if not self._f_lo <= dt <= self._f_hi:
+            # the gains and noise ratios for this step length; the rate
+            # rescaled to it
             if self._f_dt == self._f_dt:
                 self._f_v = self._f_v * dt / self._f_dt
             th = math.exp(-dt / self.smooth_s)
@@ -1244,6 +1336,8 @@ class Column:
             self._f_cv = NOISE_K * math.sqrt(2 * u * u * u / v3)      # per step
             self._f_bv = -self.burst_rate_gpm_s * dt                   # per step
             self._f_dt = dt
+            self._f_lo = dt * 0.95
+            self._f_hi = dt * 1.05
         pred = self.smooth_gph_m + self._f_v
         res = z - pred
         self.smooth_gph_m = pred + self._f_a * res
@@ -1408,7 +1502,8 @@ class Column:
         if self._tb_n == 0:
             self._tb_g0 = g
             self._tb_c0 = clk
-        self._tb_n += 1
+        if self._tb_n < COUNT_MAX:
+            self._tb_n += 1
         self._tb_st += t
         self._tb_g1 = g
         self._tb_c1 = clk
@@ -1416,7 +1511,7 @@ class Column:
 
     def _tropopause(self, g, t, p, r):
         # one new point of the averaged profile; O(1) search (see EV_TROPOPAUSE)
-        th = t + WMO_LAPSE_K_PER_GPM * g
+        th = t + WMO_LAPSE_K_GPM * g
         below = self._tb_th          # theta of the point before (nan: none)
         self._tb_th = th
         st = self._tp_state
@@ -1593,8 +1688,8 @@ class Column:
                      "_fl_hi", "_land_lo", "_land_hi", "_e_g", "_tb_top", "_tb_g0", "_tb_g1",
                      "_tp_g", "_tp_top"):
             setattr(self, name, getattr(self, name) + d)
-        self._tb_th = self._tb_th + WMO_LAPSE_K_PER_GPM * d
-        self._tp_th = self._tp_th + WMO_LAPSE_K_PER_GPM * d
+        self._tb_th = self._tb_th + WMO_LAPSE_K_GPM * d
+        self._tp_th = self._tp_th + WMO_LAPSE_K_GPM * d
         # uncertainty restarts here: the reading is the new (noisy) start
         h.var_done = h.var_p = h.ct = h.tm2 = h.sum_rh = h.sum_p = h.sum_hum = 0.0
         h.p_start = h.p_pa
@@ -1616,11 +1711,12 @@ class Column:
         int32 halves (a float32 board restores int stamps exactly)."""
         from .checkpoint import pack
         t0 = self._h.t0
-        t0i = isinstance(t0, int) and not isinstance(t0, bool) and -(1 << 62) < t0 < (1 << 62)
-        self._t0_int = 1 if t0i else 0
-        self._t0_hi = (t0 >> 32) if t0i else 0
-        self._t0_lo = (t0 & 0xFFFFFFFF) - (1 << 32) if t0i and t0 & 0x80000000 else \
-            ((t0 & 0xFFFFFFFF) if t0i else 0)
+        self._t0_int = self._t0_hi = self._t0_lo = 0
+        if isinstance(t0, int) and not isinstance(t0, bool) and -(1 << 62) < t0 < (1 << 62):
+            lo = t0 & 0xFFFFFFFF
+            self._t0_int = 1
+            self._t0_hi = t0 >> 32
+            self._t0_lo = lo - (1 << 32) if lo & 0x80000000 else lo
         f = []
         for n in _CFG_F:
             v = getattr(self, n)
