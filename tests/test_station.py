@@ -974,3 +974,37 @@ def test_buoy_logger_on_the_32_bit_runtime(tmp_path, buoy_runs):
                      copies=[(BUOY.parent, "/app"), (EXAMPLES, "/ex"), (tmp_path / "w", "/work")],
                      cwd="/app")
     assert_same_output(buoy_runs["cpython"], out)
+
+
+def test_buoy_logger_restarts_after_a_clock_set_back(tmp_path):
+    # the first 1 000 readings of the day, then the clock set back to 0 s:
+    # every reading is 'time' until TIME_RESTART of them in a row, then a new
+    # Station goes on from the next reading (constructed)
+    lines = BUOY_LOG.read_text().splitlines()
+    head = [x for x in lines if x.startswith("#") or x.startswith("time")]
+    data = [x for x in lines if x[0].isdigit()]
+    moved = []
+    for i, x in enumerate(data[1000:1300]):
+        w = x.split(",")
+        moved.append(",".join([str(480 + i)] + w[1:]))
+    log = tmp_path / "reset.csv"
+    log.write_text("\n".join(head + data[:1000] + moved) + "\n")
+    out = run_script(sys.executable, [BUOY, "--log", log, "--checkpoint", tmp_path / "r.ckpt"],
+                     cwd=tmp_path)
+    assert out.count("rejected time") == 10
+    assert "#1009 clock set back: new station" in out
+    # the new station: readings at 490..779 s, the average 0..600 s completes at 600 s
+    assert out.strip().splitlines()[-1] == \
+        "summary accepted 290 rejected 0 averages 1 missing 0"
+
+
+def test_buoy_slot_write_failure_is_retried(tmp_path, capsys):
+    buoy = _load_path(BUOY, "tinygeo_buoy_example2")
+    slots = buoy.Slots(str(tmp_path / "no-such-dir" / "s.ckpt"))
+    st = Station(3.5, 54.2)
+    slots.save(1, st)
+    assert slots.failures == 1 and slots.next == 0
+    assert "retried at the next one" in capsys.readouterr().out
+    (tmp_path / "no-such-dir").mkdir()
+    slots.save(2, st)
+    assert slots.failures == 1 and slots.next == 1 and slots.load()[0] == 2

@@ -94,7 +94,7 @@ P_MAX_PA = 120000.0
 """Highest pressure accepted by this module, Pa."""
 
 # ---------------------------------------------------------------------------
-# Kernels: arguments not checked (ONE_M_EPS .. tv_w).
+# Kernels: arguments not checked (ONE_M_EPS .. td_rh).
 # The fast forms the checked functions below are built on, public so that
 # tinygeo.column, tinygeo.sealevel and the host tools call them after
 # checking their inputs once (every check builds floats: heap blocks on
@@ -157,6 +157,19 @@ def tv_rh(t_k, p_pa, rh_pct, ice):
 def tv_w(t_k, w_kg_kg):
     # virtual_temperature_from_mixing_ratio without the checks (callers check)
     return t_k * (1.0 + w_kg_kg / EPSILON) / (1.0 + w_kg_kg)
+
+
+def td_rh(t_k, rh_pct, ice):
+    # dew_point_from_rh without the checks (callers check t_k in 150..350 K
+    # and rh_pct > 0); the result may lie outside 150..350 K (callers check)
+    t = t_k - ZERO_C_K
+    if ice and t <= 0.0:
+        y = math.log(rh_pct * 0.01) + _AI * t / (_BI + t)
+    else:
+        y = math.log(rh_pct * 0.01) + _AW * t / (_BW + t)
+    if ice and y <= 0.0:
+        return _BI * y / (_AI - y) + ZERO_C_K
+    return _BW * y / (_AW - y) + ZERO_C_K
 
 
 # ---------------------------------------------------------------------------
@@ -300,19 +313,6 @@ def dew_point(e_pa, p_pa, ice=False):
         raise errors.ModelRangeError("dew point %.2f K for e_pa=%g Pa outside 150..350 K; "
                                      "check e_pa (pascal expected)" % (td, e))
     return td
-
-
-def td_rh(t_k, rh_pct, ice):
-    # dew_point_from_rh without the checks (callers check t_k in 150..350 K
-    # and rh_pct > 0); the result may lie outside 150..350 K (callers check)
-    t = t_k - ZERO_C_K
-    if ice and t <= 0.0:
-        y = math.log(rh_pct * 0.01) + _AI * t / (_BI + t)
-    else:
-        y = math.log(rh_pct * 0.01) + _AW * t / (_BW + t)
-    if ice and y <= 0.0:
-        return _BI * y / (_AI - y) + ZERO_C_K
-    return _BW * y / (_AW - y) + ZERO_C_K
 
 
 def dew_point_from_rh(t_k, rh_pct, ice=False):

@@ -37,7 +37,8 @@ What it shows:
   the CRC-32 (tinygeo.checkpoint.crc32) covering the header and the blob,
   so a torn or corrupted slot (header included) is skipped and the other one
   restored; the blob has its own frame and CRC as well. At start the newest
-  good slot is restored and the first line says so.
+  good slot is restored and the first line says so. A write that fails is
+  reported and retried at the next checkpoint, into the same slot.
 
 NOT for aviation: QNH here is computed for the barometer's height; altimeter
 settings for aircraft come from an aerodrome's certified instruments and its
@@ -103,7 +104,7 @@ class Slots:
         self.path = path
         self.next = 0
         self.loaded_from = ""
-        self.enabled = True
+        self.failures = 0          # failed writes so far (each retried at the next save)
 
     def slot_path(self, k):
         return "%s.%d" % (self.path, k)
@@ -144,8 +145,9 @@ class Slots:
         return best
 
     def save(self, index, st):
-        if not self.enabled:
-            return
+        # a failed write (storage full, a bus error) is reported and retried
+        # at the next checkpoint into the same slot; the other slot keeps the
+        # newest good checkpoint meanwhile
         blob = st.to_bytes()
         data = MAGIC + struct.pack(_HEAD, index, len(blob)) + blob
         data += struct.pack("<I", crc32(data))
@@ -156,8 +158,9 @@ class Slots:
             finally:
                 f.close()
         except OSError as e:
-            self.enabled = False
-            print("checkpoints off: cannot write %s (%s)" % (self.slot_path(self.next), e))
+            self.failures += 1
+            print("checkpoint not written to %s (%s); retried at the next one"
+                  % (self.slot_path(self.next), e))
             return
         self.next = 1 - self.next
 
