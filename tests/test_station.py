@@ -406,7 +406,9 @@ def test_messages_name_the_argument_and_the_fix():
              ((100500.0, 285.0, 80.0, 99), "clock set back"),
              ((100500.0, 285.0, 80.0, None), "time_s is required"),
              ((101200.0, 285.0, 80.0, 101), "p_pa=101200.0 steps +700 Pa in 1 s"),
-             ((70000.0, 285.0, 80.0, 101), "pressure altitude")]
+             ((70000.0, 285.0, 80.0, 101), "pressure altitude"),
+             ((100500.0, 285.0, 80.0, 10 ** 400), "time_s=1000000"),
+             ((100500.0, 285.0, 80.0, -2 ** 62), "within +-2**62")]
     for args, text in cases:
         with pytest.raises(ReadingError) as e:
             s.feed(*args)

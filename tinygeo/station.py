@@ -295,6 +295,7 @@ COUNT_MAX = 1073741823
 boards, so a counter never allocates)."""
 
 _NAN = float("nan")
+_TS_MAX = 1 << 62     # int time stamps beyond +-2**62 s are refused (10**400 would overflow a float)
 
 
 def tendency_code(trace_pa, steady_pa=10):
@@ -605,6 +606,8 @@ class Station:
         ts = time_s
         if isinstance(ts, bool) or not isinstance(ts, int):
             ts = self._num(time_s, "time_s", "s")   # ints stay ints (exact at any size)
+        elif not -_TS_MAX < ts < _TS_MAX:
+            self._bad("number", 0, "time_s", quote(time_s), "s within +-2**62")
         if not self._p_lo <= p <= self._p_hi:
             from .errors import pressure_hint
             h = pressure_hint(p)
