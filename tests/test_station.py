@@ -1010,3 +1010,15 @@ def test_buoy_slot_write_failure_is_retried(tmp_path, capsys):
     (tmp_path / "no-such-dir").mkdir()
     slots.save(2, st)
     assert slots.failures == 1 and slots.next == 1 and slots.load()[0] == 2
+
+
+def test_docs_draft_quotes_the_logger_as_it_prints(buoy_runs):
+    # docs_station.md shows lines of the buoy logger's output: each must be
+    # printed exactly so by the logger (MicroPython run)
+    doc = (ROOT / "docs_station.md").read_text()
+    start = doc.index("```\nreport ")
+    block = doc[start + 4:doc.index("```", start + 4)].strip().splitlines()
+    out = buoy_runs["micropython"].splitlines()
+    assert len(block) >= 10
+    for line in block:
+        assert line in out, line
