@@ -1022,3 +1022,19 @@ def test_docs_draft_quotes_the_logger_as_it_prints(buoy_runs):
     assert len(block) >= 10
     for line in block:
         assert line in out, line
+
+
+def test_buoy_logger_typechecks_against_micropython_stubs():
+    # only names MicroPython has (the stubs of tests/test_typecheck.py)
+    import subprocess
+    stubs = ROOT / ".typings" / "mp" / "math.pyi"
+    if not stubs.exists():
+        from conftest import IN_CI
+        if IN_CI:
+            pytest.fail("MicroPython stubs missing in .typings/mp; .ci/run installs them")
+        pytest.skip("MicroPython stubs not installed")
+    p = subprocess.run([sys.executable, "-m", "mypy", "--config-file",
+                        str(ROOT / "mypy-micropython.ini"), "--no-incremental", "--cache-dir",
+                        os.devnull, str(BUOY)], capture_output=True, text=True, cwd=str(ROOT),
+                       timeout=300)
+    assert p.returncode == 0, p.stdout + p.stderr
