@@ -666,6 +666,10 @@ def test_checkpoint_of_a_fresh_station_and_refusals():
         with pytest.raises(CheckpointError):
             Station.from_bytes(C.pack(S._MAGIC, S._VERSION, g, ints))
     g = list(f)
+    g[-1] = 5.0                                              # an average of 5 Pa in the ring
+    with pytest.raises(CheckpointError):
+        Station.from_bytes(C.pack(S._MAGIC, S._VERSION, g, ints))
+    g = list(f)
     with pytest.raises(CheckpointError):                     # a ring of the wrong length
         Station.from_bytes(C.pack(S._MAGIC, S._VERSION, g[:-1], ints))
     k = len(S._CFG_I) + S._ST_I.index("flags")

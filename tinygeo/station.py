@@ -987,11 +987,19 @@ class Station:
             setattr(st, n, v)
         i = base
         for r in range(st._n):
-            st._ring_p[r] = f[i]
+            v = f[i]
+            if v == v and not P_MIN_PA <= v <= P_MAX_PA:
+                raise CheckpointError("station checkpoint holds an average of %r Pa; not written "
+                                      "by this tinygeo" % (v,))
+            st._ring_p[r] = v
             i += 1
         if st._ring_t is not None:
             for r in range(st._n12):
-                st._ring_t[r] = f[i]
+                v = f[i]
+                if v == v and not T_MIN_K <= v <= T_MAX_K:
+                    raise CheckpointError("station checkpoint holds an average of %r K; not "
+                                          "written by this tinygeo" % (v,))
+                st._ring_t[r] = v
                 i += 1
         check_values(st, _RESTORE, "station")
         if (st.count > 0) != (t0 is not None) or (st.count > 0) != (st._ts is not None) \
