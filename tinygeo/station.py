@@ -296,6 +296,7 @@ boards, so a counter never allocates)."""
 
 _NAN = float("nan")
 _TS_MAX = 1 << 62     # int time stamps beyond +-2**62 s are refused (10**400 would overflow a float)
+_TS_MIN = -_TS_MAX    # (both built once: a big int on 32-bit boards)
 
 
 def tendency_code(trace_pa, steady_pa=10):
@@ -606,7 +607,7 @@ class Station:
         ts = time_s
         if isinstance(ts, bool) or not isinstance(ts, int):
             ts = self._num(time_s, "time_s", "s")   # ints stay ints (exact at any size)
-        elif not -_TS_MAX < ts < _TS_MAX:
+        elif not _TS_MIN < ts < _TS_MAX:
             self._bad("number", 0, "time_s", quote(time_s), "s within +-2**62")
         if not self._p_lo <= p <= self._p_hi:
             from .errors import pressure_hint
