@@ -38,16 +38,19 @@ HERE = os.path.dirname(os.path.abspath(__file__))
 OUT = os.path.join(HERE, "station")
 sys.path.insert(0, HERE)
 
-mp.mp.dps = 40
-G0 = mp.mpf("9.80665")
-RD = mp.mpf("8.31432") / mp.mpf("0.0289644")
-EPS = mp.mpf("0.621981")
-L0 = mp.mpf("0.0065")
-P0 = mp.mpf(101325)
-T0 = mp.mpf("288.15")
+DPS = 40
+"""Working precision of every reference here, digits (local: mpmath.workdps)."""
+with mp.workdps(DPS):
+    G0 = mp.mpf("9.80665")
+    RD = mp.mpf("8.31432") / mp.mpf("0.0289644")
+    EPS = mp.mpf("0.621981")
+    L0 = mp.mpf("0.0065")
+    P0 = mp.mpf(101325)
+    T0 = mp.mpf("288.15")
 
 
 # --- references ---------------------------------------------------------------
+@mp.workdps(DPS)
 def ref_ew_pa(t_k, ice=False):
     """[WMO8] Annex 4.B Magnus form, Pa (ice form at and below 0 degC if ice)."""
     t = mp.mpf(t_k) - mp.mpf("273.15")
@@ -56,12 +59,14 @@ def ref_ew_pa(t_k, ice=False):
     return mp.mpf("611.2") * mp.exp(mp.mpf("17.62") * t / (mp.mpf("243.12") + t))
 
 
+@mp.workdps(DPS)
 def ref_f(p_pa):
     """[WMO8] enhancement factor (p in hPa in the published form)."""
     ph = mp.mpf(p_pa) / 100
     return mp.mpf("1.0016") + mp.mpf("3.15e-6") * ph - mp.mpf("0.074") / ph
 
 
+@mp.workdps(DPS)
 def ref_tv(t_k, p_pa, rh_pct, ice=False):
     """[WH06] eq. 3.16 with e = rh/100 f(p) e_w(t) of [WMO8]; T when rh is None."""
     if rh_pct is None or rh_pct != rh_pct:
@@ -70,6 +75,7 @@ def ref_tv(t_k, p_pa, rh_pct, ice=False):
     return mp.mpf(t_k) / (1 - e / mp.mpf(p_pa) * (1 - EPS))
 
 
+@mp.workdps(DPS)
 def ref_td(t_k, rh_pct, ice=False):
     """Dew point: findroot of e(Td) = rh/100 e(t) on the [WMO8] Magnus forms, K."""
     e = mp.mpf(rh_pct) / 100 * ref_ew_pa(t_k, ice)
@@ -85,18 +91,21 @@ def ref_gph(h_m, lat_deg):
     return gen_gravity.gph("WGS84", lat_deg, h_m)
 
 
+@mp.workdps(DPS)
 def ref_msl(p_pa, tv_k, gph_m):
     """[WMO8] reduction: p exp(g0 H / (Rd (Tv + 0.0065 H/2))), Pa."""
     h = mp.mpf(gph_m)
     return mp.mpf(p_pa) * mp.exp(G0 * h / (RD * (mp.mpf(tv_k) + L0 * h / 2)))
 
 
+@mp.workdps(DPS)
 def ref_qnh(p_pa, elevation_m):
     """[ICAO] altimeter-setting closed form, Pa."""
     n = RD * L0 / G0
     return P0 * ((mp.mpf(p_pa) / P0) ** n + L0 * mp.mpf(elevation_m) / T0) ** (1 / n)
 
 
+@mp.workdps(DPS)
 def ref_iso(p_pa, tv_k, gph_m, iso_p_pa):
     """[USSA76] eq. 33a solved for the height: the surface iso_p_pa in a column
     of Tv falling at 0.0065 K/gpm from tv_k at (p_pa, gph_m), gpm."""
@@ -104,11 +113,13 @@ def ref_iso(p_pa, tv_k, gph_m, iso_p_pa):
         1 - (mp.mpf(iso_p_pa) / mp.mpf(p_pa)) ** (RD * L0 / G0))
 
 
+@mp.workdps(DPS)
 def mean(xs):
     """The exact mean of the readings as fed (mpmath)."""
     return mp.fsum([mp.mpf(x) for x in xs]) / len(xs)
 
 
+@mp.workdps(DPS)
 def heave_residual_bound(amps_pa, periods_s, n):
     """Largest mean of n samples 1 s apart of sinusoids of these amplitudes and
     periods, whatever their phase: sum A |sin(pi n/T) / (n sin(pi/T))| (the
@@ -540,6 +551,7 @@ cycle of +-6 K.""")
 FILES = (heave_1hz, tendency_codes, gap_stuck, qc_rejects, high_station)
 
 
+@mp.workdps(DPS)
 def main(argv):
     check = "--check" in argv
     stale = []
