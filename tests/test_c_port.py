@@ -178,9 +178,10 @@ def py_call(name, args, mod=None):
     if name == "qfe" and len(args) == 5:
         args[4] = bool(args[4])
     if name in ("saturation_vapour_pressure", "vapour_pressure", "vapour_pressure_from_dew_point",
-                "dew_point", "virtual_temperature") and len(args) in (2, 3, 4):
+                "dew_point", "dew_point_from_rh", "virtual_temperature") and len(args) in (2, 3, 4):
         n_num = {"saturation_vapour_pressure": 1, "vapour_pressure": 3,
-                 "vapour_pressure_from_dew_point": 2, "dew_point": 2, "virtual_temperature": 3}[name]
+                 "vapour_pressure_from_dew_point": 2, "dew_point": 2, "dew_point_from_rh": 2,
+                 "virtual_temperature": 3}[name]
         if len(args) == n_num + 1:
             args[-1] = bool(args[-1])
     try:
@@ -251,6 +252,9 @@ FLOAT_CASES = [
     ("vapour_pressure_from_dew_point", "vapour_pressure_from_dew_point", "rel", 6e-06,
      lambda r: (r.uniform(160.0, 330.0), r.uniform(20000.0, 105000.0), float(r.random() < 0.5)), []),
     ("dew_point", "dew_point", "abs", 6e-05, _dew_case, [(611.2, 100000.0, 0.0), (611.2, 100000.0, 1.0)]),
+    ("dew_point_from_rh", "dew_point_from_rh", "abs", 4e-05,
+     lambda r: (r.uniform(200.0, 330.0), _log_uniform(r, 0.5, 103.0), float(r.random() < 0.5)),
+     [(293.15, 50.0, 0.0), (273.15, 103.0, 1.0), (263.15, 80.0, 1.0)]),
     ("mixing_ratio", "mixing_ratio", "rel", 3e-07,
      lambda r: (_log_uniform(r, 1.0, 5000.0), r.uniform(50000.0, 105000.0)), []),
     ("specific_humidity", "specific_humidity", "rel", 3e-07,
@@ -327,6 +331,10 @@ ERROR_CASES = [
     ("dew_point", (0.0, 100000.0, 0.0)), ("dew_point", (-1.0, 100000.0, 0.0)),
     ("dew_point", (100000.0, 100000.0, 0.0)), ("dew_point", (1e-9, 100000.0, 0.0)),   # model range
     ("dew_point", (INF, 100000.0, 0.0)),
+    ("dew_point_from_rh", (293.15, 0.0, 0.0)), ("dew_point_from_rh", (293.15, -1.0, 0.0)),
+    ("dew_point_from_rh", (293.15, 104.0, 0.0)), ("dew_point_from_rh", (140.0, 50.0, 0.0)),
+    ("dew_point_from_rh", (180.0, 0.01, 0.0)),   # model range
+    ("dew_point_from_rh", (293.15, NAN, 0.0)),
     ("mixing_ratio", (2000.0, 1000.0)), ("specific_humidity", (-0.1, 1000.0)),
     ("virtual_temperature", (300.0, 200.0, 50.0, 0.0)), ("virtual_temperature", (300.0, 50000.0, 150.0, 0.0)),
     ("virtual_temperature_from_mixing_ratio", (300.0, 1.5)),

@@ -1,6 +1,6 @@
 /* moisture.c -- twin of tinygeo/moisture.py: saturation vapour pressure
  * (Magnus forms of WMO-No. 8 Annex 4.B), enhancement factor, vapour
- * pressure, dew point, mixing ratio, specific humidity, virtual temperature
+ * pressure, dew point (also from temperature and relative humidity), mixing ratio, specific humidity, virtual temperature
  * (Wallace & Hobbs 2006 eq. 3.16; AMS Glossary). Sources, ranges and the
  * measured accuracy against IAPWS are documented in moisture.py. */
 #include "tg_internal.h"
@@ -108,6 +108,36 @@ tg_status tg_dew_point(TG_FLOAT e_pa, TG_FLOAT p_pa, int ice, TG_FLOAT *out)
     else
         t = BW * y / (AW - y);
     td = t + TG_ZERO_C_K;
+    if (td < TG_L(150.0) || td > TG_L(350.0))
+        return tg__fail(TG_MODEL_RANGE, out);
+    *out = td;
+    return TG_OK;
+}
+
+/* moisture.td_rh: dew_point_from_rh without the checks (callers check t_k
+ * in 150..350 K and rh_pct > 0); the result may lie outside 150..350 K */
+TG_FLOAT tg__moisture_td_rh(TG_FLOAT t_k, TG_FLOAT rh_pct, int ice)
+{
+    TG_FLOAT t = t_k - TG_ZERO_C_K, y;
+    if (ice && t <= TG_L(0.0))
+        y = TG_LOG(rh_pct * TG_L(0.01)) + AI * t / (BI + t);
+    else
+        y = TG_LOG(rh_pct * TG_L(0.01)) + AW * t / (BW + t);
+    if (ice && y <= TG_L(0.0))
+        return BI * y / (AI - y) + TG_ZERO_C_K;
+    return BW * y / (AW - y) + TG_ZERO_C_K;
+}
+
+tg_status tg_dew_point_from_rh(TG_FLOAT t_k, TG_FLOAT rh_pct, int ice, TG_FLOAT *out)
+{
+    TG_FLOAT td;
+    if (ice != 0 && ice != 1)
+        return tg__fail(TG_RANGE, out);      /* errors.check_flag */
+    TG_TRY(tg__check_t_k(t_k, TG_T_LO, TG_T_HI, TG_RANGE));
+    TG_TRY(tg__check_rh(rh_pct, TG_L(3.0), TG_RANGE));
+    if (rh_pct <= TG_L(0.0))
+        return tg__fail(TG_RANGE, out);      /* dry air has no dew point */
+    td = tg__moisture_td_rh(t_k, rh_pct, ice);
     if (td < TG_L(150.0) || td > TG_L(350.0))
         return tg__fail(TG_MODEL_RANGE, out);
     *out = td;

@@ -40,6 +40,8 @@ static tg_status w_vapour_pressure_from_dew_point(const TG_FLOAT *a, TG_FLOAT *o
 static tg_status w_vapour_pressure_from_dew_point2(const TG_FLOAT *a, TG_FLOAT *o) { return tg_vapour_pressure_from_dew_point(A(0), A(1), 0, o); }
 static tg_status w_dew_point(const TG_FLOAT *a, TG_FLOAT *o) { return tg_dew_point(A(0), A(1), ICE(2), o); }
 static tg_status w_dew_point2(const TG_FLOAT *a, TG_FLOAT *o) { return tg_dew_point(A(0), A(1), 0, o); }
+static tg_status w_dew_point_from_rh(const TG_FLOAT *a, TG_FLOAT *o) { return tg_dew_point_from_rh(A(0), A(1), ICE(2), o); }
+static tg_status w_dew_point_from_rh2(const TG_FLOAT *a, TG_FLOAT *o) { return tg_dew_point_from_rh(A(0), A(1), 0, o); }
 static tg_status w_mixing_ratio(const TG_FLOAT *a, TG_FLOAT *o) { return tg_mixing_ratio(A(0), A(1), o); }
 static tg_status w_specific_humidity(const TG_FLOAT *a, TG_FLOAT *o) { return tg_specific_humidity(A(0), A(1), o); }
 static tg_status w_virtual_temperature(const TG_FLOAT *a, TG_FLOAT *o) { return tg_virtual_temperature(A(0), A(1), A(2), ICE(3), o); }
@@ -109,6 +111,8 @@ static const struct { const char *name; int nargs; fn_t fn; } MAP[] = {
     {"vapour_pressure_from_dew_point", 2, w_vapour_pressure_from_dew_point2},
     {"dew_point", 3, w_dew_point},
     {"dew_point", 2, w_dew_point2},
+    {"dew_point_from_rh", 3, w_dew_point_from_rh},
+    {"dew_point_from_rh", 2, w_dew_point_from_rh2},
     {"mixing_ratio", 2, w_mixing_ratio},
     {"specific_humidity", 2, w_specific_humidity},
     {"virtual_temperature", 4, w_virtual_temperature},

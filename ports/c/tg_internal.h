@@ -150,6 +150,7 @@ TG_FLOAT tg__standard_bottom_gph_m(void);                            /* standard
 TG_FLOAT tg__moisture_es(TG_FLOAT t_k, int ice);                     /* E0_PA * moisture._ex */
 TG_FLOAT tg__moisture_f(TG_FLOAT p_pa);                              /* moisture._f */
 TG_FLOAT tg__moisture_tv_w(TG_FLOAT t_k, TG_FLOAT w);                /* moisture.tv_w */
+TG_FLOAT tg__moisture_td_rh(TG_FLOAT t_k, TG_FLOAT rh_pct, int ice); /* moisture.td_rh */
 /* potential.series: the series at one latitude, D_1(s)..D_6(s) then
  * 1*D_1(s)..6*D_6(s) (Python: a tuple of 12 floats; C fills the caller's array) */
 #define TG_PC_N 12

@@ -114,6 +114,8 @@ tg_status tg_vapour_pressure(TG_FLOAT t_k, TG_FLOAT p_pa, TG_FLOAT rh_pct, int i
 tg_status tg_vapour_pressure_from_dew_point(TG_FLOAT td_k, TG_FLOAT p_pa, int ice,
                                             TG_FLOAT *out);                         /* Pa */
 tg_status tg_dew_point(TG_FLOAT e_pa, TG_FLOAT p_pa, int ice, TG_FLOAT *out);       /* K */
+/* dew_point_from_rh(t_k, rh_pct, ice): TG_RANGE also for rh_pct <= 0 (dry air) */
+tg_status tg_dew_point_from_rh(TG_FLOAT t_k, TG_FLOAT rh_pct, int ice, TG_FLOAT *out);   /* K */
 tg_status tg_mixing_ratio(TG_FLOAT e_pa, TG_FLOAT p_pa, TG_FLOAT *out);             /* kg/kg */
 tg_status tg_specific_humidity(TG_FLOAT e_pa, TG_FLOAT p_pa, TG_FLOAT *out);        /* kg/kg */
 tg_status tg_virtual_temperature(TG_FLOAT t_k, TG_FLOAT p_pa, TG_FLOAT rh_pct, int ice,
