@@ -721,7 +721,7 @@ static int compute(tg_column *col, const tg_rec *a, tg_rec *n)
  * record n on top of record a (NULL: n is the first reading): lay = Tv0 + Tv
  * of n's layer, half = (Rd/g0)/2 ln(p0/p) = dz/dTv of either end of it. Run
  * when n is kept (accepted, retracting the latest reading, or joining a run). */
-static void sigma(const tg_column *col, const tg_rec *restrict a, tg_rec *restrict n)
+TG_INLINE void sigma(const tg_column *col, const tg_rec *restrict a, tg_rec *restrict n)
 {
     TG_FLOAT half, slope, sr, tm2, pco, ct;
     if (!col->track_sigma)

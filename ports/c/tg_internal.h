@@ -56,14 +56,18 @@
  * taken jumps. They change no result. */
 /* TG_INLINE: a small static function of the per-reading path that is
  * worth inlining into its callers (GCC's own choice differs; measured with
- * bench/c_feed_cost.py, see column.c where it is used). */
+ * bench/c_feed_cost.py, see column.c where it is used); forced only when
+ * optimising for speed, so that an -Os build stays small. */
 #if defined(__GNUC__)
 #define TG_LIKELY(x) __builtin_expect(!!(x), 1)
 #define TG_UNLIKELY(x) __builtin_expect(!!(x), 0)
-#define TG_INLINE static inline __attribute__((always_inline))
 #else
 #define TG_LIKELY(x) (x)
 #define TG_UNLIKELY(x) (x)
+#endif
+#if defined(__GNUC__) && !defined(__OPTIMIZE_SIZE__)
+#define TG_INLINE static inline __attribute__((always_inline))
+#else
 #define TG_INLINE static inline
 #endif
 
