@@ -660,11 +660,7 @@ static int compute(tg_column *col, const tg_rec *a, tg_rec *n)
                 col->why = TG_REASON_TEMPERATURE;
             }
         }
-        if (TG_LIKELY(tsr == tsr)) {
-            rdh = a->rdh;
-            rdt = a->rdt;
-        }
-        if (dt == dt && a->h_tm == a->h_tm) {
+        if (TG_LIKELY(dt == dt && a->h_tm == a->h_tm)) {
             dh = h - a->h_tm;
             if (TG_LIKELY(dt > TG_L(0.0))) {
                 /* rate_m_s = dh/dt, built where it is read */
@@ -686,7 +682,12 @@ static int compute(tg_column *col, const tg_rec *a, tg_rec *n)
             } else {
                 /* a repeated time stamp: no rate check is possible for this step */
                 flags |= TG_FL_SAME_TIME;
+                rdh = a->rdh;
+                rdt = a->rdt;
             }
+        } else if (tsr == tsr) {
+            rdh = a->rdh;
+            rdt = a->rdt;
         }
     }
     n->rdh = rdh;
