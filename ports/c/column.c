@@ -1064,7 +1064,7 @@ static int confirm(tg_column *col, const tg_rec *r)
         TG_FLOAT dt = r->dt;
         if (TG_UNLIKELY(dt != dt))
             dt = r->tsr != r->tsr ? TG_L(1.0) : TG_L(0.0);
-        if (dt > TG_L(0.0))
+        if (TG_LIKELY(dt > TG_L(0.0)))
             track(col, g, dt);
         ph = col->phase;
         if (ph <= TG_PH_FLOAT) {
@@ -1304,20 +1304,19 @@ tg_status tg_column_feed(tg_column *col, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_F
 {
     tg_rec *n = REC(col, col->n), *h;
     int k, ok;
-    *bits = 0;
     if (TG_UNLIKELY(check(col, n, p_pa, t_k, rh_pct, time_s, gps_m) < 0))   /* 1. the values on their own */
-        return TG_READING;
+        goto rejected;
     h = H(col);
     if (TG_UNLIKELY(col->count == 0)) {                         /* 2. the first reading: the start */
         if (compute(col, NULL, n) < 0)
-            return TG_READING;
+            goto rejected;
         sigma(col, NULL, n);
         *bits = advance(col, h, n);
         return TG_OK;
     }
     k = compute(col, h, n);                                     /* 3. on top of the latest reading */
     if (TG_UNLIKELY(k < 0))
-        return TG_READING;
+        goto rejected;
     ok = k == 0;
     if (TG_LIKELY(ok && !col->run)) {
         sigma(col, h, n);
@@ -1326,9 +1325,12 @@ tg_status tg_column_feed(tg_column *col, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_F
     }
     k = recover(col, n, ok);                                    /* 4. or: look-back, recovery */
     if (k < 0)
-        return TG_READING;
+        goto rejected;
     *bits = k;
     return TG_OK;
+rejected:                  /* Python raises ReadingError: no bits */
+    *bits = 0;
+    return TG_READING;
 }
 
 /* ------------------------------------------------------------ the latest reading */

@@ -279,12 +279,14 @@ static inline TG_FLOAT tg__moisture_ex(TG_FLOAT t_k, int ice)
  * Tv = T/(1 - r) and dTv/dRH = Tv rh_q at constant T and p. No checks. */
 static inline TG_FLOAT tg__moisture_rh_q(TG_FLOAT t_k, TG_FLOAT p_pa, int ice)
 {
-    TG_FLOAT qf;
+    /* Python forms qf before it calls _ex; C after (the same values and
+     * operations: qf * ex / p_pa), so that qf is not kept across the call */
+    TG_FLOAT ex = tg__moisture_ex(t_k, ice), qf;
     if (p_pa <= TGPY_MOISTURE_F_ONE_PA)
         qf = TG_QC;
     else
         qf = TG_QC_F0 + TG_QC_F1 * p_pa - TG_QC_F2 / p_pa;
-    return qf * tg__moisture_ex(t_k, ice) / p_pa;
+    return qf * ex / p_pa;
 }
 
 #endif /* TG_INTERNAL_H */
