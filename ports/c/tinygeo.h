@@ -240,7 +240,7 @@ typedef struct tg_nodes {
 typedef struct tg_rec {
     TG_FLOAT p_pa, t_k, rh_pct, tv_k, gph_m, c, height_m, rdh, rdt, q, half, lay;
     tg_time tsr, tr, t0;
-    TG_FLOAT dt, g_t, h_tm, h_p, h_t, h_rh, w, gps_m, gps_diff_m;
+    TG_FLOAT dt, g_t, h_tm, h_rh, h_t, h_p, w, gps_m, gps_diff_m;
     TG_FLOAT var_done, var_p, ct, tm2, s2, p_start, sum_rh, sum_p, slope, sum_hum, tvh;
     TG_FLOAT gpsr;
     int32_t gps_given, flags, gps_here, has_nodes;
