@@ -9,8 +9,8 @@ tests/wasm32``, run with node)::
 The package is split as the issues split it: the core (the package
 ``__init__`` and the formula modules: constants, errors, gravity, potential,
 moisture, layers, standard, sealevel) and the streaming column (column.py
-and _column_rare.py, which the column loads on first use of a checkpoint or
-re-anchor). Budgets: core ``.mpy`` <= 16 KB total; importing the core <= 12
+with checkpoint.py, which it loads on first use of a checkpoint, and
+record.py, the table rows a logger writes; station.py when present). Budgets: core ``.mpy`` <= 16 KB total; importing the core <= 12
 KB of heap. Two runtimes: ``u64``, the MicroPython unix runtime (64-bit
 words, 32-byte GC blocks), and ``w32``, the MicroPython WebAssembly port run
 by tests/wasm32/run.mjs under node (32-bit words, 16-byte GC blocks, a float
@@ -64,9 +64,13 @@ from make_package import core_files  # noqa: E402
 MPY_BUDGET = 16 * 1024
 IMPORT_BUDGET = 12 * 1024
 # the streaming column (its own issue and figures) and what a logger skips
-COLUMN_FILES = ("tinygeo/column.py", "tinygeo/_column_rare.py")
-COLUMN_MODULES = ("tinygeo.column", "tinygeo._column_rare")
-NOT_IN_LOGGER = ("tinygeo/_column_rare.py", "tinygeo/gravity.py", "tinygeo/standard.py", "tinygeo/sealevel.py")
+# the streaming classes and their helpers (their own issues and figures),
+# and what a logger skips (checkpoint.py and record.py are loaded on first
+# checkpoint / table row)
+COLUMN_FILES = ("tinygeo/column.py", "tinygeo/checkpoint.py", "tinygeo/record.py", "tinygeo/station.py")
+COLUMN_MODULES = ("tinygeo.column", "tinygeo.checkpoint", "tinygeo.record", "tinygeo.station")
+NOT_IN_LOGGER = ("tinygeo/checkpoint.py", "tinygeo/record.py", "tinygeo/station.py",
+                 "tinygeo/gravity.py", "tinygeo/sealevel.py")
 WASM32_RUN = os.path.join(ROOT, "tests", "wasm32", "run.mjs")
 
 # Runs under MicroPython (unix, or the 32-bit WebAssembly port through

@@ -1,4 +1,5 @@
-"""The C port (ports/c/) against the Python core.
+"""The C port (ports/c/) against the Python core (parity and float32 precision
+checks, not accuracy references: the shared vectors are the accuracy check).
 
 Builds ports/c/ with gcc (-std=c99 -Wall -Wextra -Werror -O2 -lm) twice:
 TG_FLOAT double (the default) and TG_FLOAT float (single precision, with
@@ -22,8 +23,8 @@ double), and checks:
 * a 32-bit build (gcc -m32, 32-bit long) under UBSan restores checkpoints with
   negative int32s and counters at INT32_MAX without an overflow.
 
-When gcc is missing the tests skip, except under CI (env CI=true) where they
-fail. Everything runs in a few seconds.
+When gcc (or its sanitizer runtime) is missing the tests skip, except under CI
+(env CI=true) where they fail: .ci/run installs gcc. Everything runs in a few seconds.
 """
 import math
 import os
@@ -42,6 +43,7 @@ VEC_DIR = os.path.join(HERE, "vectors")
 sys.path.insert(0, HERE)
 
 import floatemu  # noqa: E402
+from conftest import IN_CI  # noqa: E402
 import tinygeo  # noqa: E402
 from tinygeo import standard, errors  # noqa: E402
 from tinygeo.constants import Ellipsoid, WGS84, GRS80  # noqa: E402
@@ -79,7 +81,7 @@ def build():
     'dir'}."""
     gcc = shutil.which("gcc")
     if gcc is None:
-        if os.environ.get("CI", "").lower() == "true":
+        if IN_CI:
             pytest.fail("gcc not found, and CI=true: the C port must be tested in CI")
         pytest.skip("gcc not found (install gcc to test ports/c)")
     tmp = tempfile.mkdtemp(prefix="tinygeo_c_")
@@ -530,7 +532,8 @@ def test_shared_vectors_float_report(build):
 
 def test_double_agrees_with_cpython(build):
     """Same inputs, same values: the double build matches CPython tinygeo to
-    1e-12 relative (in practice bit for bit, see the count printed)."""
+    4 ulps (a parity check, not an accuracy reference; measured bit for bit on
+    x86-64 glibc, see the count printed; was 1e-12 relative)."""
     cases = _cases(150, False)
     got = _run_cases(build["double"], build["dir"], "double_random", cases)
     worst = 0.0
@@ -547,7 +550,7 @@ def test_double_agrees_with_cpython(build):
             continue
         err = abs(value - ref) / max(abs(ref), 1e-300)
         worst = max(worst, err)
-        assert err <= 1e-12, "%s%r: C %r, Python %r (rel %.3g)" % (name, args, value, ref, err)
+        assert err <= 4 * 2.0 ** -52, "%s%r: C %r, Python %r (rel %.3g)" % (name, args, value, ref, err)
     print("double build: %d of %d results bit-identical to CPython (%d inputs raised in "
           "both), worst rel diff %.3g" % (identical, n_ok, len(cases) - n_ok, worst))
 
@@ -598,12 +601,13 @@ def test_float_within_budget(build):
     assert not over, over
 
 
-EMU_ULPS = 16
+EMU_ULPS = 4
 """Largest distance, in float32 ulps of the result, allowed between the C float
 build and the f32 emulation of the Python module on the same inputs. Both round
 every operation to binary32; they differ by the libm (glibc's expf/logf/sinf/
 expm1f vs correctly rounded) and by constant folding; the worst cases are
-results formed by cancellation (measured maxima are printed)."""
+results formed by cancellation (measured maxima are printed: 2 ulps at most,
+x86-64 glibc; was 16)."""
 
 
 def test_float_close_to_float32_emulation(build):
@@ -693,7 +697,7 @@ def test_sanitizers(build):
     """An ASan/UBSan double build runs the shared vectors, random and bad inputs clean."""
     exe = build["asan"]
     if exe is None:
-        if "sanitize" in build["asan_err"] or "asan" in build["asan_err"]:
+        if ("sanitize" in build["asan_err"] or "asan" in build["asan_err"]) and not IN_CI:
             pytest.skip("this gcc has no sanitizer runtime: " + build["asan_err"][-200:])
         pytest.fail("sanitizer build failed: " + build["asan_err"])
     path = os.path.join(build["dir"], "asan_cases.txt")
@@ -883,7 +887,7 @@ def test_column_double_matches_python_bit_for_bit(build):
 
 COL_FLOAT_BUDGET = {"gph_m": 0.005, "height_m": 0.012, "level_gph_m": 0.004, "level_height_m": 0.004,
                     "max_gph_m": 0.004, "burst_gph_m": 0.001, "rate_m_s": 0.004, "tv_k": 8e-05,
-                    "sigma_m": 5e-4, "gps_diff_m": 0.005}
+                    "sigma_m": 1e-4, "gps_diff_m": 0.005}   # sigma_m: measured 4.9e-5, was 5e-4
 """Float build vs Python float64 on the float32-rounded sounding (3100 readings
 to 31 km and back): largest differences allowed, in the attribute's unit
 (measured values printed by the test and listed in ports/c/README.md)."""
@@ -1264,7 +1268,7 @@ def test_column_sanitizers(build):
     double build's, line for line."""
     exe = build["column_asan"]
     if exe is None:
-        if "sanitize" in build["asan_err"] or "asan" in build["asan_err"]:
+        if ("sanitize" in build["asan_err"] or "asan" in build["asan_err"]) and not IN_CI:
             pytest.skip("this gcc has no sanitizer runtime: " + build["asan_err"][-200:])
         pytest.fail("sanitizer build failed: " + build["asan_err"])
     rng = random.Random(7)

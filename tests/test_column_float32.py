@@ -1,6 +1,8 @@
 """The column on float32 and truncating 30-bit MicroPython floats (emulated
 with tests/floatemu.py: the unmodified tinygeo modules with every float
-operation rounded) against a float64 evaluation of the same readings.
+operation rounded) against a float64 evaluation of the same readings (a
+precision check against the same code in float64, not an accuracy reference;
+the float64 column is checked against mpmath in tests/test_column.py).
 
 Targets (issue 3): a 0-35 km ascent at 5 m/s stays within 1 cm in float32 and
 10 cm with truncating 30-bit floats, at 1 Hz and 10 Hz. The full 10 Hz ascent

@@ -9,7 +9,9 @@ every input is first rounded to the mode's format and the float64 reference
 gets those rounded inputs, so the numbers below are the loss of the
 computation itself, not the quantisation of the inputs (a pressure of
 100 000 Pa is held to 0.0078 Pa in float32 and 0.031 Pa in 30 bits whatever
-the code does). Emulated libm is correctly rounded float32; a device libm may
+the code does). These are precision checks against the float64 run of the
+same code, not accuracy references (the float64 code is checked against
+published values and mpmath in the other test modules). Emulated libm is correctly rounded float32; a device libm may
 be 1-2 ulp worse in log/exp/sin (see floatemu's docstring).
 
 Budgets (largest error allowed over the sampled inputs; 'rel' is relative,

@@ -169,8 +169,11 @@ def test_iso_times_dew_point_and_tabs_replay_like_seconds_and_humidity(tmp_path)
     assert len(ra) == len(rb) > 500
     for x, y in zip(ra, rb):
         assert x["line"] == y["line"]
-        # same readings; dew point is printed to 0.01 degC and converted back
-        assert abs(x["height_m"] - y["height_m"]) < 0.5
+        # same readings; dew point is printed to 0.01 degC and converted back: half a
+        # unit (0.005 K) is about 0.3 Pa of vapour pressure near the ground, 4e-4 K of
+        # Tv, under 1 cm of height over the 8 km; measured 1 mm, the print rounding of
+        # the heights (was 0.5 m)
+        assert abs(x["height_m"] - y["height_m"]) < 0.012
         # times: seconds since the first timestamp vs seconds as written; the
         # simulator prints seconds to 0.01 s and timestamps to 1 ms, and both
         # sides are differences of two printed times
@@ -352,7 +355,7 @@ def _png_size(path):
 
 
 def test_plot_renders_png_and_svg(flight, tmp_path):
-    pytest.importorskip("matplotlib")
+    import matplotlib  # noqa: F401  (the plot extra; .ci/run installs it: a failure, not a skip)
     png = tmp_path / "p.png"
     run("plot", flight["table"], "-o", png)
     (w, h), size = _png_size(png)

@@ -376,11 +376,11 @@ class ScriptedColumn:
                 self.on_event(self, names["EV_LEVEL"])
             bits |= names["EV_LEVEL"]
         if self.phase == 0 and time_s >= FLIGHT.top_time_s + 3.0:
-            self.phase = 2
+            self.phase = names["PH_DESCENT"]
             self.burst_gph_m, self.burst_time_s = 35000.0 + 10.0, FLIGHT.top_time_s - 1.0
             bits |= names["EV_BURST"]
-        if self.phase == 2 and time_s >= FLIGHT.touchdown_time_s + 60.0:
-            self.phase = 3
+        if self.phase == names["PH_DESCENT"] and time_s >= FLIGHT.touchdown_time_s + 60.0:
+            self.phase = names["PH_LANDED"]
             bits |= names["EV_LANDED"]
         return bits
 

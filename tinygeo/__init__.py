@@ -23,6 +23,8 @@ standard atmosphere or the sea-level reductions (bench/size.py measures both).
 you use there.
 """
 __version__ = "0.1.0"
+"""The version, written only here (pyproject.toml and the MicroPython package
+files read it from this line)."""
 
 # "module:" followed by the public names it gives the package, space-separated
 # (and space-framed); one string, so no tuple of ~60 names is built at import
@@ -37,18 +39,25 @@ _WHERE = (
     "layers: ln_ratio layer_thickness layer_thickness_lapse pressure_across_layer layer_mean_tv "
     "standard: standard_temperature standard_pressure pressure_altitude "
     "sealevel: sea_level_pressure qfe qnh indicated_altitude "
-    "column: Column EV_LEVEL EV_TROPOPAUSE EV_BURST EV_LANDED EV_LAUNCH FL_DRY FL_HELD_MIXING "
-    "FL_NO_TIME FL_DESCENT FL_SAME_P PH_WAIT PH_ASCENT PH_DESCENT PH_LANDED "
+    "column: Column EV_LEVEL EV_TROPOPAUSE EV_BURST EV_LANDED EV_LAUNCH EV_FLOAT FL_DRY "
+    "FL_HELD_MIXING FL_NO_TIME FL_DESCENT FL_SAME_P FL_NO_GPS FL_CAPPED FL_REPLACED FL_TAKEOVER "
+    "FL_SAME_TIME PH_WAIT PH_ASCENT PH_FLOAT PH_DESCENT PH_LANDED "
 )
+
+
+def __dir__():
+    # the public names (module __dir__, PEP 562): a REPL completes them
+    # without importing every module
+    a = ["__version__"]
+    for n in _WHERE.split():
+        if n[-1] != ":":
+            a.append(n)
+    return a
 
 
 def __getattr__(name):
     if name == "__all__":
-        a = ["__version__"]
-        for n in _WHERE.split():
-            if n[-1] != ":":
-                a.append(n)
-        return a
+        return __dir__()
     # " name " in the table: its module is the last "module:" before it
     i = _WHERE.find(" " + name + " ")
     if i < 1 or ":" in name or " " in name:

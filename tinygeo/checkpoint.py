@@ -33,7 +33,7 @@ from .errors import CheckpointError, quote
 try:
     from binascii import crc32 as _crc32
 except ImportError:  # pragma: no cover - firmware without binascii.crc32
-    _crc32 = None
+    _crc32 = None  # type: ignore
 
 HEAD = "<4sBH"
 """magic, version, payload length (7 bytes)."""

@@ -510,12 +510,12 @@ _ST_I = ("count", "rejected", "retracted", "phase", "_has_b", "_e_n", "_lvl", "_
 # "n" where nan means "not known yet"); kept as text: read only on a restore
 _RESTORE_COL = ("count 0 1073741823;rejected 0 1073741823;retracted 0 1073741823;phase 0 4;"
                 "_has_b 0 1;_e_n 0 *;_lvl 0 16;_burst_n 0 *;_tb_n 0 *;_tp_state 0 3;"
-                "smooth_gph_m -20000 200000 n;max_gph_m -20000 200000 n;"
+                "smooth_gph_m -250000 250000 n;max_gph_m -250000 250000 n;"
                 "burst_p_pa 0.1 120000 n;level_p_pa 1000 100000 n;level_t_k 150 350 n;"
                 "tropopause_p_pa 0 120000 n;tropopause_t_k 150 350 n;_var_anchor 0 *;"
                 "_f_dt 0 * n;_f_a 0 1 n;_f_cx 0 * n;_f_cv 0 * n")
 _RESTORE_REC = ("p_pa 0.1 120000;t_k 150 350;rh_pct -3 103 n;tv_k 150 350;"
-                "gph_m -20000 200000;c -1 1;height_m -20000 200000 n;dt 0 * n;"
+                "gph_m -250000 250000;c -1 1;height_m -250000 250000 n;dt 0 * n;"
                 "h_t 150 350 n;h_p 0.1 120000 n;h_rh -3 103 n;w 0 1 n;"
                 "gps_m -1000 100000 n;var_done 0 *;var_p 0 *;tm2 0 700;s2 0 *;"
                 "p_start 0.1 120000 n;tvh 0 *;flags 0 1023;gps_here 0 1")
@@ -547,7 +547,7 @@ class Column:
     _n_g: float; _n_h: float; _n_k1: float; _n_k2: float; _n_lo: float; _n_hi: float
     _var_anchor: float
     count: int; rejected: int; retracted: int; phase: int; _has_b: int; _e_n: int
-    _lvl: int; _burst_n: int; _tb_n: int; _tp_state: int
+    _lvl: int; _burst_n: int; _tb_n: int; _tp_state: int; _t0_int: int; _t0_hi: int; _t0_lo: int
 
     def __init__(self, lat_deg, start_height_m=0, anchor_p_pa=None, ellipsoid=WGS84,
                  ice=False, dry_fallback=False, sigma_p_pa=10, sigma_t_k=0.2,
@@ -648,6 +648,7 @@ class Column:
         self._b = _Rec()
         self._n = _Rec()
         self._m = _Rec()
+        self._k = _Rec()
         self._cr = _Rec()          # the latest reading of the run (recovery memory)
         self._run = 0              # readings in the run
         self._run_b = 0            # of which the latest ones in a row agree with _b
@@ -1059,12 +1060,16 @@ class Column:
         # run of readings that contradicted it is under way (ok: n agrees with
         # the latest reading too; n holds the state on top of it).
         # Look-back: a reading that agrees with the reading before the latest
-        # one, right after one that contradicted the latest and agreed with
-        # the one before, retracts the latest. Else n joins the run if it
-        # agrees with the run's latest reading (or starts one if it contradicts
-        # the latest reading); takeover_readings of them in a row are followed.
-        # A reading that agrees with the latest one but not with the run is
-        # accepted (the run was noise).
+        # one and with the run's latest reading, right after a run reading that
+        # also agreed with the one before, retracts the latest, unless it also
+        # agrees with the latest and fits it better (_fit). Else n joins
+        # the run if it agrees with the run's latest reading and contradicts
+        # the latest reading (or the latest is the unconfirmed first reading,
+        # or the run has two readings already); a reading that contradicts the
+        # latest one and not the run starts a new run; takeover_readings of
+        # them in a row are followed. A reading that agrees with the latest one
+        # and is not taken by the run is accepted (the run was a glitch).
+        why_h = self._why       # how n contradicts the latest reading (when not ok)
         m = self._m
         # the reading, into the second scratch record
         m.p_pa = n.p_pa
@@ -1073,8 +1078,21 @@ class Column:
         m.tsr = n.tsr
         m.gpsr = n.gpsr
         agree_b = self._has_b and self._compute(self._b, m) == 0
-        if agree_b and self._run_b:
-            # the latest reading was the bad one: go on from the one before
+        # does n agree with the run's latest reading? (computed on top of it)
+        k = self._k
+        k.p_pa = n.p_pa
+        k.t_k = n.t_k
+        k.rh_pct = n.rh_pct
+        k.tsr = n.tsr
+        k.gpsr = n.gpsr
+        cr = self._cr
+        in_run = self._run and self._compute(cr, k) == 0
+        if agree_b and self._run_b and in_run and (not ok or self._fit(self._b, m) <
+                                                    self._fit(self._h, n)):
+            # two readings in a row agree with each other and with the reading
+            # before the latest one, the first contradicted the latest and the
+            # second contradicts it too or fits the one before better: the
+            # latest was the bad one; go on from the one before
             self._m = self._h
             self._h = m
             m.flags |= FL_REPLACED
@@ -1083,9 +1101,11 @@ class Column:
                 self.retracted += 1
             self._accept(m, 0)
             return 0
-        cr = self._cr
-        if self._run and self._compute(cr, m) == 0:
-            new = m                # the run goes on
+        if in_run and (not ok or not self._has_b or self._run >= 2):
+            # the run goes on: n agrees with it, and contradicts the latest
+            # reading, or the latest is the first one (not confirmed yet), or
+            # the run already has two readings that agree with each other
+            new = k
             self._run += 1
         elif ok:
             return self._advance()
@@ -1093,12 +1113,12 @@ class Column:
             # a new run: on top of the latest reading, or, when nothing is
             # confirmed yet (the first reading may be the bad one), afresh
             # from the start height
-            self._run_why = self._why
+            self._run_why = why_h
             if self._has_b:
                 new = n
             else:
-                self._compute(None, m)
-                new = m
+                self._compute(None, k)
+                new = k
             self._run = 1
             self._run_b = 0
         if agree_b:
@@ -1107,8 +1127,8 @@ class Column:
             self._run_b = 0
         # new becomes the run's latest reading; its slot takes the old one
         self._cr = new
-        if new is m:
-            self._m = cr
+        if new is k:
+            self._k = cr
         else:
             self._n = cr
         if self._run < self.takeover_readings:
@@ -1124,7 +1144,7 @@ class Column:
         if self._n is cr:
             self._n = old_b
         else:
-            self._m = old_b
+            self._k = old_b
         new.flags |= FL_TAKEOVER
         if self._has_b:
             # the run's readings join the column's (they were rejected when
@@ -1141,10 +1161,29 @@ class Column:
         self._accept(new, 0)
         return self._tell(bits)
 
+    def _fit(self, a, r):
+        # how well reading r (computed on top of record a) fits a: the largest
+        # share of its allowance that the temperature step and the height
+        # change use (<= 1 when r agrees with a); only on the recovery path
+        f = 0.0
+        dt = r.dt
+        if self._t_lim == self._t_lim:
+            allow = self._t_lim + self.max_t_gradient_k_gpm * abs(r.gph_m - a.gph_m)
+            if dt == dt:
+                allow += self.max_t_rate_k_s * dt
+            f = abs(r.t_k - a.t_k) / allow
+        if dt == dt and dt > 0 and a.h_tm == a.h_tm and self._max_rate == self._max_rate:
+            q = abs(r.height_m - a.h_tm) / (self._max_rate * dt + self._kn * r.tv_k / r.p_pa)
+            if q > f:
+                f = q
+        return f
+
     def _refuse(self):
         # raise ReadingError for the contradiction in self._why
         w = self._why
         self._why = None
+        if w is None:     # not reached: every contradiction sets its reason
+            w = ("rate", 13, "?", "contradicts the latest reading")
         self._bad(w[0], w[1], *w[2:])
 
     def _inc_rejected(self):
@@ -1616,11 +1655,12 @@ class Column:
         int32 halves (a float32 board restores int stamps exactly)."""
         from .checkpoint import pack
         t0 = self._h.t0
-        t0i = isinstance(t0, int) and not isinstance(t0, bool) and -(1 << 62) < t0 < (1 << 62)
-        self._t0_int = 1 if t0i else 0
-        self._t0_hi = (t0 >> 32) if t0i else 0
-        self._t0_lo = (t0 & 0xFFFFFFFF) - (1 << 32) if t0i and t0 & 0x80000000 else \
-            ((t0 & 0xFFFFFFFF) if t0i else 0)
+        self._t0_int = self._t0_hi = self._t0_lo = 0
+        if isinstance(t0, int) and not isinstance(t0, bool) and -(1 << 62) < t0 < (1 << 62):
+            lo = t0 & 0xFFFFFFFF
+            self._t0_int = 1
+            self._t0_hi = t0 >> 32
+            self._t0_lo = lo - (1 << 32) if lo & 0x80000000 else lo
         f = []
         for n in _CFG_F:
             v = getattr(self, n)

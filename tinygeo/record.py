@@ -115,12 +115,25 @@ def column_row(line, col, bits, rh_pct=None, gps_m=None, td_k=None):
                col.rate_m_s, col.sigma_m, col.flags, events_text(bits, col.level_p_pa))
 
 
+# the column settings a site line carries (what a reader needs to rebuild
+# the same column), in this order
+SITE_KEYS = ("lat_deg", "start_height_m", "anchor_p_pa", "sigma_p_pa", "sigma_t_k", "sigma_rh_pct",
+             "bias_p_pa", "bias_t_k", "bias_rh_pct", "max_rate_m_s", "time_unit_s", "ice",
+             "dry_fallback")
+
+
 def site_line(col):
-    """The ``# site`` line describing a column's set-up (the keywords a reader
-    needs to rebuild the same column: latitude, start height, anchor)."""
-    return "%slat_deg=%r start_height_m=%r anchor_p_pa=%r" % (
-        SITE_PREFIX, col.lat_deg, col.start_height_m,
-        _NAN if col.anchor_p_pa is None else col.anchor_p_pa)
+    """The ``# site`` line describing a column's set-up: ``key=value`` words
+    of SITE_KEYS (nan for a setting that is None, 1/0 for True/False)."""
+    out = SITE_PREFIX[:-1]
+    for k in SITE_KEYS:
+        v = getattr(col, k)
+        if v is None:
+            v = _NAN
+        elif v is True or v is False:
+            v = 1 if v else 0
+        out += " %s=%r" % (k, v)
+    return out
 
 
 def end_line(rows, col):

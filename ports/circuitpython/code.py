@@ -80,8 +80,8 @@ def run():
         print_events(sensor.index - 1, col, bits)
 
     book = Checkpoints(path)
-    book.enabled = path != ""
-    restored = book.load(on_event) if book.enabled else None
+    storage = path != ""          # TINYGEO_CHECKPOINT="" runs without checkpoints
+    restored = book.load(on_event) if storage else None
     if restored is None:
         column = Column(LAT_DEG, START_HEIGHT_M, on_event=on_event)
         print("start new log at reading 0")
@@ -101,7 +101,7 @@ def run():
             print("#%d rejected %s: %s" % (index, e.reason, e))
         if show and index % show == 0:
             print(status_line(index, column))
-        if every and sensor.index % every == 0:
+        if storage and every and sensor.index % every == 0:
             if not book.save(sensor.index, column) and book.note:
                 print(book.note)
                 book.note = ""
@@ -115,7 +115,7 @@ def run():
                 time.sleep(wait_ns * 1e-9)
     if taken == 0 and restored is not None:
         print(ENDED_LINE)
-    if book.enabled:
+    if storage:
         book.save(sensor.index, column)
     print(summary_line(column))
     return column

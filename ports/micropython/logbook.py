@@ -5,24 +5,31 @@ two slot files (``<path>.0`` and ``<path>.1``) are written in turn, so the
 slot holding the newest good checkpoint is never the one being overwritten.
 Each slot holds::
 
-    b"TGLB"  index (uint32 LE)  index ^ 0xFFFFFFFF (uint32 LE)  Column.to_bytes()
+    b"TGL2"  index (uint32 LE)  Column.to_bytes()  CRC-32 (uint32 LE)
 
-``index`` is the number of the next reading the logger will take. A slot that
-is missing, torn or corrupted is skipped (the column's own blob check raises
-``CheckpointError``; the header carries its complement), and the newest good
-one is restored. No rename is needed, which matters because renaming over an
-existing file fails on FAT and is not atomic everywhere.
+``index`` is the number of the next reading the logger will take; the CRC-32
+(tinygeo.checkpoint.crc32) covers everything before it, the slot header
+included, so a torn write (header written, blob not) or a corrupted index is
+never taken for a checkpoint. A slot that is missing, torn or corrupted is
+skipped (the column's own blob check raises ``CheckpointError`` too), and the
+newest good one is restored. No rename is needed, which matters because
+renaming over an existing file fails on FAT and is not atomic everywhere.
+
+A write that fails (storage full, a transient bus error) is reported in
+``note`` and retried at the next checkpoint, into the same slot: checkpointing
+is never switched off, and the other slot keeps the newest good checkpoint
+meanwhile. ``failures`` counts the failed writes.
 
 Runs unchanged under CPython, MicroPython and CircuitPython.
 """
 import struct
 
-from tinygeo.column import Column, EV_LEVEL, EV_TROPOPAUSE, EV_BURST, EV_LANDED, EV_LAUNCH
+from tinygeo.column import Column, EV_LEVEL, EV_TROPOPAUSE, EV_BURST, EV_LANDED, EV_LAUNCH, EV_FLOAT
+from tinygeo.checkpoint import crc32
 from tinygeo.errors import CheckpointError
 
-MAGIC = b"TGLB"
-_HEADER = "<II"
-_HEADER_LEN = 4 + 8
+MAGIC = b"TGL2"
+_HEADER_LEN = 4 + 4
 
 
 class Checkpoints:
@@ -30,9 +37,9 @@ class Checkpoints:
 
     def __init__(self, path):
         self.path = path
-        self.enabled = True
         self._next_slot = 0
         self.note = ""
+        self.failures = 0         # failed writes so far (each retried at the next save)
         self.loaded_from = ""     # slot file of the checkpoint load() returned
 
     def slot_path(self, slot):
@@ -48,13 +55,15 @@ class Checkpoints:
             data = f.read()
         finally:
             f.close()
-        if len(data) < _HEADER_LEN or data[:4] != MAGIC:
+        n = len(data)
+        if n < _HEADER_LEN + 4 or data[:4] != MAGIC:
             return None
-        index, check = struct.unpack(_HEADER, data[4:_HEADER_LEN])
-        if index ^ 0xFFFFFFFF != check:
+        (crc,) = struct.unpack("<I", data[n - 4:])
+        if crc != crc32(data[:n - 4]):
             return None
+        (index,) = struct.unpack("<I", data[4:_HEADER_LEN])
         try:
-            column = Column.from_bytes(data[_HEADER_LEN:], on_event)
+            column = Column.from_bytes(data[_HEADER_LEN:n - 4], on_event)
         except CheckpointError:
             return None
         return index, column
@@ -76,20 +85,20 @@ class Checkpoints:
         return best
 
     def save(self, index, column):
-        """Write a checkpoint; return True, or False if the storage is read-only
-        or full (checkpointing is then switched off and ``note`` says why)."""
-        if not self.enabled:
-            return False
-        data = MAGIC + struct.pack(_HEADER, index, index ^ 0xFFFFFFFF) + column.to_bytes()
+        """Write a checkpoint; return True, or False if the write failed (then
+        ``note`` says why and the next save tries the same slot again)."""
+        data = MAGIC + struct.pack("<I", index) + column.to_bytes()
+        data += struct.pack("<I", crc32(data))
+        path = self.slot_path(self._next_slot)
         try:
-            f = open(self.slot_path(self._next_slot), "wb")
+            f = open(path, "wb")
             try:
                 f.write(data)
             finally:
                 f.close()
         except OSError as e:
-            self.enabled = False
-            self.note = "checkpoints off: cannot write %s (%s)" % (self.slot_path(self._next_slot), e)
+            self.failures += 1
+            self.note = "checkpoint not written to %s (%s); retried at the next one" % (path, e)
             return False
         self._next_slot = 1 - self._next_slot
         return True
@@ -109,10 +118,10 @@ ENDED_LINE = "no new readings after the checkpoint: this log had ended"
 
 def status_line(index, column):
     """One line with the live heights of the latest accepted reading."""
-    return ("#%d t %.1f s p %.2f Pa gph %.2f gpm h %.2f m rate %.2f m/s sigma %.2f m "
+    return ("#%d t %.1f s p %.2f Pa gph %.2f gpm h %.2f m rate %.2f gpm/s sigma %.2f m "
             "gps_diff %.2f m phase %d" % (
                 index, column.time_s, column.p_pa, column.gph_m, column.height_m,
-                column.rate_m_s, column.sigma_m, column.gps_diff_m, column.phase))
+                column.smooth_rate_gpm_s, column.sigma_m, column.gps_diff_m, column.phase))
 
 
 def print_events(index, column, bits):
@@ -123,13 +132,19 @@ def print_events(index, column, bits):
         print("#%d event level %.0f hPa at gph %.2f gpm h %.2f m" % (
             index, column.level_p_pa * 0.01, column.level_gph_m, column.level_height_m))
     if bits & EV_TROPOPAUSE:
-        print("#%d event tropopause p %.1f Pa gph %.2f gpm t %.2f K" % (
-            index, column.tropopause_p_pa, column.tropopause_gph_m, column.tropopause_t_k))
+        # the level itself (the event is confirmed 2 km above it)
+        print("#%d event tropopause (confirmed) at p %.1f Pa gph %.2f gpm t %.2f K, t %.1f s" % (
+            index, column.tropopause_p_pa, column.tropopause_gph_m, column.tropopause_t_k,
+            column.tropopause_time_s))
+    if bits & EV_FLOAT:
+        print("#%d event float at gph %.2f gpm since t %.1f s" % (
+            index, column.float_gph_m, column.float_time_s))
     if bits & EV_BURST:
         print("#%d event burst gph %.2f gpm at t %.1f s" % (
             index, column.burst_gph_m, column.burst_time_s))
     if bits & EV_LANDED:
-        print("#%d event landed h %.2f m at t %.1f s" % (index, column.height_m, column.time_s))
+        print("#%d event landed h %.2f m at t %.1f s" % (index, column.height_m,
+                                                        column.landing_time_s))
 
 
 def summary_line(column):

@@ -29,16 +29,23 @@ What it shows:
   on a device), so a second run on the host goes on from the first one's
   end: delete them, or give ``--checkpoint`` another path, for a new log.
 
+- with ``--table PATH`` (``TABLE`` below) every accepted reading is also
+  written as a row of tinygeo's table (tinygeo/record.py: the layout
+  ``tinygeo compare`` reads), so a host can check the device's numbers with
+  ``tinygeo compare PATH --log LOG``.
+
 Settings are the constants below; on the host each can also be given as
 ``--name value`` (``--step``, ``--checkpoint``, ``--checkpoint-every``,
-``--print-every``, ``--stop-after``, ``--pace-ms``). ``--stop-after N`` ends the
-run after N readings without a final checkpoint, as a power cut would.
+``--print-every``, ``--stop-after``, ``--pace-ms``, ``--table``).
+``--stop-after N`` ends the run after N readings without a final checkpoint,
+as a power cut would.
 """
 import sys
 import time
 
 from tinygeo.column import Column
 from tinygeo.errors import ReadingError
+from tinygeo import record
 
 from flightsim import SimulatedFlight, LAUNCH_HEIGHT_M
 from logbook import Checkpoints, status_line, print_events, summary_line, resume_line, ENDED_LINE
@@ -51,6 +58,7 @@ CHECKPOINT_EVERY = 60          # readings between checkpoints
 PRINT_EVERY = 60               # readings between status lines
 STOP_AFTER = 0                 # stop after this many readings, no final checkpoint (0 = never)
 PACE_MS = 0                    # sleep between readings, ms (a real sensor paces the loop)
+TABLE = ""                     # a file for the table rows of tinygeo/record.py ("" = none)
 
 
 def options(argv):
@@ -58,6 +66,7 @@ def options(argv):
     opts = {
         "step": STEP_S, "checkpoint": CHECKPOINT, "checkpoint-every": CHECKPOINT_EVERY,
         "print-every": PRINT_EVERY, "stop-after": STOP_AFTER, "pace-ms": PACE_MS,
+        "table": TABLE,
     }
     i = 0
     while i < len(argv):
@@ -105,12 +114,20 @@ def run(opts):
     every = opts["checkpoint-every"]
     show = opts["print-every"]
     stop_after = opts["stop-after"]
+    table = None
+    if opts["table"]:
+        # a resumed log appends to its table (the header is there already)
+        table = open(opts["table"], "a" if restored is not None else "w")
+        if restored is None:
+            table.write(record.MAGIC + "\n" + record.site_line(column) + "\n" + record.HEADER + "\n")
     taken = 0
     while sensor.read():
         index = sensor.index - 1
         taken += 1
         try:
-            column.feed(sensor.p_pa, sensor.t_k, sensor.rh_pct, sensor.time_s, sensor.gps_m)
+            bits = column.feed(sensor.p_pa, sensor.t_k, sensor.rh_pct, sensor.time_s, sensor.gps_m)
+            if table is not None:
+                table.write(record.column_row(index, column, bits, sensor.rh_pct, sensor.gps_m) + "\n")
         except ReadingError as e:
             print("#%d rejected %s: %s" % (index, e.reason, e))
         if show and index % show == 0:
@@ -121,11 +138,15 @@ def run(opts):
                 book.note = ""
         if stop_after and taken >= stop_after:
             print("stopped after %d readings (as by a power cut)" % taken)
+            if table is not None:
+                table.close()
             return column
         sleep_ms(opts["pace-ms"])
     if taken == 0 and restored is not None:
         print(ENDED_LINE)
     book.save(sensor.index, column)
+    if table is not None:
+        table.close()
     print(summary_line(column))
     return column
 

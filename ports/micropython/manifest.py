@@ -20,7 +20,7 @@ package(
     "tinygeo",
     files=(
         "__init__.py",
-        "_column_rare.py",
+        "checkpoint.py",
         "column.py",
         "constants.py",
         "errors.py",
@@ -28,6 +28,7 @@ package(
         "layers.py",
         "moisture.py",
         "potential.py",
+        "record.py",
         "sealevel.py",
         "standard.py",
     ),

@@ -14,6 +14,7 @@ Usage::
     python tests/microbit/mb_run.py script.py     # prints the output; exit 1 on error
 """
 import os
+import select
 import shutil
 import subprocess
 import sys
@@ -60,17 +61,23 @@ def run_session(codes, timeout=60.0, chunk=32, pause=0.05):
     state = {"buf": b""}
 
     def read_until(token, t_end):
+        # block in select() until the device writes (or the deadline passes):
+        # the wait ends on the device's own output, never on a fixed sleep
         while token not in state["buf"]:
-            if time.time() > t_end:
+            left = t_end - time.time()
+            if left <= 0:
                 raise TimeoutError("micro:bit: waiting for %r; got %r"
                                    % (token, state["buf"][-300:]))
             if p.poll() is not None and not state["buf"]:
                 raise RuntimeError("qemu exited with code %s" % p.returncode)
-            data = p.stdout.read()
-            if data:
-                state["buf"] += data
-            else:
-                time.sleep(0.01)
+            ready, _, _ = select.select([p.stdout], [], [], left)
+            if ready:
+                data = p.stdout.read()
+                if data:
+                    state["buf"] += data
+                elif p.poll() is not None:
+                    raise RuntimeError("qemu exited with code %s; got %r"
+                                       % (p.returncode, state["buf"][-300:]))
         buf = state["buf"]
         i = buf.index(token) + len(token)
         state["buf"] = buf[i:]
@@ -79,8 +86,8 @@ def run_session(codes, timeout=60.0, chunk=32, pause=0.05):
     outs = []
     try:
         t_end = time.time() + timeout
-        time.sleep(0.3)
-        p.stdin.write(b"\r\x03\x03")   # interrupt whatever runs
+        read_until(b">>> ", t_end)     # the boot banner ends with the REPL prompt
+        p.stdin.write(b"\r\x03\x03")   # interrupt whatever runs (nothing, on this firmware)
         p.stdin.flush()
         read_until(b">>> ", t_end)
         p.stdin.write(b"\x01")         # raw REPL
@@ -92,6 +99,9 @@ def run_session(codes, timeout=60.0, chunk=32, pause=0.05):
             for i in range(0, len(data), chunk):
                 p.stdin.write(data[i:i + chunk])
                 p.stdin.flush()
+                # a rate limit, not a synchronisation: the emulated UART has no
+                # flow control and drops bytes when written faster, and the raw
+                # REPL of this firmware echoes nothing to wait for
                 time.sleep(pause)
             p.stdin.write(b"\x04")         # end of script: compile and run
             p.stdin.flush()

@@ -7,8 +7,10 @@ Vector files (``tests/vectors/*.txt``) hold one case per line::
 
 ``<function>`` is a public name of the ``tinygeo`` package; every argument is a
 float literal (booleans as 0 or 1). ``<expected>`` is the published or
-high-precision reference value and ``<tol>`` the tolerance the source's printed
-digits (or the stated error budget of the method) allow. Blank lines and lines
+high-precision reference value and ``<tol>`` the tolerance: for a printed value
+what its digits allow, for a high-precision reference a little above the error
+measured on the double-precision runtimes (each file's header says what was
+measured and what the goal is). Blank lines and lines
 starting with ``#`` are ignored. The ``# source`` part is mandatory: it names
 where the expected value comes from.
 
