@@ -14,7 +14,7 @@ may write only what it computes. A value ``nan`` (or a column left out)
 means "not given / not computed".
 """
 from tinygeo import record
-from tinygeo.host.options import InputError
+from tinygeo.errors import TinygeoError
 
 MAGIC = record.MAGIC
 OLD_MAGIC = "# tinygeo replay table 1"
@@ -41,7 +41,7 @@ EV_FLOAT = EVENT_BITS["float"]
 NAN = float("nan")
 
 
-class TableError(InputError):
+class TableError(TinygeoError):
     """A table cannot be read (the message carries the line number); exit 2."""
 
 
