@@ -16,6 +16,15 @@ Each replay runs as its own process (``python -m tinygeo replay LOG -o
 /dev/null``) so its peak resident memory can be read with
 ``resource.getrusage(RUSAGE_CHILDREN).ru_maxrss`` after it ends (Linux: KiB).
 A replay that streams uses the same peak for 100 000 and 1 000 000 lines.
+
+In the same run, for the ratio the replay is judged by: the PLAIN script (a
+child process too: the csv module reads the same log, float() on every
+field, one formatted line written per row, to /dev/null), and the COLUMN
+FLOOR (in this process, on the readings already parsed: Column.feed and the
+public attributes a table row reads, gph_m height_m rate_m_s sigma_m flags;
+no parsing, no formatting): what the column alone costs per reading. The
+ratio replay/plain is printed; the floor/plain ratio says how much of it the
+column takes before the host does anything.
 Not run by the tests.
 """
 import argparse
@@ -58,6 +67,49 @@ def write_log(path, n):
             f.write("%d,%.2f,%.2f,%.1f\n" % (i, p / 100.0, tc, rh))
 
 
+PLAIN = r"""
+import csv, sys
+with open(sys.argv[1], newline="") as f, open("/dev/null", "w") as out:
+    for row in csv.reader(f):
+        if row[0].startswith("#") or row[0] == "time_s":
+            continue
+        a, b, c, d = [float(x) for x in row]
+        out.write("%.3f\t%.2f\t%.3f\t%.2f\n" % (a, b, c, d))
+"""
+
+
+def plain(path):
+    """The plain script on ``path`` in a child process; seconds."""
+    t0 = time.perf_counter()
+    p = subprocess.run([sys.executable, "-c", PLAIN, path], capture_output=True, text=True)
+    dt = time.perf_counter() - t0
+    if p.returncode != 0:
+        raise SystemExit("plain script failed: %s" % p.stderr[-2000:])
+    return dt
+
+
+def column_floor(path, limit):
+    """Seconds per reading of Column.feed plus the row's attribute reads over
+    the first ``limit`` readings of ``path`` (parsed beforehand)."""
+    from tinygeo.column import Column
+    rows = []
+    with open(path) as f:
+        for line in f:
+            if line[0] in "#t":
+                continue
+            a = line.split(",")
+            rows.append((float(a[1]) * 100.0, float(a[2]) + 273.15, float(a[3]), float(a[0])))
+            if len(rows) >= limit:
+                break
+    col = Column(LAT_DEG, SITE_M)
+    feed = col.feed
+    t0 = time.perf_counter()
+    for p, t, rh, ts in rows:
+        feed(p, t, rh, ts)
+        col.gph_m, col.height_m, col.rate_m_s, col.sigma_m, col.flags
+    return (time.perf_counter() - t0) / len(rows)
+
+
 def replay(path):
     """Replay ``path`` in a child process; return (seconds, peak RSS KiB, stderr)."""
     before = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss
@@ -88,11 +140,21 @@ def main():
     print("python %s, %s" % (sys.version.split()[0], sys.platform))
     print("logs written in %.1f s: %d lines (%.1f MB), %d lines (%.1f MB)" % (
         gen, a.small, os.path.getsize(small) / 1e6, a.lines, os.path.getsize(big) / 1e6))
+    results = {}
     for name, path, n in (("small", small, a.small), ("big", big, a.lines)):
         dt, peak, out = replay(path)
+        results[name] = dt
         accepted = [ln for ln in out.splitlines() if ln.startswith("#: accepted")]
         print("replay %-5s %8d lines: %7.1f s, %6.1f us/reading, peak RSS %.1f MiB  %s" % (
             name, n, dt, 1e6 * dt / n, peak / 1024.0, accepted[0] if accepted else ""))
+    tp = plain(big)
+    print("plain  big   %8d lines: %7.1f s, %6.1f us/reading (csv module, float() per field, "
+          "one formatted line per row)" % (a.lines, tp, 1e6 * tp / a.lines))
+    fl = column_floor(big, min(a.lines, 200000))
+    print("column floor (feed + the row's attributes, %d readings): %6.1f us/reading"
+          % (min(a.lines, 200000), 1e6 * fl))
+    print("ratio replay/plain %.2f; column floor/plain %.2f"
+          % (results["big"] / tp, fl * a.lines / tp))
     for path in (small, big if not a.keep else None):
         if path:
             os.remove(path)

@@ -57,7 +57,7 @@ import datetime
 import math
 
 from tinygeo.errors import ReadingError
-from tinygeo.host.options import InputError
+from tinygeo.host.options import MAX_LINE_CHARS, InputError, TextLines
 
 QUANTITIES = ("pressure", "temperature", "humidity", "dewpoint", "time", "gps")
 
@@ -404,7 +404,7 @@ class LogReader:
             if len(probes) == 1:
                 self._pressure_unit(pr, start_height_m, start_given)
                 self._time_unit(raw)
-                pr.append(_altitude(pr[1] * TO_SI[cols["pressure"][2]][0]))
+                pr[5] = _altitude(pr[1] * TO_SI[cols["pressure"][2]][0])
                 if not need_climb:
                     break
             else:
@@ -440,7 +440,9 @@ class LogReader:
             if x is None and q in ("pressure", "temperature"):
                 return None
             out.append(x)
-        return out          # [lineno, p, t, td, gps]
+        out.append(None)                                    # [5] pressure altitude, set later
+        out.append(fields[cols["pressure"][0]].strip())    # [6] the pressure as written
+        return out          # [lineno, p, t, td, gps, z, p text]
 
     def _pressure_unit(self, pr, h0, given):
         i, name, unit, stated = self.columns["pressure"]
@@ -474,6 +476,15 @@ class LogReader:
                 % (self.name, pr[0], name, _short(x), where, name,
                    "" if given else ", or the start height with --start-height M"))
         u, z = fits[0]
+        text = pr[6]
+        if u == "kPa" and _grouped(text.replace(".", ",")):
+            raise InputError(
+                "%s line %d: column %r has no pressure unit and its first value %r reads as %s "
+                "kPa, or as %s Pa with its thousands grouped by %r; give the unit: --pressure "
+                "%s:kPa, or --pressure %s:Pa%s" % (
+                    self.name, pr[0], name, text, _short(x), text.replace(",", "").replace(".", ""),
+                    "," if "," in text else ".", name, name,
+                    "" if "," in text else " after removing the '.' grouping"))
         self.columns["pressure"] = (i, name, u, False)
         self.notes.append("column %r taken as pressure in %s: its first value %s (line %d) is "
                           "then %.0f m pressure altitude, %s; give --pressure %s:UNIT to choose"
@@ -497,10 +508,10 @@ class LogReader:
         # first reading, else None
         f = TO_SI[self.columns["pressure"][2]][0]
         last = probes[-1]
-        last.append(_altitude(last[1] * f))         # [5]: pressure altitude, gpm (None: out of range)
+        last[5] = _altitude(last[1] * f)            # pressure altitude, gpm (None: out of range)
         if len(probes) < CLIMB_READINGS + 1:
             return None
-        z0 = probes[0][5] if len(probes[0]) > 5 else _altitude(probes[0][1] * f)
+        z0 = probes[0][5]
         tail = probes[-CLIMB_READINGS:]
         zs = [p[5] for p in tail]
         if z0 is None or any(z is None or z - z0 < CLIMB_M for z in zs):
@@ -607,46 +618,72 @@ class LogReader:
         itm = tcol[0] if tcol is not None else -1
         ftm = 0.001 if tcol is not None and tcol[2] == "ms" else 1.0
         parse = self.parse
+        src = self.stream
+        if isinstance(src, TextLines):
+            rl = src.stream.readline        # its stream, read inline (speed)
+            binary = src.binary
+        else:
+            def rl(limit):
+                return src.readline()
+            binary = False
+        limit = MAX_LINE_CHARS + 1
+        lineno = self.lineno
         k = 0
         na = len(ahead)
-        while True:
-            if k < na:
-                lineno, raw = ahead[k]
-                ahead[k] = None
-                k += 1
-            else:
-                raw = readline()
-                if not raw:
-                    return
-                self.lineno += 1
-                lineno = self.lineno
-            if fast and '"' not in raw:
-                fields = raw.split(d)
-                if len(fields) == nf:
-                    try:
-                        p = float(fields[ip]) * fp + op
-                        t = float(fields[it]) * ft + ot
-                        rh = float(fields[ih]) if ih >= 0 else 0.0
-                        ts = float(fields[itm]) * ftm if itm >= 0 else 0.0
-                        g = float(fields[ig]) if ig >= 0 else 0.0
-                    except ValueError:
-                        pass
-                    else:
-                        if p - p == 0.0 and t - t == 0.0 and rh - rh == 0.0 and ts - ts == 0.0 \
-                                and g - g == 0.0:
-                            yield (lineno, p, t, rh if ih >= 0 else None,
-                                   ts if itm >= 0 else None, g if ig >= 0 else None)
-                            continue
-            line = raw.rstrip("\r\n")
-            stripped = line.strip()
-            if not stripped or stripped.startswith("#"):
-                continue
-            if d not in ("\t", " "):
-                line = stripped
-            try:
-                yield parse(line, lineno)
-            except ReadingError as e:
-                yield e
+        try:
+            while True:
+                if k < na:
+                    lineno, raw = ahead[k]
+                    ahead[k] = None
+                    k += 1
+                else:
+                    # TextLines.readline, written out
+                    raw = rl(limit)
+                    if not raw:
+                        return
+                    lineno += 1
+                    if binary:
+                        try:
+                            raw = raw.decode("utf-8")
+                        except UnicodeDecodeError as e:
+                            raise src.not_utf8(lineno, e, raw)
+                    if len(raw) >= MAX_LINE_CHARS or "\x00" in raw:
+                        src.check(raw, lineno)
+                if fast and '"' not in raw:
+                    fields = raw.split(d)
+                    if len(fields) == nf:
+                        try:
+                            p = float(fields[ip]) * fp + op
+                            t = float(fields[it]) * ft + ot
+                            rh = float(fields[ih]) if ih >= 0 else 0.0
+                            ts = float(fields[itm]) * ftm if itm >= 0 else 0.0
+                            g = float(fields[ig]) if ig >= 0 else 0.0
+                        except ValueError:
+                            pass
+                        else:
+                            s = p + t + rh + ts + g
+                            if s - s == 0.0:       # all finite (nan or inf would not be)
+                                yield (lineno, p, t, rh if ih >= 0 else None,
+                                       ts if itm >= 0 else None, g if ig >= 0 else None)
+                                continue
+                self.lineno = lineno
+                line = raw.rstrip("\r\n")
+                stripped = line.strip()
+                if not stripped or stripped.startswith("#"):
+                    continue
+                if d not in ("\t", " "):
+                    line = stripped
+                try:
+                    yield parse(line, lineno)
+                except ReadingError as e:
+                    yield e
+        except OSError as e:
+            raise InputError("cannot read %s after line %d: %s"
+                             % (self.name, lineno, e.strerror or e))
+        finally:
+            self.lineno = lineno
+            if binary or isinstance(src, TextLines):
+                src.lineno = lineno
 
     def _conv(self, q):
         i, name, unit, stated = self.columns[q]

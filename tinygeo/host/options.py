@@ -26,6 +26,7 @@ Files:
 """
 import errno
 import inspect
+import io
 import os
 import stat
 import tempfile
@@ -85,18 +86,16 @@ class TextLines:
         self.stream = stream
         self.name = name
         self.lineno = 0
-        self.binary = not isinstance(getattr(stream, "encoding", None), str) and \
-            not hasattr(stream, "getvalue")
+        self.binary = not isinstance(stream, io.TextIOBase)
 
     def readline(self):
         """The next line ('' at the end)."""
         try:
             raw = self.stream.readline(MAX_LINE_CHARS + 1)
         except OSError as e:
-            raise InputError("cannot read %s after line %d: %s"
-                             % (self.name, self.lineno, e.strerror or e))
+            raise self.read_error(e)
         except UnicodeDecodeError as e:     # a text stream decoding strictly
-            raise self._not_utf8(self.lineno + 1, e)
+            raise self.not_utf8(self.lineno + 1, e)
         if not raw:
             return ""
         self.lineno += 1
@@ -104,21 +103,31 @@ class TextLines:
             try:
                 raw = raw.decode("utf-8")
             except UnicodeDecodeError as e:
-                raise self._not_utf8(self.lineno, e, raw)
-        if len(raw) > MAX_LINE_CHARS or (len(raw) == MAX_LINE_CHARS and raw[-1] != "\n"):
-            hint = ""
-            if "\r" in raw:
-                hint = " (its lines seem to end in CR alone: convert the line ends to LF)"
-            raise InputError("%s line %d: longer than %d characters%s; is this a log of "
-                             "readings, one per line?" % (self.name, self.lineno, MAX_LINE_CHARS,
-                                                          hint))
-        if "\x00" in raw:
-            raise InputError("%s line %d: holds NUL characters: the file is not UTF-8 text "
-                             "(UTF-16? binary?); convert it to UTF-8"
-                             % (self.name, self.lineno))
+                raise self.not_utf8(self.lineno, e, raw)
+        if len(raw) >= MAX_LINE_CHARS or "\x00" in raw:
+            self.check(raw, self.lineno)
         return raw
 
-    def _not_utf8(self, lineno, e, raw=b""):
+    def check(self, text, lineno):
+        """Raise InputError if the decoded line ``text`` (line ``lineno``) is
+        longer than MAX_LINE_CHARS or holds a NUL character."""
+        if len(text) > MAX_LINE_CHARS or (len(text) == MAX_LINE_CHARS and text[-1] != "\n"):
+            hint = ""
+            if "\r" in text:
+                hint = " (its lines seem to end in CR alone: convert the line ends to LF)"
+            raise InputError("%s line %d: longer than %d characters%s; is this a log of "
+                             "readings, one per line?" % (self.name, lineno, MAX_LINE_CHARS, hint))
+        if "\x00" in text:
+            raise InputError("%s line %d: holds NUL characters: the file is not UTF-8 text "
+                             "(UTF-16? binary?); convert it to UTF-8" % (self.name, lineno))
+
+    def read_error(self, e):
+        """The InputError for an OSError while reading."""
+        return InputError("cannot read %s after line %d: %s"
+                          % (self.name, self.lineno, e.strerror or e))
+
+    def not_utf8(self, lineno, e, raw=b""):
+        """The InputError for line ``lineno`` that failed to decode (``e``)."""
         what = ""
         if lineno == 1 and raw[:2] in (b"\xff\xfe", b"\xfe\xff"):
             what = " (it starts with a UTF-16 byte order mark)"
@@ -196,9 +205,14 @@ def check_paths(inputs, outputs, stdin=None):
         real = os.path.realpath(path)
         for o2, p2, i2, r2 in seen:
             if (ident is not None and ident == i2) or (real is not None and real == r2):
-                what = "the input" if o2 in ("log", "input", "device") else o2
-                raise UsageError("%s %s would overwrite %s %s; write to another file"
-                                 % (opt, path, what, "stdin" if p2 == "-" else p2))
+                if p2 == "-":
+                    what = "the input: standard input reads from it"
+                elif o2 in ("log", "input", "device"):
+                    what = "the input %s" % p2
+                else:
+                    what = "%s %s" % (o2, p2)
+                raise UsageError("%s %s would overwrite %s; write to another file"
+                                 % (opt, path, what))
         seen.append((opt, path, ident, real))
 
 
@@ -208,8 +222,10 @@ class OutFile:
     None/'-'; or the device/pipe ``path`` written directly.
 
     ``write`` and ``flush`` raise OutputError (exit 4) naming the file when
-    the system refuses (a full disk, a closed stream). :meth:`discard`
-    removes the temporary file (an error or an interruption)."""
+    the system refuses (a full disk, a closed stream); a hot loop may write
+    to ``f`` itself and turn an OSError into that error with :meth:`error`.
+    :meth:`discard` removes the temporary file (an error or an
+    interruption)."""
 
     def __init__(self, path, stdout):
         self.path = path
@@ -238,7 +254,7 @@ class OutFile:
                 os.fchmod(fd, mode)
                 self.f = os.fdopen(fd, "w", encoding="utf-8", newline="\n")
         except OSError as e:
-            raise UsageError("cannot write %s: %s" % (path, e.strerror or e))
+            raise OutputError("cannot write %s: %s" % (path, e.strerror or e))
         self._own = True
 
     def write(self, text):
@@ -247,7 +263,7 @@ class OutFile:
         except BrokenPipeError:
             raise
         except (OSError, ValueError) as e:
-            raise self._error(e)
+            raise self.error(e)
 
     def flush(self):
         try:
@@ -255,9 +271,11 @@ class OutFile:
         except BrokenPipeError:
             raise
         except (OSError, ValueError) as e:
-            raise self._error(e)
+            raise self.error(e)
 
-    def _error(self, e):
+    def error(self, e):
+        """The OutputError for an OSError/ValueError of a write (the
+        temporary file is discarded)."""
         self.discard()
         why = getattr(e, "strerror", None) or str(e)
         if isinstance(e, ValueError) or getattr(e, "errno", None) == errno.EBADF:
@@ -272,7 +290,7 @@ class OutFile:
         try:
             self.f.close()
         except OSError as e:
-            raise self._error(e)
+            raise self.error(e)
         self._own = False
         if self.temp is not None:
             try:

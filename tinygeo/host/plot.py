@@ -262,11 +262,14 @@ class _Prepend:
         self.first = first
         self.stream = stream
 
-    def readline(self):
+    def readline(self, limit=-1):
         if self.first is not None:
             line, self.first = self.first, None
             return line
         return self.stream.readline()
+
+    def check(self, text, lineno):
+        self.stream.check(text, lineno)
 
 
 def run(a, stdin, stdout, stderr):

@@ -26,7 +26,7 @@ from tinygeo.column import (EV_LEVEL, EV_TROPOPAUSE, EV_BURST, EV_LANDED, EV_LAU
                             FL_REPLACED, FL_TAKEOVER, PH_WAIT, PH_ASCENT, PH_FLOAT, PH_DESCENT)
 from tinygeo.errors import ReadingError
 from tinygeo.host import table
-from tinygeo.host.options import InputError, column_default, one_line
+from tinygeo.host.options import InputError, OutputError, column_default, one_line
 
 NAN = float("nan")
 MAX_REPORTS = 20          # rejected readings reported one by one on stderr
@@ -133,8 +133,8 @@ class Summary:
         self.gps_last = NAN
         self.ring_t = array("d", bytes(8 * RING))
         self.ring_l = array("q", bytes(8 * RING))
-        self.ring_n = 0
-        self.index = 0             # accepted readings, the clock of a log without time
+        self.ring_n = 0            # readings put in the ring (the clock of a log without time)
+        self.line = 0              # the line of the latest reading seen
 
     # -- rejections -----------------------------------------------------------------
     def reject(self, reason, message):
@@ -413,13 +413,17 @@ def run(reader, col, summary, report, out=None, every=1, flush=False, sink=None,
     """Feed every reading of ``reader`` to ``col``.
 
     For every accepted reading either ``sink(reading, bits)`` is called or,
-    without a sink, its table row is written to ``out`` (every ``every``-th
-    row and every row with an event; flushed after each row with
-    ``flush``). ``before_first()`` is called before the first accepted
-    reading is handled (the table's header waits for it: units and the time
-    origin are decided by then). Rejected lines go to ``report(message)``.
-    Updates ``summary``; returns nothing. Raises ReplayAbort (see
-    ``_rejected`` and TimeUnitCheck)."""
+    without a sink, its table row is written with ``out.write`` (every
+    ``every``-th row and every row with an event; ``out.flush()`` after each
+    row with ``flush``). ``before_first()`` is called before the first
+    accepted reading is handled (the table's header waits for it: units and
+    the time origin are decided by then). Rejected lines go to
+    ``report(message)``. Updates ``summary``; returns nothing. Raises
+    ReplayAbort (see ``_rejected`` and TimeUnitCheck).
+
+    The loop is the replay's hot path (bench/replay_bench.py): per reading
+    it reads the column's public attributes once and keeps the summary in
+    locals; events and the rare flags take the slow path."""
     feed = col.feed
     tap = col.on_event
     levels = tap.levels
@@ -434,11 +438,11 @@ def run(reader, col, summary, report, out=None, every=1, flush=False, sink=None,
     mask = RING - 1
     rn = summary.ring_n
     special = FL_REPLACED | FL_TAKEOVER
+    thin = sink is None and every > 1
     # the look-back of the replay: the readings of the column's two latest
     # records (h, b) and the one confirmed before b (c)
     c_rd = b_rd = h_rd = None
     accepted = summary.accepted
-    k = 0                      # rows offered to the output (--every counts them)
     hmax = -1e300
     hmin = 1e300
     gps_n = 0
@@ -446,7 +450,7 @@ def run(reader, col, summary, report, out=None, every=1, flush=False, sink=None,
     gps_worst = 0.0
     gps_wline = 0
     gps_last = nan
-    started = False
+    lineno = 0
     try:
         for reading in reader:
             if reading.__class__ is not tuple:
@@ -454,9 +458,9 @@ def run(reader, col, summary, report, out=None, every=1, flush=False, sink=None,
                 summary.accepted = accepted
                 _rejected(summary, reading, None, lineno, report)
                 continue
+            lineno, p, t, rh, ts, gps = reading
             if check.active:
                 check.see(reading)
-            lineno, p, t, rh, ts, gps = reading
             if levels:
                 del levels[:]
             try:
@@ -465,22 +469,19 @@ def run(reader, col, summary, report, out=None, every=1, flush=False, sink=None,
                 summary.accepted = accepted
                 _rejected(summary, e, reading, lineno, report)
                 continue
-            if not started:
-                started = True
-                if before_first is not None:
-                    before_first()
-            accepted += 1
+            if not accepted and before_first is not None:
+                before_first()
             h = col.height_m
             flags = col.flags
-            # the summary's running values
-            ring_t[rn & mask] = ts if ts is not None else summary.index
-            ring_l[rn & mask] = lineno
+            # the summary's running values (the ring dates past events)
+            j = rn & mask
+            ring_t[j] = rn if ts is None else ts
+            ring_l[j] = lineno
             rn += 1
-            summary.index += 1
             if h > hmax:
                 hmax = h
                 summary.highest = (h, col.gph_m, nan if ts is None else ts, lineno)
-            if h < hmin:
+            elif h < hmin:
                 hmin = h
             if gps is not None:
                 d = col.gps_diff_m
@@ -501,39 +502,41 @@ def run(reader, col, summary, report, out=None, every=1, flush=False, sink=None,
             if bits:
                 summary.ring_n = rn
                 summary.event(bits, reading, b_rd, c_rd, levels)
-            if summary.surface is None:
+            if not accepted:
+                hmin = h
                 summary.surface = (reading, h, dew_point_k(t, rh, ice))
+            accepted += 1
             # the row
             if sink is not None:
                 sink(reading, bits)
-            elif bits or every == 1 or k % every == 0:
-                if rh is not None and rh > 0.0:
-                    tc = t - 273.15
-                    if ice and tc <= 0.0:
-                        y = log(rh * 0.01) + ai * tc / (bi + tc)
-                    else:
-                        y = log(rh * 0.01) + aw * tc / (bw + tc)
-                    td = bw * y / (aw - y) + 273.15
+                continue
+            if thin and not bits and (accepted - 1) % every:
+                continue
+            if rh is not None and rh > 0.0:
+                # dew_point_k, written out
+                tc = t - 273.15
+                if ice and tc <= 0.0:
+                    y = log(rh * 0.01) + ai * tc / (bi + tc)
                 else:
-                    td = nan
-                if bits:
-                    if bits & EV_LEVEL:
-                        ev = record.events_text(bits, [lv[0] for lv in levels])
-                    else:
-                        ev = record.events_text(bits, nan)
-                else:
-                    ev = "-"
-                write(fmt % (lineno, nan if ts is None else ts, p, t, nan if rh is None else rh,
-                             td, nan if gps is None else gps, col.gph_m, h, col.rate_m_s,
-                             col.sigma_m, flags, ev))
-                if flush:
-                    out.flush()
-            k += 1
+                    y = log(rh * 0.01) + aw * tc / (bw + tc)
+                td = bw * y / (aw - y) + 273.15
+            else:
+                td = nan
+            if bits:
+                ev = record.events_text(bits, [lv[0] for lv in levels] if bits & EV_LEVEL else nan)
+            else:
+                ev = "-"
+            write(fmt % (lineno, nan if ts is None else ts, p, t, nan if rh is None else rh,
+                         td, nan if gps is None else gps, col.gph_m, h, col.rate_m_s,
+                         col.sigma_m, flags, ev))
+            if flush:
+                out.flush()
             if progress is not None and not lineno & 1023:
                 progress.update(lineno, h)
     finally:
         summary.accepted = accepted
         summary.ring_n = rn
+        summary.line = lineno
         summary.lowest_m = hmin if accepted else NAN
         if h_rd is not None:
             summary.last = (h_rd, col.height_m)
@@ -719,8 +722,20 @@ def replay(reader, col, out, setup, source_name, every=1, flush=False, err=None,
             out.write(line + "\n")
         state["header"] = True
 
-    run(reader, col, summary, report, out=out, every=every, flush=flush, progress=prog,
-        before_first=header)
+    # the rows go to the file object itself (no wrapper per row); its
+    # errors become OutputError here
+    raw = getattr(out, "f", out)
+    try:
+        run(reader, col, summary, report, out=raw, every=every, flush=flush, progress=prog,
+            before_first=header)
+    except BrokenPipeError:
+        raise
+    except (OSError, ValueError) as e:
+        if isinstance(e, ValueError) and not str(e).startswith("I/O operation on closed"):
+            raise
+        err_out = out.error(e) if hasattr(out, "error") else OutputError(str(e))
+        raise OutputError("%s (writing the row of %s line %d)" % (err_out, source_name,
+                                                                  summary.line))
     if prog is not None:
         prog.done()
     if not state["header"]:
