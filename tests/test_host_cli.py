@@ -342,7 +342,7 @@ def test_compare_a_table_written_under_micropython(tmp_path):
     assert "no end record" in out and "result: FAIL" in out
     out, _ = run("compare", dev, "--log", log, check_rc=1)
     missing = len(rows) - 10
-    assert "missing-at-end     %d " % missing in out
+    assert "  missing-at-end: %d (" % missing in out
     assert "offending readings: %d\n" % missing in out and "result: FAIL" in out
 
 

@@ -60,8 +60,9 @@ def _num(x):
 class Tally:
     """Maxima and offences of one comparison (bounded memory)."""
 
-    def __init__(self, tolerances, ignore_events, show, diffs):
+    def __init__(self, tolerances, ignore_events, show, diffs, present=None):
         self.tol = tolerances
+        self.fields = [f for f in FIELDS if present is None or f in present]
         self.ignore_events = ignore_events
         self.show = show
         self.diffs = diffs
@@ -106,6 +107,9 @@ class Tally:
         diffs = []
         problems = []
         for f in FIELDS:
+            if f not in self.fields:
+                diffs.append(NAN)       # not in the device table
+                continue
             dev = getattr(row, f)
             host = getattr(col, f)
             if dev != dev:
@@ -177,7 +181,7 @@ def run(a, stdin, stdout, stderr):
                "sigma_m": a.tol_sigma}
         with Outputs(stdout) as outs:
             diffs = outs.open(a.diffs) if a.diffs else None
-            tally = Tally(tol, a.ignore_events, a.show, diffs)
+            tally = Tally(tol, a.ignore_events, a.show, diffs, dev.present)
             if diffs is not None:
                 diffs.write(DIFF_HEADER + "\n")
             if reader is None:
@@ -304,6 +308,9 @@ def _report(out, tally, dev_name, source, setup):
         w("values not computed on the device (nan), skipped: %d\n" % tally.skipped)
     w("largest |device - host|:\n")
     for f in FIELDS:
+        if f not in tally.fields:
+            w("  %-9s (not in the device table)\n" % f)
+            continue
         v, line = tally.maxima[f]
         w("  %-9s %10s   tolerance %-6g %s\n" % (f, _num(v), tally.tol[f],
                                                   "" if line is None else "(line %d)" % line))
@@ -315,7 +322,7 @@ def _report(out, tally, dev_name, source, setup):
     w("offending readings: %d\n" % tally.offending)
     for status, text in STATUSES:
         if tally.status[status]:
-            w("  %-18s %d  (%s)\n" % (status, tally.status[status], text))
+            w("  %s: %d (%s)\n" % (status, tally.status[status], text))
     if tally.table_problem:
         w("device table: %s\n" % tally.table_problem)
     if tally.first:
