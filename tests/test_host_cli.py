@@ -356,14 +356,18 @@ def _png_size(path):
 
 def test_plot_renders_png_and_svg(flight, tmp_path):
     import matplotlib  # noqa: F401  (the plot extra; .ci/run installs it: a failure, not a skip)
+    # in-process: matplotlib is imported once for the whole test run (the
+    # console script's argument handling and exits are the same main())
+    from tinygeo.host import cli
     png = tmp_path / "p.png"
-    run("plot", flight["table"], "-o", png)
+    err = io.StringIO()
+    assert cli.main(["plot", str(flight["table"]), "-o", str(png)], stdout=io.StringIO(),
+                    stderr=err) == 0, err.getvalue()
     (w, h), size = _png_size(png)
     assert (w, h) == (1100, 850)              # 11 x 8.5 in at 100 dpi
     assert 30_000 < size < 2_000_000
     svg = tmp_path / "p.svg"
-    # a raw log, replayed on the fly (in-process: one matplotlib import less)
-    from tinygeo.host import cli
+    # a raw log, replayed on the fly
     err = io.StringIO()
     assert cli.main(["plot", str(flight["log"]), "-o", str(svg), "--title", "raw log"],
                     stdout=io.StringIO(), stderr=err) == 0, err.getvalue()
