@@ -160,3 +160,13 @@ def test_a_reading_the_host_rejects_is_an_offence(flight):
     r = report(out)
     assert r["host-rejected"] == 1 and r["offending readings"] >= 1
     assert "the host rejects this reading (temperature" in out
+
+
+def test_a_thinned_table_is_refused(flight, tmp_path):
+    thin = tmp_path / "thin.tsv"
+    rc, _, err = main(["replay", flight["log"], "--every", 10, "-o", thin])
+    assert rc == 0, err
+    assert "#: end rows=%d " % sum(1 for ln in thin.read_text().splitlines() if ln[:1].isdigit()) \
+        in thin.read_text()
+    rc, _, err = main(["compare", thin])
+    assert rc == 2 and "every 10-th row only" in err and "without --every" in err

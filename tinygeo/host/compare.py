@@ -163,6 +163,10 @@ def run(a, stdin, stdout, stderr):
     close_log = None
     try:
         dev = table.TableReader(lines, dev_name)
+        if dev.input.get("every", "1") != "1":
+            raise table.TableError("%s holds every %s-th row only (replayed with --every): replay "
+                                   "the log without --every to compare it" % (dev_name,
+                                                                            dev.input["every"]))
         reader = None
         if a.log:
             log_lines, log_name, close_log = open_text(a.log, stdin)

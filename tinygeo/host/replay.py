@@ -110,7 +110,8 @@ class Summary:
     def __init__(self, col, lat_deg):
         self.col = col
         self.lat_deg = lat_deg
-        self.accepted = 0          # rows: readings accepted when they came
+        self.accepted = 0          # readings accepted when they came
+        self.written = 0           # table rows written (fewer with --every)
         self.rejected = 0
         self.reasons = {}
         self.first_rejection = None
@@ -428,6 +429,7 @@ def run(reader, col, summary, report, out=None, every=1, flush=False, sink=None,
     tap = col.on_event
     levels = tap.levels
     check = TimeUnitCheck(reader)
+    checking = check.active
     fmt = record.FORMAT + "\n"
     write = out.write if out is not None else None
     ice = col.ice
@@ -451,6 +453,7 @@ def run(reader, col, summary, report, out=None, every=1, flush=False, sink=None,
     gps_wline = 0
     gps_last = nan
     lineno = 0
+    written = 0
     try:
         for reading in reader:
             if reading.__class__ is not tuple:
@@ -459,8 +462,9 @@ def run(reader, col, summary, report, out=None, every=1, flush=False, sink=None,
                 _rejected(summary, reading, None, lineno, report)
                 continue
             lineno, p, t, rh, ts, gps = reading
-            if check.active:
+            if checking:
                 check.see(reading)
+                checking = check.active
             if levels:
                 del levels[:]
             try:
@@ -529,12 +533,14 @@ def run(reader, col, summary, report, out=None, every=1, flush=False, sink=None,
             write(fmt % (lineno, nan if ts is None else ts, p, t, nan if rh is None else rh,
                          td, nan if gps is None else gps, col.gph_m, h, col.rate_m_s,
                          col.sigma_m, flags, ev))
+            written += 1
             if flush:
                 out.flush()
             if progress is not None and not lineno & 1023:
                 progress.update(lineno, h)
     finally:
         summary.accepted = accepted
+        summary.written += written
         summary.ring_n = rn
         summary.line = lineno
         summary.lowest_m = hmin if accepted else NAN
@@ -680,12 +686,15 @@ class Progress:
             self.stream.flush()
 
 
-def header_lines(site, reader, source_name):
-    """Return the table's comment and header lines (without newlines)."""
+def header_lines(site, reader, source_name, every=1):
+    """Return the table's comment and header lines (without newlines); a
+    thinned table says so in its ``# input`` line (``every=N``)."""
     words = " ".join("%s=%s" % (k, table.fmt_value(v) if not isinstance(v, str) else v)
                      for k, v in site)
     lines = [table.MAGIC, table.SITE_PREFIX + words,
-             table.INPUT_PREFIX + "source=%s %s" % (source_name.replace(" ", "_"), reader.describe())]
+             table.INPUT_PREFIX + "source=%s %s%s" % (source_name.replace(" ", "_"),
+                                                      reader.describe(),
+                                                      " every=%d" % every if every > 1 else "")]
     if reader.time_origin:
         lines.append(table.TIME_ORIGIN_PREFIX + reader.time_origin)
     lines.append(table.HEADER)
@@ -718,7 +727,7 @@ def replay(reader, col, out, setup, source_name, every=1, flush=False, err=None,
         # time origin decided from it are described in the table
         for note in reader.notes:
             err.write("tinygeo replay: note: %s\n" % one_line(note))
-        for line in header_lines(setup.site(), reader, source_name):
+        for line in header_lines(setup.site(), reader, source_name, every):
             out.write(line + "\n")
         state["header"] = True
 
@@ -740,7 +749,7 @@ def replay(reader, col, out, setup, source_name, every=1, flush=False, err=None,
         prog.done()
     if not state["header"]:
         header()
-    out.write(record.end_line(summary.accepted, col) + "\n")
+    out.write(record.end_line(summary.written, col) + "\n")
     for line in summary.lines():
         out.write(line + "\n")
     if flush:
