@@ -272,23 +272,31 @@ after a genuine step the new temperatures pass again). The first reading
 must lie within start_guard_m of start_height_m (reason 'pressure').
 
 The column keeps one reading of look-back. A reading that contradicts the
-latest one is rejected, and remembered: if the next reading also contradicts
-the latest one, and both agree with the reading before it, the latest
-reading was the bad one (a pressure glitch after a gap, a time stamp far
-ahead): it is retracted (``retracted``, ``rejected``) and the column goes on
-from the reading before it with the new reading (FL_REPLACED). Readings that
-contradict both but agree with each other form a run; after
-takeover_readings of them the column follows the run (FL_TAKEOVER): before
-anything is confirmed (a bad first reading) it restarts from the run's first
-reading, placed at start_height_m; later (a clock reset, a real change
-faster than the checks allow) it integrates on through them. So no single
-bad reading, the first included, and no single wrong time stamp locks the
-column: it costs at most takeover_readings + 1 readings, and the heights
-after it are those of a column that never saw it (to a few mm: the skipped
-reading's layer is integrated as one). Nothing is lost to a rejection but
-the reading itself; a rejected reading changes nothing of the results, only
-``rejected`` and the recovery memory (the remembered run, not saved in
-checkpoints). Because the latest reading may still be retracted, events are
+latest one is rejected, and remembered as the start of a run. Retraction:
+if the next reading agrees with that remembered one and with the reading
+before the latest one, and contradicts the latest too (or agrees with it
+only less well: the larger share of its speed and temperature allowances,
+_fit), the latest reading was the bad one (a pressure glitch after a gap, a
+time stamp far ahead): it is retracted (``retracted``, ``rejected``) and the
+column goes on from the reading before it with the new reading
+(FL_REPLACED). Takeover: readings that agree with each other and contradict
+the latest one form a run (a reading that agrees with both the latest one and
+the run joins the run only while the latest is the first reading, not yet
+confirmed, or once the run has two readings); after takeover_readings in a
+row the column follows the run (FL_TAKEOVER): before anything is confirmed
+(a bad first reading) it restarts from the run's first reading, placed at
+start_height_m; later (a clock reset, a real change faster than the checks
+allow) it integrates on through them. A reading that agrees with the latest
+one and is not taken by the run is accepted, and the run is forgotten. So no
+single bad reading, the first included, and no single wrong time stamp
+locks the column: it costs at most takeover_readings + 1 readings, and the
+heights after it are those of a column that never saw it (to a few mm: the
+skipped reading's layer is integrated as one; bench/montecarlo.py and
+tests/test_column_streams.py measure it at every position). A rejected
+reading changes nothing of the results, only ``rejected`` and the recovery
+memory (the remembered run, not saved in checkpoints); a reading of a run
+that is followed was rejected when it came and counts in both ``rejected``
+and ``count``. Because the latest reading may still be retracted, events are
 decided on confirmed readings: a reading is confirmed when the next reading
 is accepted on top of it, so events come one reading late.
 
@@ -417,7 +425,7 @@ T_MAX_K = 350.0
 GPS_MIN_M = -1000.0
 GPS_MAX_M = 100000.0
 
-WMO_LAPSE_K_PER_GPM = 0.002
+WMO_LAPSE_K_GPM = 0.002
 """2 K/km, the lapse rate of the WMO tropopause definition, in K/gpm."""
 WMO_DEPTH_GPM = 2000.0
 """2 km, the depth over which the WMO definition checks the mean lapse rate."""
@@ -449,20 +457,23 @@ class _Rec:
 
     The reading (written by Column._check): p_pa, t_k, rh_pct (nan: not
     given), tsr (time stamp as given, int or float, or None), gpsr (GPS as
-    given: None, nan or m above MSL). The state after it (Column._compute):
+    given: None, nan or m above MSL), q (moisture.rh_q at it, nan if not
+    needed). The state after it (Column._compute):
     tv_k, flags, gph_m, c (Kahan compensation), height_m, rdh/rdt (the
     height change and time of the latest timed step: rate_m_s), nodes (a
     new height node waiting, or None), t0 (the first time stamp, as given),
     tr, g_t, h_tm (stamp, gph and height of the latest timed reading), dt
     (seconds since the timed reading before it, nan if none), h_t, h_p, h_rh
     (the latest reading with humidity), w (its mixing ratio, held; nan until
-    needed), gps_m, gps_diff_m, gps_here, and the uncertainty sums var_done,
+    needed), gps_m, gps_diff_m, gps_here, half and lay (the layer's
+    (Rd/g0)/2 ln(p0/p) and Tv0 + Tv, for Column._sigma), and the
+    uncertainty sums var_done,
     var_p, tm2, s2, p_start, sum_rh, sum_p, slope, sum_hum, tvh (see
     "Uncertainty")."""
 
     def __init__(self):
         nan = _NAN
-        self.p_pa = self.t_k = self.rh_pct = self.tv_k = nan
+        self.p_pa = self.t_k = self.rh_pct = self.tv_k = self.q = nan
         self.tsr = self.gpsr = self.nodes = self.t0 = self.tr = None
         self.flags = 0
         self.gph_m = self.height_m = self.rdh = self.rdt = self.dt = nan
@@ -472,7 +483,7 @@ class _Rec:
         self.gps_m = self.gps_diff_m = nan
         self.gps_here = False
         self.var_done = self.var_p = self.ct = self.tm2 = self.s2 = self.sum_rh = self.sum_p = 0.0
-        self.slope = self.sum_hum = self.tvh = 0.0
+        self.slope = self.sum_hum = self.tvh = self.half = self.lay = 0.0
         self.p_start = nan
 
 
@@ -687,9 +698,11 @@ class Column:
         self._check(n, p_pa, t_k, rh_pct, time_s, gps_m)      # 1. the values on their own
         if self.count == 0:                                    # 2. the first reading: the start
             self._compute(None, n)
+            self._sigma(None, n)
             return self._advance()
         ok = self._compute(self._h, n) == 0                    # 3. on top of the latest reading
         if ok and not self._run:
+            self._sigma(self._h, n)
             return self._advance()
         return self._recover(n, ok)                            # 4. or: look-back, recovery
 
@@ -733,6 +746,11 @@ class Column:
         n.rh_pct = rh
         n.tsr = time_s
         n.gpsr = gps
+        # (1 - eps) e_s/p per %RH at this reading (moisture.rh_q): with a
+        # humidity, or for the held humidity's cap and sigma; computed once per
+        # reading, whatever the look-back computes on top of it
+        if rh == rh or not self.dry_fallback or self.track_sigma:
+            n.q = rh_q(t, p, self.ice)
 
     def _num(self, x, name, unit, nan_ok=False):
         # a finite float (the rule of tinygeo.errors.real); anything else is rejected
@@ -773,7 +791,7 @@ class Column:
         if rh == rh:
             # tinygeo.virtual_temperature (its moisture.tv_rh, written out to
             # share q): Tv = T/(1 - r), r = (1 - eps) e/p = rh q, dTv/dRH = Tv q
-            q = rh_q(t, p, self.ice)
+            q = n.q
             r = rh * q
             if r >= ONE_M_EPS:
                 self._bad("humidity", 6, quote(rh), t, p, boiling_error(r * p / ONE_M_EPS, p))
@@ -801,7 +819,7 @@ class Column:
             ws = 0.0
             if held or self.track_sigma:
                 # the saturation mixing ratio here: e_s/p = x = 100 q/(1 - eps)
-                x = rh_q(t, p, self.ice) * 100 / ONE_M_EPS
+                x = n.q * 100 / ONE_M_EPS
                 ws = 1.0 if x >= 0.5 else EPSILON * x / (1 - x)
             if not held:
                 w = 0.0
@@ -954,28 +972,41 @@ class Column:
             n.gps_m = gps
             n.gps_diff_m = h - gps
         n.flags = flags
-        # -- uncertainty (see "Uncertainty"): tm2 = Tv0 + Tv,
-        # half = (Rd/g0)/2 ln(p0/p) = dz/dTv of either end of the layer
+        # the layer's terms for the uncertainty step (_sigma: only for a state
+        # that is kept, so the look-back's trial computations build none of it)
         n.slope = slope
         n.tvh = tvh
+        n.half = half
+        n.lay = tm2
+        return why
+
+    def _sigma(self, a, n):
+        # Streaming first-order propagation (module docstring, "Uncertainty")
+        # for record n on top of record a (None: n is the first reading):
+        # lay = Tv0 + Tv of n's layer, half = (Rd/g0)/2 ln(p0/p) = dz/dTv of
+        # either end of it. Run when n is kept (accepted, retracting the latest
+        # reading, or joining a run).
         if not self.track_sigma:
-            return why
+            return
+        half = n.half
+        slope = n.slope
         if a is None:
             n.var_done = n.var_p = n.sum_p = n.sum_rh = n.sum_hum = 0.0
-            if p0 != p0:
+            if self._anchor != self._anchor:
                 # the first reading: no layer yet; its sensitivities are all 0 so far
                 n.ct = n.tm2 = 0.0
-                n.p_start = p
+                n.p_start = n.p_pa
             else:
                 # anchored start: the anchor is exact, the first reading is both ends
                 n.ct = half + half
-                n.tm2 = tm2
-                n.p_start = p0
+                n.tm2 = n.lay
+                n.p_start = self._anchor
             sr = slope * self.sigma_rh_pct
             n.s2 = self._st2 + sr * sr
-            return why
+            return
         # the final sensitivities of reading a: dz_n/dp = HALF_RG pco, dz_n/dTv = ct
-        pco = (tm2 - a.tm2) / p0
+        tm2 = n.lay
+        pco = (tm2 - a.tm2) / a.p_pa
         ct = a.ct + half
         n.var_done = a.var_done + ct * ct * a.s2
         n.var_p = a.var_p + pco * pco       # times (K/2 sigma_p)^2 where it is read
@@ -990,7 +1021,6 @@ class Column:
             n.s2 = self._st2 + sr * sr
         else:
             n.s2 = a.s2
-        return why
 
     def _rel(self, stamp, r):
         # a time stamp as seconds since the first one (record r's t0)
@@ -1077,6 +1107,7 @@ class Column:
         m.rh_pct = n.rh_pct
         m.tsr = n.tsr
         m.gpsr = n.gpsr
+        m.q = n.q
         agree_b = self._has_b and self._compute(self._b, m) == 0
         # does n agree with the run's latest reading? (computed on top of it)
         k = self._k
@@ -1085,6 +1116,7 @@ class Column:
         k.rh_pct = n.rh_pct
         k.tsr = n.tsr
         k.gpsr = n.gpsr
+        k.q = n.q
         cr = self._cr
         in_run = self._run and self._compute(cr, k) == 0
         if agree_b and self._run_b and in_run and (not ok or self._fit(self._b, m) <
@@ -1093,6 +1125,7 @@ class Column:
             # before the latest one, the first contradicted the latest and the
             # second contradicts it too or fits the one before better: the
             # latest was the bad one; go on from the one before
+            self._sigma(self._b, m)
             self._m = self._h
             self._h = m
             m.flags |= FL_REPLACED
@@ -1105,9 +1138,11 @@ class Column:
             # the run goes on: n agrees with it, and contradicts the latest
             # reading, or the latest is the first one (not confirmed yet), or
             # the run already has two readings that agree with each other
+            self._sigma(cr, k)
             new = k
             self._run += 1
         elif ok:
+            self._sigma(self._h, n)
             return self._advance()
         else:
             # a new run: on top of the latest reading, or, when nothing is
@@ -1115,9 +1150,11 @@ class Column:
             # from the start height
             self._run_why = why_h
             if self._has_b:
+                self._sigma(self._h, n)
                 new = n
             else:
                 self._compute(None, k)
+                self._sigma(None, k)
                 new = k
             self._run = 1
             self._run_b = 0
@@ -1195,7 +1232,7 @@ class Column:
         # The messages are one text, "|"-separated: on MicroPython every string
         # constant with a space is an object in RAM for the module's lifetime,
         # one text is one object (its characters stay in flash with ROMFS or
-        # frozen bytecode); split only here, when a reading is rejected.
+        # frozen bytecode); cut only here, when a reading is rejected.
         msg = ("%s=%s is not a finite number; pass one in %s"          # 0 name, value, unit
                "|%s=%s outside %g..%g %s%s"                              # 1 name, value, lo, hi, unit, "; hint"
                "|rh_pct=%s outside %g..%g %%; percent, not a 0..1 fraction (None if unknown)"
@@ -1212,9 +1249,15 @@ class Column:
                "|"                                                       # 11
                "|p_pa=%s moves the column %.0f m/s over %.3g s, beyond max_rate_m_s=%s with "
                "%.0f m of noise allowed; glitch, or wrong unit/time"     # 12
-               "|p_pa=%s %s").split("|")[i] % args                       # 13
+               "|p_pa=%s %s")                                            # 13
+        # the i-th message, found without splitting the whole text
+        a = 0
+        while i:
+            a = msg.find("|", a) + 1
+            i -= 1
+        b = msg.find("|", a)
         self._inc_rejected()
-        raise ReadingError(msg, reason)
+        raise ReadingError((msg[a:] if b < 0 else msg[a:b]) % args, reason)
 
     # ------------------------------------------------------------ 5. events
     def _confirm(self, r):
@@ -1455,7 +1498,7 @@ class Column:
 
     def _tropopause(self, g, t, p, r):
         # one new point of the averaged profile; O(1) search (see EV_TROPOPAUSE)
-        th = t + WMO_LAPSE_K_PER_GPM * g
+        th = t + WMO_LAPSE_K_GPM * g
         below = self._tb_th          # theta of the point before (nan: none)
         self._tb_th = th
         st = self._tp_state
@@ -1632,8 +1675,8 @@ class Column:
                      "_fl_hi", "_land_lo", "_land_hi", "_e_g", "_tb_top", "_tb_g0", "_tb_g1",
                      "_tp_g", "_tp_top"):
             setattr(self, name, getattr(self, name) + d)
-        self._tb_th = self._tb_th + WMO_LAPSE_K_PER_GPM * d
-        self._tp_th = self._tp_th + WMO_LAPSE_K_PER_GPM * d
+        self._tb_th = self._tb_th + WMO_LAPSE_K_GPM * d
+        self._tp_th = self._tp_th + WMO_LAPSE_K_GPM * d
         # uncertainty restarts here: the reading is the new (noisy) start
         h.var_done = h.var_p = h.ct = h.tm2 = h.sum_rh = h.sum_p = h.sum_hum = 0.0
         h.p_start = h.p_pa
