@@ -14,7 +14,6 @@ import os
 import sys
 
 from tinygeo.errors import TinygeoError
-from tinygeo.host import options
 from tinygeo.host.options import (EXIT_INPUT, EXIT_INTERRUPTED, EXIT_OK, EXIT_OUTPUT,
                                   ANCHOR_HPA_MAX, ANCHOR_HPA_MIN, OutputError, UsageError,
                                   column_default, number_or_none, one_line)
@@ -347,5 +346,3 @@ def _say(stream, text):
     except (OSError, ValueError):
         pass
 
-
-__all__ = ["main", "build_parser", "EXIT_TEXT", "options"]

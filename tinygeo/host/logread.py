@@ -54,7 +54,6 @@ problems with one line give a :class:`tinygeo.errors.ReadingError` with a
 the line is skipped.
 """
 import datetime
-import math
 
 from tinygeo.errors import ReadingError
 from tinygeo.host.options import MAX_LINE_CHARS, InputError, TextLines

@@ -24,7 +24,6 @@ from array import array
 from tinygeo import record
 from tinygeo.column import (EV_LEVEL, EV_TROPOPAUSE, EV_BURST, EV_LANDED, EV_LAUNCH, EV_FLOAT,
                             FL_REPLACED, FL_TAKEOVER, PH_WAIT, PH_ASCENT, PH_FLOAT, PH_DESCENT)
-from tinygeo.errors import ReadingError
 from tinygeo.host import table
 from tinygeo.host.options import InputError, OutputError, column_default, one_line
 
