@@ -60,49 +60,57 @@ int main(int argc, char **argv)
     long n, i, rejected = 0;
     double rec[4];
     TG_FLOAT *v;
+    tg_time *ts;
     tg_column col;
     tg_column_config cfg;
     int bits, all = 0;
     if (argc != 3)
         return 2;
     n = atol(argv[2]);
-    v = malloc((size_t)n * 4 * sizeof *v);
+    v = malloc((size_t)n * 3 * sizeof *v);
+    ts = malloc((size_t)n * sizeof *ts);
     f = fopen(argv[1], "rb");
-    if (v == NULL || f == NULL)
+    if (v == NULL || ts == NULL || f == NULL)
         return 2;
     for (i = 0; i < n; i++) {   /* p_pa, t_k, rh_pct, time_s, as doubles */
         if (fread(rec, sizeof rec, 1, f) != 1)
             return 2;
-        v[4 * i] = (TG_FLOAT)rec[0];
-        v[4 * i + 1] = (TG_FLOAT)rec[1];
-        v[4 * i + 2] = (TG_FLOAT)rec[2];
-        v[4 * i + 3] = (TG_FLOAT)rec[3];
+        v[3 * i] = (TG_FLOAT)rec[0];
+        v[3 * i + 1] = (TG_FLOAT)rec[1];
+        v[3 * i + 2] = (TG_FLOAT)rec[2];
+        ts[i] = rec[3];   /* time stamps are double in every build (tinygeo.h) */
     }
     fclose(f);
     tg_column_config_defaults(&cfg, (TG_FLOAT)LAT_DEG);
     if (tg_column_init(&col, &cfg) != TG_OK)
         return 2;
     for (i = 0; i < n; i++) {
-        if (tg_column_feed(&col, v[4 * i], v[4 * i + 1], &v[4 * i + 2], &v[4 * i + 3], NULL,
-                           &bits) != TG_OK)
+        if (tg_column_feed(&col, v[3 * i], v[3 * i + 1], &v[3 * i + 2], ts[i], NULL, &bits) != TG_OK)
             rejected++;
         all |= bits;
     }
     printf("readings %ld rejected %ld event bits %d gph_m %.3f height_m %.3f\n", n, rejected, all,
-           (double)col.gph_m, (double)col.height_m);
+           (double)tg_column_gph_m(&col), (double)tg_column_height_m(&col));
     free(v);
+    free(ts);
     return 0;
 }
 """
 
 
-def readings(n):
-    """n readings from 0 to TOP_GPM gpm: (p_pa, t_k, rh_pct, time_s)."""
+def readings(n, clock="1hz"):
+    """n readings from 0 to TOP_GPM gpm: (p_pa, t_k, rh_pct, time_s). clock
+    "1hz": time stamps in whole seconds, one per reading (a 1 Hz logger; the
+    column keeps the gains of its height track while the step repeats, as
+    Column._track does); "float": h / ASCENT_M_S, stamps whose steps differ
+    in the last bits (a float clock: the track's gains are recomputed at
+    every reading, one exp and two square roots more)."""
     out = []
     for i in range(n):
         h = TOP_GPM * i / (n - 1)
         out.append((standard_pressure(h), standard_temperature(h),
-                    60.0 + 30.0 * math.sin(h / 2000.0), h / ASCENT_M_S))
+                    60.0 + 30.0 * math.sin(h / 2000.0),
+                    float(i) if clock == "1hz" else h / ASCENT_M_S))
     return out
 
 
@@ -117,14 +125,14 @@ def build(tmp, kind):
     return exe
 
 
-def feed_instructions(tmp, exe, n):
+def feed_instructions(tmp, exe, n, clock="1hz"):
     """(instructions inside tg_column_feed for n readings, {function: its own
     instructions among them}, the driver's line)."""
-    data = os.path.join(tmp, "readings_%d.bin" % n)
+    data = os.path.join(tmp, "readings_%s_%d.bin" % (clock, n))
     with open(data, "wb") as f:
-        for r in readings(n):
+        for r in readings(n, clock):
             f.write(struct.pack("<4d", *r))
-    out = os.path.join(tmp, "callgrind_%s_%d.out" % (os.path.basename(exe), n))
+    out = os.path.join(tmp, "callgrind_%s_%s_%d.out" % (os.path.basename(exe), clock, n))
     r = subprocess.run(["valgrind", "--tool=callgrind", "--toggle-collect=tg_column_feed",
                         "--callgrind-out-file=" + out, exe, data, str(n)],
                        capture_output=True, text=True, check=True)
@@ -155,19 +163,22 @@ def main(argv):
     vg = subprocess.run(["valgrind", "--version"], capture_output=True, text=True).stdout.strip()
     print("tg_column_feed instructions (%s; %s; %s)" % (gcc, " ".join(CFLAGS[:3]), vg))
     print("stream: 0..%.0f gpm, U.S. Standard Atmosphere 1976 p and T, rh 60 + 30 sin(gph/2000 m) %%, "
-          "time stamps (%.0f m/s), lat %.1f deg" % (TOP_GPM, ASCENT_M_S, LAT_DEG))
+          "lat %.1f deg; clock 1hz: whole-second stamps, one per reading; clock float: "
+          "gph / %.0f m/s" % (TOP_GPM, LAT_DEG, ASCENT_M_S))
     with tempfile.TemporaryDirectory(prefix="tinygeo_feed_cost_") as tmp:
         for kind in ("double", "float"):
             exe = build(tmp, kind)
-            i1, f1, out1 = feed_instructions(tmp, exe, n)
-            i2, f2, out2 = feed_instructions(tmp, exe, 2 * n)
-            print("%-6s N=%d: I(N) = %d (%s)" % (kind, n, i1, out1))
-            print("%-6s 2N=%d: I(2N) = %d (%s)" % (kind, 2 * n, i2, out2))
-            print("%-6s instructions per feed (I(2N) - I(N))/N = %.1f; I(N)/N = %.1f"
-                  % (kind, (i2 - i1) / n, i1 / n))
-            parts = sorted(((f2.get(k, 0) - f1.get(k, 0)) / n, k) for k in set(f1) | set(f2))
-            print("%-6s   of which, per feed: %s" % (kind, ", ".join(
-                "%s %.1f" % (k, v) for v, k in reversed(parts) if v >= 0.05)))
+            for clock in ("1hz", "float"):
+                i1, f1, out1 = feed_instructions(tmp, exe, n, clock)
+                i2, f2, out2 = feed_instructions(tmp, exe, 2 * n, clock)
+                tag = "%s %s" % (kind, clock)
+                print("%-12s N=%d: I(N) = %d (%s)" % (tag, n, i1, out1))
+                print("%-12s 2N=%d: I(2N) = %d (%s)" % (tag, 2 * n, i2, out2))
+                print("%-12s instructions per feed (I(2N) - I(N))/N = %.1f; I(N)/N = %.1f"
+                      % (tag, (i2 - i1) / n, i1 / n))
+                parts = sorted(((f2.get(k, 0) - f1.get(k, 0)) / n, k) for k in set(f1) | set(f2))
+                print("%-12s   of which, per feed: %s" % (tag, ", ".join(
+                    "%s %.1f" % (k, v) for v, k in reversed(parts) if v >= 0.05)))
 
 
 if __name__ == "__main__":

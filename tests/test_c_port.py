@@ -11,8 +11,8 @@ double), and checks:
   through the C runner ports/c/runvec.c that reads the same files;
 * the double build agrees with CPython tinygeo to 1e-12 relative on random
   and edge inputs of every ported function, and returns the status matching
-  the Python exception (RangeError -> range, ModelRangeError -> model_range,
-  TinygeoError for an ellipsoid without series -> ellipsoid) for bad input;
+  the Python exception (RangeError -> range, also for an ellipsoid that is
+  neither WGS 84 nor GRS 80, ModelRangeError -> model_range) for bad input;
 * the float build agrees with the float64 values (CPython, same inputs rounded
   to float32 first) within the float32 budgets of FLOAT_CASES below, measured
   on this port and stated in ports/c/README.md;
@@ -55,10 +55,7 @@ SRCS = ["constants.c", "gravity.c", "potential.c", "moisture.c", "layers.c", "st
 
 
 def _sources():
-    srcs = [s for s in SRCS]
-    if os.path.exists(os.path.join(PORT, "column.c")):
-        srcs.append("column.c")
-    return [os.path.join(PORT, s) for s in srcs]
+    return [os.path.join(PORT, s) for s in SRCS + ["column.c", "record.c"]]
 
 
 def _vector_files():
@@ -77,8 +74,8 @@ BUILD_FLAGS = {
 def build():
     """Compile the sources once per build (double, float, sanitizers; the three
     in parallel) and link the runners: {'double', 'float', 'column_double',
-    'column_float', 'asan' and 'column_asan' (None if unavailable), 'asan_err',
-    'dir'}."""
+    'column_float', 'vec_double', 'vec_float', 'asan', 'column_asan' and
+    'vec_asan' (None if unavailable), 'asan_err', 'dir'}."""
     gcc = shutil.which("gcc")
     if gcc is None:
         if IN_CI:
@@ -86,7 +83,9 @@ def build():
         pytest.skip("gcc not found (install gcc to test ports/c)")
     tmp = tempfile.mkdtemp(prefix="tinygeo_c_")
     out = {"dir": tmp}
-    mains = [os.path.join(PORT, "runvec.c"), os.path.join(PORT, "column_run.c")]
+    mains = [os.path.join(PORT, "runvec.c"), os.path.join(PORT, "column_run.c"),
+             os.path.join(PORT, "column_vec.c")]
+    prefix = {mains[0]: "runvec_", mains[1]: "column_", mains[2]: "vec_"}
     procs = {}
     for kind, flags in BUILD_FLAGS.items():
         d = os.path.join(tmp, kind)
@@ -98,17 +97,18 @@ def build():
     for kind, (d, cmd, proc) in procs.items():
         _, err = proc.communicate(timeout=120)
         if kind == "asan" and proc.returncode != 0:
-            out["asan"], out["column_asan"], out["asan_err"] = None, None, err
+            out["asan"], out["column_asan"], out["vec_asan"], out["asan_err"] = None, None, None, err
             continue
         assert proc.returncode == 0, "gcc (%s build) failed:\n%s\n%s" % (kind, " ".join(cmd), err)
         objs = [os.path.join(d, os.path.basename(f)[:-2] + ".o") for f in _sources()]
-        for main, name in ((mains[0], kind), (mains[1], "column_" + kind)):
-            exe = os.path.join(tmp, ("runvec_" + name) if main == mains[0] else name)
+        for main in mains:
+            name = kind if main == mains[0] else prefix[main] + kind
+            exe = os.path.join(tmp, prefix[main] + kind)
             link = [gcc] + BUILD_FLAGS[kind] + ["-o", exe] + objs + \
                 [os.path.join(d, os.path.basename(main)[:-2] + ".o"), "-lm"]
             r = subprocess.run(link, capture_output=True, text=True)
             if kind == "asan" and r.returncode != 0:
-                out["asan"], out["column_asan"], out["asan_err"] = None, None, r.stderr
+                out["asan"], out["column_asan"], out["vec_asan"], out["asan_err"] = None, None, None, r.stderr
                 break
             assert r.returncode == 0, "link failed:\n%s\n%s" % (" ".join(link), r.stderr)
             out[name] = exe
@@ -146,12 +146,16 @@ def _parse(stdout):
 _BARE = Ellipsoid("BARE", **{k: getattr(WGS84, k) for k in (
     "a_m", "f", "gm", "omega", "b_m", "e2", "ep2", "lin_ecc_m", "gamma_e", "gamma_p",
     "k_somigliana", "m", "u0")})
-"""A copy of WGS 84 under another name: Python has no geopotential series for
-it (TinygeoError), C none either (series NULL -> TG_ELLIPSOID); gravity works."""
-ELLS = (WGS84, GRS80, _BARE)
+"""A copy of WGS 84 under another name: constants.check_ellipsoid maps it to
+WGS84 (C: tg__check_ellipsoid, a copy without the series pointer)."""
+_FOREIGN = Ellipsoid("FOREIGN", **dict((k, getattr(WGS84, k) + (1.0 if k == "a_m" else 0.0)) for k in (
+    "a_m", "f", "gm", "omega", "b_m", "e2", "ep2", "lin_ecc_m", "gamma_e", "gamma_p",
+    "k_somigliana", "m", "u0")))
+"""An ellipsoid of its own (1 m larger): RangeError in Python, TG_RANGE in C."""
+ELLS = (WGS84, GRS80, _BARE, _FOREIGN)
 ELL_ARG = {"normal_gravity": 2, "somigliana_gravity": 1, "geopotential": 2,
            "geopotential_height": 2, "geometric_height": 2}
-"""Functions whose line may carry the ellipsoid code (0 WGS84, 1 GRS80, 2 bare)
+"""Functions whose line may carry the ellipsoid code (0 WGS84, 1 GRS80, 2 a copy, 3 foreign)
 as an extra last argument (C runner: ell())."""
 OPTIONAL_NUMBER = {"sea_level_pressure": 3, "qfe": 3}
 """Index of the first optional number (rh_pct ...) that Python takes as None
@@ -310,9 +314,10 @@ ERROR_CASES = [
     ("normal_gravity", (91.0, 0.0)), ("normal_gravity", (NAN, 0.0)), ("normal_gravity", (45.0, 100001.0)),
     ("normal_gravity", (45.0, INF)), ("somigliana_gravity", (-90.5,)),
     ("geopotential_height", (-1001.0, 0.0)), ("geopotential_height", (0.0, 95.0)),
-    ("geopotential_height", (1000.0, 45.0, 2.0)), ("geopotential", (1000.0, 45.0, 2.0)),
-    ("geometric_height", (98751.0, 0.0)), ("geometric_height", (1000.0, 45.0, 2.0)),
-    ("geometric_height", (1e6, 95.0, 2.0)),
+    ("geopotential_height", (1000.0, 45.0, 3.0)), ("geopotential", (1000.0, 45.0, 3.0)),
+    ("geometric_height", (98751.0, 0.0)), ("geometric_height", (1000.0, 45.0, 3.0)),
+    ("geometric_height", (1e6, 95.0, 3.0)), ("normal_gravity", (45.0, 0.0, 3.0)),
+    ("somigliana_gravity", (45.0, 3.0)),
     ("msl_height", (0.0, 151.0)), ("msl_height", (-2001.0, 0.0)),
     ("saturation_vapour_pressure", (20.0, 0.0)), ("saturation_vapour_pressure", (NAN, 1.0)),
     ("enhancement_factor", (0.05,)), ("enhancement_factor", (1013.25e3,)),
@@ -414,6 +419,13 @@ def _unchanged(text):
     return text
 
 
+def _in_init(text, old, new):
+    # replace the first old after "def __init__(self, lat_deg" (the module
+    # docstring repeats the signature)
+    i = text.index("def __init__(self, lat_deg")
+    return text[:i] + text[i:].replace(old, new, 1)
+
+
 def _add_setting(text, check):
     # a new keyword parameter of Column.__init__ and its check (after the
     # latitude's), as a contributor would add one
@@ -432,18 +444,26 @@ def test_tables_follow_column_settings(tmp_path):
     tmp = str(tmp_path)
     rc, out = _gen_tables_on_copy(tmp, _unchanged)
     assert rc == 0, out
-    rc, out = _gen_tables_on_copy(tmp, lambda t: t.replace("sigma_p_pa=10,", "sigma_p_pa=12,", 1))
+    rc, out = _gen_tables_on_copy(tmp, lambda t: _in_init(t, "sigma_p_pa=10,", "sigma_p_pa=12,"))
     assert rc == 1 and "+#define TGPY_COLUMN_SET_SIGMA_P_PA_DEF TG_L(12)" in out, out
     rc, out = _gen_tables_on_copy(tmp, lambda t: t.replace(
-        'check_range("launch_m", launch_m, 0, 10000,', 'check_range("launch_m", launch_m, 0, 20000,', 1))
-    assert rc == 1 and "+#define TGPY_COLUMN_SET_LAUNCH_M_HI TG_L(20000)" in out, out
+        'check_range("launch_gpm", launch_gpm, 0, 10000,', 'check_range("launch_gpm", launch_gpm, 0, 20000,', 1))
+    assert rc == 1 and "+#define TGPY_COLUMN_SET_LAUNCH_GPM_HI TG_L(20000)" in out, out
     rc, out = _gen_tables_on_copy(tmp, lambda t: t.replace(
-        "burst_readings < 1 or burst_readings > 100000", "burst_readings < 2 or burst_readings > 100000", 1))
+        '_count_setting("burst_readings", burst_readings, 1, 100000)',
+        '_count_setting("burst_readings", burst_readings, 2, 100000)', 1))
     assert rc == 1 and "+#define TGPY_COLUMN_SET_BURST_READINGS_LO 2" in out, out
+    # the forms "None if x is None else check_range(...)" and check_flag
+    rc, out = _gen_tables_on_copy(tmp, lambda t: t.replace(
+        'check_range("max_t_step_k", max_t_step_k, 0, 100, "K")',
+        'check_range("max_t_step_k", max_t_step_k, 0, 90, "K")', 1))
+    assert rc == 1 and "+#define TGPY_COLUMN_SET_MAX_T_STEP_K_HI TG_L(90)" in out, out
+    rc, out = _gen_tables_on_copy(tmp, lambda t: _in_init(t, "track_sigma=True,", "track_sigma=False,"))
+    assert rc == 1 and "+#define TGPY_COLUMN_SET_TRACK_SIGMA_DEF 0   /* False */" in out, out
     rc, out = _gen_tables_on_copy(tmp, lambda t: _add_setting(
         t, 'self.new_gate_m = check_range("new_gate_m", new_gate_m, 0, 50, "m")'))
     assert rc == 1, out
-    for line in ("+#define TGPY_COLUMN_SET_N 27", "+#define TGPY_COLUMN_SET_NEW_GATE_M_DEF TG_L(5)",
+    for line in ("+#define TGPY_COLUMN_SET_N 35", "+#define TGPY_COLUMN_SET_NEW_GATE_M_DEF TG_L(5)",
                  "+#define TGPY_COLUMN_SET_NEW_GATE_M_LO TG_L(0)", "+#define TGPY_COLUMN_SET_NEW_GATE_M_HI TG_L(50)"):
         assert line in out, (line, out)
     rc, out = _gen_tables_on_copy(tmp, lambda t: _add_setting(
@@ -462,7 +482,7 @@ def _gen_tables_module():
 
 def test_c_comments_cite_existing_python(tmp_path):
     """Every Python name a comment of ports/c cites (column.py, Column.feed,
-    potential.gph_series, _column_rare.to_bytes, tinygeo/errors.py, ...)
+    potential.gph_series, Column._recover, tinygeo/errors.py, ...)
     exists in the module it names (rules: gen_tables.check_citations); and the
     check finds a stale citation of each kind."""
     gen_tables = _gen_tables_module()
@@ -487,10 +507,11 @@ def test_c_comments_cite_existing_python(tmp_path):
 
 def test_layers_ln_tiers_not_stale():
     """The |d| tiers of layers.ln_tiers (literals inside a function, which the
-    table generator does not read) are the ones in ports/c/layers.c."""
+    table generator does not read) are the ones of tg__layers_lnr in
+    ports/c/tg_internal.h."""
     import re
     from tinygeo import layers
-    with open(os.path.join(PORT, "layers.c")) as f:
+    with open(os.path.join(PORT, "tg_internal.h")) as f:
         src = f.read()
     for flag in (True, False):
         tag = "ln_tiers(%s)" % flag
@@ -711,135 +732,112 @@ def test_sanitizers(build):
 
 
 # ----------------------------------------------------------------------------- column
-from tinygeo.column import Column  # noqa: E402
+# The C column (ports/c/column.c) against Python's Column: the same commands
+# through ports/c/column_run.c and through tinygeo.column, compared bit for bit
+# in double (every status, rejection reason, event, on_event call, attribute
+# and, with -s, the whole state as the checkpoint blob after every reading).
+from tinygeo.column import Column, COUNT_MAX, CHECKPOINT_BYTES  # noqa: E402
+from tinygeo import column as _column  # noqa: E402
+from tinygeo import record  # noqa: E402
 from tinygeo.errors import ReadingError, TinygeoError  # noqa: E402
 
-COL_ATTRS = ("count", "rejected", "flags", "phase", "p_pa", "t_k", "tv_k", "rh_pct", "time_s",
-             "gph_m", "height_m", "rate_m_s", "max_gph_m", "launch_time_s", "burst_gph_m",
-             "burst_time_s", "burst_p_pa", "level_p_pa", "level_gph_m", "level_height_m",
-             "level_t_k", "tropopause_p_pa", "tropopause_gph_m", "tropopause_t_k", "gps_m",
-             "gps_diff_m", "sigma_m", "sigma_random_m", "sigma_bias_m")
-"""The order of the attributes printed by ports/c/column_run.c after each command."""
+COL_ATTRS = ("count", "rejected", "retracted", "flags", "phase", "p_pa", "t_k", "tv_k", "rh_pct",
+             "time_s", "gph_m", "height_m", "rate_m_s", "noise_gph_m", "smooth_gph_m",
+             "smooth_rate_gpm_s", "max_gph_m", "launch_time_s", "burst_gph_m", "burst_time_s",
+             "burst_p_pa", "float_gph_m", "float_time_s", "landing_time_s", "level_p_pa",
+             "level_gph_m", "level_height_m", "level_t_k", "tropopause_p_pa", "tropopause_gph_m",
+             "tropopause_t_k", "tropopause_time_s", "gps_m", "gps_diff_m", "sigma_m",
+             "sigma_random_m", "sigma_bias_m", "time_origin")
+"""The attributes ports/c/column_run.c prints after each command, in its order."""
+FL = dict((n, getattr(_column, n)) for n in dir(_column) if n.startswith("FL_"))
 
 
-def _sounding_profile(h):
-    # the invented sounding of tests/mp/column_sounding.py: standard temperature
-    # with two waves, humidity 25..95 %
-    t = standard.standard_temperature(h) + 3.0 * math.sin(h / 1700.0) + 1.5 * math.cos(h / 4100.0)
-    rh = 60.0 + 35.0 * math.sin(h / 2300.0)
-    return t, rh
-
-
-def sounding_commands(step=10.0):
-    """The reading stream of tests/mp/column_sounding.py (ascent every 10 gpm to
-    31 km, every 7th reading without humidity, a GPS height every 50th, the fall
-    and the landing, then its bad readings), plus a GPS re-anchor mid-flight and
-    a few more bad readings. Each command: (verb, args) with None for None."""
-    cmds = [("init", (48.2, 512.0, None, 0, 0, 0, 1, 200.0, None))]
-    ts, h, count = 0.0, 0.0, 0
-    while h <= 31000.0:
-        t, rh = _sounding_profile(h)
-        gps = 512.0 + h * 1.003 if count % 50 == 0 else None
-        cmds.append(("feed", (standard.standard_pressure(h), t, rh if count % 7 else None, ts, gps)))
-        count += 1
-        if count == 1201:
-            cmds.append(("reanchor", (10.0,)))
-        if count == 1500:   # bad readings in mid-flight: nothing but 'rejected' changes
-            p = standard.standard_pressure(h)
-            cmds += [("feed", (NAN, 250.0, None, None, None)), ("feed", (p, 25.0, 50.0, None, None)),
-                     ("feed", (p, 250.0, 150.0, None, None)), ("feed", (p, 250.0, None, ts - 1.0, None)),
-                     ("feed", (0.5 * p, 250.0, None, ts + 1.0, None)),
-                     ("feed", (p, 250.0, None, None, 200000.0)), ("reanchor", (10.0,))]
-        h += step
-        ts += 2.0
-    while h > 0.0:
-        h = h - 150.0 if h > 150.0 else 0.0
-        ts += 5.0
-        cmds.append(("feed", (standard.standard_pressure(h), _sounding_profile(h)[0], None, ts, None)))
-    for _ in range(20):
-        ts += 5.0
-        cmds.append(("feed", (standard.standard_pressure(0.0), _sounding_profile(0.0)[0], None, ts, None)))
-    p = standard.standard_pressure(0.0)
-    for args in ((NAN, 280.0), (90000.0, 25.0), (90000.0, 280.0, 150.0), (0.5 * p, 280.0, None, ts + 1.0)):
-        cmds.append(("feed", tuple(args) + (None,) * (5 - len(args))))
-    return cmds
-
-
-def _round_cmds(cmds):
-    out = []
-    for verb, args in cmds:
-        if verb == "feed":
-            args = tuple(None if a is None else floatemu.r32(a) for a in args)
-        out.append((verb, args))
-    return out
+def _tok(a):
+    if isinstance(a, str):
+        return a
+    if a is None:
+        return "-"
+    return repr(float(a))
 
 
 def _cmd_text(cmds):
-    def tok(a):
-        if isinstance(a, str):
-            return a
-        return "-" if a is None else repr(float(a))
-    return "".join("%s %s\n" % (verb, " ".join(tok(a) for a in args)) for verb, args in cmds)
+    out = []
+    for verb, args in cmds:
+        if verb == "init":
+            lat, kw = args
+            out.append("init %s %s\n" % (_tok(lat), " ".join("%s=%s" % (k, _tok(v)) for k, v in kw.items())))
+        else:
+            out.append("%s %s\n" % (verb, " ".join(_tok(a) for a in args)))
+    return "".join(out)
 
 
-def run_c_column(exe, cmds):
-    """Run ports/c/column_run on the commands: ([(status, reason, res, attrs)], [events])."""
-    r = subprocess.run([exe], input=_cmd_text(cmds), capture_output=True, text=True, timeout=60)
+def run_c_column(exe, cmds, opts=(), env=None):
+    """Run ports/c/column_run on the commands: (rows, events, blobs, records);
+    a row is (status, reason, result, attributes), an event (count, bits,
+    level_p_pa)."""
+    r = subprocess.run([exe] + list(opts), input=_cmd_text(cmds), capture_output=True, text=True,
+                       timeout=300, env=env)
     assert r.returncode == 0, r.stderr
-    rows, events, blobs = [], [], []
+    rows, events, blobs, recs = [], [], [], []
     for ln in r.stdout.splitlines():
+        if ln[:2] in ("w ", "s ", "m ", "h "):
+            recs.append(ln[2:])
+            continue
         w = ln.split()
         if w[0] == "e":
-            events.append((int(w[1]), int(w[2])))
+            events.append((int(w[1]), int(w[2]), float(w[3])))
         elif w[0] == "b":
             blobs.append(w[1])
         else:
             rows.append((w[1], w[2], float(w[3]), tuple(float(x) for x in w[4:])))
-    if any(verb == "save" for verb, _ in cmds):
-        return rows, events, blobs
-    return rows, events
+    return rows, events, blobs, recs
 
 
-def run_py_column(cmds, mod_column=None, ellipsoids=(WGS84, GRS80)):
-    """The same commands through Python's Column (or an emulated one)."""
-    cls = Column if mod_column is None else mod_column.Column
-    events = []
-    rows = []
-    blobs = []
+def stamp(x):
+    """A time stamp as the C column takes it: a double; a whole number is an
+    int tick, as Python's int (the checkpoint stores an int first stamp as
+    two int32 halves; tinygeo.h). Python computes the same with a whole
+    float or its int (below 2^53)."""
+    if x is None or x != x or x in (INF, -INF) or x != int(x) or abs(x) >= 2 ** 62:
+        return x
+    return int(x)
+
+
+def run_py_column(cmds, every_blob=False, cls=Column, ellipsoids=(WGS84, GRS80)):
+    """The same commands through Python's Column (or an emulated one): the
+    same (rows, events, blobs) as run_c_column."""
+    rows, events, blobs = [], [], []
     col = None
 
     def cb(c, b):
-        events.append((c.count, b))
+        events.append((c.count, b, float(c.level_p_pa)))
 
     for verb, args in cmds:
-        status, reason, res = "ok", None, NAN
+        status, reason, res = "ok", None, 0.0
         if verb == "init":
-            res = 0.0
-            lat, start, anchor, ell, ice, dry, track, rate, geoid = args[:9]
-            tstep = {}
-            if len(args) == 12:
-                tstep = dict(max_t_step_k=args[9], max_t_rate_k_s=args[10],
-                             max_t_gradient_k_m=args[11])
+            lat, kw = args
+            kw = dict(kw)
+            if "ellipsoid" in kw:
+                kw["ellipsoid"] = ellipsoids[int(kw["ellipsoid"])]
+            for k in ("burst_readings", "takeover_readings"):
+                if isinstance(kw.get(k), float):
+                    kw[k] = int(kw[k])
             try:
-                col = cls(lat, start, anchor, ellipsoids[int(ell)], bool(ice), bool(dry),
-                          max_rate_m_s=rate, track_sigma=bool(track), geoid_undulation_m=geoid,
-                          on_event=cb, **tstep)
+                col = cls(lat, on_event=cb, **kw)
             except errors.RangeError:
                 rows.append(("range", None, 0.0, None))
                 continue
         elif verb == "feed":
-            res = 0.0
+            p, t, rh, ts, gps = args
             try:
-                res = float(col.feed(*args))
+                res = float(col.feed(p, t, rh, stamp(ts), gps))
             except ReadingError as e:
-                status, reason, res = "reading", e.reason, 0.0   # C: *bits = 0
-            except TinygeoError:
-                status, res = "range", 0.0
+                status, reason = "reading", e.reason
+            if every_blob:
+                blobs.append(col.to_bytes().hex())
         elif verb == "save":
-            res = 0.0
             blobs.append(col.to_bytes().hex())
         elif verb == "load":
-            res = 0.0
             try:
                 col = cls.from_bytes(bytes.fromhex(args[0]), on_event=cb)
             except errors.CheckpointError:
@@ -848,91 +846,540 @@ def run_py_column(cmds, mod_column=None, ellipsoids=(WGS84, GRS80)):
             try:
                 res = col.reanchor_gps(*args)
             except errors.RangeError:
-                status = "range"
+                status, res = "range", NAN        # C: *out = NaN
             except TinygeoError:
-                status = "state"
-        rows.append((status, reason, res, tuple(float(getattr(col, n)) for n in COL_ATTRS)))
-    if any(verb == "save" for verb, _ in cmds):
-        return rows, events, blobs
-    return rows, events
+                status, res = "state", NAN
+        rows.append((status, reason, res, tuple(NAN if getattr(col, n) is None else float(getattr(col, n))
+                                                for n in COL_ATTRS)))
+    return rows, events, blobs
 
 
 def _same(a, b):
     return a == b or (a != a and b != b)
 
 
-def test_column_double_matches_python_bit_for_bit(build):
-    """The synthetic sounding of tests/mp/column_sounding.py through tg_column
-    (double) and Python's Column: every status, rejection reason, event bit,
-    on_event call and attribute after every command is the same, bit for bit."""
+def _compare(cmds, c, p, blobs=True):
+    """Assert run_c_column's and run_py_column's results are the same, bit for
+    bit (the reason only where a reading was rejected: C keeps the latest)."""
+    crow, cev, cblobs = c[:3]
+    prow, pev, pblobs = p
+    assert len(crow) == len(prow) == len(cmds), (len(crow), len(prow), len(cmds))
+    for i, (a, b) in enumerate(zip(crow, prow)):
+        assert a[0] == b[0], (cmds[0], i, cmds[i], a[0], b[0])
+        if b[0] == "reading":
+            assert a[1] == b[1], (cmds[0], i, cmds[i], a[1], b[1])
+        assert _same(a[2], b[2]), (cmds[0], i, cmds[i], a[2], b[2])
+        if b[3] is not None:
+            diff = [(n, x, y) for n, x, y in zip(COL_ATTRS, a[3], b[3]) if not _same(x, y)]
+            assert not diff, (cmds[0], i, cmds[i], diff)
+    assert len(cev) == len(pev) and all(x[:2] == y[:2] and _same(x[2], y[2]) for x, y in zip(cev, pev)), \
+        (cmds[0], cev, pev)
+    if blobs:
+        assert len(cblobs) == len(pblobs)
+        for i, (a, b) in enumerate(zip(cblobs, pblobs)):
+            assert a == b, (cmds[0], i, _blob_diff(a, b))
+
+
+def _layout():
+    """(offset, size, name) of every field of a column checkpoint blob."""
+    names = ["cfg." + n for n in _column._CFG_F] + ["st." + n for n in _column._ST_F] + ["t0"]
+    names += ["h." + n for n in _column._REC_F] + ["b." + n for n in _column._REC_F]
+    ints = ["cfg." + n for n in _column._CFG_I] + ["st." + n for n in _column._ST_I]
+    ints += ["h." + n for n in _column._REC_I] + ["b." + n for n in _column._REC_I]
+    out, off = [], 7
+    for n in names:
+        out.append((off, 8, n))
+        off += 8
+    for n in ints:
+        out.append((off, 4, n))
+        off += 4
+    return out
+
+
+def _blob_diff(a, b):
+    import struct as _struct
+    a, b = bytes.fromhex(a), bytes.fromhex(b)
+    out = []
+    for off, size, name in _layout():
+        if a[off:off + size] != b[off:off + size]:
+            fmt = "<d" if size == 8 else "<i"
+            out.append((name, _struct.unpack(fmt, a[off:off + size])[0], _struct.unpack(fmt, b[off:off + size])[0]))
+    return out
+
+
+def _craft(raw, **fields):
+    """A checkpoint blob with some fields replaced (names as in _layout, e.g.
+    'st.count', 'h.p_pa'), the CRC-32 recomputed: what a firmware could hold,
+    or a blob made by hand."""
+    import struct as _struct
+    from tinygeo.checkpoint import crc32
+    body = bytearray(raw[:-4])
+    where = dict((name, (off, size)) for off, size, name in _layout())
+    for name, v in fields.items():
+        off, size = where[name]
+        body[off:off + size] = _struct.pack("<d" if size == 8 else "<i", v)
+    return bytes(body) + _struct.pack("<I", crc32(bytes(body)))
+
+
+def _profile(h):
+    # an invented sounding: standard temperature with two waves, humidity 25..95 %
+    t = standard.standard_temperature(h) + 3.0 * math.sin(h / 1700.0) + 1.5 * math.cos(h / 4100.0)
+    return t, 60.0 + 35.0 * math.sin(h / 2300.0)
+
+
+def sounding_commands(step=10.0):
+    """An ascent every step gpm to 31 km (2 s apart; every 7th reading without
+    humidity, a GPS height every 50th, a GPS "no fix" every 97th), a GPS
+    re-anchor and bad readings in mid-flight, the fall and the landing, then
+    more bad readings."""
+    cmds = [("init", (48.2, {"start_height_m": 512.0}))]
+    ts, h, count = 0.0, 512.0, 0
+    while h <= 31000.0:
+        t, rh = _profile(h)
+        gps = 512.0 + h * 1.003 if count % 50 == 0 else (NAN if count % 97 == 0 else None)
+        cmds.append(("feed", (standard.standard_pressure(h), t, rh if count % 7 else None, ts, gps)))
+        count += 1
+        if count == 1201:
+            cmds.append(("reanchor", (10.0,)))
+        if count == 1500:   # bad readings in mid-flight
+            p = standard.standard_pressure(h)
+            cmds += [("feed", (NAN, 250.0, None, None, None)), ("feed", (p, 25.0, 50.0, None, None)),
+                     ("feed", (p, 250.0, 150.0, None, None)), ("feed", (p, 250.0, None, ts - 1.0, None)),
+                     ("feed", (p, 250.0, None, None, 200000.0)), ("reanchor", (10.0,))]
+        h += step
+        ts += 2.0
+    while h > 600.0:
+        h = h - 150.0
+        ts += 5.0
+        cmds.append(("feed", (standard.standard_pressure(h), _profile(h)[0], None, ts, None)))
+    for _ in range(30):
+        ts += 5.0
+        cmds.append(("feed", (standard.standard_pressure(h), _profile(h)[0], None, ts, None)))
+    p = standard.standard_pressure(h)
+    for args in ((NAN, 280.0), (90000.0, 25.0), (90000.0, 280.0, 150.0), (0.5 * p, 280.0, None, ts + 1.0)):
+        cmds.append(("feed", tuple(args) + (None,) * (5 - len(args))))
+    return cmds
+
+
+def _random_settings(rng):
+    kw = {"start_height_m": rng.uniform(-100.0, 2000.0)}
+    if rng.random() < 0.3:
+        kw["anchor_p_pa"] = standard.standard_pressure(kw["start_height_m"] + rng.uniform(-30.0, 30.0))
+    kw["ellipsoid"] = rng.choice([0, 1])
+    kw["ice"] = rng.choice([0, 1])
+    kw["dry_fallback"] = rng.choice([0, 0, 1])
+    kw["track_sigma"] = rng.choice([1, 1, 0])
+    kw["max_rate_m_s"] = rng.choice([200.0, 200.0, None, 30.0])
+    kw["start_guard_m"] = rng.choice([3000.0, 3000.0, None, 500.0])
+    kw["geoid_undulation_m"] = rng.choice([None, None, rng.uniform(-100.0, 80.0)])
+    kw["max_t_step_k"], kw["max_t_rate_k_s"], kw["max_t_gradient_k_gpm"] = rng.choice(
+        [(3.0, 1.0, 0.1), (3.0, 1.0, 0.1), (None, 1.0, 0.1), (0.5, 0.2, 0.02), (10.0, 0.0, 0.0),
+         (rng.uniform(0.0, 6.0), rng.uniform(0.0, 2.0), rng.uniform(0.0, 0.2))])
+    kw["takeover_readings"] = rng.choice([3, 3, 2, 4, 6])
+    kw["burst_readings"] = rng.choice([3, 1, 2, 5])
+    kw["smooth_s"] = rng.choice([20.0, 5.0, 60.0])
+    kw["float_s"] = rng.choice([600.0, 60.0, 30.0])
+    kw["landing_s"] = rng.choice([60.0, 0.0, 20.0])
+    kw["launch_gpm"] = rng.choice([20.0, 5.0, 100.0])
+    kw["burst_drop_gpm"] = rng.choice([50.0, 10.0, 200.0])
+    kw["sigma_p_pa"] = rng.choice([10.0, 2.0, 0.0, 30.0])
+    kw["tropopause_layer_gpm"] = rng.choice([100.0, 30.0, 300.0])
+    kw["tropopause_max_p_pa"] = rng.choice([50000.0, 30000.0, 80000.0])
+    return kw
+
+
+def random_stream(rng):
+    """An invented stream for one random Column configuration: a ragged
+    ascent, float and descent with missing humidity, time and GPS (None, and
+    nan for "no fix"), repeated pressures and time stamps, gaps, stamps going
+    back and far ahead, clock resets, one-reading pressure glitches and
+    temperature spikes, runs of readings off by one offset (takeover), a bad
+    first reading (restart), bad values of every kind, re-anchors and saves;
+    seconds or integer millisecond ticks (time_unit_s 0.001), origins 0,
+    1.7e9 s, 1.7e12 ms."""
+    kw = _random_settings(rng)
+    unit = rng.choice([1, 1, 1000])
+    if unit == 1000:
+        kw["time_unit_s"] = 0.001
+    origin = rng.choice([0.0, 0.0, 1.7e9, 123456.5]) * unit
+    if unit == 1000 and rng.random() < 0.5:
+        origin = 1.7e12
+    cmds = [("init", (rng.uniform(-90.0, 90.0), kw))]
+    h = kw["start_height_m"] + rng.uniform(-40.0, 40.0)
+    ts = origin
+    dt_k = rng.uniform(-6.0, 6.0)
+    mode = "up"
+    first_bad = rng.random() < 0.15
+    for i in range(rng.randint(30, 300)):
+        if mode == "up":
+            h += rng.uniform(0.0, 40.0)
+            if rng.random() < 0.02:
+                mode = rng.choice(["down", "float"])
+        elif mode == "float":
+            h += rng.uniform(-3.0, 3.0)
+            if rng.random() < 0.03:
+                mode = rng.choice(["down", "up"])
+        else:
+            h = max(h - rng.uniform(0.0, 80.0), -200.0)
+        if rng.random() < 0.03:
+            h += rng.uniform(-2000.0, 6000.0)   # a sparse jump
+        h = min(max(h, -400.0), 40000.0)
+        dt_k = min(max(dt_k + rng.uniform(-0.8, 0.8), -8.0), 8.0)
+        t = standard.standard_temperature(h) + dt_k
+        p = standard.standard_pressure(h)
+        rh = rng.choice([None, None, rng.uniform(0.0, 100.0), rng.uniform(-3.0, 103.0), rng.uniform(0.0, 0.9)])
+        step = rng.choice([1, 1, 1, 2, 5, 0, 0.25]) * unit
+        if rng.random() < 0.03:
+            step = rng.uniform(30.0, 600.0) * unit             # a gap
+        ts += step
+        if unit == 1000:
+            ts = float(round(ts))
+        time_s = rng.choice([ts] * 8 + [None])
+        gps = rng.choice([None, None, None, NAN, h * 1.002 + rng.uniform(-20.0, 20.0)])
+        r = rng.random()
+        if first_bad and i == 0:
+            p = standard.standard_pressure(h + rng.choice([2500.0, -1500.0, 800.0]))
+        elif r < 0.02:
+            p = rng.choice([NAN, INF, -5.0, 0.05, 130000.0, p / 100.0])
+        elif r < 0.04:
+            t = rng.choice([NAN, 25.0, 400.0, t + 60.0])
+        elif r < 0.05:
+            rh = rng.choice([NAN, 110.0, -20.0])
+        elif r < 0.07:
+            time_s = ts - rng.uniform(0.5, 10.0) * unit        # a stamp going back
+        elif r < 0.08:
+            time_s = ts + rng.uniform(100.0, 5000.0) * unit    # a stamp far ahead
+        elif r < 0.09:
+            ts = ts - rng.uniform(100.0, 5000.0) * unit        # a clock reset
+            time_s = ts
+        elif r < 0.10:
+            gps = rng.choice([INF, 150000.0, -5000.0])
+        elif r < 0.15:
+            t = min(max(t + rng.choice([-1.0, 1.0]) * rng.uniform(2.0, 30.0), 150.0), 350.0)
+        elif r < 0.20:
+            p = standard.standard_pressure(min(h + rng.uniform(100.0, 3000.0), 40000.0))
+            time_s = rng.choice([None, time_s, time_s])
+        elif r < 0.22:
+            off = rng.uniform(500.0, 3000.0)                   # a run off by one offset
+            for _ in range(rng.randint(2, 6)):
+                ts += unit
+                cmds.append(("feed", (standard.standard_pressure(h + off), t, rh, ts, gps)))
+        if unit == 1000 and time_s is not None and time_s == time_s and abs(time_s) != INF:
+            time_s = float(round(time_s))
+        cmds.append(("feed", (p, t, rh, time_s, gps)))
+        if rng.random() < 0.02:
+            cmds.append(("reanchor", (rng.choice([10.0, 0.0, -1.0]),)))
+        if rng.random() < 0.02:
+            cmds.append(("save", ()))
+    return cmds
+
+
+def _flight(kw, n_up, lat=45.0, bad=None, dt=1.0, top=None):
+    """A clean 5 m/s ascent (then a float at the top if top, a 8 m/s descent
+    and the ground); bad: {reading number: (p, t, rh, time, gps)} replaces."""
+    cmds = [("init", (lat, kw))]
+    h, ts, k = kw.get("start_height_m", 0.0), 0.0, 0
+    seq = [h + 5.0 * dt * i for i in range(n_up)]
+    if top is not None:
+        seq += [seq[-1]] * top
+    seq += [max(seq[-1] - 8.0 * dt * i, seq[0]) for i in range(1, int(seq[-1] / (8.0 * dt)) + 40)]
+    for h in seq:
+        t, rh = _profile(h)
+        args = (standard.standard_pressure(h), t, rh, ts, None)
+        cmds.append(("feed", (bad or {}).get(k, args)))
+        ts += dt
+        k += 1
+    return cmds
+
+
+def test_column_sounding_double_bit_identical(build):
+    """The invented sounding through tg_column (double) and Python's Column:
+    every status, reason, event (and its on_event call with count and
+    level_p_pa), attribute, and the checkpoint blob after every reading (the
+    whole state) are the same, bit for bit."""
     cmds = sounding_commands()
-    crow, cev = run_c_column(build["column_double"], cmds)
-    prow, pev = run_py_column(cmds)
-    assert len(crow) == len(prow) == len(cmds)
-    assert cev == pev and len(pev) >= 15
-    n_rej = 0
-    for i, ((cst, creason, cres, cval), (pst, preason, pres, pval)) in enumerate(zip(crow, prow)):
-        assert cst == pst, (i, cmds[i], cst, pst)
-        if pst == "reading":
-            n_rej += 1
-            assert creason == preason, (i, cmds[i], creason, preason)
-        assert _same(cres, pres), (i, cmds[i], cres, pres)
-        diff = [(n, c, p) for n, c, p in zip(COL_ATTRS, cval, pval) if not _same(c, p)]
-        assert not diff, (i, cmds[i], diff)
-    assert n_rej >= 9
-    last = prow[-1][3]
-    print("column double: %d commands, %d events, %d rejections, final gph %.6f height %.6f: "
-          "bit-identical to CPython" % (len(cmds), len(pev), n_rej, last[9], last[10]))
+    c = run_c_column(build["column_double"], cmds, ["-s"])
+    p = run_py_column(cmds, every_blob=True)
+    _compare(cmds, c, p)
+    bits = 0
+    for _, b, _ in p[1]:
+        bits |= b
+    assert bits == 31 and len(p[1]) >= 18, p[1]     # level, tropopause, burst, landed, launch
+    n_rej = sum(1 for r in p[0] if r[0] == "reading")
+    assert n_rej >= 7 and any(r[3][3] and int(r[3][3]) & FL["FL_NO_GPS"] for r in p[0] if r[3])
+    print("column sounding: %d commands, %d events, %d rejections, %d blobs: bit-identical"
+          % (len(cmds), len(p[1]), n_rej, len(p[2])))
 
 
-COL_FLOAT_BUDGET = {"gph_m": 0.005, "height_m": 0.012, "level_gph_m": 0.004, "level_height_m": 0.004,
-                    "max_gph_m": 0.004, "burst_gph_m": 0.001, "rate_m_s": 0.004, "tv_k": 8e-05,
-                    "sigma_m": 1e-4, "gps_diff_m": 0.005}   # sigma_m: measured 4.9e-5, was 5e-4
-"""Float build vs Python float64 on the float32-rounded sounding (3100 readings
-to 31 km and back): largest differences allowed, in the attribute's unit
-(measured values printed by the test and listed in ports/c/README.md)."""
+def _special_streams():
+    """Streams built to take each recovery path: a bad first reading (restart
+    from the run), a glitch after a gap (retraction, FL_REPLACED), a clock
+    reset (a run that takes over), repeated stamps (FL_SAME_TIME), a held
+    mixing ratio above saturation (FL_CAPPED), a float (EV_FLOAT)."""
+    out = []
+    base = {"start_height_m": 100.0, "sigma_p_pa": 2.0}
+    # a bad first reading 2 km off: the next readings agree with each other
+    bad = {0: (standard.standard_pressure(2100.0), 275.0, 50.0, 0.0, None)}
+    out.append(_flight(base, 40, bad=bad))
+    # a pressure glitch after a gap of time: retracted by the next reading
+    cmds = _flight(base, 60)
+    p, t, rh, ts, g = cmds[31][1]
+    cmds[31] = ("feed", (standard.standard_pressure(4000.0), t, rh, ts + 400.0, g))
+    out.append(cmds)
+    # a clock reset by 1000 s in the middle of the ascent (stays reset)
+    cmds = _flight(base, 80)
+    out.append(cmds[:41] + [("feed", a[:3] + (a[3] - 1000.0,) + a[4:]) for v, a in cmds[41:]])
+    # repeated time stamps (a coarse clock) and no fix
+    cmds = _flight(base, 40)
+    out.append([c if i % 3 or c[0] != "feed" else ("feed", c[1][:3] + (c[1][3] - 1.0, NAN))
+                for i, c in enumerate(cmds)])
+    # humidity lost in warm saturated air, then the ascent cools it: capped
+    cmds = [("init", (10.0, {"start_height_m": 0.0}))]
+    for i in range(300):
+        h = 20.0 * i
+        cmds.append(("feed", (standard.standard_pressure(h), 303.0 - 0.0065 * h, 100.0 if i < 5 else None,
+                              float(i), None)))
+    out.append(cmds)
+    # a float of 700 s at 2 km, then the descent
+    out.append(_flight(dict(base, float_s=600.0), 400, top=700))
+    return out
+
+
+def test_column_random_streams_double_bit_identical(build):
+    """Random streams over every configuration switch and fault (glitches,
+    gaps, time jumps back and ahead, clock resets, NaN GPS, humidity on/off,
+    runs that take over, bad first readings, bad values of every kind,
+    re-anchors), plus streams built for each recovery path: tg_column (double)
+    and Python's Column agree bit for bit on every status, reason, event,
+    attribute and the whole state (the checkpoint blob) after every reading."""
+    rng = random.Random(20261204)
+    streams = [random_stream(rng) for _ in range(60)] + _special_streams()
+    n_cmd = n_blob = 0
+    statuses, reasons, flags, ev_bits = set(), set(), 0, 0
+    n_restart = 0
+    for cmds in streams:
+        c = run_c_column(build["column_double"], cmds, ["-s"])
+        p = run_py_column(cmds, every_blob=True)
+        _compare(cmds, c, p)
+        n_cmd += len(cmds)
+        n_blob += len(p[2])
+        prev = None
+        for (verb, _), row in zip(cmds, p[0]):
+            statuses.add(row[0])
+            if row[0] == "reading":
+                reasons.add(row[1])
+            if verb == "feed" and row[0] == "ok":
+                flags |= int(row[3][3])
+                ev_bits |= int(row[2])
+                if int(row[3][3]) & FL["FL_TAKEOVER"] and prev is not None and prev[0] == 1:
+                    n_restart += 1      # a run took over from a column holding only its first reading
+            if row[3] is not None:
+                prev = row[3]
+    print("column random streams: %d streams, %d commands, %d blobs, statuses %s, reasons %s, "
+          "flags %d, events %d, %d restarts: bit-identical" % (len(streams), n_cmd, n_blob, sorted(statuses),
+                                                                sorted(reasons), flags, ev_bits, n_restart))
+    assert {"ok", "reading", "range", "state"} <= statuses
+    assert reasons == {"number", "pressure", "temperature", "humidity", "time", "rate", "gps"}, reasons
+    assert flags == 1023, flags        # every FL_* bit, FL_REPLACED, FL_TAKEOVER, FL_SAME_TIME included
+    assert ev_bits == 63, ev_bits      # every event, EV_FLOAT included
+    assert n_restart >= 1
+
+
+def test_column_checkpoint_byte_identity_and_restore(build):
+    """tg_column_to_bytes writes Python's to_bytes bytes (every reading of the
+    streams above compares them); here a blob saved at many positions of the
+    sounding and of random streams is restored in C and in Python and both
+    continue bit-identically (the recovery memory starts afresh in both). A
+    blob restores in the state it was written in: restored at once and saved
+    again it gives the same bytes."""
+    rng = random.Random(77)
+    bases = [sounding_commands(step=50.0)] + [random_stream(rng) for _ in range(8)]
+    n_pos = 0
+    for base in bases:
+        for k in sorted(set(rng.randint(1, len(base) - 1) for _ in range(6))):
+            head = base[:k] + [("save", ())]
+            blobs = run_py_column(head)[2]
+            blob, j = blobs[-1], len(blobs) - 1      # (the streams save now and then too)
+            cmds = head + [("load", (blob,)), ("save", ())] + base[k:] + [("save", ())]
+            c = run_c_column(build["column_double"], cmds)
+            p = run_py_column(cmds)
+            _compare(cmds, c, p)
+            assert c[2][j] == blob and c[2][j + 1] == blob, _blob_diff(c[2][j + 1], blob)
+            assert p[0][k + 1][0] == "ok"
+            n_pos += 1
+    assert len(bytes.fromhex(blob)) == CHECKPOINT_BYTES == 1295
+    print("column checkpoints: %d restore positions in %d streams: bit-identical" % (n_pos, len(bases)))
+
+
+def test_column_checkpoint_refusals(build):
+    """from_bytes refuses in C exactly what Python refuses: a bit flip (CRC),
+    truncation, an extra byte, another magic or version, an inf anywhere, a
+    nan where a number must be, values out of range (counters beyond
+    COUNT_MAX, phase, level, filter gain, temperatures, flags), settings the
+    constructor refuses, an unknown ellipsoid; and accepts the same odd but
+    valid blobs (gps_here 5 is True, an int first stamp from its halves)."""
+    base = sounding_commands(step=50.0)
+    k = len(base) // 2
+    blob = run_py_column(base[:k] + [("save", ())])[2][-1]
+    raw = bytes.fromhex(blob)
+    flip = bytearray(raw)
+    flip[100] ^= 4
+    ver = bytearray(raw)
+    ver[4] = 3
+    cases = {
+        "bit flip": bytes(flip), "truncated": raw[:-1], "extra byte": raw + b"\0",
+        "magic": b"XXXX" + raw[4:], "version": bytes(ver),
+        "version, valid CRC": _craft(bytes(ver)),
+        "inf setting": _craft(raw, **{"cfg.smooth_s": INF}),
+        "inf state": _craft(raw, **{"st._e_g": -INF}),
+        "nan p_pa": _craft(raw, **{"h.p_pa": NAN}),
+        "nan tv_k of b": _craft(raw, **{"b.tv_k": NAN}),
+        "count": _craft(raw, **{"st.count": COUNT_MAX + 1}),
+        "rejected": _craft(raw, **{"st.rejected": -1}),
+        "phase": _craft(raw, **{"st.phase": 5}),
+        "level": _craft(raw, **{"st._lvl": 17}),
+        "tp_state": _craft(raw, **{"st._tp_state": 4}),
+        "has_b": _craft(raw, **{"st._has_b": 2}),
+        "gain": _craft(raw, **{"st._f_a": 1.5}),
+        "tm2": _craft(raw, **{"h.tm2": 800.0}),
+        "flags": _craft(raw, **{"h.flags": 1024}),
+        "t_k": _craft(raw, **{"b.t_k": 100.0}),
+        "level_t_k": _craft(raw, **{"st.level_t_k": 400.0}),
+        "ellipsoid": _craft(raw, **{"cfg.ellipsoid_code": 2}),
+        "ice": _craft(raw, **{"cfg.ice": 2}),
+        "sigma_p_pa": _craft(raw, **{"cfg.sigma_p_pa": -1.0}),
+        "takeover": _craft(raw, **{"cfg.takeover_readings": 1}),
+        "anchor off the guard": _craft(raw, **{"cfg.anchor_p_pa": 30000.0}),
+        "gps_here 5": _craft(raw, **{"h.gps_here": 5}),
+        "int first stamp": _craft(raw, **{"st._t0_int": 1, "st._t0_hi": 0, "st._t0_lo": 7}),
+        "nan level (not known yet)": _craft(raw, **{"st.level_p_pa": NAN}),
+    }
+    cmds = [("load", (b.hex(),)) for b in cases.values()]
+    for cm in cmds:
+        c = run_c_column(build["column_double"], base[:1] + [cm])
+        p = run_py_column(base[:1] + [cm])
+        _compare(base[:1] + [cm], c, p)
+    got = dict((name, run_py_column(base[:1] + [cm])[0][1][0]) for name, cm in zip(cases, cmds))
+    accepted = sorted(n for n, st in got.items() if st == "ok")
+    assert accepted == ["gps_here 5", "int first stamp", "nan level (not known yet)"], got
+
+
+def test_column_time_ms_ticks_float_build(build):
+    """Time stamps are doubles in the float build too: integer millisecond
+    ticks from a 1.7e12 ms origin keep their 1 ms (time_s of the k-th tick is
+    float32(k) * float32(0.001), the float32 product, exactly; the rate over
+    1 ms steps is within 1 % of the double column's), where the same stamps
+    rounded to float32 first would be 131072 ms apart (float32 spacing at
+    1.7e12)."""
+    from floatemu import r32
+    cmds = [("init", (45.0, {"time_unit_s": 0.001, "max_rate_m_s": None}))]
+    t0 = 1.7e12
+    for k in range(200):
+        cmds.append(("feed", (100000.0 - 1.0 * k, 288.0, None, t0 + k, None)))
+    rows = run_c_column(build["column_float"], cmds)[0]
+    prow = run_py_column(cmds)[0]
+    ti, ri = COL_ATTRS.index("time_s"), COL_ATTRS.index("rate_m_s")
+    worst = 0.0
+    for k, (row, ref) in enumerate(zip(rows[1:], prow[1:])):
+        assert row[0] == "ok", (k, row)
+        assert row[3][ti] == r32(r32(float(k)) * r32(0.001)), (k, row[3][ti])
+        if k:
+            worst = max(worst, abs(row[3][ri] / ref[3][ri] - 1.0))
+    assert r32(t0 + 1) - r32(t0) == 0.0 and r32(t0 + 131072) - r32(t0) == 131072.0
+    print("float build, ms ticks at 1.7e12: time_s of tick 199 = %r s; rate over 1 ms steps within "
+          "%.2g of the double column's" % (rows[-1][3][ti], worst))
+    assert worst < 0.01, worst
+
+
+def _ascent(rate_hz, top=35000.0):
+    # a 0..35 km ascent at 5 m/s sampled at rate_hz, inputs rounded to float32
+    from floatemu import r32
+    n = int(top / 5.0 * rate_hz) + 1
+    cmds = [("init", (48.2, {}))]
+    for i in range(n):
+        h = 5.0 * i / rate_hz
+        t, rh = _profile(h)
+        cmds.append(("feed", (r32(standard.standard_pressure(h)), r32(t), r32(rh), i / rate_hz, None)))
+    return cmds
+
+
+COL_F32_35KM_M = 0.01
+"""The issue's budget: the float build's loss at 35 km within 1 cm of the double build."""
+
+
+def test_column_float32_loss_at_35km(build):
+    """The float build against the double build on the same float32 inputs, a
+    0..35 km ascent at 1 Hz and 10 Hz (7001 and 70001 readings): gph_m and
+    height_m at 35 km within 1 cm (measured values printed, and listed in
+    ports/c/README.md); same events."""
+    worst = 0.0
+    for hz in (1, 10):
+        cmds = _ascent(hz)
+        d = run_c_column(build["column_double"], cmds, ["-l"])
+        f = run_c_column(build["column_float"], cmds, ["-l"])
+        gi, hi = COL_ATTRS.index("gph_m"), COL_ATTRS.index("height_m")
+        dg = f[0][-1][3][gi] - d[0][-1][3][gi]
+        dh = f[0][-1][3][hi] - d[0][-1][3][hi]
+        assert [b for _, b, _ in f[1]] == [b for _, b, _ in d[1]]
+        print("float32 loss at %.0f gpm, %d Hz (%d readings): gph_m %+.4f m, height_m %+.4f m"
+              % (d[0][-1][3][gi], hz, len(cmds) - 1, dg, dh))
+        worst = max(worst, abs(dg), abs(dh))
+    assert worst <= COL_F32_35KM_M, worst
+
+
+COL_FLOAT_BUDGET = {"gph_m": 0.004, "height_m": 0.02, "level_gph_m": 0.002, "level_height_m": 0.003,
+                    "smooth_gph_m": 0.011, "max_gph_m": 0.011, "burst_gph_m": 0.005, "rate_m_s": 0.004,
+                    "tv_k": 8e-05, "sigma_m": 1.2e-4, "gps_diff_m": 0.004, "tropopause_gph_m": 0.001}
+"""Float build vs Python float64 on the float32-rounded sounding: largest
+differences allowed, in the attribute's unit (about twice the measured values
+printed by the test; ports/c/README.md lists them)."""
 
 
 def test_column_float_within_budget(build):
     """tg_column in the float build against Python's Column in float64 on the
-    same float32-rounded readings: same events, heights within a few mm."""
-    cmds = _round_cmds(sounding_commands())
-    crow, cev = run_c_column(build["column_float"], cmds)
-    prow, pev = run_py_column(cmds)
-    assert [b for c, b in cev] == [b for c, b in pev]
+    same float32-rounded readings: same statuses, events and flags, heights
+    within a few mm."""
+    from floatemu import r32
+    cmds = [(v, tuple(None if a is None else r32(a) for a in args)) if v == "feed" else (v, args)
+            for v, args in sounding_commands()]
+    crow, cev = run_c_column(build["column_float"], cmds)[:2]
+    prow, pev, _ = run_py_column(cmds)
+    assert [b for _, b, _ in cev] == [b for _, b, _ in pev]
     worst = dict((n, 0.0) for n in COL_FLOAT_BUDGET)
-    for i, ((cst, creason, cres, cval), (pst, preason, pres, pval)) in enumerate(zip(crow, prow)):
-        assert cst == pst, (i, cmds[i], cst, pst)
-        for n, c, p in zip(COL_ATTRS, cval, pval):
-            if n in worst and not (c != c and p != p):
-                worst[n] = max(worst[n], abs(c - p))
-            elif n in ("count", "rejected", "flags", "phase"):
-                assert c == p, (i, n, c, p)
+    for i, (c, p) in enumerate(zip(crow, prow)):
+        assert c[0] == p[0], (i, cmds[i], c[0], p[0])
+        for n, a, b in zip(COL_ATTRS, c[3], p[3]):
+            if n in worst and not (a != a and b != b):
+                worst[n] = max(worst[n], abs(a - b))
+            elif n in ("count", "rejected", "retracted", "flags", "phase"):
+                assert a == b, (i, n, a, b)
     for n in sorted(worst):
-        print("column float vs float64: %-15s max %.3g (budget %.3g)" % (n, worst[n], COL_FLOAT_BUDGET[n]))
+        print("column float vs float64: %-17s max %.3g (budget %.3g)" % (n, worst[n], COL_FLOAT_BUDGET[n]))
     over = [(n, worst[n]) for n in worst if not worst[n] <= COL_FLOAT_BUDGET[n]]
     assert not over, over
 
 
 def test_column_float_vs_float32_emulation(build):
-    """tg_column in the float build against Python's Column run by floatemu (f32)
-    on a coarser version of the sounding (every 100 gpm): heights in float32 ulps."""
-    cmds = _round_cmds(sounding_commands(step=100.0))
-    crow, cev = run_c_column(build["column_float"], cmds)
+    """tg_column in the float build against Python's Column run by floatemu
+    (f32) on a coarser sounding (every 100 gpm): the same events and statuses,
+    heights within EMU_ULPS float32 ulps (the count of bit-identical ones is
+    printed)."""
+    from floatemu import r32
+    cmds = [(v, tuple(None if a is None else r32(a) for a in args)) if v == "feed" else (v, args)
+            for v, args in sounding_commands(step=100.0)]
+    crow, cev = run_c_column(build["column_float"], cmds)[:2]
     emu_col = floatemu.load_module("f32", "tinygeo.column")
     emu_consts = floatemu.load_module("f32", "tinygeo.constants")
-    prow, pev = run_py_column(cmds, emu_col, (emu_consts.WGS84, emu_consts.GRS80))
-    assert cev == pev
-    worst = 0
-    same = 0
-    n = 0
-    for (cst, _, _, cval), (pst, _, _, pval) in zip(crow, prow):
-        assert cst == pst
+    prow, pev, _ = run_py_column(cmds, cls=emu_col.Column, ellipsoids=(emu_consts.WGS84, emu_consts.GRS80))
+    assert [b for _, b, _ in cev] == [b for _, b, _ in pev]
+    worst = same = n = 0
+    for c, p in zip(crow, prow):
+        assert c[0] == p[0]
         for name in ("gph_m", "height_m"):
-            c, p = cval[COL_ATTRS.index(name)], pval[COL_ATTRS.index(name)]
-            if c != c or p != p:
+            a, b = c[3][COL_ATTRS.index(name)], p[3][COL_ATTRS.index(name)]
+            if a != a or b != b:
                 continue
-            d = abs(floatemu.ulps32(p, c))
+            d = abs(floatemu.ulps32(b, a))
             n += 1
             same += d == 0
             worst = max(worst, d)
@@ -940,219 +1387,139 @@ def test_column_float_vs_float32_emulation(build):
     assert worst <= EMU_ULPS
 
 
-def random_stream(rng):
-    """An invented stream for one Column configuration: a ragged ascent and
-    descent with missing humidity, time and GPS, repeated pressures and time
-    stamps, jumps, one-reading pressure dropouts (a glitch that must never
-    become the peak), temperature spikes against the temperature-step check,
-    and bad values of every kind (a fuzz of the feed branches)."""
-    anchor = rng.choice([None, None, rng.uniform(90000.0, 101000.0)])
-    cfg = (rng.uniform(-90.0, 90.0), rng.uniform(-100.0, 2000.0), anchor, rng.choice([0, 1]),
-           rng.choice([0, 1]), rng.choice([0, 0, 1]), rng.choice([1, 1, 0]),
-           rng.choice([200.0, 200.0, None, 30.0]), rng.choice([None, None, rng.uniform(-100.0, 80.0)]))
-    # temperature-step settings: the defaults (3 K, 1 K/s, 0.1 K/m), none, tight, loose
-    cfg += rng.choice([(3.0, 1.0, 0.1), (3.0, 1.0, 0.1), (None, 1.0, 0.1), (0.5, 0.2, 0.02),
-                       (10.0, 0.0, 0.0), (rng.uniform(0.0, 6.0), rng.uniform(0.0, 2.0),
-                                           rng.uniform(0.0, 0.2))])
-    cmds = [("init", cfg)]
-    h, ts, dt_k = rng.uniform(-50.0, 500.0), 0.0, rng.uniform(-8.0, 8.0)
-    up = True
-    for i in range(rng.randint(20, 200)):
-        k = rng.random()
-        if k < 0.04:
-            h += rng.uniform(-3000.0, 8000.0)   # a sparse jump (several levels at once)
-        elif k < 0.08:
-            pass                                 # the same pressure again
+def _column_vector_files():
+    d = os.path.join(VEC_DIR, "column")
+    return sorted(os.path.join(d, f) for f in os.listdir(d) if f.endswith(".txt"))
+
+
+FLOAT_VECTOR_FAILS = ["gps_nofix.txt:18 expect value gps_m"]
+"""The checks of tests/vectors/column the float build fails without its slack
+(column_vec -f): a value the file expects to 1e-9 that float32 cannot hold
+(35.00019270911417 m is 35.000194549560547 as a float32; the input itself)."""
+
+
+def test_column_stream_vectors(build):
+    """ports/c/column_vec.c runs tests/vectors/column/*.txt with the semantics
+    of tests/vectors/runcol.py: the double build passes every check, as many
+    as the Python runner counts; the float build passes every check under its
+    policy (-f: an expect value within its tolerance plus 4 float32 spacings of
+    the expected value), and without it fails exactly FLOAT_VECTOR_FAILS."""
+    sys.path.insert(0, VEC_DIR)
+    try:
+        import runcol
+    finally:
+        sys.path.remove(VEC_DIR)
+    files = _column_vector_files()
+    n_py = sum(runcol.run_file(f)[0] for f in files)
+    r = subprocess.run([build["vec_double"]] + files, capture_output=True, text=True, timeout=120)
+    assert r.returncode == 0 and r.stdout.strip().splitlines()[-1] == \
+        "streams %d checks %d failed 0" % (len(files), n_py), r.stdout + r.stderr
+    r = subprocess.run([build["vec_float"], "-f"] + files, capture_output=True, text=True, timeout=120)
+    assert r.returncode == 0, r.stdout + r.stderr
+    r = subprocess.run([build["vec_float"]] + files, capture_output=True, text=True, timeout=120)
+    fails = [ln for ln in r.stdout.splitlines() if not ln.startswith("streams ")]
+    got = sorted(os.path.basename(ln.split(": got")[0]).rsplit(" ", 2)[0] for ln in fails)
+    print("column vectors: %d files, %d checks; float build without slack fails: %s" % (len(files), n_py, fails))
+    assert got == FLOAT_VECTOR_FAILS, fails
+
+
+def test_record_rows_identical(build):
+    """ports/c/record.c writes the table exactly as tinygeo/record.py: the
+    magic, header and site line, and the row of every accepted reading of the
+    random streams (column_row with the reading's rh_pct and gps_m), byte for
+    byte (C's printf and Python's % round the same on all of them)."""
+    rng = random.Random(5)
+    n = 0
+    for s in range(40):
+        cmds = random_stream(rng) if s else sounding_commands(step=100.0)
+        crec = run_c_column(build["column_double"], cmds, ["-r"])[3]
+        prec = []
+        col = None
+        k = 0
+        for verb, args in cmds:
+            if verb == "init":
+                kw = dict(args[1])
+                if "ellipsoid" in kw:
+                    kw["ellipsoid"] = (WGS84, GRS80)[kw["ellipsoid"]]
+                col = Column(args[0], **kw)
+                prec += [record.MAGIC, record.HEADER, record.site_line(col)]
+            elif verb == "feed":
+                p, t, rh, ts, gps = args
+                try:
+                    bits = col.feed(p, t, rh, stamp(ts), gps)
+                    prec.append(record.column_row(k, col, bits, rh, gps))
+                except ReadingError:
+                    pass
+                k += 1
+            elif verb == "reanchor":
+                try:
+                    col.reanchor_gps(*args)
+                except TinygeoError:
+                    pass
+        assert crec == prec, next((a, b) for a, b in zip(crec, prec) if a != b)
+        n += len(prec)
+    print("record rows: %d lines byte-identical" % n)
+    assert n > 3000
+
+
+def test_column_bad_settings(build):
+    """tg_column_init refuses the settings Python's constructor refuses
+    (RangeError -> TG_RANGE) and accepts the edge values it accepts."""
+    good = (48.2, {"start_height_m": 512.0})
+    variants = [("start_height_m", 100001.0), ("start_height_m", 100000.0), ("anchor_p_pa", 0.05),
+                ("anchor_p_pa", 30000.0), ("anchor_p_pa", 95000.0), ("sigma_p_pa", -1.0),
+                ("max_rate_m_s", 0.5), ("max_rate_m_s", None), ("start_guard_m", 99.0),
+                ("start_guard_m", None), ("time_unit_s", 1e-7), ("time_unit_s", 1e6),
+                ("smooth_s", 0.5), ("burst_readings", 0), ("burst_readings", 100000),
+                ("takeover_readings", 1), ("takeover_readings", 101), ("takeover_readings", 100),
+                ("ice", 2), ("ice", 1), ("track_sigma", -1), ("rh_tol_pct", 3.5),
+                ("geoid_undulation_m", 151.0), ("geoid_undulation_m", None), ("max_t_step_k", None),
+                ("max_t_step_k", 101.0), ("max_t_rate_k_s", INF), ("max_t_gradient_k_gpm", 10.0),
+                ("tropopause_layer_gpm", 0.5), ("float_s", 0.0), ("landing_s", 0.0), ("lat_deg", 91.0)]
+    seen = set()
+    for name, value in variants:
+        if name == "lat_deg":
+            cmds = [("init", (value, dict(good[1])))]
         else:
-            h += rng.uniform(0.0, 60.0) if up else -rng.uniform(0.0, 120.0)
-        if rng.random() < 0.03:
-            up = not up
-        h = min(max(h, -400.0), 40000.0)
-        dt_k = min(max(dt_k + rng.uniform(-1.5, 1.5), -8.0), 8.0)   # a wandering offset, K
-        t = standard.standard_temperature(h) + dt_k
-        p = standard.standard_pressure(h)
-        rh = rng.choice([None, rng.uniform(-3.0, 103.0), rng.uniform(0.0, 0.9)])
-        if rng.random() > 0.1:
-            ts += rng.choice([0.0, 1.0, 2.0, 2.0, 5.0])
-        time_s = rng.choice([ts, ts, ts, None])
-        gps = rng.choice([None, None, None, h * 1.002 + rng.uniform(-20.0, 20.0)])
-        r = rng.random()
-        if r < 0.03:
-            p = rng.choice([NAN, INF, -5.0, 0.05, 130000.0])
-        elif r < 0.06:
-            t = rng.choice([NAN, 25.0, 400.0])
-        elif r < 0.08:
-            rh = rng.choice([NAN, 110.0, -20.0])
-        elif r < 0.10:
-            time_s = ts - rng.uniform(0.5, 10.0)
-        elif r < 0.12:
-            gps = rng.choice([NAN, 150000.0, -5000.0])
-        elif r < 0.17:
-            # a temperature spike of one reading (sensor glitch), kept in 150..350 K
-            t = min(max(t + rng.choice([-1.0, 1.0]) * rng.uniform(2.0, 30.0), 150.0), 350.0)
-        elif r < 0.21:
-            # a pressure dropout of one reading: reads hundreds of metres too high,
-            # often without a time stamp (then no rate check stops it)
-            p = standard.standard_pressure(min(h + rng.uniform(100.0, 3000.0), 40000.0))
-            time_s = rng.choice([None, None, ts])
-        cmds.append(("feed", (p, t, rh, time_s, gps)))
-        if rng.random() < 0.02:
-            cmds.append(("reanchor", (rng.choice([10.0, 0.0, -1.0]),)))
-    return cmds
+            cmds = [("init", (good[0], dict(good[1], **{name: value})))]
+        crow = run_c_column(build["column_double"], cmds)[0]
+        prow = run_py_column(cmds)[0]
+        assert crow[0][0] == prow[0][0], (name, value, crow[0][0], prow[0][0])
+        seen.add(prow[0][0])
+    assert seen == {"ok", "range"}
 
 
-def test_column_random_streams_double_match_python(build):
-    """Random streams over every configuration switch (anchor, ellipsoid, ice,
-    dry fallback, sigma tracking, rate check, geoid, temperature-step check):
-    tg_column (double) and Python's Column agree bit for bit on every status,
-    reason, event and attribute, including bad readings, temperature spikes,
-    pressure dropouts under the peak rule and the re-anchor errors."""
-    rng = random.Random(20261201)
-    streams = [random_stream(rng) for _ in range(48)]
-    # a held mixing ratio above 1 kg/kg (saturated air at 100 Pa, then a reading
-    # without humidity): a ReadingError('humidity') in Python, TG_READING in C
-    streams.append([("init", (0.0, 30000.0, None, 0, 0, 0, 1, 200.0, None)),
-                    ("feed", (100.0, 250.0, 100.0, None, None)), ("feed", (99.0, 250.0, None, None, None)),
-                    ("feed", (99.0, 250.0, 50.0, None, None)), ("feed", (98.0, 250.0, None, None, None))])
-    # untimed ascent with one pressure dropout near the top, then the fall: the
-    # glitch is not the peak, the burst is measured from the last real reading
-    glitch = [("init", (45.0, 100.0, None, 0, 0, 0, 1, 200.0, None))]
-    for i in range(60):
-        hh = 100.0 + 40.0 * i + (900.0 if i == 50 else 0.0)
-        glitch.append(("feed", (standard.standard_pressure(hh), standard.standard_temperature(hh),
-                                50.0, None, None)))
-    for i in range(8):
-        hh = 2400.0 - 100.0 * i
-        glitch.append(("feed", (standard.standard_pressure(hh), standard.standard_temperature(hh),
-                                50.0, None, None)))
-    streams.append(glitch)
-    n_cmd = n_rej = 0
-    statuses, reasons, ev_bits = set(), {}, 0
-    n_spike_peak = n_pair_peak = 0
-    gi, mi, ci = COL_ATTRS.index("gph_m"), COL_ATTRS.index("max_gph_m"), COL_ATTRS.index("count")
-    for cmds in streams:
-        crow, cev = run_c_column(build["column_double"], cmds)
-        prow, pev = run_py_column(cmds)
-        assert cev == pev, cmds[0]
-        prev = None
-        for i, (c, p) in enumerate(zip(crow, prow)):
-            assert c[0] == p[0], (cmds[0], i, cmds[i], c[0], p[0])
-            statuses.add(p[0])
-            if p[0] == "reading":
-                n_rej += 1
-                reasons[p[1]] = reasons.get(p[1], 0) + 1
-                assert c[1] == p[1], (cmds[0], i, cmds[i], c[1], p[1])
-            assert _same(c[2], p[2]), (cmds[0], i, cmds[i], c[2], p[2])
-            diff = [(n, a, b) for n, a, b in zip(COL_ATTRS, c[3], p[3]) if not _same(a, b)]
-            assert not diff, (cmds[0], i, cmds[i], diff)
-            v = p[3]
-            if cmds[i][0] == "feed" and p[0] == "ok":
-                ev_bits |= int(p[2])
-                if prev is not None and prev[ci] + 1 == v[ci] and v[mi] == v[mi]:
-                    # the peak rule at work: a reading higher than both neighbours
-                    # (a spike) did not become the peak ...
-                    if prev[gi] > v[gi] and prev[gi] > v[mi]:
-                        n_spike_peak += 1
-                    # ... and a new peak taken from the lower end of a rising pair
-                    if v[mi] != prev[mi] and v[mi] == prev[gi] and v[gi] > prev[gi]:
-                        n_pair_peak += 1
-            if p[3] is not None:
-                prev = v
-        n_cmd += len(cmds)
-    print("column random streams: %d commands, %d rejected readings (%s), statuses %s, "
-          "%d spikes not taken as the peak, %d peaks from a pair's lower end: bit-identical"
-          % (n_cmd, n_rej, " ".join("%s %d" % kv for kv in sorted(reasons.items())),
-             sorted(statuses), n_spike_peak, n_pair_peak))
-    assert {"ok", "reading", "range", "state"} <= statuses
-    assert set(reasons) == {"number", "pressure", "temperature", "humidity", "time", "rate", "gps"}, reasons
-    assert ev_bits == 31, ev_bits   # every event: level, tropopause, burst, landed, launch
-    assert n_spike_peak >= 5 and n_pair_peak >= 20, (n_spike_peak, n_pair_peak)
-
-
-def _compare_rows(cmds, crow, prow):
-    assert len(crow) == len(prow) == len(cmds)
-    for i, (c, p) in enumerate(zip(crow, prow)):
-        assert c[0] == p[0], (i, cmds[i][0], c[0], p[0])
-        if p[0] == "reading":
-            assert c[1] == p[1], (i, cmds[i], c[1], p[1])
-        assert _same(c[2], p[2]), (i, cmds[i][0], c[2], p[2])
-        diff = [(n, a, b) for n, a, b in zip(COL_ATTRS, c[3], p[3]) if not _same(a, b)]
-        assert not diff, (i, cmds[i][0], diff)
-
-
-def test_column_checkpoints_are_interchangeable_with_python(build):
-    """tg_column_to_bytes writes the same bytes as Column.to_bytes (double build)
-    at every save point of the sounding; a blob written by Python restores in C
-    and the column continues bit-identically; corrupted, truncated, foreign and
-    impossible blobs give TG_CHECKPOINT where Python raises CheckpointError,
-    and leave the column as it was."""
-    base = sounding_commands(step=50.0)
+def test_column_sanitizers(build):
+    """The ASan/UBSan builds of column_run and column_vec on random streams
+    (with blobs after every reading), the sounding with a save and good and
+    bad restores, and the stream vectors: no sanitizer report, and output
+    identical to the double build's."""
+    exe = build["column_asan"]
+    if exe is None:
+        if ("sanitize" in build["asan_err"] or "asan" in build["asan_err"]) and not IN_CI:
+            pytest.skip("this gcc has no sanitizer runtime: " + build["asan_err"][-200:])
+        pytest.fail("sanitizer build failed: " + build["asan_err"])
+    rng = random.Random(7)
+    cmds = []
+    for _ in range(12):
+        cmds += random_stream(rng)
+    base = sounding_commands(step=100.0)
     k = len(base) // 2
-    prow0 = run_py_column(base[:k] + [("save", ())])
-    py_blob = prow0[2][0]
-    raw = bytes.fromhex(py_blob)
-    bad = []
-    flip = bytearray(raw)
-    flip[100] ^= 4
-    bad.append(bytes(flip))                       # a bit flip: CRC mismatch
-    bad.append(raw[:-1])                          # truncated
-    bad.append(b"XXXX" + raw[4:])                 # not a checkpoint
-    ver = bytearray(raw)
-    ver[4] = 2
-    bad.append(bytes(ver))                        # another version (CRC checked after)
-    from tinygeo import column as _column
-    bad.append(_craft_blob(raw, phase=7))         # impossible phase with a valid CRC
-    bad.append(_craft_blob(raw, ell=5))           # unknown ellipsoid code with a valid CRC
-    cmds = (base[:k] + [("save", ())] + [("load", (b.hex(),)) for b in bad] + [("load", (py_blob,))]
-            + base[k:k + 300] + [("save", ())] + base[k + 300:] + [("save", ())])
-    crow, cev, cblobs = run_c_column(build["column_double"], cmds)
-    prow, pev, pblobs = run_py_column(cmds)
-    assert cev == pev
-    assert len(cblobs) == len(pblobs) == 3
-    for cb_, pb in zip(cblobs, pblobs):
-        assert cb_ == pb
-    assert cblobs[0] == py_blob and len(raw) == _column.CHECKPOINT_BYTES == 695
-    _compare_rows(cmds, crow, prow)
-    st = [r[0] for r, (verb, _) in zip(crow, cmds) if verb == "load"]
-    assert st == ["checkpoint"] * len(bad) + ["ok"], st
-
-
-def test_float_build_checkpoint_reads_in_python_and_resumes(build):
-    """A blob from the float build is a valid Python checkpoint holding the
-    float values exactly; the float build restores its own blob and continues
-    exactly as without the save/restore."""
-    base = _round_cmds(sounding_commands(step=50.0))
-    k = len(base) // 2
-    crow, cev, cblobs = run_c_column(build["column_float"], base[:k] + [("save", ())])
-    col = Column.from_bytes(bytes.fromhex(cblobs[0]))
-    last = crow[-1][3]
-    for name in ("gph_m", "height_m", "count", "phase", "level_gph_m", "tv_k", "rate_m_s"):   # stored, not derived
-        i = COL_ATTRS.index(name)
-        assert _same(float(getattr(col, name)), last[i]), name
-    plain = run_c_column(build["column_float"], base)
-    resumed = run_c_column(build["column_float"], base[:k] + [("save", ()), ("load", (cblobs[0],))]
-                           + base[k:])
-    rows_resumed = resumed[0][:k] + resumed[0][k + 2:]
-    assert resumed[0][k + 1][0] == "ok"
-    assert len(rows_resumed) == len(plain[0])
-    for a, b in zip(rows_resumed, plain[0]):
-        assert a[0] == b[0] and all(_same(x, y) for x, y in zip(a[3], b[3]))
-
-
-def _craft_blob(raw, **ints):
-    """A checkpoint blob with some int32 fields replaced (a valid CRC-32 again):
-    the state a firmware could hold after running long enough, or a blob made
-    by hand."""
-    import struct as _struct
-    from tinygeo import column as _column
-    from tinygeo._column_rare import _crc, _HEAD_LEN
-    names = [n.lstrip("_") for n in _column._CFG_I + _column._ST_I]   # as the C members
-    body = bytearray(raw[:-4])
-    base = _HEAD_LEN + 8 * (len(_column._CFG_F) + len(_column._ST_F))
-    for name, v in ints.items():
-        off = base + 4 * names.index(name)
-        body[off:off + 4] = _struct.pack("<i", v)
-    return bytes(body) + _struct.pack("<I", _crc(bytes(body)))
+    blob = run_py_column(base[:k] + [("save", ())])[2][0]
+    cmds += base[:k] + [("save", ()), ("load", (blob[:-2],)), ("load", ("00" + blob[2:],)),
+                        ("load", (blob,))] + base[k:]
+    text = _cmd_text(cmds)
+    env = dict(os.environ, ASAN_OPTIONS="detect_leaks=1", UBSAN_OPTIONS="print_stacktrace=1")
+    for opts in (["-s"], ["-r"]):
+        r = subprocess.run([exe] + opts, input=text, capture_output=True, text=True, env=env, timeout=300)
+        assert r.returncode == 0, r.stderr
+        assert "runtime error" not in r.stderr and "AddressSanitizer" not in r.stderr, r.stderr
+        ref = subprocess.run([build["column_double"]] + opts, input=text, capture_output=True, text=True,
+                             timeout=120)
+        assert r.stdout == ref.stdout
+    r = subprocess.run([build["vec_asan"]] + _column_vector_files(), capture_output=True, text=True, env=env,
+                       timeout=120)
+    assert r.returncode == 0 and "runtime error" not in r.stderr, r.stdout + r.stderr
 
 
 INT32_MAX = 2 ** 31 - 1
@@ -1164,33 +1531,31 @@ double arithmetic (the x87 unit would round to 80 bits in between)."""
 
 
 def _m32_streams():
-    """Commands for the -m32 test: the sounding with its first 40 readings
-    without GPS and a checkpoint saved and restored there (it holds gps_n = -1,
-    a negative int32), then a checkpoint with count and rejected one below
-    INT32_MAX, burst_n = INT32_MAX and gps_n = INT32_MIN (a valid CRC): a
-    reading below the burst line (the burst counter must not overflow), more
-    readings and bad readings (both counters reach INT32_MAX and stay there;
-    Python's ints grow on)."""
+    """Commands for the -m32 test: the sounding saved and restored early,
+    then a blob with count, rejected and retracted one below COUNT_MAX, the
+    burst and layer counters at INT32_MAX and a negative int32 first-stamp
+    half (a valid CRC): more readings, bad readings (the counters reach
+    COUNT_MAX and stay there, in C and in Python), and a fall (the burst
+    counter must not overflow)."""
     base = sounding_commands(step=100.0)
-    head = [base[0]] + [(v, a[:4] + (None,)) for v, a in base[1:41]] + [("save", ())]
+    head = base[:41] + [("save", ())]
     blob_a = run_py_column(head)[2][0]
     cmds = head + [("load", (blob_a,))] + base[41:200] + [("save", ())]
     blob_b = bytes.fromhex(run_py_column(cmds)[2][-1])
-    crafted = _craft_blob(blob_b, count=INT32_MAX - 1, rejected=INT32_MAX - 1, burst_n=INT32_MAX,
-                          gps_n=-2 ** 31)
-    low = base[150][1][:3] + (None, None)   # 5 km down, untimed (no rate check)
-    cmds += [("load", (crafted.hex(),)), ("feed", low)] + base[200:206]
+    crafted = _craft(blob_b, **{"st.count": COUNT_MAX - 1, "st.rejected": COUNT_MAX - 1,
+                                "st.retracted": COUNT_MAX - 1, "st._tb_n": INT32_MAX,
+                                "st._t0_int": 1, "st._t0_hi": -1, "st._t0_lo": -5})
+    cmds += [("load", (crafted.hex(),))] + base[200:206]
     cmds += [("feed", (NAN, 250.0, None, None, None)), ("feed", (50000.0, 25.0, None, None, None))]
     return cmds
 
 
 def test_column_32bit_long_ubsan(build):
     """column.c built with -m32 (32-bit long) under UBSan: checkpoints with a
-    negative int32 (gps_n = -1 before the first GPS height, INT32_MIN) and
-    counters at INT32_MAX restore and run without any signed overflow or
-    out-of-range conversion, bit-identical to CPython in double (count and
-    rejected saturate at INT32_MAX where Python's ints grow on), and the float
-    build prints what the 64-bit float build prints."""
+    negative int32 and counters at COUNT_MAX and INT32_MAX restore and run
+    without any signed overflow or out-of-range conversion, bit-identical to
+    CPython in double, and the float build prints what the 64-bit float build
+    prints."""
     gcc = shutil.which("gcc")
     with tempfile.TemporaryDirectory(prefix="tinygeo_m32_") as tmp:
         probe = os.path.join(tmp, "probe.c")
@@ -1199,7 +1564,7 @@ def test_column_32bit_long_ubsan(build):
         r = subprocess.run([gcc] + M32_FLAGS + ["-o", os.path.join(tmp, "probe"), probe],
                            capture_output=True, text=True)
         if r.returncode != 0:
-            if os.environ.get("CI", "").lower() == "true":
+            if IN_CI:
                 pytest.fail("gcc -m32 with UBSan does not build (CI installs gcc-multilib): " + r.stderr)
             pytest.skip("gcc -m32 with UBSan not available (apt-get install gcc-multilib): "
                         + r.stderr[-200:])
@@ -1213,78 +1578,22 @@ def test_column_32bit_long_ubsan(build):
             exes[kind] = exe
         cmds = _m32_streams()
         env = dict(os.environ, UBSAN_OPTIONS="print_stacktrace=1")
-        r = subprocess.run([exes["double"]], input=_cmd_text(cmds), capture_output=True, text=True,
-                           env=env, timeout=60)
+        r = subprocess.run([exes["double"], "-r"], input=_cmd_text(cmds), capture_output=True, text=True,
+                           env=env, timeout=120)
         assert r.returncode == 0 and "runtime error" not in r.stderr, r.stderr
-        crow, cev, _ = run_c_column(exes["double"], cmds)
-        prow, pev, _ = run_py_column(cmds)
-        # C's counters saturate at INT32_MAX (tinygeo.h); Python's go on
-        prow = [(p[0], p[1], p[2], None if p[3] is None else
-                 tuple(min(x, INT32_MAX) if n in ("count", "rejected") else x
-                       for n, x in zip(COL_ATTRS, p[3]))) for p in prow]
-        pev = [(min(c, INT32_MAX), b) for c, b in pev]
-        assert cev == pev
-        _compare_rows(cmds, crow, prow)
-        loads = [r_[0] for r_, (verb, _) in zip(crow, cmds) if verb == "load"]
+        c = run_c_column(exes["double"], cmds, env=env)
+        p = run_py_column(cmds)
+        _compare(cmds, c, p)
+        loads = [row[0] for row, (verb, _) in zip(p[0], cmds) if verb == "load"]
         assert loads == ["ok", "ok"], loads
-        last = crow[-1][3]
-        assert last[0] == last[1] == INT32_MAX, last[:2]
-        assert any(b & tinygeo.column.EV_BURST for c, b in cev if c == INT32_MAX), cev[-3:]
-        fcmds = _round_cmds(cmds)
+        last = p[0][-1][3]
+        assert last[0] == last[1] == COUNT_MAX, last[:3]
+        fcmds = [(v, tuple(None if a is None else floatemu.r32(a) for a in args)) if v == "feed" else (v, args)
+                 for v, args in cmds]
         r32 = subprocess.run([exes["float"]], input=_cmd_text(fcmds), capture_output=True, text=True,
-                             env=env, timeout=60)
+                             env=env, timeout=120)
         assert r32.returncode == 0 and "runtime error" not in r32.stderr, r32.stderr
         r64 = subprocess.run([build["column_float"]], input=_cmd_text(fcmds), capture_output=True,
-                             text=True, timeout=60)
+                             text=True, timeout=120)
         # the sign of a NaN is not a result (printf shows it; i386 and x86_64 differ)
         assert r32.stdout.replace("-nan", "nan") == r64.stdout.replace("-nan", "nan")
-
-
-def test_column_bad_settings(build):
-    """tg_column_init refuses the settings Python's constructor refuses (RangeError
-    -> TG_RANGE) and accepts the edge values it accepts."""
-    good = (48.2, 512.0, None, 0, 0, 0, 1, 200.0, None, 3.0, 1.0, 0.1)
-    variants = [(0, 91.0), (0, NAN), (1, 100001.0), (1, -1001.0), (2, 0.05), (2, 130000.0),
-                (7, 0.5), (7, 10001.0), (8, 151.0), (8, INF),
-                (9, 100.5), (9, -0.1), (10, 101.0), (10, -1e-9), (11, 10.5), (11, INF),
-                (0, 90.0), (1, 100000.0), (2, 0.1), (7, 1.0), (8, -150.0),
-                (9, 100.0), (9, 0.0), (9, None), (10, 100.0), (10, 0.0), (11, 10.0), (11, 0.0)]
-    seen = set()
-    for idx, value in variants:
-        cfg = list(good)
-        cfg[idx] = value
-        cmds = [("init", tuple(cfg))]
-        crow, _ = run_c_column(build["column_double"], cmds)
-        prow, _ = run_py_column(cmds)
-        assert crow[0][0] == prow[0][0], (idx, value, crow[0][0], prow[0][0])
-        seen.add(prow[0][0])
-    assert seen == {"ok", "range"}
-
-
-def test_column_sanitizers(build):
-    """The ASan/UBSan build of column_run on the random streams (one process, one
-    init per stream), the sounding with its re-anchors and checkpoints (good,
-    corrupted, truncated): no sanitizer report, and output identical to the
-    double build's, line for line."""
-    exe = build["column_asan"]
-    if exe is None:
-        if ("sanitize" in build["asan_err"] or "asan" in build["asan_err"]) and not IN_CI:
-            pytest.skip("this gcc has no sanitizer runtime: " + build["asan_err"][-200:])
-        pytest.fail("sanitizer build failed: " + build["asan_err"])
-    rng = random.Random(7)
-    cmds = []
-    for _ in range(12):
-        cmds += random_stream(rng)
-    base = sounding_commands(step=100.0)
-    k = len(base) // 2
-    cmds += base[:k] + [("save", ())]
-    blob = run_py_column(base[:k] + [("save", ())])[2][0]
-    cmds += [("load", (blob[:-2],)), ("load", ("00" + blob[2:],)), ("load", (blob,))] + base[k:]
-    text = _cmd_text(cmds)
-    env = dict(os.environ, ASAN_OPTIONS="detect_leaks=1", UBSAN_OPTIONS="print_stacktrace=1")
-    r = subprocess.run([exe], input=text, capture_output=True, text=True, env=env, timeout=60)
-    assert r.returncode == 0, r.stderr
-    assert "runtime error" not in r.stderr and "AddressSanitizer" not in r.stderr, r.stderr
-    ref = subprocess.run([build["column_double"]], input=text, capture_output=True, text=True,
-                         timeout=60)
-    assert r.stdout == ref.stdout and r.stdout.count("\nr ") + 1 >= len(cmds)

@@ -317,7 +317,8 @@ Sequential Smoothing and Prediction"; the steady-state noise ratios
 sigma_x^2/sigma^2 = (1 - th)(1 + 4th + 5th^2)/(1 + th)^3 and
 sigma_v^2/sigma^2 = 2(1 - th)^3/((1 + th)^3 dt^2) are those of that filter
 (from memory)) run on the confirmed readings' gph: smooth_gph_m and
-smooth_rate_gpm_s, O(1) memory. Without time stamps each reading counts as
+smooth_rate_gpm_s, O(1) memory; a step within 5 % of the one its gains were
+made for keeps them (clock jitter). Without time stamps each reading counts as
 one second. Its noise, sigma_x and sigma_v, scales every event threshold.
 EV_LAUNCH 16: in PH_WAIT, the track rises launch_gpm + 4 sigma_x above its
   lowest point -> PH_ASCENT (launch_time_s).
@@ -509,7 +510,8 @@ _ST_F = ("smooth_gph_m", "_f_v", "max_gph_m", "launch_time_s",
          "burst_gph_m", "burst_time_s", "burst_p_pa", "float_gph_m", "float_time_s",
          "landing_time_s", "level_p_pa", "level_gph_m", "level_height_m", "level_t_k",
          "tropopause_p_pa", "tropopause_gph_m", "tropopause_t_k", "tropopause_time_s",
-         "_e_p", "_e_g", "_e_t", "_f_dt", "_f_a", "_f_b", "_f_cx", "_f_cv", "_f_bv",
+         "_e_p", "_e_g", "_e_t", "_f_dt", "_f_lo", "_f_hi", "_f_a", "_f_b", "_f_cx", "_f_cv",
+         "_f_bv",
          "_max_clk", "_max_p", "_min_g", "_launch_line", "_fl_g", "_fl_lo", "_fl_hi", "_fl_clk",
          "_fl_end", "_land_lo", "_land_hi", "_land_end", "_tb_top", "_tb_g0", "_tb_g1", "_tb_st",
          "_tb_c0", "_tb_c1", "_tb_th", "_tp_g", "_tp_top", "_tp_th", "_tp_p", "_tp_t", "_tp_clk",
@@ -520,7 +522,8 @@ _ST_I = ("count", "rejected", "retracted", "phase", "_has_b", "_e_n", "_lvl", "_
 # what a restored value may be (tinygeo.checkpoint.check_values: name lo hi,
 # "n" where nan means "not known yet"); kept as text: read only on a restore
 _RESTORE_COL = ("count 0 1073741823;rejected 0 1073741823;retracted 0 1073741823;phase 0 4;"
-                "_has_b 0 1;_e_n 0 *;_lvl 0 16;_burst_n 0 *;_tb_n 0 *;_tp_state 0 3;"
+                "_has_b 0 1;_e_n 0 1073741823;_lvl 0 16;_burst_n 0 100000;_tb_n 0 1073741823;"
+                "_tp_state 0 3;"
                 "smooth_gph_m -250000 250000 n;max_gph_m -250000 250000 n;"
                 "burst_p_pa 0.1 120000 n;level_p_pa 1000 100000 n;level_t_k 150 350 n;"
                 "tropopause_p_pa 0 120000 n;tropopause_t_k 150 350 n;_var_anchor 0 *;"
@@ -547,7 +550,7 @@ class Column:
     float_gph_m: float; float_time_s: float; landing_time_s: float; level_p_pa: float
     level_gph_m: float; level_height_m: float; level_t_k: float; tropopause_p_pa: float
     tropopause_gph_m: float; tropopause_t_k: float; tropopause_time_s: float
-    _e_p: float; _e_g: float; _e_t: float; _f_dt: float
+    _e_p: float; _e_g: float; _e_t: float; _f_dt: float; _f_lo: float; _f_hi: float
     _f_a: float; _f_b: float; _f_cx: float; _f_cv: float; _f_bv: float; _max_clk: float
     _max_p: float
     _min_g: float; _launch_line: float; _fl_g: float; _fl_lo: float; _fl_hi: float
@@ -1208,7 +1211,11 @@ class Column:
             allow = self._t_lim + self.max_t_gradient_k_gpm * abs(r.gph_m - a.gph_m)
             if dt == dt:
                 allow += self.max_t_rate_k_s * dt
-            f = abs(r.t_k - a.t_k) / allow
+            dtk = abs(r.t_k - a.t_k)
+            if allow > 0:
+                f = dtk / allow
+            elif dtk > 0:
+                f = INF          # no step allowed (every allowance set to 0) and one taken
         if dt == dt and dt > 0 and a.h_tm == a.h_tm and self._max_rate == self._max_rate:
             q = abs(r.height_m - a.h_tm) / (self._max_rate * dt + self._kn * r.tv_k / r.p_pa)
             if q > f:
@@ -1310,10 +1317,13 @@ class Column:
     def _track(self, z, dt):
         # one step of the critically damped g-h filter (see "Events"); the rate
         # is kept per step (_f_v, gpm per _f_dt seconds: one float fewer per
-        # reading), smooth_rate_gpm_s = _f_v / _f_dt
-        if dt != self._f_dt:
-            # the gains and noise ratios for this step length (kept while dt
-            # repeats); the rate rescaled to it
+        # reading), smooth_rate_gpm_s = _f_v / _f_dt. A step within 5 % of the
+        # one the gains were made for keeps them (a clock's jitter costs no
+        # exp and square roots per reading; the track's step is then off by
+        # at most 5 % of one step's motion, which the next residual absorbs)
+        if not self._f_lo <= dt <= self._f_hi:
+            # the gains and noise ratios for this step length; the rate
+            # rescaled to it
             if self._f_dt == self._f_dt:
                 self._f_v = self._f_v * dt / self._f_dt
             th = math.exp(-dt / self.smooth_s)
@@ -1326,6 +1336,8 @@ class Column:
             self._f_cv = NOISE_K * math.sqrt(2 * u * u * u / v3)      # per step
             self._f_bv = -self.burst_rate_gpm_s * dt                   # per step
             self._f_dt = dt
+            self._f_lo = dt * 0.95
+            self._f_hi = dt * 1.05
         pred = self.smooth_gph_m + self._f_v
         res = z - pred
         self.smooth_gph_m = pred + self._f_a * res
@@ -1490,7 +1502,8 @@ class Column:
         if self._tb_n == 0:
             self._tb_g0 = g
             self._tb_c0 = clk
-        self._tb_n += 1
+        if self._tb_n < COUNT_MAX:
+            self._tb_n += 1
         self._tb_st += t
         self._tb_g1 = g
         self._tb_c1 = clk

@@ -1,37 +1,40 @@
 /* column.c -- twin of tinygeo/column.py: the running hypsometric
  * integration of an atmospheric column, reading by reading (Kahan-summed
  * layer thicknesses, geometric height from a quadratic node pair, vertical
- * rate, events, first-order uncertainty, GPS cross-check). The contract, the
- * formulas and their sources (Wallace & Hobbs 2006 eq. 3.29/3.30; Kahan 1965;
- * WMO-No. 49 tropopause; JCGM 100:2008 eqs. 10/13) are documented in
- * column.py.
+ * rate, checks with one reading of look-back and recovery, events on the
+ * confirmed readings, first-order uncertainty, GPS cross-check). The
+ * contract, the formulas and their sources (Wallace & Hobbs 2006 eq.
+ * 3.16/3.29/3.30; Kahan 1965; Morrison 1969; WMO-No. 49 tropopause; JCGM
+ * 100:2008 eqs. 10/13) are documented in column.py.
  *
- * tg_column_feed mirrors Column.feed: the same steps in the same order
- * (1. check the values, writing nothing; 2. compute the new state in locals;
- * 3. commit; 4. events), the same local names (p, t, tv, slope, w, p0, tv0,
- * s, c, dz, a, tm2, g, h, rate, ...) and the same branch order, so the two
- * read side by side and give the same bits in double (tests/test_c_port.py).
- * Column's helpers have twins named after them: Column._nodes -> nodes(),
- * Column._levels -> levels(), Column._tropopause -> tropopause(),
- * Column._bad -> bad(); reanchor_gps, to_bytes and from_bytes follow
- * _column_rare.py. Deliberate differences:
- * - a rejected reading returns TG_READING and leaves its reason word in
- *   col->reason (Python raises ReadingError with a message; C keeps none);
- *   None is a NULL pointer for a reading and NaN for a setting;
- * - parts that Column.feed writes out in place are small functions here,
- *   called at the same point: held_mixing_ratio (the held mixing ratio),
- *   t_jump (the temperature-step allowance), set_nodes (the node commit),
- *   sigma_step (the uncertainty step);
- * - nodes() fills a nodes_t where Column._nodes returns a tuple;
- * - levels() calls layers.lnr where Column._levels calls layers.ln_ratio
- *   (the pressures passed feed's checks; same value);
- * - count and rejected stop at INT32_MAX (Python's ints grow on), and the
- *   burst counter is not incremented past burst_readings (the same events):
- *   no signed overflow, whatever a checkpoint holds;
- * - on_event receives a context pointer; the ellipsoid code _ell is a
- *   member written at init (Python: a property);
- * - the settings' defaults and ranges come from tg_tables.h, generated from
- *   Column.__init__.
+ * tg_column_feed mirrors Column.feed step by step, each step a function
+ * named after the Python method, with the same local names, the same branch
+ * order and the same arithmetic order, so that the double build gives the
+ * same bits as CPython (tests/test_c_port.py):
+ *   1. check (Column._check): the values on their own, into a scratch record;
+ *   2. compute (Column._compute): the state after the reading on top of a
+ *      record (humidity, layer, node height, time, the checks against it,
+ *      GPS, uncertainty sums);
+ *   3. advance / accept (Column._advance, Column._accept): the records
+ *      rotate (indices into col->rec, where Python moves references;
+ *      nothing is copied where Python copies nothing);
+ *   4. recover (Column._recover): look-back retraction, runs, takeover and
+ *      restart; refuse (Column._refuse), bad (Column._bad);
+ *   5. confirm (Column._confirm) on a reading made final: track, phase,
+ *      sinking, float_ref, land_ref, levels, layer_point, tropopause,
+ *      clock_s, rel, sx (Column._track, Column._phase, ...).
+ * Deliberate differences (each also where it happens):
+ * - time stamps are tg_time (double) in every build, NaN for None; Python
+ *   keeps an int stamp an int (see tinygeo.h and the notes at compute);
+ * - a rejected reading returns TG_READING and leaves its reason in
+ *   col->reason (Python raises ReadingError with a message); the message
+ *   number and arguments of Column._why are not kept, only the reason;
+ * - None is a NULL pointer (rh_pct, gps_m) or NaN (time_s, settings);
+ * - the records are addressed by index (col->h, col->b, ...), not pointer;
+ * - the burst and layer counters (_burst_n, _tb_n), which Python lets grow
+ *   past int32 after a restored blob holding them near 2^31, stop at
+ *   INT32_MAX (same events; no signed overflow);
+ * - on_event receives a context pointer.
  */
 #include <stddef.h>
 #include <stdint.h>
@@ -40,13 +43,17 @@
 
 typedef char tg__ev_match[(TGPY_COLUMN_EV_LEVEL == TG_EV_LEVEL && TGPY_COLUMN_EV_TROPOPAUSE == TG_EV_TROPOPAUSE
                            && TGPY_COLUMN_EV_BURST == TG_EV_BURST && TGPY_COLUMN_EV_LANDED == TG_EV_LANDED
-                           && TGPY_COLUMN_EV_LAUNCH == TG_EV_LAUNCH && TGPY_COLUMN_FL_DRY == TG_FL_DRY
-                           && TGPY_COLUMN_FL_HELD_MIXING == TG_FL_HELD_MIXING
-                           && TGPY_COLUMN_FL_NO_TIME == TG_FL_NO_TIME
-                           && TGPY_COLUMN_FL_DESCENT == TG_FL_DESCENT && TGPY_COLUMN_FL_SAME_P == TG_FL_SAME_P
+                           && TGPY_COLUMN_EV_LAUNCH == TG_EV_LAUNCH && TGPY_COLUMN_EV_FLOAT == TG_EV_FLOAT
+                           && TGPY_COLUMN_FL_DRY == TG_FL_DRY && TGPY_COLUMN_FL_HELD_MIXING == TG_FL_HELD_MIXING
+                           && TGPY_COLUMN_FL_NO_TIME == TG_FL_NO_TIME && TGPY_COLUMN_FL_DESCENT == TG_FL_DESCENT
+                           && TGPY_COLUMN_FL_SAME_P == TG_FL_SAME_P && TGPY_COLUMN_FL_NO_GPS == TG_FL_NO_GPS
+                           && TGPY_COLUMN_FL_CAPPED == TG_FL_CAPPED && TGPY_COLUMN_FL_REPLACED == TG_FL_REPLACED
+                           && TGPY_COLUMN_FL_TAKEOVER == TG_FL_TAKEOVER
+                           && TGPY_COLUMN_FL_SAME_TIME == TG_FL_SAME_TIME
                            && TGPY_COLUMN_PH_WAIT == TG_PH_WAIT && TGPY_COLUMN_PH_ASCENT == TG_PH_ASCENT
-                           && TGPY_COLUMN_PH_DESCENT == TG_PH_DESCENT
-                           && TGPY_COLUMN_PH_LANDED == TG_PH_LANDED) ? 1 : -1];
+                           && TGPY_COLUMN_PH_FLOAT == TG_PH_FLOAT && TGPY_COLUMN_PH_DESCENT == TG_PH_DESCENT
+                           && TGPY_COLUMN_PH_LANDED == TG_PH_LANDED
+                           && TGPY_COLUMN_COUNT_MAX == TG_COUNT_MAX) ? 1 : -1];
 
 static const TG_FLOAT MANDATORY_PA[16] = TGPY_COLUMN_MANDATORY_PA;
 typedef char tg__mandatory_16[TGPY_COLUMN_MANDATORY_PA_N == 16 ? 1 : -1];
@@ -57,18 +64,26 @@ typedef char tg__mandatory_16[TGPY_COLUMN_MANDATORY_PA_N == 16 ? 1 : -1];
 #define T_MAX_K TGPY_COLUMN_T_MAX_K
 #define GPS_MIN_M TGPY_COLUMN_GPS_MIN_M
 #define GPS_MAX_M TGPY_COLUMN_GPS_MAX_M
-#define WMO_LAPSE_K_PER_GPM TGPY_COLUMN_WMO_LAPSE_K_PER_GPM
+#define WMO_LAPSE_K_GPM TGPY_COLUMN_WMO_LAPSE_K_GPM
 #define WMO_DEPTH_GPM TGPY_COLUMN_WMO_DEPTH_GPM
+#define NOISE_K TG_L(TGPY_COLUMN_NOISE_K)
+#define COUNT_MAX TGPY_COLUMN_COUNT_MAX
 #define GPH_MIN_M TGPY_POTENTIAL_GPH_MIN_M
 #define GPH_MAX_M TGPY_POTENTIAL_GPH_MAX_M
-#define KH (TG_L(0.5) * TG_RD / TG_G0)   /* layers.HALF_RG = 0.5 * RD / G0, gpm/K */
-#define NODE_D TGPY_COLUMN__NODE_D
-#define NODE_W TGPY_COLUMN__NODE_W
-#define NODE_W2 TGPY_COLUMN__NODE_W2
-#define RH_SLOPE_MIN TGPY_COLUMN__RH_SLOPE_MIN
-#define ONE_M_EPS (TG_L(1.0) - TG_EPSILON)   /* moisture.ONE_M_EPS */
+#define HALF_RG TG_HALF_RG   /* layers.HALF_RG = 0.5 * RD / G0, gpm/K (tg_internal.h) */
+#define NODE_D TG_L(TGPY_COLUMN__NODE_D)
+#define NODE_W TG_L(TGPY_COLUMN__NODE_W)
+#define NODE_W2 TG_L(TGPY_COLUMN__NODE_W2)
+#define RH_SLOPE_MIN TG_L(TGPY_COLUMN__RH_SLOPE_MIN)
+#define SQRT2 TGPY_COLUMN__SQRT2
+#define ONE_M_EPS (TG_L(1.0) - TG_EPSILON)   /* moisture.ONE_M_EPS = 1.0 - EPSILON */
+/* column._HUM_K = (1.0 / EPSILON - 1.0) * 0.5773502691896258 */
+#define HUM_K ((TG_L(1.0) / TG_EPSILON - TG_L(1.0)) * TG_L(0.5773502691896258))
 #define NAN_ TG_NAN
 typedef char tg__pc_size[(sizeof(((tg_column *)0)->pc) == TG_PC_N * sizeof(TG_FLOAT)) ? 1 : -1];
+
+#define H(col) (&(col)->rec[(col)->h])
+#define B(col) (&(col)->rec[(col)->b])
 
 const char *tg_reason_name(tg_reason reason)
 {
@@ -85,10 +100,11 @@ const char *tg_reason_name(tg_reason reason)
     return "unknown";
 }
 
+/* ------------------------------------------------------------ settings */
 /* The defaults and ranges of the settings are Column.__init__'s, generated
  * into tg_tables.h (TGPY_COLUMN_SET_<NAME>_DEF/_LO/_HI; None -> NaN). A
  * setting added to Column stops the build here until tg_column_config has it. */
-typedef char tg__settings_26[TGPY_COLUMN_SET_N == 26 ? 1 : -1];
+typedef char tg__settings_34[TGPY_COLUMN_SET_N == 34 ? 1 : -1];
 #define DEF(name) TGPY_COLUMN_SET_##name##_DEF
 
 void tg_column_config_defaults(tg_column_config *cfg, TG_FLOAT lat_deg)
@@ -106,20 +122,28 @@ void tg_column_config_defaults(tg_column_config *cfg, TG_FLOAT lat_deg)
     cfg->bias_t_k = DEF(BIAS_T_K);
     cfg->bias_rh_pct = DEF(BIAS_RH_PCT);
     cfg->max_rate_m_s = DEF(MAX_RATE_M_S);
-    cfg->landing_s = DEF(LANDING_S);
-    cfg->landing_tol_pa = DEF(LANDING_TOL_PA);
-    cfg->launch_m = DEF(LAUNCH_M);
-    cfg->burst_drop_m = DEF(BURST_DROP_M);
+    cfg->start_guard_m = DEF(START_GUARD_M);
+    cfg->time_unit_s = DEF(TIME_UNIT_S);
+    cfg->smooth_s = DEF(SMOOTH_S);
+    cfg->launch_gpm = DEF(LAUNCH_GPM);
+    cfg->burst_drop_gpm = DEF(BURST_DROP_GPM);
+    cfg->burst_rate_gpm_s = DEF(BURST_RATE_GPM_S);
     cfg->burst_readings = DEF(BURST_READINGS);
+    cfg->float_s = DEF(FLOAT_S);
+    cfg->float_band_gpm = DEF(FLOAT_BAND_GPM);
+    cfg->landing_s = DEF(LANDING_S);
+    cfg->landing_band_gpm = DEF(LANDING_BAND_GPM);
     cfg->tropopause_max_p_pa = DEF(TROPOPAUSE_MAX_P_PA);
+    cfg->tropopause_layer_gpm = DEF(TROPOPAUSE_LAYER_GPM);
     cfg->rh_tol_pct = DEF(RH_TOL_PCT);
+    cfg->takeover_readings = DEF(TAKEOVER_READINGS);
     cfg->track_sigma = DEF(TRACK_SIGMA);
     cfg->on_event = NULL;         /* on_event=None */
     cfg->on_event_ctx = NULL;
     cfg->geoid_undulation_m = DEF(GEOID_UNDULATION_M);
     cfg->max_t_step_k = DEF(MAX_T_STEP_K);
     cfg->max_t_rate_k_s = DEF(MAX_T_RATE_K_S);
-    cfg->max_t_gradient_k_m = DEF(MAX_T_GRADIENT_K_M);
+    cfg->max_t_gradient_k_gpm = DEF(MAX_T_GRADIENT_K_GPM);
 }
 #undef DEF
 
@@ -127,37 +151,46 @@ void tg_column_config_defaults(tg_column_config *cfg, TG_FLOAT lat_deg)
  * with the generated range of that setting */
 #define SETTING(x, name) \
     TG_TRY(tg__check_range((x), TGPY_COLUMN_SET_##name##_LO, TGPY_COLUMN_SET_##name##_HI, TG_RANGE))
+/* "None if x is None else check_range(...)": NaN stands for None */
+#define OPT_SETTING(x, name) do { if ((x) == (x)) SETTING(x, name); } while (0)
+/* column._count_setting(name, value, lo, hi) */
+#define COUNT_SETTING(x, name) \
+    do { if ((x) < TGPY_COLUMN_SET_##name##_LO || (x) > TGPY_COLUMN_SET_##name##_HI) \
+             return tg__fail(TG_RANGE, out); } while (0)
+/* errors.check_flag(name, value): 0 or 1 */
+#define FLAG_SETTING(x) do { if ((x) != 0 && (x) != 1) return tg__fail(TG_RANGE, out); } while (0)
+
+static void reset_events(tg_column *col);
+static TG_FLOAT nan_rec_init(tg_rec *r);
+
+/* Column._guard: 1 if the standard pressure altitude of p lies within
+ * start_guard_m of start_height_m (or there is no guard), else 0 */
+static int guard(const tg_column *col, TG_FLOAT p)
+{
+    TG_FLOAT pa;
+    if (col->start_guard_m != col->start_guard_m)
+        return 1;
+    pa = tg__standard_altitude_at(p);
+    return TG_FABS(pa - col->g_start) <= col->start_guard_m;
+}
 
 static tg_status init_checked(tg_column *col, const tg_column_config *cfg, TG_FLOAT *out)
 {
-    const tg_ellipsoid *e = cfg->ellipsoid ? cfg->ellipsoid : &tg_wgs84;
     tg_column n;
+    int i;
     memset(&n, 0, sizeof n);
     /* --- settings (checked here; the status names the class, not the setting) */
     TG_TRY(tg__check_lat(cfg->lat_deg));
     n.lat_deg = cfg->lat_deg;
-    /* Python's _ell is a property (0 if the ellipsoid is WGS84 else 1); C
-     * keeps it as a member, written here only */
-    if (e == &tg_wgs84 || (e->name != NULL && strcmp(e->name, "WGS84") == 0)) {
-        n.ell = 0;
-        n.ellipsoid = &tg_wgs84;
-    } else if (e == &tg_grs80 || (e->name != NULL && strcmp(e->name, "GRS80") == 0)) {
-        n.ell = 1;
-        n.ellipsoid = &tg_grs80;
-    } else {
+    n.ellipsoid = tg__check_ellipsoid(cfg->ellipsoid);
+    if (n.ellipsoid == NULL)
         return tg__fail(TG_RANGE, out);
-    }
     SETTING(cfg->start_height_m, START_HEIGHT_M);
     n.start_height_m = cfg->start_height_m;
-    /* anchor_p_pa: NaN stands for None (deliberate: C has no None in a struct) */
-    if (cfg->anchor_p_pa != cfg->anchor_p_pa) {
-        n.anchor = NAN_;
-    } else {
-        SETTING(cfg->anchor_p_pa, ANCHOR_P_PA);
-        n.anchor = cfg->anchor_p_pa;
-    }
-    n.ice = cfg->ice != 0;
-    n.dry_fallback = cfg->dry_fallback != 0;
+    FLAG_SETTING(cfg->ice);
+    n.ice = cfg->ice;
+    FLAG_SETTING(cfg->dry_fallback);
+    n.dry_fallback = cfg->dry_fallback;
     SETTING(cfg->sigma_p_pa, SIGMA_P_PA);
     n.sigma_p_pa = cfg->sigma_p_pa;
     SETTING(cfg->sigma_t_k, SIGMA_T_K);
@@ -170,84 +203,99 @@ static tg_status init_checked(tg_column *col, const tg_column_config *cfg, TG_FL
     n.bias_t_k = cfg->bias_t_k;
     SETTING(cfg->bias_rh_pct, BIAS_RH_PCT);
     n.bias_rh_pct = cfg->bias_rh_pct;
-    if (cfg->max_rate_m_s != cfg->max_rate_m_s) {   /* NaN = None: no rate check */
-        n.max_rate = NAN_;
-    } else {
-        SETTING(cfg->max_rate_m_s, MAX_RATE_M_S);
-        n.max_rate = cfg->max_rate_m_s;
-    }
+    OPT_SETTING(cfg->max_rate_m_s, MAX_RATE_M_S);
+    n.max_rate_m_s = cfg->max_rate_m_s;
+    OPT_SETTING(cfg->start_guard_m, START_GUARD_M);
+    n.start_guard_m = cfg->start_guard_m;
+    SETTING(cfg->time_unit_s, TIME_UNIT_S);
+    n.time_unit_s = cfg->time_unit_s;
+    SETTING(cfg->smooth_s, SMOOTH_S);
+    n.smooth_s = cfg->smooth_s;
+    SETTING(cfg->launch_gpm, LAUNCH_GPM);
+    n.launch_gpm = cfg->launch_gpm;
+    SETTING(cfg->burst_drop_gpm, BURST_DROP_GPM);
+    n.burst_drop_gpm = cfg->burst_drop_gpm;
+    SETTING(cfg->burst_rate_gpm_s, BURST_RATE_GPM_S);
+    n.burst_rate_gpm_s = cfg->burst_rate_gpm_s;
+    COUNT_SETTING(cfg->burst_readings, BURST_READINGS);
+    n.burst_readings = cfg->burst_readings;
+    SETTING(cfg->float_s, FLOAT_S);
+    n.float_s = cfg->float_s;
+    SETTING(cfg->float_band_gpm, FLOAT_BAND_GPM);
+    n.float_band_gpm = cfg->float_band_gpm;
     SETTING(cfg->landing_s, LANDING_S);
     n.landing_s = cfg->landing_s;
-    SETTING(cfg->landing_tol_pa, LANDING_TOL_PA);
-    n.landing_tol_pa = cfg->landing_tol_pa;
-    SETTING(cfg->launch_m, LAUNCH_M);
-    n.launch_m = cfg->launch_m;
-    SETTING(cfg->burst_drop_m, BURST_DROP_M);
-    n.burst_drop_m = cfg->burst_drop_m;
-    if (cfg->burst_readings < TGPY_COLUMN_SET_BURST_READINGS_LO
-        || cfg->burst_readings > TGPY_COLUMN_SET_BURST_READINGS_HI)
-        return tg__fail(TG_RANGE, out);
-    n.burst_readings = cfg->burst_readings;
+    SETTING(cfg->landing_band_gpm, LANDING_BAND_GPM);
+    n.landing_band_gpm = cfg->landing_band_gpm;
     SETTING(cfg->tropopause_max_p_pa, TROPOPAUSE_MAX_P_PA);
     n.tropopause_max_p_pa = cfg->tropopause_max_p_pa;
+    SETTING(cfg->tropopause_layer_gpm, TROPOPAUSE_LAYER_GPM);
+    n.tropopause_layer_gpm = cfg->tropopause_layer_gpm;
     SETTING(cfg->rh_tol_pct, RH_TOL_PCT);
     n.rh_tol_pct = cfg->rh_tol_pct;
-    n.track_sigma = cfg->track_sigma != 0;
-    if (cfg->max_t_step_k != cfg->max_t_step_k) {   /* NaN = None: no temperature-step check */
-        n.t_step = NAN_;
-    } else {
-        SETTING(cfg->max_t_step_k, MAX_T_STEP_K);
-        n.t_step = cfg->max_t_step_k;
-    }
-    n.t_step_neg = -n.t_step;         /* derived (Python: so feed builds no float for its check) */
-    SETTING(cfg->max_t_rate_k_s, MAX_T_RATE_K_S);
-    n.max_t_rate_k_s = cfg->max_t_rate_k_s;
-    SETTING(cfg->max_t_gradient_k_m, MAX_T_GRADIENT_K_M);
-    n.max_t_gradient_k_m = cfg->max_t_gradient_k_m;
+    COUNT_SETTING(cfg->takeover_readings, TAKEOVER_READINGS);
+    n.takeover_readings = cfg->takeover_readings;
+    FLAG_SETTING(cfg->track_sigma);
+    n.track_sigma = cfg->track_sigma;
     n.on_event = cfg->on_event;
     n.on_event_ctx = cfg->on_event_ctx;
-    if (cfg->geoid_undulation_m != cfg->geoid_undulation_m) {   /* NaN = None */
-        n.geoid_n = NAN_;
-    } else {
-        SETTING(cfg->geoid_undulation_m, GEOID_UNDULATION_M);
-        n.geoid_n = cfg->geoid_undulation_m;
-    }
-    /* --- derived settings */
+    OPT_SETTING(cfg->geoid_undulation_m, GEOID_UNDULATION_M);
+    n.geoid_undulation_m = cfg->geoid_undulation_m;
+    OPT_SETTING(cfg->max_t_step_k, MAX_T_STEP_K);
+    n.max_t_step_k = cfg->max_t_step_k;
+    SETTING(cfg->max_t_rate_k_s, MAX_T_RATE_K_S);
+    n.max_t_rate_k_s = cfg->max_t_rate_k_s;
+    SETTING(cfg->max_t_gradient_k_gpm, MAX_T_GRADIENT_K_GPM);
+    n.max_t_gradient_k_gpm = cfg->max_t_gradient_k_gpm;
+    /* --- derived settings (so that feed builds no float for them) */
     /* the geopotential series at this latitude, evaluated once (tinygeo.potential) */
     tg__potential_series(n.lat_deg, n.ellipsoid, n.pc);
-    n.min_rate = -n.max_rate;
-    n.spk2 = KH * KH * n.sigma_p_pa * n.sigma_p_pa;   /* (K/2 sigma_p)^2 */
+    n.a_m = n.ellipsoid->a_m;
+    n.ellipsoid_code = n.ellipsoid == &tg_wgs84 ? 0 : 1;   /* Column.ellipsoid_code */
+    n.g_start = tg__potential_gph_series(n.start_height_m, n.pc, n.a_m);
+    n.anchor_p_pa = NAN_;
+    n.anchor = NAN_;
+    if (cfg->anchor_p_pa == cfg->anchor_p_pa) {   /* NaN = None */
+        SETTING(cfg->anchor_p_pa, ANCHOR_P_PA);
+        n.anchor = cfg->anchor_p_pa;
+        if (!guard(&n, n.anchor))
+            return tg__fail(TG_RANGE, out);
+        n.anchor_p_pa = n.anchor;
+    }
+    n.max_rate = n.max_rate_m_s;       /* NaN for None, as Python's _max_rate */
+    n.c_dt = n.c_lim = n.c_neg = NAN_;
+    /* time stamps -> s: skipped for 1 (Python: _unit None; C: NaN) */
+    n.unit = n.time_unit_s == TG_L(1.0) ? NAN_ : n.time_unit_s;
+    n.float_u = n.float_s / n.time_unit_s;
+    n.land_u = n.landing_s / n.time_unit_s;
+    n.kz = TG_L(2.0) * HALF_RG * n.sigma_p_pa;
+    n.kn = NOISE_K * SQRT2 * n.kz;
+    if (n.max_t_step_k != n.max_t_step_k) {
+        n.t_lim = n.t_lim_neg = NAN_;
+    } else {
+        n.t_lim = n.max_t_step_k + NOISE_K * SQRT2 * n.sigma_t_k;
+        n.t_lim_neg = -n.t_lim;
+    }
+    n.spk2 = HALF_RG * HALF_RG * n.sigma_p_pa * n.sigma_p_pa;   /* (K/2 sigma_p)^2 */
     n.st2 = n.sigma_t_k * n.sigma_t_k;
-    /* --- state */
-    n.count = 0;
-    n.rejected = 0;
+    /* --- state: the records (Python: _Rec()), counters, recovery memory, events */
+    for (i = 0; i < 6; i++)
+        nan_rec_init(&n.rec[i]);
+    n.h = 0;
+    n.b = 1;
+    n.n = 2;
+    n.m = 3;
+    n.k = 4;
+    n.cr = 5;
+    n.run = n.run_b = 0;
+    n.why = n.run_why = TG_REASON_NONE;
+    n.count = n.rejected = n.retracted = 0;
     n.reason = TG_REASON_NONE;
-    n.flags = 0;
-    n.phase = TG_PH_WAIT;
-    n.lvl = 0;
-    n.burst_n = 0;
-    n.tp_state = 0;
-    n.gps_n = -1;
-    /* for name in _ST_F: setattr(self, name, nan) */
-    n.p_pa = n.t_k = n.tv_k = n.rh_pct = n.time_s = n.gph_m = n.height_m = n.rate_m_s = NAN_;
-    n.max_gph_m = n.launch_time_s = n.burst_gph_m = n.burst_time_s = n.burst_p_pa = NAN_;
-    n.level_p_pa = n.level_gph_m = n.level_height_m = n.level_t_k = NAN_;
-    n.tropopause_p_pa = n.tropopause_gph_m = n.tropopause_t_k = n.gps_m = n.gps_diff_m = NAN_;
-    n.t_last = n.g_t = n.min_gph = n.launch_gph = n.max_time = n.max_p = n.burst_line = NAN_;
-    n.env_g = NAN_;   /* highest gph of any reading (the tropopause search's envelope) */
-    n.land_lo = n.land_hi = n.land_t = n.h_t = n.h_p = n.h_rh = n.w_held = NAN_;
-    n.tp_g = n.tp_top = n.tp_th = n.tp_p = n.tp_t = NAN_;
-    n.n_g = n.n_h = n.n_k1 = n.n_k2 = n.n_lo = n.n_hi = n.h_tm = NAN_;
-    n.c = TG_L(0.0);
-    n.var_done = TG_L(0.0);
-    n.ct = TG_L(0.0);
-    n.tm2 = TG_L(0.0);
-    n.s2 = TG_L(0.0);
-    n.p_start = NAN_;
-    n.sum_rh = TG_L(0.0);
-    n.sum_p = TG_L(0.0);
-    n.slope = TG_L(0.0);
+    n.has_b = 0;
+    n.n_g = n.n_h = n.n_k1 = n.n_k2 = NAN_;
+    n.n_lo = n.n_hi = NAN_;
     n.var_anchor = TG_L(0.0);
+    reset_events(&n);
     *col = n;
     return TG_OK;
 }
@@ -258,34 +306,132 @@ tg_status tg_column_init(tg_column *col, const tg_column_config *cfg)
     return init_checked(col, cfg, &dummy);
 }
 
-/* ------------------------------------------------------------ helpers */
-
-/* the held mixing ratio of Column.feed (written out there): mixing ratio of the latest reading that had a
- * humidity, kg/kg. That reading passed feed's r < 1 - eps, the same bound as
- * e < p up to rounding, so these checked calls fail only at that knife edge
- * (then feed rejects the reading with reason 'humidity', as Python does). */
-static tg_status held_mixing_ratio(const tg_column *col, TG_FLOAT *out)
+/* column._Rec.__init__ (returns NaN for the caller's convenience) */
+static TG_FLOAT nan_rec_init(tg_rec *r)
 {
-    TG_FLOAT e;
-    if (col->h_rh <= TG_L(0.0)) {
-        *out = TG_L(0.0);
-        return TG_OK;
-    }
-    TG_TRY(tg_vapour_pressure(col->h_t, col->h_p, col->h_rh, col->ice, &e));
-    return tg_mixing_ratio(e, col->h_p, out);
+    memset(r, 0, sizeof *r);
+    r->p_pa = r->t_k = r->rh_pct = r->tv_k = r->q = NAN_;
+    r->tsr = r->tr = r->t0 = (tg_time)NAN;
+    r->gps_given = 0;
+    r->gpsr = NAN_;
+    r->has_nodes = 0;
+    r->flags = 0;
+    r->gph_m = r->height_m = r->rdh = r->rdt = r->dt = NAN_;
+    r->c = TG_L(0.0);
+    r->g_t = r->h_tm = NAN_;
+    r->h_t = r->h_p = r->h_rh = r->w = NAN_;
+    r->gps_m = r->gps_diff_m = NAN_;
+    r->gps_here = 0;
+    r->var_done = r->var_p = r->ct = r->tm2 = r->s2 = r->sum_rh = r->sum_p = TG_L(0.0);
+    r->slope = r->sum_hum = r->tvh = r->half = r->lay = TG_L(0.0);
+    r->p_start = NAN_;
+    return NAN_;
 }
 
-/* the height node pair of column.py (_n_g, _n_h, _n_k1, _n_k2, _n_lo, _n_hi);
- * Python: the tuple returned by Column._nodes */
-typedef struct nodes_t {
-    TG_FLOAT g, h, k1, k2, lo, hi;
-} nodes_t;
+/* Column._reset_events: the event state of a column that has confirmed nothing
+ * yet (every _ST_F but _n_* and _var_anchor nan) */
+static void reset_events(tg_column *col)
+{
+    col->smooth_gph_m = col->f_v = col->max_gph_m = col->launch_time_s = NAN_;
+    col->burst_gph_m = col->burst_time_s = col->burst_p_pa = col->float_gph_m = NAN_;
+    col->float_time_s = col->landing_time_s = col->level_p_pa = col->level_gph_m = NAN_;
+    col->level_height_m = col->level_t_k = col->tropopause_p_pa = col->tropopause_gph_m = NAN_;
+    col->tropopause_t_k = col->tropopause_time_s = NAN_;
+    col->e_p = col->e_g = col->e_t = col->f_dt = col->f_a = col->f_b = NAN_;
+    col->f_cx = col->f_cv = col->f_bv = col->max_p = col->min_g = col->launch_line = NAN_;
+    col->fl_g = col->fl_lo = col->fl_hi = col->land_lo = col->land_hi = NAN_;
+    col->tb_top = col->tb_g0 = col->tb_g1 = col->tb_th = NAN_;
+    col->tp_g = col->tp_top = col->tp_th = col->tp_p = col->tp_t = NAN_;
+    col->max_clk = col->fl_clk = col->fl_end = col->land_end = (tg_time)NAN;
+    col->tb_c0 = col->tb_c1 = col->tp_clk = (tg_time)NAN;
+    col->phase = TG_PH_WAIT;
+    col->e_n = col->lvl = col->burst_n = col->tb_n = col->tp_state = 0;
+    col->tb_st = TG_L(0.0);
+}
 
-/* Column._nodes: exact geometric height h at g (potential.height_series with the
- * column's series; from a guess within a few mm, one potential.newton_step
- * step) and the quadratic in gph through it and the gph of h + D and h + 2D
- * (potential.gph_series). Writes only *nd. */
-static void nodes(const tg_column *col, TG_FLOAT g, TG_FLOAT guess, nodes_t *nd)
+/* ------------------------------------------------------------ 1. check */
+/* Column._inc_rejected */
+static void inc_rejected(tg_column *col)
+{
+    if (col->rejected < COUNT_MAX)
+        col->rejected += 1;
+}
+
+/* Column._bad: count the rejection; the caller returns TG_READING (Python
+ * raises ReadingError(message, reason)). Returns -1, compute's "raised". */
+static int bad(tg_column *col, tg_reason reason)
+{
+    col->reason = reason;
+    inc_rejected(col);
+    return -1;
+}
+
+/* Column._check: every value on its own (a finite number, in range), written
+ * into record n. 0, or -1 after bad(). Column._num's rule for C: a NaN or
+ * infinite p_pa, t_k, rh_pct is 'number'; time_s NaN is None (C has no
+ * other None for a double), an infinite time_s is 'number'; gps_m NaN is
+ * "no fix", infinite 'number'. */
+static int check(tg_column *col, tg_rec *n, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_FLOAT *rh_pct,
+                 tg_time time_s, const TG_FLOAT *gps_m)
+{
+    TG_FLOAT p, t, rh, gps;
+    /* Python tests "a finite number" first, then the range; a value in the
+     * range is finite, so C tests the range first and tells a NaN or inf
+     * ('number') from a value out of range only for a value outside it:
+     * the same reason for every value, fewer tests per reading */
+    p = p_pa;
+    if (!(P_MIN_PA <= p && p <= P_MAX_PA))
+        return bad(col, isfinite(p) ? TG_REASON_PRESSURE : TG_REASON_NUMBER);
+    t = t_k;
+    if (!(T_MIN_K <= t && t <= T_MAX_K))
+        return bad(col, isfinite(t) ? TG_REASON_TEMPERATURE : TG_REASON_NUMBER);
+    rh = NAN_;
+    if (rh_pct != NULL) {
+        rh = *rh_pct;
+        if (!(TG_L(0.0) <= rh && rh <= TG_L(100.0))) {
+            TG_FLOAT tol = col->rh_tol_pct;
+            if (!isfinite(rh))
+                return bad(col, TG_REASON_NUMBER);
+            if (rh < -tol || rh > TG_L(100.0) + tol)
+                return bad(col, TG_REASON_HUMIDITY);
+        }
+    }
+    if (isinf(time_s))
+        return bad(col, TG_REASON_NUMBER);
+    gps = NAN_;
+    if (gps_m != NULL) {
+        gps = *gps_m;
+        if (isinf(gps))
+            return bad(col, TG_REASON_NUMBER);
+        if (gps == gps) {
+            if (col->geoid_undulation_m == col->geoid_undulation_m) {
+                if (tg_msl_height(gps, col->geoid_undulation_m, &gps) != TG_OK)
+                    return bad(col, TG_REASON_GPS);
+            }
+            if (!(GPS_MIN_M <= gps && gps <= GPS_MAX_M))
+                return bad(col, TG_REASON_GPS);
+        }
+    }
+    n->p_pa = p;
+    n->t_k = t;
+    n->rh_pct = rh;
+    n->tsr = time_s;
+    n->gps_given = gps_m != NULL;
+    n->gpsr = gps;
+    /* (1 - eps) e_s/p per %RH at this reading (moisture.rh_q): with a
+     * humidity, or for the held humidity's cap and sigma; computed once per
+     * reading, whatever the look-back computes on top of it */
+    if (rh == rh || !col->dry_fallback || col->track_sigma)
+        n->q = tg__moisture_rh_q(t, p, col->ice);
+    return 0;
+}
+
+/* ------------------------------------------------------------ 2. compute */
+/* Column._nodes: exact geometric height h at g (potential.height_series with
+ * the column's series; from a guess within a few mm, one potential.newton_step)
+ * and the quadratic in gph through it and the gph of h + D and h + 2D
+ * (potential.gph_series). Writes only *nd (Python returns the tuple). */
+static void nodes(const tg_column *col, TG_FLOAT g, TG_FLOAT guess, tg_nodes *nd)
 {
     const TG_FLOAT *c = col->pc;
     TG_FLOAT a, h, d, ga, gb, sa, k2;
@@ -298,7 +444,7 @@ static void nodes(const tg_column *col, TG_FLOAT g, TG_FLOAT guess, nodes_t *nd)
         nd->hi = g;
         return;
     }
-    a = col->ellipsoid->a_m;
+    a = col->a_m;
     if (guess == guess)
         h = tg__potential_newton_step(g, guess, c, a);
     else
@@ -318,56 +464,445 @@ static void nodes(const tg_column *col, TG_FLOAT g, TG_FLOAT guess, nodes_t *nd)
     nd->hi = g + NODE_W;
 }
 
-/* the node commit of Column.feed (written out there) */
-static void set_nodes(tg_column *col, const nodes_t *nd)
+/* Column._compute: fill record n (which holds the reading) with the state
+ * after it on top of record a (NULL: n is the first reading). Returns 0 if n
+ * agrees with a, else the number of Python's message (col->why holds its
+ * reason), or -1 after bad() for what no look-back can mend (vapour pressure
+ * above the air pressure, a virtual temperature out of range, the start
+ * guard). Writes nothing but n, col->why and the max_rate_m_s dt cache. */
+static int compute(tg_column *col, const tg_rec *a, tg_rec *n)
 {
-    col->n_g = nd->g;
-    col->n_h = nd->h;
-    col->n_k1 = nd->k1;
-    col->n_k2 = nd->k2;
-    col->n_lo = nd->lo;
-    col->n_hi = nd->hi;
+    TG_FLOAT p = n->p_pa, t = n->t_k, rh = n->rh_pct;
+    TG_FLOAT q, r, tv, slope, tvh, w, ws, x, e, p0, tv0, s, c, tm2, dz, half, g, y, d, h;
+    TG_FLOAT dt, dtk, allow, dh, noise;
+    tg_time tsr;
+    int why = 0;
+    int32_t flags = 0;
+    int held;
+    /* -- humidity -> virtual temperature (see "Humidity") */
+    if (rh == rh) {
+        /* tinygeo.virtual_temperature (its moisture.tv_rh, written out to
+         * share q): Tv = T/(1 - r), r = (1 - eps) e/p = rh q, dTv/dRH = Tv q */
+        q = n->q;
+        r = rh * q;
+        if (r >= ONE_M_EPS)
+            return bad(col, TG_REASON_HUMIDITY);
+        tv = t / (TG_L(1.0) - r);
+        if (rh >= RH_SLOPE_MIN)
+            slope = tv * q;
+        else
+            slope = a == NULL ? TG_L(0.0) : a->slope;
+        n->h_t = t;
+        n->h_p = p;
+        n->h_rh = rh;
+        n->w = NAN_;
+        tvh = TG_L(0.0);
+    } else {
+        if (a == NULL) {
+            slope = TG_L(0.0);
+            n->h_t = n->h_p = n->h_rh = n->w = NAN_;
+        } else {
+            slope = a->slope;
+            n->h_t = a->h_t;
+            n->h_p = a->h_p;
+            n->h_rh = a->h_rh;
+            n->w = a->w;
+        }
+        held = !col->dry_fallback && n->h_p == n->h_p;
+        ws = TG_L(0.0);
+        if (held || col->track_sigma) {
+            /* the saturation mixing ratio here: e_s/p = x = 100 q/(1 - eps) */
+            x = n->q * TG_L(100.0) / ONE_M_EPS;
+            ws = x >= TG_L(0.5) ? TG_L(1.0) : TG_EPSILON * x / (TG_L(1.0) - x);
+        }
+        if (!held) {
+            w = TG_L(0.0);
+            flags = TG_FL_DRY;
+        } else {
+            w = n->w;
+            if (w != w) {
+                /* the mixing ratio of the latest reading that had a humidity,
+                 * kg/kg (its r < 1 - eps was checked: e < p): held from now on */
+                if (n->h_rh <= TG_L(0.0)) {
+                    w = TG_L(0.0);
+                } else {
+                    e = n->h_rh * tg__moisture_rh_q(n->h_t, n->h_p, col->ice) * n->h_p / ONE_M_EPS;
+                    w = TG_EPSILON * e / (n->h_p - e);
+                }
+                n->w = w;
+            }
+            flags = TG_FL_HELD_MIXING;
+            if (w > ws) {
+                w = ws;
+                flags = TG_FL_HELD_MIXING | TG_FL_CAPPED;
+            }
+        }
+        tv = tg__moisture_tv_w(t, w);   /* tinygeo.virtual_temperature_from_mixing_ratio */
+        tvh = col->track_sigma ? HUM_K * t * ws : TG_L(0.0);   /* Tv sigma of the unknown humidity, K */
+    }
+    if (!(T_MIN_K <= tv && tv <= T_MAX_K))
+        return bad(col, TG_REASON_TEMPERATURE);
+    /* -- the layer from a (Kahan-summed hypsometric thickness) */
+    if (a == NULL) {
+        if (!guard(col, p))
+            return bad(col, TG_REASON_PRESSURE);
+        p0 = col->anchor;
+        tv0 = tv;
+        s = col->g_start;
+        c = TG_L(0.0);
+    } else {
+        p0 = a->p_pa;
+        tv0 = a->tv_k;
+        s = a->gph_m;
+        c = a->c;
+    }
+    tm2 = tv0 + tv;
+    if (p0 != p0 || p == p0) {   /* first reading without anchor, or a repeated pressure */
+        dz = half = TG_L(0.0);
+        g = s;
+        if (a != NULL)
+            flags |= TG_FL_SAME_P;
+    } else {
+        /* tinygeo.layer_thickness (arguments checked), as its two products */
+        half = tg__layers_half_k_ln(p0, p);   /* (Rd/g0)/2 ln(p0/p): also dz/dTv of either end */
+        dz = half * tm2;
+        if (p > p0)
+            flags |= TG_FL_DESCENT;
+        /* classic Kahan step: c carries the part of the sum lost so far */
+        y = dz - c;
+        g = s + y;
+        c = (g - s) - y;
+    }
+    n->tv_k = tv;
+    n->gph_m = g;
+    n->c = c;
+    /* -- geometric height from the node pair (a new node waits in n->nodes) */
+    d = g - col->n_g;
+    if (col->n_lo <= g && g <= col->n_hi) {
+        n->has_nodes = 0;
+        h = col->n_h + d * (col->n_k1 + d * col->n_k2);
+    } else {
+        TG_FLOAT guess = NAN_;
+        if (-NODE_W2 <= d && d <= NODE_W2) {
+            /* just out of the window: the old quadratic is within a few mm */
+            guess = col->n_h + d * (col->n_k1 + d * col->n_k2);
+        }
+        nodes(col, g, guess, &n->nodes);
+        n->has_nodes = 1;
+        d = g - n->nodes.g;
+        h = n->nodes.h + d * (n->nodes.k1 + d * n->nodes.k2);
+    }
+    n->height_m = h;
+    /* -- time, and the checks against a (see "Checks and recovery") */
+    tsr = n->tsr;
+    if (a == NULL) {
+        n->tr = (tg_time)NAN;
+        n->g_t = n->h_tm = n->rdh = n->rdt = NAN_;
+        n->t0 = tsr;
+    } else {
+        n->tr = a->tr;
+        n->g_t = a->g_t;
+        n->h_tm = a->h_tm;
+        n->rdh = a->rdh;
+        n->rdt = a->rdt;
+        n->t0 = a->t0 == a->t0 ? a->t0 : tsr;
+    }
+    dt = NAN_;
+    if (tsr != tsr) {
+        flags |= TG_FL_NO_TIME;
+        n->rdh = n->rdt = NAN_;
+    } else {
+        if (n->tr == n->tr) {
+            /* the difference of two stamps: Python subtracts ints as ints, C
+             * in double (exact for whole stamps below 2^53), and only then
+             * makes it a TG_FLOAT (deliberate: the float build keeps 1 ms
+             * of a 1.7e12 ms tick counter; README.md, "Time") */
+            dt = (TG_FLOAT)(tsr - n->tr);
+            if (col->unit == col->unit)
+                dt = dt * col->unit;
+            if (dt < TG_L(0.0)) {
+                why = 3;
+                col->why = TG_REASON_TIME;
+            }
+        }
+        n->tr = tsr;
+        n->g_t = g;
+        n->h_tm = h;
+    }
+    n->dt = dt;
+    if (a != NULL) {
+        /* temperature step (see max_t_step_k); the noise is in t_lim */
+        dtk = t - a->t_k;
+        if (why == 0 && (dtk > col->t_lim || dtk < col->t_lim_neg)) {
+            allow = col->t_lim + col->max_t_gradient_k_gpm * TG_FABS(dz);
+            if (dt == dt)
+                allow += col->max_t_rate_k_s * dt;
+            if (TG_FABS(dtk) > allow) {
+                why = 10;
+                col->why = TG_REASON_TEMPERATURE;
+            }
+        }
+        if (dt == dt && a->h_tm == a->h_tm) {
+            dh = h - a->h_tm;
+            if (dt > TG_L(0.0)) {
+                /* rate_m_s = dh/dt, built where it is read */
+                n->rdh = dh;
+                n->rdt = dt;
+                if (dt != col->c_dt) {
+                    /* max_rate_m_s dt, kept while dt repeats */
+                    col->c_dt = dt;
+                    col->c_lim = col->max_rate * dt;
+                    col->c_neg = -col->c_lim;
+                }
+                if (why == 0 && (dh > col->c_lim || dh < col->c_neg)) {
+                    /* beyond max_rate_m_s: still passes within the noise */
+                    noise = col->kn * tv / p;
+                    if (TG_FABS(dh) > col->c_lim + noise) {
+                        why = 12;
+                        col->why = TG_REASON_RATE;
+                    }
+                }
+            } else {
+                /* a repeated time stamp: no rate check is possible for this step */
+                flags |= TG_FL_SAME_TIME;
+            }
+        }
+    }
+    /* -- GPS */
+    if (!n->gps_given || n->gpsr != n->gpsr) {
+        if (n->gps_given)
+            flags |= TG_FL_NO_GPS;
+        n->gps_here = 0;
+        if (a == NULL) {
+            n->gps_m = n->gps_diff_m = NAN_;
+        } else {
+            n->gps_m = a->gps_m;
+            n->gps_diff_m = a->gps_diff_m;
+        }
+    } else {
+        n->gps_here = 1;
+        n->gps_m = n->gpsr;
+        n->gps_diff_m = h - n->gpsr;
+    }
+    n->flags = flags;
+    /* the layer's terms for the uncertainty step (sigma: only for a state
+     * that is kept, so the look-back's trial computations build none of it) */
+    n->slope = slope;
+    n->tvh = tvh;
+    n->half = half;
+    n->lay = tm2;
+    return why;
 }
 
-/* the uncertainty step of Column.feed (written out there): streaming
- * first-order propagation; tm2 = Tv0 + Tv,
- * a = (Rd/g0)/2 ln(p0/p) = dz/dTv of either end */
-static void sigma_step(tg_column *col, int first, TG_FLOAT p0, TG_FLOAT p, TG_FLOAT tm2, TG_FLOAT a,
-                       TG_FLOAT slope)
+/* Column._sigma: streaming first-order propagation ("Uncertainty") for
+ * record n on top of record a (NULL: n is the first reading): lay = Tv0 + Tv
+ * of n's layer, half = (Rd/g0)/2 ln(p0/p) = dz/dTv of either end of it. Run
+ * when n is kept (accepted, retracting the latest reading, or joining a run). */
+static void sigma(const tg_column *col, const tg_rec *restrict a, tg_rec *restrict n)
 {
-    if (first && p0 != p0) {
-        /* the first reading: no layer yet; its sensitivities are all 0 so far */
-        TG_FLOAT q = slope * col->sigma_rh_pct;
-        col->s2 = col->st2 + q * q;     /* Python: (slope * sigma_rh_pct) ** 2 */
-        col->p_start = p;
+    TG_FLOAT half, slope, sr, tm2, pco, ct;
+    if (!col->track_sigma)
+        return;
+    half = n->half;
+    slope = n->slope;
+    if (a == NULL) {
+        n->var_done = n->var_p = n->sum_p = n->sum_rh = n->sum_hum = TG_L(0.0);
+        if (col->anchor != col->anchor) {
+            /* the first reading: no layer yet; its sensitivities are all 0 so far */
+            n->ct = n->tm2 = TG_L(0.0);
+            n->p_start = n->p_pa;
+        } else {
+            /* anchored start: the anchor is exact, the first reading is both ends */
+            n->ct = half + half;
+            n->tm2 = n->lay;
+            n->p_start = col->anchor;
+        }
+        sr = slope * col->sigma_rh_pct;
+        n->s2 = col->st2 + sr * sr;
         return;
     }
-    if (first) {
-        /* anchored start: the anchor is exact, the first reading is both ends */
-        col->ct = a + a;
-        col->p_start = p0;
+    /* the final sensitivities of reading a: dz_n/dp = HALF_RG pco, dz_n/dTv = ct */
+    tm2 = n->lay;
+    pco = (tm2 - a->tm2) / a->p_pa;
+    ct = a->ct + half;
+    n->var_done = a->var_done + ct * ct * a->s2;
+    n->var_p = a->var_p + pco * pco;   /* times (K/2 sigma_p)^2 where it is read */
+    n->sum_p = a->sum_p + pco;
+    n->sum_rh = a->sum_rh + ct * a->slope;
+    n->sum_hum = a->tvh != TG_L(0.0) ? a->sum_hum + ct * a->tvh : a->sum_hum;
+    n->ct = half;
+    n->tm2 = tm2;
+    n->p_start = a->p_start;
+    if (slope != a->slope) {
+        sr = slope * col->sigma_rh_pct;
+        n->s2 = col->st2 + sr * sr;
     } else {
-        /* final sensitivities of the previous reading: dz_n/dp = KH pco,
-         * dz_n/dTv = ct (its slope's share of the humidity bias: ct slope) */
-        TG_FLOAT pco = (tm2 - col->tm2) / p0;
-        TG_FLOAT ct = col->ct + a;
-        col->var_done += ct * ct * col->s2 + pco * pco * col->spk2;
-        col->sum_p += pco;
-        col->sum_rh += ct * col->slope;
-        col->ct = a;
-    }
-    col->tm2 = tm2;
-    if (first || slope != col->slope) {
-        TG_FLOAT sr = slope * col->sigma_rh_pct;
-        col->s2 = col->st2 + sr * sr;
+        n->s2 = a->s2;
     }
 }
 
-/* Column._levels: every mandatory level in [p, p0) not reported yet (ascent only) */
-static int levels(tg_column *col, TG_FLOAT p0, TG_FLOAT p, TG_FLOAT g0, TG_FLOAT g, TG_FLOAT t0, TG_FLOAT t)
+/* Column._rel: a time stamp as seconds since the first one (record r's t0);
+ * the difference in double, then TG_FLOAT (see compute) */
+static TG_FLOAT rel(const tg_column *col, tg_time stamp, const tg_rec *r)
+{
+    TG_FLOAT d;
+    if (stamp != stamp || r->t0 != r->t0)
+        return NAN_;
+    d = (TG_FLOAT)(stamp - r->t0);
+    return d * col->time_unit_s;
+}
+
+/* ------------------------------------------------------------ 5. events */
+/* Column._track: one step of the critically damped g-h filter (see
+ * "Events"); the rate is kept per step (f_v, gpm per f_dt seconds) */
+static void track(tg_column *col, TG_FLOAT z, TG_FLOAT dt)
+{
+    TG_FLOAT pred, res;
+    if (dt != col->f_dt) {
+        /* the gains and noise ratios for this step length (kept while dt
+         * repeats); the rate rescaled to it */
+        TG_FLOAT th, u, v, v3;
+        if (col->f_dt == col->f_dt)
+            col->f_v = col->f_v * dt / col->f_dt;
+        th = TG_EXP(-dt / col->smooth_s);
+        u = TG_L(1.0) - th;
+        v = TG_L(1.0) + th;
+        v3 = v * v * v;
+        col->f_a = TG_L(1.0) - th * th;
+        col->f_b = u * u;
+        col->f_cx = NOISE_K * TG_SQRT(u * (TG_L(1.0) + TG_L(4.0) * th + TG_L(5.0) * th * th) / v3);
+        col->f_cv = NOISE_K * TG_SQRT(TG_L(2.0) * u * u * u / v3);   /* per step */
+        col->f_bv = -col->burst_rate_gpm_s * dt;                      /* per step */
+        col->f_dt = dt;
+    }
+    pred = col->smooth_gph_m + col->f_v;
+    res = z - pred;
+    col->smooth_gph_m = pred + col->f_a * res;
+    col->f_v = col->f_v + col->f_b * res;
+}
+
+/* Column._sx: 4 sigma of the track's height, gpm, from record r's height noise */
+static TG_FLOAT sx(const tg_column *col, const tg_rec *r)
+{
+    TG_FLOAT k = col->f_cx;
+    if (k != k)
+        k = NOISE_K;
+    return k * (col->kz * r->tv_k / r->p_pa);
+}
+
+/* Column._clock_s: an event clock as seconds since the first time stamp
+ * (without time: the count of confirmed readings) */
+static TG_FLOAT clock_s(const tg_column *col, tg_time clk, const tg_rec *r)
+{
+    if (r->tsr != r->tsr)
+        return (TG_FLOAT)clk;
+    return rel(col, clk, r);
+}
+
+/* Column._sinking: the burst test beyond the noise */
+static int sinking(const tg_column *col, const tg_rec *r, TG_FLOAT hs)
+{
+    TG_FLOAT s = sx(col, r);
+    if (col->f_cx != col->f_cx)
+        return 0;
+    return hs < col->max_gph_m - col->burst_drop_gpm - s
+           && col->f_v < col->f_bv - col->f_cv * (s / col->f_cx);
+}
+
+/* Column._float_ref: a new reference height of the float test and its band */
+static void float_ref(tg_column *col, const tg_rec *r, TG_FLOAT hs, tg_time clk)
+{
+    TG_FLOAT band = col->float_band_gpm + sx(col, r);
+    col->fl_g = hs;
+    col->fl_lo = hs - band;
+    col->fl_hi = hs + band;
+    col->fl_clk = clk;
+    col->fl_end = clk + (tg_time)(r->tsr != r->tsr ? col->float_s : col->float_u);
+}
+
+/* Column._land_ref: a new reference height of the landing test and its band */
+static void land_ref(tg_column *col, const tg_rec *r, TG_FLOAT g, tg_time clk)
+{
+    TG_FLOAT band = col->landing_band_gpm + NOISE_K * (col->kz * r->tv_k / r->p_pa);
+    col->land_lo = g - band;
+    col->land_hi = g + band;
+    col->land_end = clk + (tg_time)(r->tsr != r->tsr ? col->landing_s : col->land_u);
+}
+
+/* Column._phase: launch, float, burst and landing on the track (see "Events") */
+static int phase(tg_column *col, const tg_rec *r, int32_t ph, TG_FLOAT g, TG_FLOAT p, tg_time clk)
+{
+    TG_FLOAT hs = col->smooth_gph_m;
+    if (ph == TG_PH_WAIT) {
+        if (hs < col->min_g || col->launch_line != col->launch_line) {
+            if (hs < col->min_g)
+                col->min_g = hs;
+            col->launch_line = col->min_g + col->launch_gpm + sx(col, r);
+        } else if (hs >= col->launch_line) {
+            col->phase = TG_PH_ASCENT;
+            col->launch_time_s = clock_s(col, clk, r);
+            col->max_gph_m = hs;
+            col->max_clk = clk;
+            col->max_p = p;
+            float_ref(col, r, hs, clk);
+            return TG_EV_LAUNCH;
+        }
+        return 0;
+    }
+    if (ph <= TG_PH_FLOAT) {
+        if (hs > col->max_gph_m) {
+            /* a new highest point: no descent below it yet */
+            col->max_gph_m = hs;
+            col->max_clk = clk;
+            col->max_p = p;
+            col->burst_n = 0;
+        } else if (col->f_v < col->f_bv && sinking(col, r, hs)) {
+            /* sinking beyond the noise, below the highest point */
+            if (col->burst_n < INT32_MAX)   /* Python's int grows on (see the file comment) */
+                col->burst_n += 1;
+            if (col->burst_n >= col->burst_readings) {
+                col->phase = TG_PH_DESCENT;
+                col->burst_gph_m = col->max_gph_m;
+                col->burst_time_s = clock_s(col, col->max_clk, r);
+                col->burst_p_pa = col->max_p;
+                land_ref(col, r, g, clk);
+                return TG_EV_BURST;
+            }
+            return 0;
+        } else {
+            col->burst_n = 0;
+        }
+        if (hs > col->fl_hi || hs < col->fl_lo) {
+            if (ph == TG_PH_FLOAT && hs > col->fl_hi)
+                col->phase = TG_PH_ASCENT;      /* a new ascent after the float */
+            float_ref(col, r, hs, clk);
+        } else if (ph == TG_PH_ASCENT && clk >= col->fl_end) {
+            col->phase = TG_PH_FLOAT;
+            col->float_gph_m = col->fl_g;
+            col->float_time_s = clock_s(col, col->fl_clk, r);
+            return TG_EV_FLOAT;
+        }
+        return 0;
+    }
+    if (ph == TG_PH_DESCENT) {
+        if (g > col->land_hi || g < col->land_lo) {
+            land_ref(col, r, g, clk);
+        } else if (clk >= col->land_end) {
+            col->phase = TG_PH_LANDED;
+            col->landing_time_s = clock_s(col, clk, r);
+            return TG_EV_LANDED;
+        }
+    }
+    return 0;
+}
+
+/* Column._levels: report every mandatory level in [p, p0) not reported yet
+ * (ascent only); on_event with TG_EV_LEVEL alone for each lower one */
+static int levels(tg_column *col, TG_FLOAT p0, TG_FLOAT p, TG_FLOAT g0, TG_FLOAT g, TG_FLOAT t0,
+                  TG_FLOAT t)
 {
     int bits = 0;
-    int lvl = col->lvl;
+    int32_t lvl = col->lvl;
     while (lvl < 16 && MANDATORY_PA[lvl] >= p) {
         TG_FLOAT lev, f, gl;
         if (bits && col->on_event != NULL)
@@ -376,19 +911,18 @@ static int levels(tg_column *col, TG_FLOAT p0, TG_FLOAT p, TG_FLOAT g0, TG_FLOAT
         if (p0 == p)
             f = TG_L(0.0);
         else
-            f = tg__layers_lnr(p0, lev) / tg__layers_lnr(p0, p);   /* ln_ratio, unchecked (deliberate:
-                                                                    * p0, p passed layer_thickness) */
+            f = tg__layers_lnr(p0, lev) / tg__layers_lnr(p0, p);
         col->level_p_pa = lev;
-        col->level_gph_m = g0 + f * (g - g0);
+        gl = g0 + f * (g - g0);
+        col->level_gph_m = gl;
         col->level_t_k = t0 + f * (t - t0);
-        gl = col->level_gph_m;
         if (col->n_lo <= gl && gl <= col->n_hi && col->n_h == col->n_h) {
             /* one Newton step from the node quadratic (a few mm off) */
             TG_FLOAT d = gl - col->n_g;
-            col->level_height_m = tg__potential_newton_step(gl, col->n_h + d * (col->n_k1 + d * col->n_k2),
-                                                       col->pc, col->ellipsoid->a_m);
+            col->level_height_m = tg__potential_newton_step(
+                gl, col->n_h + d * (col->n_k1 + d * col->n_k2), col->pc, col->a_m);
         } else if (GPH_MIN_M <= gl && gl <= GPH_MAX_M) {
-            col->level_height_m = tg__potential_height_series(gl, col->pc, col->ellipsoid->a_m);
+            col->level_height_m = tg__potential_height_series(gl, col->pc, col->a_m);
         } else {
             col->level_height_m = NAN_;
         }
@@ -399,14 +933,14 @@ static int levels(tg_column *col, TG_FLOAT p0, TG_FLOAT p, TG_FLOAT g0, TG_FLOAT
     return bits;
 }
 
-/* Column._tropopause: one new envelope point, O(1) search */
-static int tropopause(tg_column *col, TG_FLOAT g, TG_FLOAT t, TG_FLOAT p)
+/* Column._tropopause: one new point of the averaged profile; O(1) search */
+static int tropopause(tg_column *col, TG_FLOAT g, TG_FLOAT t, TG_FLOAT p, const tg_rec *r)
 {
-    int st = col->tp_state;
-    TG_FLOAT th;
-    if (st == 3 || (st == 0 && p > col->tropopause_max_p_pa))
-        return 0;
-    th = t + WMO_LAPSE_K_PER_GPM * g;
+    TG_FLOAT th = t + WMO_LAPSE_K_GPM * g;
+    TG_FLOAT below = col->tb_th;      /* theta of the point before (nan: none) */
+    int32_t st;
+    col->tb_th = th;
+    st = col->tp_state;
     if (st != 0) {
         if (g > col->tp_top) {
             if (st == 2 || th >= col->tp_th) {
@@ -414,6 +948,7 @@ static int tropopause(tg_column *col, TG_FLOAT g, TG_FLOAT t, TG_FLOAT p)
                 col->tropopause_p_pa = col->tp_p;
                 col->tropopause_gph_m = col->tp_g;
                 col->tropopause_t_k = col->tp_t;
+                col->tropopause_time_s = clock_s(col, col->tp_clk, r);
                 return TG_EV_TROPOPAUSE;
             }
         } else if (th >= col->tp_th) {
@@ -421,422 +956,499 @@ static int tropopause(tg_column *col, TG_FLOAT g, TG_FLOAT t, TG_FLOAT p)
             return 0;
         }
     }
-    /* no candidate, or it was just rejected by this point: this point is the next one */
-    if (p <= col->tropopause_max_p_pa) {
+    /* no candidate, or it was just rejected by this point: this point is the
+     * next one if the lapse rate decreases to 2 K/km here (theta falls to it) */
+    if (p <= col->tropopause_max_p_pa && below > th) {
+        tg_time c0;
         col->tp_state = 1;
         col->tp_g = g;
         col->tp_top = g + WMO_DEPTH_GPM;
         col->tp_th = th;
         col->tp_p = p;
         col->tp_t = t;
+        /* the middle of the layer's clock span */
+        c0 = col->tb_c0;
+        col->tp_clk = c0 + (col->tb_c1 - c0) / 2;
     } else {
         col->tp_state = 0;
     }
     return 0;
 }
 
-/* Column._bad: count the rejection, keep everything else */
-static tg_status bad(tg_column *col, tg_reason reason, int *bits)
+/* Column._layer_point: the tropopause search's profile, the confirmed ascent
+ * readings averaged over layers of tropopause_layer_gpm */
+static int layer_point(tg_column *col, const tg_rec *r, TG_FLOAT g, TG_FLOAT t, tg_time clk)
 {
-    if (col->rejected < INT32_MAX)   /* saturates (Python's int grows on) */
-        col->rejected += 1;
-    col->reason = reason;
-    *bits = 0;
-    return TG_READING;
+    int bits = 0;
+    if (g >= col->tb_top && col->tb_n) {
+        TG_FLOAT gm = (col->tb_g0 + col->tb_g1) / TG_L(2.0);
+        TG_FLOAT tm = col->tb_st / (TG_FLOAT)col->tb_n;
+        /* the pressure at gm, from this reading's (hypsometric, with its Tv) */
+        TG_FLOAT pm = r->p_pa * TG_EXP((g - gm) / (TG_L(2.0) * HALF_RG * r->tv_k));
+        TG_FLOAT top;
+        bits = tropopause(col, gm, tm, pm, r);
+        top = col->tb_top + col->tropopause_layer_gpm;
+        if (g >= top)
+            top = g + col->tropopause_layer_gpm;
+        col->tb_top = top;
+        col->tb_n = 0;
+        col->tb_st = TG_L(0.0);
+    }
+    if (col->tb_n == 0) {
+        col->tb_g0 = g;
+        col->tb_c0 = clk;
+    }
+    if (col->tb_n < INT32_MAX)   /* Python's int grows on (see the file comment) */
+        col->tb_n += 1;
+    col->tb_st += t;
+    col->tb_g1 = g;
+    col->tb_c1 = clk;
+    return bits;
 }
 
-/* the temperature-step check of Column.feed (written out there): the full allowance, only for a change
- * beyond max_t_step_k; 1 if the step exceeds it (Python: _bad('temperature')) */
-static int t_jump(const tg_column *col, TG_FLOAT dtk, TG_FLOAT dz, TG_FLOAT ts)
+/* Column._confirm: record r is final: the height track, then the events it
+ * causes, on the sequence of confirmed readings. The clock of events is r's
+ * time stamp as given, or without time the count of confirmed readings. */
+static int confirm(tg_column *col, const tg_rec *r)
 {
-    TG_FLOAT allow = col->t_step + col->max_t_gradient_k_m * TG_FABS(dz);
-    if (ts == ts && col->t_last == col->t_last)
-        allow += col->max_t_rate_k_s * (ts - col->t_last);
-    return TG_FABS(dtk) > allow;
-}
-
-/* ------------------------------------------------------------------ feed */
-tg_status tg_column_feed(tg_column *col, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_FLOAT *rh_pct,
-                         const TG_FLOAT *time_s, const TG_FLOAT *gps_m, int *bits_out)
-{
-    TG_FLOAT p, t, rh = TG_L(0.0), ts = TG_L(0.0), gps = TG_L(0.0);
-    TG_FLOAT tv, slope, w, t0, p0, tv0, s, c, dz, a, tm2, g, rate, d, h, dtk, time0;
-    nodes_t nd;
-    int flags, first, bits, ph, new_nodes;
-
-    /* ---- 1. check the values (nothing is written before step 3) */
-    p = p_pa;
-    if (!isfinite(p))
-        return bad(col, TG_REASON_NUMBER, bits_out);
-    if (!(P_MIN_PA <= p && p <= P_MAX_PA))
-        return bad(col, TG_REASON_PRESSURE, bits_out);
-    t = t_k;
-    if (!isfinite(t))
-        return bad(col, TG_REASON_NUMBER, bits_out);
-    if (!(T_MIN_K <= t && t <= T_MAX_K))
-        return bad(col, TG_REASON_TEMPERATURE, bits_out);
-    if (rh_pct != NULL) {
-        rh = *rh_pct;
-        if (!isfinite(rh))
-            return bad(col, TG_REASON_NUMBER, bits_out);
-        if (rh < TG_L(0.0) || rh > TG_L(100.0)) {
-            TG_FLOAT tol = col->rh_tol_pct;
-            if (rh < -tol || rh > TG_L(100.0) + tol)
-                return bad(col, TG_REASON_HUMIDITY, bits_out);
-        }
-    }
-    if (time_s != NULL) {
-        ts = *time_s;
-        if (!isfinite(ts))
-            return bad(col, TG_REASON_NUMBER, bits_out);
-        if (ts < col->t_last)
-            return bad(col, TG_REASON_TIME, bits_out);
-    }
-    if (gps_m != NULL) {
-        gps = *gps_m;
-        if (!isfinite(gps))
-            return bad(col, TG_REASON_NUMBER, bits_out);
-        if (col->geoid_n == col->geoid_n) {   /* an ellipsoidal height: msl_height(gps, N) */
-            if (tg_msl_height(gps, col->geoid_n, &gps) != TG_OK)
-                return bad(col, TG_REASON_GPS, bits_out);
-        }
-        if (!(GPS_MIN_M <= gps && gps <= GPS_MAX_M))
-            return bad(col, TG_REASON_GPS, bits_out);
-    }
-
-    /* ---- 2. compute the new state in locals */
-    flags = 0;
-    first = col->count == 0;
-    if (rh_pct != NULL) {
-        /* tinygeo.virtual_temperature (its moisture.tv_rh, inlined to share q):
-         * Tv = T/(1 - r), r = (1 - eps) e/p = rh q, and dTv/dRH = Tv q */
-        TG_FLOAT q = tg__moisture_rh_q(t, p, col->ice);
-        TG_FLOAT r = rh * q;
-        if (r >= ONE_M_EPS)
-            return bad(col, TG_REASON_HUMIDITY, bits_out);
-        tv = t / (TG_L(1.0) - r);
-        if (rh >= RH_SLOPE_MIN)
-            slope = tv * q;
-        else
-            slope = col->slope;
-        w = NAN_;
-    } else {
-        slope = col->slope;
-        w = col->w_held;
-        if (col->dry_fallback || col->h_p != col->h_p) {
-            tv = t;
-            flags = TG_FL_DRY;
-        } else {
-            if (w != w) {
-                /* a RangeError of vapour_pressure/mixing_ratio (the knife
-                 * edge e >= p) is a 'humidity' rejection, as in Python */
-                if (held_mixing_ratio(col, &w) != TG_OK)
-                    return bad(col, TG_REASON_HUMIDITY, bits_out);
-            }
-            if (w > TG_L(1.0))
-                return bad(col, TG_REASON_HUMIDITY, bits_out);
-            tv = tg__moisture_tv_w(t, w);   /* tinygeo.virtual_temperature_from_mixing_ratio */
-            flags = TG_FL_HELD_MIXING;
-        }
-    }
-    t0 = col->t_k;
-    if (first) {
-        p0 = col->anchor;
-        tv0 = tv;
-        s = tg__potential_gph_series(col->start_height_m, col->pc, col->ellipsoid->a_m);
-        c = TG_L(0.0);
-    } else {
-        p0 = col->p_pa;
-        tv0 = col->tv_k;
-        s = col->gph_m;
-        c = col->c;
-    }
-    if (p0 != p0 || p == p0) {   /* first reading without anchor, or a repeated pressure */
-        dz = TG_L(0.0);
-        a = TG_L(0.0);
-        tm2 = tv0 + tv;
-        if (!first)
-            flags |= TG_FL_SAME_P;
-        g = s;
-    } else {
-        TG_FLOAT y;
-        if (!(T_MIN_K <= tv && tv <= T_MAX_K && T_MIN_K <= tv0 && tv0 <= T_MAX_K))
-            return bad(col, TG_REASON_TEMPERATURE, bits_out);   /* layer_thickness's RangeError */
-        /* tinygeo.layer_thickness (arguments checked above), as its two products */
-        a = tg__layers_half_k_ln(p0, p);   /* (Rd/g0)/2 ln(p0/p): also dz/dTv of either end */
-        tm2 = tv0 + tv;
-        dz = a * tm2;
-        if (p > p0)
-            flags |= TG_FL_DESCENT;
-        /* classic Kahan step: c carries the part of the sum lost so far */
-        y = dz - c;
-        g = s + y;
-        c = (g - s) - y;
-    }
-    /* temperature step (see max_t_step_k); a NaN t0 (first reading) passes */
-    dtk = t - t0;
-    if (dtk > col->t_step || dtk < col->t_step_neg) {
-        if (t_jump(col, dtk, dz, time_s != NULL ? ts : NAN_))
-            return bad(col, TG_REASON_TEMPERATURE, bits_out);
-    }
-    /* geometric height from the node pair (new nodes are kept in locals until the commit) */
-    if (col->n_lo <= g && g <= col->n_hi) {
-        new_nodes = 0;
-        d = g - col->n_g;
-        h = col->n_h + d * (col->n_k1 + d * col->n_k2);
-    } else {
-        TG_FLOAT guess = NAN_;
-        d = g - col->n_g;
-        if (-NODE_W2 <= d && d <= NODE_W2) {
-            /* just out of the window: the old quadratic is within a few mm */
-            guess = col->n_h + d * (col->n_k1 + d * col->n_k2);
-        }
-        nodes(col, g, guess, &nd);
-        new_nodes = 1;
-        d = g - nd.g;
-        h = nd.h + d * (nd.k1 + d * nd.k2);
-    }
-    if (time_s == NULL) {
-        flags |= TG_FL_NO_TIME;
-        rate = NAN_;
-    } else if (col->t_last == col->t_last) {
-        TG_FLOAT dt = ts - col->t_last;
-        if (dt == TG_L(0.0)) {
-            if (g != col->g_t)
-                return bad(col, TG_REASON_TIME, bits_out);
-            rate = NAN_;     /* a duplicate: the rate stays as it was */
-        } else {
-            rate = (h - col->h_tm) / dt;
-            if (rate > col->max_rate || rate < col->min_rate)
-                return bad(col, TG_REASON_RATE, bits_out);
-        }
-    } else {
-        rate = NAN_;
-    }
-
-    /* ---- 3. commit (nothing fails from here on) */
-    time0 = col->time_s;   /* the previous reading's time (for the peak, below) */
-    if (col->count < INT32_MAX)   /* saturates after 2^31 - 1 readings (Python's int grows on) */
-        col->count += 1;
-    col->p_pa = p;
-    col->t_k = t;
-    col->tv_k = tv;
-    col->gph_m = g;
-    col->c = c;
-    col->flags = flags;
-    if (rh_pct == NULL) {
-        col->rh_pct = NAN_;
-        col->w_held = w;
-    } else {
-        col->rh_pct = rh;
-        col->h_t = t;
-        col->h_p = p;
-        col->h_rh = rh;
-        col->w_held = NAN_;
-    }
-    if (new_nodes)
-        set_nodes(col, &nd);
-    col->height_m = h;
-    if (time_s == NULL) {
-        col->time_s = NAN_;
-        col->rate_m_s = NAN_;
-    } else {
-        col->time_s = ts;
-        if (rate == rate)
-            col->rate_m_s = rate;
-        else if (ts != col->t_last)
-            col->rate_m_s = NAN_;
-        col->t_last = ts;
-        col->g_t = g;
-        col->h_tm = h;
-    }
-    if (gps_m != NULL) {
-        col->gps_m = gps;
-        col->gps_diff_m = h - gps;
-        col->gps_n = col->count;
-    }
-    if (col->track_sigma)
-        sigma_step(col, first, p0, p, tm2, a, slope);
-    col->slope = slope;
-
-    /* ---- 4. events */
-    bits = 0;
-    ph = col->phase;
-    if (first) {
-        int lvl;
-        col->max_gph_m = g;
-        col->env_g = g;
-        col->max_time = col->time_s;
+    TG_FLOAT g = r->gph_m, t = r->t_k, p = r->p_pa;
+    tg_time clk = r->tsr;
+    int bits = 0;
+    if (clk != clk)
+        clk = (tg_time)col->e_n;
+    if (col->e_n == 0) {
+        int32_t lvl;
+        col->smooth_gph_m = g;
+        col->f_v = TG_L(0.0);
+        col->max_gph_m = col->min_g = g;
+        col->launch_line = NAN_;
+        col->max_clk = clk;
         col->max_p = p;
-        col->min_gph = g;
-        col->launch_gph = g + col->launch_m;
-        bits |= tropopause(col, g, t, p);
+        col->tb_top = g + col->tropopause_layer_gpm;
         lvl = 0;
         while (lvl < 16 && MANDATORY_PA[lvl] > p)
             lvl += 1;
         col->lvl = lvl;
         if (lvl < 16 && MANDATORY_PA[lvl] == p)
-            bits |= levels(col, p, p, g, g, t, t);
+            bits = levels(col, p, p, g, g, t, t);
+        layer_point(col, r, g, t, clk);
     } else {
-        TG_FLOAT pk;
-        if (ph < TG_PH_DESCENT) {
+        int32_t ph;
+        TG_FLOAT dt = r->dt;
+        if (dt != dt)
+            dt = r->tsr != r->tsr ? TG_L(1.0) : TG_L(0.0);
+        if (dt > TG_L(0.0))
+            track(col, g, dt);
+        ph = col->phase;
+        if (ph <= TG_PH_FLOAT) {
             if (col->lvl < 16 && MANDATORY_PA[col->lvl] >= p)
-                bits |= levels(col, p0, p, s, g, t0, t);
-            if (g > col->env_g)
-                bits |= tropopause(col, g, t, p);
+                bits = levels(col, col->e_p, p, col->e_g, g, col->e_t, t);
+            if (col->tp_state != 3)
+                bits |= layer_point(col, r, g, t, clk);
         }
-        if (g > col->env_g)
-            col->env_g = g;
-        /* the peak is the higher of the lower ends of consecutive pairs: one
-         * glitched reading is never the peak (column.py explains) */
-        pk = s < g ? s : g;
-        if (pk > col->max_gph_m) {
-            col->max_gph_m = pk;
-            if (s < g) {
-                col->max_time = time0;
-                col->max_p = p0;
-            } else {
-                col->max_time = col->time_s;
-                col->max_p = p;
-            }
-            col->burst_line = pk - col->burst_drop_m;
-            col->burst_n = 0;
-        }
-        if (ph == TG_PH_WAIT) {
-            if (g < col->min_gph) {
-                col->min_gph = g;
-                col->launch_gph = g + col->launch_m;
-            } else if (g >= col->launch_gph) {
-                col->phase = TG_PH_ASCENT;
-                col->launch_time_s = col->time_s;
-                col->burst_line = col->max_gph_m - col->burst_drop_m;
-                col->burst_n = 0;
-                bits |= TG_EV_LAUNCH;
-            }
-        } else if (ph == TG_PH_ASCENT) {
-            if (g <= col->burst_line) {
-                if (col->burst_n < col->burst_readings)   /* the same test below; no overflow
-                                                            * from a crafted checkpoint */
-                    col->burst_n += 1;
-                if (col->burst_n >= col->burst_readings) {
-                    col->phase = TG_PH_DESCENT;
-                    col->burst_gph_m = col->max_gph_m;
-                    col->burst_time_s = col->max_time;
-                    col->burst_p_pa = col->max_p;
-                    bits |= TG_EV_BURST;
-                }
-            } else {
-                col->burst_n = 0;
-            }
-        } else if (ph == TG_PH_DESCENT && time_s != NULL) {
-            if (col->land_lo <= p && p <= col->land_hi) {
-                if (ts - col->land_t >= col->landing_s) {
-                    col->phase = TG_PH_LANDED;
-                    bits |= TG_EV_LANDED;
-                }
-            } else {   /* a new reference reading */
-                col->land_lo = p - col->landing_tol_pa;
-                col->land_hi = p + col->landing_tol_pa;
-                col->land_t = ts;
-            }
-        }
+        bits |= phase(col, r, ph, g, p, clk);
     }
+    col->e_p = p;
+    col->e_g = g;
+    col->e_t = t;
+    if (col->e_n < COUNT_MAX)
+        col->e_n += 1;
+    return bits;
+}
+
+/* ------------------------------------------------------------ 3. commit */
+/* Column._tell */
+static int tell(tg_column *col, int bits)
+{
     if (bits && col->on_event != NULL)
         col->on_event(col, bits, col->on_event_ctx);
-    *bits_out = bits;
+    return bits;
+}
+
+/* Column._accept: bookkeeping of a new latest reading: its height node, the
+ * counter, the recovery memory cleared */
+static void accept(tg_column *col, tg_rec *n, int counted)
+{
+    if (n->has_nodes) {
+        col->n_g = n->nodes.g;
+        col->n_h = n->nodes.h;
+        col->n_k1 = n->nodes.k1;
+        col->n_k2 = n->nodes.k2;
+        col->n_lo = n->nodes.lo;
+        col->n_hi = n->nodes.hi;
+        n->has_nodes = 0;
+    }
+    if (counted && col->count < COUNT_MAX)
+        col->count += 1;
+    col->run = col->run_b = 0;
+}
+
+/* Column._advance: n is accepted on top of the latest reading, which is now
+ * final: its events, then the records move on, nothing copied */
+static int advance(tg_column *col)
+{
+    unsigned char n = col->n;
+    int bits = 0;
+    if (col->count) {
+        bits = confirm(col, H(col));
+        col->has_b = 1;
+    }
+    col->n = col->b;
+    col->b = col->h;
+    col->h = n;
+    accept(col, &col->rec[n], 1);
+    return tell(col, bits);
+}
+
+/* ------------------------------------------------------------ 4. recover */
+/* Column._refuse: the rejection of the contradiction in col->why */
+static int refuse(tg_column *col)
+{
+    tg_reason w = col->why;
+    col->why = TG_REASON_NONE;
+    if (w == TG_REASON_NONE)    /* not reached: every contradiction sets its reason */
+        w = TG_REASON_RATE;
+    return bad(col, w);
+}
+
+/* Column._fit: how well reading r (computed on top of record a) fits a: the
+ * largest share of its allowance that the temperature step and the height
+ * change use (<= 1 when r agrees with a); only on the recovery path. (An
+ * allowance of 0, possible with max_t_step_k = sigma_t_k = 0 and the other
+ * temperature settings 0, divides by zero: Python raises ZeroDivisionError
+ * there, C gives NaN or inf: see README.md.) */
+static TG_FLOAT fit(const tg_column *col, const tg_rec *a, const tg_rec *r)
+{
+    TG_FLOAT f = TG_L(0.0), dt = r->dt, allow, q;
+    if (col->t_lim == col->t_lim) {
+        allow = col->t_lim + col->max_t_gradient_k_gpm * TG_FABS(r->gph_m - a->gph_m);
+        if (dt == dt)
+            allow += col->max_t_rate_k_s * dt;
+        f = TG_FABS(r->t_k - a->t_k) / allow;
+    }
+    if (dt == dt && dt > TG_L(0.0) && a->h_tm == a->h_tm && col->max_rate == col->max_rate) {
+        q = TG_FABS(r->height_m - a->h_tm) / (col->max_rate * dt + col->kn * r->tv_k / r->p_pa);
+        if (q > f)
+            f = q;
+    }
+    return f;
+}
+
+/* the reading of record n into scratch record x (Column._recover's copies) */
+static void copy_reading(tg_rec *x, const tg_rec *n)
+{
+    x->p_pa = n->p_pa;
+    x->t_k = n->t_k;
+    x->rh_pct = n->rh_pct;
+    x->tsr = n->tsr;
+    x->gps_given = n->gps_given;
+    x->gpsr = n->gpsr;
+    x->q = n->q;
+}
+
+/* Column._recover: n contradicts the latest reading (ok 0; col->why says
+ * how), or a run of readings that contradicted it is under way. Returns the
+ * event bits, or -1 after bad() (the reading is rejected). */
+static int recover(tg_column *col, tg_rec *n, int ok)
+{
+    tg_reason why_h = col->why;   /* how n contradicts the latest reading (when not ok) */
+    tg_rec *m = &col->rec[col->m];
+    tg_rec *k = &col->rec[col->k];
+    tg_rec *cr, *nw;
+    unsigned char cr_i, new_i, old_h, old_b;
+    int agree_b, in_run, w, bits;
+    /* the reading, into the second scratch record */
+    copy_reading(m, n);
+    agree_b = 0;
+    if (col->has_b) {
+        w = compute(col, B(col), m);
+        if (w < 0)
+            return -1;
+        agree_b = w == 0;
+    }
+    /* does n agree with the run's latest reading? (computed on top of it) */
+    copy_reading(k, n);
+    cr_i = col->cr;
+    cr = &col->rec[cr_i];
+    in_run = 0;
+    if (col->run) {
+        w = compute(col, cr, k);
+        if (w < 0)
+            return -1;
+        in_run = w == 0;
+    }
+    if (agree_b && col->run_b && in_run && (!ok || fit(col, B(col), m) < fit(col, H(col), n))) {
+        /* two readings in a row agree with each other and with the reading
+         * before the latest one, the first contradicted the latest and the
+         * second contradicts it too or fits the one before better: the
+         * latest was the bad one; go on from the one before */
+        unsigned char mi = col->m;
+        sigma(col, B(col), m);
+        col->m = col->h;
+        col->h = mi;
+        m->flags |= TG_FL_REPLACED;
+        inc_rejected(col);
+        if (col->retracted < COUNT_MAX)
+            col->retracted += 1;
+        accept(col, m, 0);
+        return 0;
+    }
+    if (in_run && (!ok || !col->has_b || col->run >= 2)) {
+        /* the run goes on: n agrees with it, and contradicts the latest
+         * reading, or the latest is the first one (not confirmed yet), or
+         * the run already has two readings that agree with each other */
+        sigma(col, cr, k);
+        new_i = col->k;
+        col->run += 1;
+    } else if (ok) {
+        sigma(col, H(col), n);
+        return advance(col);
+    } else {
+        /* a new run: on top of the latest reading, or, when nothing is
+         * confirmed yet (the first reading may be the bad one), afresh
+         * from the start height */
+        col->run_why = why_h;
+        if (col->has_b) {
+            sigma(col, H(col), n);
+            new_i = col->n;
+        } else {
+            if (compute(col, NULL, k) < 0)
+                return -1;
+            sigma(col, NULL, k);
+            new_i = col->k;
+        }
+        col->run = 1;
+        col->run_b = 0;
+    }
+    if (agree_b)
+        col->run_b += 1;
+    else
+        col->run_b = 0;
+    /* new becomes the run's latest reading; its slot takes the old one */
+    col->cr = new_i;
+    if (new_i == col->k)
+        col->k = cr_i;
+    else
+        col->n = cr_i;
+    if (col->run < col->takeover_readings) {
+        col->why = col->run_why;
+        return refuse(col);
+    }
+    /* takeover: the run's latest reading becomes the latest, the one before
+     * it (cr) the one before; the old pair becomes scratch */
+    nw = &col->rec[new_i];
+    old_h = col->h;
+    old_b = col->b;
+    col->h = new_i;
+    col->b = cr_i;
+    col->cr = old_h;
+    if (col->n == cr_i)
+        col->n = old_b;
+    else
+        col->k = old_b;
+    nw->flags |= TG_FL_TAKEOVER;
+    if (col->has_b) {
+        /* the run's readings join the column's (they were rejected when
+         * they came and count in both) */
+        int32_t c = col->count + col->run;     /* both <= COUNT_MAX: no overflow */
+        col->count = c < COUNT_MAX ? c : COUNT_MAX;
+    } else {
+        /* restart: the column forgets its first reading (never confirmed)
+         * and starts from the run's first reading */
+        reset_events(col);
+        col->count = col->run;
+        inc_rejected(col);
+    }
+    bits = confirm(col, cr);
+    col->has_b = 1;
+    accept(col, nw, 0);
+    return tell(col, bits);
+}
+
+/* ------------------------------------------------------------------ feed */
+/* Column.feed */
+tg_status tg_column_feed(tg_column *col, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_FLOAT *rh_pct,
+                         tg_time time_s, const TG_FLOAT *gps_m, int *bits)
+{
+    tg_rec *n = &col->rec[col->n];
+    int k, ok;
+    *bits = 0;
+    if (check(col, n, p_pa, t_k, rh_pct, time_s, gps_m) < 0)   /* 1. the values on their own */
+        return TG_READING;
+    if (col->count == 0) {                                      /* 2. the first reading: the start */
+        if (compute(col, NULL, n) < 0)
+            return TG_READING;
+        sigma(col, NULL, n);
+        *bits = advance(col);
+        return TG_OK;
+    }
+    k = compute(col, H(col), n);                                /* 3. on top of the latest reading */
+    if (k < 0)
+        return TG_READING;
+    ok = k == 0;
+    if (ok && !col->run) {
+        sigma(col, H(col), n);
+        *bits = advance(col);
+        return TG_OK;
+    }
+    k = recover(col, n, ok);                                    /* 4. or: look-back, recovery */
+    if (k < 0)
+        return TG_READING;
+    *bits = k;
     return TG_OK;
 }
 
-/* ------------------------------------------------------------ uncertainty */
-static TG_FLOAT bias_var(const tg_column *col)
+/* ------------------------------------------------------------ the latest reading */
+TG_FLOAT tg_column_p_pa(const tg_column *col) { return H(col)->p_pa; }
+TG_FLOAT tg_column_t_k(const tg_column *col) { return H(col)->t_k; }
+TG_FLOAT tg_column_tv_k(const tg_column *col) { return H(col)->tv_k; }
+TG_FLOAT tg_column_rh_pct(const tg_column *col) { return H(col)->rh_pct; }
+TG_FLOAT tg_column_time_s(const tg_column *col) { return rel(col, H(col)->tsr, H(col)); }
+tg_time tg_column_time_origin(const tg_column *col) { return H(col)->t0; }
+TG_FLOAT tg_column_gph_m(const tg_column *col) { return H(col)->gph_m; }
+TG_FLOAT tg_column_height_m(const tg_column *col) { return H(col)->height_m; }
+TG_FLOAT tg_column_rate_m_s(const tg_column *col) { return H(col)->rdh / H(col)->rdt; }
+int32_t tg_column_flags(const tg_column *col) { return H(col)->flags; }
+TG_FLOAT tg_column_gps_m(const tg_column *col) { return H(col)->gps_m; }
+TG_FLOAT tg_column_gps_diff_m(const tg_column *col) { return H(col)->gps_diff_m; }
+
+/* Column.noise_gph_m: (Rd/g0) Tv sigma_p_pa / p */
+TG_FLOAT tg_column_noise_gph_m(const tg_column *col)
 {
-    /* (Rd/g0) ln(p0/p) dT: the sum of dz/dTv over all readings telescopes */
-    TG_FLOAT bt = TG_L(2.0) * tg__layers_half_k_ln(col->p_start, col->p_pa) * col->bias_t_k;
-    TG_FLOAT bh = (col->sum_rh + col->ct * col->slope) * col->bias_rh_pct;
-    TG_FLOAT bp = KH * (col->sum_p - col->tm2 / col->p_pa) * col->bias_p_pa;
-    return bt * bt + bh * bh + bp * bp + col->var_anchor;
+    const tg_rec *r = H(col);
+    return col->kz * r->tv_k / r->p_pa;
 }
 
+/* Column.smooth_rate_gpm_s */
+TG_FLOAT tg_column_smooth_rate_gpm_s(const tg_column *col)
+{
+    if (col->f_dt != col->f_dt)
+        return col->f_v;
+    return col->f_v / col->f_dt;
+}
+
+/* ------------------------------------------------------------ uncertainty */
+/* Column._bias2: the systematic variance (see "Uncertainty") */
+static TG_FLOAT bias2(const tg_column *col)
+{
+    const tg_rec *r = H(col);
+    /* (Rd/g0) ln(p0/p) dT: the sum of dz/dTv over all readings telescopes */
+    TG_FLOAT bt = TG_L(2.0) * tg__layers_half_k_ln(r->p_start, r->p_pa) * col->bias_t_k;
+    TG_FLOAT bh = (r->sum_rh + r->ct * r->slope) * col->bias_rh_pct;
+    TG_FLOAT bp = HALF_RG * (r->sum_p - r->tm2 / r->p_pa) * col->bias_p_pa;
+    TG_FLOAT bw = r->sum_hum + r->ct * r->tvh;
+    return bt * bt + bh * bh + bp * bp + bw * bw + col->var_anchor;
+}
+
+/* Column.sigma_random_m */
 TG_FLOAT tg_column_sigma_random_m(const tg_column *col)
 {
-    TG_FLOAT x, v;
+    const tg_rec *r;
+    TG_FLOAT x;
     if (col->count == 0 || !col->track_sigma)
         return NAN_;
-    x = col->tm2 / col->p_pa;          /* -dz/dp at the latest reading, over K/2 */
-    v = col->var_done + col->ct * col->ct * col->s2 + x * x * col->spk2;
-    return TG_SQRT(v);
+    r = H(col);
+    x = r->tm2 / r->p_pa;            /* -dz/dp at the latest reading, over K/2 */
+    return TG_SQRT(r->var_done + r->ct * r->ct * r->s2 + (r->var_p + x * x) * col->spk2);
 }
 
+/* Column.sigma_bias_m */
 TG_FLOAT tg_column_sigma_bias_m(const tg_column *col)
 {
     if (col->count == 0 || !col->track_sigma)
         return NAN_;
-    return TG_SQRT(bias_var(col));
+    return TG_SQRT(bias2(col));
 }
 
+/* Column.sigma_m */
 TG_FLOAT tg_column_sigma_m(const tg_column *col)
 {
     TG_FLOAT r = tg_column_sigma_random_m(col);
-    return TG_SQRT(r * r + bias_var(col));
+    if (r != r)
+        return r;
+    return TG_SQRT(r * r + bias2(col));
 }
 
 /* ------------------------------------------------------------ GPS */
-/* _column_rare.reanchor_gps */
+/* Column.reanchor_gps */
 tg_status tg_column_reanchor_gps(tg_column *col, TG_FLOAT sigma_gps_m, TG_FLOAT *out)
 {
-    TG_FLOAT sg, target, d, old_h;
-    nodes_t nd;
-    if (col->count == 0 || col->gps_n != col->count)
+    tg_rec *h = H(col), *b = B(col);
+    tg_rec *rs[2];
+    TG_FLOAT sg, target, d, old_h, shift;
+    tg_nodes nd;
+    int i;
+    if (col->count == 0 || !h->gps_here)
         return tg__fail(TG_STATE, out);
     TG_TRY(tg__check_range(sigma_gps_m, TG_L(0.0), TG_L(10000.0), TG_RANGE));
     sg = sigma_gps_m;
-    target = tg__potential_gph_series(col->gps_m, col->pc, col->ellipsoid->a_m);
-    d = target - col->gph_m;
-    old_h = col->height_m;
-    col->gph_m = target;
-    col->c = TG_L(0.0);
+    target = tg__potential_gph_series(h->gps_m, col->pc, col->a_m);
+    d = target - h->gph_m;
+    old_h = h->height_m;
+    nodes(col, target, NAN_, &nd);
+    col->n_g = nd.g;
+    col->n_h = nd.h;
+    col->n_k1 = nd.k1;
+    col->n_k2 = nd.k2;
+    col->n_lo = nd.lo;
+    col->n_hi = nd.hi;
+    h->height_m = nd.h;
+    shift = h->height_m - old_h;
+    rs[0] = h;
+    rs[1] = b;
+    for (i = 0; i < 2; i++) {
+        tg_rec *r = rs[i];
+        r->gph_m = r->gph_m + d;
+        r->g_t = r->g_t + d;
+        r->h_tm = r->h_tm + shift;
+        r->c = TG_L(0.0);
+    }
+    b->height_m = b->height_m + shift;
+    h->gps_diff_m = h->height_m - h->gps_m;
+    col->smooth_gph_m = col->smooth_gph_m + d;
     col->max_gph_m = col->max_gph_m + d;
-    col->g_t = col->g_t + d;
-    col->min_gph = col->min_gph + d;
-    col->launch_gph = col->launch_gph + d;
-    col->burst_line = col->burst_line + d;
+    col->min_g = col->min_g + d;
+    col->launch_line = col->launch_line + d;
+    col->fl_g = col->fl_g + d;
+    col->fl_lo = col->fl_lo + d;
+    col->fl_hi = col->fl_hi + d;
+    col->land_lo = col->land_lo + d;
+    col->land_hi = col->land_hi + d;
+    col->e_g = col->e_g + d;
+    col->tb_top = col->tb_top + d;
+    col->tb_g0 = col->tb_g0 + d;
+    col->tb_g1 = col->tb_g1 + d;
     col->tp_g = col->tp_g + d;
     col->tp_top = col->tp_top + d;
-    col->env_g = col->env_g + d;
-    col->tp_th = col->tp_th + WMO_LAPSE_K_PER_GPM * d;
-    nodes(col, target, NAN_, &nd);
-    set_nodes(col, &nd);
-    col->height_m = col->n_h;
-    col->h_tm = col->h_tm + (col->height_m - old_h);
-    col->gps_diff_m = col->height_m - col->gps_m;
+    col->tb_th = col->tb_th + WMO_LAPSE_K_GPM * d;
+    col->tp_th = col->tp_th + WMO_LAPSE_K_GPM * d;
     /* uncertainty restarts here: the reading is the new (noisy) start */
-    col->var_done = TG_L(0.0);
-    col->ct = TG_L(0.0);
-    col->tm2 = TG_L(0.0);
-    col->p_start = col->p_pa;
-    col->sum_rh = TG_L(0.0);
-    col->sum_p = TG_L(0.0);
+    h->var_done = h->var_p = h->ct = h->tm2 = h->sum_rh = h->sum_p = h->sum_hum = TG_L(0.0);
+    h->p_start = h->p_pa;
     col->var_anchor = sg * sg;
-    *out = col->height_m - old_h;
+    *out = shift;
     return TG_OK;
 }
 
 /* ------------------------------------------------------------ checkpoint */
-/* Layout of column.py: struct column._HEAD = "<4sBH" (magic, version,
- * payload length), then _column_rare._PAYLOAD = "<" + "d" * (len(_CFG_F) +
- * len(_ST_F)) + "i" * (len(_CFG_I) + len(_ST_I)), then "<I" CRC-32 of
- * everything before it. The field lists come from
- * column.py through tg_tables.h (X-macros), so the order cannot drift. */
+/* The frame of checkpoint.py (checkpoint.HEAD = "<4sBH": magic, version,
+ * payload length; the payload, doubles then int32s; "<I" CRC-32 of everything
+ * before it) with the layout of Column.to_bytes: _CFG_F, _ST_F, t0, _REC_F of
+ * the latest and of the one before; _CFG_I, _ST_I, _REC_I of both. The field
+ * lists come from column.py through tg_tables.h (X-macros), so the order
+ * cannot drift. */
 #define HEAD_LEN 7
-#define PAYLOAD_LEN (8 * (TGPY_COLUMN__CFG_F_N + TGPY_COLUMN__ST_F_N) + 4 * (TGPY_COLUMN__CFG_I_N + TGPY_COLUMN__ST_I_N))
-typedef char tg__head_layout[(sizeof(TGPY_COLUMN__HEAD) == 6 && sizeof(TGPY_COLUMN__MAGIC) == 5) ? 1 : -1];
+#define N_F (TGPY_COLUMN__CFG_F_N + TGPY_COLUMN__ST_F_N + 1 + 2 * TGPY_COLUMN__REC_F_N)
+#define N_I (TGPY_COLUMN__CFG_I_N + TGPY_COLUMN__ST_I_N + 2 * TGPY_COLUMN__REC_I_N)
+#define PAYLOAD_LEN (8 * N_F + 4 * N_I)
+typedef char tg__magic_len[(sizeof(TGPY_COLUMN__MAGIC) == 5) ? 1 : -1];
 /* tinygeo.h states the size; a change of column.py's layout stops the build here */
 typedef char tg__checkpoint_size[(HEAD_LEN + PAYLOAD_LEN + 4 == TG_CHECKPOINT_BYTES) ? 1 : -1];
 typedef char tg__ieee_double[(sizeof(double) == 8 && sizeof(uint64_t) == 8) ? 1 : -1];
 
-/* _column_rare._crc_soft: CRC-32 (IEEE 802.3, reflected polynomial 0xEDB88320, as
- * zlib/binascii), four bits at a time with a 16-entry table */
-static uint32_t crc32_ieee(const unsigned char *data, size_t n)
+/* checkpoint.crc32_soft: CRC-32 (IEEE 802.3, reflected polynomial
+ * 0xEDB88320, as zlib/binascii), four bits at a time with a 16-entry table */
+static uint32_t crc32_soft(const unsigned char *data, size_t n)
 {
     static const uint32_t T[16] = {
         0x00000000u, 0x1db71064u, 0x3b6e20c8u, 0x26d930acu, 0x76dc4190u, 0x6b6b51f4u,
@@ -853,9 +1465,8 @@ static uint32_t crc32_ieee(const unsigned char *data, size_t n)
     return c ^ 0xFFFFFFFFu;
 }
 
-static unsigned char *put_f64(unsigned char *b, TG_FLOAT x)
+static unsigned char *put_f64(unsigned char *b, double d)
 {
-    double d = (double)x;
     uint64_t u;
     int i;
     memcpy(&u, &d, 8);
@@ -864,14 +1475,15 @@ static unsigned char *put_f64(unsigned char *b, TG_FLOAT x)
     return b + 8;
 }
 
-static const unsigned char *get_f64(const unsigned char *b, double *x)
+static double get_f64(const unsigned char *b)
 {
     uint64_t u = 0;
+    double x;
     int i;
     for (i = 7; i >= 0; i--)
         u = (u << 8) | b[i];
-    memcpy(x, &u, 8);
-    return b + 8;
+    memcpy(&x, &u, 8);
+    return x;
 }
 
 /* struct "<I": little-endian uint32 */
@@ -897,120 +1509,303 @@ static unsigned char *put_i32(unsigned char *b, int32_t v)
     return put_u32(b, (uint32_t)v);
 }
 
-static const unsigned char *get_i32(const unsigned char *b, int32_t *v)
+static int32_t get_i32(const unsigned char *b)
 {
     uint32_t u = get_u32(b);
-    *v = u <= 0x7FFFFFFFu ? (int32_t)u : -(int32_t)~u - 1;
-    return b + 4;
+    return u <= 0x7FFFFFFFu ? (int32_t)u : -(int32_t)~u - 1;
 }
 
-/* _column_rare.to_bytes */
-tg_status tg_column_to_bytes(const tg_column *col, unsigned char *buf, size_t size)
+#define TWO32 4294967296.0
+#define TWO62 4611686018427387904.0
+
+/* the names of the layout's lists, as the C members (Python's without the
+ * leading underscore), for the clock test and check_values */
+#define STR(name) #name,
+static const char *const CLK_F_NAMES[] = { TGPY_COLUMN__CLK_F(STR) NULL };
+static const char *const ST_NAMES[] = { TGPY_COLUMN__ST_F(STR) TGPY_COLUMN__ST_I(STR) NULL };
+static const char *const REC_NAMES[] = { TGPY_COLUMN__REC_F(STR) TGPY_COLUMN__REC_I(STR) NULL };
+#undef STR
+
+static int is_clk(const char *name)
+{
+    int i;
+    for (i = 0; CLK_F_NAMES[i] != NULL; i++)
+        if (strcmp(CLK_F_NAMES[i], name) == 0)
+            return 1;
+    return 0;
+}
+
+/* Column.to_bytes (it writes col->t0_int, t0_hi, t0_lo, as Python writes
+ * its _t0_int, _t0_hi, _t0_lo) */
+tg_status tg_column_to_bytes(tg_column *col, unsigned char *buf, size_t size)
 {
     unsigned char *b = buf;
+    const tg_rec *recs[2];
+    double t0 = H(col)->t0, v;
+    int i;
     if (size < TG_CHECKPOINT_BYTES)
         return TG_RANGE;
+    /* the first stamp as two int32 halves when it is an int (C: a whole
+     * number of magnitude below 2^62; deliberate, README.md "Time") */
+    col->t0_int = col->t0_hi = col->t0_lo = 0;
+    if (t0 == t0 && t0 == floor(t0) && -TWO62 < t0 && t0 < TWO62) {
+        double hi = floor(t0 / TWO32);         /* t0 >> 32, exact */
+        double lo = t0 - hi * TWO32;           /* t0 & 0xFFFFFFFF, exact */
+        col->t0_int = 1;
+        col->t0_hi = (int32_t)hi;
+        col->t0_lo = get_i32(put_u32(buf, (uint32_t)lo) - 4);   /* as '<i'; buf is rewritten below */
+    }
     memcpy(b, TGPY_COLUMN__MAGIC, 4);
     b[4] = (unsigned char)TGPY_COLUMN__VERSION;
     b[5] = (unsigned char)(PAYLOAD_LEN & 0xFF);
     b[6] = (unsigned char)(PAYLOAD_LEN >> 8);
     b += HEAD_LEN;
-#define PUT_F(name) b = put_f64(b, col->name);
-#define PUT_I(name) b = put_i32(b, col->name);
+#define PUT_F(name) b = put_f64(b, (double)col->name);
+#define PUT_ST(name) \
+    v = (double)col->name; \
+    if (t0 == t0 && v == v && is_clk(#name)) \
+        v = v - t0; \
+    b = put_f64(b, v);
     TGPY_COLUMN__CFG_F(PUT_F)
-    TGPY_COLUMN__ST_F(PUT_F)
+    TGPY_COLUMN__ST_F(PUT_ST)
+    b = put_f64(b, t0);
+    recs[0] = H(col);
+    recs[1] = B(col);
+    for (i = 0; i < 2; i++) {
+        const tg_rec *r = recs[i];
+#define PUT_R(name) \
+        v = (double)r->name; \
+        if (t0 == t0 && (strcmp(#name, "tsr") == 0 || strcmp(#name, "tr") == 0)) \
+            v = v - t0; \
+        b = put_f64(b, v);
+        TGPY_COLUMN__REC_F(PUT_R)
+#undef PUT_R
+    }
+#define PUT_I(name) b = put_i32(b, col->name);
     TGPY_COLUMN__CFG_I(PUT_I)
     TGPY_COLUMN__ST_I(PUT_I)
+    for (i = 0; i < 2; i++) {
+        const tg_rec *r = recs[i];
+#define PUT_RI(name) b = put_i32(b, r->name);
+        TGPY_COLUMN__REC_I(PUT_RI)
+#undef PUT_RI
+    }
 #undef PUT_F
+#undef PUT_ST
 #undef PUT_I
-    put_u32(b, crc32_ieee(buf, (size_t)(b - buf)));
+    put_u32(b, crc32_soft(buf, (size_t)(b - buf)));
     return TG_OK;
 }
 
-/* the decoded payload, one member per field of the layout */
-#define DECL_D(name) double name;
-#define DECL_L(name) int32_t name;
-struct ck_vals {
-    TGPY_COLUMN__CFG_F(DECL_D)
-    TGPY_COLUMN__ST_F(DECL_D)
-    TGPY_COLUMN__CFG_I(DECL_L)
-    TGPY_COLUMN__ST_I(DECL_L)
-};
-#undef DECL_D
-#undef DECL_L
+/* parse one bound of a check_values spec: "*" (none) or a decimal number
+ * (sign, digits, optional fraction: digits / 10^k, correctly rounded for the
+ * short literals the specs hold); advances *s */
+static int spec_num(const char **s, double *v)
+{
+    const char *p = *s;
+    double mant = 0.0, scale = 1.0;
+    int neg = 0, frac = 0;
+    while (*p == ' ')
+        p++;
+    if (*p == '*') {
+        *s = p + 1;
+        return 0;
+    }
+    if (*p == '-') {
+        neg = 1;
+        p++;
+    }
+    for (; (*p >= '0' && *p <= '9') || *p == '.'; p++) {
+        if (*p == '.') {
+            frac = 1;
+            continue;
+        }
+        mant = mant * 10.0 + (double)(*p - '0');
+        if (frac)
+            scale *= 10.0;
+    }
+    *v = (neg ? -mant : mant) / scale;
+    *s = p;
+    return 1;
+}
 
-/* _column_rare.from_bytes: the same checks in the same order */
+/* checkpoint.check_values: every entry "name lo hi [n]" of spec must hold for
+ * the value of that name (names, vals: the layout's names as C members and
+ * the restored values as doubles). 0 if one fails. */
+static int check_values(const char *spec, const char *const *names, const double *vals)
+{
+    const char *s = spec;
+    while (*s) {
+        char name[40];
+        size_t len = 0;
+        double lo = 0.0, hi = 0.0, v;
+        int has_lo, has_hi, nan_ok = 0, i;
+        while (*s == ' ' || *s == ';')
+            s++;
+        if (*s == '\0')
+            break;
+        if (*s == '_')
+            s++;                      /* the C member has no leading underscore */
+        while (*s && *s != ' ' && len < sizeof name - 1)
+            name[len++] = *s++;
+        name[len] = '\0';
+        has_lo = spec_num(&s, &lo);
+        has_hi = spec_num(&s, &hi);
+        while (*s == ' ')
+            s++;
+        if (*s == 'n') {
+            nan_ok = 1;
+            s++;
+        }
+        for (i = 0; names[i] != NULL && strcmp(names[i], name) != 0; i++)
+            ;
+        if (names[i] == NULL)
+            return 0;                 /* a spec naming no field: never written by column.py */
+        v = vals[i];
+        if (v != v) {
+            if (nan_ok)
+                continue;
+            return 0;
+        }
+        if ((has_lo && v < lo) || (has_hi && v > hi))
+            return 0;
+    }
+    return 1;
+}
+
+/* a restored double into a field of the column: a tg_time (double) field
+ * takes it as it is, a TG_FLOAT field rounded to TG_FLOAT; 0 when a float
+ * build cannot hold it (finite in the blob, infinite as a float: a blob of
+ * another build; Python on a float32 board would refuse it the same way) */
+static int set_num(void *field, size_t size, double v)
+{
+    if (size == sizeof(double)) {
+        memcpy(field, &v, sizeof v);
+    } else {
+        float x = (float)v;
+        if (isinf(x) && !isinf(v))
+            return 0;
+        memcpy(field, &x, sizeof x);
+    }
+    return 1;
+}
+typedef char tg__float_or_double[(sizeof(TG_FLOAT) == sizeof(double) || sizeof(TG_FLOAT) == sizeof(float))
+                                 ? 1 : -1];
+
+/* Column.from_bytes: the same refusals (checkpoint.unpack, check_finite, the
+ * constructor's checks, check_values with _RESTORE_COL and _RESTORE_REC) */
 tg_status tg_column_from_bytes(tg_column *col, const unsigned char *blob, size_t n,
                                tg_column_event_fn on_event, void *on_event_ctx)
 {
-    struct ck_vals v;
+    double f[N_F];
+    int32_t iv[N_I];
+    double st_vals[TGPY_COLUMN__ST_F_N + TGPY_COLUMN__ST_I_N];
+    double rec_vals[2][TGPY_COLUMN__REC_F_N + TGPY_COLUMN__REC_I_N];
     tg_column_config cfg;
     tg_column c;
     const unsigned char *b;
-    uint32_t crc, length;
+    uint32_t length;
+    double t0, v;
+    int i, j, k, r;
     if (blob == NULL || n < HEAD_LEN + 4)
         return TG_CHECKPOINT;                                  /* too short */
     if (memcmp(blob, TGPY_COLUMN__MAGIC, 4) != 0)
-        return TG_CHECKPOINT;                                  /* not a checkpoint */
+        return TG_CHECKPOINT;                                  /* not a column checkpoint */
     if (blob[4] != TGPY_COLUMN__VERSION)
         return TG_CHECKPOINT;                                  /* another version */
     length = (uint32_t)blob[5] | ((uint32_t)blob[6] << 8);
-    if (length != PAYLOAD_LEN || n != TG_CHECKPOINT_BYTES)
+    if (n != TG_CHECKPOINT_BYTES || length != PAYLOAD_LEN)
         return TG_CHECKPOINT;                                  /* truncated or corrupted */
-    crc = get_u32(blob + n - 4);
-    if (crc != crc32_ieee(blob, n - 4))
+    if (get_u32(blob + n - 4) != crc32_soft(blob, n - 4))
         return TG_CHECKPOINT;                                  /* CRC-32 mismatch */
     b = blob + HEAD_LEN;
-#define GET_F(name) b = get_f64(b, &v.name);
-#define GET_I(name) b = get_i32(b, &v.name);
-    TGPY_COLUMN__CFG_F(GET_F)
-    TGPY_COLUMN__ST_F(GET_F)
-    TGPY_COLUMN__CFG_I(GET_I)
-    TGPY_COLUMN__ST_I(GET_I)
-#undef GET_F
-#undef GET_I
-    if (v.ell != 0 && v.ell != 1)
+    for (i = 0; i < N_F; i++, b += 8) {
+        f[i] = get_f64(b);
+        if (isinf(f[i]))
+            return TG_CHECKPOINT;                              /* checkpoint.check_finite */
+    }
+    for (i = 0; i < N_I; i++, b += 4)
+        iv[i] = get_i32(b);
+    if (iv[0] != 0 && iv[0] != 1)
         return TG_CHECKPOINT;                                  /* unknown ellipsoid code */
-    /* the constructor, with the stored settings (NaN stands for None here as
-     * in the blob) */
-    tg_column_config_defaults(&cfg, (TG_FLOAT)v.lat_deg);
-    cfg.start_height_m = (TG_FLOAT)v.start_height_m;
-    cfg.anchor_p_pa = (TG_FLOAT)v.anchor;
-    cfg.ellipsoid = v.ell ? &tg_grs80 : &tg_wgs84;
-    cfg.ice = v.ice != 0;
-    cfg.dry_fallback = v.dry_fallback != 0;
-    cfg.sigma_p_pa = (TG_FLOAT)v.sigma_p_pa;
-    cfg.sigma_t_k = (TG_FLOAT)v.sigma_t_k;
-    cfg.sigma_rh_pct = (TG_FLOAT)v.sigma_rh_pct;
-    cfg.bias_p_pa = (TG_FLOAT)v.bias_p_pa;
-    cfg.bias_t_k = (TG_FLOAT)v.bias_t_k;
-    cfg.bias_rh_pct = (TG_FLOAT)v.bias_rh_pct;
-    cfg.max_rate_m_s = (TG_FLOAT)v.max_rate;
-    cfg.landing_s = (TG_FLOAT)v.landing_s;
-    cfg.landing_tol_pa = (TG_FLOAT)v.landing_tol_pa;
-    cfg.launch_m = (TG_FLOAT)v.launch_m;
-    cfg.burst_drop_m = (TG_FLOAT)v.burst_drop_m;
-    cfg.burst_readings = v.burst_readings;
-    cfg.tropopause_max_p_pa = (TG_FLOAT)v.tropopause_max_p_pa;
-    cfg.rh_tol_pct = (TG_FLOAT)v.rh_tol_pct;
-    cfg.track_sigma = v.track_sigma != 0;
+    /* the constructor, with the stored settings (NaN stands for None, as
+     * Column.from_bytes's opt() makes it) */
+    tg_column_config_defaults(&cfg, TG_L(0.0));
+    k = 0;
+#define GET_CFG(name) if (!set_num(&cfg.name, sizeof cfg.name, f[k++])) return TG_CHECKPOINT;
+    TGPY_COLUMN__CFG_F(GET_CFG)
+#undef GET_CFG
+    j = 0;
+    cfg.ellipsoid = iv[j++] ? &tg_grs80 : &tg_wgs84;   /* _CFG_I: ellipsoid_code, ice, ... */
+    cfg.ice = (int)iv[j++];
+    cfg.dry_fallback = (int)iv[j++];
+    cfg.burst_readings = iv[j++];
+    cfg.takeover_readings = iv[j++];
+    cfg.track_sigma = (int)iv[j++];
     cfg.on_event = on_event;
     cfg.on_event_ctx = on_event_ctx;
-    cfg.geoid_undulation_m = (TG_FLOAT)v.geoid_n;
-    cfg.max_t_step_k = (TG_FLOAT)v.t_step;
-    cfg.max_t_rate_k_s = (TG_FLOAT)v.max_t_rate_k_s;
-    cfg.max_t_gradient_k_m = (TG_FLOAT)v.max_t_gradient_k_m;
     if (tg_column_init(&c, &cfg) != TG_OK)
         return TG_CHECKPOINT;                                  /* settings the column refuses */
-#define SET_F(name) c.name = (TG_FLOAT)v.name;
-#define SET_I(name) c.name = v.name;
-    TGPY_COLUMN__ST_F(SET_F)
-    TGPY_COLUMN__ST_I(SET_I)
-#undef SET_F
-#undef SET_I
-    if (!(0 <= c.phase && c.phase <= TG_PH_LANDED && 0 <= c.lvl && c.lvl <= 16 && 0 <= c.tp_state
-          && c.tp_state <= 3 && c.count >= 0 && c.rejected >= 0))
-        return TG_CHECKPOINT;                                  /* impossible state */
+    /* _ST_I: the column's counters, then t0_int, t0_hi, t0_lo */
+    for (i = 0; i < TGPY_COLUMN__ST_I_N; i++)
+        st_vals[TGPY_COLUMN__ST_F_N + i] = (double)iv[j + i];
+    c.count = iv[j++];
+    c.rejected = iv[j++];
+    c.retracted = iv[j++];
+    c.phase = iv[j++];
+    c.has_b = iv[j++];
+    c.e_n = iv[j++];
+    c.lvl = iv[j++];
+    c.burst_n = iv[j++];
+    c.tb_n = iv[j++];
+    c.tp_state = iv[j++];
+    c.t0_int = iv[j++];
+    c.t0_hi = iv[j++];
+    c.t0_lo = iv[j++];
+    /* the first time stamp: exact from its int32 halves when it was an int */
+    t0 = f[TGPY_COLUMN__CFG_F_N + TGPY_COLUMN__ST_F_N];
+    if (t0 == t0 && c.t0_int)
+        t0 = (double)c.t0_hi * TWO32 + (double)(uint32_t)c.t0_lo;   /* (hi << 32) + (lo & 0xFFFFFFFF) */
+    /* _ST_F; a clock relative to t0 back to the stamp it was (Python's back():
+     * t0 + int(v) for an int t0 and a whole v, else t0 + v: the same double) */
+    i = 0;
+#define GET_ST(name) \
+    v = f[k]; \
+    st_vals[i++] = v; \
+    if (v == v && t0 == t0 && is_clk(#name)) \
+        v = t0 + v; \
+    if (!set_num(&c.name, sizeof c.name, v)) \
+        return TG_CHECKPOINT; \
+    k++;
+    TGPY_COLUMN__ST_F(GET_ST)
+#undef GET_ST
+    k++;   /* t0 */
+    for (r = 0; r < 2; r++) {
+        tg_rec *rc = r == 0 ? &c.rec[c.h] : &c.rec[c.b];
+        i = 0;
+#define GET_R(name) \
+        v = f[k]; \
+        rec_vals[r][i++] = v; \
+        if (v == v && t0 == t0 && (strcmp(#name, "tsr") == 0 || strcmp(#name, "tr") == 0)) \
+            v = t0 + v; \
+        if (!set_num(&rc->name, sizeof rc->name, v)) \
+            return TG_CHECKPOINT; \
+        k++;
+        TGPY_COLUMN__REC_F(GET_R)
+#undef GET_R
+        /* _REC_I: flags, gps_here */
+        rc->flags = iv[j++];
+        rc->gps_here = iv[j++] != 0;   /* Python: bool(r.gps_here), before the check */
+        rec_vals[r][i++] = (double)rc->flags;
+        rec_vals[r][i++] = (double)rc->gps_here;
+        rc->t0 = t0;
+    }
+    if (!check_values(TGPY_COLUMN__RESTORE_COL, ST_NAMES, st_vals))
+        return TG_CHECKPOINT;
+    if (c.count && !check_values(TGPY_COLUMN__RESTORE_REC, REC_NAMES, rec_vals[0]))
+        return TG_CHECKPOINT;
+    if (c.has_b && !check_values(TGPY_COLUMN__RESTORE_REC, REC_NAMES, rec_vals[1]))
+        return TG_CHECKPOINT;
     *col = c;
     return TG_OK;
 }

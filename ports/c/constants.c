@@ -31,3 +31,21 @@ static const tg_series tg__grs80_series = { TGPY_POTENTIAL__GRS80_LENS, TGPY_POT
 
 const tg_ellipsoid tg_wgs84 = TG_ELLIPSOID_INIT(WGS84, &tg__wgs84_series);
 const tg_ellipsoid tg_grs80 = TG_ELLIPSOID_INIT(GRS80, &tg__grs80_series);
+
+/* constants.check_ellipsoid: tg_wgs84 or tg_grs80 for an ellipsoid whose
+ * defining constants (a_m, f, gm, omega) equal one of theirs (the two
+ * themselves, or a copy), NULL (Python: RangeError) for any other; NULL in
+ * is the default, WGS 84 */
+const tg_ellipsoid *tg__check_ellipsoid(const tg_ellipsoid *e)
+{
+    static const tg_ellipsoid *const known[2] = { &tg_wgs84, &tg_grs80 };
+    int i;
+    if (e == NULL)
+        return &tg_wgs84;
+    for (i = 0; i < 2; i++) {
+        const tg_ellipsoid *k = known[i];
+        if (e == k || (e->a_m == k->a_m && e->f == k->f && e->gm == k->gm && e->omega == k->omega))
+            return k;
+    }
+    return NULL;
+}

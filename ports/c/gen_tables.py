@@ -45,7 +45,7 @@ HERE = os.path.dirname(os.path.abspath(__file__))
 ROOT = os.path.dirname(os.path.dirname(HERE))
 OUT = os.path.join(HERE, "tg_tables.h")
 MODULES = ("constants", "gravity", "potential", "moisture", "layers", "standard", "sealevel",
-           "column")
+           "column", "record")
 
 
 class NotLiteral(Exception):
@@ -130,6 +130,21 @@ def _emit_rows(name, rows, lines):
     lines.append("#define %s { \\\n    %s }" % (name, ", \\\n    ".join(out)))
 
 
+def _c_string(text):
+    # a C string literal of printable ASCII text and tabs
+    assert all((32 <= ord(ch) < 127 and ch not in '"\\') or ch == "\t" for ch in text), text
+    return '"%s"' % text.replace("\t", "\\t")
+
+
+def _joined(node, tuples):
+    # '"sep".join(NAME)' of a module-level tuple of strings (record.HEADER): the text
+    if (isinstance(node, ast.Call) and isinstance(node.func, ast.Attribute) and node.func.attr == "join"
+            and _is_str(node.func.value) and len(node.args) == 1 and isinstance(node.args[0], ast.Name)
+            and node.args[0].id in tuples):
+        return node.func.value.value.join(tuples[node.args[0].id])
+    return None
+
+
 def _emit_value(src, name, node, lines):
     rows = _number_rows(node)
     if rows is not None:
@@ -137,8 +152,16 @@ def _emit_value(src, name, node, lines):
         return True
     if _is_str(node):
         text = node.value.decode("ascii") if isinstance(node.value, bytes) else node.value
-        assert all(32 <= ord(ch) < 127 and ch not in '"\\' for ch in text), text
-        lines.append('#define %s "%s"' % (name, text))
+        lines.append('#define %s %s' % (name, _c_string(text)))
+        return True
+    if isinstance(node, ast.Tuple) and node.elts and all(
+            isinstance(e, ast.Tuple) and len(e.elts) == 2 and isinstance(e.elts[0], ast.Constant)
+            and type(e.elts[0].value) is int and _is_str(e.elts[1]) for e in node.elts):
+        # a tuple of (int, string) pairs (record.EVENT_WORDS): an X-macro list
+        # NAME(X) -> X(int, "string") ...
+        lines.append("#define %s_N %d" % (name, len(node.elts)))
+        lines.append("#define %s(X) \\\n    %s" % (name, " \\\n    ".join(
+            "X(%d, %s)" % (e.elts[0].value, _c_string(e.elts[1].value)) for e in node.elts)))
         return True
     if isinstance(node, ast.Tuple) and node.elts and all(_is_str(e) for e in node.elts):
         # a tuple of attribute names (checkpoint layout): an X-macro list, the
@@ -214,16 +237,21 @@ def column_settings(src, tree):
 
     * ``check_range("name", name, lo, hi, unit, ...)`` (the string is the
       parameter's name; exactly one such call): kind "range", a number
-      setting. Its default is a number, or None when the call sits under an
-      ``if name is None:`` (C: NaN, which Column also stores for None). lo
+      setting. Its default is a number, or None when the call is guarded by
+      ``if name is None:``, ``if name is not None:`` or is the else branch of
+      ``None if name is None else check_range(...)`` (C: NaN for None). lo
       and hi are number literals or module-level numbers of column.py.
-    * ``if not isinstance(name, int) or name < LO or name > HI:`` (int
-      literals): kind "int", an integer setting with an int default.
-    * ``bool(name)``: kind "flag", default True or False (C: 1 or 0).
+    * ``_count_setting("name", name, LO, HI)`` or ``if not isinstance(name,
+      int) or name < LO or name > HI:`` (int literals): kind "int", an
+      integer setting with an int default.
+    * ``check_flag("name", name)`` or ``bool(name)``: kind "flag", default
+      True or False (C: 1 or 0).
     * ``check_lat(name)``: kind "lat", no default (errors.check_lat's range,
       tg__check_lat in C).
-    * a default that is a module-level name (``ellipsoid=WGS84``): kind
-      "object" (C: a pointer), not a number.
+    * ``check_ellipsoid(name)`` with a module-level default (``WGS84``):
+      kind "ellipsoid" (C: a pointer to tg_wgs84 or tg_grs80).
+    * another default that is a module-level name: kind "object" (C: a
+      pointer), not a number.
     * default None and the parameter only stored (``self.x = name``): kind
       "passthrough" (a callback; C: a function pointer and its context).
 
@@ -246,7 +274,12 @@ def column_settings(src, tree):
     defaults = [None] * (len(a.args) - 1 - len(a.defaults)) + list(a.defaults) + list(a.kw_defaults)
     if a.vararg or a.kwarg:
         raise SettingError("Column.__init__ takes *args/**kwargs: settings must be named parameters")
-    ranges, ints, flags, lats, none_guarded, uses = {}, {}, set(), set(), set(), {}
+    ranges, ints, flags, lats, ells, none_guarded, uses = {}, {}, set(), set(), set(), set(), {}
+
+    def _label(label, name, fn):
+        if not (isinstance(label, ast.Constant) and label.value == name):
+            raise SettingError("%s(%s, %s, ...) in Column.__init__: the first argument must be the "
+                               "string %r" % (fn, ast.dump(label), name, name))
     for node in ast.walk(init):
         if isinstance(node, ast.Call) and isinstance(node.func, ast.Name):
             fn = node.func.id
@@ -264,13 +297,28 @@ def column_settings(src, tree):
                                 _bound(node.args[3], constants, what))
             elif fn == "bool" and len(node.args) == 1 and isinstance(node.args[0], ast.Name):
                 flags.add(node.args[0].id)
+            elif fn == "check_flag" and len(node.args) == 2 and isinstance(node.args[1], ast.Name):
+                _label(node.args[0], node.args[1].id, fn)
+                flags.add(node.args[1].id)
+            elif fn == "_count_setting" and len(node.args) == 4 and isinstance(node.args[1], ast.Name):
+                name = node.args[1].id
+                _label(node.args[0], name, fn)
+                bounds = node.args[2:4]
+                if not all(isinstance(b, ast.Constant) and type(b.value) is int for b in bounds):
+                    raise SettingError("_count_setting(%r, ...) in Column.__init__: the bounds must be "
+                                       "int literals" % name)
+                ints[name] = tuple(bounds)
+            elif fn == "check_ellipsoid" and len(node.args) == 1 and isinstance(node.args[0], ast.Name):
+                ells.add(node.args[0].id)
             elif fn == "check_lat" and node.args and isinstance(node.args[0], ast.Name):
                 lats.add(node.args[0].id)
-        elif isinstance(node, ast.If):
+        elif isinstance(node, (ast.If, ast.IfExp)):
+            # "if name is None:", "if name is not None:" and
+            # "None if name is None else check_range(...)"
             t = node.test
             if (isinstance(t, ast.Compare) and isinstance(t.left, ast.Name) and len(t.ops) == 1
-                    and isinstance(t.ops[0], ast.Is) and isinstance(t.comparators[0], ast.Constant)
-                    and t.comparators[0].value is None):
+                    and isinstance(t.ops[0], (ast.Is, ast.IsNot))
+                    and isinstance(t.comparators[0], ast.Constant) and t.comparators[0].value is None):
                 none_guarded.add(t.left.id)
             for p in params:
                 r = _int_range(t, p.arg)
@@ -288,7 +336,8 @@ def column_settings(src, tree):
         name = p.arg
         where = "Column.__init__ parameter %r" % name
         forms = [k for k, hit in (("range", name in ranges), ("int", name in ints),
-                                  ("flag", name in flags), ("lat", name in lats)) if hit]
+                                  ("flag", name in flags), ("lat", name in lats),
+                                  ("ellipsoid", name in ells)) if hit]
         if len(forms) > 1:
             raise SettingError("%s is checked in several ways (%s)" % (where, ", ".join(forms)))
         is_none = isinstance(d, ast.Constant) and d.value is None
@@ -310,6 +359,10 @@ def column_settings(src, tree):
             if d is not None:
                 raise SettingError("%s: the latitude has a default" % where)
             out.append((name, "lat", None, None, None))
+        elif forms == ["ellipsoid"]:
+            if not isinstance(d, ast.Name):
+                raise SettingError("%s: the default ellipsoid is not a module-level name" % where)
+            out.append((name, "ellipsoid", d, None, None))
         elif isinstance(d, ast.Name):
             out.append((name, "object", d, None, None))
         elif is_none and stored.get(name, 0) == len(uses.get(name, ())) == 1:
@@ -317,9 +370,11 @@ def column_settings(src, tree):
         else:
             raise SettingError(
                 "%s: no range check that gen_tables.py reads (check_range(%r, %s, lo, hi, unit), "
-                "'if not isinstance(%s, int) or %s < LO or %s > HI', bool(%s), check_lat(%s)); "
-                "write its check in one of these forms so that ports/c/column.c gets its default "
-                "and range from tg_tables.h" % (where, name, name, name, name, name, name, name))
+                "_count_setting(%r, %s, LO, HI), 'if not isinstance(%s, int) or %s < LO or %s > HI', "
+                "check_flag(%r, %s), bool(%s), check_lat(%s), check_ellipsoid(%s)); write its check "
+                "in one of these forms so that ports/c/column.c gets its default and range from "
+                "tg_tables.h" % (where, name, name, name, name, name, name, name, name, name, name,
+                                 name, name))
     return out
 
 
@@ -367,6 +422,7 @@ def generate(root=ROOT):
             src = f.read()
         tree = ast.parse(src)
         out.append("/* ---- tinygeo/%s.py ---- */" % mod)
+        tuples = {}
         for stmt in tree.body:
             if not isinstance(stmt, ast.Assign) or len(stmt.targets) != 1:
                 continue
@@ -379,6 +435,12 @@ def generate(root=ROOT):
                     and val.func.id == "Ellipsoid"):
                 for kw in val.keywords:
                     _emit_value(src, "%s_%s" % (base, kw.arg.upper()), kw.value, out)
+                continue
+            if isinstance(val, ast.Tuple) and val.elts and all(_is_str(e) for e in val.elts):
+                tuples[tgt.id] = [e.value for e in val.elts]
+            text = _joined(val, tuples)
+            if text is not None:
+                out.append("#define %s %s" % (base, _c_string(text)))
                 continue
             _emit_value(src, base, val, out)
         if mod == "column":

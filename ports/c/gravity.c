@@ -31,10 +31,11 @@ static tg_status check_height(TG_FLOAT height_m)
 tg_status tg_somigliana_gravity(TG_FLOAT lat_deg, const tg_ellipsoid *ellipsoid, TG_FLOAT *out)
 {
     TG_FLOAT phi, sp, s;
-    if (ellipsoid == NULL)
-        ellipsoid = &tg_wgs84;
     TG_TRY(tg__check_lat(lat_deg));
     phi = lat_deg * DEG;
+    ellipsoid = tg__check_ellipsoid(ellipsoid);     /* check_ellipsoid */
+    if (ellipsoid == NULL)
+        return tg__fail(TG_RANGE, out);
     sp = TG_SIN(phi);
     s = sp * sp;
     *out = ellipsoid->gamma_e * (TG_L(1.0) + ellipsoid->k_somigliana * s) / TG_SQRT(TG_L(1.0) - ellipsoid->e2 * s);
@@ -46,12 +47,13 @@ tg_status tg_normal_gravity(TG_FLOAT lat_deg, TG_FLOAT height_m, const tg_ellips
 {
     TG_FLOAT phi, h, e2, a, sphi, cphi, t, bb2, nu, p, z, c0, c1, delta, u2, v2, u, v;
     TG_FLOAT ca, sa, r, cb, sb, w, b3, x2, sq0, oa, gma, g_u, g_b;
-    if (ellipsoid == NULL)
-        ellipsoid = &tg_wgs84;
     TG_TRY(tg__check_lat(lat_deg));
     phi = lat_deg * DEG;
     TG_TRY(check_height(height_m));
     h = height_m;
+    ellipsoid = tg__check_ellipsoid(ellipsoid);     /* check_ellipsoid */
+    if (ellipsoid == NULL)
+        return tg__fail(TG_RANGE, out);
     e2 = ellipsoid->e2;
     a = ellipsoid->a_m;
     sphi = TG_SIN(phi);

@@ -20,22 +20,17 @@
 
 /* _QC = 0.01 * E0_PA * ONE_M_EPS: Pa per %RH, (1 - eps) e/p per %RH is _QC f x / p */
 #define QC (TG_L(0.01) * E0_PA * ONE_M_EPS)
-
-/* moisture._ex: exp(a t/(b + t)) of the Magnus form [WMO8] (e_w = 611.2 Pa
- * times it), no checks (callers check t_k) */
-static TG_FLOAT ex(TG_FLOAT t_k, int ice)
-{
-    TG_FLOAT t = t_k - TG_ZERO_C_K;
-    if (ice && t <= TG_L(0.0))
-        return TG_EXP(AI * t / (BI + t));
-    return TG_EXP(AW * t / (BW + t));
-}
+/* _QC_F0 = _QC * _F0, _QC_F1 = _QC * _F1, _QC_F2 = _QC * _F2: _QC times the
+ * enhancement factor's coefficients (rh_q) */
+#define QC_F0 (QC * F0)
+#define QC_F1 (QC * F1)
+#define QC_F2 (QC * F2)
 
 /* E0_PA * moisture._ex(t_k, ice) (written out at each use there; C-only
  * name): Magnus form [WMO8], no checks (callers check t_k). Pa. */
 TG_FLOAT tg__moisture_es(TG_FLOAT t_k, int ice)
 {
-    return E0_PA * ex(t_k, ice);
+    return E0_PA * tg__moisture_ex(t_k, ice);
 }
 
 /* moisture._f: enhancement factor [WMO8], no checks (callers check p_pa). */
@@ -133,13 +128,6 @@ tg_status tg_specific_humidity(TG_FLOAT e_pa, TG_FLOAT p_pa, TG_FLOAT *out)
     TG_TRY(check_e(e_pa, p_pa));
     *out = TG_EPSILON * e_pa / (p_pa - ONE_M_EPS * e_pa);
     return TG_OK;
-}
-
-/* moisture.rh_q: (1 - eps) e'_w/p per %RH: with r = rh_pct * rh_q, e/p = r/(1 - eps),
- * Tv = T/(1 - r) and dTv/dRH = Tv rh_q at constant T and p. No checks. */
-TG_FLOAT tg__moisture_rh_q(TG_FLOAT t_k, TG_FLOAT p_pa, int ice)
-{
-    return QC * tg__moisture_f(p_pa) * ex(t_k, ice) / p_pa;
 }
 
 /* moisture.tv_rh: virtual_temperature without the argument checks; TG_RANGE

@@ -98,15 +98,14 @@ tg_status tg_geopotential_height(TG_FLOAT height_m, TG_FLOAT lat_deg,
                                  const tg_ellipsoid *ellipsoid, TG_FLOAT *out)
 {
     TG_FLOAT h, c[TG_PC_N];
-    if (ellipsoid == NULL)
-        ellipsoid = &tg_wgs84;
     /* the range of tinygeo.gravity.check_height (Python does not import
      * gravity here: a logger that needs only the column does not load it) */
     TG_TRY(tg__check_range(height_m, TG_L(-1000.0), TG_L(100000.0), TG_RANGE));
     h = height_m;
+    ellipsoid = tg__check_ellipsoid(ellipsoid);     /* check_ellipsoid */
+    if (ellipsoid == NULL)
+        return tg__fail(TG_RANGE, out);
     TG_TRY(tg__check_lat(lat_deg));
-    if (table(ellipsoid) == NULL)
-        return tg__fail(TG_ELLIPSOID, out);
     tg__potential_series(lat_deg, ellipsoid, c);
     *out = tg__potential_gph_series(h, c, ellipsoid->a_m);
     return TG_OK;
@@ -125,13 +124,12 @@ tg_status tg_geometric_height(TG_FLOAT gph_m, TG_FLOAT lat_deg, const tg_ellipso
                               TG_FLOAT *out)
 {
     TG_FLOAT z, c[TG_PC_N];
-    if (ellipsoid == NULL)
-        ellipsoid = &tg_wgs84;
     TG_TRY(tg__check_range(gph_m, GPH_MIN_M, GPH_MAX_M, TG_RANGE));
     z = gph_m;
+    ellipsoid = tg__check_ellipsoid(ellipsoid);     /* check_ellipsoid */
+    if (ellipsoid == NULL)
+        return tg__fail(TG_RANGE, out);
     TG_TRY(tg__check_lat(lat_deg));
-    if (table(ellipsoid) == NULL)
-        return tg__fail(TG_ELLIPSOID, out);
     tg__potential_series(lat_deg, ellipsoid, c);
     *out = tg__potential_height_series(z, c, ellipsoid->a_m);
     return TG_OK;

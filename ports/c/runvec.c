@@ -63,18 +63,22 @@ static tg_status w_qfe5(const TG_FLOAT *a, TG_FLOAT *o) { return tg_qfe(A(0), A(
 static tg_status w_ussa76_geopotential_height(const TG_FLOAT *a, TG_FLOAT *o) { return tg_ussa76_geopotential_height(A(0), o); }
 static tg_status w_ussa76_geometric_height(const TG_FLOAT *a, TG_FLOAT *o) { return tg_ussa76_geometric_height(A(0), o); }
 
-/* An extra last argument 0, 1 or 2 selects the ellipsoid: tg_wgs84, tg_grs80,
- * or a copy of WGS 84 without a geopotential series (TG_ELLIPSOID). Used by
- * tests/test_c_port.py, which passes the same ellipsoids to Python. */
+/* An extra last argument 0, 1, 2 or 3 selects the ellipsoid: tg_wgs84,
+ * tg_grs80, a copy of WGS 84 under another name and without the series
+ * pointer (constants.check_ellipsoid maps it to WGS 84), or an ellipsoid of
+ * its own (a 1 m larger: TG_RANGE). Used by tests/test_c_port.py, which
+ * passes the same ellipsoids to Python. */
 static const tg_ellipsoid *ell(TG_FLOAT code)
 {
     static tg_ellipsoid bare;
     if (code == (TG_FLOAT)1)
         return &tg_grs80;
-    if (code == (TG_FLOAT)2) {
+    if (code == (TG_FLOAT)2 || code == (TG_FLOAT)3) {
         bare = tg_wgs84;
         bare.name = "BARE";
         bare.series = NULL;
+        if (code == (TG_FLOAT)3)
+            bare.a_m = bare.a_m + (TG_FLOAT)1;
         return &bare;
     }
     return &tg_wgs84;

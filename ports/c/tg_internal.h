@@ -122,16 +122,16 @@ static inline tg_status tg__check_rh(TG_FLOAT x, TG_FLOAT tol, tg_status error)
     return tg__check_range(x, -tol, TG_L(100.0) + tol, error);
 }
 
+/* constants.check_ellipsoid (constants.c): the canonical tg_wgs84/tg_grs80, or NULL */
+const tg_ellipsoid *tg__check_ellipsoid(const tg_ellipsoid *e);
+
 /* ---- the unchecked forms shared between modules: each C name is the Python
  * name of the function (tg__<module>_<name>); callers check the arguments ---- */
 TG_FLOAT tg__standard_pressure_at(TG_FLOAT h);                       /* standard.pressure_at */
 TG_FLOAT tg__standard_altitude_at(TG_FLOAT p);                       /* standard.altitude_at */
 TG_FLOAT tg__standard_bottom_gph_m(void);                            /* standard.BOTTOM_GPH_M */
-TG_FLOAT tg__layers_lnr(TG_FLOAT p1, TG_FLOAT p2);                   /* layers.lnr */
-TG_FLOAT tg__layers_half_k_ln(TG_FLOAT p1, TG_FLOAT p2);             /* layers.half_k_ln */
 TG_FLOAT tg__moisture_es(TG_FLOAT t_k, int ice);                     /* E0_PA * moisture._ex */
 TG_FLOAT tg__moisture_f(TG_FLOAT p_pa);                              /* moisture._f */
-TG_FLOAT tg__moisture_rh_q(TG_FLOAT t_k, TG_FLOAT p_pa, int ice);    /* moisture.rh_q */
 TG_FLOAT tg__moisture_tv_w(TG_FLOAT t_k, TG_FLOAT w);                /* moisture.tv_w */
 /* potential.series: the series at one latitude, D_1(s)..D_6(s) then
  * 1*D_1(s)..6*D_6(s) (Python: a tuple of 12 floats; C fills the caller's array) */
@@ -141,5 +141,109 @@ TG_FLOAT tg__potential_gph_series(TG_FLOAT h, const TG_FLOAT *c, TG_FLOAT a);   
 TG_FLOAT tg__potential_newton_step(TG_FLOAT z, TG_FLOAT h, const TG_FLOAT *c,
                                    TG_FLOAT a);                                   /* potential.newton_step */
 TG_FLOAT tg__potential_height_series(TG_FLOAT z, const TG_FLOAT *c, TG_FLOAT a);  /* potential.height_series */
+
+
+/* ---- the kernels of every reading (layers.lnr, layers.half_k_ln,
+ * moisture._ex, moisture.rh_q): defined here, static inline, so that
+ * column.c's feed runs them without a call (bench/c_feed_cost.py); the same
+ * code in every file that uses them ---- */
+/* moisture._QC = 0.01 * E0_PA * ONE_M_EPS (Pa per %RH: (1 - eps) e/p per %RH
+ * is _QC f x / p) and _QC_F0, _QC_F1, _QC_F2 = _QC times the enhancement
+ * factor's coefficients _F0, _F1, _F2 (rh_q) */
+#define TG_QC (TG_L(0.01) * TGPY_MOISTURE_E0_PA * (TG_L(1.0) - TG_EPSILON))
+#define TG_QC_F0 (TG_QC * TGPY_MOISTURE__F0)
+#define TG_QC_F1 (TG_QC * TGPY_MOISTURE__F1)
+#define TG_QC_F2 (TG_QC * TGPY_MOISTURE__F2)
+#define TG_HALF_RG (TG_L(0.5) * TG_RD / TG_G0)   /* layers.HALF_RG = 0.5 * RD / G0 */
+
+/* FLOAT32 / LN_C: Python detects the precision of the interpreter at
+ * import; C knows it at compile time (deliberate difference). */
+#if TG_SINGLE
+#define TG_LN_TERMS TGPY_LAYERS_LN_TERMS_F32
+#else
+#define TG_LN_TERMS TGPY_LAYERS_LN_TERMS_F64
+#endif
+
+typedef char tg__ln_terms_fit[(TG_LN_TERMS >= 2 && TG_LN_TERMS - 1 <= 12) ? 1 : -1];
+
+/* layers.lnr: ln(p1/p2) for p1, p2 > 0, no checks */
+static inline TG_FLOAT tg__layers_lnr(TG_FLOAT p1, TG_FLOAT p2)
+{
+    /* layers.ln_coefs: 2/(2k+1) (the factor 2 of the series folded in), highest
+     * k first; Python builds the list for k = N-1 .. 1 at import, C keeps
+     * k = 12 .. 1 and starts at k = N-1. */
+    static const TG_FLOAT LN_C_ALL[12] = {
+        TG_L(2.0) / TG_L(25.0), TG_L(2.0) / TG_L(23.0), TG_L(2.0) / TG_L(21.0),
+        TG_L(2.0) / TG_L(19.0), TG_L(2.0) / TG_L(17.0), TG_L(2.0) / TG_L(15.0),
+        TG_L(2.0) / TG_L(13.0), TG_L(2.0) / TG_L(11.0), TG_L(2.0) / TG_L(9.0),
+        TG_L(2.0) / TG_L(7.0), TG_L(2.0) / TG_L(5.0), TG_L(2.0) / TG_L(3.0)
+    };
+    /* layers.ln_tiers: the series is cut by |d| tier (d^2 thresholds, number of
+     * coefficients used below each); the literals of the function in layers.py
+     * (tests/test_c_port.py compares them with it) */
+    #if TG_SINGLE
+    static const TG_FLOAT TIER_D2[3] = { TG_L(1e-4), TG_L(2.5e-3), TG_L(2.5e-3) };   /* ln_tiers(True) */
+    static const int TIER_M[3] = { 1, 2, 2 };                                      /* ln_tiers(True) */
+    #else
+    static const TG_FLOAT TIER_D2[3] = { TG_L(1e-6), TG_L(1e-4), TG_L(2.5e-3) };     /* ln_tiers(False) */
+    static const int TIER_M[3] = { 2, 4, 6 };                                      /* ln_tiers(False) */
+    #endif
+    TG_FLOAT d = (p1 - p2) / (p1 + p2);
+    if (-TGPY_LAYERS_LN_SWITCH < d && d < TGPY_LAYERS_LN_SWITCH) {
+        /* LN_C[j] is LN_C_ALL[base + j], j = 0 .. n-1 */
+        const TG_FLOAT *ln_c = LN_C_ALL + (12 - (TG_LN_TERMS - 1));
+        const int n = TG_LN_TERMS - 1;
+        TG_FLOAT d2 = d * d;
+        TG_FLOAT acc;
+        int i;
+        if (d2 < TIER_D2[0])
+            i = n - TIER_M[0];
+        else if (d2 < TIER_D2[1])
+            i = n - TIER_M[1];
+        else if (d2 < TIER_D2[2])
+            i = n - TIER_M[2];
+        else
+            i = 0;
+        acc = ln_c[i];
+        i += 1;
+        while (i < n) {
+            acc = acc * d2 + ln_c[i];
+            i += 1;
+        }
+        return d * (TG_L(2.0) + d2 * acc);
+    }
+    if (d > TG_L(0.0))
+        return TG_LOG(p1 / p2);
+    return -TG_LOG(p2 / p1);   /* same rounding either way round: exact antisymmetry */
+}
+
+/* layers.half_k_ln: (Rd/g0)/2 ln(p1/p2), gpm per K: the thickness per
+ * kelvin of Tv1 + Tv2, and dz/dTv of either end of the layer; no checks */
+static inline TG_FLOAT tg__layers_half_k_ln(TG_FLOAT p1, TG_FLOAT p2)
+{
+    return TG_HALF_RG * tg__layers_lnr(p1, p2);
+}
+
+/* moisture._ex: exp(a t/(b + t)) of the Magnus form [WMO8] (e_w = 611.2 Pa
+ * times it), no checks (callers check t_k) */
+static inline TG_FLOAT tg__moisture_ex(TG_FLOAT t_k, int ice)
+{
+    TG_FLOAT t = t_k - TG_ZERO_C_K;
+    if (ice && t <= TG_L(0.0))
+        return TG_EXP(TGPY_MOISTURE__AI * t / (TGPY_MOISTURE__BI + t));
+    return TG_EXP(TGPY_MOISTURE__AW * t / (TGPY_MOISTURE__BW + t));
+}
+
+/* moisture.rh_q: (1 - eps) e'_w/p per %RH: with r = rh_pct * rh_q, e/p = r/(1 - eps),
+ * Tv = T/(1 - r) and dTv/dRH = Tv rh_q at constant T and p. No checks. */
+static inline TG_FLOAT tg__moisture_rh_q(TG_FLOAT t_k, TG_FLOAT p_pa, int ice)
+{
+    TG_FLOAT qf;
+    if (p_pa <= TGPY_MOISTURE_F_ONE_PA)
+        qf = TG_QC;
+    else
+        qf = TG_QC_F0 + TG_QC_F1 * p_pa - TG_QC_F2 / p_pa;
+    return qf * tg__moisture_ex(t_k, ice) / p_pa;
+}
 
 #endif /* TG_INTERNAL_H */

@@ -149,15 +149,22 @@
 #define TGPY_COLUMN_EV_BURST 4
 #define TGPY_COLUMN_EV_LANDED 8
 #define TGPY_COLUMN_EV_LAUNCH 16
+#define TGPY_COLUMN_EV_FLOAT 32
 #define TGPY_COLUMN_FL_DRY 1
 #define TGPY_COLUMN_FL_HELD_MIXING 2
 #define TGPY_COLUMN_FL_NO_TIME 4
 #define TGPY_COLUMN_FL_DESCENT 8
 #define TGPY_COLUMN_FL_SAME_P 16
+#define TGPY_COLUMN_FL_NO_GPS 32
+#define TGPY_COLUMN_FL_CAPPED 64
+#define TGPY_COLUMN_FL_REPLACED 128
+#define TGPY_COLUMN_FL_TAKEOVER 256
+#define TGPY_COLUMN_FL_SAME_TIME 512
 #define TGPY_COLUMN_PH_WAIT 0
 #define TGPY_COLUMN_PH_ASCENT 1
-#define TGPY_COLUMN_PH_DESCENT 2
-#define TGPY_COLUMN_PH_LANDED 3
+#define TGPY_COLUMN_PH_FLOAT 2
+#define TGPY_COLUMN_PH_DESCENT 3
+#define TGPY_COLUMN_PH_LANDED 4
 #define TGPY_COLUMN_MANDATORY_PA_N 16
 #define TGPY_COLUMN_MANDATORY_PA { \
     TG_L(100000.0), \
@@ -182,94 +189,39 @@
 #define TGPY_COLUMN_T_MAX_K TG_L(350.0)
 #define TGPY_COLUMN_GPS_MIN_M TG_L((-1000.0))
 #define TGPY_COLUMN_GPS_MAX_M TG_L(100000.0)
-#define TGPY_COLUMN_WMO_LAPSE_K_PER_GPM TG_L(0.002)
+#define TGPY_COLUMN_WMO_LAPSE_K_GPM TG_L(0.002)
 #define TGPY_COLUMN_WMO_DEPTH_GPM TG_L(2000.0)
+#define TGPY_COLUMN_NOISE_K 4
+#define TGPY_COLUMN_COUNT_MAX 1073741823
 #define TGPY_COLUMN__NODE_D 1500
 #define TGPY_COLUMN__NODE_W 3000
 #define TGPY_COLUMN__NODE_W2 6000
 #define TGPY_COLUMN__RH_SLOPE_MIN 1
-#define TGPY_COLUMN__CFG_F_N 20
-#define TGPY_COLUMN__CFG_F(X) \
-    X(lat_deg) \
-    X(start_height_m) \
-    X(anchor) \
-    X(sigma_p_pa) \
-    X(sigma_t_k) \
-    X(sigma_rh_pct) \
-    X(bias_p_pa) \
-    X(bias_t_k) \
-    X(bias_rh_pct) \
-    X(max_rate) \
-    X(landing_s) \
-    X(landing_tol_pa) \
-    X(launch_m) \
-    X(burst_drop_m) \
-    X(tropopause_max_p_pa) \
-    X(rh_tol_pct) \
-    X(geoid_n) \
-    X(t_step) \
-    X(max_t_rate_k_s) \
-    X(max_t_gradient_k_m)
-#define TGPY_COLUMN__CFG_I_N 5
-#define TGPY_COLUMN__CFG_I(X) \
-    X(ell) \
-    X(ice) \
-    X(dry_fallback) \
-    X(burst_readings) \
-    X(track_sigma)
-#define TGPY_COLUMN__ST_F_N 59
-#define TGPY_COLUMN__ST_F(X) \
+#define TGPY_COLUMN__SQRT2 TG_L(1.4142135623730951)
+#define TGPY_COLUMN__REC_F_N 31
+#define TGPY_COLUMN__REC_F(X) \
     X(p_pa) \
     X(t_k) \
-    X(tv_k) \
     X(rh_pct) \
-    X(time_s) \
+    X(tv_k) \
     X(gph_m) \
     X(c) \
     X(height_m) \
-    X(rate_m_s) \
-    X(max_gph_m) \
-    X(launch_time_s) \
-    X(burst_gph_m) \
-    X(burst_time_s) \
-    X(burst_p_pa) \
-    X(level_p_pa) \
-    X(level_gph_m) \
-    X(level_height_m) \
-    X(level_t_k) \
-    X(tropopause_p_pa) \
-    X(tropopause_gph_m) \
-    X(tropopause_t_k) \
-    X(gps_m) \
-    X(gps_diff_m) \
-    X(t_last) \
+    X(rdh) \
+    X(rdt) \
+    X(tsr) \
+    X(tr) \
+    X(dt) \
     X(g_t) \
-    X(min_gph) \
-    X(launch_gph) \
-    X(max_time) \
-    X(max_p) \
-    X(burst_line) \
-    X(env_g) \
-    X(land_lo) \
-    X(land_hi) \
-    X(land_t) \
+    X(h_tm) \
     X(h_t) \
     X(h_p) \
     X(h_rh) \
-    X(w_held) \
-    X(tp_g) \
-    X(tp_top) \
-    X(tp_th) \
-    X(tp_p) \
-    X(tp_t) \
-    X(n_g) \
-    X(n_h) \
-    X(n_k1) \
-    X(n_k2) \
-    X(n_lo) \
-    X(n_hi) \
-    X(h_tm) \
+    X(w) \
+    X(gps_m) \
+    X(gps_diff_m) \
     X(var_done) \
+    X(var_p) \
     X(ct) \
     X(tm2) \
     X(s2) \
@@ -277,25 +229,143 @@
     X(sum_rh) \
     X(sum_p) \
     X(slope) \
+    X(sum_hum) \
+    X(tvh)
+#define TGPY_COLUMN__REC_I_N 2
+#define TGPY_COLUMN__REC_I(X) \
+    X(flags) \
+    X(gps_here)
+#define TGPY_COLUMN__CFG_F_N 27
+#define TGPY_COLUMN__CFG_F(X) \
+    X(lat_deg) \
+    X(start_height_m) \
+    X(anchor_p_pa) \
+    X(sigma_p_pa) \
+    X(sigma_t_k) \
+    X(sigma_rh_pct) \
+    X(bias_p_pa) \
+    X(bias_t_k) \
+    X(bias_rh_pct) \
+    X(max_rate_m_s) \
+    X(start_guard_m) \
+    X(time_unit_s) \
+    X(smooth_s) \
+    X(launch_gpm) \
+    X(burst_drop_gpm) \
+    X(burst_rate_gpm_s) \
+    X(float_s) \
+    X(float_band_gpm) \
+    X(landing_s) \
+    X(landing_band_gpm) \
+    X(tropopause_max_p_pa) \
+    X(tropopause_layer_gpm) \
+    X(rh_tol_pct) \
+    X(geoid_undulation_m) \
+    X(max_t_step_k) \
+    X(max_t_rate_k_s) \
+    X(max_t_gradient_k_gpm)
+#define TGPY_COLUMN__CFG_I_N 6
+#define TGPY_COLUMN__CFG_I(X) \
+    X(ellipsoid_code) \
+    X(ice) \
+    X(dry_fallback) \
+    X(burst_readings) \
+    X(takeover_readings) \
+    X(track_sigma)
+#define TGPY_COLUMN__ST_F_N 59
+#define TGPY_COLUMN__ST_F(X) \
+    X(smooth_gph_m) \
+    X(f_v) \
+    X(max_gph_m) \
+    X(launch_time_s) \
+    X(burst_gph_m) \
+    X(burst_time_s) \
+    X(burst_p_pa) \
+    X(float_gph_m) \
+    X(float_time_s) \
+    X(landing_time_s) \
+    X(level_p_pa) \
+    X(level_gph_m) \
+    X(level_height_m) \
+    X(level_t_k) \
+    X(tropopause_p_pa) \
+    X(tropopause_gph_m) \
+    X(tropopause_t_k) \
+    X(tropopause_time_s) \
+    X(e_p) \
+    X(e_g) \
+    X(e_t) \
+    X(f_dt) \
+    X(f_a) \
+    X(f_b) \
+    X(f_cx) \
+    X(f_cv) \
+    X(f_bv) \
+    X(max_clk) \
+    X(max_p) \
+    X(min_g) \
+    X(launch_line) \
+    X(fl_g) \
+    X(fl_lo) \
+    X(fl_hi) \
+    X(fl_clk) \
+    X(fl_end) \
+    X(land_lo) \
+    X(land_hi) \
+    X(land_end) \
+    X(tb_top) \
+    X(tb_g0) \
+    X(tb_g1) \
+    X(tb_st) \
+    X(tb_c0) \
+    X(tb_c1) \
+    X(tb_th) \
+    X(tp_g) \
+    X(tp_top) \
+    X(tp_th) \
+    X(tp_p) \
+    X(tp_t) \
+    X(tp_clk) \
+    X(n_g) \
+    X(n_h) \
+    X(n_k1) \
+    X(n_k2) \
+    X(n_lo) \
+    X(n_hi) \
     X(var_anchor)
-#define TGPY_COLUMN__ST_I_N 8
+#define TGPY_COLUMN__CLK_F_N 7
+#define TGPY_COLUMN__CLK_F(X) \
+    X(max_clk) \
+    X(fl_clk) \
+    X(fl_end) \
+    X(land_end) \
+    X(tb_c0) \
+    X(tb_c1) \
+    X(tp_clk)
+#define TGPY_COLUMN__ST_I_N 13
 #define TGPY_COLUMN__ST_I(X) \
     X(count) \
     X(rejected) \
-    X(flags) \
+    X(retracted) \
     X(phase) \
+    X(has_b) \
+    X(e_n) \
     X(lvl) \
     X(burst_n) \
+    X(tb_n) \
     X(tp_state) \
-    X(gps_n)
+    X(t0_int) \
+    X(t0_hi) \
+    X(t0_lo)
+#define TGPY_COLUMN__RESTORE_COL "count 0 1073741823;rejected 0 1073741823;retracted 0 1073741823;phase 0 4;_has_b 0 1;_e_n 0 *;_lvl 0 16;_burst_n 0 *;_tb_n 0 *;_tp_state 0 3;smooth_gph_m -250000 250000 n;max_gph_m -250000 250000 n;burst_p_pa 0.1 120000 n;level_p_pa 1000 100000 n;level_t_k 150 350 n;tropopause_p_pa 0 120000 n;tropopause_t_k 150 350 n;_var_anchor 0 *;_f_dt 0 * n;_f_a 0 1 n;_f_cx 0 * n;_f_cv 0 * n"
+#define TGPY_COLUMN__RESTORE_REC "p_pa 0.1 120000;t_k 150 350;rh_pct -3 103 n;tv_k 150 350;gph_m -250000 250000;c -1 1;height_m -250000 250000 n;dt 0 * n;h_t 150 350 n;h_p 0.1 120000 n;h_rh -3 103 n;w 0 1 n;gps_m -1000 100000 n;var_done 0 *;var_p 0 *;tm2 0 700;s2 0 *;p_start 0.1 120000 n;tvh 0 *;flags 0 1023;gps_here 0 1"
 #define TGPY_COLUMN__MAGIC "TGCK"
-#define TGPY_COLUMN__VERSION 3
-#define TGPY_COLUMN__HEAD "<4sBH"
-/* Column.__init__: 26 parameters; per setting its default (_DEF; None -> TG_NAN,
+#define TGPY_COLUMN__VERSION 4
+/* Column.__init__: 34 parameters; per setting its default (_DEF; None -> TG_NAN,
  * as Column stores NaN for None; True/False -> 1/0) and the range its check
  * accepts (_LO, _HI). Read by gen_tables.column_settings. */
-#define TGPY_COLUMN_SET_N 26
-/* the other parameters (kinds of gen_tables.column_settings): lat_deg (lat), ellipsoid (object), on_event (passthrough) */
+#define TGPY_COLUMN_SET_N 34
+/* the other parameters (kinds of gen_tables.column_settings): lat_deg (lat), ellipsoid (ellipsoid), on_event (passthrough) */
 #define TGPY_COLUMN_SET_START_HEIGHT_M_DEF TG_L(0)
 #define TGPY_COLUMN_SET_START_HEIGHT_M_LO TG_L((-1000))
 #define TGPY_COLUMN_SET_START_HEIGHT_M_HI TG_L(100000)
@@ -325,27 +395,51 @@
 #define TGPY_COLUMN_SET_MAX_RATE_M_S_DEF TG_L(200)
 #define TGPY_COLUMN_SET_MAX_RATE_M_S_LO TG_L(1)
 #define TGPY_COLUMN_SET_MAX_RATE_M_S_HI TG_L(10000)
-#define TGPY_COLUMN_SET_LANDING_S_DEF TG_L(60)
-#define TGPY_COLUMN_SET_LANDING_S_LO TG_L(0)
-#define TGPY_COLUMN_SET_LANDING_S_HI TG_L(1000000)
-#define TGPY_COLUMN_SET_LANDING_TOL_PA_DEF TG_L(50)
-#define TGPY_COLUMN_SET_LANDING_TOL_PA_LO TG_L(0)
-#define TGPY_COLUMN_SET_LANDING_TOL_PA_HI TG_L(10000)
-#define TGPY_COLUMN_SET_LAUNCH_M_DEF TG_L(20)
-#define TGPY_COLUMN_SET_LAUNCH_M_LO TG_L(0)
-#define TGPY_COLUMN_SET_LAUNCH_M_HI TG_L(10000)
-#define TGPY_COLUMN_SET_BURST_DROP_M_DEF TG_L(50)
-#define TGPY_COLUMN_SET_BURST_DROP_M_LO TG_L(0)
-#define TGPY_COLUMN_SET_BURST_DROP_M_HI TG_L(100000)
+#define TGPY_COLUMN_SET_START_GUARD_M_DEF TG_L(3000)
+#define TGPY_COLUMN_SET_START_GUARD_M_LO TG_L(100)
+#define TGPY_COLUMN_SET_START_GUARD_M_HI TG_L(100000)
+#define TGPY_COLUMN_SET_TIME_UNIT_S_DEF TG_L(1)
+#define TGPY_COLUMN_SET_TIME_UNIT_S_LO TG_L(1e-6)
+#define TGPY_COLUMN_SET_TIME_UNIT_S_HI TG_L(1e6)
+#define TGPY_COLUMN_SET_SMOOTH_S_DEF TG_L(20)
+#define TGPY_COLUMN_SET_SMOOTH_S_LO TG_L(1)
+#define TGPY_COLUMN_SET_SMOOTH_S_HI TG_L(10000)
+#define TGPY_COLUMN_SET_LAUNCH_GPM_DEF TG_L(20)
+#define TGPY_COLUMN_SET_LAUNCH_GPM_LO TG_L(0)
+#define TGPY_COLUMN_SET_LAUNCH_GPM_HI TG_L(10000)
+#define TGPY_COLUMN_SET_BURST_DROP_GPM_DEF TG_L(50)
+#define TGPY_COLUMN_SET_BURST_DROP_GPM_LO TG_L(0)
+#define TGPY_COLUMN_SET_BURST_DROP_GPM_HI TG_L(100000)
+#define TGPY_COLUMN_SET_BURST_RATE_GPM_S_DEF TG_L(3)
+#define TGPY_COLUMN_SET_BURST_RATE_GPM_S_LO TG_L(0)
+#define TGPY_COLUMN_SET_BURST_RATE_GPM_S_HI TG_L(1000)
 #define TGPY_COLUMN_SET_BURST_READINGS_DEF 3
 #define TGPY_COLUMN_SET_BURST_READINGS_LO 1
 #define TGPY_COLUMN_SET_BURST_READINGS_HI 100000
+#define TGPY_COLUMN_SET_FLOAT_S_DEF TG_L(600)
+#define TGPY_COLUMN_SET_FLOAT_S_LO TG_L(1)
+#define TGPY_COLUMN_SET_FLOAT_S_HI TG_L(1000000)
+#define TGPY_COLUMN_SET_FLOAT_BAND_GPM_DEF TG_L(150)
+#define TGPY_COLUMN_SET_FLOAT_BAND_GPM_LO TG_L(0)
+#define TGPY_COLUMN_SET_FLOAT_BAND_GPM_HI TG_L(100000)
+#define TGPY_COLUMN_SET_LANDING_S_DEF TG_L(60)
+#define TGPY_COLUMN_SET_LANDING_S_LO TG_L(0)
+#define TGPY_COLUMN_SET_LANDING_S_HI TG_L(1000000)
+#define TGPY_COLUMN_SET_LANDING_BAND_GPM_DEF TG_L(10)
+#define TGPY_COLUMN_SET_LANDING_BAND_GPM_LO TG_L(0)
+#define TGPY_COLUMN_SET_LANDING_BAND_GPM_HI TG_L(10000)
 #define TGPY_COLUMN_SET_TROPOPAUSE_MAX_P_PA_DEF TG_L(50000)
 #define TGPY_COLUMN_SET_TROPOPAUSE_MAX_P_PA_LO TG_L(0)
-#define TGPY_COLUMN_SET_TROPOPAUSE_MAX_P_PA_HI TGPY_COLUMN_P_MAX_PA
+#define TGPY_COLUMN_SET_TROPOPAUSE_MAX_P_PA_HI TG_L(120000)
+#define TGPY_COLUMN_SET_TROPOPAUSE_LAYER_GPM_DEF TG_L(100)
+#define TGPY_COLUMN_SET_TROPOPAUSE_LAYER_GPM_LO TG_L(1)
+#define TGPY_COLUMN_SET_TROPOPAUSE_LAYER_GPM_HI TG_L(5000)
 #define TGPY_COLUMN_SET_RH_TOL_PCT_DEF TG_L(3)
 #define TGPY_COLUMN_SET_RH_TOL_PCT_LO TG_L(0)
 #define TGPY_COLUMN_SET_RH_TOL_PCT_HI TG_L(3)
+#define TGPY_COLUMN_SET_TAKEOVER_READINGS_DEF 3
+#define TGPY_COLUMN_SET_TAKEOVER_READINGS_LO 2
+#define TGPY_COLUMN_SET_TAKEOVER_READINGS_HI 100
 #define TGPY_COLUMN_SET_TRACK_SIGMA_DEF 1   /* True */
 #define TGPY_COLUMN_SET_GEOID_UNDULATION_M_DEF TG_NAN   /* None */
 #define TGPY_COLUMN_SET_GEOID_UNDULATION_M_LO TG_L((-150))
@@ -356,8 +450,53 @@
 #define TGPY_COLUMN_SET_MAX_T_RATE_K_S_DEF TG_L(1)
 #define TGPY_COLUMN_SET_MAX_T_RATE_K_S_LO TG_L(0)
 #define TGPY_COLUMN_SET_MAX_T_RATE_K_S_HI TG_L(100)
-#define TGPY_COLUMN_SET_MAX_T_GRADIENT_K_M_DEF TG_L(0.1)
-#define TGPY_COLUMN_SET_MAX_T_GRADIENT_K_M_LO TG_L(0)
-#define TGPY_COLUMN_SET_MAX_T_GRADIENT_K_M_HI TG_L(10)
+#define TGPY_COLUMN_SET_MAX_T_GRADIENT_K_GPM_DEF TG_L(0.1)
+#define TGPY_COLUMN_SET_MAX_T_GRADIENT_K_GPM_LO TG_L(0)
+#define TGPY_COLUMN_SET_MAX_T_GRADIENT_K_GPM_HI TG_L(10)
+
+/* ---- tinygeo/record.py ---- */
+#define TGPY_RECORD_MAGIC "# tinygeo table 1"
+#define TGPY_RECORD_SITE_PREFIX "# site "
+#define TGPY_RECORD_COLUMNS_N 13
+#define TGPY_RECORD_COLUMNS(X) \
+    X(line) \
+    X(time_s) \
+    X(p_pa) \
+    X(t_k) \
+    X(rh_pct) \
+    X(td_k) \
+    X(gps_m) \
+    X(gph_m) \
+    X(height_m) \
+    X(rate_m_s) \
+    X(sigma_m) \
+    X(flags) \
+    X(events)
+#define TGPY_RECORD_HEADER "line\ttime_s\tp_pa\tt_k\trh_pct\ttd_k\tgps_m\tgph_m\theight_m\trate_m_s\tsigma_m\tflags\tevents"
+#define TGPY_RECORD_FORMAT "%d\t%.3f\t%.2f\t%.3f\t%.2f\t%.3f\t%.2f\t%.3f\t%.3f\t%.3f\t%.3f\t%d\t%s"
+#define TGPY_RECORD_EVENT_WORDS_N 6
+#define TGPY_RECORD_EVENT_WORDS(X) \
+    X(16, "launch") \
+    X(1, "level") \
+    X(2, "tropopause") \
+    X(4, "burst") \
+    X(8, "landed") \
+    X(32, "float")
+#define TGPY_RECORD_EV_LEVEL 1
+#define TGPY_RECORD_SITE_KEYS_N 13
+#define TGPY_RECORD_SITE_KEYS(X) \
+    X(lat_deg) \
+    X(start_height_m) \
+    X(anchor_p_pa) \
+    X(sigma_p_pa) \
+    X(sigma_t_k) \
+    X(sigma_rh_pct) \
+    X(bias_p_pa) \
+    X(bias_t_k) \
+    X(bias_rh_pct) \
+    X(max_rate_m_s) \
+    X(time_unit_s) \
+    X(ice) \
+    X(dry_fallback)
 
 #endif /* TG_TABLES_H */

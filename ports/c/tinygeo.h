@@ -151,50 +151,70 @@ tg_status tg_qnh(TG_FLOAT p_pa, TG_FLOAT elevation_m, TG_FLOAT *out);
 tg_status tg_indicated_altitude(TG_FLOAT p_pa, TG_FLOAT qnh_pa, TG_FLOAT *out);
 
 /* ---- column.py: the streaming Column ------------------------------------ */
-/* Event bits, flags and phases: the values of column.py (EV_*, FL_*, PH_*). */
+/* Event bits, flags and phases: the values of column.py (EV_*, FL_*, PH_*;
+ * column.c stops the build if they drift). */
 #define TG_EV_LEVEL 1
 #define TG_EV_TROPOPAUSE 2
 #define TG_EV_BURST 4
 #define TG_EV_LANDED 8
 #define TG_EV_LAUNCH 16
+#define TG_EV_FLOAT 32
 #define TG_FL_DRY 1
 #define TG_FL_HELD_MIXING 2
 #define TG_FL_NO_TIME 4
 #define TG_FL_DESCENT 8
 #define TG_FL_SAME_P 16
+#define TG_FL_NO_GPS 32
+#define TG_FL_CAPPED 64
+#define TG_FL_REPLACED 128
+#define TG_FL_TAKEOVER 256
+#define TG_FL_SAME_TIME 512
 #define TG_PH_WAIT 0
 #define TG_PH_ASCENT 1
-#define TG_PH_DESCENT 2
-#define TG_PH_LANDED 3
+#define TG_PH_FLOAT 2
+#define TG_PH_DESCENT 3
+#define TG_PH_LANDED 4
+/* column.COUNT_MAX: count, rejected and retracted stop here */
+#define TG_COUNT_MAX 1073741823
+
+/* Time stamps and the event clocks made of them are double in every build
+ * (also with TG_FLOAT float); NaN stands for None (no time stamp). A
+ * difference of two stamps is taken in double and only then becomes a
+ * TG_FLOAT (Python keeps int stamps as ints and subtracts them exactly: for
+ * whole-number stamps below 2^53 double subtraction is exact too, so integer
+ * millisecond ticks with a 1.7e12 origin keep their 1 ms in the float build;
+ * see README.md, "Time"). */
+typedef double tg_time;
 
 struct tg_column;
 /* on_event(column, bits, ctx): called after a reading with events has updated
- * the column (Python: on_event(column, bits); ctx is C's closure). */
+ * the column (Python: on_event(column, bits); ctx is C's closure). As in
+ * Python, a reading that crosses several mandatory levels first calls it with
+ * TG_EV_LEVEL alone for each lower level, in the middle of the update. */
 typedef void (*tg_column_event_fn)(struct tg_column *col, int bits, void *ctx);
 
-/* The Column constructor's keyword arguments, in Python's order and units.
- * tg_column_config_defaults() fills in Python's defaults (generated from
- * Column.__init__ into tg_tables.h, as are the ranges). The settings that
- * Python takes as None are NaN here (Python stores them as NaN too):
- * anchor_p_pa = NaN: no anchor; max_rate_m_s = NaN: no rate check;
- * geoid_undulation_m = NaN: GPS heights are above mean sea level;
- * max_t_step_k = NaN: no temperature-step check. */
+/* The Column constructor's keyword arguments, in Python's order, names and
+ * units. tg_column_config_defaults() fills in Python's defaults (generated
+ * from Column.__init__ into tg_tables.h, as are the ranges). The settings
+ * Python takes as None are NaN here: anchor_p_pa (no anchor), max_rate_m_s
+ * (no rate check), start_guard_m (no guard), geoid_undulation_m (gps_m is
+ * above mean sea level), max_t_step_k (no temperature-step check). Flags
+ * (ice, dry_fallback, track_sigma) must be 0 or 1 (errors.check_flag). */
 typedef struct tg_column_config {
     TG_FLOAT lat_deg, start_height_m, anchor_p_pa;
     const tg_ellipsoid *ellipsoid;   /* NULL = &tg_wgs84 */
     int ice, dry_fallback;
     TG_FLOAT sigma_p_pa, sigma_t_k, sigma_rh_pct, bias_p_pa, bias_t_k, bias_rh_pct;
-    TG_FLOAT max_rate_m_s, landing_s, landing_tol_pa, launch_m, burst_drop_m;
+    TG_FLOAT max_rate_m_s, start_guard_m, time_unit_s, smooth_s, launch_gpm, burst_drop_gpm;
+    TG_FLOAT burst_rate_gpm_s;
     int32_t burst_readings;
-    TG_FLOAT tropopause_max_p_pa, rh_tol_pct;
+    TG_FLOAT float_s, float_band_gpm, landing_s, landing_band_gpm;
+    TG_FLOAT tropopause_max_p_pa, tropopause_layer_gpm, rh_tol_pct;
+    int32_t takeover_readings;
     int track_sigma;
     tg_column_event_fn on_event;
     void *on_event_ctx;
-    TG_FLOAT geoid_undulation_m;     /* NaN = None: gps_m is above mean sea level */
-    /* temperature-step check (reason "temperature"): a reading is rejected when
-     * |t - t_last| > max_t_step_k + max_t_rate_k_s dt + max_t_gradient_k_m |dz| */
-    TG_FLOAT max_t_step_k;           /* NaN = None: no check */
-    TG_FLOAT max_t_rate_k_s, max_t_gradient_k_m;
+    TG_FLOAT geoid_undulation_m, max_t_step_k, max_t_rate_k_s, max_t_gradient_k_gpm;
 } tg_column_config;
 
 /* Why the latest rejected reading was rejected (Python: ReadingError.reason). */
@@ -204,70 +224,148 @@ typedef enum tg_reason {
 } tg_reason;
 const char *tg_reason_name(tg_reason reason);   /* "number", "pressure", ... */
 
-/* The column's state. Public fields are the Python attributes of the same
- * name (NaN where not known yet); the rest is private. Fixed size, no
- * allocation: a tg_column can be a static or a stack variable. The integers
- * are int32_t, the checkpoint's int32s ('<i'), whatever the width of int and
- * long; count and rejected stop at INT32_MAX. */
+/* A new height node (Python: the 6-tuple of Column._nodes). */
+typedef struct tg_nodes {
+    TG_FLOAT g, h, k1, k2, lo, hi;
+} tg_nodes;
+
+/* One reading and the integration state after it (Python: column._Rec, the
+ * same field names; see its docstring). tsr, tr, t0 are time stamps as given
+ * (NaN: None); gpsr and gps_given hold the GPS as given (gps_given 0: None;
+ * gpsr NaN: no fix); q is moisture.rh_q at the reading; half and lay the
+ * layer's (Rd/g0)/2 ln(p0/p) and Tv0 + Tv for the uncertainty step; nodes
+ * holds a new height node while has_nodes is 1. */
+typedef struct tg_rec {
+    TG_FLOAT p_pa, t_k, rh_pct, tv_k, gph_m, c, height_m, rdh, rdt, q, half, lay;
+    tg_time tsr, tr, t0;
+    TG_FLOAT dt, g_t, h_tm, h_t, h_p, h_rh, w, gps_m, gps_diff_m;
+    TG_FLOAT var_done, var_p, ct, tm2, s2, p_start, sum_rh, sum_p, slope, sum_hum, tvh;
+    TG_FLOAT gpsr;
+    int32_t gps_given, flags, gps_here, has_nodes;
+    tg_nodes nodes;
+} tg_rec;
+
+/* The column. Settings and event state are the Python attributes of the same
+ * name (private ones without their leading underscore; NaN where Python has
+ * nan or None); the attributes Python computes from the latest record
+ * (p_pa, gph_m, height_m, rate_m_s, sigma_m, ...) are the tg_column_<name>
+ * functions below. Fixed size, no allocation, no pointer into itself (the
+ * records are addressed by index): a tg_column can be a static or a stack
+ * variable and may be copied. The integers are int32_t, the checkpoint's
+ * int32s ('<i'), whatever the width of int and long. */
 typedef struct tg_column {
-    /* settings */
-    TG_FLOAT lat_deg, start_height_m;
+    /* settings (Column.__init__) */
+    TG_FLOAT lat_deg, start_height_m, anchor_p_pa;
     const tg_ellipsoid *ellipsoid;
-    int32_t ice, dry_fallback, track_sigma;
+    int32_t ellipsoid_code, ice, dry_fallback, burst_readings, takeover_readings, track_sigma;
     TG_FLOAT sigma_p_pa, sigma_t_k, sigma_rh_pct, bias_p_pa, bias_t_k, bias_rh_pct;
-    TG_FLOAT landing_s, landing_tol_pa, launch_m, burst_drop_m, tropopause_max_p_pa, rh_tol_pct;
-    TG_FLOAT max_t_rate_k_s, max_t_gradient_k_m;
-    int32_t burst_readings;
+    TG_FLOAT max_rate_m_s, start_guard_m, time_unit_s, smooth_s, launch_gpm, burst_drop_gpm;
+    TG_FLOAT burst_rate_gpm_s, float_s, float_band_gpm, landing_s, landing_band_gpm;
+    TG_FLOAT tropopause_max_p_pa, tropopause_layer_gpm, rh_tol_pct;
+    TG_FLOAT geoid_undulation_m, max_t_step_k, max_t_rate_k_s, max_t_gradient_k_gpm;
     tg_column_event_fn on_event;
     void *on_event_ctx;
-    /* attributes */
-    int32_t count, rejected;          /* saturate at INT32_MAX (Python's ints grow on) */
-    tg_reason reason;                 /* of the latest rejection (C only, diagnostic like rejected) */
-    int32_t flags, phase;
-    TG_FLOAT p_pa, t_k, tv_k, rh_pct, time_s, gph_m, height_m, rate_m_s;
-    TG_FLOAT max_gph_m, launch_time_s, burst_gph_m, burst_time_s, burst_p_pa;
-    TG_FLOAT level_p_pa, level_gph_m, level_height_m, level_t_k;
-    TG_FLOAT tropopause_p_pa, tropopause_gph_m, tropopause_t_k;
-    TG_FLOAT gps_m, gps_diff_m;
-    /* private (Python's _names without the underscore) */
-    int32_t ell, lvl, tp_state, burst_n, gps_n;
-    TG_FLOAT anchor, max_rate, min_rate, spk2, st2, geoid_n, t_step, t_step_neg;
+    /* derived settings */
     TG_FLOAT pc[12];                  /* the geopotential series at lat_deg (potential.series) */
-    TG_FLOAT c, t_last, g_t, min_gph, launch_gph, max_time, max_p, burst_line, env_g;
-    TG_FLOAT land_lo, land_hi, land_t, h_t, h_p, h_rh, w_held;
+    TG_FLOAT a_m, g_start, anchor, max_rate, unit, float_u, land_u, kz, kn, t_lim, t_lim_neg;
+    TG_FLOAT spk2, st2;
+    TG_FLOAT c_dt, c_lim, c_neg;      /* max_rate_m_s dt for the latest dt (a cache) */
+    /* counters */
+    int32_t count, rejected, retracted;
+    tg_reason reason;                 /* of the latest rejection (C only; Python: ReadingError.reason) */
+    /* event state (column._ST_F, _ST_I); the clocks are tg_time */
+    int32_t phase, has_b, e_n, lvl, burst_n, tb_n, tp_state;
+    int32_t t0_int, t0_hi, t0_lo;     /* the first stamp's int32 halves (written by to_bytes) */
+    TG_FLOAT smooth_gph_m, f_v, max_gph_m, launch_time_s, burst_gph_m, burst_time_s, burst_p_pa;
+    TG_FLOAT float_gph_m, float_time_s, landing_time_s, level_p_pa, level_gph_m, level_height_m;
+    TG_FLOAT level_t_k, tropopause_p_pa, tropopause_gph_m, tropopause_t_k, tropopause_time_s;
+    TG_FLOAT e_p, e_g, e_t, f_dt, f_a, f_b, f_cx, f_cv, f_bv, max_p, min_g, launch_line;
+    TG_FLOAT fl_g, fl_lo, fl_hi, land_lo, land_hi, tb_top, tb_g0, tb_g1, tb_st, tb_th;
     TG_FLOAT tp_g, tp_top, tp_th, tp_p, tp_t;
-    TG_FLOAT n_g, n_h, n_k1, n_k2, n_lo, n_hi, h_tm;
-    TG_FLOAT var_done, ct, tm2, s2, p_start, sum_rh, sum_p, slope, var_anchor;
+    tg_time max_clk, fl_clk, fl_end, land_end, tb_c0, tb_c1, tp_clk;
+    TG_FLOAT n_g, n_h, n_k1, n_k2, n_lo, n_hi, var_anchor;
+    /* the records: rec[h] the latest accepted reading, rec[b] the one before,
+     * rec[n], rec[m] and rec[k] scratch, rec[cr] the recovery run's latest reading */
+    tg_rec rec[6];
+    unsigned char h, b, n, m, k, cr;
+    /* the recovery memory (not in checkpoints) */
+    int32_t run, run_b;
+    tg_reason why, run_why;           /* Python: _why, _run_why (C keeps the reason only) */
 } tg_column;
 
 void tg_column_config_defaults(tg_column_config *cfg, TG_FLOAT lat_deg);
 /* Column(...): TG_RANGE for a bad setting (col untouched). */
 tg_status tg_column_init(tg_column *col, const tg_column_config *cfg);
-/* col.feed(p_pa, t_k, rh_pct, time_s, gps_m): NULL for None. On TG_OK *bits
- * holds the event bits; on TG_READING the reading was rejected, col->rejected
- * was incremented, col->reason says why, and nothing else changed (*bits = 0). */
+/* col.feed(p_pa, t_k, rh_pct, time_s, gps_m): rh_pct NULL for None;
+ * time_s NaN for None (an infinite time_s is rejected as 'number'); gps_m
+ * NULL for None, pointing to NaN for "no fix". On TG_OK *bits holds the event
+ * bits; on TG_READING the reading was rejected, col->reason says why, and the
+ * results are unchanged (rejected, retracted and the recovery memory move,
+ * as in Python); *bits = 0. */
 tg_status tg_column_feed(tg_column *col, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_FLOAT *rh_pct,
-                         const TG_FLOAT *time_s, const TG_FLOAT *gps_m, int *bits);
+                         tg_time time_s, const TG_FLOAT *gps_m, int *bits);
 /* col.reanchor_gps(sigma_gps_m): *out = the shift applied, m. TG_STATE when
  * the latest reading has no gps_m, TG_RANGE for a bad sigma_gps_m. */
 tg_status tg_column_reanchor_gps(tg_column *col, TG_FLOAT sigma_gps_m, TG_FLOAT *out);
-/* Checkpoints, byte for byte the layout of column.py's to_bytes() (magic
- * "TGCK", version, payload length, the settings and state as little-endian
- * IEEE doubles and int32s, CRC-32): a blob written by C is read by Python's
- * Column.from_bytes and the other way round. Needs IEEE 754 binary64 doubles
- * for the packing (a float build converts each value to double and back,
- * exactly). on_event is not stored: pass it to tg_column_from_bytes. */
-#define TG_CHECKPOINT_BYTES 695
-/* col.to_bytes(): writes TG_CHECKPOINT_BYTES bytes (TG_RANGE if size is smaller) */
-tg_status tg_column_to_bytes(const tg_column *col, unsigned char *buf, size_t size);
-/* Column.from_bytes(blob, on_event): TG_CHECKPOINT and col untouched on a bad blob */
-tg_status tg_column_from_bytes(tg_column *col, const unsigned char *blob, size_t n,
-                               tg_column_event_fn on_event, void *on_event_ctx);
 
-/* The uncertainty properties, m (NaN before the first reading or without track_sigma). */
+/* The properties of Column (NaN where not known yet). */
+TG_FLOAT tg_column_p_pa(const tg_column *col);
+TG_FLOAT tg_column_t_k(const tg_column *col);
+TG_FLOAT tg_column_tv_k(const tg_column *col);
+TG_FLOAT tg_column_rh_pct(const tg_column *col);
+TG_FLOAT tg_column_time_s(const tg_column *col);        /* s since time_origin */
+tg_time tg_column_time_origin(const tg_column *col);    /* NaN: None */
+TG_FLOAT tg_column_gph_m(const tg_column *col);
+TG_FLOAT tg_column_height_m(const tg_column *col);
+TG_FLOAT tg_column_rate_m_s(const tg_column *col);
+int32_t tg_column_flags(const tg_column *col);
+TG_FLOAT tg_column_gps_m(const tg_column *col);
+TG_FLOAT tg_column_gps_diff_m(const tg_column *col);
+TG_FLOAT tg_column_noise_gph_m(const tg_column *col);
+TG_FLOAT tg_column_smooth_rate_gpm_s(const tg_column *col);
 TG_FLOAT tg_column_sigma_random_m(const tg_column *col);
 TG_FLOAT tg_column_sigma_bias_m(const tg_column *col);
 TG_FLOAT tg_column_sigma_m(const tg_column *col);
+
+/* Checkpoints, byte for byte Column.to_bytes (tinygeo/checkpoint.py's frame:
+ * magic "TGCK", version, payload length, the settings and state as
+ * little-endian IEEE doubles and int32s, CRC-32): a blob written by C is read
+ * by Python's Column.from_bytes and the other way round. Time stamps are
+ * stored relative to the first one; the first one as a double and, when it
+ * is a whole number of magnitude below 2^62, also as two int32 halves
+ * (Python: when it is an int; see README.md). Needs IEEE 754 binary64 doubles
+ * for the packing (a float build converts each value to double, exactly).
+ * on_event is not stored: pass it to tg_column_from_bytes. */
+#define TG_CHECKPOINT_BYTES 1295
+/* col.to_bytes(): writes TG_CHECKPOINT_BYTES bytes (TG_RANGE if size is
+ * smaller); like Python it sets col->t0_int, t0_hi, t0_lo on the way */
+tg_status tg_column_to_bytes(tg_column *col, unsigned char *buf, size_t size);
+/* Column.from_bytes(blob, on_event): TG_CHECKPOINT and col untouched for a
+ * blob Python refuses */
+tg_status tg_column_from_bytes(tg_column *col, const unsigned char *blob, size_t n,
+                               tg_column_event_fn on_event, void *on_event_ctx);
+
+/* ---- record.py: the table of per-reading results (record.c) -------------- */
+/* record.MAGIC ("# tinygeo table 1") and record.HEADER (the column names,
+ * TAB-separated): the first line and the header line of a table. */
+extern const char tg_record_magic[];
+extern const char tg_record_header[];
+/* Each writes its text into buf like snprintf (no newline) and returns the
+ * length of the whole text: a result >= size means it was cut. */
+/* record.events_text(bits, level_p_pa): "-" when no bit is set; n_levels
+ * pressures for the level bit (lowest first) */
+int tg_record_events_text(int bits, const TG_FLOAT *level_p_pa, int n_levels, char *buf,
+                          size_t size);
+/* record.row(...): NaN for a value not given */
+int tg_record_row(int32_t line, TG_FLOAT time_s, TG_FLOAT p_pa, TG_FLOAT t_k, TG_FLOAT rh_pct,
+                  TG_FLOAT td_k, TG_FLOAT gps_m, TG_FLOAT gph_m, TG_FLOAT height_m,
+                  TG_FLOAT rate_m_s, TG_FLOAT sigma_m, int32_t flags, const char *events,
+                  char *buf, size_t size);
+/* record.column_row(line, col, bits, rh_pct, gps_m, td_k): NULL for None */
+int tg_record_column_row(int32_t line, const tg_column *col, int bits, const TG_FLOAT *rh_pct,
+                         const TG_FLOAT *gps_m, const TG_FLOAT *td_k, char *buf, size_t size);
+/* record.site_line(col) */
+int tg_record_site_line(const tg_column *col, char *buf, size_t size);
 
 #ifdef __cplusplus
 }
