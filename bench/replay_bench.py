@@ -24,7 +24,8 @@ FLOOR (in this process, on the readings already parsed: Column.feed and the
 public attributes a table row reads, gph_m height_m rate_m_s sigma_m flags;
 no parsing, no formatting): what the column alone costs per reading. The
 ratio replay/plain is that of the fastest of ``--repeat`` alternated runs
-of each (the machine is shared: the fastest run is the least disturbed);
+of each (the machine is shared: the fastest run is the least disturbed), by
+wall time and by the children's CPU time (getrusage);
 the floor/plain ratio says how much of it the column takes before the host
 does anything.
 Not run by the tests.
@@ -80,14 +81,20 @@ with open(sys.argv[1], newline="") as f, open("/dev/null", "w") as out:
 """
 
 
+def _cpu():
+    r = resource.getrusage(resource.RUSAGE_CHILDREN)
+    return r.ru_utime + r.ru_stime
+
+
 def plain(path):
-    """The plain script on ``path`` in a child process; seconds."""
+    """The plain script on ``path`` in a child process; (wall s, CPU s)."""
+    c0 = _cpu()
     t0 = time.perf_counter()
     p = subprocess.run([sys.executable, "-c", PLAIN, path], capture_output=True, text=True)
     dt = time.perf_counter() - t0
     if p.returncode != 0:
         raise SystemExit("plain script failed: %s" % p.stderr[-2000:])
-    return dt
+    return dt, _cpu() - c0
 
 
 def column_floor(path, limit, repeat):
@@ -118,8 +125,9 @@ def column_floor(path, limit, repeat):
 
 
 def replay(path):
-    """Replay ``path`` in a child process; return (seconds, peak RSS KiB, stderr)."""
+    """Replay ``path`` in a child process; return (wall s, peak RSS KiB, stdout, CPU s)."""
     before = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss
+    c0 = _cpu()
     t0 = time.perf_counter()
     p = subprocess.run([sys.executable, "-m", "tinygeo", "replay", path, "-o", os.devnull,
                         "--quiet"], capture_output=True, text=True, cwd=ROOT)
@@ -128,7 +136,7 @@ def replay(path):
     if p.returncode != 0:
         raise SystemExit("replay failed (%d): %s" % (p.returncode, p.stderr[-2000:]))
     # RUSAGE_CHILDREN keeps the largest child so far: run the small log first
-    return dt, max(peak, before), p.stdout
+    return dt, max(peak, before), p.stdout, _cpu() - c0
 
 
 def main():
@@ -151,27 +159,32 @@ def main():
         gen, a.small, os.path.getsize(small) / 1e6, a.lines, os.path.getsize(big) / 1e6))
     results = {}
     for name, path, n in (("small", small, a.small), ("big", big, a.lines)):
-        dt, peak, out = replay(path)
-        results[name] = dt
+        dt, peak, out, cpu = replay(path)
+        results[name] = (dt, cpu)
         accepted = [ln for ln in out.splitlines() if ln.startswith("#: accepted")]
         print("replay %-5s %8d lines: %7.1f s, %6.1f us/reading, peak RSS %.1f MiB  %s" % (
             name, n, dt, 1e6 * dt / n, peak / 1024.0, accepted[0] if accepted else ""))
     # the ratio: replay and plain script alternated, the fastest of each (the
-    # least disturbed by other jobs on the machine)
+    # least disturbed by other jobs on the machine), by wall time and by the
+    # CPU time of the child (user + system, less sensitive to other jobs)
     tr, tp = [results["big"]], []
     for i in range(a.repeat):
         tp.append(plain(big))
         if i + 1 < a.repeat:
-            tr.append(replay(big)[0])
-    print("replay big (%d runs): %s s; plain (%d runs): %s s" % (
-        len(tr), " ".join("%.2f" % x for x in tr), len(tp), " ".join("%.2f" % x for x in tp)))
-    print("plain  big   %8d lines: %7.2f s, %6.2f us/reading (csv module, float() per field, "
-          "one formatted line per row; fastest run)" % (a.lines, min(tp), 1e6 * min(tp) / a.lines))
+            r = replay(big)
+            tr.append((r[0], r[3]))
+    print("replay big (%d runs): wall %s s, CPU %s s" % (
+        len(tr), " ".join("%.2f" % x[0] for x in tr), " ".join("%.2f" % x[1] for x in tr)))
+    print("plain  big (%d runs): wall %s s, CPU %s s (csv module, float() per field, one "
+          "formatted line per row)" % (len(tp), " ".join("%.2f" % x[0] for x in tp),
+                                       " ".join("%.2f" % x[1] for x in tp)))
     fl = column_floor(big, min(a.lines, 200000), a.repeat)
-    print("column floor (feed + the row's attributes, %d readings): %6.2f us/reading"
-          % (min(a.lines, 200000), 1e6 * fl))
-    print("ratio replay/plain %.2f (fastest runs); column floor/plain %.2f"
-          % (min(tr) / min(tp), fl * a.lines / min(tp)))
+    wall_p = min(x[0] for x in tp)
+    print("column floor (feed + the row's attributes, %d readings, in this process): "
+          "%.2f us/reading" % (min(a.lines, 200000), 1e6 * fl))
+    print("ratio replay/plain: wall %.2f, CPU %.2f (fastest runs); column floor/plain wall %.2f"
+          % (min(x[0] for x in tr) / wall_p, min(x[1] for x in tr) / min(x[1] for x in tp),
+             fl * a.lines / wall_p))
     for path in (small, big if not a.keep else None):
         if path:
             os.remove(path)
