@@ -209,3 +209,15 @@ def test_a_sea_level_site_without_a_start_height_is_not_refused():
     rc, out, err = main(["replay", "-"], log.replace("start_height_m=5", ""))
     assert rc == 0, err
     assert "start_height_m=0.000" in out
+
+
+def test_humidity_goes_before_a_dew_point_column_with_a_note(flight):
+    # two columns of one moisture: not ambiguous (both give the humidity); the
+    # humidity is used and the note says how to use the dew point instead
+    log = edit(flight, "time_s,pressure_hpa,temp_c,rh_pct,gps_m,dewpoint_c",
+               lambda f: ",".join(f + ["1.00"]))
+    rc, out, err = main(["replay", "-"], log)
+    assert rc == 0, err
+    assert "column 'dewpoint_c' (dew point) not used: the humidity comes from column 'rh_pct'; " \
+           "give --dew-point dewpoint_c to use it instead" in err
+    assert heights(out) == heights(main(["replay", "-"], flight)[1])
