@@ -9,8 +9,11 @@ Public names are available here; each lives in a one-concept module:
 - moisture:     saturation_vapour_pressure, vapour_pressure, ... virtual_temperature (K)
 - layers:       ln_ratio, layer_thickness (gpm), layer_thickness_lapse, pressure_across_layer (Pa)
 - standard:     standard_temperature (K), standard_pressure (Pa), pressure_altitude (gpm)
-- sealevel:     sea_level_pressure, qfe, qnh (Pa), indicated_altitude (m)
+- sealevel:     sea_level_pressure, qfe, qnh (Pa), indicated_altitude (m),
+                isobaric_height (gpm), standard_surface_pa (Pa)
 - column:       Column, the streaming integration of an atmospheric column
+- station:      Station, averages, sea-level pressure, tendency and QC of a
+                fixed station or buoy; tendency_code (WMO code table 0200)
 - errors:       TinygeoError and its ValueError subclasses
 
 Importing the package loads none of them: a module is imported the first
@@ -34,14 +37,16 @@ _WHERE = (
     "gravity: normal_gravity somigliana_gravity "
     "potential: geopotential geopotential_height geometric_height msl_height "
     "moisture: saturation_vapour_pressure enhancement_factor vapour_pressure "
-    "vapour_pressure_from_dew_point dew_point mixing_ratio specific_humidity "
+    "vapour_pressure_from_dew_point dew_point dew_point_from_rh mixing_ratio specific_humidity "
     "virtual_temperature virtual_temperature_from_mixing_ratio "
     "layers: ln_ratio layer_thickness layer_thickness_lapse pressure_across_layer layer_mean_tv "
     "standard: standard_temperature standard_pressure pressure_altitude "
-    "sealevel: sea_level_pressure qfe qnh indicated_altitude "
+    "sealevel: sea_level_pressure qfe qnh indicated_altitude isobaric_height standard_surface_pa "
     "column: Column EV_LEVEL EV_TROPOPAUSE EV_BURST EV_LANDED EV_LAUNCH EV_FLOAT FL_DRY "
     "FL_HELD_MIXING FL_NO_TIME FL_DESCENT FL_SAME_P FL_NO_GPS FL_CAPPED FL_REPLACED FL_TAKEOVER "
     "FL_SAME_TIME PH_WAIT PH_ASCENT PH_FLOAT PH_DESCENT PH_LANDED "
+    "station: Station tendency_code EV_AVERAGE EV_FLAGS EV_GAP FL_STUCK_P FL_STUCK_T FL_STUCK_RH "
+    "FL_GAP FL_TREND_GAP FL_NO_T12 FL_FEW "
 )
 
 

@@ -1,4 +1,5 @@
-"""Humidity: saturation vapour pressure, vapour pressure, dew/frost point,
+"""Humidity: saturation vapour pressure, vapour pressure, dew/frost point
+(from the vapour pressure, or in one call from temperature and relative humidity),
 mixing ratio, specific humidity and virtual temperature.
 
 All quantities are SI: pressures in Pa, temperatures in K, mixing ratio and
@@ -93,7 +94,7 @@ P_MAX_PA = 120000.0
 """Highest pressure accepted by this module, Pa."""
 
 # ---------------------------------------------------------------------------
-# Kernels: arguments not checked (ONE_M_EPS .. tv_w).
+# Kernels: arguments not checked (ONE_M_EPS .. td_rh).
 # The fast forms the checked functions below are built on, public so that
 # tinygeo.column, tinygeo.sealevel and the host tools call them after
 # checking their inputs once (every check builds floats: heap blocks on
@@ -156,6 +157,19 @@ def tv_rh(t_k, p_pa, rh_pct, ice):
 def tv_w(t_k, w_kg_kg):
     # virtual_temperature_from_mixing_ratio without the checks (callers check)
     return t_k * (1.0 + w_kg_kg / EPSILON) / (1.0 + w_kg_kg)
+
+
+def td_rh(t_k, rh_pct, ice):
+    # dew_point_from_rh without the checks (callers check t_k in 150..350 K
+    # and rh_pct > 0); the result may lie outside 150..350 K (callers check)
+    t = t_k - ZERO_C_K
+    if ice and t <= 0.0:
+        y = math.log(rh_pct * 0.01) + _AI * t / (_BI + t)
+    else:
+        y = math.log(rh_pct * 0.01) + _AW * t / (_BW + t)
+    if ice and y <= 0.0:
+        return _BI * y / (_AI - y) + ZERO_C_K
+    return _BW * y / (_AW - y) + ZERO_C_K
 
 
 # ---------------------------------------------------------------------------
@@ -298,6 +312,46 @@ def dew_point(e_pa, p_pa, ice=False):
     if td < 150.0 or td > 350.0:
         raise errors.ModelRangeError("dew point %.2f K for e_pa=%g Pa outside 150..350 K; "
                                      "check e_pa (pascal expected)" % (td, e))
+    return td
+
+
+def dew_point_from_rh(t_k, rh_pct, ice=False):
+    """Dew point (frost point if ice=True and below 0 degC) of air of a given
+    temperature and relative humidity, K.
+
+    t_k:    air temperature, K, 150..350;
+    rh_pct: relative humidity, %, above 0 and up to 103 (check_rh's sensor
+            margin); with respect to water by default, with respect to ice
+            at and below 0 degC if ice=True (as vapour_pressure).
+
+    Formula: the inverse of the [WMO8] Annex 4.B Magnus forms (from memory)
+    applied to e' = (U/100) e'_w(p, t): the dew point Td solves
+    f(p) e_w(Td) = (U/100) f(p) e_w(t), and the enhancement factor f(p)
+    cancels at one pressure, so no pressure is needed:
+        y = ln(U/100) + a t/(b + t),   Td = b y/(a - y)   (degC),
+    (a, b) = (17.62, 243.12 degC) over water, (22.46, 272.62 degC) over ice.
+    With ice=True, y is formed with the ice constants when t <= 0 degC and
+    the result is a frost point (ice constants) when y <= 0, as in dew_point:
+    dew_point(vapour_pressure(t, p, U, ice), p, ice) gives the same value to
+    rounding. Magnus-form accuracy: see the module docstring (the dew point
+    inherits about 0.13 K over water, 0.06 K over ice in the recommended
+    ranges, tests/vectors/moisture.txt).
+
+    Raises RangeError for rh_pct <= 0 (dry air has no dew point),
+    ModelRangeError if the result falls outside 150..350 K.
+
+    Example: dew_point_from_rh(293.15, 50.0) -> 282.405 K (9.26 degC).
+    """
+    ice = errors.check_flag("ice", ice)
+    t_k = check_t_k("t_k", t_k)
+    rh = errors.check_rh(rh_pct)
+    if rh <= 0.0:
+        raise errors.RangeError("rh_pct=%s: no dew point for dry air; pass rh_pct > 0 %%"
+                                % errors.quote(rh_pct))
+    td = td_rh(t_k, rh, ice)
+    if td < 150.0 or td > 350.0:
+        raise errors.ModelRangeError("dew point %.2f K for t_k=%r, rh_pct=%r outside 150..350 K; "
+                                     "check rh_pct (percent expected)" % (td, t_k, rh))
     return td
 
 

@@ -223,3 +223,115 @@ def indicated_altitude(p_pa, qnh_pa):
     """
     q = check_p_pa("qnh_pa", qnh_pa, QNH_MIN_PA, QNH_MAX_PA)
     return standard.pressure_altitude(p_pa) - standard.altitude_at(q)
+
+
+# ---------------------------------------------------------------------------
+# Additions for stations (tinygeo.station): an unchecked kernel of the
+# sea-level reduction, and the height of a standard isobaric surface that
+# high stations report instead of (or beside) the sea-level pressure.
+# ---------------------------------------------------------------------------
+
+def msl_tv(p_pa, tv_k, gph_m):
+    # sea_level_pressure without the checks, from the station's virtual
+    # temperature and the barometer's geopotential height (callers check and
+    # convert once): the same operations in the same order, so the same
+    # result as sea_level_pressure(p, t, h, rh, lat) for tv_k = its Tv and
+    # gph_m = geopotential_height(h, lat)
+    return p_pa + p_pa * math.expm1(G_RD * gph_m / (tv_k + 0.5 * LAPSE_K_GPM * gph_m))
+
+
+HIGH_STATION_M = 800.0
+"""Barometer height above which tinygeo.station also gives the geopotential
+height of a standard isobaric surface (standard_surface_pa), m. WMO practice
+lets a station that cannot reduce its pressure to sea level with reasonable
+accuracy report the geopotential of an agreed standard isobaric surface
+instead (WMO-No. 306 Manual on Codes, FM 12 SYNOP, group 4a3hhh; the choice of
+surface is regional practice; from memory)."""
+
+
+def standard_surface_pa(height_m):
+    """The standard isobaric surface whose geopotential height a station at
+    this height reports, Pa; None below HIGH_STATION_M.
+
+    height_m: barometer height above mean sea level, m, -500..5000.
+
+    Rule (regional practice under WMO-No. 306 FM 12 SYNOP group 4a3hhh, from
+    memory; a national service may choose otherwise): 850 hPa for stations
+    from 800 m to below 2300 m, 700 hPa from 2300 m to below 3700 m, 500 hPa
+    from 3700 m up. Each surface then lies, in the standard atmosphere, a few
+    hundred metres to about 2 km from the station, so the fictitious column
+    of isobaric_height is short.
+
+    Example: standard_surface_pa(1600.0) -> 85000.0.
+    """
+    h = _check_height("height_m", height_m)
+    if h < HIGH_STATION_M:
+        return None
+    if h < 2300.0:
+        return 85000.0
+    if h < 3700.0:
+        return 70000.0
+    return 50000.0
+
+
+ISO_MIN_PA = 50000.0
+ISO_MAX_PA = 100000.0
+"""Accepted standard isobaric surfaces for isobaric_height, Pa (500..1000 hPa:
+the surfaces of FM 12 group 4a3hhh, from memory)."""
+
+
+def iso_tv(p_pa, tv_k, gph_m, iso_p_pa):
+    # isobaric_height without the checks: gph_m + the constant-lapse
+    # thickness from the barometer to iso_p_pa (as layer_thickness_lapse,
+    # with the lapse LAPSE_K_GPM), gpm. Within the checked ranges Tv stays
+    # above 150 K at the far end (|y| <= 0.17), so expm1(y)/y is safe
+    from .layers import lnr, HALF_RG
+    rg = 2 * HALF_RG                   # Rd/g0, gpm per K
+    x = lnr(p_pa, iso_p_pa)
+    y = -rg * LAPSE_K_GPM * x
+    if y == 0.0:
+        return gph_m + rg * tv_k * x
+    return gph_m + rg * tv_k * x * (math.expm1(y) / y)
+
+
+def isobaric_height(p_pa, t_k, height_m, iso_p_pa, rh_pct=None, lat_deg=None, ice=False):
+    """Geopotential height of a standard isobaric surface estimated from a
+    station's pressure and temperature, gpm.
+
+    p_pa      barometer (station) pressure, Pa, 40000..115000
+    t_k       air temperature at the station, K, 180..340
+    height_m  barometer height above mean sea level, m, -500..5000
+    iso_p_pa  the isobaric surface, Pa, 50000..100000 (85000 or 70000 as
+              standard_surface_pa chooses, or another)
+    rh_pct    relative humidity at the station, %, or None for dry air
+    lat_deg   latitude, degrees: height_m is converted to geopotential height
+              (as in sea_level_pressure); None: height_m taken as gpm
+    ice       passed to virtual_temperature
+
+    Method: the fictitious column of sea_level_pressure ([WMO8] Vol. I Ch. 3,
+    from memory): virtual temperature Tv(station), falling with height at
+    0.0065 K/gpm, extended from the barometer up or down to iso_p_pa, with
+    the exact thickness of a constant-lapse layer ([USSA76] eq. 33a solved
+    for the height, as tinygeo.layer_thickness_lapse):
+        Z = H + (Tv/L) (1 - (p_iso/p)^(Rd L/g0)),  L = 0.0065 K/gpm,
+    H the barometer's geopotential height. A surface below the station
+    (p_iso > p) gives the height of the extrapolated column, as reported by
+    high stations (WMO-No. 306 FM 12 group 4a3hhh, from memory). In the
+    standard atmosphere (a station at H with the standard's p and T, dry) it
+    returns the standard's own height of iso_p_pa exactly up to rounding.
+
+    Example (an invented mountain station): 1600 m, 838.0 hPa, 8 degC, dry:
+    isobaric_height(83800.0, 281.15, 1600.0, 85000.0) -> 1482.8 gpm.
+    """
+    ice = check_flag("ice", ice)
+    p = check_p_pa("p_pa", p_pa, P_STATION_MIN_PA, P_STATION_MAX_PA)
+    t = check_t_k("t_k", t_k, T_MIN_K, T_MAX_K)
+    h = _check_height("height_m", height_m)
+    iso = check_p_pa("iso_p_pa", iso_p_pa, ISO_MIN_PA, ISO_MAX_PA)
+    tv = t
+    if rh_pct is not None:
+        tv = moisture.virtual_temperature(t, p, rh_pct, ice)
+    if lat_deg is not None:
+        from . import potential
+        h = potential.geopotential_height(h, lat_deg)
+    return iso_tv(p, tv, h, iso)

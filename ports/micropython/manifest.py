@@ -31,6 +31,7 @@ package(
         "record.py",
         "sealevel.py",
         "standard.py",
+        "station.py",
     ),
     base_path="../..",
 )
