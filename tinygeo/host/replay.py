@@ -22,6 +22,7 @@ import time as _time
 from array import array
 
 from tinygeo import record
+from tinygeo.moisture import td_rh
 from tinygeo.column import (EV_LEVEL, EV_TROPOPAUSE, EV_BURST, EV_LANDED, EV_LAUNCH, EV_FLOAT,
                             FL_REPLACED, FL_TAKEOVER, PH_WAIT, PH_ASCENT, PH_FLOAT, PH_DESCENT)
 from tinygeo.host import table
@@ -48,16 +49,6 @@ SLOW_M_S = 0.02           # slower than this over the first move: the times are 
 SLOW_SPACING_S = 10.0     # ... and only when the readings are at least this far apart
 FAST_FACTOR = 10.0        # faster than this times the column's default max_rate_m_s: too small
 
-# The Magnus form over water and over ice, WMO-No. 8 (2018), Vol. I, Annex
-# 4.B: e_w(t) = 6.112 hPa exp(17.62 t/(243.12 + t)), e_i(t) = 6.112 hPa
-# exp(22.46 t/(272.62 + t)), t in degC
-MAGNUS_A_W = 17.62
-MAGNUS_B_W = 243.12       # degC
-MAGNUS_A_I = 22.46
-MAGNUS_B_I = 272.62       # degC
-ZERO_C_K = 273.15
-
-
 class ReplayAbort(InputError):
     """The replay cannot go on (nothing accepted at the start, most readings
     rejected for one reason, a time unit the readings contradict); exit status 2."""
@@ -67,21 +58,15 @@ def dew_point_k(t_k, rh_pct, ice=False):
     """Dew point, K, of air at t_k (K) with relative humidity rh_pct (%); nan
     when the humidity is missing or not above 0.
 
-    The inverse of the Magnus form of WMO-No. 8 (2018) Vol. I Annex 4.B with
-    the vapour pressure e = rh/100 e_s(t) (the enhancement factor f(p)
-    multiplies both and cancels): y = ln(rh/100) + a t/(b + t),
-    td = b y/(a - y) (t, td in degC; a = 17.62, b = 243.12 over water). With
-    ``ice`` the humidity is relative to ice at and below 0 degC (the
-    column's ``ice``), so y takes the ice coefficients (22.46, 272.62) for
-    e_s; the dew point is over water either way."""
+    tinygeo.moisture.td_rh, the kernel of dew_point_from_rh: the inverse of
+    the Magnus form of WMO-No. 8 Annex 4.B applied to e = rh/100 e_s(t) (the
+    enhancement factor cancels): y = ln(rh/100) + a t/(b + t),
+    td = b y/(a - y) (degC; a = 17.62, b = 243.12 over water). With ``ice``
+    (the column's: humidity relative to ice at and below 0 degC) it is the
+    frost point there, as dew_point_from_rh gives."""
     if rh_pct is None or not rh_pct > 0.0:
         return NAN
-    t = t_k - ZERO_C_K
-    if ice and t <= 0.0:
-        y = math.log(rh_pct * 0.01) + MAGNUS_A_I * t / (MAGNUS_B_I + t)
-    else:
-        y = math.log(rh_pct * 0.01) + MAGNUS_A_W * t / (MAGNUS_B_W + t)
-    return MAGNUS_B_W * y / (MAGNUS_A_W - y) + ZERO_C_K
+    return td_rh(t_k, rh_pct, ice)
 
 
 def geometric_height_m(gph_m, lat_deg):
@@ -432,8 +417,6 @@ def run(reader, col, summary, report, out=None, every=1, flush=False, sink=None,
     fmt = record.FORMAT + "\n"
     write = out.write if out is not None else None
     ice = col.ice
-    log = math.log
-    aw, bw, ai, bi = MAGNUS_A_W, MAGNUS_B_W, MAGNUS_A_I, MAGNUS_B_I
     nan = NAN
     ring_t, ring_l = summary.ring_t, summary.ring_l
     mask = RING - 1
@@ -515,16 +498,7 @@ def run(reader, col, summary, report, out=None, every=1, flush=False, sink=None,
                 continue
             if thin and not bits and (accepted - 1) % every:
                 continue
-            if rh is not None and rh > 0.0:
-                # dew_point_k, written out
-                tc = t - 273.15
-                if ice and tc <= 0.0:
-                    y = log(rh * 0.01) + ai * tc / (bi + tc)
-                else:
-                    y = log(rh * 0.01) + aw * tc / (bw + tc)
-                td = bw * y / (aw - y) + 273.15
-            else:
-                td = nan
+            td = td_rh(t, rh, ice) if rh is not None and rh > 0.0 else nan
             if bits:
                 ev = record.events_text(bits, [lv[0] for lv in levels] if bits & EV_LEVEL else nan)
             else:
