@@ -3,7 +3,7 @@
 Usage (from the repository root, with the package installed)::
 
     python bench/replay_bench.py              # 1 000 000 lines (and 100 000 for comparison)
-    python bench/replay_bench.py --lines 200000 --keep /tmp/float.csv
+    python bench/replay_bench.py --lines 200000 --keep /tmp/float.csv --repeat 1
 
 The log is an invented long-duration flight, written by this script: a
 balloon rises at 5 m/s to a float height near 20 km and floats there for
@@ -16,6 +16,18 @@ Each replay runs as its own process (``python -m tinygeo replay LOG -o
 /dev/null``) so its peak resident memory can be read with
 ``resource.getrusage(RUSAGE_CHILDREN).ru_maxrss`` after it ends (Linux: KiB).
 A replay that streams uses the same peak for 100 000 and 1 000 000 lines.
+
+In the same run, for the ratio the replay is judged by: the PLAIN script (a
+child process too: the csv module reads the same log, float() on every
+field, one formatted line written per row, to /dev/null), and the COLUMN
+FLOOR (in this process, on the readings already parsed: Column.feed and the
+public attributes a table row reads, gph_m height_m rate_m_s sigma_m flags;
+no parsing, no formatting): what the column alone costs per reading. The
+ratio replay/plain is that of the fastest of ``--repeat`` alternated runs
+of each (the machine is shared: the fastest run is the least disturbed), by
+wall time and by the children's CPU time (getrusage);
+the floor/plain ratio says how much of it the column takes before the host
+does anything.
 Not run by the tests.
 """
 import argparse
@@ -58,9 +70,64 @@ def write_log(path, n):
             f.write("%d,%.2f,%.2f,%.1f\n" % (i, p / 100.0, tc, rh))
 
 
+PLAIN = r"""
+import csv, sys
+with open(sys.argv[1], newline="") as f, open("/dev/null", "w") as out:
+    for row in csv.reader(f):
+        if row[0].startswith("#") or row[0] == "time_s":
+            continue
+        a, b, c, d = [float(x) for x in row]
+        out.write("%.3f\t%.2f\t%.3f\t%.2f\n" % (a, b, c, d))
+"""
+
+
+def _cpu():
+    r = resource.getrusage(resource.RUSAGE_CHILDREN)
+    return r.ru_utime + r.ru_stime
+
+
+def plain(path):
+    """The plain script on ``path`` in a child process; (wall s, CPU s)."""
+    c0 = _cpu()
+    t0 = time.perf_counter()
+    p = subprocess.run([sys.executable, "-c", PLAIN, path], capture_output=True, text=True)
+    dt = time.perf_counter() - t0
+    if p.returncode != 0:
+        raise SystemExit("plain script failed: %s" % p.stderr[-2000:])
+    return dt, _cpu() - c0
+
+
+def column_floor(path, limit, repeat):
+    """Seconds per reading of Column.feed plus the row's attribute reads over
+    the first ``limit`` readings of ``path`` (parsed beforehand); the fastest
+    of ``repeat`` runs, each with a new column."""
+    from tinygeo.column import Column
+    rows = []
+    with open(path) as f:
+        for line in f:
+            if line[0] in "#t":
+                continue
+            a = line.split(",")
+            rows.append((float(a[1]) * 100.0, float(a[2]) + 273.15, float(a[3]), float(a[0])))
+            if len(rows) >= limit:
+                break
+    best = None
+    for _ in range(repeat):
+        col = Column(LAT_DEG, SITE_M)
+        feed = col.feed
+        t0 = time.perf_counter()
+        for p, t, rh, ts in rows:
+            feed(p, t, rh, ts)
+            col.gph_m, col.height_m, col.rate_m_s, col.sigma_m, col.flags
+        dt = (time.perf_counter() - t0) / len(rows)
+        best = dt if best is None else min(best, dt)
+    return best
+
+
 def replay(path):
-    """Replay ``path`` in a child process; return (seconds, peak RSS KiB, stderr)."""
+    """Replay ``path`` in a child process; return (wall s, peak RSS KiB, stdout, CPU s)."""
     before = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss
+    c0 = _cpu()
     t0 = time.perf_counter()
     p = subprocess.run([sys.executable, "-m", "tinygeo", "replay", path, "-o", os.devnull,
                         "--quiet"], capture_output=True, text=True, cwd=ROOT)
@@ -69,7 +136,7 @@ def replay(path):
     if p.returncode != 0:
         raise SystemExit("replay failed (%d): %s" % (p.returncode, p.stderr[-2000:]))
     # RUSAGE_CHILDREN keeps the largest child so far: run the small log first
-    return dt, max(peak, before), p.stdout
+    return dt, max(peak, before), p.stdout, _cpu() - c0
 
 
 def main():
@@ -77,6 +144,8 @@ def main():
     ap.add_argument("--lines", type=int, default=1000000, help="readings in the big log")
     ap.add_argument("--small", type=int, default=100000, help="readings in the comparison log")
     ap.add_argument("--keep", metavar="PATH", help="keep the big log at PATH")
+    ap.add_argument("--repeat", type=int, default=3,
+                    help="runs of the replay and of the plain script, alternated (3)")
     a = ap.parse_args()
     tmp = tempfile.mkdtemp(prefix="tinygeo-bench-")
     small = os.path.join(tmp, "small.csv")
@@ -88,11 +157,34 @@ def main():
     print("python %s, %s" % (sys.version.split()[0], sys.platform))
     print("logs written in %.1f s: %d lines (%.1f MB), %d lines (%.1f MB)" % (
         gen, a.small, os.path.getsize(small) / 1e6, a.lines, os.path.getsize(big) / 1e6))
+    results = {}
     for name, path, n in (("small", small, a.small), ("big", big, a.lines)):
-        dt, peak, out = replay(path)
+        dt, peak, out, cpu = replay(path)
+        results[name] = (dt, cpu)
         accepted = [ln for ln in out.splitlines() if ln.startswith("#: accepted")]
         print("replay %-5s %8d lines: %7.1f s, %6.1f us/reading, peak RSS %.1f MiB  %s" % (
             name, n, dt, 1e6 * dt / n, peak / 1024.0, accepted[0] if accepted else ""))
+    # the ratio: replay and plain script alternated, the fastest of each (the
+    # least disturbed by other jobs on the machine), by wall time and by the
+    # CPU time of the child (user + system, less sensitive to other jobs)
+    tr, tp = [results["big"]], []
+    for i in range(a.repeat):
+        tp.append(plain(big))
+        if i + 1 < a.repeat:
+            r = replay(big)
+            tr.append((r[0], r[3]))
+    print("replay big (%d runs): wall %s s, CPU %s s" % (
+        len(tr), " ".join("%.2f" % x[0] for x in tr), " ".join("%.2f" % x[1] for x in tr)))
+    print("plain  big (%d runs): wall %s s, CPU %s s (csv module, float() per field, one "
+          "formatted line per row)" % (len(tp), " ".join("%.2f" % x[0] for x in tp),
+                                       " ".join("%.2f" % x[1] for x in tp)))
+    fl = column_floor(big, min(a.lines, 200000), a.repeat)
+    wall_p = min(x[0] for x in tp)
+    print("column floor (feed + the row's attributes, %d readings, in this process): "
+          "%.2f us/reading" % (min(a.lines, 200000), 1e6 * fl))
+    print("ratio replay/plain: wall %.2f, CPU %.2f (fastest runs); column floor/plain wall %.2f"
+          % (min(x[0] for x in tr) / wall_p, min(x[1] for x in tr) / min(x[1] for x in tp),
+             fl * a.lines / wall_p))
     for path in (small, big if not a.keep else None):
         if path:
             os.remove(path)

@@ -19,7 +19,7 @@ from pathlib import Path
 
 import pytest
 
-from conftest import MICROPYTHON, require_micropython
+from conftest import MICROPYTHON, require_micropython, run_script
 
 ROOT = Path(__file__).resolve().parents[1]
 EXAMPLE = ROOT / "examples" / "schoolfield_flight.csv"
@@ -54,11 +54,12 @@ def table_rows(text):
 
 
 def summary(text):
-    """The ``#:`` records of a table as a list of (what, {key: float})."""
+    """The ``#:`` records of a table as a list of (what, {key: float}); the
+    words after ``--`` (a sentence for people) are left out."""
     out = []
     for ln in text.splitlines():
         if ln.startswith("#: "):
-            words = ln[3:].split()
+            words = ln[3:].split(" -- ")[0].split()
             out.append((words[0], dict((k, float(v)) for k, v in
                                        (w.split("=", 1) for w in words[1:]))))
     return out
@@ -87,7 +88,7 @@ def flight(tmp_path_factory):
 # --- the bundled example (README's first command) ------------------------------
 def test_bundled_example_replays_with_no_flags():
     out, err = run("replay", EXAMPLE)
-    assert out.startswith("# tinygeo replay table 1\n")
+    assert out.startswith("# tinygeo table 1\n")
     rows = table_rows(out)
     s = dict((w, d) for w, d in summary(out) if w != "level")
     levels = [d["p_hpa"] for w, d in summary(out) if w == "level"]
@@ -202,7 +203,10 @@ def test_output_files_summary_and_thinning(flight, tmp_path):
     full = table_rows(tab.read_text())
     events = [r for r in full if r["events"] != "-"]
     assert len(full) // 100 <= len(rows) <= len(full) // 100 + len(events) + 1
-    assert all(e in rows for e in events)
+    # every row with an event is kept (by line: a row holding nan, a GPS
+    # dropout say, never compares equal as a dict)
+    kept = set(r["line"] for r in rows)
+    assert all(e["line"] in kept for e in events)
 
 
 # --- compare ------------------------------------------------------------------
@@ -244,18 +248,18 @@ def test_compare_fails_naming_the_first_offending_line(flight, tmp_path):
 def _float32_device_table(log, out_path):
     """Write the table a float32 board would write for ``log``: the unmodified
     column run with every float rounded to binary32 (tests/floatemu.py), rows
-    written with tinygeo.host.table.format_row as a device logger would."""
+    and the end record written with tinygeo.record as a device logger would."""
     import floatemu
-    from tinygeo.host import table
+    from tinygeo import record
     colmod = floatemu.load_module("f32", "tinygeo.column")
     r32 = floatemu.r32
     col = colmod.Column(r32(47.3), r32(420.0))
     levels = []
-    col.on_event = lambda c, bits: levels.append(c.level_p_pa) if bits & table.EV_LEVEL else None
-    nan = float("nan")
+    col.on_event = lambda c, bits: levels.append(c.level_p_pa) if bits & record.EV_LEVEL else None
+    rows = 0
     with open(out_path, "w") as out:
-        out.write(table.MAGIC + "\n" + table.SITE_PREFIX + "lat_deg=47.3 start_height_m=420\n")
-        out.write(table.HEADER + "\n")
+        out.write(record.MAGIC + "\n" + record.site_line(col) + "\n")
+        out.write(record.HEADER + "\n")
         for n, raw in enumerate(open(log), 1):
             f = raw.strip().split(",")
             if raw.startswith("#") or f[0] == "time_s":
@@ -267,9 +271,11 @@ def _float32_device_table(log, out_path):
                 bits = col.feed(p, t, rh, ts, None)
             except ValueError:
                 continue
-            out.write(table.format_row(n, ts, p, t, nan if rh is None else rh, nan, nan, col.gph_m,
-                                       col.height_m, col.rate_m_s, col.sigma_m, col.flags,
-                                       table.events_text(bits, list(levels))) + "\n")
+            out.write(record.row(n, ts, p, t, rh, None, None, col.gph_m, col.height_m,
+                                 col.rate_m_s, col.sigma_m, col.flags,
+                                 record.events_text(bits, list(levels))) + "\n")
+            rows += 1
+        out.write(record.end_line(rows, col) + "\n")
 
 
 def test_compare_float32_device_against_host(tmp_path):
@@ -293,51 +299,54 @@ MP_LOGGER = r"""
 import sys
 from tinygeo.column import Column
 from tinygeo.errors import ReadingError
-from tinygeo.host import table
-levels = []
-def tap(col, bits):
-    if bits & table.EV_LEVEL:
-        levels.append(col.level_p_pa)
+from tinygeo import record
 col = Column(47.3, 420.0)
-col.on_event = tap
-print(table.MAGIC)
-print(table.SITE_PREFIX + "lat_deg=47.3 start_height_m=420")
-print(table.HEADER)
+print(record.MAGIC)
+print(record.site_line(col))
+print(record.HEADER)
 n = 0
-nan = float("nan")
+rows = 0
 for raw in open(sys.argv[1]):
     n += 1
     f = raw.strip().split(",")
     if raw[0] == "#" or f[0] == "time_s":
         continue
-    p = float(f[1]) * 100.0
-    t = float(f[2]) + 273.15
     rh = float(f[3]) if f[3] else None
-    ts = float(f[0])
-    del levels[:]
     try:
-        bits = col.feed(p, t, rh, ts, None)
+        bits = col.feed(float(f[1]) * 100.0, float(f[2]) + 273.15, rh, float(f[0]), None)
     except ReadingError:
         continue
-    print(table.format_row(n, ts, p, t, nan if rh is None else rh, nan, nan, col.gph_m,
-                           col.height_m, col.rate_m_s, col.sigma_m, col.flags,
-                           table.events_text(bits, levels)))
+    print(record.column_row(n, col, bits, rh))
+    rows += 1
+print(record.end_line(rows, col))
 """
 
 
 def test_compare_a_table_written_under_micropython(tmp_path):
-    # the device side: MicroPython (unix port) runs the column and writes the
-    # table with tinygeo.host.table.format_row, as a logger on a board would
-    require_micropython()     # skips locally without the runtime, fails in CI
+    # the device side: MicroPython (unix port) runs the column and writes its
+    # rows and end record with tinygeo.record, as a logger on a board would
+    # (the column_row of each reading names only the highest level it crossed)
+    require_micropython()
     log, script, dev = tmp_path / "f.csv", tmp_path / "logger.py", tmp_path / "dev.tsv"
     run("simulate", "--seed", 9, "--burst", 5000, "--no-gps", "-o", log)
     script.write_text(MP_LOGGER)
-    p = subprocess.run([MICROPYTHON, str(script), str(log)], capture_output=True, text=True,
-                       env=dict(os.environ, MICROPYPATH=str(ROOT)), timeout=120)
-    assert p.returncode == 0, p.stdout[-2000:] + p.stderr[-2000:]
-    dev.write_text(p.stdout)
-    out, _ = run("compare", dev, "--log", log)
-    assert "result: PASS" in out and "readings on one side only: 0" in out
+    text = run_script(MICROPYTHON, [script, log])
+    dev.write_text(text)
+    for extra in ([], ["--log", log]):
+        out, _ = run("compare", dev, *extra)
+        assert "result: PASS" in out and "readings on one side only: 0" in out, out
+        assert "flags/events differing: 0" in out
+    # the same table cut short: 10 rows and no end record fail in both modes,
+    # and the report counts the rows the log has beyond the device's last one
+    lines = text.splitlines(keepends=True)
+    rows = [i for i, ln in enumerate(lines) if ln[:1].isdigit()]
+    dev.write_text("".join(lines[:rows[9] + 1]))
+    out, _ = run("compare", dev, check_rc=1)
+    assert "no end record" in out and "result: FAIL" in out
+    out, _ = run("compare", dev, "--log", log, check_rc=1)
+    missing = len(rows) - 10
+    assert "  missing-at-end: %d (" % missing in out
+    assert "offending readings: %d\n" % missing in out and "result: FAIL" in out
 
 
 # --- plot ------------------------------------------------------------------------
@@ -350,14 +359,18 @@ def _png_size(path):
 
 def test_plot_renders_png_and_svg(flight, tmp_path):
     import matplotlib  # noqa: F401  (the plot extra; .ci/run installs it: a failure, not a skip)
+    # in-process: matplotlib is imported once for the whole test run (the
+    # console script's argument handling and exits are the same main())
+    from tinygeo.host import cli
     png = tmp_path / "p.png"
-    run("plot", flight["table"], "-o", png)
+    err = io.StringIO()
+    assert cli.main(["plot", str(flight["table"]), "-o", str(png)], stdout=io.StringIO(),
+                    stderr=err) == 0, err.getvalue()
     (w, h), size = _png_size(png)
     assert (w, h) == (1100, 850)              # 11 x 8.5 in at 100 dpi
     assert 30_000 < size < 2_000_000
     svg = tmp_path / "p.svg"
-    # a raw log, replayed on the fly (in-process: one matplotlib import less)
-    from tinygeo.host import cli
+    # a raw log, replayed on the fly
     err = io.StringIO()
     assert cli.main(["plot", str(flight["log"]), "-o", str(svg), "--title", "raw log"],
                     stdout=io.StringIO(), stderr=err) == 0, err.getvalue()
@@ -414,6 +427,6 @@ def test_stdin_rows_come_out_before_end_of_input(flight):
 def test_event_bits_of_the_table_match_the_column():
     from tinygeo import column
     from tinygeo.host import table
-    for name in ("EV_LEVEL", "EV_TROPOPAUSE", "EV_BURST", "EV_LANDED", "EV_LAUNCH"):
+    for name in ("EV_LEVEL", "EV_TROPOPAUSE", "EV_BURST", "EV_LANDED", "EV_LAUNCH", "EV_FLOAT"):
         assert getattr(table, name) == getattr(column, name)
     assert math.isnan(table.NAN)

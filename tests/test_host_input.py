@@ -105,7 +105,7 @@ def test_missing_latitude_and_bad_options():
     rc, _, err = main(["frobnicate"])
     assert rc == 2
     rc, _, err = main(["compare", "-"], "not a table\n")
-    assert rc == 2 and "not a tinygeo replay table" in err
+    assert rc == 2 and "not a tinygeo table" in err
 
 
 def test_header_name_classification():

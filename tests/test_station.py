@@ -40,7 +40,7 @@ import runvec  # noqa: E402
 import tinygeo  # noqa: E402
 from tinygeo import moisture, sealevel, station as S  # noqa: E402
 from tinygeo.errors import CheckpointError, ModelRangeError, RangeError, ReadingError  # noqa: E402
-from tinygeo.station import Station, tendency_code  # noqa: E402
+from tinygeo.station import Station, tendency_code, FL_TAKEOVER, EV_RESTART  # noqa: E402
 
 STATION_FILES = sorted((VECTORS / "station").glob("*.txt"))
 
@@ -269,8 +269,13 @@ def test_none_disables_checks():
 # ============================================================== station: rejections
 def _state(s):
     # every attribute and the ring(s), for "exactly as it was"
+    # except the recovery memory a rejected reading is meant to leave (the
+    # run of contradicting readings, see "Recovery" in tinygeo.station; its
+    # effect is tested by the recovery tests below)
     d = dict(vars(s))
     d.pop("rejected")
+    for k in ("_run", "_rn_time", "_rn_p", "_rn_t", "_rn_rh", "_rn_ts", "_rn_tsrh"):
+        d.pop(k)
     d["_ring_p"] = list(s._ring_p)
     d["_ring_t"] = None if s._ring_t is None else list(s._ring_t)
     return d
@@ -415,25 +420,129 @@ def test_messages_name_the_argument_and_the_fix():
         assert text in str(e.value), str(e.value)
 
 
+def _steady(s, n, t0=0, p0=100000.0):
+    for i in range(n):
+        s.feed(p0 + 0.01 * i, 285.0 + 0.001 * i, 80.0 + 0.001 * i, t0 + i)
+
+
 def test_a_genuine_jump_is_followed_and_a_spike_is_not():
-    # the allowance grows by max_p_rate_pa_s per second since the latest
-    # accepted reading (constructed): a 400 Pa step at 1 Hz is refused for
-    # 349 s, then accepted; an isolated spike changes nothing
+    # a 400 Pa step at 1 Hz (beyond 50 Pa + 1 Pa/s): the first two readings
+    # are refused, the third agrees with them and takes over (takeover_readings
+    # 3, constructed); FL_TAKEOVER on the average that holds it
     s = Station(3.5, 54.2, 600)
-    for i in range(100):
-        s.feed(100000.0 + 0.01 * i, 285.0 + 0.001 * i, 80.0 + 0.001 * i, i)
-    refused = 0
-    i = 100
-    while True:
-        try:
+    _steady(s, 100)
+    for i in (100, 101):
+        with pytest.raises(ReadingError) as e:
             s.feed(100400.0 + 0.01 * i, 285.0 + 0.001 * i, 80.0 + 0.001 * i, i)
-            break
-        except ReadingError as e:
-            assert e.reason == "pressure"
-            refused += 1
-        i += 1
-    # accepted when 400 + 0.01 (i - 99) <= 50 + (i - 99): i - 99 >= 353.6
-    assert refused == 353
+        assert e.value.reason == "pressure"
+    assert s.feed(100402.0, 285.1, 80.1, 102) == 0
+    assert (s.count, s.rejected) == (101, 2)
+    for i in range(103, 601):
+        s.feed(100400.0 + 0.01 * i, 285.0 + 0.001 * i, 80.0 + 0.001 * i, i)
+    assert s.flags & FL_TAKEOVER and s.average_readings == 598
+    # the next average has no jump
+    for i in range(601, 1201):
+        s.feed(100400.0 + 0.01 * i, 285.0 + 0.001 * i, 80.0 + 0.001 * i, i)
+    assert not s.flags & FL_TAKEOVER
+
+
+@pytest.mark.parametrize("spikes", [1, 2])
+def test_spikes_fewer_than_takeover_readings_change_nothing(spikes):
+    # one or two spikes (each reading agreeing with the one before it, so a
+    # run) and then a good reading: the station goes on as if they had never
+    # come, bit for bit (constructed)
+    a = Station(3.5, 54.2, 600)
+    b = Station(3.5, 54.2, 600)
+    _steady(a, 300)
+    _steady(b, 300)
+    for k in range(spikes):
+        with pytest.raises(ReadingError):
+            a.feed(100900.0, 285.3, 80.3, 300 + k)
+    for i in range(300 + spikes, 1300):
+        r = (100000.0 + 0.01 * i, 285.0 + 0.001 * i, 80.0 + 0.001 * i, i)
+        assert a.feed(*r) == b.feed(*r)
+    assert a.to_bytes() != b.to_bytes()      # rejected differs
+    assert (a.p_pa, a.t_k, a.rh_pct, a.count, a.flags) == \
+        (b.p_pa, b.t_k, b.rh_pct, b.count, b.flags)
+    assert a.rejected == spikes
+
+
+def test_spikes_that_disagree_with_each_other_never_take_over():
+    # wild readings, each far from the one before: no run ever reaches three,
+    # however many there are (constructed)
+    s = Station(3.5, 54.2, 600)
+    _steady(s, 50)
+    for k in range(200):
+        with pytest.raises(ReadingError):
+            s.feed(100000.0 + (600.0 if k % 2 else -600.0), 285.0, 80.0, 50 + k)
+    assert s.rejected == 200 and s.count == 50
+    s.feed(100000.6, 285.05, 80.05, 250)
+    assert s.count == 51
+
+
+def test_a_bad_first_reading_does_not_lock_the_station():
+    # the first reading is a spike (accepted: nothing to check it against);
+    # the good readings after it contradict it, and the third restarts the
+    # station from the good ones (constructed)
+    s = Station(3.5, 54.2, 600)
+    assert s.feed(100700.0, 285.0, 80.0, 0) == 0
+    for i in (1, 2):
+        with pytest.raises(ReadingError):
+            s.feed(100000.0, 285.0, 80.0, i)
+    assert s.feed(100000.0, 285.0, 80.0, 3) == EV_RESTART
+    _steady(s, 597, 4)
+    assert s.averages == 1 and s.average_readings == 597
+    # the mean of 100000.0 and 100000.0 + 0.01 i, i = 0..595 (596 readings);
+    # float sums: measured within 2e-11 Pa
+    assert abs(s.p_pa - (100000.0 + 0.01 * sum(range(596)) / 597)) < 1e-9
+    assert (s.count, s.rejected) == (599, 2)
+
+
+def test_a_clock_set_back_restarts_after_takeover_readings():
+    # a station that ran an hour, then its clock is set back a day: the third
+    # reading restarts it; the averages and tendency start afresh (constructed)
+    events = []
+    s = Station(3.5, 54.2, 600, on_event=lambda st, bits: events.append(bits))
+    _steady(s, 3600)
+    base = 3600 - 86400
+    for k in range(2):
+        with pytest.raises(ReadingError) as e:
+            s.feed(100000.0, 285.0, 80.0, base + k)
+        assert e.value.reason == "time"
+    assert s.feed(100000.0, 285.0, 80.0, base + 2) == EV_RESTART
+    assert events[-1] == EV_RESTART
+    assert s.averages == 0 and s.missing == 0 and s.p_pa != s.p_pa
+    assert s.count == 3601 and s.rejected == 2
+    # it goes on, on the new clock
+    _steady(s, 1200, base + 3)
+    assert s.averages == 2
+
+
+@pytest.mark.parametrize("n", [2, 5])
+def test_takeover_readings_is_a_setting(n):
+    s = Station(3.5, 54.2, 600, takeover_readings=n)
+    _steady(s, 100)
+    for i in range(n - 1):
+        with pytest.raises(ReadingError):
+            s.feed(100400.0, 285.1, 80.1, 100 + i)
+    s.feed(100400.0, 285.1, 80.1, 100 + n - 1)
+    assert s.count == 101
+    for bad in (1, 101, 2.0, True, "3"):
+        with pytest.raises(RangeError):
+            Station(3.5, 54.2, 600, takeover_readings=bad)
+
+
+def test_a_run_in_progress_survives_a_checkpoint():
+    # the run is part of the checkpoint: restored after two jump readings,
+    # the third takes over as it would have (constructed)
+    s = Station(3.5, 54.2, 600)
+    _steady(s, 100)
+    for i in (100, 101):
+        with pytest.raises(ReadingError):
+            s.feed(100400.0, 285.1, 80.1, i)
+    r = Station.from_bytes(s.to_bytes())
+    assert r.feed(100400.0, 285.1, 80.1, 102) == s.feed(100400.0, 285.1, 80.1, 102)
+    assert r.count == s.count == 101 and r.to_bytes() == s.to_bytes()
 
 
 # ============================================================== heave
@@ -983,9 +1092,9 @@ def test_buoy_logger_on_the_32_bit_runtime(tmp_path, buoy_runs):
 
 
 def test_buoy_logger_restarts_after_a_clock_set_back(tmp_path):
-    # the first 1 000 readings of the day, then the clock set back to 0 s:
-    # every reading is 'time' until TIME_RESTART of them in a row, then a new
-    # Station goes on from the next reading (constructed)
+    # the first 1 000 readings of the day, then the clock set back to 480 s:
+    # two 'time' rejections, then the third reading in a row restarts the
+    # station (takeover_readings 3, EV_RESTART) and it goes on (constructed)
     lines = BUOY_LOG.read_text().splitlines()
     head = [x for x in lines if x.startswith("#") or x.startswith("time")]
     data = [x for x in lines if x[0].isdigit()]
@@ -997,11 +1106,12 @@ def test_buoy_logger_restarts_after_a_clock_set_back(tmp_path):
     log.write_text("\n".join(head + data[:1000] + moved) + "\n")
     out = run_script(sys.executable, [BUOY, "--log", log, "--checkpoint", tmp_path / "r.ckpt"],
                      cwd=tmp_path)
-    assert out.count("rejected time") == 10
-    assert "#1009 clock set back: new station" in out
-    # the new station: readings at 490..779 s, the average 0..600 s completes at 600 s
+    assert out.count("rejected time") == 2
+    assert "#1002 restart at time_s 482:" in out
+    # the new station: readings at 482..779 s (count goes on: 1 000 + 298),
+    # the average 0..600 s completes at 600 s
     assert out.strip().splitlines()[-1] == \
-        "summary accepted 290 rejected 0 averages 1 missing 0"
+        "summary accepted 1298 rejected 2 averages 1 missing 0"
 
 
 def test_buoy_slot_write_failure_is_retried(tmp_path, capsys):

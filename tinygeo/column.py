@@ -712,14 +712,18 @@ class Column:
     # ------------------------------------------------------------ 1. check
     def _check(self, n, p_pa, t_k, rh_pct, time_s, gps_m):
         # every value on its own: a real number, in range; written into record n
-        p = self._num(p_pa, "p_pa", "Pa")
+        # a float goes straight to the range test (the common case: no call);
+        # nan and inf fail it and are then refused as numbers
+        p = p_pa if p_pa.__class__ is float else self._num(p_pa, "p_pa", "Pa")
         if not P_MIN_PA <= p <= P_MAX_PA:
+            self._num(p, "p_pa", "Pa")
             from .errors import pressure_hint
             hint = pressure_hint(p)
             self._bad("pressure", 1, "p_pa", quote(p_pa), P_MIN_PA, P_MAX_PA, "Pa",
                       "; " + hint if hint else "")
-        t = self._num(t_k, "t_k", "K")
+        t = t_k if t_k.__class__ is float else self._num(t_k, "t_k", "K")
         if not T_MIN_K <= t <= T_MAX_K:
+            self._num(t, "t_k", "K")
             from .errors import temperature_hint
             hint = temperature_hint(t)
             self._bad("temperature", 1, "t_k", quote(t_k), T_MIN_K, T_MAX_K, "K",
@@ -1644,9 +1648,13 @@ class Column:
     def sigma_m(self):
         """Total 1-sigma height uncertainty, m (gpm): random and systematic
         parts added in squares."""
-        r = self.sigma_random_m
-        if r != r:
-            return r
+        # sigma_random_m's steps written out here (read once per row by a
+        # table writer: one call less)
+        if self.count == 0 or not self.track_sigma:
+            return _NAN
+        h = self._h
+        x = h.tm2 / h.p_pa
+        r = math.sqrt(h.var_done + h.ct * h.ct * h.s2 + (h.var_p + x * x) * self._spk2)
         return math.sqrt(r * r + self._bias2())
 
     # ------------------------------------------------------------ GPS

@@ -35,6 +35,16 @@ Layout (UTF-8 text, one record per line, fields separated by one TAB)::
   column's flag bits as a decimal integer), ``events``: ``-`` when none,
   otherwise words joined by ``+`` in the order of ``EVENT_WORDS``; a level is
   ``level<hPa>`` (e.g. ``level850``, one word per level, lowest first).
+  Events come one reading late (the column confirms a reading when the next
+  one is accepted) and some are decided later still: the word marks the row
+  where the column decided, not where it happened. ``tropopause_confirmed``
+  is written 2 km above the tropopause, where the WMO definition is
+  confirmed; the level itself is the column's tropopause_* attributes (a
+  host replay names it in its summary). Tables written before this word
+  have ``tropopause`` in its place.
+* After the rows, ``#: end`` (``end_line``) says that the table is complete:
+  the rows written and the column's counters. A reader that finds no end
+  record knows the table was cut short.
 * Fixed decimals (``FORMAT``) make the output byte-identical for the same
   input on one interpreter; MicroPython may round the last printed digit
   differently, so readers compare numbers, not text.
@@ -43,6 +53,8 @@ Layout (UTF-8 text, one record per line, fields separated by one TAB)::
 MAGIC = "# tinygeo table 1"
 """First line of a table (name and version of the layout)."""
 SITE_PREFIX = "# site "
+END_PREFIX = "#: end "
+"""Start of the end record (``end_line``)."""
 
 COLUMNS = ("line", "time_s", "p_pa", "t_k", "rh_pct", "td_k", "gps_m",
            "gph_m", "height_m", "rate_m_s", "sigma_m", "flags", "events")
@@ -52,7 +64,8 @@ FORMAT = "%d\t%.3f\t%.2f\t%.3f\t%.2f\t%.3f\t%.2f\t%.3f\t%.3f\t%.3f\t%.3f\t%d\t%s
 # The column's event bits (tinygeo.column EV_*) with their words, in the
 # order the words are written; the level word carries the pressure.
 # tests/test_record.py checks the bits against tinygeo.column.
-EVENT_WORDS = ((16, "launch"), (1, "level"), (2, "tropopause"), (4, "burst"), (8, "landed"), (32, "float"))
+EVENT_WORDS = ((16, "launch"), (1, "level"), (2, "tropopause_confirmed"), (4, "burst"),
+               (8, "landed"), (32, "float"))
 EV_LEVEL = 1
 
 _NAN = float("nan")
@@ -121,3 +134,11 @@ def site_line(col):
             v = 1 if v else 0
         out += " %s=%r" % (k, v)
     return out
+
+
+def end_line(rows, col):
+    """The end record, written after the last row: ``rows`` the number of rows
+    written, and the column's counters (readings accepted, rejected,
+    retracted). Example: ``#: end rows=3566 count=3566 rejected=4 retracted=0``."""
+    return "%srows=%d count=%d rejected=%d retracted=%d" % (
+        END_PREFIX, rows, col.count, col.rejected, col.retracted)

@@ -163,7 +163,9 @@ until known)
 
 Events (bits returned by feed): EV_AVERAGE 1 (an average completed: the
 attributes above are new), EV_FLAGS 2 (its flags differ from the previous
-average's), EV_GAP 4 (averages are missing just before it: gap_s).
+average's), EV_GAP 4 (averages are missing just before it: gap_s),
+EV_RESTART 8 (a run of readings took over and the station started afresh
+from this reading; see "Recovery").
 
 Flags: FL_STUCK_P 1, FL_STUCK_T 2, FL_STUCK_RH 4 (stuck readings taken out
 of this average), FL_GAP 8 (averages missing just before this one),
@@ -171,7 +173,24 @@ FL_TREND_GAP 16 (the station has run for 3 hours but the tendency or its
 characteristic is unknown: an end average or the pressure is missing, or
 the trace has a gap longer than max_gap_s), FL_NO_T12 32 (mean12 set but no
 temperature 12 hours earlier: the reduction used the latest one), FL_FEW 64
-(a quantity had fewer than min_readings readings: nan in this average).
+(a quantity had fewer than min_readings readings: nan in this average),
+FL_TAKEOVER 128 (readings that contradicted the latest accepted one by a
+step took over during this average: a sensor's real jump).
+
+Recovery
+--------
+A reading that goes back in time or steps beyond the allowance is rejected,
+and remembered: readings in a row that contradict the latest accepted one
+and agree with each other (each one with the one before it, by the same
+checks) form a run; after takeover_readings (3, 2..100) of them the run is
+followed, so no station locks. A run that began by going back in time (a
+clock set back) or that outnumbers what the station accepted (a bad first
+reading) restarts the station from its latest reading (EV_RESTART: the
+averages, the tendency and its history start afresh; count and rejected go
+on); a run of steps after that (a sensor that really jumped) is accepted from
+its latest reading on into the average being built (FL_TAKEOVER). A single
+bad reading never forms a run: the next good reading agrees with the latest
+accepted one and clears it. Checkpoints keep the run.
 
 Averaging in float32
 --------------------
@@ -276,6 +295,8 @@ FL_GAP = 8
 FL_TREND_GAP = 16
 FL_NO_T12 = 32
 FL_FEW = 64
+FL_TAKEOVER = 128
+EV_RESTART = 8
 
 P_MIN_PA = 40000.0
 P_MAX_PA = 115000.0
@@ -423,25 +444,26 @@ def _ring(n):
 _CFG_F = ("height_m", "lat_deg", "average_s", "max_p_step_pa", "max_p_rate_pa_s",
           "max_t_step_k", "max_t_rate_k_s", "max_rh_step_pct", "max_rh_rate_pct_s", "guard_m",
           "steady_pa", "max_gap_s", "_iso_set")
-_CFG_I = ("ice", "min_readings", "_stuck_set", "mean12")
+_CFG_I = ("ice", "min_readings", "_stuck_set", "mean12", "takeover_readings")
 # state: the latest average's results and the sums of the average being built
 _ST_F = ("p_pa", "t_k", "rh_pct", "dew_point_k", "mslp_pa", "qnh_pa", "iso_gph_m",
          "tendency_3h_pa", "change_24h_pa", "_rp", "_sp", "_cp", "_rt", "_st", "_rr", "_sr",
-         "_lp", "_lt", "_lrh")
+         "_lp", "_lt", "_lrh", "_rn_p", "_rn_t", "_rn_rh")
 # time stamps as given (stored relative to the first one when it is an int)
-_TS_F = ("_ts", "_tsrh")
+_TS_F = ("_ts", "_tsrh", "_rn_ts", "_rn_tsrh")
 _ST_I = ("count", "rejected", "averages", "missing", "flags", "_code", "gap_s",
          "average_readings", "_k", "_kring", "_klast", "_np", "_nt", "_nr", "_sflags",
          "_runp", "_runt", "_runr", "_inp", "_int", "_inr", "_nslot", "_t0_int", "_t0_hi",
-         "_t0_lo")
+         "_t0_lo", "_run", "_rn_time")
 _RESTORE = ("count 0 1073741823;rejected 0 1073741823;averages 0 1073741823;"
-            "missing 0 1073741823;flags 0 127;_code -1 8;gap_s 0 *;average_readings 0 *;"
-            "_k -1 *;_kring -1 *;_klast -1 *;_np 0 *;_nt 0 *;_nr 0 *;_sflags 0 127;"
+            "missing 0 1073741823;flags 0 255;_code -1 8;gap_s 0 *;average_readings 0 *;"
+            "_k -1 *;_kring -1 *;_klast -1 *;_np 0 *;_nt 0 *;_nr 0 *;_sflags 0 255;"
             "_runp 0 *;_runt 0 *;_runr 0 *;_inp 0 *;_int 0 *;_inr 0 *;_nslot 0 *;"
             "p_pa 40000 115000 n;t_k 180 340 n;rh_pct -3 103 n;mslp_pa 0 200000 n;"
-            "_lp 40000 115000 n;_lt 180 340 n;_lrh -3 103 n")
+            "_lp 40000 115000 n;_lt 180 340 n;_lrh -3 103 n;_run 0 99;_rn_time 0 1;"
+            "_rn_p 40000 115000 n;_rn_t 180 340 n;_rn_rh -3 103 n")
 _MAGIC = b"TGST"
-_VERSION = 1
+_VERSION = 2
 
 
 class Station:
@@ -458,7 +480,7 @@ class Station:
                  stuck_readings=60, max_p_step_pa=50, max_p_rate_pa_s=1, max_t_step_k=3,
                  max_t_rate_k_s=0.01, max_rh_step_pct=10, max_rh_rate_pct_s=0.05,
                  guard_m=2000, steady_pa=10, max_gap_s=1800, mean12=False, iso_p_pa=None,
-                 on_event=None):
+                 takeover_readings=3, on_event=None):
         from .errors import check_range, check_lat, check_flag, RangeError
         from .sealevel import (standard_surface_pa, HEIGHT_MIN_M, HEIGHT_MAX_M, ISO_MIN_PA,
                                ISO_MAX_PA)
@@ -493,6 +515,7 @@ class Station:
         self.steady_pa = check_range("steady_pa", steady_pa, 0, 1000, "Pa")
         self.max_gap_s = check_range("max_gap_s", max_gap_s, 0, THREE_H_S, "s")
         self.mean12 = check_flag("mean12", mean12)
+        self.takeover_readings = _count("takeover_readings", takeover_readings, 2, 100)
         self._iso_set = _NAN
         if iso_p_pa is not None:
             self._iso_set = check_range("iso_p_pa", iso_p_pa, ISO_MIN_PA, ISO_MAX_PA, "Pa",
@@ -557,6 +580,12 @@ class Station:
         self._runp = self._runt = self._runr = 0
         self._inp = self._int = self._inr = 0
         self._t0_int = self._t0_hi = self._t0_lo = 0
+        # the recovery memory: readings in a row that contradict the latest
+        # accepted one (time back, a step) and agree with each other
+        self._run = 0
+        self._rn_time = 0
+        self._rn_p = self._rn_t = self._rn_rh = nan
+        self._rn_ts = self._rn_tsrh = None
 
     # ------------------------------------------------------------ results
     @property
@@ -614,33 +643,25 @@ class Station:
             h = pressure_hint(p)
             self._bad("pressure", 4, quote(p_pa), altitude_at(p), self._gph, self.guard_m,
                       h or "wrong unit or height_m? (guard_m=None: no guard)")
-        # 2. against the latest accepted reading
+        # 2. against the latest accepted reading; a reading that contradicts
+        # it joins the recovery run, which takes over after takeover_readings
+        # readings in a row (see "Recovery")
+        restart = 0
         if self.count:
-            dt = ts - self._ts
-            if dt < 0:
-                self._bad("time", 5, quote(time_s), self._ts)
-            d = p - self._lp
-            if d > self._ps or d < -self._ps:
-                allow = self._ps + self.max_p_rate_pa_s * dt
-                if d > allow or d < -allow:
-                    self._bad("pressure", 6, "p_pa", quote(p_pa), d, "Pa", dt, allow,
-                              "max_p_step_pa")
-            d = t - self._lt
-            if d > self._ts_step or d < -self._ts_step:
-                allow = self._ts_step + self.max_t_rate_k_s * dt
-                if d > allow or d < -allow:
-                    self._bad("temperature", 6, "t_k", quote(t_k), d, "K", dt, allow,
-                              "max_t_step_k")
-            if rh == rh and self._tsrh is not None:
-                d = rh - self._lrh
-                if d > self._rs or d < -self._rs:
-                    allow = self._rs + self.max_rh_rate_pct_s * (ts - self._tsrh)
-                    if d > allow or d < -allow:
-                        self._bad("humidity", 6, "rh_pct", quote(rh_pct), d, "%",
-                                  ts - self._tsrh, allow, "max_rh_step_pct")
+            why = self._against(p, t, rh, ts, self._lp, self._lt, self._lrh, self._ts, self._tsrh)
+            if why:
+                restart = self._contradicts(why, p, t, rh, ts)
+            else:
+                self._run = 0
+        if restart:
+            # a clock set back, or a bad first reading: start afresh from this
+            # reading (the counters go on)
+            c, r = self.count, self.rejected
+            self._reset()
+            self.count, self.rejected = c, r
         # 3. accepted: into the average (closing the one before if this
         # reading starts a new one)
-        if self.count == 0:
+        if self.count == 0 or restart:
             self._start(ts)
         k = ts - self._t0 + self._phase
         if isinstance(k, int):
@@ -660,9 +681,66 @@ class Station:
             self.count += 1
         if self._nslot < COUNT_MAX:
             self._nslot += 1
+        if restart:
+            bits |= EV_RESTART
         if bits and self.on_event is not None:
             self.on_event(self, bits)
         return bits
+
+    def _against(self, p, t, rh, ts, lp, lt, lrh, lts, ltsrh):
+        # None if the reading agrees with the reference reading (lp, lt, lrh
+        # at stamps lts, ltsrh): time not going back, steps within the
+        # allowance; else why not: the arguments of _bad
+        dt = ts - lts
+        if dt < 0:
+            return ("time", 5, quote(ts), lts)
+        d = p - lp
+        if d > self._ps or d < -self._ps:
+            allow = self._ps + self.max_p_rate_pa_s * dt
+            if d > allow or d < -allow:
+                return ("pressure", 6, "p_pa", quote(p), d, "Pa", dt, allow, "max_p_step_pa")
+        d = t - lt
+        if d > self._ts_step or d < -self._ts_step:
+            allow = self._ts_step + self.max_t_rate_k_s * dt
+            if d > allow or d < -allow:
+                return ("temperature", 6, "t_k", quote(t), d, "K", dt, allow, "max_t_step_k")
+        if rh == rh and ltsrh is not None:
+            d = rh - lrh
+            if d > self._rs or d < -self._rs:
+                allow = self._rs + self.max_rh_rate_pct_s * (ts - ltsrh)
+                if d > allow or d < -allow:
+                    return ("humidity", 6, "rh_pct", quote(rh), d, "%", ts - ltsrh, allow,
+                            "max_rh_step_pct")
+        return None
+
+    def _contradicts(self, why, p, t, rh, ts):
+        # the reading contradicts the latest accepted one (why: how): it
+        # joins the run if it agrees with the run's latest reading, else
+        # starts one. Raises ReadingError until the run has
+        # takeover_readings readings; then returns 1 when the station must
+        # restart (a run started by time going back, or the station had no
+        # more readings than the run), 0 when it goes on from this reading
+        # (a real jump of a sensor: FL_TAKEOVER on the average)
+        if self._run and not self._against(p, t, rh, ts, self._rn_p, self._rn_t, self._rn_rh,
+                                           self._rn_ts, self._rn_tsrh):
+            self._run += 1
+        else:
+            self._run = 1
+            self._rn_time = 1 if why[0] == "time" else 0
+            self._rn_tsrh = None
+        self._rn_p = p
+        self._rn_t = t
+        self._rn_rh = rh
+        self._rn_ts = ts
+        if rh == rh:
+            self._rn_tsrh = ts
+        if self._run < self.takeover_readings:
+            self._bad(why[0], why[1], *why[2:])
+        self._run = 0
+        if self._rn_time or self.count <= self.takeover_readings:
+            return 1
+        self._sflags |= FL_TAKEOVER
+        return 0
 
     def _num(self, x, name, unit):
         # a finite float by the rule of tinygeo.errors.real, else rejected
@@ -885,7 +963,7 @@ class Station:
                "|p_pa=%s is at pressure altitude %.0f gpm, not within %.0f +- %g gpm of the "
                "barometer; %s"                                            # 4
                "|time_s=%s before the latest accepted reading's %s; time must not decrease "
-               "(clock set back? start a new Station)"                    # 5
+               "(clock set back? takeover_readings in a row restart the station)"                    # 5
                "|%s=%s steps %+.3g %s in %s s, beyond the %.3g allowed; spike? (%s=None: "
                "no check)").split("|")[i] % args                          # 6
         if self.rejected < COUNT_MAX:
@@ -949,13 +1027,14 @@ class Station:
         check_finite(f, "station")
         c = len(_CFG_F)
         (height, lat, avg, ps, pr, tst, tr, rs, rr, guard, steady, gap, iso) = f[:c]
-        ice, min_r, stuck, mean12 = ints[:len(_CFG_I)]
+        ice, min_r, stuck, mean12, takeover = ints[:len(_CFG_I)]
 
         def opt(x):
             return None if x != x else x
         try:
             st = cls(height, lat, avg, ice, min_r, stuck or None, opt(ps), pr, opt(tst), tr,
-                     opt(rs), rr, opt(guard), steady, gap, mean12, opt(iso), on_event)
+                     opt(rs), rr, opt(guard), steady, gap, mean12, opt(iso), takeover,
+                     on_event)
         except TinygeoError as e:
             raise CheckpointError("station checkpoint holds settings the station refuses: %s" % e)
         want = base + st._n + (st._n12 if st.mean12 else 0)

@@ -24,9 +24,10 @@ What it shows:
   24-hour change (hPa), temperature, humidity, dew point (degC, %), QC flags
   and the readings in the average; when the QC flags of an average change,
   a ``qc`` line at any average;
-- a clock set back makes every reading a 'time' rejection; after
-  ``TIME_RESTART`` of them in a row the logger starts a new Station on the
-  new clock (the averages of the old clock cannot be placed on it);
+- a clock set back: its first readings are 'time' rejections, then the
+  station restarts itself on the new clock (``EV_RESTART``, after
+  ``takeover_readings`` readings in a row; the averages of the old clock
+  cannot be placed on it) and the logger prints a ``restart`` line;
 - checkpoints: every ``CHECKPOINT_EVERY`` readings and after each report,
   the reading index and ``Station.to_bytes()`` go to one of two slot files
   in turn (``<path>.0``, ``<path>.1``), so the newest good checkpoint is
@@ -47,7 +48,7 @@ met service's procedures.
 import struct
 import sys
 
-from tinygeo.station import Station, EV_AVERAGE, EV_FLAGS
+from tinygeo.station import Station, EV_AVERAGE, EV_FLAGS, EV_RESTART
 from tinygeo.errors import ReadingError, CheckpointError
 from tinygeo.checkpoint import crc32
 
@@ -58,7 +59,6 @@ LOG = "buoy_day.csv"           # the replayed log (the "sensor" of this example)
 CHECKPOINT = "buoy.ckpt"       # slot files buoy.ckpt.0 and buoy.ckpt.1
 CHECKPOINT_EVERY = 600         # readings between checkpoints (and after each report)
 STOP_AFTER = 0                 # stop after this many readings, no final checkpoint (0 = never)
-TIME_RESTART = 10              # 'time' rejections in a row before a new Station
 
 MAGIC = b"TGBY"
 _HEAD = "<II"
@@ -222,23 +222,18 @@ def run(opts):
     every = opts["checkpoint-every"]
     stop_after = opts["stop-after"]
     taken = 0
-    time_rejects = 0
     saved = -1
     while sensor.read():
         taken += 1
         index = sensor.index - 1
         try:
             bits = st.feed(sensor.p_pa, sensor.t_k, sensor.rh_pct, sensor.time_s)
-            time_rejects = 0
         except ReadingError as e:
             print("#%d rejected %s: %s" % (index, e.reason, e))
             bits = 0
-            if e.reason == "time":
-                time_rejects += 1
-                if time_rejects >= TIME_RESTART:
-                    print("#%d clock set back: new station" % index)
-                    st = new_station()
-                    time_rejects = 0
+        if bits & EV_RESTART:
+            print("#%d restart at time_s %s: readings in a row contradicted the station "
+                  "(clock set back?); averages start afresh" % (index, sensor.time_s))
         if bits & EV_AVERAGE:
             if bits & EV_FLAGS:
                 print(qc_line(st))

@@ -426,9 +426,12 @@ def qc_rejects():
 A station 25 m up at 60 N, 300 s averages, readings every 10 s, with bad
 readings interleaved: each is refused with its reason and leaves the station
 as it was, so the averages are those of the good readings. Then a genuine
-pressure jump of 115 Pa: refused while it exceeds 50 Pa + 1 Pa/s times the
-time since the latest accepted reading (6 readings), accepted from the 7th
-(at 70 s: 120 Pa allowed): the checks do not lock the station.""")
+pressure jump of 115 Pa (beyond 50 Pa + 1 Pa/s times the time since the
+latest accepted reading): its first two readings are refused, the third
+agrees with them and takes over (takeover_readings 3; FL_TAKEOVER on that
+average), so the checks do not lock the station. Last, the clock is set back
+50 minutes: two readings are refused, the third restarts the station
+(EV_RESTART; the averages start afresh, count and rejected go on).""")
     d.setting("height_m", h)
     d.setting("lat_deg", lat)
     d.setting("average_s", 300)
@@ -469,13 +472,20 @@ time since the latest accepted reading (6 readings), accepted from the 7th
                   _num(bts) if isinstance(bts, int) else bts)
             d.expect("reject %s" % reason, "constructed: %s" % why)
             n_bad += 1
-        if 40 <= i < 46:
+        if 40 <= i < 42:
             d.reading(p, tk, rh, t)
             d.expect("reject pressure", "constructed: 115 Pa > 50 + %d Pa allowed" % (t - 390))
             n_bad += 1
             continue
         d.reading(p, tk, rh, t)
-        d.expect("accept", "constructed: a good reading")
+        d.expect("accept", "constructed: a good reading" if i != 42 else
+                 "constructed: the third reading of the jump takes over")
+        if i == 30:
+            d.expect("noflag FL_TAKEOVER", "constructed: no jump in 0..300 s")
+        if i == 60:
+            d.expect("flag FL_TAKEOVER", "constructed: the average of 300..600 s holds the jump")
+        if i == 90:
+            d.expect("noflag FL_TAKEOVER", "constructed: no jump in 600..900 s")
         n_good += 1
         good.setdefault(t // 300, []).append((p, tk, rh))
         if i % 30 == 0 and i:
@@ -487,6 +497,21 @@ time since the latest accepted reading (6 readings), accepted from the 7th
             d.value("average_readings", len(sl), 0, "constructed: the good readings")
     d.value("count", n_good, 0, "constructed")
     d.value("rejected", n_bad, 0, "constructed")
+    d.value("averages", 3, 0, "constructed: 0..300, 300..600, 600..900 s")
+    for k in range(3):
+        t = 950 - 3000 + 10 * k
+        d.reading(100615.0, 280.0, 80.0, t)
+        if k < 2:
+            d.expect("reject time", "constructed: the clock set back 50 minutes")
+            n_bad += 1
+        else:
+            d.expect("accept", "constructed: the third reading in a row restarts the station")
+            d.expect("bits 8", "constructed: EV_RESTART only")
+            n_good += 1
+    d.value("count", n_good, 0, "constructed: counted on through the restart")
+    d.value("rejected", n_bad, 0, "constructed")
+    d.value("averages", 0, 0, "constructed: the averages start afresh")
+    d.value("p_pa", float("nan"), 0, "constructed: no average yet after the restart")
     return d
 
 

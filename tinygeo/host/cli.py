@@ -1,9 +1,12 @@
-"""The ``tinygeo`` command line (also ``python -m tinygeo``).
+"""The ``tinygeo`` command line (also ``python -m tinygeo``): argparse and
+dispatch only.
 
 Commands: ``replay`` a recorded log through the column, ``simulate`` an
 invented flight, ``compare`` a device's table with a host replay, ``plot`` a
-replayed profile. :func:`main` returns the exit status instead of exiting, so
-tests can call it in-process.
+replayed profile; each lives in its module (``command`` / ``run``).
+:func:`main` returns the exit status instead of exiting, so tests can call it
+in-process; every error becomes one line on stderr and an exit status of
+EXIT_TEXT, never a traceback.
 """
 import argparse
 import io
@@ -11,26 +14,28 @@ import os
 import sys
 
 from tinygeo.errors import TinygeoError
-
-EXIT_OK = 0
-EXIT_COMPARE_FAILED = 1
-EXIT_INPUT = 2
-EXIT_MISSING_EXTRA = 3
-EXIT_INTERRUPTED = 130
-
-ANCHOR_HPA_MIN = 100.0    # --anchor-pressure range, hPa
-ANCHOR_HPA_MAX = 1100.0
+from tinygeo.host.options import (EXIT_INPUT, EXIT_INTERRUPTED, EXIT_OK, EXIT_OUTPUT,
+                                  ANCHOR_HPA_MAX, ANCHOR_HPA_MIN, OutputError, UsageError,
+                                  column_default, number_or_none, one_line)
 
 EXIT_TEXT = """exit status:
-  0   success (compare: every reading within the tolerances)
-  1   compare found a reading outside the tolerances (or a missing one)
-  2   usage or input error: bad option, unreadable file, empty log, no header,
-      unknown column, a unit the values contradict (a time column in s or ms
-      whose first move gives an impossible vertical speed), nothing accepted,
-      more than half of the readings rejected for one reason (rate, time,
-      pressure, temperature, humidity, number, gps; counted from the 100th
-      reading on)
+  0   success (compare: every reading within the tolerances); also when the
+      reader of standard output stops early ('| head')
+  1   compare found a reading outside the tolerances, a reading on one side
+      only, or a device table cut short (no end record, rows missing)
+  2   usage or input error: bad option, unreadable file (not UTF-8, a NUL
+      character, a line over 1 MiB), an output that would overwrite an
+      input, empty log, no header, unknown column, two columns for one
+      quantity, a unit the values contradict or do not confirm (pressure at
+      the start height, surface temperature, the lapse rate of the first
+      climb; a time column in s or ms whose first move gives an impossible
+      vertical speed), a start height left at 0 that the first reading
+      contradicts, nothing accepted, more than half of the readings
+      rejected for one reason (rate, time, pressure, temperature, humidity,
+      number, gps; counted from the 100th reading on)
   3   plot: matplotlib is not installed (pip install 'tinygeo[plot]')
+  4   an output could not be written (full disk, closed standard output...);
+      the message names it, and no half-written file is left under its name
   130 interrupted (Ctrl-C)"""
 
 MAPPING_HELP = """column mapping (default: from the header names):
@@ -38,14 +43,37 @@ MAPPING_HELP = """column mapping (default: from the header names):
   when the header name ends in a unit word (pressure_hpa, temp_c, time_s).
   Recognised by default: p/pressure/press/baro, t/temp/temperature,
   rh/humidity, td/dewpoint/dew_point, time/elapsed/timestamp/utc, gps/gps_alt,
-  each optionally followed by a unit (pa hpa mbar kpa, k c degc, pct, s ms,
-  m). Comment lines (#) before the header may set lat_deg=, start_height_m=,
-  sigma_p_pa=, sigma_t_k=, sigma_rh_pct=, bias_p_pa=, bias_t_k=, bias_rh_pct=
-  (as 'tinygeo simulate' writes); options given here take precedence."""
+  each optionally followed by a unit (pa hpa mbar kpa, k c degc f degf, pct,
+  s ms, m). Two columns for one quantity are an error: choose with the
+  option. A unit not stated is inferred from the values and must be
+  confirmed by them (pressure near the start height, a surface temperature,
+  at most 10 K/km of cooling over the first 1500 m of climb), else the
+  replay stops and asks for it. Comment lines (#) before the header may set
+  lat_deg=, start_height_m=, sigma_p_pa=, sigma_t_k=, sigma_rh_pct=,
+  bias_p_pa=, bias_t_k=, bias_rh_pct= (as 'tinygeo simulate' writes);
+  options given here take precedence."""
 
 
-class UsageError(TinygeoError):
-    """Bad command-line use; exit status 2."""
+def _flags_text():
+    from tinygeo import column
+    names = sorted((getattr(column, n), n) for n in dir(column) if n.startswith("FL_"))
+    words = {
+        "FL_DRY": "no humidity: dry air assumed",
+        "FL_HELD_MIXING": "no humidity: the last mixing ratio held",
+        "FL_NO_TIME": "no time stamp",
+        "FL_DESCENT": "pressure rose: integrating downwards",
+        "FL_SAME_P": "pressure repeated: nothing added",
+        "FL_NO_GPS": "GPS field nan (no fix): ignored",
+        "FL_CAPPED": "the held mixing ratio was capped at saturation",
+        "FL_REPLACED": "this reading replaced the previous row's, which the readings "
+                       "contradicted (that row was taken back)",
+        "FL_TAKEOVER": "the column followed a run of readings that contradicted it",
+        "FL_SAME_TIME": "time stamp repeated: no rate check for this step",
+    }
+    lines = ["flags (the table's flags column: a sum of these bits):"]
+    for bit, name in names:
+        lines.append("  %-4d %s" % (bit, words.get(name, name)))
+    return "\n".join(lines)
 
 
 class _Parser(argparse.ArgumentParser):
@@ -56,9 +84,9 @@ class _Parser(argparse.ArgumentParser):
 def _add_mapping(p):
     g = p.add_argument_group("column mapping", MAPPING_HELP)
     g.add_argument("--pressure", metavar="NAME[:Pa|hPa|kPa]", help="pressure column")
-    g.add_argument("--temperature", metavar="NAME[:K|C]", help="air temperature column")
+    g.add_argument("--temperature", metavar="NAME[:K|C|F]", help="air temperature column")
     g.add_argument("--humidity", metavar="NAME", help="relative humidity column, %% (over water)")
-    g.add_argument("--dew-point", dest="dewpoint", metavar="NAME[:K|C]",
+    g.add_argument("--dew-point", dest="dewpoint", metavar="NAME[:K|C|F]",
                    help="dew point column, instead of --humidity")
     g.add_argument("--time", metavar="NAME[:s|ms|iso]",
                    help="time column: seconds, or ISO-8601 timestamps (e.g. 2026-05-04T09:30:00Z)")
@@ -67,15 +95,16 @@ def _add_mapping(p):
                    help="field separator (',', ';', '|', tab, space); default: taken from the header")
 
 
-def _column_default(keyword):
-    """The Column constructor's default for ``keyword``, as help text."""
-    from tinygeo.host.replay import column_default
-    return "%g" % column_default(keyword)
-
-
 def _sensor_help(text, keyword):
-    return "%s (default: %s= in the input's comment lines, else %s)" % (
-        text, keyword, _column_default(keyword))
+    return "%s (default: %s= in the input's comment lines, else %g)" % (
+        text, keyword, column_default(keyword))
+
+
+def _limit(text):
+    try:
+        return number_or_none(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError("%r is not a number (or 'none')" % text)
 
 
 def _add_site(p):
@@ -84,7 +113,8 @@ def _add_site(p):
                    help="launch latitude, degrees north (default: lat_deg= in the log's comments)")
     g.add_argument("--start-height", type=float, metavar="M",
                    help="height of the first reading above mean sea level, m "
-                        "(default: start_height_m= in the log's comments, else 0)")
+                        "(default: start_height_m= in the log's comments, else 0; a first "
+                        "reading far from 0 m then stops the replay asking for this)")
     g.add_argument("--anchor-pressure", type=float, metavar="HPA",
                    help="the start height is that of this pressure (hPa, %g..%g), not of the "
                         "first reading" % (ANCHOR_HPA_MIN, ANCHOR_HPA_MAX))
@@ -103,9 +133,19 @@ def _add_site(p):
     g.add_argument("--bias-rh", type=float, metavar="PCT",
                    help=_sensor_help("humidity sensor 1-sigma calibration uncertainty, %%",
                                      "bias_rh_pct"))
-    g.add_argument("--max-rate", type=float, metavar="M_S",
+    g.add_argument("--max-rate", type=_limit, metavar="M_S",
                    help="fastest believable vertical speed, m/s; faster readings are rejected "
-                        "(default %s)" % _column_default("max_rate_m_s"))
+                        "(default %g); 'none': no check" % column_default("max_rate_m_s"))
+    g.add_argument("--max-t-step", type=_limit, metavar="K",
+                   help="temperature step allowed between readings, K, before time and climb "
+                        "add to it (default %g; 'none': no temperature-step check)"
+                        % column_default("max_t_step_k"))
+    g.add_argument("--max-t-rate", type=float, metavar="K_S",
+                   help="temperature step allowed per second between readings, K/s (default %g)"
+                        % column_default("max_t_rate_k_s"))
+    g.add_argument("--max-t-gradient", type=float, metavar="K_GPM",
+                   help="temperature step allowed per gpm of height change, K/gpm (default %g)"
+                        % column_default("max_t_gradient_k_gpm"))
     g.add_argument("--ice", action="store_true", help="humidity is over ice below 0 degC")
     g.add_argument("--dry", action="store_true",
                    help="assume dry air when humidity is missing (the default when there is "
@@ -114,11 +154,12 @@ def _add_site(p):
 
 def build_parser():
     """Return the argparse parser of the ``tinygeo`` command."""
+    epilog = EXIT_TEXT + "\n\n" + _flags_text()
     top = _Parser(
         prog="tinygeo",
         description="Heights from a stream of pressure, temperature and humidity: replay a log, "
                     "simulate a flight, compare a device with the host, plot a profile.",
-        epilog=EXIT_TEXT + "\n\nfirst try:  tinygeo replay examples/schoolfield_flight.csv --every 100",
+        epilog=epilog + "\n\nfirst try:  tinygeo replay examples/schoolfield_flight.csv --every 100",
         formatter_class=argparse.RawDescriptionHelpFormatter)
     from tinygeo import __version__
     top.add_argument("--version", action="version", version="tinygeo %s" % __version__)
@@ -128,9 +169,12 @@ def build_parser():
         "replay", help="replay a recorded log through the column, writing a table and a summary",
         description="Replay a log (CSV/TSV with a header, or '-' for stdin, read line by line) "
                     "through the column; write one row per accepted reading and a summary "
-                    "(mandatory levels, tropopause, burst, highest point, landing, counts). "
-                    "Rejected readings are reported on stderr with their line number.",
-        epilog="table layout: see 'tinygeo.host.table'.\n\n" + EXIT_TEXT,
+                    "(surface, mandatory levels with temperature and dew point, tropopause, "
+                    "float, burst, highest point, landing, GPS difference, counts). Rejected "
+                    "readings are reported on stderr with their line number. Event words stand "
+                    "on the row where the column decided (one reading after the event, the "
+                    "tropopause 2 km above it); the summary says where each happened.",
+        epilog="table layout: see tinygeo/record.py.\n\n" + epilog,
         formatter_class=argparse.RawDescriptionHelpFormatter)
     r.add_argument("log", help="log file, or - for standard input")
     _add_mapping(r)
@@ -195,12 +239,15 @@ def build_parser():
 
     c = sub.add_parser(
         "compare", help="compare a device's table with a host replay of the same readings",
-        description="Compare a table written by a device (same layout as 'tinygeo replay' writes) "
-                    "with a host replay. By default the host re-feeds the inputs found in the "
-                    "device table (time_s p_pa t_k rh_pct gps_m) to a column set up from its "
-                    "'# site' line; with --log the host replays the raw log instead and matches "
-                    "rows by line number.",
-        epilog=EXIT_TEXT, formatter_class=argparse.RawDescriptionHelpFormatter)
+        description="Compare a table written by a device (tinygeo/record.py: 'line' or 'time_s' "
+                    "and any of the value columns; nan = not computed, skipped) with a host "
+                    "replay. By default the host re-feeds the inputs found in the device table "
+                    "(time_s p_pa t_k rh_pct gps_m) to a column set up from its '# site' line, "
+                    "and the table must end with its end record ('#: end rows=N', "
+                    "tinygeo.record.end_line): a table cut short fails. With --log the host "
+                    "replays the raw log instead and matches rows by line number (or time_s); "
+                    "readings on one side only fail, rows missing at the end too.",
+        epilog=epilog, formatter_class=argparse.RawDescriptionHelpFormatter)
     c.add_argument("device", help="table written by the device")
     c.add_argument("--log", metavar="FILE", help="raw log the device was fed (replayed on the host)")
     _add_mapping(c)
@@ -216,14 +263,18 @@ def build_parser():
                    help="list up to N offending readings (10)")
 
     pl = sub.add_parser(
-        "plot", help="draw a replayed profile to PNG or SVG (needs matplotlib)",
-        description="Draw height against time, temperature and dew point against height, "
-                    "vertical rate and uncertainty, with mandatory levels, tropopause and burst "
-                    "marked. INPUT is a table from 'tinygeo replay' or a raw log (replayed on "
-                    "the fly with the mapping options).",
+        "plot", help="draw a replayed profile to PNG, SVG or PDF (needs matplotlib)",
+        description="Draw height (barometric and GPS) against time (UTC when the log has "
+                    "ISO-8601 stamps), temperature and dew point against height, the vertical "
+                    "rate (raw and the column's smoothed rate) and the uncertainty, with "
+                    "mandatory levels, tropopause, float and burst marked; the curves after the "
+                    "burst in their own colours. INPUT is a table from 'tinygeo replay' (its "
+                    "inputs are fed to a column again) or a raw log (replayed with the mapping "
+                    "options).",
         epilog=EXIT_TEXT, formatter_class=argparse.RawDescriptionHelpFormatter)
     pl.add_argument("input", help="replay table or raw log")
-    pl.add_argument("-o", "--out", metavar="FILE", required=True, help="image file, .png or .svg")
+    pl.add_argument("-o", "--out", metavar="FILE", required=True,
+                    help="image file, .png, .svg or .pdf")
     pl.add_argument("--title", help="figure title (default: the input's name)")
     pl.add_argument("--dpi", type=int, default=100, help="PNG resolution, dots per inch (100)")
     _add_mapping(pl)
@@ -231,239 +282,20 @@ def build_parser():
     return top
 
 
-# -- shared helpers -----------------------------------------------------------
-def _mapping(a):
-    return {q: getattr(a, q) for q in ("pressure", "temperature", "humidity", "dewpoint", "time", "gps")
-            if getattr(a, q, None)}
+def _command(name):
+    from tinygeo.host import compare, plot, replay, simulate
+    return {"replay": replay.command, "simulate": simulate.command, "compare": compare.run,
+            "plot": plot.run}[name]
 
 
-def _open_text(path, stdin):
-    if path == "-":
-        if hasattr(stdin, "reconfigure"):
-            try:
-                stdin.reconfigure(errors="replace")
-            except (ValueError, io.UnsupportedOperation):
-                pass
-        return stdin, "stdin", False
-    if os.path.isdir(path):
-        raise UsageError("%s is a directory; give a log file" % path)
+def _quiet_stdout():
+    # the reader of stdout went away: send what is still buffered nowhere, so
+    # the interpreter's final flush does not fail again
     try:
-        f = open(path, "r", encoding="utf-8", errors="replace", newline="")
-    except OSError as e:
-        raise UsageError("cannot read %s: %s" % (path, e.strerror or e))
-    return f, path, True
-
-
-def _open_out(path, stdout):
-    if path is None or path == "-":
-        return stdout, False
-    try:
-        return open(path, "w", encoding="utf-8", newline="\n"), True
-    except OSError as e:
-        raise UsageError("cannot write %s: %s" % (path, e.strerror or e))
-
-
-def sensor_options(a):
-    """(column keyword, option value) pairs of the sensor error options."""
-    return (("sigma_p_pa", a.sigma_p), ("sigma_t_k", a.sigma_t), ("sigma_rh_pct", a.sigma_rh),
-            ("bias_p_pa", a.bias_p), ("bias_t_k", a.bias_t), ("bias_rh_pct", a.bias_rh))
-
-
-def anchor_p_pa(hpa):
-    """Return the --anchor-pressure value (hPa) in Pa, or raise UsageError
-    when it is outside ANCHOR_HPA_MIN..ANCHOR_HPA_MAX hPa, with a hint in hPa
-    terms (a value in Pa or kPa is the likely slip)."""
-    if hpa == hpa and ANCHOR_HPA_MIN <= hpa <= ANCHOR_HPA_MAX:
-        return hpa * 100.0
-    if not hpa == hpa or hpa in (float("inf"), float("-inf")):
-        hint = "give a finite number of hPa (e.g. 1013.25)"
-    elif ANCHOR_HPA_MIN * 100.0 <= hpa <= ANCHOR_HPA_MAX * 100.0:
-        hint = "Pa passed? divide by 100: --anchor-pressure %g" % (hpa / 100.0)
-    elif ANCHOR_HPA_MIN / 10.0 <= hpa <= ANCHOR_HPA_MAX / 10.0:
-        hint = "kPa passed? multiply by 10: --anchor-pressure %g" % (hpa * 10.0)
-    else:
-        hint = "give the pressure of the start height in hPa (e.g. 1013.25)"
-    raise UsageError("--anchor-pressure %g is outside %g..%g hPa; %s"
-                     % (hpa, ANCHOR_HPA_MIN, ANCHOR_HPA_MAX, hint))
-
-
-def column_setup(a, reader):
-    """Return (lat_deg, start_height_m, column keyword options, site pairs)."""
-    meta = reader.meta if reader is not None else {}
-    lat = a.lat if a.lat is not None else meta.get("lat_deg")
-    if lat is None:
-        raise UsageError("the latitude is not known: pass --lat DEG (degrees north), or put "
-                         "'# lat_deg=..' in a comment line before the header")
-    h0 = a.start_height if a.start_height is not None else meta.get("start_height_m", 0.0)
-    opts = {}
-    if a.anchor_pressure is not None:
-        opts["anchor_p_pa"] = anchor_p_pa(a.anchor_pressure)
-    for key, arg in sensor_options(a):
-        v = arg if arg is not None else meta.get(key)
-        if v is not None:
-            opts[key] = v
-    if a.max_rate is not None:
-        opts["max_rate_m_s"] = a.max_rate
-    if a.ice:
-        opts["ice"] = True
-    if a.dry or (reader is not None and "humidity" not in reader.columns
-                 and "dewpoint" not in reader.columns):
-        opts["dry_fallback"] = True
-    site = [("lat_deg", float(lat)), ("start_height_m", float(h0))]
-    for k in sorted(opts):
-        site.append((k, opts[k] if not isinstance(opts[k], bool) else (1 if opts[k] else 0)))
-    return float(lat), float(h0), opts, site
-
-
-def new_column(lat, h0, opts):
-    from tinygeo.host import replay as rp
-    try:
-        return rp.make_column(lat, h0, opts)
-    except TypeError as e:
-        raise UsageError("the column does not take these settings (%s)" % e)
-    except ValueError as e:
-        raise UsageError("column set-up rejected: %s" % e)
-
-
-# -- commands -----------------------------------------------------------------
-def cmd_replay(a, stdin, stdout, stderr):
-    from tinygeo.host import logread, replay as rp
-    if a.every < 1:
-        raise UsageError("--every %d: give a whole number >= 1" % a.every)
-    f, name, close = _open_text(a.log, stdin)
-    out = None
-    close_out = False
-    try:
-        reader = logread.LogReader(f, _mapping(a), a.delimiter, name)
-        lat, h0, opts, site = column_setup(a, reader)
-        col = new_column(lat, h0, opts)
-        out, close_out = _open_out(a.out, stdout)
-        live = a.log == "-" or a.flush
-        err = _NullReports(stderr) if a.quiet else stderr
-        target = out if a.every == 1 else _Thinning(out, a.every)
-        summary = rp.replay(reader, col, target, lat, site, name, flush=live, err=err,
-                            progress=_isatty(stderr) and a.log != "-")
-        if summary.accepted == 0:
-            raise logread.InputError(
-                "%s: no reading was accepted (%d rejected%s); check the column mapping and units"
-                % (name, summary.rejected,
-                   "; first: " + summary.first_rejection if summary.first_rejection else
-                   ", no data lines after the header"))
-        lines = summary.lines(lat)
-        if close_out:
-            for line in lines:
-                stdout.write(line + "\n")
-        if a.summary:
-            s, c = _open_out(a.summary, stdout)
-            for line in lines:
-                s.write(line + "\n")
-            if c:
-                s.close()
-        return EXIT_OK
-    except rp.ReplayAbort as e:
-        raise logread.InputError(str(e))
-    finally:
-        if close:
-            f.close()
-        if close_out and out is not None:
-            out.close()
-
-
-class _NullReports:
-    """stderr stand-in for --quiet: drops per-reading reports, keeps notes."""
-
-    def __init__(self, stream):
-        self.stream = stream
-
-    def write(self, text):
-        if "rejected" not in text and "further" not in text:
-            self.stream.write(text)
-
-    def flush(self):
-        self.stream.flush()
-
-
-class _Thinning:
-    """Output filter for --every N: passes comments, the header, rows with an
-    event and every N-th row."""
-
-    def __init__(self, out, every):
-        self.out = out
-        self.every = every
-        self.n = 0
-
-    def write(self, text):
-        if text.startswith("#") or text.startswith("line\t"):
-            self.out.write(text)
-            return
-        if self.n % self.every == 0 or not text.rstrip("\n").endswith("\t-"):
-            self.out.write(text)
-        self.n += 1
-
-    def flush(self):
-        self.out.flush()
-
-
-def cmd_simulate(a, stdin, stdout, stderr):
-    from tinygeo.host import simulate as sim
-    p = sim.Params(
-        seed=a.seed, lat_deg=a.lat, site_m=a.elevation, ascent_m_s=a.ascent_rate, burst_m=a.burst,
-        descent_m_s=a.descent_rate, interval_s=a.interval, wait_s=a.wait, ground_s=a.ground,
-        rh_surface_pct=a.rh_surface, perturb_k=a.perturb, sigma_p_pa=a.sigma_p, sigma_t_k=a.sigma_t,
-        sigma_rh_pct=a.sigma_rh, bias_p_pa=a.bias_p, bias_t_k=a.bias_t, bias_rh_pct=a.bias_rh,
-        sigma_gps_m=a.sigma_gps, dropout=a.dropout, spikes=a.spikes,
-        jitter_s=a.jitter, gps=not a.no_gps, dew_point=a.dew_point, iso_start=a.start,
-        delimiter="\t" if a.tsv else ",")
-    if a.clean:
-        for k in ("sigma_p_pa", "sigma_t_k", "sigma_rh_pct", "bias_p_pa", "bias_t_k", "bias_rh_pct",
-                  "sigma_gps_m", "dropout", "spikes", "jitter_s"):
-            setattr(p, k, 0.0)
-        p.rh_dropout = p.gps_dropout = 0.0
-    try:
-        sim.check(p)
-    except ValueError as e:
-        raise UsageError("simulate: %s" % e)
-    out, c1 = _open_out(a.out, stdout)
-    truth, c2 = (None, False) if not a.truth else _open_out(a.truth, stdout)
-    try:
-        n = sim.simulate(p, out, truth)
-    finally:
-        if c1:
-            out.close()
-        if c2:
-            truth.close()
-    if a.out:
-        stderr.write("tinygeo simulate: %d readings written to %s\n" % (n, a.out))
-    return EXIT_OK
-
-
-def cmd_compare(a, stdin, stdout, stderr):
-    from tinygeo.host import compare
-    return compare.run(a, stdin, stdout, stderr)
-
-
-def cmd_plot(a, stdin, stdout, stderr):
-    from tinygeo.host import plot
-    return plot.run(a, stdin, stdout, stderr)
-
-
-COMMANDS = {"replay": cmd_replay, "simulate": cmd_simulate, "compare": cmd_compare, "plot": cmd_plot}
-
-
-def one_line(text):
-    """``text`` with every character that would break or hide a line
-    (control characters, line and paragraph separators) shown escaped, so
-    that a message quoting the input stays one line."""
-    if text.isprintable():
-        return text
-    return "".join(c if c.isprintable() else repr(c)[1:-1] for c in text)
-
-
-def _isatty(stream):
-    try:
-        return stream.isatty()
-    except (AttributeError, ValueError):
-        return False
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, sys.stdout.fileno())
+    except (OSError, ValueError, AttributeError, io.UnsupportedOperation):
+        pass
 
 
 def main(argv=None, stdin=None, stdout=None, stderr=None):
@@ -471,39 +303,46 @@ def main(argv=None, stdin=None, stdout=None, stderr=None):
     stdin = stdin if stdin is not None else sys.stdin
     stdout = stdout if stdout is not None else sys.stdout
     stderr = stderr if stderr is not None else sys.stderr
+    if stderr is None:
+        stderr = open(os.devnull, "w")
     argv = sys.argv[1:] if argv is None else list(argv)
     parser = build_parser()
     try:
         try:
             old = sys.stdout, sys.stderr
-            sys.stdout, sys.stderr = stdout, stderr   # argparse prints help/usage there
+            sys.stdout = stdout if stdout is not None else io.StringIO()
+            sys.stderr = stderr   # argparse prints help/usage there
             try:
                 a = parser.parse_args(argv)
             finally:
                 sys.stdout, sys.stderr = old
-        except SystemExit as e:   # --help
+        except SystemExit as e:   # --help, --version
             return e.code if isinstance(e.code, int) else EXIT_INPUT
         if not a.command:
             parser.print_help(stderr)
             return EXIT_INPUT
-        return COMMANDS[a.command](a, stdin, stdout, stderr)
+        return _command(a.command)(a, stdin, stdout, stderr)
+    except OutputError as e:
+        _say(stderr, "tinygeo: error: %s\n" % one_line(str(e)))
+        return EXIT_OUTPUT
     except TinygeoError as e:
-        stderr.write("tinygeo: error: %s\n" % one_line(str(e)))
+        _say(stderr, "tinygeo: error: %s\n" % one_line(str(e)))
         return EXIT_INPUT
     except KeyboardInterrupt:
-        stderr.write("tinygeo: interrupted\n")
+        _say(stderr, "tinygeo: interrupted\n")
         return EXIT_INTERRUPTED
-    except UnicodeError as e:
-        stderr.write("tinygeo: error: the input is not UTF-8 text (%s); convert it to UTF-8\n" % e)
-        return EXIT_INPUT
     except BrokenPipeError:
-        # the reader went away (e.g. '| head'); stop quietly
-        try:
-            devnull = os.open(os.devnull, os.O_WRONLY)
-            os.dup2(devnull, sys.stdout.fileno())
-        except (OSError, ValueError, AttributeError, io.UnsupportedOperation):
-            pass
+        _quiet_stdout()
         return EXIT_OK
     except OSError as e:
-        stderr.write("tinygeo: error: %s\n" % e)
+        _say(stderr, "tinygeo: error: %s\n" % one_line(str(e)))
         return EXIT_INPUT
+
+
+def _say(stream, text):
+    try:
+        stream.write(text)
+        stream.flush()
+    except (OSError, ValueError):
+        pass
+

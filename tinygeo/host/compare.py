@@ -1,266 +1,334 @@
-"""Compare a device's replay table with a host replay of the same readings.
+"""Compare a device's table with a host replay of the same readings.
 
 The pre-deployment check: the device runs the column on its own float
-arithmetic and writes the table layout of :mod:`tinygeo.host.table`; the host
-runs the same column in double precision on the same readings and the two are
-compared reading by reading. Streaming: one device row and one host result at
-a time, so memory stays flat.
+arithmetic and writes its rows with :mod:`tinygeo.record` (``line`` or
+``time_s`` and any subset of the value columns; ``nan`` = not computed); the
+host runs the same column in double precision on the same readings and the
+two are compared reading by reading. Streaming: one device row and one host
+result at a time, so memory stays flat.
 
 Two ways to get the host side:
-* default: the inputs written in the device table (time_s, p_pa, t_k,
-  rh_pct, gps_m; ``nan`` = missing) are fed to a host column set up from the
-  table's ``# site`` line (options on the command line override it);
-* ``--log FILE``: the raw log the device was fed is replayed on the host with
-  the usual column mapping, and rows are matched by their ``line`` number; a
-  reading accepted on one side only is an offence.
 
-A reading offends when |device - host| exceeds a tolerance for gph_m or
-height_m (``--tol-height``), rate_m_s (``--tol-rate``) or sigma_m
-(``--tol-sigma``), or (unless ``--ignore-events``) flags or events differ.
-nan on both sides counts as equal, nan on one side only as an infinite
-difference.
+* default: the inputs written in the device table (time_s, p_pa, t_k,
+  rh_pct, gps_m; ``nan`` = not given) are fed to a host column set up from
+  the table's ``# site`` line (options on the command line override it). The
+  table must end with its end record (``#: end rows=N``,
+  tinygeo.record.end_line) holding the number of rows: a table cut short, or
+  with rows missing, fails.
+* ``--log FILE``: the raw log the device was fed is replayed on the host with
+  the usual column mapping, and rows are matched by their ``line`` number
+  (or, without a line column, by time since the first row). A reading
+  accepted on one side only fails; so does every host row after the device
+  table's last row (rows missing at the end).
+
+A row offends when |device - host| exceeds a tolerance for gph_m or height_m
+(``--tol-height``), rate_m_s (``--tol-rate``) or sigma_m (``--tol-sigma``),
+or (unless ``--ignore-events``) flags or events differ. A value the device
+wrote as ``nan`` (or a column it left out) is skipped; a host ``nan`` against
+a device number is an infinite difference. Each row gets one status in the
+``--diffs`` file; the report's counts are the counts of those statuses.
 """
+from tinygeo.column import FL_NO_GPS
 from tinygeo.host import table
 from tinygeo.host import replay as rp
+from tinygeo.host.logread import LogReader
+from tinygeo.host.options import (EXIT_COMPARE_FAILED, EXIT_OK, Outputs, UsageError, check_paths,
+                                  mapping, new_column, open_text, setup_from_site)
 
 NAN = float("nan")
 INF = float("inf")
 FIELDS = ("gph_m", "height_m", "rate_m_s", "sigma_m")
 DIFF_HEADER = "line\tdevice_line\td_gph_m\td_height_m\td_rate_m_s\td_sigma_m\tflags\tevents\tstatus"
+TIME_MATCH_S = 0.002      # rows matched by time: the table prints time_s to 1 ms
 
-
-def _diff(dev, host):
-    if dev != dev and host != host:
-        return 0.0
-    if dev != dev or host != host:
-        return INF
-    return dev - host
+# the statuses of a row (--diffs) and what the report calls them
+STATUSES = (("FAIL", "values or flags/events beyond the tolerances"),
+            ("device-only", "in the device table but not accepted by the host"),
+            ("missing-on-device", "accepted by the host but missing from the device table"),
+            ("missing-at-end", "accepted by the host after the device table's last row"),
+            ("host-rejected", "rejected by the host"))
 
 
 def _opt(x):
     return None if x != x else x
 
 
+def _num(x):
+    return "%.3f" % x
+
+
 class Tally:
     """Maxima and offences of one comparison (bounded memory)."""
 
-    def __init__(self, tolerances, ignore_events, show):
+    def __init__(self, tolerances, ignore_events, show, diffs, present=None):
         self.tol = tolerances
+        self.fields = [f for f in FIELDS if present is None or f in present]
         self.ignore_events = ignore_events
         self.show = show
+        self.diffs = diffs
         self.compared = 0
-        self.offending = 0
+        self.status = dict((s, 0) for s, _ in STATUSES)
         self.mismatched_events = 0
-        self.unmatched = 0
+        self.skipped = 0
         self.maxima = dict((f, (0.0, None)) for f in FIELDS)
         self.first = None
         self.listed = []
+        self.table_problem = None      # the device table is cut short
 
-    def offence(self, line, device_line, text):
-        self.offending += 1
-        where = "line %d" % line + ("" if device_line is None else
-                                    " (device table line %d)" % device_line)
+    @property
+    def offending(self):
+        return sum(self.status.values())
+
+    def offence(self, status, line, device_line, text):
+        self.status[status] += 1
+        where = ("line %d" % line if line is not None else "row") + \
+            ("" if device_line is None else " (device table line %d)" % device_line)
         msg = "%s: %s" % (where, text)
         if self.first is None:
             self.first = msg
         if len(self.listed) < self.show:
             self.listed.append(msg)
 
-    def check(self, row, col, bits):
-        """Compare device ``row`` with the host column after a feed; return
-        the diff-file line."""
+    def row(self, line, device_line, status, diffs=None, flags="-", events="-"):
+        if self.diffs is not None:
+            d = diffs or (NAN,) * 4
+            self.diffs.write("%s\t%s\t%s\t%s\t%s\t%s\t%s\t%s\t%s\n" % (
+                "-" if line is None else line, "-" if device_line is None else device_line,
+                _num(d[0]), _num(d[1]), _num(d[2]), _num(d[3]), flags, events, status))
+
+    def one_side(self, status, line, device_line):
+        text = dict(STATUSES)[status]
+        self.offence(status, line, device_line, text)
+        self.row(line, device_line, status)
+
+    def check(self, row, col, bits, levels):
+        """Compare device ``row`` with the host column after a feed."""
         self.compared += 1
         diffs = []
         problems = []
         for f in FIELDS:
-            host = getattr(col, f, NAN)
-            host = NAN if host is None else host
-            d = _diff(getattr(row, f), host)
+            if f not in self.fields:
+                diffs.append(NAN)       # not in the device table
+                continue
+            dev = getattr(row, f)
+            host = getattr(col, f)
+            if dev != dev:
+                self.skipped += 1       # not computed on the device
+                diffs.append(NAN)
+                continue
+            d = INF if host != host else dev - host
             diffs.append(d)
             ad = abs(d)
             if ad > self.maxima[f][0]:
                 self.maxima[f] = (ad, row.line)
             if ad > self.tol[f]:
                 problems.append("%s differs by %s (device %s, host %s, tolerance %g)"
-                                % (f, _num(d), _num(getattr(row, f)), _num(host), self.tol[f]))
-        host_flags = int(getattr(col, "flags", 0) or 0)
-        host_events = table.events_text(
-            bits, [lv[0] for lv in rp._levels(col)] if bits & table.EV_LEVEL else NAN)
-        flags_ok = host_flags == row.flags
-        events_ok = host_events == row.events
+                                % (f, _num(d), _num(dev), _num(host), self.tol[f]))
+        flags_ok = row.flags is None or row.flags == col.flags
+        events_ok = True
+        host_events = table.events_text(bits, [lv[0] for lv in levels] if bits & 1 else NAN)
+        if row.events is not None:
+            # a device may name only the highest level a reading crossed
+            last = int(round(levels[-1][0] / 100.0)) if bits & 1 and levels else 0
+            events_ok = row.event_bits == bits and row.level_hpa == last
         if not (flags_ok and events_ok):
             self.mismatched_events += 1
             if not self.ignore_events:
                 if not flags_ok:
-                    problems.append("flags device %d, host %d" % (row.flags, host_flags))
+                    problems.append("flags device %d, host %d" % (row.flags, col.flags))
                 if not events_ok:
                     problems.append("events device %s, host %s" % (row.events, host_events))
+        line = row.line
         if problems:
-            self.offence(row.line, row.lineno, "; ".join(problems))
-        return "%d\t%d\t%s\t%s\t%s\t%s\t%s\t%s\t%s" % (
-            row.line, row.lineno, _num(diffs[0]), _num(diffs[1]), _num(diffs[2]), _num(diffs[3]),
-            "ok" if flags_ok else "differ", "ok" if events_ok else "differ",
-            "FAIL" if problems else "ok")
+            self.offence("FAIL", line, row.lineno, "; ".join(problems))
+        self.row(line, row.lineno, "FAIL" if problems else "ok", diffs,
+                 "ok" if flags_ok else "differ", "ok" if events_ok else "differ")
 
     def passed(self):
-        return self.offending == 0 and self.compared > 0
-
-
-def _num(x):
-    return "%.3f" % x
-
-
-def _device_reading(row):
-    return (row.line, row.p_pa, row.t_k, _opt(row.rh_pct), _opt(row.time_s), _opt(row.gps_m))
-
-
-def _site_from_table(site, a, meta):
-    """Column set-up from the device table's site line, overridden by options.
-
-    The raw log's comments (``meta``) only fill in a latitude or start height
-    the device table lacks: its sensor errors describe the sensor, not what
-    the device's column was set up with."""
-    def num(key):
-        if key in site:
-            try:
-                return float(site[key])
-            except ValueError:
-                raise table.TableError("device table: %s=%r in the '# site' line is not a number"
-                                       % (key, site[key]))
-        if key in ("lat_deg", "start_height_m"):
-            return meta.get(key)
-        return None
-
-    lat = a.lat if a.lat is not None else num("lat_deg")
-    if lat is None:
-        raise table.TableError("the latitude is not known: the device table has no lat_deg in its "
-                               "'# site' line; pass --lat DEG")
-    h0 = a.start_height if a.start_height is not None else num("start_height_m")
-    h0 = 0.0 if h0 is None else h0
-    opts = {}
-    from tinygeo.host import cli
-    anchor = cli.anchor_p_pa(a.anchor_pressure) if a.anchor_pressure is not None \
-        else num("anchor_p_pa")
-    if anchor is not None and anchor == anchor:
-        opts["anchor_p_pa"] = anchor
-    for key, arg in cli.sensor_options(a):
-        v = arg if arg is not None else num(key)
-        if v is not None:
-            opts[key] = v
-    rate = a.max_rate if a.max_rate is not None else num("max_rate_m_s")
-    if rate is not None:
-        opts["max_rate_m_s"] = rate
-    if a.ice or num("ice"):
-        opts["ice"] = True
-    if a.dry or num("dry_fallback"):
-        opts["dry_fallback"] = True
-    return lat, h0, opts
+        return self.offending == 0 and self.compared > 0 and self.table_problem is None
 
 
 def run(a, stdin, stdout, stderr):
     """The ``compare`` command; returns the exit status."""
-    from tinygeo.host import cli, logread
     if a.show < 0:
-        raise cli.UsageError("--show %d: give a whole number >= 0" % a.show)
+        raise UsageError("--show %d: give a whole number >= 0" % a.show)
     for name in ("tol_height", "tol_rate", "tol_sigma"):
         v = getattr(a, name)
         if not v >= 0.0:
-            raise cli.UsageError("--%s %s: give a tolerance >= 0" % (name.replace("_", "-"), v))
-    f, dev_name, close = cli._open_text(a.device, stdin)
-    log = None
-    diffs = None
+            raise UsageError("--%s %s: give a tolerance >= 0" % (name.replace("_", "-"), v))
+    if a.log == "-" and a.device == "-":
+        raise UsageError("only one of the device table and --log can be stdin")
+    check_paths([("device", a.device), ("log", a.log)], [("--diffs", a.diffs)], stdin)
+    lines, dev_name, close = open_text(a.device, stdin)
+    close_log = None
     try:
-        dev = table.TableReader(f, dev_name)
+        dev = table.TableReader(lines, dev_name)
+        if dev.input.get("every", "1") != "1":
+            raise table.TableError("%s holds every %s-th row only (replayed with --every): replay "
+                                   "the log without --every to compare it" % (dev_name,
+                                                                            dev.input["every"]))
         reader = None
         if a.log:
-            if a.log == "-" and a.device == "-":
-                raise cli.UsageError("only one of the device table and --log can be stdin")
-            log, log_name, _ = cli._open_text(a.log, stdin)
-            reader = logread.LogReader(log, cli._mapping(a), a.delimiter, log_name)
-        lat, h0, opts = _site_from_table(dev.site, a, reader.meta if reader else {})
-        if reader is not None and "humidity" not in reader.columns and "dewpoint" not in reader.columns:
-            opts["dry_fallback"] = True
-        col = cli.new_column(lat, h0, opts)
+            log_lines, log_name, close_log = open_text(a.log, stdin)
+            reader = LogReader(log_lines, mapping(a), a.delimiter, log_name)
+        setup = setup_from_site(dev.site, a, reader.meta if reader else {})
+        if reader is not None:
+            if "humidity" not in reader.columns and "dewpoint" not in reader.columns:
+                setup.options["dry_fallback"] = True
+            reader.settle(setup.start_height_m, True)
+        elif "p_pa" not in dev.present or "t_k" not in dev.present:
+            raise table.TableError("%s: the table has no %s column, so the host cannot feed its "
+                                   "readings again; give the raw log with --log FILE"
+                                   % (dev_name, "p_pa" if "p_pa" not in dev.present else "t_k"))
+        col = new_column(setup)
         tol = {"gph_m": a.tol_height, "height_m": a.tol_height, "rate_m_s": a.tol_rate,
                "sigma_m": a.tol_sigma}
-        tally = Tally(tol, a.ignore_events, a.show)
-        if a.diffs:
-            diffs, _ = cli._open_out(a.diffs, stdout)
-            diffs.write(DIFF_HEADER + "\n")
-        if reader is None:
-            _against_inputs(dev, col, tally, diffs)
-            source = "its own inputs"
-        else:
-            _against_log(dev, reader, col, tally, diffs, stderr)
-            source = "log %s" % a.log
-        _report(stdout, tally, dev_name, source, lat, h0)
-        return 0 if tally.passed() else 1
+        with Outputs(stdout) as outs:
+            diffs = outs.open(a.diffs) if a.diffs else None
+            tally = Tally(tol, a.ignore_events, a.show, diffs, dev.present)
+            if diffs is not None:
+                diffs.write(DIFF_HEADER + "\n")
+            if reader is None:
+                _against_inputs(dev, col, tally)
+                source = "its own inputs"
+            else:
+                _against_log(dev, reader, col, tally)
+                source = "log %s" % a.log
+            _check_end(dev, tally, reader is None)
+            report = outs.open(None)
+            _report(report, tally, dev_name, source, setup)
+            outs.commit()
+        return EXIT_OK if tally.passed() else EXIT_COMPARE_FAILED
     finally:
-        if close:
-            f.close()
-        if log is not None and a.log != "-":
-            log.close()
-        if diffs is not None and diffs is not stdout:
-            diffs.close()
+        close()
+        if close_log is not None:
+            close_log()
 
 
-def _against_inputs(dev, col, tally, diffs):
+def _check_end(dev, tally, strict):
+    end = dev.end
+    if end is None:
+        # a table written by an older host replay ends with its summary
+        acc = dict(dev.summary).get("accepted")
+        if acc is not None and "count" in acc:
+            end = {"rows": acc["count"]}
+    if end is None:
+        if strict:
+            tally.table_problem = ("no end record ('#: end rows=N'): the table was cut short, or "
+                                   "its writer did not finish (tinygeo.record.end_line)")
+        return
+    try:
+        rows = int(end.get("rows", "-1"))
+    except ValueError:
+        rows = -1
+    if rows != dev.rows:
+        tally.table_problem = ("the end record says %s rows, the table holds %d: rows are missing"
+                               % (end.get("rows", "?"), dev.rows))
+
+
+def _feed(col, reading):
+    tap = col.on_event
+    del tap.levels[:]
+    return col.feed(reading[1], reading[2], reading[3], reading[4], reading[5])
+
+
+def _against_inputs(dev, col, tally):
     for row in dev:
+        gps = row.gps_m
+        if gps != gps:
+            # nan: not given, or given as nan ('no fix': the flag tells)
+            gps = NAN if row.flags is not None and row.flags & FL_NO_GPS else None
+        reading = (row.line, row.p_pa, row.t_k, _opt(row.rh_pct), _opt(row.time_s), gps)
         try:
-            bits = rp.feed(col, _device_reading(row))
+            bits = _feed(col, reading)
         except ValueError as e:
             tally.compared += 1
-            tally.offence(row.line, row.lineno, "the host rejects this reading (%s: %s)"
-                          % (getattr(e, "reason", "reading"), e))
-            if diffs is not None:
-                diffs.write("%d\t%d\tnan\tnan\tnan\tnan\t-\t-\thost-rejected\n" % (row.line, row.lineno))
+            tally.offence("host-rejected", row.line, row.lineno, "the host rejects this reading "
+                          "(%s: %s)" % (getattr(e, "reason", "reading"), rp.tidy(str(e))))
+            tally.row(row.line, row.lineno, "host-rejected")
             continue
-        line = tally.check(row, col, bits)
-        if diffs is not None:
-            diffs.write(line + "\n")
+        tally.check(row, col, bits, col.on_event.levels)
 
 
-def _against_log(dev, reader, col, tally, diffs, stderr):
-    summary = rp.Summary()
-    host = rp.readings(reader, col, summary, lambda msg: None)
-    dev_it = iter(dev)
-    h = next(host, None)
-    d = next(dev_it, None)
-    while h is not None or d is not None:
-        if d is None or (h is not None and h[0][0] < d.line):
-            tally.unmatched += 1
-            tally.offence(h[0][0], None, "accepted by the host but missing from the device table")
-            if diffs is not None:
-                diffs.write("%d\t-\tnan\tnan\tnan\tnan\t-\t-\tmissing-on-device\n" % h[0][0])
-            h = next(host, None)
-        elif h is None or d.line < h[0][0]:
-            tally.unmatched += 1
-            tally.offence(d.line, d.lineno, "in the device table but not accepted by the host")
-            if diffs is not None:
-                diffs.write("%d\t%d\tnan\tnan\tnan\tnan\t-\t-\tmissing-on-host\n" % (d.line, d.lineno))
-            d = next(dev_it, None)
+class _Matcher:
+    """Merges the host's accepted readings (pushed by replay.run) with the
+    device rows (pulled), by line number or by time since the first row."""
+
+    def __init__(self, dev, col, tally):
+        self.rows = iter(dev)
+        self.col = col
+        self.tally = tally
+        self.by_line = "line" in dev.present
+        self.d = next(self.rows, None)
+        self.t0_dev = None if self.d is None else self.d.time_s
+        self.t0_host = None
+
+    def key_dev(self, d):
+        return d.line if self.by_line else round((d.time_s - self.t0_dev) / TIME_MATCH_S)
+
+    def key_host(self, reading):
+        if self.by_line:
+            return reading[0]
+        ts = reading[4]
+        if ts is None:
+            return None
+        if self.t0_host is None:
+            self.t0_host = ts
+        return round((ts - self.t0_host) / TIME_MATCH_S)
+
+    def __call__(self, reading, bits):
+        t = self.tally
+        hk = self.key_host(reading)
+        while self.d is not None and hk is not None and self.key_dev(self.d) < hk:
+            t.one_side("device-only", self.d.line, self.d.lineno)
+            self.d = next(self.rows, None)
+        if self.d is None:
+            t.one_side("missing-at-end", reading[0], None)
+        elif hk is not None and self.key_dev(self.d) == hk:
+            t.check(self.d, self.col, bits, self.col.on_event.levels)
+            self.d = next(self.rows, None)
         else:
-            line = tally.check(d, col, h[1])
-            if diffs is not None:
-                diffs.write(line + "\n")
-            h = next(host, None)
-            d = next(dev_it, None)
+            t.one_side("missing-on-device", reading[0], None)
+
+    def rest(self):
+        while self.d is not None:
+            self.tally.one_side("device-only", self.d.line, self.d.lineno)
+            self.d = next(self.rows, None)
 
 
-def _report(out, tally, dev_name, source, lat, h0):
+def _against_log(dev, reader, col, tally):
+    summary = rp.Summary(col, col.lat_deg)
+    match = _Matcher(dev, col, tally)
+    rp.run(reader, col, summary, lambda msg: None, sink=match)
+    match.rest()
+
+
+def _report(out, tally, dev_name, source, setup):
     w = out.write
     w("tinygeo compare: device table %s against a host replay of %s\n" % (dev_name, source))
-    w("column: lat_deg=%s start_height_m=%s\n" % (_num(lat), _num(h0)))
+    w("column: lat_deg=%s start_height_m=%s\n" % (_num(setup.lat_deg), _num(setup.start_height_m)))
     w("readings compared: %d\n" % tally.compared)
+    if tally.skipped:
+        w("values not computed on the device (nan), skipped: %d\n" % tally.skipped)
     w("largest |device - host|:\n")
     for f in FIELDS:
+        if f not in tally.fields:
+            w("  %-9s (not in the device table)\n" % f)
+            continue
         v, line = tally.maxima[f]
         w("  %-9s %10s   tolerance %-6g %s\n" % (f, _num(v), tally.tol[f],
                                                   "" if line is None else "(line %d)" % line))
     w("flags/events differing: %d%s\n" % (tally.mismatched_events,
                                           " (ignored)" if tally.ignore_events else ""))
-    w("readings on one side only: %d\n" % tally.unmatched)
+    one_side = tally.status["device-only"] + tally.status["missing-on-device"] + \
+        tally.status["missing-at-end"]
+    w("readings on one side only: %d\n" % one_side)
     w("offending readings: %d\n" % tally.offending)
+    for status, text in STATUSES:
+        if tally.status[status]:
+            w("  %s: %d (%s)\n" % (status, tally.status[status], text))
+    if tally.table_problem:
+        w("device table: %s\n" % tally.table_problem)
     if tally.first:
         w("first offending: %s\n" % tally.first)
         for msg in tally.listed[1:]:

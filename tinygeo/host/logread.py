@@ -12,37 +12,71 @@ Columns are mapped to quantities by the user (``--pressure NAME:hPa`` ...) or,
 by default, from the header names: a name is lower-cased, ``%`` becomes
 ``pct``, any other run of non-letters/digits becomes ``_``, and a trailing
 unit word is split off (``Temp (degC)`` -> ``temp`` + ``degc``). Recognised
-names are listed in ``NAMES`` and units in ``UNITS``. A quantity whose unit is
-neither given nor in its header name gets it from the first value read
-(pressure >= 1200 is Pa, else hPa; temperature >= 100 is K, else degC;
-a time that is not a number is an ISO-8601 timestamp), and a note says so.
+names are listed in ``NAMES`` and units in ``UNITS``. Two header columns that
+both look like one quantity (``temp`` and ``temperature``) are an error that
+names both: choose one with its option.
 
-Numbers may use a decimal comma when the delimiter is not a comma.
+Units. A unit in the header name or the option is a statement, checked
+against the first reading (a pressure in Pa declared hPa, a Celsius
+temperature declared K: exit 2 naming the unit it looks like). A unit that
+is not stated is inferred from the values and must be confirmed by
+plausibility over the first readings (:meth:`LogReader.settle`), else the
+log stops with exit 2 asking for the unit:
 
-Problems with the log as a whole (no header, unknown column, a declared unit
-the values contradict...) raise :class:`InputError` (exit status 2); problems
-with one line raise :class:`tinygeo.errors.ReadingError` with a ``reason``
-(``number``, ``fields``, ``missing``, ``time``) and the line is skipped.
+* pressure: the unit (Pa, hPa or kPa) that puts the first reading within
+  START_WINDOW_M of the start height (pressure altitude of the U.S. Standard
+  Atmosphere 1976, tinygeo.standard), or, when no start height is given,
+  between SURFACE_MIN_M and SURFACE_MAX_M (the surface of the inhabited
+  world, common practice). The three units are 16 km or more apart, so at
+  most one fits.
+* temperature (and dew point): K when the first value is 100 or more, else
+  degC; confirmed when the first value is a surface air temperature in that
+  unit (SURFACE_T_K, the recorded extremes, common practice) and, when the
+  log climbs CLIMB_M within LOOKAHEAD_LINES lines, the mean lapse rate over
+  that climb is at most MAX_LAPSE_K_KM (the dry adiabatic lapse rate
+  g0/cp = 9.8 K/km bounds any layer that deep; Wallace and Hobbs 2006
+  sec. 3.3; a margin for sensor noise). A temperature in degF read as degC
+  is 1.8 times too steep and usually far too hot at the surface.
+* time: seconds when the values are numbers, ISO-8601 otherwise (the
+  replay's TimeUnitCheck confirms seconds against the first climb).
+
+The start height: when none was given (it defaulted to 0 m) and the first
+reading's pressure altitude lies more than START_PA_M from 0, or its GPS
+height more than START_GPS_M, the log stops with exit 2 naming the height
+and ``--start-height``.
+
+Numbers may use a decimal comma (``12,5``) in a field without a '.'; a
+pressure stated in Pa may group thousands with commas (``96,512``).
+
+Problems with the log as a whole raise :class:`InputError` (exit status 2);
+problems with one line give a :class:`tinygeo.errors.ReadingError` with a
+``reason`` (``number``, ``fields``, ``missing``, ``time``, ``humidity``) and
+the line is skipped.
 """
 import datetime
 
-from tinygeo.errors import ReadingError, TinygeoError
+from tinygeo.errors import ReadingError
+from tinygeo.host.options import MAX_LINE_CHARS, InputError, TextLines
 
 QUANTITIES = ("pressure", "temperature", "humidity", "dewpoint", "time", "gps")
 
 # unit word (normalised) -> canonical unit, per quantity
+_T_UNITS = {"k": "K", "c": "C", "degc": "C", "celsius": "C", "kelvin": "K",
+            "f": "F", "degf": "F", "fahrenheit": "F"}
 UNITS = {
     "pressure": {"pa": "Pa", "hpa": "hPa", "mbar": "hPa", "mb": "hPa", "kpa": "kPa"},
-    "temperature": {"k": "K", "c": "C", "degc": "C", "celsius": "C", "kelvin": "K"},
-    "dewpoint": {"k": "K", "c": "C", "degc": "C", "celsius": "C", "kelvin": "K"},
+    "temperature": _T_UNITS,
+    "dewpoint": _T_UNITS,
     "humidity": {"pct": "%", "percent": "%"},
     "time": {"s": "s", "sec": "s", "seconds": "s", "ms": "ms", "iso": "iso"},
     "gps": {"m": "m"},
 }
-# factor and offset to SI (Pa, K, %, s, m): si = value * factor + offset
+# factor and offset to SI (Pa, K, %, s, m): si = value * factor + offset.
+# degF: K = (F + 459.67) 5/9 (the definition of the Fahrenheit scale, NIST
+# SP 811 (2008) appendix B.8)
 TO_SI = {"Pa": (1.0, 0.0), "hPa": (100.0, 0.0), "kPa": (1000.0, 0.0),
-         "K": (1.0, 0.0), "C": (1.0, 273.15), "%": (1.0, 0.0),
-         "s": (1.0, 0.0), "ms": (0.001, 0.0), "m": (1.0, 0.0)}
+         "K": (1.0, 0.0), "C": (1.0, 273.15), "F": (5.0 / 9.0, 459.67 * 5.0 / 9.0),
+         "%": (1.0, 0.0), "s": (1.0, 0.0), "ms": (0.001, 0.0), "m": (1.0, 0.0)}
 
 # normalised header name (without unit word) -> quantity
 NAMES = {}
@@ -60,9 +94,21 @@ META_KEYS = ("lat_deg", "start_height_m", "sigma_p_pa", "sigma_t_k", "sigma_rh_p
              "bias_p_pa", "bias_t_k", "bias_rh_pct")
 DELIMITERS = (",", "\t", ";", "|")
 
-
-class InputError(TinygeoError):
-    """The log cannot be replayed as given; the message says where and what to do."""
+# plausibility of inferred units and of the start height (see the module docstring)
+START_WINDOW_M = 3000.0       # the column's start_guard_m default
+SURFACE_MIN_M = -1000.0       # pressure altitude of a surface: the lowest land (-430 m) in a high
+SURFACE_MAX_M = 6000.0        # ... and the highest inhabited places in a low (common practice)
+SURFACE_T_K = {"C": (-93.0, 50.0), "K": (180.0, 335.0), "F": (-135.0, 122.0)}
+# recorded surface air extremes -89.2 degC (Vostok) and +56.7 degC (Death
+# Valley) (WMO archive of weather extremes, from memory); degC is capped at 50
+# so that degF values of a mild day (60 degF) are not taken as degC
+CLIMB_M = 1500.0              # climb over which the lapse rate is judged, gpm
+CLIMB_READINGS = 5            # readings in a row beyond CLIMB_M (a spike is one)
+MAX_LAPSE_K_KM = 10.0         # dry adiabatic 9.8 K/km (Wallace and Hobbs 2006 sec. 3.3) + margin
+LOOKAHEAD_LINES = 5000        # lines read ahead, at most, to confirm a unit
+LOOKAHEAD_CHARS = 4 << 20     # ... and characters
+START_PA_M = 500.0            # start height defaulted to 0: pressure altitude allowed (weather)
+START_GPS_M = 300.0           # ... GPS height allowed
 
 
 def normalise(name):
@@ -110,16 +156,40 @@ def split_spec(quantity, spec):
     unit = UNITS[quantity].get(normalise(word))
     if unit is None:
         raise InputError("--%s %s: unknown unit %r; use one of %s" % (
-            quantity.replace("dewpoint", "dew-point"), spec, word,
-            ", ".join(sorted(set(UNITS[quantity].values())))))
+            _opt(quantity), spec, word, ", ".join(sorted(set(UNITS[quantity].values())))))
     return name.strip(), unit
 
 
-def _parse_float(text):
-    x = float(text)
-    if x != x or x in (float("inf"), float("-inf")):
-        raise ValueError("not finite")
+def to_float(text, thousands=False):
+    """A finite number from a field, or None: a decimal point or, in a field
+    without one, a decimal comma (``12,5``); with ``thousands`` commas group
+    thousands instead (``96,512``)."""
+    try:
+        x = float(text)
+    except ValueError:
+        x = None
+        if "," in text and "." not in text:
+            if thousands and _grouped(text):
+                t = text.replace(",", "")
+            elif text.count(",") == 1:
+                t = text.replace(",", ".")
+            else:
+                return None
+            try:
+                x = float(t)
+            except ValueError:
+                return None
+    if x is None or x - x != 0.0:
+        return None
     return x
+
+
+def _grouped(text):
+    # digits grouped by commas in threes: 96,512 or -1,013,250
+    s = text.strip().lstrip("+-")
+    parts = s.split(",")
+    return (1 <= len(parts[0]) <= 3 and parts[0].isdigit()
+            and all(len(p) == 3 and p.isdigit() for p in parts[1:]))
 
 
 def _iso_seconds(text):
@@ -133,31 +203,41 @@ def _iso_seconds(text):
     return dt.timestamp()
 
 
+def _missing(text):
+    return text == "" or text.lower() in ("na", "n/a", "nan", "-", "null", "none")
+
+
 class LogReader:
-    """Read a log from a text stream; iterate for readings.
+    """Read a log from ``lines`` (a :class:`tinygeo.host.options.TextLines`);
+    iterate for readings.
 
     ``mapping`` maps quantity names (see QUANTITIES) to ``NAME[:UNIT]``
     strings from the command line (missing = by header name). Each item of
     the iteration is ``(lineno, p_pa, t_k, rh_pct, time_s, gps_m)`` with None
     for an optional quantity that is absent or empty; a bad line yields a
     ReadingError instance (with ``lineno`` set on it) instead of a tuple.
+    Call :meth:`settle` before iterating (iterating settles with no start
+    height otherwise).
 
     After construction: ``meta`` (comment key=value defaults), ``columns``
-    (quantity -> (index, header name, unit)), ``notes`` (list of strings to
-    show the user), ``delimiter``, ``time_origin`` (ISO text of the first
-    timestamp when times are ISO, else None), ``option_units`` (the
-    quantities whose unit was given in the mapping option, ``NAME:UNIT``)."""
+    (quantity -> (index, header name, unit or None, stated)), ``notes``
+    (list of strings to show the user), ``delimiter``; after the first
+    reading ``time_origin`` (ISO text of the first timestamp when times are
+    ISO, else None); ``option_units`` (the quantities whose unit was given in
+    the mapping option, ``NAME:UNIT``)."""
 
-    def __init__(self, stream, mapping=None, delimiter=None, name="input"):
-        self.stream = stream
+    def __init__(self, lines, mapping=None, delimiter=None, name="input"):
+        self.stream = lines
         self.name = name
         self.lineno = 0
         self.meta = {}
         self.notes = []
         self.time_origin = None
         self._t0 = None
-        self._checked = set()
         self.option_units = set()
+        self.settled = False
+        self.first = None         # the first reading that parsed (probe): (lineno, p_pa, t_k, gps_m)
+        self._ahead = []          # (lineno, text) read ahead by settle
         header = self._read_header()
         if delimiter is None:
             delimiter = self._sniff(header)
@@ -169,7 +249,7 @@ class LogReader:
         names = self._split(header)
         self.header = names
         self.nfields = len(names)
-        if all(_is_number(n) for n in names):
+        if all(to_float(n) is not None for n in names):
             raise InputError(
                 "%s line %d: no header: the first line holds numbers. Add a header line "
                 "naming the columns (e.g. time_s,pressure_hpa,temp_c,rh_pct)" % (name, self.lineno))
@@ -177,16 +257,21 @@ class LogReader:
         self.columns = self._resolve(names, mapping or {})
 
     # -- header -------------------------------------------------------------
+    def _readline(self):
+        raw = self.stream.readline()
+        if raw:
+            self.lineno += 1
+        return raw
+
     def _read_header(self):
         while True:
-            raw = self.stream.readline()
+            raw = self._readline()
             if not raw:
                 if self.lineno == 0:
                     raise InputError("%s: empty input: no header and no readings. Give a log "
                                      "with a header line and one reading per line" % self.name)
                 raise InputError("%s: only comments or blank lines (%d lines), no header; add a "
                                  "header line naming the columns" % (self.name, self.lineno))
-            self.lineno += 1
             line = raw.strip().lstrip("\ufeff")
             if not line:
                 continue
@@ -194,11 +279,11 @@ class LogReader:
                 for w in line[1:].split():
                     k, sep, v = w.partition("=")
                     if sep and k in META_KEYS:
-                        try:
-                            self.meta[k] = _parse_float(v)
-                        except ValueError:
+                        x = to_float(v)
+                        if x is None:
                             raise InputError("%s line %d: %s=%r in the comment is not a number; "
                                              "fix or remove it" % (self.name, self.lineno, k, v))
+                        self.meta[k] = x
                 continue
             return line
 
@@ -243,21 +328,44 @@ class LogReader:
 
     def _resolve(self, names, mapping):
         cols = {}
+        used = set()
         for q in QUANTITIES:
             spec = mapping.get(q)
             if spec:
                 i, unit = self._find(names, q, spec)
                 if unit is not None:
                     self.option_units.add(q)
-                if unit is None:
-                    unit = classify(names[i])[1] if classify(names[i])[0] == q else None
-                cols[q] = (i, names[i], unit, True)
+                elif classify(names[i])[0] == q:
+                    unit = classify(names[i])[1]
+                cols[q] = (i, names[i], unit, unit is not None)
+                used.add(i)
+        if "humidity" in cols and "dewpoint" in cols:
+            raise InputError("give either --humidity or --dew-point, not both")
+        found = {}
         for i, n in enumerate(names):
             q, unit = classify(n)
-            if q is None or q in cols or (q in ("humidity", "dewpoint") and
-                                          ("humidity" in cols or "dewpoint" in cols)):
+            if q is None or q in cols or i in used:
                 continue
-            if i in [c[0] for c in cols.values()]:
+            found.setdefault(q, []).append((i, n, unit))
+        for q in QUANTITIES:
+            m = found.get(q)
+            if not m:
+                continue
+            if len(m) > 1:
+                raise InputError(
+                    "%s line %d: %s both look like the %s; choose one with --%s NAME"
+                    % (self.name, self.lineno,
+                       " and ".join("column %d %r" % (i + 1, n) for i, n, _ in m),
+                       _what(q), _opt(q)))
+            i, n, unit = m[0]
+            if q == "dewpoint" and "humidity" in cols:
+                self.notes.append("column %r (dew point) not used: the humidity comes from "
+                                  "column %r; give --dew-point %s to use it instead"
+                                  % (n, cols["humidity"][1], n))
+                continue
+            if q == "humidity" and "dewpoint" in cols:
+                self.notes.append("column %r (humidity) not used: the dew point comes from "
+                                  "column %r" % (n, cols["dewpoint"][1]))
                 continue
             cols[q] = (i, n, unit, unit is not None)
         for q, opt in (("pressure", "--pressure NAME:hPa"), ("temperature", "--temperature NAME:C")):
@@ -265,29 +373,323 @@ class LogReader:
                 raise InputError("%s line %d: no %s column found among: %s. Name it with %s "
                                  "(NAME = header name or column number)"
                                  % (self.name, self.lineno, q, ", ".join(names), opt))
-        if "humidity" in cols and "dewpoint" in cols:
-            raise InputError("give either --humidity or --dew-point, not both")
         return cols
+
+    # -- units and the start: read ahead ----------------------------------------
+    def settle(self, start_height_m=0.0, start_given=True):
+        """Read ahead as far as needed to decide and confirm the units that
+        are not stated, check the stated ones, and check a start height that
+        defaulted to 0 (``start_given`` False) against the first reading.
+        Raises InputError (exit 2) naming the line, the value and the option
+        to give. The lines read are replayed by the iteration."""
+        if self.settled:
+            return
+        self.settled = True
+        cols = self.columns
+        need_climb = any(q in cols and cols[q][2] is None for q in ("temperature", "dewpoint"))
+        probes = []
+        chars = 0
+        climb = None
+        while len(self._ahead) < LOOKAHEAD_LINES and chars < LOOKAHEAD_CHARS:
+            raw = self._readline()
+            if not raw:
+                break
+            self._ahead.append((self.lineno, raw))
+            chars += len(raw)
+            pr = self._probe(raw, self.lineno)
+            if pr is None:
+                continue
+            probes.append(pr)
+            if len(probes) == 1:
+                self._pressure_unit(pr, start_height_m, start_given)
+                self._time_unit(raw)
+                pr[5] = _altitude(pr[1] * TO_SI[cols["pressure"][2]][0])
+                if not need_climb:
+                    break
+            else:
+                climb = self._climb(probes)
+                if climb is not None:
+                    break
+        if not probes:
+            return        # nothing to judge: the iteration reports the lines
+        self.first = probes[0]
+        for q in ("temperature", "dewpoint"):
+            if q in cols:
+                self._temperature_unit(q, probes, climb)
+        if not start_given:
+            self._start_check(probes[0])
+
+    def _probe(self, raw, lineno):
+        # the raw numbers of pressure, temperature, dew point and GPS of one
+        # line (no unit applied), or None when the line does not parse
+        line = raw.strip()
+        if not line or line.startswith("#"):
+            return None
+        fields = self._split(line)
+        if len(fields) != self.nfields:
+            return None
+        cols = self.columns
+        out = [lineno]
+        for q in ("pressure", "temperature", "dewpoint", "gps"):
+            if q not in cols:
+                out.append(None)
+                continue
+            x = to_float(fields[cols[q][0]],
+                         thousands=q == "pressure" and cols[q][2] == "Pa")
+            if x is None and q in ("pressure", "temperature"):
+                return None
+            out.append(x)
+        out.append(None)                                    # [5] pressure altitude, set later
+        out.append(fields[cols["pressure"][0]].strip())    # [6] the pressure as written
+        return out          # [lineno, p, t, td, gps, z, p text]
+
+    def _pressure_unit(self, pr, h0, given):
+        i, name, unit, stated = self.columns["pressure"]
+        x = pr[1]
+        fits = []
+        for u in ("Pa", "hPa", "kPa"):
+            z = _altitude(x * TO_SI[u][0])
+            if z is None:
+                continue
+            if given:
+                ok = abs(z - h0) <= START_WINDOW_M
+            else:
+                ok = SURFACE_MIN_M <= z <= SURFACE_MAX_M
+            if ok:
+                fits.append((u, z))
+        where = ("within %.0f m of the start height %.0f m" % (START_WINDOW_M, h0) if given else
+                 "at a surface (pressure altitude %.0f..%.0f m)" % (SURFACE_MIN_M, SURFACE_MAX_M))
+        if unit is not None:
+            if fits and unit not in [u for u, _ in fits]:
+                raise InputError(
+                    "%s line %d: column %r is declared in %s but its value %s looks like %s "
+                    "(%s); declare it with --pressure %s:%s" % (
+                        self.name, pr[0], name, unit, _short(x), fits[0][0], where, name,
+                        fits[0][0]))
+            return
+        if len(fits) != 1:
+            raise InputError(
+                "%s line %d: column %r has no pressure unit and its first value %s is not a "
+                "pressure %s in Pa, hPa or kPa; give the unit with --pressure %s:UNIT (Pa, hPa, "
+                "kPa; a Pa value may group thousands with commas)%s"
+                % (self.name, pr[0], name, _short(x), where, name,
+                   "" if given else ", or the start height with --start-height M"))
+        u, z = fits[0]
+        text = pr[6]
+        if u == "kPa" and _grouped(text.replace(".", ",")):
+            raise InputError(
+                "%s line %d: column %r has no pressure unit and its first value %r reads as %s "
+                "kPa, or as %s Pa with its thousands grouped by %r; give the unit: --pressure "
+                "%s:kPa, or --pressure %s:Pa%s" % (
+                    self.name, pr[0], name, text, _short(x), text.replace(",", "").replace(".", ""),
+                    "," if "," in text else ".", name, name,
+                    "" if "," in text else " after removing the '.' grouping"))
+        self.columns["pressure"] = (i, name, u, False)
+        self.notes.append("column %r taken as pressure in %s: its first value %s (line %d) is "
+                          "then %.0f m pressure altitude, %s; give --pressure %s:UNIT to choose"
+                          % (name, u, _short(x), pr[0], z, where, name))
+
+    def _time_unit(self, raw):
+        # a time column without a unit: seconds if its first value is a number,
+        # else ISO-8601 timestamps
+        tc = self.columns.get("time")
+        if tc is None or tc[2] is not None:
+            return
+        fields = self._split(raw.strip())
+        text = fields[tc[0]]
+        if text:
+            self.columns["time"] = (tc[0], tc[1], "s" if to_float(text) is not None else "iso",
+                                    False)
+
+    def _climb(self, probes):
+        # (index of the first reading of the climb, mean lapse in raw units
+        # per km) once CLIMB_READINGS readings in a row lie CLIMB_M above the
+        # first reading, else None
+        f = TO_SI[self.columns["pressure"][2]][0]
+        last = probes[-1]
+        last[5] = _altitude(last[1] * f)            # pressure altitude, gpm (None: out of range)
+        if len(probes) < CLIMB_READINGS + 1:
+            return None
+        z0 = probes[0][5]
+        tail = probes[-CLIMB_READINGS:]
+        zs = [p[5] for p in tail]
+        if z0 is None or any(z is None or z - z0 < CLIMB_M for z in zs):
+            return None
+        # the ends: median temperature of the first readings within 50 m of the
+        # first, and of the readings of the climb (a spike is one reading)
+        start = [p for p in probes[:CLIMB_READINGS] if p[5] is not None and abs(p[5] - z0) < 50.0]
+        t0 = _median([p[2] for p in start])
+        t1 = _median([p[2] for p in tail])
+        dz = (_median(zs) - z0) / 1000.0
+        return (len(probes) - CLIMB_READINGS, (t0 - t1) / dz, tail[0][0])
+
+    def _temperature_unit(self, q, probes, climb):
+        i, name, unit, stated = self.columns[q]
+        k = 2 if q == "temperature" else 3
+        first = next((p for p in probes if p[k] is not None), None)
+        if first is None:
+            return
+        x = first[k]
+        guess = "K" if x >= 100.0 else "C"
+        if unit is not None:
+            if (unit == "K") != (guess == "K"):
+                raise InputError(
+                    "%s line %d: column %r is declared in %s but its value %s looks like %s; "
+                    "declare it with --%s %s:%s" % (
+                        self.name, first[0], name, _unit_word(unit), _short(x),
+                        _unit_word(guess), _opt(q), name, guess))
+            return
+        lo, hi = SURFACE_T_K[guess]
+        ask = ("give the unit with --%s %s:UNIT (C for degC, F for degF, K)" % (_opt(q), name))
+        if not lo <= x <= hi:
+            more = ""
+            if guess == "C" and x > hi:
+                more = " (degF?)"
+            raise InputError(
+                "%s line %d: column %r has no unit and its first value %s is no surface air "
+                "temperature in %s (%g..%g)%s; %s" % (
+                    self.name, first[0], name, _short(x), _unit_word(guess), lo, hi, more, ask))
+        why = "a surface air temperature"
+        if q == "temperature" and climb is not None:
+            lapse = climb[1]
+            if lapse > MAX_LAPSE_K_KM:
+                raise InputError(
+                    "%s line %d: column %r has no unit; read in %s it cools by %.1f K/km over "
+                    "the first %.0f m of climb (lines %d..%d), steeper than the dry adiabatic "
+                    "%.1f K/km: a temperature in degF? %s" % (
+                        self.name, climb[2], name, _unit_word(guess), lapse, CLIMB_M,
+                        probes[0][0], climb[2], 9.8, ask))
+            why += ", cooling %.1f K/km over the first %.0f m of climb" % (lapse, CLIMB_M)
+        if q == "dewpoint":
+            t_unit = self.columns["temperature"][2]
+            if first[2] is not None and t_unit is not None:
+                t_k = first[2] * TO_SI[t_unit][0] + TO_SI[t_unit][1]
+                td_k = x * TO_SI[guess][0] + TO_SI[guess][1]
+                if td_k > t_k + 1.0:
+                    raise InputError(
+                        "%s line %d: column %r has no unit; read in %s its first value %s is a "
+                        "dew point %.1f K above the air temperature; %s" % (
+                            self.name, first[0], name, _unit_word(guess), _short(x),
+                            td_k - t_k, ask))
+        self.columns[q] = (i, name, guess, False)
+        self.notes.append("column %r taken as %s in %s (first value %s on line %d: %s); give "
+                          "--%s %s:UNIT to choose" % (name, q, _unit_word(guess), _short(x),
+                                                      first[0], why, _opt(q), name))
+
+    def _start_check(self, pr):
+        f = TO_SI[self.columns["pressure"][2]][0]
+        z = _altitude(pr[1] * f)
+        gps = pr[4]
+        parts = []
+        if gps is not None and abs(gps) > START_GPS_M:
+            parts.append("its GPS height is %.0f m" % gps)
+        if z is not None and abs(z) > START_PA_M:
+            parts.append("its pressure altitude is %.0f m" % z)
+        if not parts:
+            return
+        guess = gps if gps is not None and abs(gps) > START_GPS_M else z
+        raise InputError(
+            "%s line %d: no start height was given (it would be 0 m), but the first reading says "
+            "otherwise: %s. Give the height of the first reading above mean sea level with "
+            "--start-height M (about --start-height %.0f here; --start-height 0 if it really is "
+            "at sea level), or put '# start_height_m=..' before the header"
+            % (self.name, pr[0], " and ".join(parts), guess))
 
     # -- rows ---------------------------------------------------------------
     def __iter__(self):
-        readline = self.stream.readline
-        while True:
-            raw = readline()
-            if not raw:
-                return
-            self.lineno += 1
-            # keep a trailing delimiter: a tab-separated line may end in an empty field
-            line = raw.rstrip("\r\n")
-            stripped = line.strip()
-            if not stripped or stripped.startswith("#"):
-                continue
-            if self.delimiter not in ("\t", " "):
-                line = stripped
-            try:
-                yield self.parse(line, self.lineno)
-            except ReadingError as e:
-                yield e
+        if not self.settled:
+            self.settle()
+        ahead = self._ahead
+        self._ahead = []
+        stream = self.stream
+        readline = stream.readline
+        cols = self.columns
+        d = self.delimiter
+        nf = self.nfields
+        ip, fp, op = self._conv("pressure")
+        it, ft, ot = self._conv("temperature")
+        ih = cols["humidity"][0] if "humidity" in cols else -1
+        ig = cols["gps"][0] if "gps" in cols else -1
+        tcol = cols.get("time")
+        # the fast path: numbers with a decimal point, humidity (not dew
+        # point), time in s or ms or none; anything else goes to parse()
+        fast = "dewpoint" not in cols and (tcol is None or tcol[2] in ("s", "ms"))
+        itm = tcol[0] if tcol is not None else -1
+        ftm = 0.001 if tcol is not None and tcol[2] == "ms" else 1.0
+        parse = self.parse
+        src = self.stream
+        if isinstance(src, TextLines):
+            rl = src.stream.readline        # its stream, read inline (speed)
+            binary = src.binary
+        else:
+            def rl(limit):
+                return src.readline()
+            binary = False
+        limit = MAX_LINE_CHARS + 1
+        lineno = self.lineno
+        k = 0
+        na = len(ahead)
+        try:
+            while True:
+                if k < na:
+                    lineno, raw = ahead[k]
+                    ahead[k] = None
+                    k += 1
+                else:
+                    # TextLines.readline, written out
+                    raw = rl(limit)
+                    if not raw:
+                        return
+                    lineno += 1
+                    if binary:
+                        try:
+                            raw = raw.decode("utf-8")
+                        except UnicodeDecodeError as e:
+                            raise src.not_utf8(lineno, e, raw)
+                    if len(raw) >= MAX_LINE_CHARS or "\x00" in raw:
+                        src.check(raw, lineno)
+                if fast and '"' not in raw:
+                    fields = raw.split(d)
+                    if len(fields) == nf:
+                        try:
+                            p = float(fields[ip]) * fp + op
+                            t = float(fields[it]) * ft + ot
+                            rh = float(fields[ih]) if ih >= 0 else 0.0
+                            ts = float(fields[itm]) * ftm if itm >= 0 else 0.0
+                            g = float(fields[ig]) if ig >= 0 else 0.0
+                        except ValueError:
+                            pass
+                        else:
+                            s = p + t + rh + ts + g
+                            if s - s == 0.0:       # all finite (nan or inf would not be)
+                                yield (lineno, p, t, rh if ih >= 0 else None,
+                                       ts if itm >= 0 else None, g if ig >= 0 else None)
+                                continue
+                self.lineno = lineno
+                line = raw.rstrip("\r\n")
+                stripped = line.strip()
+                if not stripped or stripped.startswith("#"):
+                    continue
+                if d not in ("\t", " "):
+                    line = stripped
+                try:
+                    yield parse(line, lineno)
+                except ReadingError as e:
+                    yield e
+        except OSError as e:
+            raise InputError("cannot read %s after line %d: %s"
+                             % (self.name, lineno, e.strerror or e))
+        finally:
+            self.lineno = lineno
+            if binary or isinstance(src, TextLines):
+                src.lineno = lineno
+
+    def _conv(self, q):
+        i, name, unit, stated = self.columns[q]
+        if unit is None:
+            unit = "hPa" if q == "pressure" else "C"
+        f, o = TO_SI[unit]
+        return i, f, o
 
     def parse(self, line, lineno):
         """Parse one data line; return a reading tuple or raise ReadingError."""
@@ -304,7 +706,7 @@ class LogReader:
         elif "dewpoint" in cols:
             td = self._number(fields, "dewpoint", lineno, False)
             if td is not None:
-                rh = _rh_from_dew_point(t, td, p, lineno)
+                rh = _rh_from_dew_point(t, td, lineno)
         time_s = None
         if "time" in cols:
             time_s = self._time(fields, lineno)
@@ -318,66 +720,29 @@ class LogReader:
         return s if len(s) < 60 else s[:57] + "..."
 
     def _number(self, fields, q, lineno, required):
-        i, name, unit, declared = self.columns[q]
+        i, name, unit, stated = self.columns[q]
         text = fields[i]
-        if text == "" or text.lower() in ("na", "n/a", "nan", "-", "null", "none"):
+        if _missing(text):
             if required:
                 raise _bad("line %d: %s is missing in column %r" % (lineno, q, name), "missing", lineno)
             return None
-        try:
-            x = _parse_float(text)
-        except ValueError:
-            if "," in text and self.delimiter != ",":
-                try:   # a decimal comma (12,5) in a log not separated by commas
-                    x = _parse_float(text.replace(",", "."))
-                except ValueError:
-                    x = None
-            else:
-                x = None
-            if x is None:
-                raise _bad("line %d: %s %r in column %r is not a number" % (
-                    lineno, q, text[:30], name), "number", lineno)
-        if q not in self._checked:
-            unit = self._check_unit(q, x, lineno)
+        x = to_float(text, thousands=q == "pressure" and unit == "Pa")
+        if x is None:
+            raise _bad("line %d: %s %r in column %r is not a number" % (
+                lineno, q, text[:30], name), "number", lineno)
+        if unit is None:
+            unit = "hPa" if q == "pressure" else "C" if q in ("temperature", "dewpoint") else \
+                "%" if q == "humidity" else "m"
         f, o = TO_SI[unit]
         return x * f + o
 
-    def _check_unit(self, q, x, lineno):
-        """Fix an unknown unit from the first value, or check a declared one."""
-        i, name, unit, declared = self.columns[q]
-        self._checked.add(q)
-        guess = None
-        if q == "pressure":
-            guess = "Pa" if x >= 1200.0 else "hPa"
-        elif q in ("temperature", "dewpoint"):
-            guess = "K" if x >= 100.0 else "C"
-        elif q == "humidity":
-            guess = "%"
-        elif q == "gps":
-            guess = "m"
-        if unit is None:
-            self.columns[q] = (i, name, guess, False)
-            if q in ("pressure", "temperature", "dewpoint"):
-                self.notes.append("column %r taken as %s in %s (first value %s on line %d); "
-                                  "give --%s %s:UNIT to choose" % (
-                                      name, q, _unit_word(guess), _short(x), lineno, _opt(q), name))
-            return guess
-        if q in ("pressure", "temperature", "dewpoint") and guess != unit and \
-                not (q == "pressure" and unit == "kPa" and x < 120.0):
-            raise InputError(
-                "%s line %d: column %r is declared in %s but its value %s looks like %s; "
-                "declare it with --%s %s:%s" % (
-                    self.name, lineno, name, _unit_word(unit), _short(x), _unit_word(guess),
-                    _opt(q), name, guess))
-        return unit
-
     def _time(self, fields, lineno):
-        i, name, unit, declared = self.columns["time"]
+        i, name, unit, stated = self.columns["time"]
         text = fields[i]
         if text == "":
             return None
         if unit is None:
-            unit = "s" if _is_number(text) else "iso"
+            unit = "s" if to_float(text) is not None else "iso"
             self.columns["time"] = (i, name, unit, False)
         if unit == "iso":
             try:
@@ -389,9 +754,8 @@ class LogReader:
                 self._t0 = s
                 self.time_origin = text.strip()
             return s - self._t0
-        try:
-            x = _parse_float(text)
-        except ValueError:
+        x = to_float(text)
+        if x is None:
             raise _bad("line %d: time %r in column %r is not a number of seconds; "
                        "use --time %s:iso for timestamps" % (lineno, text[:30], name, name),
                        "time", lineno)
@@ -403,12 +767,28 @@ class LogReader:
         words = []
         for q in QUANTITIES:
             if q in self.columns:
-                i, name, unit, declared = self.columns[q]
+                i, name, unit, stated = self.columns[q]
                 words.append("%s=%s:%s" % (q, normalise(name) or str(i + 1), unit or "auto"))
         return " ".join(words)
 
 
-def _rh_from_dew_point(t_k, td_k, p_pa, lineno):
+def _altitude(p_pa):
+    # pressure altitude, gpm (U.S. Standard Atmosphere 1976, tinygeo.standard),
+    # or None outside the standard's range
+    from tinygeo import standard
+    try:
+        return standard.pressure_altitude(p_pa)
+    except ValueError:
+        return None
+
+
+def _median(values):
+    v = sorted(values)
+    n = len(v)
+    return v[n // 2] if n % 2 else 0.5 * (v[n // 2 - 1] + v[n // 2])
+
+
+def _rh_from_dew_point(t_k, td_k, lineno):
     """Relative humidity (%) from dew point: 100 e_s(td) / e_s(t), both over
     water, with the core's saturation vapour pressure (WMO-No. 8, Annex 4.B);
     the enhancement factor cancels in the ratio."""
@@ -427,21 +807,17 @@ def _bad(message, reason, lineno):
     return e
 
 
-def _is_number(text):
-    try:
-        float(text)
-        return True
-    except ValueError:
-        return False
-
-
 def _short(x):
     return ("%.6g" % x)
 
 
 def _unit_word(unit):
-    return {"C": "degC", "K": "K", "Pa": "Pa", "hPa": "hPa", "kPa": "kPa"}.get(unit, unit)
+    return {"C": "degC", "K": "K", "F": "degF", "Pa": "Pa", "hPa": "hPa", "kPa": "kPa"}.get(unit, unit)
+
+
+def _what(q):
+    return {"dewpoint": "dew point", "gps": "GPS height"}.get(q, q)
 
 
 def _opt(q):
-    return {"dewpoint": "dew-point", "humidity": "humidity"}.get(q, q)
+    return {"dewpoint": "dew-point"}.get(q, q)

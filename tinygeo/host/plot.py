@@ -1,23 +1,41 @@
-"""Draw a replayed profile to PNG or SVG with matplotlib (optional extra ``plot``).
+"""Draw a replayed profile to PNG, SVG or PDF with matplotlib (optional extra
+``plot``).
 
-Four panels: height against time; temperature and dew point against height;
-vertical rate against time; 1-sigma height uncertainty against height. The
-mandatory levels, the tropopause and the burst from the summary are marked.
+Four panels: height against time (barometric, and the mapped GPS height
+beside it; the time axis in UTC when the log has ISO-8601 stamps), the
+temperature and dew point against height, the vertical rate against time
+(the raw rate between readings and the column's smoothed rate,
+smooth_rate_gpm_s), and the 1-sigma height uncertainty against height. The
+curves after the burst have colours of their own. The mandatory levels, the
+tropopause, floats, the burst and the landing from the summary are marked.
 
-Memory stays bounded for any length of log: points are kept with a stride
-that doubles (and the kept list halves) whenever more than ``MAX_POINTS``
-have been collected, so at most MAX_POINTS points are held, evenly spread.
-matplotlib runs on its non-interactive Agg canvas, without pyplot.
+The input is a raw log (replayed with the mapping options) or a table (its
+inputs are fed to a column set up from its ``# site`` line again, so the
+smoothed rate and the events are the column's). Memory stays bounded for any
+length of log: points are kept with a stride that doubles (and the kept list
+halves) whenever more than ``MAX_POINTS`` have been collected, so at most
+MAX_POINTS points are held, evenly spread. matplotlib runs on its
+non-interactive Agg canvas, without pyplot.
 """
+import datetime
+import os
+
+from tinygeo.column import FL_NO_GPS
 from tinygeo.host import table
 from tinygeo.host import replay as rp
+from tinygeo.host.logread import LogReader
+from tinygeo.host.options import (EXIT_MISSING_EXTRA, EXIT_OK, InputError, OutputError,
+                                  UsageError, check_paths, column_setup, mapping, new_column,
+                                  open_text, setup_from_site, temp_path_for)
 
 MAX_POINTS = 4000
 NAN = float("nan")
+FORMATS = ("png", "svg", "pdf")
 
 
 class Points:
-    """Evenly thinned series (t_min, h_km, t_c, td_c, rate, sigma, after_burst)."""
+    """Evenly thinned series of (time_s, height_km, t_c, td_c, rate, smooth
+    rate, sigma, gps_km)."""
 
     def __init__(self, limit=MAX_POINTS):
         self.limit = limit
@@ -34,45 +52,68 @@ class Points:
         self.n += 1
 
 
-def _from_table(f, name, pts):
-    reader = table.TableReader(f, name)
-    down = False
-    for r in reader:
-        down = down or bool(r.event_bits & table.EV_BURST)
-        pts.add(_point(r.time_s, r.height_m, r.t_k, r.td_k, r.rate_m_s, r.sigma_m, down))
-    return reader.site, reader.summary
+class _Collect:
+    """The sink of a replay: one point per accepted reading."""
 
+    def __init__(self, col, pts):
+        self.col = col
+        self.pts = pts
 
-def _point(time_s, height_m, t_k, td_k, rate, sigma, after_burst):
-    return (time_s / 60.0, height_m / 1000.0, t_k - 273.15, td_k - 273.15, rate, sigma,
-            after_burst)
-
-
-def _from_log(a, f, name, pts, stderr):
-    from tinygeo.host import cli, logread
-    reader = logread.LogReader(f, cli._mapping(a), a.delimiter, name)
-    lat, h0, opts, site = cli.column_setup(a, reader)
-    col = cli.new_column(lat, h0, opts)
-    summary = rp.Summary()
-    down = False
-    for reading, bits in rp.readings(reader, col, summary, lambda m: None):
+    def __call__(self, reading, bits):
         _, p, t, rh, ts, gps = reading
-        down = down or bool(bits & table.EV_BURST)
-        pts.add(_point(NAN if ts is None else ts, col.height_m, t, rp.dew_point_k(t, p, rh),
-                       col.rate_m_s, col.sigma_m, down))
+        col = self.col
+        self.pts.add((NAN if ts is None else ts, col.height_m / 1000.0, t - 273.15,
+                      rp.dew_point_k(t, rh, col.ice) - 273.15, col.rate_m_s,
+                      col.smooth_rate_gpm_s, col.sigma_m,
+                      NAN if gps is None else gps / 1000.0))
+
+
+def _from_log(a, lines, name, pts, stderr):
+    reader = LogReader(lines, mapping(a), a.delimiter, name)
+    setup = column_setup(a, reader)
+    col = new_column(setup)
+    reader.settle(setup.start_height_m, setup.start_given)
+    summary = rp.Summary(col, setup.lat_deg)
+    rp.run(reader, col, summary, lambda m: None, sink=_Collect(col, pts))
     if summary.accepted == 0:
-        raise logread.InputError("%s: no reading was accepted (%d rejected%s)" % (
+        raise InputError("%s: no reading was accepted (%d rejected%s)" % (
             name, summary.rejected,
             "; first: " + summary.first_rejection if summary.first_rejection else ""))
     if summary.rejected:
         stderr.write("tinygeo plot: %d readings rejected (see 'tinygeo replay' for details)\n"
                      % summary.rejected)
-    rp.finish(summary, col)
-    records = []
-    for line in summary.lines(lat):
-        words = line[len(table.SUMMARY_PREFIX):].split()
-        records.append((words[0], table.parse_pairs(words[1:])))
-    return dict((k, table.fmt_value(v)) for k, v in site), records
+    return setup, summary, reader.time_origin
+
+
+class _TableReadings:
+    """A table's rows as readings for replay.run (LogReader's interface)."""
+
+    def __init__(self, dev):
+        self.dev = dev
+        self.columns = {}
+        self.lineno = 0
+
+    def __iter__(self):
+        for row in self.dev:
+            self.lineno = row.lineno
+            gps = row.gps_m
+            if gps != gps:
+                gps = NAN if row.flags is not None and row.flags & FL_NO_GPS else None
+            yield (row.line if row.line is not None else row.lineno, row.p_pa, row.t_k,
+                   None if row.rh_pct != row.rh_pct else row.rh_pct,
+                   None if row.time_s != row.time_s else row.time_s, gps)
+
+
+def _from_table(a, lines, name, pts):
+    dev = table.TableReader(lines, name)
+    if "p_pa" not in dev.present or "t_k" not in dev.present:
+        raise table.TableError("%s: the table has no p_pa or t_k column to feed a column with; "
+                               "plot the raw log instead" % name)
+    setup = setup_from_site(dev.site, a, {})
+    col = new_column(setup)
+    summary = rp.Summary(col, setup.lat_deg)
+    rp.run(_TableReadings(dev), col, summary, lambda m: None, sink=_Collect(col, pts))
+    return setup, summary, dev.time_origin
 
 
 def _f(d, key):
@@ -82,90 +123,135 @@ def _f(d, key):
         return NAN
 
 
-def draw(pts, site, records, out_path, title, dpi):
-    """Render the figure to ``out_path`` (format from its suffix)."""
+def _origin(text):
+    # the ISO-8601 time origin of a log as a UTC datetime, or None
+    if not text:
+        return None
+    s = text.strip()
+    if s[-1:] in ("Z", "z"):
+        s = s[:-1] + "+00:00"
+    try:
+        dt = datetime.datetime.fromisoformat(s)
+    except ValueError:
+        return None
+    if dt.tzinfo is None:
+        dt = dt.replace(tzinfo=datetime.timezone.utc)
+    return dt.astimezone(datetime.timezone.utc)
+
+
+def draw(pts, setup, records, out_path, title, dpi, origin=None, fmt=None):
+    """Render the figure to ``out_path`` in ``fmt`` (png, svg, pdf; default:
+    the path's suffix). ``records`` are the summary records (what, dict);
+    ``origin`` the UTC datetime of time_s = 0 (None: minutes since the first
+    reading)."""
     from matplotlib.figure import Figure
     from matplotlib.backends.backend_agg import FigureCanvasAgg
 
     rows = pts.rows
-    t = [r[0] for r in rows]
-    h = [r[1] for r in rows]
+    summ = dict((w, d) for w, d in records)
+    burst_t = _f(summ.get("burst", {}), "time_s")
+    t_first = next((r[0] for r in rows if r[0] == r[0]), 0.0)
+    if origin is not None:
+        import matplotlib.dates as mdates
+
+        def tx(s):
+            return origin + datetime.timedelta(seconds=s) if s == s else None
+        t_label = "time (UTC)"
+    else:
+        def tx(s):
+            return (s - t_first) / 60.0
+        t_label = "time since the first reading (min)"
+    up = [r for r in rows if not (burst_t == burst_t and r[0] > burst_t)]
+    down = [r for r in rows if burst_t == burst_t and r[0] > burst_t]
     fig = Figure(figsize=(11.0, 8.5))
     FigureCanvasAgg(fig)
     ax_ht, ax_tp, ax_rt, ax_sg = (fig.add_subplot(2, 2, i) for i in (1, 2, 3, 4))
-    up = [r for r in rows if not r[6]]
-    down = [r for r in rows if r[6]]
-
-    ax_ht.plot(t, h, color="tab:blue", lw=1.2)
-    ax_ht.set_xlabel("time since first reading (min)")
+    # after the burst: colours of their own, thinner and dashed over the
+    # ascent, so that both stay visible where they overlap
+    colours = {"up": ("tab:blue", "tab:red", "tab:green", "tab:purple", "tab:orange"),
+               "down": ("tab:cyan", "darkred", "darkolivegreen", "0.25", "saddlebrown")}
+    style = {"up": dict(ls="-", lw=1.6), "down": dict(ls=(0, (4, 2)), lw=0.9)}
+    gps = [r for r in rows if r[7] == r[7]]
+    if gps:
+        ax_ht.plot([tx(r[0]) for r in gps], [r[7] for r in gps], ".", color="0.6", ms=1.0,
+                   zorder=1, label="GPS height (as mapped)")
+        ax_d = ax_ht.twinx()
+        ax_d.plot([tx(r[0]) for r in gps], [1000.0 * (r[1] - r[7]) for r in gps], ".",
+                  color="tab:orange", ms=0.8, alpha=0.35)
+        ax_d.set_ylabel("barometric minus GPS (m)", color="tab:orange", fontsize=8)
+        ax_d.tick_params(axis="y", labelsize=7, colors="tab:orange")
+    for part, key, label in ((up, "up", "ascent"), (down, "down", "after burst")):
+        if not part:
+            continue
+        c_h, c_t, c_td, c_r, c_s = colours[key]
+        st = style[key]
+        tt = [tx(r[0]) for r in part]
+        ax_ht.plot(tt, [r[1] for r in part], color=c_h, zorder=3, label="barometric, " + label,
+                   **st)
+        ax_tp.plot([r[2] for r in part], [r[1] for r in part], color=c_t,
+                   label="temperature, " + label, **st)
+        ax_tp.plot([r[3] for r in part], [r[1] for r in part], color=c_td,
+                   label="dew point, " + label, **st)
+        ax_rt.plot(tt, [r[4] for r in part], color=c_r, lw=0.5, alpha=0.3,
+                   label="raw rate, " + label)
+        ax_rt.plot(tt, [r[5] for r in part], color=c_r, lw=1.5,
+                   label="smoothed rate (smooth_rate_gpm_s), " + label)
+        ax_sg.plot([r[6] for r in part], [r[1] for r in part], color=c_s, label=label, **st)
+    ax_ht.set_xlabel(t_label)
     ax_ht.set_ylabel("height above mean sea level (km)")
     ax_ht.set_title("Height")
-
-    for part, style, label in ((up, "-", "ascent"), (down, ":", "after burst")):
-        if part:
-            ax_tp.plot([r[2] for r in part], [r[1] for r in part], style, color="tab:red",
-                       lw=1.2, label="temperature, " + label)
-            ax_tp.plot([r[3] for r in part], [r[1] for r in part], style, color="tab:green",
-                       lw=1.0, label="dew point, " + label)
     ax_tp.set_xlabel("temperature and dew point (\u00b0C)")
     ax_tp.set_ylabel("height above mean sea level (km)")
     ax_tp.set_title("Temperature and dew point")
-
-    ax_rt.plot(t, [r[4] for r in rows], color="tab:purple", lw=0.8)
     ax_rt.axhline(0.0, color="0.6", lw=0.6)
-    ax_rt.set_xlabel("time since first reading (min)")
+    ax_rt.set_xlabel(t_label)
     ax_rt.set_ylabel("vertical rate (m/s, up positive)")
     ax_rt.set_title("Vertical rate")
-
-    ax_sg.plot([r[5] for r in up], [r[1] for r in up], color="tab:orange", lw=1.0, label="ascent")
-    if down:
-        ax_sg.plot([r[5] for r in down], [r[1] for r in down], ":", color="tab:orange", lw=1.0,
-                   label="after burst")
     ax_sg.set_xlabel("height uncertainty, 1 sigma (m)")
     ax_sg.set_ylabel("height above mean sea level (km)")
     ax_sg.set_title("Uncertainty")
+    if origin is not None:
+        for ax in (ax_ht, ax_rt):
+            ax.xaxis.set_major_formatter(mdates.DateFormatter("%H:%M", tz=datetime.timezone.utc))
 
     for what, d in records:
+        hk = _f(d, "height_m") / 1000.0
+        tm = _f(d, "time_s")
         if what == "level":
-            hk = _f(d, "height_m") / 1000.0
             if hk == hk:
                 for ax in (ax_tp, ax_sg):
                     ax.axhline(hk, color="0.75", lw=0.6, ls="--")
                 ax_tp.annotate("%s hPa" % d.get("p_hpa", "?"), xy=(1.0, hk),
                                xycoords=("axes fraction", "data"), xytext=(3, 0),
                                textcoords="offset points", va="center", fontsize=7, color="0.35")
-        elif what == "tropopause":
-            hk = _f(d, "height_m") / 1000.0
-            if hk == hk:
-                for ax in (ax_ht, ax_tp, ax_sg):
-                    ax.axhline(hk, color="tab:cyan", lw=1.0, ls="-.",
-                               label="tropopause %.1f km" % hk if ax is ax_tp else None)
+        elif what == "tropopause" and hk == hk:
+            for ax in (ax_ht, ax_tp, ax_sg):
+                ax.axhline(hk, color="tab:cyan", lw=1.0, ls="-.",
+                           label="tropopause %.1f km" % hk if ax is ax_tp else None)
+        elif what == "float" and hk == hk and tm == tm:
+            ax_ht.plot([tx(tm)], [hk], marker="D", ms=7, color="tab:olive", ls="none",
+                       label="float %.1f km" % hk)
         elif what == "burst":
-            hk = _f(d, "height_m") / 1000.0
-            tm = _f(d, "time_s") / 60.0
             if hk == hk and tm == tm:
-                ax_ht.plot([tm], [hk], marker="*", ms=12, color="tab:red", ls="none",
+                ax_ht.plot([tx(tm)], [hk], marker="*", ms=12, color="tab:red", ls="none",
                            label="burst %.1f km" % hk)
-                ax_rt.axvline(tm, color="tab:red", lw=0.8, ls="--", label="burst")
+                ax_rt.axvline(tx(tm), color="tab:red", lw=0.8, ls="--", label="burst")
             if hk == hk:
                 ax_tp.axhline(hk, color="tab:red", lw=0.8, ls="--", label="burst %.1f km" % hk)
-        elif what == "landing":
-            tm = _f(d, "time_s") / 60.0
-            hk = _f(d, "height_m") / 1000.0
-            if tm == tm and hk == hk:
-                ax_ht.plot([tm], [hk], marker="v", ms=8, color="tab:brown", ls="none",
-                           label="landing")
+        elif what == "landing" and hk == hk and tm == tm:
+            ax_ht.plot([tx(tm)], [hk], marker="v", ms=8, color="tab:brown", ls="none",
+                       label="landing")
     for ax in (ax_ht, ax_tp, ax_rt, ax_sg):
         ax.grid(True, color="0.9", lw=0.5)
         handles, labels = ax.get_legend_handles_labels()
         if handles:
             ax.legend(fontsize=7, loc="best")
-    lat = _f(site, "lat_deg")
-    h0 = _f(site, "start_height_m")
-    fig.suptitle("%s  (latitude %.2f\u00b0, start height %.0f m)" % (title, lat, h0), fontsize=11)
+    fig.suptitle("%s  (latitude %.2f\u00b0, start height %.0f m)"
+                 % (title, setup.lat_deg, setup.start_height_m), fontsize=11)
     fig.tight_layout(rect=(0.0, 0.0, 0.97, 0.96))
-    fmt = out_path.rsplit(".", 1)[-1].lower()
-    meta = {"Date": None} if fmt == "svg" else {"Software": None}
+    fmt = fmt or out_path.rsplit(".", 1)[-1].lower()
+    meta = {"svg": {"Date": None}, "pdf": {"CreationDate": None, "ModDate": None},
+            "png": {"Software": None}}[fmt]
     fig.savefig(out_path, dpi=dpi, format=fmt, metadata=meta)
 
 
@@ -176,44 +262,64 @@ class _Prepend:
         self.first = first
         self.stream = stream
 
-    def readline(self):
+    def readline(self, limit=-1):
         if self.first is not None:
             line, self.first = self.first, None
             return line
         return self.stream.readline()
 
+    def check(self, text, lineno):
+        self.stream.check(text, lineno)
+
 
 def run(a, stdin, stdout, stderr):
     """The ``plot`` command; returns the exit status."""
-    from tinygeo.host import cli
     out = a.out
-    if not (out.lower().endswith(".png") or out.lower().endswith(".svg")):
-        raise cli.UsageError("-o %s: give a file name ending in .png or .svg" % out)
+    fmt = out.rsplit(".", 1)[-1].lower() if "." in os.path.basename(out) else ""
+    if fmt not in FORMATS:
+        raise UsageError("-o %s: give a file name ending in .png, .svg or .pdf" % out)
     if not 20 <= a.dpi <= 600:
-        raise cli.UsageError("--dpi %d outside 20..600" % a.dpi)
+        raise UsageError("--dpi %d outside 20..600" % a.dpi)
+    check_paths([("input", a.input)], [("-o", out)], stdin)
     try:
         import matplotlib  # noqa: F401
     except ImportError:
         stderr.write("tinygeo: error: plot needs matplotlib, which is not installed; "
                      "install it with: pip install 'tinygeo[plot]'  (or: pip install matplotlib)\n")
-        return cli.EXIT_MISSING_EXTRA
-    f, name, close = cli._open_text(a.input, stdin)
+        return EXIT_MISSING_EXTRA
+    lines, name, close = open_text(a.input, stdin)
     try:
-        first = f.readline()
+        first = lines.readline()
         pts = Points()
-        src = _Prepend(first, f)
-        if first.strip() == table.MAGIC:
-            site, records = _from_table(src, name, pts)
+        src = _Prepend(first, lines)
+        if first.strip() in (table.MAGIC, table.OLD_MAGIC):
+            setup, summary, origin = _from_table(a, src, name, pts)
         else:
-            site, records = _from_log(a, src, name, pts, stderr)
+            setup, summary, origin = _from_log(a, src, name, pts, stderr)
     finally:
-        if close:
-            f.close()
+        close()
     if not pts.rows:
         raise table.TableError("%s: no rows to plot" % name)
+    records = []
+    for line in summary.lines():
+        words = line[len(table.SUMMARY_PREFIX):].split()
+        records.append((words[0], table.parse_pairs(words[1:])))
+    tmp = None
     try:
-        draw(pts, site, records, out, a.title or name, a.dpi)
+        if os.path.exists(out) and not os.path.isfile(out):
+            draw(pts, setup, records, out, a.title or name, a.dpi, _origin(origin), fmt)
+        else:
+            tmp = temp_path_for(out)
+            draw(pts, setup, records, tmp, a.title or name, a.dpi, _origin(origin), fmt)
+            os.replace(tmp, out)
+            tmp = None
     except OSError as e:
-        raise cli.UsageError("cannot write %s: %s" % (out, e.strerror or e))
+        raise OutputError("cannot write %s: %s" % (out, e.strerror or e))
+    finally:
+        if tmp is not None:
+            try:
+                os.unlink(tmp)
+            except OSError:
+                pass
     stderr.write("tinygeo plot: %s written (%d points of %d)\n" % (out, len(pts.rows), pts.n))
-    return 0
+    return EXIT_OK

@@ -1,17 +1,32 @@
 """Replay a log through :class:`tinygeo.column.Column`, streaming.
 
-:func:`replay` reads one line, feeds the column, writes one table row and
-forgets the reading: memory stays flat however long the log is. What the
-summary needs (counts by reason, the first crossing of each mandatory level,
-burst, landing, maximum height) is kept in a few scalars and a dict bounded by
-the 16 mandatory levels and the handful of rejection reasons.
+:func:`run` reads one reading, feeds the column, writes one table row (the
+record format of :mod:`tinygeo.record`) and forgets the reading: memory stays
+flat however long the log is. What the summary needs is kept in
+:class:`Summary`: a few scalars, the 16 mandatory levels, the rejection
+reasons, at most MAX_FLOATS floats, and a ring of the last RING readings'
+(time, line) to name the line of an event the column dates in the past (the
+tropopause 2 km below where it is confirmed, the start of a float, the peak
+before a burst).
+
+Only the column's public attributes are read; the levels a reading crossed
+come from the column's ``on_event`` hook (tinygeo.host.options.LevelTap).
+
+Events are decided one reading late (the column confirms a reading when the
+next is accepted): the table's event word stands on the row of the reading
+whose feed returned it; the summary names where each event happened.
 """
+import math
 import sys
 import time as _time
+from array import array
 
-from tinygeo.errors import ReadingError
+from tinygeo import record
+from tinygeo.moisture import td_rh
+from tinygeo.column import (EV_LEVEL, EV_TROPOPAUSE, EV_BURST, EV_LANDED, EV_LAUNCH, EV_FLOAT,
+                            FL_REPLACED, FL_TAKEOVER, PH_WAIT, PH_ASCENT, PH_FLOAT, PH_DESCENT)
 from tinygeo.host import table
-from tinygeo.host.logread import InputError
+from tinygeo.host.options import InputError, OutputError, column_default, one_line
 
 NAN = float("nan")
 MAX_REPORTS = 20          # rejected readings reported one by one on stderr
@@ -21,6 +36,9 @@ MAJORITY_AFTER = 100      # from this many readings on, stop when most are rejec
 # left out: lines of another record type (a log interleaving GPS-only lines,
 # say) are skipped that way and the readings between them are fine
 MAJORITY_REASONS = ("rate", "time", "pressure", "temperature", "humidity", "number", "gps")
+RING = 1 << 16            # readings whose (time, line) are kept to date past events
+MAX_FLOATS = 20           # floats listed in the summary (more are counted)
+STATION_RISE_M = 50.0     # a log that never rises more than this looks like a station, m
 
 # time unit check (see TimeUnitCheck)
 SPACINGS = 8              # time steps whose median is reported as the log's spacing
@@ -31,62 +49,24 @@ SLOW_M_S = 0.02           # slower than this over the first move: the times are 
 SLOW_SPACING_S = 10.0     # ... and only when the readings are at least this far apart
 FAST_FACTOR = 10.0        # faster than this times the column's default max_rate_m_s: too small
 
-
 class ReplayAbort(InputError):
     """The replay cannot go on (nothing accepted at the start, most readings
     rejected for one reason, a time unit the readings contradict); exit status 2."""
 
 
-def column_default(name):
-    """The default of the Column constructor's keyword ``name`` (read from its
-    signature, so the host tools never repeat the column's numbers)."""
-    import inspect
-    from tinygeo.column import Column
-    return inspect.signature(Column.__init__).parameters[name].default
+def dew_point_k(t_k, rh_pct, ice=False):
+    """Dew point, K, of air at t_k (K) with relative humidity rh_pct (%); nan
+    when the humidity is missing or not above 0.
 
-
-def make_column(lat_deg, start_height_m, options):
-    """Return a new Column; ``options`` holds only the keyword arguments the
-    user set (sigma_p_pa, sigma_t_k, sigma_rh_pct, anchor_p_pa, ice,
-    dry_fallback, max_rate_m_s, landing_s), so the column's defaults apply to
-    the rest."""
-    from tinygeo.column import Column
-    col = Column(lat_deg, start_height_m, **options)
-    col.on_event = LevelTap()
-    return col
-
-
-class LevelTap:
-    """``on_event`` hook of a host column: collects every mandatory level a
-    reading crossed (the column calls it once per level when one reading
-    crosses several, and its return bits name only the highest)."""
-
-    def __init__(self):
-        self.levels = []
-
-    def __call__(self, col, bits):
-        if bits & table.EV_LEVEL:
-            self.levels.append((col.level_p_pa, col.level_gph_m, col.level_height_m))
-
-
-def _levels(col):
-    tap = getattr(col, "on_event", None)
-    if isinstance(tap, LevelTap) and tap.levels:
-        return tap.levels
-    return [(_attr(col, "level_p_pa"), _attr(col, "level_gph_m"), _attr(col, "level_height_m"))]
-
-
-def dew_point_k(t_k, p_pa, rh_pct):
-    """Dew point (K) of a reading for the table, from the core's moisture
-    functions (WMO-No. 8 Annex 4.B); nan when humidity is missing or zero."""
+    tinygeo.moisture.td_rh, the kernel of dew_point_from_rh: the inverse of
+    the Magnus form of WMO-No. 8 Annex 4.B applied to e = rh/100 e_s(t) (the
+    enhancement factor cancels): y = ln(rh/100) + a t/(b + t),
+    td = b y/(a - y) (degC; a = 17.62, b = 243.12 over water). With ``ice``
+    (the column's: humidity relative to ice at and below 0 degC) it is the
+    frost point there, as dew_point_from_rh gives."""
     if rh_pct is None or not rh_pct > 0.0:
         return NAN
-    from tinygeo import moisture
-    try:
-        e = moisture.vapour_pressure(t_k, p_pa, min(rh_pct, 100.0))
-        return moisture.dew_point(e, p_pa)
-    except ValueError:
-        return NAN
+    return td_rh(t_k, rh_pct, ice)
 
 
 def geometric_height_m(gph_m, lat_deg):
@@ -100,26 +80,48 @@ def geometric_height_m(gph_m, lat_deg):
         return NAN
 
 
-class Summary:
-    """Counts and events of one replay, kept in bounded memory."""
+_PHASE_WORDS = {PH_WAIT: "waiting", PH_ASCENT: "ascent", PH_FLOAT: "float",
+                PH_DESCENT: "descent", 4: "landed"}
 
-    def __init__(self):
-        self.accepted = 0
+
+class Summary:
+    """What one replay found, in bounded memory (see the module docstring).
+
+    The replay loop updates ``accepted``, ``rejected`` and the few running
+    values itself; :meth:`event` takes the events; :meth:`lines` writes the
+    ``#:`` records."""
+
+    def __init__(self, col, lat_deg):
+        self.col = col
+        self.lat_deg = lat_deg
+        self.accepted = 0          # readings accepted when they came
+        self.written = 0           # table rows written (fewer with --every)
         self.rejected = 0
         self.reasons = {}
         self.first_rejection = None
         self.first_by_reason = {}
-        self.levels = {}          # level hPa -> (gph_m, height_m, time_s, line)
-        self.launch = None        # (time_s, line)
-        self.burst = None         # (gph_m, time_s, line of the peak, line that confirmed it)
-        self.peak = None          # (gph_m, line) of the column's peak so far
-        self.prev = None          # (gph_m, line) of the previous accepted reading
-        self.landing = None       # (height_m, time_s, line)
-        self.max_height = None    # (height_m, gph_m, time_s, line)
-        self.tropopause = None    # (p_pa, gph_m, t_k) from the column at the end
-        self.gps_diff_m = NAN
-        self.last_line = 0
+        self.last_rejected = None  # the latest rejected reading tuple (a takeover's run)
+        self.surface = None        # the first accepted reading: (reading, height_m, td_k)
+        self.levels = {}           # level hPa -> (gph_m, height_m, t_k, td_k, time_s, line)
+        self.launch = None         # (time_s, line)
+        self.tropopause = None     # (p_pa, gph_m, t_k, time_s, line, confirmed line)
+        self.floats = []           # (gph_m, time_s, line, confirmed line)
+        self.nfloats = 0
+        self.burst = None          # (gph_m, time_s, line of the peak, confirmed line)
+        self.landing = None        # (height_m, time_s, line)
+        self.highest = None        # (height_m, gph_m, time_s, line): the highest single reading
+        self.lowest_m = NAN        # the lowest height accepted (the station check)
+        self.last = None           # (reading, height_m) of the latest accepted reading
+        self.gps_n = 0
+        self.gps_sum = 0.0
+        self.gps_worst = (0.0, 0)  # (baro - gps, line) of the largest |difference|
+        self.gps_last = NAN
+        self.ring_t = array("d", bytes(8 * RING))
+        self.ring_l = array("q", bytes(8 * RING))
+        self.ring_n = 0            # readings put in the ring (the clock of a log without time)
+        self.line = 0              # the line of the latest reading seen
 
+    # -- rejections -----------------------------------------------------------------
     def reject(self, reason, message):
         self.rejected += 1
         self.reasons[reason] = self.reasons.get(reason, 0) + 1
@@ -128,135 +130,233 @@ class Summary:
         if reason not in self.first_by_reason:
             self.first_by_reason[reason] = message
 
-    def lines(self, lat_deg):
-        """Return the ``#:`` summary lines (without newlines), fixed order."""
-        out = [table.summary_line("accepted", [("count", self.accepted)])]
+    # -- times and lines ---------------------------------------------------------------
+    def raw_time(self, rel_s):
+        """A column time (s since its first stamp) as the log's time_s."""
+        t0 = self.col.time_origin
+        if rel_s != rel_s or t0 is None:
+            return NAN
+        return rel_s + t0 * self.col.time_unit_s
+
+    def line_at(self, rel_s):
+        """The line of the accepted reading nearest to a column event time
+        (s since the first stamp; without time stamps the count of confirmed
+        readings), among the last RING readings; None if older."""
+        if rel_s != rel_s:
+            return None
+        t0 = self.col.time_origin
+        key = rel_s if t0 is None else rel_s + t0 * self.col.time_unit_s
+        n = min(self.ring_n, RING)
+        best = None
+        best_d = None
+        rt, rl = self.ring_t, self.ring_l
+        i = (self.ring_n - 1) & (RING - 1)
+        for _ in range(n):
+            d = abs(rt[i] - key)
+            if best_d is None or d < best_d:
+                best, best_d = rl[i], d
+            i = (i - 1) & (RING - 1)
+        if best is None or n == RING and best_d > 1.0:
+            return None
+        return int(best)
+
+    # -- events -------------------------------------------------------------------------
+    def event(self, bits, reading, conf, prev, levels):
+        """Record the events ``bits`` returned by the feed of ``reading``;
+        ``conf`` is the reading the column confirmed with it (where the
+        events happened), ``prev`` the confirmed reading before that (or
+        None), ``levels`` what the LevelTap collected."""
+        col = self.col
+        line = reading[0]
+        cline = conf[0] if conf is not None else line
+        cts = conf[4] if conf is not None else reading[4]
+        if bits & EV_LEVEL:
+            for p, g, hl, tk in levels:
+                hpa = int(round(p / 100.0))
+                if hpa not in self.levels:
+                    self.levels[hpa] = (g, hl, tk, self._level_td(p, conf, prev),
+                                        NAN if cts is None else cts, cline)
+        if bits & EV_LAUNCH and self.launch is None:
+            self.launch = (self.raw_time(col.launch_time_s), cline)
+        if bits & EV_TROPOPAUSE and self.tropopause is None:
+            ts = col.tropopause_time_s
+            self.tropopause = (col.tropopause_p_pa, col.tropopause_gph_m, col.tropopause_t_k,
+                               self.raw_time(ts), self.line_at(ts), line)
+        if bits & EV_FLOAT:
+            self.nfloats += 1
+            if len(self.floats) < MAX_FLOATS:
+                ts = col.float_time_s
+                self.floats.append((col.float_gph_m, self.raw_time(ts), self.line_at(ts), line))
+        if bits & EV_BURST and self.burst is None:
+            ts = col.burst_time_s
+            self.burst = (col.burst_gph_m, self.raw_time(ts), self.line_at(ts), line)
+        if bits & EV_LANDED and self.landing is None:
+            self.landing = (col.height_m, self.raw_time(col.landing_time_s), cline)
+
+    def _level_td(self, p_lev, conf, prev):
+        # dew point at a level: linear in ln p between the two confirmed
+        # readings around it (the column's own interpolation for t_k)
+        ice = self.col.ice
+        if conf is None:
+            return NAN
+        td1 = dew_point_k(conf[2], conf[3], ice)
+        if prev is None or prev[1] == conf[1]:
+            return td1
+        td0 = dew_point_k(prev[2], prev[3], ice)
+        if td0 != td0 or td1 != td1:
+            return td1 if td1 == td1 else td0     # one of them had no humidity
+        f = math.log(prev[1] / p_lev) / math.log(prev[1] / conf[1])
+        return td0 + f * (td1 - td0)
+
+    # -- the records ------------------------------------------------------------------
+    def lines(self):
+        """The ``#:`` summary records (without newlines), in a fixed order."""
+        col = self.col
+        lat = self.lat_deg
+        rec = table.summary_line
+        out = [rec("accepted", [("count", self.accepted)])]
         pairs = [("count", self.rejected)]
         for r in sorted(self.reasons):
             pairs.append((r, self.reasons[r]))
-        out.append(table.summary_line("rejected", pairs))
+        if col.retracted:
+            pairs.append(("retracted_after_acceptance", col.retracted))
+        out.append(rec("rejected", pairs))
+        if self.surface is not None:
+            rd, h, td = self.surface
+            pairs = [("time_s", _nan(rd[4])), ("line", rd[0]), ("p_hpa", rd[1] / 100.0),
+                     ("t_k", rd[2]), ("td_k", td), ("rh_pct", _nan(rd[3])), ("height_m", h)]
+            if rd[5] is not None:
+                pairs.append(("gps_m", rd[5]))
+            out.append(rec("surface", pairs, "the first accepted reading"))
         if self.launch is not None:
-            out.append(table.summary_line("launch", [("time_s", self.launch[0]),
-                                                     ("line", self.launch[1])]))
+            out.append(rec("launch", [("time_s", self.launch[0]), ("line", self.launch[1])]))
         for hpa in sorted(self.levels, reverse=True):
-            g, h, t, ln = self.levels[hpa]
-            out.append(table.summary_line("level", [("p_hpa", hpa), ("gph_m", g), ("height_m", h),
-                                                    ("time_s", t), ("line", ln)]))
+            g, h, tk, td, t, ln = self.levels[hpa]
+            out.append(rec("level", [("p_hpa", hpa), ("gph_m", g), ("height_m", h), ("t_k", tk),
+                                     ("td_k", td), ("time_s", t), ("line", ln)]))
         if self.tropopause is not None:
-            p, g, t = self.tropopause
-            out.append(table.summary_line("tropopause", [
-                ("p_hpa", p / 100.0), ("gph_m", g), ("height_m", geometric_height_m(g, lat_deg)),
-                ("t_k", t)]))
+            p, g, tk, t, ln, conf = self.tropopause
+            pairs = [("p_hpa", p / 100.0), ("gph_m", g), ("height_m", geometric_height_m(g, lat)),
+                     ("t_k", tk), ("time_s", t)]
+            if ln is not None:
+                pairs.append(("line", ln))
+            pairs.append(("confirmed_line", conf))
+            out.append(rec("tropopause", pairs,
+                           "the level itself (WMO lapse-rate definition); the table's "
+                           "tropopause_confirmed word stands on line %d, 2 km higher, where the "
+                           "definition was confirmed" % conf))
+        for g, t, ln, conf in self.floats:
+            pairs = [("gph_m", g), ("height_m", geometric_height_m(g, lat)), ("time_s", t)]
+            if ln is not None:
+                pairs.append(("line", ln))
+            pairs.append(("confirmed_line", conf))
+            out.append(rec("float", pairs, "the float began here at %.0f m; confirmed after "
+                                           "float_s %g s" % (geometric_height_m(g, lat),
+                                                             col.float_s)))
+        if self.nfloats > len(self.floats):
+            out.append(rec("floats", [("count", self.nfloats)], "only the first %d are listed"
+                           % len(self.floats)))
         if self.burst is not None:
-            # gph_m, time_s and line are the peak's; confirmed_line is the
-            # reading that was burst_readings readings below it
-            g, t, ln, confirmed = self.burst
-            out.append(table.summary_line("burst", [
-                ("gph_m", g), ("height_m", geometric_height_m(g, lat_deg)), ("time_s", t),
-                ("line", ln), ("confirmed_line", confirmed)]))
-        if self.max_height is not None:
-            h, g, t, ln = self.max_height
-            out.append(table.summary_line("highest", [("gph_m", g), ("height_m", h), ("time_s", t),
-                                                      ("line", ln)]))
+            g, t, ln, conf = self.burst
+            hb = geometric_height_m(g, lat)
+            pairs = [("gph_m", g), ("height_m", hb), ("time_s", t)]
+            if ln is not None:
+                pairs.append(("line", ln))
+            pairs.append(("confirmed_line", conf))
+            out.append(rec("burst", pairs, "the peak of the height track (readings smoothed over "
+                                           "smooth_s %g s), confirmed by the descent on line %d"
+                           % (col.smooth_s, conf)))
+        elif self.last is not None:
+            rd, h = self.last
+            ph = col.phase
+            if ph in (PH_ASCENT, PH_FLOAT):
+                out.append(rec("no_burst", [("phase", _PHASE_WORDS[ph]), ("height_m", h),
+                                            ("time_s", _nan(rd[4])), ("line", rd[0])],
+                               "no burst: log ends %s at %.0f m"
+                               % ("ascending" if ph == PH_ASCENT else "floating", h)))
+            elif ph == PH_WAIT:
+                out.append(rec("no_launch", [("height_m", h), ("time_s", _nan(rd[4])),
+                                             ("line", rd[0])],
+                               "no launch: the log ends before the column saw a climb"))
+        if self.highest is not None:
+            h, g, t, ln = self.highest
+            text = "the highest single reading"
+            if self.burst is not None:
+                hb = geometric_height_m(self.burst[0], lat)
+                if abs(h - hb) < 0.5:
+                    text += "; equal to the burst"
+                else:
+                    text += ("; %.0f m %s the burst's peak, which is the smoothed height track "
+                             "(reading noise)" % (abs(h - hb), "above" if h > hb else "below"))
+            out.append(rec("highest", [("gph_m", g), ("height_m", h), ("time_s", t),
+                                       ("line", ln)], text))
         if self.landing is not None:
             h, t, ln = self.landing
-            out.append(table.summary_line("landing", [("height_m", h), ("time_s", t), ("line", ln)]))
-        if self.gps_diff_m == self.gps_diff_m:
-            out.append(table.summary_line("gps", [("baro_minus_gps_m", self.gps_diff_m)]))
+            out.append(rec("landing", [("height_m", h), ("time_s", t), ("line", ln)]))
+        if self.gps_n:
+            worst, wline = self.gps_worst
+            out.append(rec("gps", [("readings", self.gps_n),
+                                   ("mean_baro_minus_gps_m", self.gps_sum / self.gps_n),
+                                   ("worst_baro_minus_gps_m", worst), ("worst_line", wline),
+                                   ("last_baro_minus_gps_m", self.gps_last)],
+                           "barometric height minus GPS height over the readings with a fix"))
         return out
 
-
-def _attr(col, name):
-    v = getattr(col, name, NAN)
-    return NAN if v is None else v
-
-
-def feed(col, reading):
-    """Feed one reading tuple (lineno, p_pa, t_k, rh_pct, time_s, gps_m) to the
-    column; return the event bits (raises ReadingError as the column does)."""
-    tap = getattr(col, "on_event", None)
-    if isinstance(tap, LevelTap) and tap.levels:
-        tap.levels = []
-    return col.feed(reading[1], reading[2], rh_pct=reading[3], time_s=reading[4], gps_m=reading[5])
+    def looks_like_station(self):
+        """True when the log never left the ground: no launch and a rise of
+        less than STATION_RISE_M above the lowest reading."""
+        return (self.launch is None and self.highest is not None and
+                self.lowest_m == self.lowest_m and self.highest[0] - self.lowest_m
+                < STATION_RISE_M)
 
 
-def row_text(col, reading, bits, lat_deg):
-    """Return the table row (no newline) for an accepted reading."""
-    lineno, p, t, rh, ts, gps = reading
-    return table.format_row(
-        lineno, NAN if ts is None else ts, p, t, NAN if rh is None else rh,
-        dew_point_k(t, p, rh), NAN if gps is None else gps,
-        _attr(col, "gph_m"), _attr(col, "height_m"), _attr(col, "rate_m_s"),
-        _attr(col, "sigma_m"), int(getattr(col, "flags", 0) or 0),
-        table.events_text(bits, [lv[0] for lv in _levels(col)] if bits & table.EV_LEVEL else NAN))
+def _nan(x):
+    return NAN if x is None else x
 
 
-def note_events(summary, col, reading, bits):
-    """Update the summary after an accepted reading with event ``bits``."""
-    lineno = reading[0]
-    summary.accepted += 1
-    summary.last_line = lineno
-    h = _attr(col, "height_m")
-    ts = _attr(col, "time_s")
-    g = _attr(col, "gph_m")
-    if summary.max_height is None or h > summary.max_height[0]:
-        summary.max_height = (h, g, ts, lineno)
-    # the column's peak rule (tinygeo/column.py, max_gph_m): the lower reading
-    # of each consecutive pair, a new peak only when strictly higher; so at its
-    # burst event this is the line of the reading the burst was measured from
-    prev = summary.prev
-    if prev is None:
-        summary.peak = (g, lineno)
-    else:
-        low = prev if prev[0] < g else (g, lineno)
-        if low[0] > summary.peak[0]:
-            summary.peak = low
-    summary.prev = (g, lineno)
-    if bits & table.EV_LEVEL:
-        for p, g, hl in _levels(col):
-            hpa = int(round(p / 100.0))
-            if hpa not in summary.levels:
-                summary.levels[hpa] = (g, hl, ts, lineno)
-    if bits & table.EV_LAUNCH and summary.launch is None:
-        summary.launch = (_attr(col, "launch_time_s"), lineno)
-    if bits & table.EV_BURST and summary.burst is None:
-        peak_line = summary.peak[1] if summary.peak is not None else lineno
-        summary.burst = (_attr(col, "burst_gph_m"), _attr(col, "burst_time_s"), peak_line, lineno)
-    if bits & table.EV_LANDED and summary.landing is None:
-        summary.landing = (h, ts, lineno)
-    if reading[5] is not None:
-        summary.gps_diff_m = _attr(col, "gps_diff_m")
+# --- message tidying ---------------------------------------------------------------
+_OPTION_HINTS = (
+    ("(max_t_step_k=None: no check)",
+     "(limits: --max-t-step, --max-t-rate, --max-t-gradient)"),
+    ("beyond max_rate_m_s=", "beyond --max-rate "),
+    ("(start_guard_m=None: no guard)", "(--start-height)"),
+    ("start_height_m=", "start height "),
+)
 
 
-def finish(summary, col):
-    """Copy the column's final tropopause into the summary."""
-    g = _attr(col, "tropopause_gph_m")
-    if g == g:
-        summary.tropopause = (_attr(col, "tropopause_p_pa"), g, _attr(col, "tropopause_t_k"))
+def tidy(message):
+    """A column's rejection message for the command line: long floats
+    rounded to 6 significant digits (96447.00000000001 -> 96447) and the
+    column's keyword hints given as the command's options."""
+    for old, new in _OPTION_HINTS:
+        message = message.replace(old, new)
+    out = []
+    i = 0
+    n = len(message)
+    while i < n:
+        c = message[i]
+        if c.isdigit() or (c == "-" and i + 1 < n and message[i + 1].isdigit()):
+            j = i + 1
+            while j < n and (message[j].isdigit() or message[j] in ".eE" or
+                             (message[j] in "+-" and message[j - 1] in "eE")):
+                j += 1
+            word = message[i:j].rstrip(".")
+            j = i + len(word)
+            if "." in word and len(word.split(".")[1].rstrip("eE+-0123456789")) == 0 and \
+                    len(word) > 9:
+                try:
+                    word = "%.6g" % float(word)
+                except ValueError:
+                    pass
+            out.append(word)
+            i = j
+        else:
+            out.append(c)
+            i += 1
+    return "".join(out)
 
 
-def readings(reader, col, summary, report):
-    """Yield ``(reading, bits)`` for every accepted reading of ``reader``;
-    rejected lines go to ``report(message)`` and the summary. Raises
-    ReplayAbort when the first START_GIVE_UP data lines are all rejected,
-    when more than half of the readings (from MAJORITY_AFTER on) are rejected
-    for one of MAJORITY_REASONS, or when TimeUnitCheck finds the time unit
-    wrong."""
-    check = TimeUnitCheck(reader)
-    for reading in reader:
-        if isinstance(reading, ReadingError):
-            _rejected(summary, reading, getattr(reading, "lineno", reader.lineno), report)
-            continue
-        check.see(reading)
-        try:
-            bits = feed(col, reading)
-        except ValueError as e:  # ReadingError by the contract; any check error is a rejection
-            _rejected(summary, e, reading[0], report)
-            continue
-        note_events(summary, col, reading, bits)
-        yield reading, bits
-
-
+# --- the replay loop ----------------------------------------------------------------
 MAJORITY_HINTS = {
     "rate": "the readings imply impossible vertical speeds: check the time unit "
             "(--time NAME:s or NAME:ms) and the pressure unit (--pressure NAME:Pa or NAME:hPa), "
@@ -266,14 +366,16 @@ MAJORITY_HINTS = {
 }
 
 
-def _rejected(summary, e, lineno, report):
-    msg = str(e)
+def _rejected(summary, e, reading, lineno, report):
+    msg = tidy(str(e))
     if not msg.startswith("line "):
         msg = "line %d: %s" % (lineno, msg)
     reason = getattr(e, "reason", "reading") or "reading"
     summary.reject(reason, msg)
+    if reading is not None:
+        summary.last_rejected = reading
     if summary.rejected <= MAX_REPORTS:
-        report("rejected (%s) %s" % (getattr(e, "reason", "reading"), msg))
+        report("rejected (%s) %s" % (reason, msg))
     elif summary.rejected == MAX_REPORTS + 1:
         report("further rejected readings are only counted (see the summary)")
     if summary.accepted == 0 and summary.rejected >= START_GIVE_UP:
@@ -291,6 +393,138 @@ def _rejected(summary, e, lineno, report):
                MAJORITY_HINTS.get(reason, "check the column mapping and units (see --help)")))
 
 
+def run(reader, col, summary, report, out=None, every=1, flush=False, sink=None,
+        progress=None, before_first=None):
+    """Feed every reading of ``reader`` to ``col``.
+
+    For every accepted reading either ``sink(reading, bits)`` is called or,
+    without a sink, its table row is written with ``out.write`` (every
+    ``every``-th row and every row with an event; ``out.flush()`` after each
+    row with ``flush``). ``before_first()`` is called before the first
+    accepted reading is handled (the table's header waits for it: units and
+    the time origin are decided by then). Rejected lines go to
+    ``report(message)``. Updates ``summary``; returns nothing. Raises
+    ReplayAbort (see ``_rejected`` and TimeUnitCheck).
+
+    The loop is the replay's hot path (bench/replay_bench.py): per reading
+    it reads the column's public attributes once and keeps the summary in
+    locals; events and the rare flags take the slow path."""
+    feed = col.feed
+    tap = col.on_event
+    levels = tap.levels
+    check = TimeUnitCheck(reader)
+    checking = check.active
+    fmt = record.FORMAT + "\n"
+    write = out.write if out is not None else None
+    ice = col.ice
+    nan = NAN
+    ring_t, ring_l = summary.ring_t, summary.ring_l
+    mask = RING - 1
+    rn = summary.ring_n
+    special = FL_REPLACED | FL_TAKEOVER
+    thin = sink is None and every > 1
+    # the look-back of the replay: the readings of the column's two latest
+    # records (h, b) and the one confirmed before b (c)
+    c_rd = b_rd = h_rd = None
+    accepted = summary.accepted
+    hmax = -1e300
+    hmin = 1e300
+    gps_n = 0
+    gps_sum = 0.0
+    gps_worst = 0.0
+    gps_wline = 0
+    gps_last = nan
+    lineno = 0
+    written = 0
+    try:
+        for reading in reader:
+            if reading.__class__ is not tuple:
+                lineno = getattr(reading, "lineno", reader.lineno)
+                summary.accepted = accepted
+                _rejected(summary, reading, None, lineno, report)
+                continue
+            lineno, p, t, rh, ts, gps = reading
+            if checking:
+                check.see(reading)
+                checking = check.active
+            if levels:
+                del levels[:]
+            try:
+                bits = feed(p, t, rh, ts, gps)
+            except ValueError as e:   # ReadingError by the contract; any check error is a rejection
+                summary.accepted = accepted
+                _rejected(summary, e, reading, lineno, report)
+                continue
+            if not accepted and before_first is not None:
+                before_first()
+            h = col.height_m
+            flags = col.flags
+            # the summary's running values (the ring dates past events)
+            j = rn & mask
+            ring_t[j] = rn if ts is None else ts
+            ring_l[j] = lineno
+            rn += 1
+            if h > hmax:
+                hmax = h
+                summary.highest = (h, col.gph_m, nan if ts is None else ts, lineno)
+            elif h < hmin:
+                hmin = h
+            if gps is not None:
+                d = col.gps_diff_m
+                if d == d:
+                    gps_n += 1
+                    gps_sum += d
+                    gps_last = d
+                    if abs(d) > abs(gps_worst):
+                        gps_worst = d
+                        gps_wline = lineno
+            if flags & special:
+                if flags & FL_TAKEOVER:
+                    c_rd, b_rd, h_rd = None, summary.last_rejected, reading
+                else:
+                    h_rd = reading
+            else:
+                c_rd, b_rd, h_rd = b_rd, h_rd, reading
+            if bits:
+                summary.ring_n = rn
+                summary.event(bits, reading, b_rd, c_rd, levels)
+            if not accepted:
+                hmin = h
+                summary.surface = (reading, h, dew_point_k(t, rh, ice))
+            accepted += 1
+            # the row
+            if sink is not None:
+                sink(reading, bits)
+                continue
+            if thin and not bits and (accepted - 1) % every:
+                continue
+            td = td_rh(t, rh, ice) if rh is not None and rh > 0.0 else nan
+            if bits:
+                ev = record.events_text(bits, [lv[0] for lv in levels] if bits & EV_LEVEL else nan)
+            else:
+                ev = "-"
+            write(fmt % (lineno, nan if ts is None else ts, p, t, nan if rh is None else rh,
+                         td, nan if gps is None else gps, col.gph_m, h, col.rate_m_s,
+                         col.sigma_m, flags, ev))
+            written += 1
+            if flush:
+                out.flush()
+            if progress is not None and not lineno & 1023:
+                progress.update(lineno, h)
+    finally:
+        summary.accepted = accepted
+        summary.written += written
+        summary.ring_n = rn
+        summary.line = lineno
+        summary.lowest_m = hmin if accepted else NAN
+        if h_rd is not None:
+            summary.last = (h_rd, col.height_m)
+        summary.gps_n = gps_n
+        summary.gps_sum = gps_sum
+        summary.gps_worst = (gps_worst, gps_wline)
+        summary.gps_last = gps_last
+
+
 def _median(values):
     v = sorted(values)
     n = len(v)
@@ -301,8 +535,7 @@ def _median(values):
 
 class TimeUnitCheck:
     """Sanity check of a time column in seconds or milliseconds, from the
-    readings themselves (the K/degC and Pa/hPa checks of logread look at one
-    value; a time unit needs a move).
+    readings themselves (a time unit needs a move).
 
     The first real move of the log is its height change from the first
     reading reaching MOVED_M gpm, held for MOVED_READINGS readings in a row
@@ -323,7 +556,8 @@ class TimeUnitCheck:
 
     Either raises ReplayAbort naming the lines, the speed, the spacing and the
     likely unit. ISO-8601 time stamps are not checked (no unit to mistake).
-    The check keeps a few scalars and at most SPACINGS steps."""
+    The check keeps a few scalars and at most SPACINGS steps; ``active`` is
+    False once it has judged (the caller skips it then)."""
 
     def __init__(self, reader):
         self.reader = reader
@@ -340,8 +574,6 @@ class TimeUnitCheck:
     def see(self, reading):
         """Look at one parsed reading (before the column); raise ReplayAbort
         when the time unit is contradicted."""
-        if not self.active:
-            return
         lineno, p, t, ts = reading[0], reading[1], reading[2], reading[4]
         if ts is None:
             return
@@ -406,81 +638,161 @@ class TimeUnitCheck:
 class Progress:
     """Progress on stderr, only when stderr is a terminal."""
 
-    def __init__(self, stream, enabled):
+    def __init__(self, stream):
         self.stream = stream
-        self.enabled = enabled
         self.next_t = 0.0
         self.shown = False
 
-    def update(self, lineno, col):
-        if not self.enabled or lineno & 1023:
-            return
+    def update(self, lineno, height_m):
         now = _time.monotonic()
         if now < self.next_t:
             return
         self.next_t = now + 0.5
         self.shown = True
-        self.stream.write("\rreplay: line %d, height %.0f m   " % (lineno, _attr(col, "height_m")))
+        self.stream.write("\rreplay: line %d, height %.0f m   " % (lineno, height_m))
         self.stream.flush()
 
     def done(self):
         if self.shown:
+            self.shown = False
             self.stream.write("\r" + " " * 50 + "\r")
             self.stream.flush()
 
 
-def header_lines(site, reader, source_name):
-    """Return the table's comment and header lines (without newlines)."""
+def header_lines(site, reader, source_name, every=1):
+    """Return the table's comment and header lines (without newlines); a
+    thinned table says so in its ``# input`` line (``every=N``)."""
     words = " ".join("%s=%s" % (k, table.fmt_value(v) if not isinstance(v, str) else v)
                      for k, v in site)
     lines = [table.MAGIC, table.SITE_PREFIX + words,
-             table.INPUT_PREFIX + "source=%s %s" % (source_name.replace(" ", "_"), reader.describe())]
+             table.INPUT_PREFIX + "source=%s %s%s" % (source_name.replace(" ", "_"),
+                                                      reader.describe(),
+                                                      " every=%d" % every if every > 1 else "")]
     if reader.time_origin:
-        lines.append("# time_s counts from %s" % reader.time_origin)
+        lines.append(table.TIME_ORIGIN_PREFIX + reader.time_origin)
     lines.append(table.HEADER)
     return lines
 
 
-def replay(reader, col, out, lat_deg, site, source_name, flush=False, err=None, progress=False):
-    """Replay ``reader`` through ``col``, writing the table to ``out``.
+def replay(reader, col, out, setup, source_name, every=1, flush=False, err=None, progress=False):
+    """Replay ``reader`` through ``col``, writing the table (comments, header,
+    rows, end record, summary records) to ``out``.
 
-    ``site`` is the list of (key, value) set-up pairs for the ``# site`` line.
-    Returns the Summary. Rejections are reported on ``err`` (stderr)."""
+    ``setup`` is the tinygeo.host.options.Setup the column was made from.
+    Returns the Summary. Rejections and notes are reported on ``err``."""
     err = err or sys.stderr
-    summary = Summary()
-    prog = Progress(err, progress)
+    summary = Summary(col, setup.lat_deg)
+    prog = Progress(err) if progress else None
 
     def report(msg):
-        from tinygeo.host.cli import one_line
-        prog.done()
+        if prog is not None:
+            prog.done()
         err.write("tinygeo replay: %s\n" % one_line(msg))
 
     if "time" not in reader.columns:
         err.write("tinygeo replay: warning: the log has no time column, so pressure glitches are "
                   "not screened by vertical rate and no rate or landing is found; map one with "
                   "--time NAME[:s|ms|iso]\n")
-    write = out.write
-    started = False
-    for reading, bits in readings(reader, col, summary, report):
-        if not started:
-            # the header waits for the first reading so that units and the
-            # time origin decided from it are described in the table
-            for note in reader.notes:
-                err.write("tinygeo replay: note: %s\n" % note)
-            for line in header_lines(site, reader, source_name):
-                write(line + "\n")
-            started = True
-        write(row_text(col, reading, bits, lat_deg) + "\n")
-        if flush:
-            out.flush()
-        prog.update(reading[0], col)
-    prog.done()
-    if not started:
-        for line in header_lines(site, reader, source_name):
-            write(line + "\n")
-    finish(summary, col)
-    for line in summary.lines(lat_deg):
-        write(line + "\n")
+    state = {"header": False}
+
+    def header():
+        # the header waits for the first reading so that the units and the
+        # time origin decided from it are described in the table
+        for note in reader.notes:
+            err.write("tinygeo replay: note: %s\n" % one_line(note))
+        for line in header_lines(setup.site(), reader, source_name, every):
+            out.write(line + "\n")
+        state["header"] = True
+
+    # the rows go to the file object itself (no wrapper per row); its
+    # errors become OutputError here
+    raw = getattr(out, "f", out)
+    try:
+        run(reader, col, summary, report, out=raw, every=every, flush=flush, progress=prog,
+            before_first=header)
+    except BrokenPipeError:
+        raise
+    except (OSError, ValueError) as e:
+        if isinstance(e, ValueError) and not str(e).startswith("I/O operation on closed"):
+            raise
+        err_out = out.error(e) if hasattr(out, "error") else OutputError(str(e))
+        raise OutputError("%s (writing the row of %s line %d)" % (err_out, source_name,
+                                                                  summary.line))
+    if prog is not None:
+        prog.done()
+    if not state["header"]:
+        header()
+    out.write(record.end_line(summary.written, col) + "\n")
+    for line in summary.lines():
+        out.write(line + "\n")
     if flush:
         out.flush()
     return summary
+
+
+def _isatty(stream):
+    try:
+        return stream.isatty()
+    except (AttributeError, ValueError):
+        return False
+
+
+def command(a, stdin, stdout, stderr):
+    """The ``replay`` command (``a``: its parsed options); returns the exit status."""
+    from tinygeo.host.logread import LogReader
+    from tinygeo.host.options import (Outputs, UsageError, check_paths, column_setup, mapping,
+                                      new_column, open_text)
+    if a.every < 1:
+        raise UsageError("--every %d: give a whole number >= 1" % a.every)
+    check_paths([("log", a.log)], [("-o", a.out), ("--summary", a.summary)], stdin)
+    lines, name, close = open_text(a.log, stdin)
+    try:
+        reader = LogReader(lines, mapping(a), a.delimiter, name)
+        setup = column_setup(a, reader)
+        col = new_column(setup)
+        reader.settle(setup.start_height_m, setup.start_given)
+        live = a.log == "-" or a.flush
+        err = _Quiet(stderr) if a.quiet else stderr
+        with Outputs(stdout) as outs:
+            out = outs.open(a.out)
+            summary = replay(reader, col, out, setup, name, every=a.every, flush=live, err=err,
+                             progress=_isatty(stderr) and a.log != "-")
+            if summary.accepted == 0:
+                raise InputError(
+                    "%s: no reading was accepted (%d rejected%s); check the column mapping and "
+                    "units" % (name, summary.rejected,
+                               "; first: " + summary.first_rejection if summary.first_rejection
+                               else ", no data lines after the header"))
+            records = summary.lines()
+            if a.summary:
+                s = outs.open(a.summary)
+                for line in records:
+                    s.write(line + "\n")
+            outs.commit()
+            if a.out not in (None, "-"):
+                o = outs.open(None)
+                for line in records:
+                    o.write(line + "\n")
+                outs.commit()
+        if summary.looks_like_station():
+            stderr.write("tinygeo replay: note: the log never rises more than %.0f m above its "
+                         "lowest reading: it looks like a fixed station, not a flight; "
+                         "'tinygeo station' is the command for station logs\n"
+                         % (summary.highest[0] - summary.lowest_m))
+        return 0
+    finally:
+        close()
+
+
+class _Quiet:
+    """stderr for --quiet: drops the per-reading reports, keeps notes and warnings."""
+
+    def __init__(self, stream):
+        self.stream = stream
+
+    def write(self, text):
+        if not text.startswith("tinygeo replay: rejected") and "further rejected" not in text:
+            self.stream.write(text)
+
+    def flush(self):
+        self.stream.flush()

@@ -44,6 +44,7 @@ import random
 
 from tinygeo import moisture, potential, standard
 from tinygeo.constants import G0, RD
+from tinygeo.host.options import Outputs, UsageError, check_paths
 
 RHO0 = 101325.0 / (RD * 288.15)   # sea-level standard density, kg/m^3 [USSA76 Table I]
 STEP_GPM = 5.0                    # integration step of the pressure table, gpm
@@ -308,3 +309,33 @@ def _dew_point_c(t_k, p_pa, rh_pct):
         return ""
     e = moisture.vapour_pressure(t_k, p_pa, rh_pct)
     return "%.2f" % (moisture.dew_point(e, p_pa) - 273.15)
+
+
+def command(a, stdin, stdout, stderr):
+    """The ``simulate`` command (``a``: its parsed options); returns the exit status."""
+    p = Params(
+        seed=a.seed, lat_deg=a.lat, site_m=a.elevation, ascent_m_s=a.ascent_rate, burst_m=a.burst,
+        descent_m_s=a.descent_rate, interval_s=a.interval, wait_s=a.wait, ground_s=a.ground,
+        rh_surface_pct=a.rh_surface, perturb_k=a.perturb, sigma_p_pa=a.sigma_p, sigma_t_k=a.sigma_t,
+        sigma_rh_pct=a.sigma_rh, bias_p_pa=a.bias_p, bias_t_k=a.bias_t, bias_rh_pct=a.bias_rh,
+        sigma_gps_m=a.sigma_gps, dropout=a.dropout, spikes=a.spikes,
+        jitter_s=a.jitter, gps=not a.no_gps, dew_point=a.dew_point, iso_start=a.start,
+        delimiter="\t" if a.tsv else ",")
+    if a.clean:
+        for k in ("sigma_p_pa", "sigma_t_k", "sigma_rh_pct", "bias_p_pa", "bias_t_k", "bias_rh_pct",
+                  "sigma_gps_m", "dropout", "spikes", "jitter_s"):
+            setattr(p, k, 0.0)
+        p.rh_dropout = p.gps_dropout = 0.0
+    try:
+        check(p)
+    except ValueError as e:
+        raise UsageError("simulate: %s" % e)
+    check_paths([], [("-o", a.out), ("--truth", a.truth)])
+    with Outputs(stdout) as outs:
+        out = outs.open(a.out)
+        truth = outs.open(a.truth) if a.truth else None
+        n = simulate(p, out, truth)
+        outs.commit()
+    if a.out:
+        stderr.write("tinygeo simulate: %d readings written to %s\n" % (n, a.out))
+    return 0

@@ -1,97 +1,48 @@
-"""The replay table: tinygeo's own plain text layout for per-reading results.
+"""Reading tinygeo's table of per-reading results (the record format of
+:mod:`tinygeo.record`, written by a device and by ``tinygeo replay``).
 
-Layout (UTF-8 text, one record per line, fields separated by one TAB)::
+The layout (magic line, ``# site`` line, header, rows, event words, end
+record) is defined once, in tinygeo/record.py; this module imports it and
+adds what only a host needs: reading a table back, one row at a time, and
+the summary records ``#: what key=value ...`` that a host replay writes
+after the rows.
 
-    # tinygeo replay table 1
-    # site lat_deg=47.3 start_height_m=420 anchor_p_pa=nan ice=0 dry_fallback=0
-    # input source=flight.csv pressure=pressure_hpa:hPa temperature=temp_c:C ...
-    line  time_s  p_pa  t_k  rh_pct  td_k  gps_m  gph_m  height_m  rate_m_s  sigma_m  flags  events
-    12    0.000   96512.00  ...
-    ...
-    #: accepted count=3012
-    #: rejected count=4 rate=3 number=1
-    #: level p_hpa=850 gph_m=1457.210 height_m=1458.031 time_s=207.000
-    ...
-
-* Lines starting with ``#`` are comments. The first one names the layout and
-  its version; ``# site`` holds the column set-up (``key=value`` words) so a
-  reader can rebuild the same column; ``#:`` lines after the rows are the
-  summary, one ``<what> key=value ...`` record per line. ``line=`` is the
-  log line of the reading the record describes; in ``burst`` that is the
-  highest reading (its gph_m and time_s), and ``confirmed_line=`` the
-  reading that confirmed the burst (the column's burst_readings-th reading
-  burst_drop_m below it).
-* The first line that is not a comment is the header naming the fields below.
-* ``line`` is the line number of the reading in the input log (on a device:
-  the running number of the reading offered to the column, rejected ones
-  included). Only accepted readings get a row.
-* Inputs as fed to the column: ``time_s`` (s since the first reading's time),
-  ``p_pa`` (Pa), ``t_k`` (K), ``rh_pct`` (%), ``gps_m`` (m above MSL); a
-  missing value is written ``nan``. ``td_k`` is the dew point (K) derived
-  from rh_pct for plotting.
-* Column outputs: ``gph_m`` geopotential height (gpm), ``height_m`` geometric
-  height above MSL (m), ``rate_m_s`` vertical rate (m/s, up positive),
-  ``sigma_m`` 1-sigma height uncertainty (m), ``flags`` (the column's flag
-  bits as a decimal integer) and ``events``: ``-`` when none, otherwise words
-  joined by ``+`` in this order: ``launch``, ``level<hPa>`` (a mandatory
-  level was crossed, e.g. ``level850``; one word per level, lowest first,
-  when a reading crossed several), ``tropopause``, ``burst``, ``landed``.
-* Fixed decimals (see ``FORMAT``) make the output byte-identical for the same
-  input. ``%`` formatting only, so a MicroPython logger can write the same
-  rows with :func:`format_row`.
+A table is read when its first line is ``MAGIC`` (or ``OLD_MAGIC``, the name
+of the same layout before it moved to tinygeo.record) and its header names
+``line`` or ``time_s`` and any subset of ``COLUMNS``, in any order: a device
+may write only what it computes. A value ``nan`` (or a column left out)
+means "not given / not computed".
 """
-
+from tinygeo import record
 from tinygeo.errors import TinygeoError
 
-MAGIC = "# tinygeo replay table 1"
-SITE_PREFIX = "# site "
+MAGIC = record.MAGIC
+OLD_MAGIC = "# tinygeo replay table 1"
+SITE_PREFIX = record.SITE_PREFIX
+END_PREFIX = record.END_PREFIX
 INPUT_PREFIX = "# input "
 SUMMARY_PREFIX = "#: "
+TIME_ORIGIN_PREFIX = "# time_s counts from "
+COLUMNS = record.COLUMNS
+HEADER = record.HEADER
+FORMAT = record.FORMAT
+events_text = record.events_text
+format_row = record.row
 
-COLUMNS = ("line", "time_s", "p_pa", "t_k", "rh_pct", "td_k", "gps_m",
-           "gph_m", "height_m", "rate_m_s", "sigma_m", "flags", "events")
-HEADER = "\t".join(COLUMNS)
-FORMAT = "%d\t%.3f\t%.2f\t%.3f\t%.2f\t%.3f\t%.2f\t%.3f\t%.3f\t%.3f\t%.3f\t%d\t%s"
-
-# Event bits of the column contract (tinygeo.column EV_*), repeated here so a
-# table can be read without importing the column; tests check they agree.
-EV_LEVEL = 1
-EV_TROPOPAUSE = 2
-EV_BURST = 4
-EV_LANDED = 8
-EV_LAUNCH = 16
+EV_LEVEL = record.EV_LEVEL
+EVENT_BITS = dict((word, bit) for bit, word in record.EVENT_WORDS)
+EVENT_BITS["tropopause"] = EVENT_BITS["tropopause_confirmed"]   # tables before the word changed
+EV_TROPOPAUSE = EVENT_BITS["tropopause_confirmed"]
+EV_BURST = EVENT_BITS["burst"]
+EV_LANDED = EVENT_BITS["landed"]
+EV_LAUNCH = EVENT_BITS["launch"]
+EV_FLOAT = EVENT_BITS["float"]
 
 NAN = float("nan")
 
 
 class TableError(TinygeoError):
-    """A replay table cannot be read (message carries the line number)."""
-
-
-def events_text(bits, level_p_pa):
-    """Return the ``events`` field for event ``bits`` ('-' when none).
-
-    ``level_p_pa`` is the mandatory level crossed (Pa), or a list of them in
-    the order crossed when one reading crossed several, used when EV_LEVEL is
-    set. Example: ``events_text(1 | 4, 85000.0) == 'level850+burst'``."""
-    if not bits:
-        return "-"
-    words = []
-    if bits & EV_LAUNCH:
-        words.append("launch")
-    if bits & EV_LEVEL:
-        if isinstance(level_p_pa, (list, tuple)):
-            for p in level_p_pa:
-                words.append("level%d" % int(round(p / 100.0)))
-        else:
-            words.append("level%d" % int(round(level_p_pa / 100.0)))
-    if bits & EV_TROPOPAUSE:
-        words.append("tropopause")
-    if bits & EV_BURST:
-        words.append("burst")
-    if bits & EV_LANDED:
-        words.append("landed")
-    return "+".join(words)
+    """A table cannot be read (the message carries the line number); exit 2."""
 
 
 def parse_events(text):
@@ -106,24 +57,11 @@ def parse_events(text):
         if word.startswith("level") and word[5:].isdigit():
             bits |= EV_LEVEL
             level = int(word[5:])
-        elif word == "launch":
-            bits |= EV_LAUNCH
-        elif word == "tropopause":
-            bits |= EV_TROPOPAUSE
-        elif word == "burst":
-            bits |= EV_BURST
-        elif word == "landed":
-            bits |= EV_LANDED
+        elif word in EVENT_BITS and word != "level":
+            bits |= EVENT_BITS[word]
         else:
             raise ValueError("unknown event word %r" % word)
     return bits, level
-
-
-def format_row(line, time_s, p_pa, t_k, rh_pct, td_k, gps_m, gph_m, height_m,
-               rate_m_s, sigma_m, flags, events):
-    """Return one table row (no newline); ``events`` is the text field."""
-    return FORMAT % (line, time_s, p_pa, t_k, rh_pct, td_k, gps_m, gph_m,
-                     height_m, rate_m_s, sigma_m, flags, events)
 
 
 def fmt_value(x):
@@ -137,78 +75,107 @@ def fmt_value(x):
     return str(x).replace(" ", "_").replace("\t", "_")
 
 
-def summary_line(what, pairs):
-    """Return a ``#: what k=v ...`` line from (key, value) pairs."""
-    return SUMMARY_PREFIX + what + "".join(" %s=%s" % (k, fmt_value(v)) for k, v in pairs)
+def summary_line(what, pairs, text=None):
+    """Return a ``#: what k=v ...`` line from (key, value) pairs; ``text``, a
+    sentence for people, follows after `` -- `` (it holds no '=')."""
+    line = SUMMARY_PREFIX + what + "".join(" %s=%s" % (k, fmt_value(v)) for k, v in pairs)
+    if text:
+        line += " -- " + text.replace("=", " ")
+    return line
 
 
 def parse_pairs(words):
-    """Return a dict from ``key=value`` words (others are ignored)."""
+    """Return a dict from ``key=value`` words (others are ignored; so is
+    everything after a ``--`` word)."""
     out = {}
     for w in words:
+        if w == "--":
+            break
         k, sep, v = w.partition("=")
         if sep and k:
             out[k] = v
     return out
 
 
-def _float(text):
-    x = float(text)  # 'nan' parses to nan
-    return x
-
-
 class Row:
-    """One parsed table row; attributes named as the table columns, plus
-    ``lineno`` (the line number within the table file) and ``event_bits``."""
+    """One parsed table row: an attribute per name of COLUMNS (nan, or None
+    for ``flags`` and ``events``, when the table has no such column), plus
+    ``lineno`` (the line within the table file), ``event_bits`` and
+    ``level_hpa``."""
 
     __slots__ = COLUMNS + ("lineno", "event_bits", "level_hpa")
 
 
+_INTS = ("line", "flags")
+
+
 class TableReader:
-    """Read a replay table one row at a time (constant memory).
+    """Read a table one row at a time (constant memory).
 
-    After construction ``site`` (dict of the ``# site`` words) and ``input``
-    (dict of the ``# input`` words) hold the set-up; iterate for :class:`Row`
-    objects; after the iteration ``summary`` holds the ``#:`` records as a
-    list of (what, dict) in file order."""
+    ``lines`` is a :class:`tinygeo.host.options.TextLines` (or any object with
+    ``readline``). After construction ``site`` (dict of the ``# site``
+    words), ``input`` (dict of the ``# input`` words), ``time_origin`` (ISO
+    text of ``# time_s counts from``, or None) and ``present`` (the columns
+    the header names) hold the set-up; iterate for :class:`Row` objects.
+    After the iteration ``summary`` holds the ``#:`` records as a list of
+    (what, dict) in file order, ``end`` the end record's dict (None: the
+    table has no end record) and ``rows`` the number of rows read."""
 
-    def __init__(self, stream, name="table"):
-        self.stream = stream
+    def __init__(self, lines, name="table"):
+        self.stream = lines
         self.name = name
         self.site = {}
         self.input = {}
         self.summary = []
+        self.end = None
+        self.rows = 0
+        self.time_origin = None
         self.lineno = 0
         first = True
         while True:
-            raw = stream.readline()
+            raw = lines.readline()
             if not raw:
                 raise TableError("%s: no header line; is this a table written by "
-                                 "'tinygeo replay'?" % name)
+                                 "'tinygeo replay' or tinygeo.record?" % name)
             self.lineno += 1
             line = raw.rstrip("\r\n")
             if first:
                 first = False
-                if line.strip() != MAGIC:
-                    raise TableError("%s line 1: not a tinygeo replay table (expected %r); "
-                                     "replay the log first with 'tinygeo replay'" % (name, MAGIC))
+                if line.strip() not in (MAGIC, OLD_MAGIC):
+                    raise TableError("%s line 1: not a tinygeo table (expected %r); replay the "
+                                     "log first with 'tinygeo replay'" % (name, MAGIC))
                 continue
             if line.startswith(SITE_PREFIX):
                 self.site.update(parse_pairs(line[len(SITE_PREFIX):].split()))
             elif line.startswith(INPUT_PREFIX):
                 self.input.update(parse_pairs(line[len(INPUT_PREFIX):].split()))
+            elif line.startswith(TIME_ORIGIN_PREFIX):
+                self.time_origin = line[len(TIME_ORIGIN_PREFIX):].strip()
             elif line.startswith("#") or not line.strip():
                 continue
             else:
-                fields = line.split("\t")
-                if tuple(f.strip() for f in fields) != COLUMNS:
-                    raise TableError("%s line %d: unexpected header %r; expected the fields %s"
-                                     % (name, self.lineno, line[:80], " ".join(COLUMNS)))
+                self._header(line)
                 break
+
+    def _header(self, line):
+        names = [f.strip() for f in line.split("\t")]
+        unknown = [n for n in names if n not in COLUMNS]
+        if unknown or len(set(names)) != len(names):
+            raise TableError("%s line %d: unexpected header %r; the fields are any of %s, each "
+                             "once, separated by tabs" % (self.name, self.lineno, line[:80],
+                                                          " ".join(COLUMNS)))
+        if "line" not in names and "time_s" not in names:
+            raise TableError("%s line %d: the header names neither 'line' nor 'time_s'; a row "
+                             "needs one of them to be matched" % (self.name, self.lineno))
+        self.present = tuple(names)
+        self.index = [(n, names.index(n)) for n in COLUMNS if n in names]
+        self.absent = [n for n in COLUMNS if n not in names]
 
     def __iter__(self):
         stream = self.stream
-        n = len(COLUMNS)
+        n = len(self.present)
+        index = self.index
+        absent = self.absent
         while True:
             raw = stream.readline()
             if not raw:
@@ -221,30 +188,37 @@ class TableReader:
                 if line.startswith(SUMMARY_PREFIX):
                     words = line[len(SUMMARY_PREFIX):].split()
                     if words:
-                        self.summary.append((words[0], parse_pairs(words[1:])))
+                        pairs = parse_pairs(words[1:])
+                        if words[0] == "end":
+                            self.end = pairs
+                        else:
+                            self.summary.append((words[0], pairs))
                 continue
             fields = line.split("\t")
             if len(fields) != n:
                 raise TableError("%s line %d: %d fields, expected %d (%s)"
-                                 % (self.name, self.lineno, len(fields), n, " ".join(COLUMNS)))
+                                 % (self.name, self.lineno, len(fields), n, " ".join(self.present)))
+            if self.end is not None:
+                raise TableError("%s line %d: a row after the end record" % (self.name, self.lineno))
             row = Row()
             try:
-                row.line = int(fields[0])
-                row.time_s = _float(fields[1])
-                row.p_pa = _float(fields[2])
-                row.t_k = _float(fields[3])
-                row.rh_pct = _float(fields[4])
-                row.td_k = _float(fields[5])
-                row.gps_m = _float(fields[6])
-                row.gph_m = _float(fields[7])
-                row.height_m = _float(fields[8])
-                row.rate_m_s = _float(fields[9])
-                row.sigma_m = _float(fields[10])
-                row.flags = int(fields[11])
-                row.events = fields[12].strip()
-                row.event_bits, row.level_hpa = parse_events(row.events)
+                for name, i in index:
+                    text = fields[i].strip()
+                    if name in _INTS:
+                        setattr(row, name, int(text))
+                    elif name == "events":
+                        row.events = text
+                    else:
+                        setattr(row, name, float(text))   # 'nan' parses to nan
+                for name in absent:
+                    setattr(row, name, None if name in ("flags", "events") else NAN)
+                if row.line is NAN:
+                    row.line = None
+                row.event_bits, row.level_hpa = (None, 0) if row.events is None else \
+                    parse_events(row.events)
             except ValueError as e:
                 raise TableError("%s line %d: unreadable field (%s); the row must hold %s"
-                                 % (self.name, self.lineno, e, " ".join(COLUMNS)))
+                                 % (self.name, self.lineno, e, " ".join(self.present)))
             row.lineno = self.lineno
+            self.rows += 1
             yield row
