@@ -788,7 +788,7 @@ def run_c_column(exe, cmds, opts=(), env=None):
     assert r.returncode == 0, r.stderr
     rows, events, blobs, recs = [], [], [], []
     for ln in r.stdout.splitlines():
-        if ln[:2] in ("w ", "s ", "m ", "h "):
+        if ln[:2] in ("w ", "s ", "m ", "h ", "z "):
             recs.append(ln[2:])
             continue
         w = ln.split()
@@ -1498,9 +1498,9 @@ def test_column_stream_vectors(build):
 
 def test_record_rows_identical(build):
     """ports/c/record.c writes the table exactly as tinygeo/record.py: the
-    magic, header and site line, and the row of every accepted reading of the
-    random streams (column_row with the reading's rh_pct and gps_m), byte for
-    byte (C's printf and Python's % round the same on all of them)."""
+    magic, header and site line, the row of every accepted reading of the
+    random streams (column_row with the reading's rh_pct and gps_m) and the
+    end record (end_line), byte for byte (C's printf and Python's % round the same on all of them)."""
     rng = random.Random(5)
     n = 0
     for s in range(40):
@@ -1529,6 +1529,7 @@ def test_record_rows_identical(build):
                     col.reanchor_gps(*args)
                 except TinygeoError:
                     pass
+        prec.append(record.end_line(len(prec) - 3, col))
         assert crec == prec, next((a, b) for a, b in zip(crec, prec) if a != b)
         n += len(prec)
     print("record rows: %d lines byte-identical" % n)

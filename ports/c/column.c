@@ -389,10 +389,10 @@ static int check(tg_column *col, tg_rec *n, TG_FLOAT p_pa, TG_FLOAT t_k, const T
                  tg_time time_s, const TG_FLOAT *gps_m)
 {
     TG_FLOAT p, t, rh, gps;
-    /* Python tests "a finite number" first, then the range; a value in the
-     * range is finite, so C tests the range first and tells a NaN or inf
-     * ('number') from a value out of range only for a value outside it:
-     * the same reason for every value, fewer tests per reading */
+    /* as Python does for a float: the range first (a value in the range is
+     * finite), and a NaN or inf ('number') told from a value out of range
+     * only for a value outside it: the same reason for every value, fewer
+     * tests per reading */
     p = p_pa;
     if (TG_UNLIKELY(!(P_MIN_PA <= p && p <= P_MAX_PA)))
         return bad(col, isfinite(p) ? TG_REASON_PRESSURE : TG_REASON_NUMBER);

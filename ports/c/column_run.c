@@ -6,7 +6,9 @@
  *       state, compared byte for byte);
  *   -r: print the table record (record.c) too: "m <magic>", "h <header>" and
  *       "s <site line>" after init, "w <row>" after every accepted reading
- *       (tg_record_column_row with the reading's number, its rh_pct and gps_m);
+ *       (tg_record_column_row with the reading's number, its rh_pct and gps_m),
+ *       and "z <end line>" at the end of the input (tg_record_end_line with
+ *       the number of rows written since the latest init);
  *   -l: print the "r" line of the last command only (long streams).
  *
  * Input, one command per line ("-" stands for Python's None):
@@ -117,6 +119,7 @@ int main(int argc, char **argv)
     static char line[16384];
     int lineno = 0;
     int i, n_feed = 0;
+    int32_t n_rows = -1;   /* rows written since the latest init (-1: none yet) */
     for (i = 1; i < argc; i++) {
         every_blob |= strcmp(argv[i], "-s") == 0;
         records |= strcmp(argv[i], "-r") == 0;
@@ -155,6 +158,7 @@ int main(int argc, char **argv)
                 char text[512];
                 tg_record_site_line(&col, text, sizeof text);
                 printf("m %s\nh %s\ns %s\n", tg_record_magic, tg_record_header, text);
+                n_rows = 0;
             }
             show(&col, st, 0.0);
         } else if (strcmp(tok[0], "feed") == 0 && n == 6) {
@@ -171,6 +175,7 @@ int main(int argc, char **argv)
                 tg_record_column_row(n_feed, &col, bits, has_rh ? &rh : NULL, has_gps ? &gps : NULL,
                                      NULL, text, sizeof text);
                 printf("w %s\n", text);
+                n_rows++;
             }
             n_feed++;
             show(&col, st, (double)bits);
@@ -203,6 +208,11 @@ int main(int argc, char **argv)
             fprintf(stderr, "column_run: line %d malformed\n", lineno);
             return 2;
         }
+    }
+    if (records && n_rows >= 0) {
+        char text[512];
+        tg_record_end_line(n_rows, &col, text, sizeof text);
+        printf("z %s\n", text);
     }
     if (last_only)
         printf("%s\n", last_line);

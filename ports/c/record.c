@@ -2,8 +2,8 @@
  * per-reading results, written by a device. The layout (record.MAGIC,
  * record.HEADER, record.FORMAT, record.EVENT_WORDS, record.SITE_PREFIX) comes
  * from record.py through tg_tables.h, so the two cannot drift; the functions
- * are record.events_text, record.row, record.column_row and
- * record.site_line with a tg_record_ prefix. Each writes into the caller's
+ * are record.events_text, record.row, record.column_row,
+ * record.site_line and record.end_line with a tg_record_ prefix. Each writes into the caller's
  * buffer like snprintf and returns the length of the whole text (without the
  * NUL), so a result >= size means it was cut; no allocation.
  *
@@ -165,4 +165,12 @@ int tg_record_site_line(const tg_column *col, char *buf, size_t size)
     TGPY_RECORD_SITE_KEYS(WORD)
 #undef WORD
     return snprintf(buf, size, "%s", out);
+}
+
+/* record.end_line: the end record after the last row (END_PREFIX, the rows
+ * written and the column's counters) */
+int tg_record_end_line(int32_t rows, const tg_column *col, char *buf, size_t size)
+{
+    return snprintf(buf, size, "%srows=%ld count=%ld rejected=%ld retracted=%ld", TGPY_RECORD_END_PREFIX,
+                    (long)rows, (long)col->count, (long)col->rejected, (long)col->retracted);
 }

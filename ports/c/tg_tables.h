@@ -462,6 +462,7 @@
 /* ---- tinygeo/record.py ---- */
 #define TGPY_RECORD_MAGIC "# tinygeo table 1"
 #define TGPY_RECORD_SITE_PREFIX "# site "
+#define TGPY_RECORD_END_PREFIX "#: end "
 #define TGPY_RECORD_COLUMNS_N 13
 #define TGPY_RECORD_COLUMNS(X) \
     X(line) \
@@ -483,7 +484,7 @@
 #define TGPY_RECORD_EVENT_WORDS(X) \
     X(16, "launch") \
     X(1, "level") \
-    X(2, "tropopause") \
+    X(2, "tropopause_confirmed") \
     X(4, "burst") \
     X(8, "landed") \
     X(32, "float")

@@ -371,6 +371,8 @@ int tg_record_column_row(int32_t line, const tg_column *col, int bits, const TG_
                          const TG_FLOAT *gps_m, const TG_FLOAT *td_k, char *buf, size_t size);
 /* record.site_line(col) */
 int tg_record_site_line(const tg_column *col, char *buf, size_t size);
+/* record.end_line(rows, col): after the last row ("#: end rows=... count=...") */
+int tg_record_end_line(int32_t rows, const tg_column *col, char *buf, size_t size);
 
 #ifdef __cplusplus
 }
