@@ -446,6 +446,21 @@ def test_a_genuine_jump_is_followed_and_a_spike_is_not():
     assert not s.flags & FL_TAKEOVER
 
 
+def test_the_takeover_flag_goes_on_the_average_the_jump_goes_into():
+    # the third reading of a jump is the first of a new average (600 s):
+    # the average that closes before it holds none of the jump (constructed)
+    s = Station(3.5, 54.2, 600)
+    _steady(s, 598)
+    for i in (598, 599):
+        with pytest.raises(ReadingError):
+            s.feed(100400.0, 285.1, 80.1, i)
+    assert s.feed(100400.0, 285.1, 80.1, 600) & S.EV_AVERAGE
+    assert not s.flags & FL_TAKEOVER and s.average_readings == 598
+    for i in range(601, 1201):
+        s.feed(100400.0, 285.1 + 0.001 * (i - 600), 80.1, i)
+    assert s.flags & FL_TAKEOVER and s.average_readings == 600
+
+
 @pytest.mark.parametrize("spikes", [1, 2])
 def test_spikes_fewer_than_takeover_readings_change_nothing(spikes):
     # one or two spikes (each reading agreeing with the one before it, so a

@@ -35,7 +35,12 @@ The contract
 stuck_readings=60, max_p_step_pa=50, max_p_rate_pa_s=1, max_t_step_k=3,
 max_t_rate_k_s=0.01, max_rh_step_pct=10, max_rh_rate_pct_s=0.05,
 guard_m=2000, steady_pa=10, max_gap_s=1800, mean12=False, iso_p_pa=None,
-on_event=None)``
+takeover_readings=3, on_event=None)``
+
+Note the order: the barometer's height first, then the latitude (the
+column, Column(lat_deg, start_height_m), has them the other way round);
+passing them by keyword, Station(height_m=3.5, lat_deg=54.2), avoids a
+swap that no check can see (both are plausible numbers).
 
 Site
 - height_m: the barometer's height above mean sea level, m, -500..5000 (for
@@ -653,7 +658,7 @@ class Station:
                 restart = self._contradicts(why, p, t, rh, ts)
             else:
                 self._run = 0
-        if restart:
+        if restart == 1:
             # a clock set back, or a bad first reading: start afresh from this
             # reading (the counters go on)
             c, r = self.count, self.rejected
@@ -661,7 +666,7 @@ class Station:
             self.count, self.rejected = c, r
         # 3. accepted: into the average (closing the one before if this
         # reading starts a new one)
-        if self.count == 0 or restart:
+        if self.count == 0 or restart == 1:
             self._start(ts)
         k = ts - self._t0 + self._phase
         if isinstance(k, int):
@@ -673,6 +678,9 @@ class Station:
             if self._k >= 0:
                 bits = self._close()
             self._open(k, p, t, rh)
+        if restart == 2:
+            # a sensor's real jump: flagged on the average it goes into
+            self._sflags |= FL_TAKEOVER
         self._add(p, t, rh)
         self._ts = ts
         if rh == rh:
@@ -681,7 +689,7 @@ class Station:
             self.count += 1
         if self._nslot < COUNT_MAX:
             self._nslot += 1
-        if restart:
+        if restart == 1:
             bits |= EV_RESTART
         if bits and self.on_event is not None:
             self.on_event(self, bits)
@@ -719,8 +727,8 @@ class Station:
         # starts one. Raises ReadingError until the run has
         # takeover_readings readings; then returns 1 when the station must
         # restart (a run started by time going back, or the station had no
-        # more readings than the run), 0 when it goes on from this reading
-        # (a real jump of a sensor: FL_TAKEOVER on the average)
+        # more readings than the run), 2 when it goes on from this reading
+        # (a real jump of a sensor: FL_TAKEOVER on the average it goes into)
         if self._run and not self._against(p, t, rh, ts, self._rn_p, self._rn_t, self._rn_rh,
                                            self._rn_ts, self._rn_tsrh):
             self._run += 1
@@ -739,8 +747,7 @@ class Station:
         self._run = 0
         if self._rn_time or self.count <= self.takeover_readings:
             return 1
-        self._sflags |= FL_TAKEOVER
-        return 0
+        return 2
 
     def _num(self, x, name, unit):
         # a finite float by the rule of tinygeo.errors.real, else rejected
@@ -963,9 +970,9 @@ class Station:
                "|p_pa=%s is at pressure altitude %.0f gpm, not within %.0f +- %g gpm of the "
                "barometer; %s"                                            # 4
                "|time_s=%s before the latest accepted reading's %s; time must not decrease "
-               "(clock set back? takeover_readings in a row restart the station)"                    # 5
-               "|%s=%s steps %+.3g %s in %s s, beyond the %.3g allowed; spike? (%s=None: "
-               "no check)").split("|")[i] % args                          # 6
+               "(clock set back? takeover_readings in a row restart the station)"  # 5
+               "|%s=%s steps %+.3g %s in %s s, beyond the %.3g allowed; spike? (%s=None "
+               "turns this check off)").split("|")[i] % args               # 6
         if self.rejected < COUNT_MAX:
             self.rejected += 1
         raise ReadingError(msg, reason)
