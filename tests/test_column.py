@@ -990,6 +990,10 @@ def test_checkpoint_every_bit_flip_and_truncation_is_detected():
                  b"PK\x03\x04" + blob[4:]):
         with pytest.raises(CheckpointError):
             Column.from_bytes(junk)
+    # an int is not a blob (bytes(n) would build n zero bytes: 10**12 of them)
+    for junk in (10 ** 12, 2 ** 70, True, -1):
+        with pytest.raises(CheckpointError, match="not bytes"):
+            Column.from_bytes(junk)
     future = bytearray(blob)
     future[4] = column_mod._VERSION + 1
     future[-4:] = struct.pack("<I", checkpoint.crc32(bytes(future[:-4])))

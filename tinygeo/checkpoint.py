@@ -88,7 +88,10 @@ def pack(magic, version, floats, ints):
 def unpack(blob, magic, version, n_floats, n_ints, what):
     """The (floats, ints) lists of a blob written by ``pack`` with this magic,
     version and counts; CheckpointError (naming ``what``) otherwise."""
+    # bytes-like only: bytes(n) of an int would build n zero bytes
     try:
+        if isinstance(blob, (int, str)):
+            raise TypeError
         blob = bytes(blob)
     except (TypeError, ValueError):
         raise CheckpointError("%s checkpoint is %s, not bytes; pass what to_bytes() returned"
