@@ -23,6 +23,7 @@ import ast
 import math
 import os
 import random
+import struct
 import sys
 
 import mpmath as mp
@@ -314,7 +315,8 @@ BAD = [  # (p, t, rh, time offset from the latest stamp or None, reason) -- cons
     (0.0, 285.0, 0.8, 1, "humidity"),                # a 0..1 fraction: a 79 % step
     (0.0, 285.0, 110.0, 1, "humidity"),
     (0.0, 285.0, float("nan"), 1, "number"),
-    (0.0, 285.0, 80.0, -5, "time"),                  # time goes back
+    (0.0, 285.0, 80.0, -5000, "time"),               # time goes back beyond the clock step
+    (0.0, 285.0, 80.0, 5000, "time"),                # a stamp ahead beyond the clock step
     (0.0, 285.0, 80.0, None, "time"),                # no time
     (0.0, 285.0, 80.0, "x", "number"),               # a time that is not a number
     (0.0, 285.0, 80.0, float("nan"), "number"),
@@ -408,7 +410,9 @@ def test_messages_name_the_argument_and_the_fix():
     cases = [((1005.0, 285.0, 80.0, 101), "hPa or mbar passed"),
              ((100500.0, 12.0, 80.0, 101), "Celsius"),
              ((100500.0, 285.0, 0.5, 101), "rh_pct=0.5 steps"),
-             ((100500.0, 285.0, 80.0, 99), "clock set back"),
+             ((100500.0, 285.0, 80.0, 100 - 2401), "clock set back"),
+             ((100500.0, 285.0, 80.0, 100 + 2401), "2401 s after the latest accepted "
+              "reading's 100, beyond the clock step of 2400 s"),
              ((100500.0, 285.0, 80.0, None), "time_s is required"),
              ((101200.0, 285.0, 80.0, 101), "p_pa=101200.0 steps +700 Pa in 1 s"),
              ((70000.0, 285.0, 80.0, 101), "pressure altitude"),
@@ -423,6 +427,12 @@ def test_messages_name_the_argument_and_the_fix():
 def _steady(s, n, t0=0, p0=100000.0):
     for i in range(n):
         s.feed(p0 + 0.01 * i, 285.0 + 0.001 * i, 80.0 + 0.001 * i, t0 + i)
+
+
+def _go_on(s, i0, n, shift):
+    # readings i0 .. i0 + n - 1 of _steady's series, stamped i + shift
+    for i in range(i0, i0 + n):
+        s.feed(100000.0 + 0.01 * i, 285.0 + 0.001 * i, 80.0 + 0.001 * i, i + shift)
 
 
 def test_a_genuine_jump_is_followed_and_a_spike_is_not():
@@ -531,6 +541,70 @@ def test_a_clock_set_back_restarts_after_takeover_readings():
     # it goes on, on the new clock
     _steady(s, 1200, base + 3)
     assert s.averages == 2
+
+
+def test_a_small_clock_step_back_is_held_and_keeps_the_history():
+    # a clock corrected back 20 minutes after 4 hours (within the clock step
+    # max_gap_s + average_s = 2400 s): the readings are taken at the latest
+    # stamp until the clock passes it (FL_CLOCK_HELD); nothing rejected, the
+    # averages, tendency and 24 h ring go on (constructed)
+    s = Station(3.5, 54.2, 600)
+    _steady(s, 4 * 3600)
+    t3 = s.tendency_3h_pa
+    assert t3 == t3 and s.averages == 23
+    _go_on(s, 4 * 3600, 3000, -1200)
+    assert s.rejected == 0 and s.count == 4 * 3600 + 3000
+    held = s.flags
+    assert s.averages >= 25 and s.tendency_3h_pa == s.tendency_3h_pa
+    # the average the held readings went into carries the flag, later ones not
+    seen = []
+    s2 = Station(3.5, 54.2, 600, on_event=lambda st, bits: seen.append(st.flags))
+    _steady(s2, 4 * 3600)
+    _go_on(s2, 4 * 3600, 3000, -1200)
+    assert any(f & S.FL_CLOCK_HELD for f in seen) and not seen[-1] & S.FL_CLOCK_HELD
+    assert held == seen[-1]
+
+
+def test_a_stamp_far_ahead_is_refused_and_the_next_good_reading_clears_it():
+    # one stamp an hour ahead (beyond the 2400 s clock step): refused; the
+    # readings after it agree with the station and go on; the history is kept
+    # (the attack that wiped 24 h: constructed)
+    a = Station(3.5, 54.2, 600)
+    b = Station(3.5, 54.2, 600)
+    _steady(a, 5 * 3600)
+    _steady(b, 5 * 3600)
+    with pytest.raises(ReadingError) as e:
+        a.feed(100180.0, 286.8, 98.0, 5 * 3600 + 3600)
+    assert e.value.reason == "time" and "beyond the clock step" in str(e.value)
+    for i in range(5 * 3600, 6 * 3600):
+        r = (100000.0 + 0.01 * i, 285.0 + 0.001 * i, 80.0 + 0.001 * i, i)
+        assert a.feed(*r) == b.feed(*r)
+    assert a.tendency_3h_pa == b.tendency_3h_pa and a.tendency_3h_pa == a.tendency_3h_pa
+    assert a.averages == b.averages == 35
+
+
+def test_after_a_long_outage_the_third_reading_goes_on_with_a_gap():
+    # 3 hours without readings (beyond the 2400 s clock step): two readings
+    # refused, the third goes on; the missing averages are a gap, no restart
+    s = Station(3.5, 54.2, 600)
+    _steady(s, 3600)
+    for i in (3600, 3601):
+        with pytest.raises(ReadingError):
+            s.feed(100000.0 + 0.01 * i, 285.0 + 0.001 * i, 80.0 + 0.001 * i, i + 3 * 3600)
+    _go_on(s, 3602, 1, 3 * 3600)
+    assert s.averages == 6 and s.count == 3601
+    _go_on(s, 3603, 600, 3 * 3600)
+    assert s.flags & S.FL_GAP and s.missing == 18 and s.averages == 7
+
+
+def test_time_stamps_beyond_2_62_are_refused_int_or_float():
+    s = Station(3.5, 54.2, 600)
+    _steady(s, 10)
+    for bad in (2 ** 62, -2 ** 62, 1e308, -1e308, 4.7e18):
+        with pytest.raises(ReadingError) as e:
+            s.feed(100000.1, 285.0, 80.0, bad)
+        assert e.value.reason == "number" and "2**62" in str(e.value)
+    assert s.count == 10
 
 
 @pytest.mark.parametrize("n", [2, 5])
@@ -1167,3 +1241,46 @@ def test_buoy_logger_typechecks_against_micropython_stubs():
                         os.devnull, str(BUOY)], capture_output=True, text=True, cwd=str(ROOT),
                        timeout=300)
     assert p.returncode == 0, p.stdout + p.stderr
+
+
+def _fuzz_values(name, v):
+    if isinstance(v, int) and not isinstance(v, bool):
+        return (0, -1, 2 ** 31 - 1, -2 ** 31)
+    return (0.0, -0.0, 1e300, -1e300, float("nan"), 5e-324)
+
+
+@pytest.mark.parametrize("mean12", [False, True])
+def test_crafted_checkpoints_are_refused_or_harmless(mean12):
+    # every saved field set to extreme values in a blob with a valid CRC (as a
+    # hostile or buggy writer could make): from_bytes refuses it
+    # (CheckpointError), or the station then takes 200 readings and
+    # checkpoints again with only ReadingError rejections (constructed; the
+    # attack found math domain errors and struct errors here)
+    base = Station(3.5, 54.2, 600, mean12=mean12)
+    _steady(base, 2000)
+    names = list(S._ST_F) + list(S._TS_F) + list(S._ST_I)
+    refused = survived = 0
+    for name in names:
+        for v in _fuzz_values(name, getattr(base, name)):
+            st = Station.from_bytes(base.to_bytes())
+            setattr(st, name, v)
+            try:
+                blob = st.to_bytes()
+            except (struct.error, OverflowError, TypeError, ValueError):
+                continue     # not a value a blob can hold
+            try:
+                r = Station.from_bytes(blob)
+            except CheckpointError:
+                refused += 1
+                continue
+            for i in range(2000, 2200):
+                try:
+                    r.feed(100000.0 + 0.01 * i, 285.0 + 0.001 * i, 80.0 + 0.001 * i, i)
+                except ReadingError:
+                    pass
+            r.to_bytes()
+            for a in ("p_pa", "mslp_pa", "tendency_3h_pa", "t_k", "dew_point_k"):
+                x = getattr(r, a)
+                assert x != x or abs(x) < 1e6, (name, v, a, x)
+            survived += 1
+    assert refused > 50 and survived > 50

@@ -160,10 +160,14 @@ until known)
     table 0200; see "Tendency"), or None.
   change_24h_pa: p_pa minus the average 24 hours earlier, Pa.
   flags: the FL_* bits of the latest average (below).
-  gap_s: the missing time just before the latest average, s (0: none).
-  average_readings: the accepted readings that fell in the latest average.
+  gap_s: the missing time just before the latest average, s (0: none; stops
+    at COUNT_MAX, 34 years).
+  average_readings: the accepted readings that fell in the latest average
+    (at most COUNT_MAX: a reading beyond that in one average is refused as
+    'time', a clock that is stuck).
   count, rejected: readings accepted and rejected (stop at COUNT_MAX).
-  averages, missing: averages completed, and averages missing in gaps.
+  averages, missing: averages completed, and averages missing in gaps (stop
+    at COUNT_MAX).
   Every setting is an attribute of the same name.
 
 Events (bits returned by feed): EV_AVERAGE 1 (an average completed: the
@@ -180,20 +184,34 @@ the trace has a gap longer than max_gap_s), FL_NO_T12 32 (mean12 set but no
 temperature 12 hours earlier: the reduction used the latest one), FL_FEW 64
 (a quantity had fewer than min_readings readings: nan in this average),
 FL_TAKEOVER 128 (readings that contradicted the latest accepted one by a
-step took over during this average: a sensor's real jump).
+step took over during this average: a sensor's real jump), FL_CLOCK_HELD
+256 (readings stamped before the latest accepted one, by no more than the
+clock step, were taken at the latest stamp in this average; see "Recovery").
 
 Recovery
 --------
-A reading that goes back in time or steps beyond the allowance is rejected,
-and remembered: readings in a row that contradict the latest accepted one
+Clock steps: the clock step is max_gap_s + average_s (2400 s by default: the
+longest gap the tendency bridges, plus the average it ends in). A reading
+stamped before the latest accepted one by no more than that is taken at the
+latest stamp (FL_CLOCK_HELD) until the clock passes it: a clock corrected
+back by a few minutes, or the readings after one stamp that ran ahead, keep
+the station and its 24 hours of history. A reading stamped further back, or
+more than the clock step after the latest accepted one (a stamp far ahead,
+or a long outage), is rejected as 'time'.
+
+A reading that goes back in time beyond the clock step, jumps ahead beyond
+it, or steps beyond the allowance is rejected, and remembered: readings in a row that contradict the latest accepted one
 and agree with each other (each one with the one before it, by the same
 checks) form a run; after takeover_readings (3, 2..100) of them the run is
 followed, so no station locks. A run that began by going back in time (a
 clock set back) or that outnumbers what the station accepted (a bad first
 reading) restarts the station from its latest reading (EV_RESTART: the
 averages, the tendency and its history start afresh; count and rejected go
-on); a run of steps after that (a sensor that really jumped) is accepted from
-its latest reading on into the average being built (FL_TAKEOVER). A single
+on); a run that began by jumping ahead (the first readings after a long
+outage) goes on from its latest reading, the averages in between missing
+(FL_GAP; a restart if the jump is beyond 2**30 averages); a run of steps
+(a sensor that really jumped) is accepted from its latest reading on into
+the average being built (FL_TAKEOVER). A single
 bad reading never forms a run: the next good reading agrees with the latest
 accepted one and clears it. Checkpoints keep the run.
 
@@ -301,6 +319,7 @@ FL_TREND_GAP = 16
 FL_NO_T12 = 32
 FL_FEW = 64
 FL_TAKEOVER = 128
+FL_CLOCK_HELD = 256
 EV_RESTART = 8
 
 P_MIN_PA = 40000.0
@@ -461,12 +480,17 @@ _ST_I = ("count", "rejected", "averages", "missing", "flags", "_code", "gap_s",
          "_runp", "_runt", "_runr", "_inp", "_int", "_inr", "_nslot", "_t0_int", "_t0_hi",
          "_t0_lo", "_run", "_rn_time")
 _RESTORE = ("count 0 1073741823;rejected 0 1073741823;averages 0 1073741823;"
-            "missing 0 1073741823;flags 0 255;_code -1 8;gap_s 0 *;average_readings 0 *;"
-            "_k -1 *;_kring -1 *;_klast -1 *;_np 0 *;_nt 0 *;_nr 0 *;_sflags 0 255;"
-            "_runp 0 *;_runt 0 *;_runr 0 *;_inp 0 *;_int 0 *;_inr 0 *;_nslot 0 *;"
+            "missing 0 1073741823;flags 0 511;_code -1 8;gap_s 0 1073741823;"
+            "average_readings 0 1073741823;"
+            "_k -1 1073741823;_kring -1 1073741823;_klast -1 1073741823;_np 0 1073741823;"
+            "_nt 0 1073741823;_nr 0 1073741823;_sflags 0 511;_t0_hi -1073741824 1073741823;"
+            "_runp 0 1073741823;_runt 0 1073741823;_runr 0 1073741823;_inp 0 1073741823;"
+            "_int 0 1073741823;_inr 0 1073741823;_nslot 0 1073741823;"
             "p_pa 40000 115000 n;t_k 180 340 n;rh_pct -3 103 n;mslp_pa 0 200000 n;"
-            "_lp 40000 115000 n;_lt 180 340 n;_lrh -3 103 n;_run 0 99;_rn_time 0 1;"
-            "_rn_p 40000 115000 n;_rn_t 180 340 n;_rn_rh -3 103 n")
+            "_lp 40000 115000 n;_lt 180 340 n;_lrh -3 103 n;_run 0 99;_rn_time 0 2;"
+            "_rn_p 40000 115000 n;_rn_t 180 340 n;_rn_rh -3 103 n;dew_point_k 100 340 n;"
+            "qnh_pa 0 200000 n;iso_gph_m -2000 12000 n;tendency_3h_pa -20000 20000 n;"
+            "change_24h_pa -75000 75000 n;_rp 40000 115000 n;_rt 180 340 n;_rr -3 103 n")
 _MAGIC = b"TGST"
 _VERSION = 2
 
@@ -547,6 +571,7 @@ class Station:
         self._ts_step = INF if self.max_t_step_k is None else self.max_t_step_k
         self._rs = INF if self.max_rh_step_pct is None else self.max_rh_step_pct
         self._stuck = 0 if self.stuck_readings is None else self.stuck_readings
+        self._clock_s = self.max_gap_s + self._avg   # the clock step (see "Recovery")
         self._m3 = THREE_H_S // self._avg          # averages in 3 hours
         self._n = DAY_S // self._avg + 1            # ring: 24 hours and the latest
         self._n12 = 43200 // self._avg + 1
@@ -641,7 +666,7 @@ class Station:
         ts = time_s
         if isinstance(ts, bool) or not isinstance(ts, int):
             ts = self._num(time_s, "time_s", "s")   # ints stay ints (exact at any size)
-        elif not _TS_MIN < ts < _TS_MAX:
+        if not _TS_MIN < ts < _TS_MAX:
             self._bad("number", 0, "time_s", quote(time_s), "s within +-2**62")
         if not self._p_lo <= p <= self._p_hi:
             from .errors import pressure_hint
@@ -652,7 +677,11 @@ class Station:
         # it joins the recovery run, which takes over after takeover_readings
         # readings in a row (see "Recovery")
         restart = 0
+        held = 0
         if self.count:
+            if ts < self._ts and self._ts - ts <= self._clock_s:
+                ts = self._ts      # a small clock step back: held (see "Recovery")
+                held = 1
             why = self._against(p, t, rh, ts, self._lp, self._lt, self._lrh, self._ts, self._tsrh)
             if why:
                 restart = self._contradicts(why, p, t, rh, ts)
@@ -673,6 +702,8 @@ class Station:
             k = k // self._avg
         else:
             k = int(k // self._avg)
+        if k == self._k and self._nslot >= COUNT_MAX:
+            self._bad("time", 8, quote(time_s))
         bits = 0
         if k != self._k:
             if self._k >= 0:
@@ -681,6 +712,8 @@ class Station:
         if restart == 2:
             # a sensor's real jump: flagged on the average it goes into
             self._sflags |= FL_TAKEOVER
+        if held:
+            self._sflags |= FL_CLOCK_HELD
         self._add(p, t, rh)
         self._ts = ts
         if rh == rh:
@@ -701,7 +734,9 @@ class Station:
         # allowance; else why not: the arguments of _bad
         dt = ts - lts
         if dt < 0:
-            return ("time", 5, quote(ts), lts)
+            return ("time", 5, quote(ts), lts, self._clock_s)
+        if dt > self._clock_s:
+            return ("time", 7, quote(ts), dt, lts, self._clock_s)
         d = p - lp
         if d > self._ps or d < -self._ps:
             allow = self._ps + self.max_p_rate_pa_s * dt
@@ -734,7 +769,8 @@ class Station:
             self._run += 1
         else:
             self._run = 1
-            self._rn_time = 1 if why[0] == "time" else 0
+            # 1: began going back in time, 2: jumping ahead, 0: a step
+            self._rn_time = (1 if why[1] == 5 else 2) if why[0] == "time" else 0
             self._rn_tsrh = None
         self._rn_p = p
         self._rn_t = t
@@ -745,8 +781,13 @@ class Station:
         if self._run < self.takeover_readings:
             self._bad(why[0], why[1], *why[2:])
         self._run = 0
-        if self._rn_time or self.count <= self.takeover_readings:
+        if self._rn_time == 1 or self.count <= self.takeover_readings:
             return 1
+        if self._rn_time == 2:
+            # after a long outage: go on with the averages in between missing,
+            # unless the slot number would leave what a checkpoint holds
+            k = (ts - self._t0 + self._phase) // self._avg
+            return 1 if k > COUNT_MAX else 0
         return 2
 
     def _num(self, x, name, unit):
@@ -892,7 +933,7 @@ class Station:
             bits |= EV_GAP
             self.missing = min(self.missing + gap, COUNT_MAX)
         self._klast = k
-        self.gap_s = gap * self._avg
+        self.gap_s = min(gap * self._avg, COUNT_MAX)   # saturates (34 years)
         self.average_readings = self._nslot
         if self.averages < COUNT_MAX:
             self.averages += 1
@@ -969,10 +1010,16 @@ class Station:
                "|time_s is required (seconds, int or float, any origin)"  # 3
                "|p_pa=%s is at pressure altitude %.0f gpm, not within %.0f +- %g gpm of the "
                "barometer; %s"                                            # 4
-               "|time_s=%s before the latest accepted reading's %s; time must not decrease "
-               "(clock set back? takeover_readings in a row restart the station)"  # 5
+               "|time_s=%s before the latest accepted reading's %s by more than the clock "
+               "step of %g s; time must not decrease (clock set back? takeover_readings "
+               "in a row restart the station)"                            # 5
                "|%s=%s steps %+.3g %s in %s s, beyond the %.3g allowed; spike? (%s=None "
-               "turns this check off)").split("|")[i] % args               # 6
+               "turns this check off)"                                     # 6
+               "|time_s=%s is %.0f s after the latest accepted reading's %s, beyond the "
+               "clock step of %g s (max_gap_s + average_s); a stamp ahead, or a long "
+               "outage: takeover_readings in a row go on from it"         # 7
+               "|time_s=%s: 2**30 readings in one average; is the clock stuck?"  # 8
+               ).split("|")[i] % args
         if self.rejected < COUNT_MAX:
             self.rejected += 1
         raise ReadingError(msg, reason)
@@ -1089,6 +1136,13 @@ class Station:
                 st._ring_t[r] = v
                 i += 1
         check_values(st, _RESTORE, "station")
+        # the sums of the average being built: deviations from its first
+        # reading, so at most the count times the widest range
+        if not (abs(st._sp) <= st._np * 80000.0 and abs(st._cp) <= abs(st._sp) + 1.0
+                and abs(st._st) <= st._nt * 200.0 and abs(st._sr) <= st._nr * 110.0) \
+                and st._k >= 0:
+            raise CheckpointError("station checkpoint holds sums its counts cannot reach; not "
+                                  "written by this tinygeo")
         if (st.count > 0) != (t0 is not None) or (st.count > 0) != (st._ts is not None) \
                 or st._k < st._kring or st._kring < st._klast:
             raise CheckpointError("station checkpoint holds an inconsistent clock; not written "

@@ -320,8 +320,11 @@ def gap_stuck():
     d = Doc("gap_stuck", """\
 A station 2 m up at 45 N, readings every 60 s (10 per 600 s average), the
 pressure falling 0.01 Pa/s with a 3 Pa wiggle, stuck_readings 15. An hour
-without readings (averages 24-29 missing) is flagged on the first average
-after it (FL_GAP, EV_GAP, gap_s 3600); the tendency is the difference of two
+without readings (averages 24-29 missing): the first two readings after it
+lie beyond the clock step (max_gap_s + average_s = 2400 s) and are refused
+as 'time', the third agrees with them and the station goes on (takeover
+after an outage); the gap is flagged on the first average after it (FL_GAP,
+EV_GAP, gap_s 3600); the tendency is the difference of two
 averages and is given across the gap when both ends exist, but the
 characteristic needs a trace without a run of missing averages longer than
 max_gap_s (1800 s): FL_TREND_GAP until the 3-hour window is clear of the
@@ -352,6 +355,11 @@ was known). Then the humidity sticks for 20 readings (averages 60-61).""")
             if stuck_rh is None:
                 stuck_rh = rh
             rh = stuck_rh
+        if t in (18030, 18090):
+            d.reading(p, tk, rh, t)
+            d.expect("reject time", "constructed: %d s after the latest reading, beyond the "
+                     "2400 s clock step" % (t - 14370))
+            continue
         slots.setdefault(k, []).append((p, tk, rh))
         d.reading(p, tk, rh, t)
         first = len(slots[k]) == 1
@@ -463,7 +471,8 @@ average), so the checks do not lock the station. Last, the clock is set back
             bad = [(repr(p), tk, "0.8", t, "humidity", "a 0..1 fraction: a 79 % step"),
                    (repr(p), tk, "150.0", t, "humidity", "out of range")]
         if i == 33:
-            bad = [(repr(p), tk, rh, t - 15, "time", "time goes back"),
+            bad = [(repr(p), tk, rh, t - 2500, "time", "time goes back 2500 s, beyond the "
+                    "clock step of 2100 s (max_gap_s 1800 + average_s 300)"),
                    (repr(p), tk, rh, "-", "time", "no time"),
                    (repr(p), tk, rh, "true", "number", "a bool is not a number")]
         for bp, bt, brh, bts, reason, why in bad:
@@ -484,10 +493,19 @@ average), so the checks do not lock the station. Last, the clock is set back
             d.expect("noflag FL_TAKEOVER", "constructed: no jump in 0..300 s")
         if i == 60:
             d.expect("flag FL_TAKEOVER", "constructed: the average of 300..600 s holds the jump")
+            d.expect("flag FL_CLOCK_HELD", "constructed: and the held reading")
         if i == 90:
             d.expect("noflag FL_TAKEOVER", "constructed: no jump in 600..900 s")
+            d.expect("noflag FL_CLOCK_HELD", "constructed")
         n_good += 1
         good.setdefault(t // 300, []).append((p, tk, rh))
+        if i == 35:
+            # the same reading stamped 15 s back (a clock corrected back, within
+            # the clock step): taken at the latest stamp, into this average
+            d.reading(p, tk, rh, t - 15)
+            d.expect("accept", "constructed: 15 s back is within the 2100 s clock step: held")
+            n_good += 1
+            good[t // 300].append((p, tk, rh))
         if i % 30 == 0 and i:
             sl = good[t // 300 - 1]
             d.value("p_pa", mean([r[0] for r in sl]), 1e-8,

@@ -32,7 +32,8 @@ when any check failed. ``run_file(path)`` returns (checks, failures).
 import sys
 
 FLAGS = {"FL_STUCK_P": 1, "FL_STUCK_T": 2, "FL_STUCK_RH": 4, "FL_GAP": 8, "FL_TREND_GAP": 16,
-         "FL_NO_T12": 32, "FL_FEW": 64, "FL_TAKEOVER": 128}
+         "FL_NO_T12": 32, "FL_FEW": 64, "FL_TAKEOVER": 128,
+         "FL_CLOCK_HELD": 256}
 
 
 def _value(w):
