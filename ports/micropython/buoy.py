@@ -24,8 +24,9 @@ What it shows:
   24-hour change (hPa), temperature, humidity, dew point (degC, %), QC flags
   and the readings in the average; when the QC flags of an average change,
   a ``qc`` line at any average;
-- a clock set back: its first readings are 'time' rejections, then the
-  station restarts itself on the new clock (``EV_RESTART``, after
+- a clock set back by more than the station's clock step (max_gap_s +
+  average_s; smaller steps are absorbed): its first readings are 'time'
+  rejections, then the station restarts itself on the new clock (``EV_RESTART``, after
   ``takeover_readings`` readings in a row; the averages of the old clock
   cannot be placed on it) and the logger prints a ``restart`` line;
 - checkpoints: every ``CHECKPOINT_EVERY`` readings and after each report,
