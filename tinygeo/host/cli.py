@@ -224,9 +224,9 @@ def _add_station(p):
     q.add_argument("--max-t-rate", type=float, metavar="K_S",
                    help="temperature rate, K/s (default %g)" % d("max_t_rate_k_s"))
     q.add_argument("--max-rh-step", type=_station_limit, metavar="PCT",
-                   help="humidity step, %% (default %g)" % d("max_rh_step_pct"))
+                   help="humidity step, %%%% (default %g)" % d("max_rh_step_pct"))
     q.add_argument("--max-rh-rate", type=float, metavar="PCT_S",
-                   help="humidity rate, %%/s (default %g)" % d("max_rh_rate_pct_s"))
+                   help="humidity rate, %%%%/s (default %g)" % d("max_rh_rate_pct_s"))
     q.add_argument("--guard", type=_station_limit, metavar="M",
                    help="a pressure whose pressure altitude lies farther than this from the "
                         "station's height is rejected, m (default %g)" % d("guard_m"))

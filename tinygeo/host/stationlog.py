@@ -115,6 +115,8 @@ def station_setup(a, reader):
                 raise UsageError("%s none: this setting needs a number of %s"
                                  % (option_name(opt), unit))
             v = None
+        elif key == "average_s" and v == int(v):
+            v = int(v)
         elif unit == "readings":
             if v != int(v):
                 raise UsageError("%s %g: give a whole number of readings" % (option_name(opt), v))
