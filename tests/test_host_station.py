@@ -441,6 +441,25 @@ def test_stdin_streams_and_the_help_lists_the_flags():
         assert words in out, words
 
 
+def test_readme_shows_the_table_and_summary_as_the_command_prints_them(monkeypatch):
+    # the README's "Stations and buoys" block: every line but '...' is a line
+    # of 'tinygeo station examples/buoy_day.csv' (run from the repository root)
+    doc = (ROOT / "README.md").read_text()
+    doc = doc[doc.index("## Stations and buoys"):]
+    start = doc.index("```text\n" + record.STATION_MAGIC) + len("```text\n")
+    block = doc[start:doc.index("```", start)].strip().splitlines()
+    monkeypatch.chdir(ROOT)
+    rc, out, err = main(["station", "examples/buoy_day.csv"])
+    assert rc == 0
+    lines = out.splitlines()
+    assert len(block) >= 20 and block[:7] == lines[:7]
+    for line in block:
+        assert line == "..." or line in lines, line
+    assert "tinygeo station examples/buoy_day.csv -o buoy_day.tsv && tinygeo plot buoy_day.tsv " \
+           "-o examples/buoy_day.png" in doc
+    assert (ROOT / "examples" / "buoy_day.png").read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+
+
 # ================================================================ the table round trip
 def test_table_round_trip_against_a_station_fed_in_process(buoy):
     # the table's rows, read back, are the Station's attributes after each

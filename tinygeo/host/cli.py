@@ -398,7 +398,8 @@ def build_parser():
     pl.add_argument("input", help="replay table, raw log, or station table")
     pl.add_argument("-o", "--out", metavar="FILE", required=True,
                     help="image file, .png, .svg or .pdf")
-    pl.add_argument("--title", help="figure title (default: the input's name)")
+    pl.add_argument("--title", help="figure title (default: the input's name; for a station "
+                                    "table the log it was made from)")
     pl.add_argument("--dpi", type=int, default=100, help="PNG resolution, dots per inch (100)")
     _add_mapping(pl)
     _add_site(pl)

@@ -281,8 +281,9 @@ class StationData:
     (Points of (time_s, flags) of the averages with flags), ``gaps``
     (time_s pairs bounding missing averages, at most MAX_POINTS),
     ``summary`` (stationlog.Summary of every row), ``average_s``,
-    ``height_m``, ``lat_deg`` (nan when the table does not say) and ``epoch``
-    (time_s counts from 1970-01-01T00:00:00Z)."""
+    ``height_m``, ``lat_deg`` (nan when the table does not say), ``epoch``
+    (time_s counts from 1970-01-01T00:00:00Z) and ``source`` (the log named
+    in the ``# input`` line, or None)."""
 
     def __init__(self, dev):
         words = dev.station
@@ -290,6 +291,7 @@ class StationData:
         self.height_m = _f(words, "height_m")
         self.lat_deg = _f(words, "lat_deg")
         self.epoch = dev.time_origin == stationlog.EPOCH
+        self.source = dev.input.get("source")      # the log 'tinygeo station' read
         self.summary = stationlog.Summary(self.epoch)
         self.pts = Points()
         self.flagged = Points()
@@ -502,7 +504,7 @@ def run(a, stdin, stdout, stderr):
         raise table.TableError("%s: no rows to plot" % name)
     if station is not None:
         def render(path):
-            draw_station(station, path, a.title or name, a.dpi, fmt)
+            draw_station(station, path, a.title or station.source or name, a.dpi, fmt)
     else:
         records = []
         for line in summary.lines():
