@@ -213,8 +213,9 @@ def _add_station(p):
                         "below)")
     g.add_argument("--ice", action="store_true", help="humidity is over ice below 0 degC")
     q = p.add_argument_group(
-        "quality control", "a reading that steps beyond step + rate x (time since the latest "
-                           "accepted reading) is rejected; 'none' switches a step check off")
+        "quality control", "a reading that steps beyond step + rate x (the time since the latest\n"
+                           "accepted reading) is rejected; 'none' switches off a step check,\n"
+                           "--guard or --stuck")
     q.add_argument("--max-p-step", type=_station_limit, metavar="PA",
                    help="pressure step, Pa (default %g)" % d("max_p_step_pa"))
     q.add_argument("--max-p-rate", type=float, metavar="PA_S",
