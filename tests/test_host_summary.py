@@ -248,13 +248,42 @@ def test_a_log_that_never_rises_points_to_the_station_command():
     lines = ["# lat_deg=47.3 start_height_m=420", "time_s,pressure_hpa,temp_c,rh_pct"]
     lines += ["%d,%.2f,%.2f,60.0" % (60 * i, 964.5 + 0.3 * math.sin(i / 50.0), 11.0)
               for i in range(300)]
-    rc, out, err = main(["replay", "-"], "\n".join(lines) + "\n")
+    text = "\n".join(lines) + "\n"
+    rc, out, err = main(["replay", "-"], text)
     assert rc == 0, err
     note = [ln for ln in err.splitlines() if "looks like a fixed station" in ln]
-    assert len(note) == 1 and "'tinygeo station'" in note[0]
+    # the note names the exact command: the log's comments give the latitude,
+    # its start height is the station's height (no height_m= in them)
+    assert len(note) == 1 and note[0].endswith("run:  tinygeo station - --height 420"), note
     assert records(out, "no_launch")
+    # ... and that command runs: 5 h of 1-minute readings, 10-minute averages
+    rc, out, err = main(note[0].split("run:  tinygeo ")[1].split(), text)
+    assert rc == 0, err
+    assert out.startswith("# tinygeo station table 1\n")
+    assert records(out, "averages")[0][0]["count"] == "29"     # 00:10 .. 04:50
     rc, out, err = main(["replay", EXAMPLE])
     assert "station" not in err
+
+
+def test_the_station_note_names_the_mapping_and_a_height_to_fill_in():
+    # a log with no comments (start height 0 m), mapping options and a
+    # delimiter; the buoy day (its comments carry height_m= and lat_deg=)
+    lines = ["t;p;temp"] + ["%d;%.2f;%.2f" % (60 * i, 1012.0 + 0.1 * math.sin(i / 9.0), 11.0)
+                            for i in range(200)]
+    rc, out, err = main(["replay", "-", "--pressure", "p:hPa", "--temperature", "temp:C",
+                         "--time", "t:s", "--delimiter", ";", "--lat", "50"],
+                        "\n".join(lines) + "\n")
+    assert rc == 0, err
+    note, = [ln for ln in err.splitlines() if "looks like a fixed station" in ln]
+    assert note.endswith("run:  tinygeo station - --pressure p:hPa --temperature temp:C --time t:s "
+                         "--delimiter ';' --lat 50 --height M  (M: the barometer's height above "
+                         "mean sea level, m)"), note
+    # the buoy day: the column takes its heave and the falling pressure for a
+    # launch and floats, but the log rises less than STATION_SPAN_M, slowly
+    rc, out, err = main(["replay", ROOT / "examples" / "buoy_day.csv", "--quiet"])
+    assert rc == 0, err
+    note, = [ln for ln in err.splitlines() if "looks like a fixed station" in ln]
+    assert note.endswith("run:  tinygeo station %s" % (ROOT / "examples" / "buoy_day.csv")), note
 
 
 def test_dew_point_is_the_inverse_magnus_form():

@@ -1215,10 +1215,12 @@ def test_buoy_slot_write_failure_is_retried(tmp_path, capsys):
     assert slots.failures == 1 and slots.next == 1 and slots.load()[0] == 2
 
 
-def test_docs_draft_quotes_the_logger_as_it_prints(buoy_runs):
-    # docs_station.md shows lines of the buoy logger's output: each must be
-    # printed exactly so by the logger (MicroPython run)
-    doc = (ROOT / "docs_station.md").read_text()
+def test_readme_quotes_the_logger_as_it_prints(buoy_runs):
+    # the README's "Stations and buoys" section shows lines of the buoy
+    # logger's output: each must be printed exactly so by the logger
+    # (MicroPython run)
+    doc = (ROOT / "README.md").read_text()
+    doc = doc[doc.index("## Stations and buoys"):]
     start = doc.index("```\nreport ")
     block = doc[start + 4:doc.index("```", start + 4)].strip().splitlines()
     out = buoy_runs["micropython"].splitlines()

@@ -41,6 +41,14 @@ What it shows:
   restored; the blob has its own frame and CRC as well. At start the newest
   good slot is restored and the first line says so. A write that fails is
   reported and retried at the next checkpoint, into the same slot.
+- with ``--table PATH`` (``TABLE`` below) every completed average is also
+  written as a row of tinygeo's station table (tinygeo/record.py: the layout
+  ``tinygeo station`` writes and ``tinygeo plot`` draws), flushed, and a
+  checkpoint follows each row, so a resumed log appends to its table
+  without repeating rows (a power cut between a row and its checkpoint
+  repeats that one row, with the same time_s and values). The end record
+  closes the table when the log ends. Draw it on the host with
+  ``tinygeo plot PATH -o day.png``.
 
 NOT for aviation: QNH here is computed for the barometer's height; altimeter
 settings for aircraft come from an aerodrome's certified instruments and its
@@ -60,6 +68,7 @@ LOG = "buoy_day.csv"           # the replayed log (the "sensor" of this example)
 CHECKPOINT = "buoy.ckpt"       # slot files buoy.ckpt.0 and buoy.ckpt.1
 CHECKPOINT_EVERY = 600         # readings between checkpoints (and after each report)
 STOP_AFTER = 0                 # stop after this many readings, no final checkpoint (0 = never)
+TABLE = ""                     # a file for the station table of tinygeo/record.py ("" = none)
 
 MAGIC = b"TGBY"
 _HEAD = "<II"
@@ -195,7 +204,7 @@ def new_station():
 
 def options(argv):
     opts = {"log": LOG, "checkpoint": CHECKPOINT, "checkpoint-every": CHECKPOINT_EVERY,
-            "stop-after": STOP_AFTER}
+            "stop-after": STOP_AFTER, "table": TABLE}
     i = 0
     while i < len(argv):
         name = argv[i][2:] if argv[i].startswith("--") else ""
@@ -205,6 +214,20 @@ def options(argv):
         opts[name] = argv[i + 1] if isinstance(opts[name], str) else int(argv[i + 1])
         i += 2
     return opts
+
+
+def table_rows(path):
+    # the rows already in a table file (a resumed log appends to it)
+    n = 0
+    try:
+        f = open(path)
+    except OSError:
+        return 0
+    for line in f:
+        if line[0] != "#" and not line.startswith("time_s"):
+            n += 1
+    f.close()
+    return n
 
 
 def run(opts):
@@ -224,6 +247,17 @@ def run(opts):
     stop_after = opts["stop-after"]
     taken = 0
     saved = -1
+    table = None
+    rows = 0
+    if opts["table"]:
+        from tinygeo import record     # loaded only when a table is written
+        if got is None:
+            table = open(opts["table"], "w")
+            table.write(record.STATION_MAGIC + "\n" + record.station_line(st) + "\n" +
+                        record.station_header(st) + "\n")
+        else:
+            rows = table_rows(opts["table"])
+            table = open(opts["table"], "a")
     while sensor.read():
         taken += 1
         index = sensor.index - 1
@@ -240,6 +274,11 @@ def run(opts):
                 print(qc_line(st))
             if st.time_s % 3600 == 0:
                 print(report_line(st))
+            if table is not None:
+                table.write(record.station_row(st) + "\n")
+                table.flush()
+                rows += 1
+            if table is not None or st.time_s % 3600 == 0:
                 slots.save(sensor.index, st)
                 saved = sensor.index
         if every and sensor.index % every == 0 and saved != sensor.index:
@@ -247,9 +286,14 @@ def run(opts):
         if stop_after and taken >= stop_after:
             print("stopped after %d readings (as by a power cut)" % taken)
             sensor.close()
+            if table is not None:
+                table.close()
             return st
     sensor.close()
     slots.save(sensor.index, st)
+    if table is not None:
+        table.write(record.station_end_line(rows, st) + "\n")
+        table.close()
     print("summary accepted %d rejected %d averages %d missing %d" % (
         st.count, st.rejected, st.averages, st.missing))
     return st

@@ -14,7 +14,10 @@ way"; tests/test_structure.py):
   simulate   invents a seeded, reproducible balloon flight for firmware tests
   replay     drives :class:`tinygeo.column.Column` over a log, streaming, and
              writes the table and its summary
+  stationlog drives :class:`tinygeo.station.Station` over a station or buoy
+             log, streaming, and writes the station table and its summary
   compare    checks a device's table against a host replay of its readings
-  plot       draws a replayed profile with matplotlib (optional extra ``plot``)
+  plot       draws a replayed profile, or a station table, with matplotlib
+             (optional extra ``plot``)
   cli        the ``tinygeo`` command line: argparse and dispatch only
 """

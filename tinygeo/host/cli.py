@@ -1,9 +1,10 @@
 """The ``tinygeo`` command line (also ``python -m tinygeo``): argparse and
 dispatch only.
 
-Commands: ``replay`` a recorded log through the column, ``simulate`` an
-invented flight, ``compare`` a device's table with a host replay, ``plot`` a
-replayed profile; each lives in its module (``command`` / ``run``).
+Commands: ``replay`` a recorded log through the column, ``station`` a
+station or buoy log through the station, ``simulate`` an invented flight,
+``compare`` a device's table with a host replay, ``plot`` a replayed profile
+or a station table; each lives in its module (``command`` / ``run``).
 :func:`main` returns the exit status instead of exiting, so tests can call it
 in-process; every error becomes one line on stderr and an exit status of
 EXIT_TEXT, never a traceback.
@@ -81,8 +82,8 @@ class _Parser(argparse.ArgumentParser):
         raise UsageError("%s: %s (see '%s --help')" % (self.prog, message, self.prog))
 
 
-def _add_mapping(p):
-    g = p.add_argument_group("column mapping", MAPPING_HELP)
+def _add_mapping(p, gps=True, text=MAPPING_HELP):
+    g = p.add_argument_group("column mapping", text)
     g.add_argument("--pressure", metavar="NAME[:Pa|hPa|kPa]", help="pressure column")
     g.add_argument("--temperature", metavar="NAME[:K|C|F]", help="air temperature column")
     g.add_argument("--humidity", metavar="NAME", help="relative humidity column, %% (over water)")
@@ -90,7 +91,8 @@ def _add_mapping(p):
                    help="dew point column, instead of --humidity")
     g.add_argument("--time", metavar="NAME[:s|ms|iso]",
                    help="time column: seconds, or ISO-8601 timestamps (e.g. 2026-05-04T09:30:00Z)")
-    g.add_argument("--gps", metavar="NAME", help="GPS height column, m above mean sea level")
+    if gps:
+        g.add_argument("--gps", metavar="NAME", help="GPS height column, m above mean sea level")
     g.add_argument("--delimiter", metavar="CHAR",
                    help="field separator (',', ';', '|', tab, space); default: taken from the header")
 
@@ -152,6 +154,97 @@ def _add_site(p):
                         "no humidity column)")
 
 
+STATION_MAPPING_HELP = """column mapping (default: from the header names):
+  as for 'tinygeo replay' (see 'tinygeo replay --help'): NAME is a header
+  name or a column number, :UNIT optional when the header name ends in a
+  unit word (pressure_hpa, temp_c, time_s); a unit not stated is inferred
+  from the values and must be confirmed by them (the pressure near the
+  station's height, a surface temperature). A time column is required: the
+  averages are aligned to its clock (ISO-8601 stamps: to UTC). Comment lines
+  (#) before the header may set height_m= and lat_deg=; options given here
+  take precedence."""
+
+STATION_FLAGS_TEXT = """flags (the table's flags column: a sum of these bits):
+  1    stuck pressure readings taken out of this average
+  2    stuck temperature readings taken out
+  4    stuck humidity readings taken out
+  8    averages missing just before this one (a gap)
+  16   tendency or its characteristic unknown (an end average missing, or a
+       gap in the 3 hours longer than --max-gap)
+  32   --mean12: no temperature 12 hours earlier (the latest one was used)
+  64   a quantity had fewer than --min-readings readings (nan in this average)
+  128  a run of readings that contradicted the latest accepted one took over
+       (a sensor's real jump)
+tend_code: the characteristic of pressure tendency, WMO code table 0200
+  (0..8, '-' when unknown); the rule is in tinygeo/station.py.
+
+Not for aviation: qnh_pa is computed for the barometer's height with the
+standard atmosphere; altimeter settings come from an aerodrome's certified
+instruments and its met service. Follow your met service's practice."""
+
+
+def _station_limit(text):
+    try:
+        return number_or_none(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError("%r is not a number (or 'none')" % text)
+
+
+def _add_station(p):
+    from tinygeo.host.options import station_default as d
+    g = p.add_argument_group("station")
+    g.add_argument("--height", type=float, metavar="M",
+                   help="the barometer's height above mean sea level, m (a buoy: above the water "
+                        "line); required (default: height_m= in the log's comments)")
+    g.add_argument("--lat", type=float, metavar="DEG",
+                   help="latitude, degrees north (default: lat_deg= in the log's comments)")
+    g.add_argument("--average", type=float, metavar="S",
+                   help="length of an average, s, dividing 3 hours: 60, 120, 300, 600, 900, "
+                        "1800, 3600 ... (default %g)" % d("average_s"))
+    g.add_argument("--min-readings", type=float, metavar="N",
+                   help="readings an average needs, else that quantity is nan in it "
+                        "(default %d)" % d("min_readings"))
+    g.add_argument("--mean12", action="store_true",
+                   help="reduce to sea level with the mean of the temperature now and 12 hours "
+                        "earlier (high stations)")
+    g.add_argument("--iso-surface", type=float, metavar="HPA",
+                   help="report the geopotential height of this standard isobaric surface, hPa "
+                        "(default: 850, 700 or 500 hPa for stations at 800 m and above, none "
+                        "below)")
+    g.add_argument("--ice", action="store_true", help="humidity is over ice below 0 degC")
+    q = p.add_argument_group(
+        "quality control", "a reading that steps beyond step + rate x (the time since the latest\n"
+                           "accepted reading) is rejected; 'none' switches off a step check,\n"
+                           "--guard or --stuck")
+    q.add_argument("--max-p-step", type=_station_limit, metavar="PA",
+                   help="pressure step, Pa (default %g)" % d("max_p_step_pa"))
+    q.add_argument("--max-p-rate", type=float, metavar="PA_S",
+                   help="pressure rate, Pa/s (default %g)" % d("max_p_rate_pa_s"))
+    q.add_argument("--max-t-step", type=_station_limit, metavar="K",
+                   help="temperature step, K (default %g)" % d("max_t_step_k"))
+    q.add_argument("--max-t-rate", type=float, metavar="K_S",
+                   help="temperature rate, K/s (default %g)" % d("max_t_rate_k_s"))
+    q.add_argument("--max-rh-step", type=_station_limit, metavar="PCT",
+                   help="humidity step, %%%% (default %g)" % d("max_rh_step_pct"))
+    q.add_argument("--max-rh-rate", type=float, metavar="PCT_S",
+                   help="humidity rate, %%%%/s (default %g)" % d("max_rh_rate_pct_s"))
+    q.add_argument("--guard", type=_station_limit, metavar="M",
+                   help="a pressure whose pressure altitude lies farther than this from the "
+                        "station's height is rejected, m (default %g)" % d("guard_m"))
+    q.add_argument("--stuck", type=_station_limit, metavar="N",
+                   help="a value repeated in this many readings in a row is stuck and taken "
+                        "out of the average (default %d)" % d("stuck_readings"))
+    q.add_argument("--takeover", type=float, metavar="N",
+                   help="readings in a row that contradict the station and agree with each "
+                        "other are followed after this many (default %d)" % d("takeover_readings"))
+    q.add_argument("--steady", type=float, metavar="PA",
+                   help="a part of the 3-hour trace within this change is steady, for the "
+                        "characteristic, Pa (default %g)" % d("steady_pa"))
+    q.add_argument("--max-gap", type=float, metavar="S",
+                   help="the longest gap inside the 3 hours for which the characteristic is "
+                        "still given, s (default %g)" % d("max_gap_s"))
+
+
 def build_parser():
     """Return the argparse parser of the ``tinygeo`` command."""
     epilog = EXIT_TEXT + "\n\n" + _flags_text()
@@ -186,6 +279,32 @@ def build_parser():
     o.add_argument("--every", type=int, default=1, metavar="N",
                    help="write only every N-th accepted reading plus every reading with an event "
                         "(default 1: all)")
+    o.add_argument("--flush", action="store_true",
+                   help="flush after each row (automatic when reading stdin)")
+    o.add_argument("--quiet", action="store_true", help="do not report rejected readings one by one")
+
+    sp = sub.add_parser(
+        "station", help="run a station or buoy log through the station: averages, sea-level "
+                        "pressure, tendency, quality control",
+        description="Run a log of a fixed barometer (a weather station, a moored buoy; "
+                    "CSV/TSV with a header, or '-' for stdin, read line by line) through "
+                    "tinygeo.Station; write one row per completed average (time_s: its end; "
+                    "station pressure, sea-level pressure, QNH, 3-hour tendency and its "
+                    "characteristic, 24-hour change, temperature, humidity, dew point, flags, "
+                    "readings) and a summary (highest and lowest sea-level pressure, the largest "
+                    "3-hour fall, rejected readings by reason, averages per flag, restarts). "
+                    "Rejected readings are reported on stderr with their line number. Draw "
+                    "the table with 'tinygeo plot TABLE -o FILE'.",
+        epilog="table layout: see tinygeo/record.py (station table).\n\n" + EXIT_TEXT + "\n\n" +
+               STATION_FLAGS_TEXT + "\n\nfirst try:  tinygeo station examples/buoy_day.csv",
+        formatter_class=argparse.RawDescriptionHelpFormatter)
+    sp.add_argument("log", help="log file, or - for standard input")
+    _add_mapping(sp, gps=False, text=STATION_MAPPING_HELP)
+    _add_station(sp)
+    o = sp.add_argument_group("output")
+    o.add_argument("-o", "--out", metavar="FILE",
+                   help="write the table to FILE (the summary is then also printed on stdout)")
+    o.add_argument("--summary", metavar="FILE", help="also write the summary lines to FILE")
     o.add_argument("--flush", action="store_true",
                    help="flush after each row (automatic when reading stdin)")
     o.add_argument("--quiet", action="store_true", help="do not report rejected readings one by one")
@@ -263,8 +382,13 @@ def build_parser():
                    help="list up to N offending readings (10)")
 
     pl = sub.add_parser(
-        "plot", help="draw a replayed profile to PNG, SVG or PDF (needs matplotlib)",
-        description="Draw height (barometric and GPS) against time (UTC when the log has "
+        "plot", help="draw a replayed profile or a station table to PNG, SVG or PDF (needs "
+                     "matplotlib)",
+        description="A station table (from 'tinygeo station LOG -o TABLE') is drawn as station "
+                    "and sea-level pressure, the 3-hour tendency with its characteristic, "
+                    "temperature and dew point against time, with the flagged averages and the "
+                    "extremes marked (the mapping and site options are not used then). "
+                    "Otherwise: draw height (barometric and GPS) against time (UTC when the log has "
                     "ISO-8601 stamps), temperature and dew point against height, the vertical "
                     "rate (raw and the column's smoothed rate) and the uncertainty, with "
                     "mandatory levels, tropopause, float and burst marked; the curves after the "
@@ -272,10 +396,11 @@ def build_parser():
                     "inputs are fed to a column again) or a raw log (replayed with the mapping "
                     "options).",
         epilog=EXIT_TEXT, formatter_class=argparse.RawDescriptionHelpFormatter)
-    pl.add_argument("input", help="replay table or raw log")
+    pl.add_argument("input", help="replay table, raw log, or station table")
     pl.add_argument("-o", "--out", metavar="FILE", required=True,
                     help="image file, .png, .svg or .pdf")
-    pl.add_argument("--title", help="figure title (default: the input's name)")
+    pl.add_argument("--title", help="figure title (default: the input's name; for a station "
+                                    "table the log it was made from)")
     pl.add_argument("--dpi", type=int, default=100, help="PNG resolution, dots per inch (100)")
     _add_mapping(pl)
     _add_site(pl)
@@ -283,9 +408,9 @@ def build_parser():
 
 
 def _command(name):
-    from tinygeo.host import compare, plot, replay, simulate
+    from tinygeo.host import compare, plot, replay, simulate, stationlog
     return {"replay": replay.command, "simulate": simulate.command, "compare": compare.run,
-            "plot": plot.run}[name]
+            "plot": plot.run, "station": stationlog.command}[name]
 
 
 def _quiet_stdout():

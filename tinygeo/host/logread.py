@@ -6,7 +6,9 @@ columns, then one reading per line. The delimiter (comma, tab, semicolon,
 the header may carry ``key=value`` words; ``lat_deg``, ``start_height_m``,
 ``sigma_p_pa``, ``sigma_t_k``, ``sigma_rh_pct`` (sensor noise) and
 ``bias_p_pa``, ``bias_t_k``, ``bias_rh_pct`` (calibration uncertainty) are
-used as defaults for the replay (``tinygeo simulate`` writes them).
+used as defaults for the replay (``tinygeo simulate`` writes them);
+``height_m`` (the barometer's height above mean sea level of a fixed
+station or buoy) for ``tinygeo station``.
 
 Columns are mapped to quantities by the user (``--pressure NAME:hPa`` ...) or,
 by default, from the header names: a name is lower-cased, ``%`` becomes
@@ -91,7 +93,7 @@ for _q, _names in (
         NAMES[_n] = _q
 
 META_KEYS = ("lat_deg", "start_height_m", "sigma_p_pa", "sigma_t_k", "sigma_rh_pct",
-             "bias_p_pa", "bias_t_k", "bias_rh_pct")
+             "bias_p_pa", "bias_t_k", "bias_rh_pct", "height_m")
 DELIMITERS = (",", "\t", ";", "|")
 
 # plausibility of inferred units and of the start height (see the module docstring)
@@ -223,8 +225,10 @@ class LogReader:
     (quantity -> (index, header name, unit or None, stated)), ``notes``
     (list of strings to show the user), ``delimiter``; after the first
     reading ``time_origin`` (ISO text of the first timestamp when times are
-    ISO, else None); ``option_units`` (the quantities whose unit was given in
-    the mapping option, ``NAME:UNIT``)."""
+    ISO, else None) and ``time_origin_s`` (that timestamp in seconds since
+    1970-01-01T00:00:00Z, else None; the readings' time_s count from it);
+    ``option_units`` (the quantities whose unit was given in the mapping
+    option, ``NAME:UNIT``)."""
 
     def __init__(self, lines, mapping=None, delimiter=None, name="input"):
         self.stream = lines
@@ -233,6 +237,7 @@ class LogReader:
         self.meta = {}
         self.notes = []
         self.time_origin = None
+        self.time_origin_s = None
         self._t0 = None
         self.option_units = set()
         self.settled = False
@@ -753,6 +758,7 @@ class LogReader:
             if self._t0 is None:
                 self._t0 = s
                 self.time_origin = text.strip()
+                self.time_origin_s = s
             return s - self._t0
         x = to_float(text)
         if x is None:

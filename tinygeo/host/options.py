@@ -3,7 +3,8 @@ output files, the column mapping options and the column set-up.
 
 The host's modules form one way: ``tinygeo.record`` (the device-side record
 format) -> ``options`` (this module) -> ``table``, ``logread`` -> ``replay``,
-``simulate`` -> ``compare``, ``plot`` -> ``cli`` (argparse and dispatch). No
+``stationlog``, ``simulate`` -> ``compare``, ``plot`` -> ``cli`` (argparse and
+dispatch). No
 module imports one to its right, and none reads another module's ``_private``
 names.
 
@@ -68,6 +69,36 @@ def one_line(text):
     if text.isprintable():
         return text
     return "".join(c if c.isprintable() else repr(c)[1:-1] for c in text)
+
+
+def round_numbers(message):
+    """``message`` with its long decimal numbers rounded to 6 significant
+    digits (``p_pa=96447.00000000001`` -> ``p_pa=96447``), for messages that
+    quote a value computed from a log's text."""
+    out = []
+    i = 0
+    n = len(message)
+    while i < n:
+        c = message[i]
+        if c.isdigit() or (c == "-" and i + 1 < n and message[i + 1].isdigit()):
+            j = i + 1
+            while j < n and (message[j].isdigit() or message[j] in ".eE" or
+                             (message[j] in "+-" and message[j - 1] in "eE")):
+                j += 1
+            word = message[i:j].rstrip(".")
+            j = i + len(word)
+            if "." in word and len(word.split(".")[1].rstrip("eE+-0123456789")) == 0 and \
+                    len(word) > 9:
+                try:
+                    word = "%.6g" % float(word)
+                except ValueError:
+                    pass
+            out.append(word)
+            i = j
+        else:
+            out.append(c)
+            i += 1
+    return "".join(out)
 
 
 # --- inputs --------------------------------------------------------------------
@@ -376,6 +407,13 @@ def column_default(name):
     signature, so the host tools never repeat the column's numbers)."""
     from tinygeo.column import Column
     return inspect.signature(Column.__init__).parameters[name].default
+
+
+def station_default(name):
+    """The default of the Station constructor's keyword ``name`` (read from
+    its signature, so the host tools never repeat the station's numbers)."""
+    from tinygeo.station import Station
+    return inspect.signature(Station.__init__).parameters[name].default
 
 
 def column_keywords():

@@ -1,5 +1,18 @@
-"""Draw a replayed profile to PNG, SVG or PDF with matplotlib (optional extra
-``plot``).
+"""Draw a replayed profile, or a station table, to PNG, SVG or PDF with
+matplotlib (optional extra ``plot``).
+
+A station table (``# tinygeo station table 1``, from ``tinygeo station LOG
+-o TABLE`` or a logger such as ports/micropython/buoy.py) is drawn by
+:func:`draw_station`: sea-level pressure (and QNH), station pressure, the
+3-hour tendency with its characteristic (code table 0200) at each full hour,
+temperature and dew point against time, and a strip with one row per flag
+marking the averages that carry it; gaps (missing averages) are shaded in
+every panel, stuck-pressure averages in the pressure panels, and the
+extremes of the summary (tinygeo.host.stationlog.Summary, computed from the
+rows, so a device's table without summary records is drawn the same) are
+marked. The rows are drawn as written: nothing is recomputed.
+
+A replayed profile:
 
 Four panels: height against time (barometric, and the mapped GPS height
 beside it; the time axis in UTC when the log has ISO-8601 stamps), the
@@ -23,6 +36,7 @@ import os
 from tinygeo.column import FL_NO_GPS
 from tinygeo.host import table
 from tinygeo.host import replay as rp
+from tinygeo.host import stationlog
 from tinygeo.host.logread import LogReader
 from tinygeo.host.options import (EXIT_MISSING_EXTRA, EXIT_OK, InputError, OutputError,
                                   UsageError, check_paths, column_setup, mapping, new_column,
@@ -255,6 +269,190 @@ def draw(pts, setup, records, out_path, title, dpi, origin=None, fmt=None):
     fig.savefig(out_path, dpi=dpi, format=fmt, metadata=meta)
 
 
+# --- station tables ---------------------------------------------------------------------
+STATION_FLAG_LABELS = (("stuck_p", "stuck p"), ("stuck_t", "stuck T"), ("stuck_rh", "stuck RH"),
+                       ("gap", "gap before"), ("few", "few readings"), ("takeover", "takeover"),
+                       ("trend_gap", "no tendency"), ("no_t12", "no T 12 h ago"))
+
+
+class StationData:
+    """A station table read for drawing: ``pts`` (Points of (time_s, p_hpa,
+    mslp_hpa, qnh_hpa, tend_hpa, code, t_c, td_c, flags)), ``flagged``
+    (Points of (time_s, flags) of the averages with flags), ``gaps``
+    (time_s pairs bounding missing averages, at most MAX_POINTS),
+    ``summary`` (stationlog.Summary of every row), ``average_s``,
+    ``height_m``, ``lat_deg`` (nan when the table does not say), ``epoch``
+    (time_s counts from 1970-01-01T00:00:00Z) and ``source`` (the log named
+    in the ``# input`` line, or None)."""
+
+    def __init__(self, dev):
+        words = dev.station
+        self.average_s = _f(words, "average_s")
+        self.height_m = _f(words, "height_m")
+        self.lat_deg = _f(words, "lat_deg")
+        self.epoch = dev.time_origin == stationlog.EPOCH
+        self.source = dev.input.get("source")      # the log 'tinygeo station' read
+        self.summary = stationlog.Summary(self.epoch)
+        self.pts = Points()
+        self.flagged = Points()
+        self.gaps = []
+        avg = self.average_s if self.average_s == self.average_s else 0.0
+        prev = None
+        for r in dev:
+            fl = r.flags or 0
+            self.summary.average(r.time_s, r.mslp_pa, r.tend3h_pa, r.tend_code, fl)
+            self.pts.add((r.time_s, r.p_pa / 100.0, r.mslp_pa / 100.0, r.qnh_pa / 100.0,
+                          r.tend3h_pa / 100.0, r.tend_code, r.t_k - 273.15, r.td_k - 273.15, fl))
+            if fl:
+                self.flagged.add((r.time_s, fl))
+            if prev is not None and avg and r.time_s - prev > 1.5 * avg and \
+                    len(self.gaps) < MAX_POINTS:
+                self.gaps.append((prev, r.time_s - avg))
+            prev = r.time_s
+        if dev.end is not None:
+            try:
+                self.summary.missing = int(dev.end.get("missing", "0"))
+            except ValueError:
+                pass
+
+
+def draw_station(data, out_path, title, dpi, fmt=None):
+    """Render a station table's figure (``data``: StationData) to
+    ``out_path`` in ``fmt`` (png, svg, pdf; default: the path's suffix)."""
+    from matplotlib.figure import Figure
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+
+    rows = data.pts.rows
+    avg = data.average_s if data.average_s == data.average_s else 600.0
+    if data.epoch:
+        import matplotlib.dates as mdates
+        utc = datetime.timezone.utc
+
+        def tx(s):
+            return datetime.datetime.fromtimestamp(s, utc)
+        t_label = "time (UTC)"
+
+        def when(s):
+            return tx(s).strftime("%H:%M")
+    else:
+        def tx(s):
+            return s / 3600.0
+        t_label = "time_s / 3600 (hours on the log's clock)"
+
+        def when(s):
+            return "%.2f h" % (s / 3600.0)
+    # a line breaks where averages are missing (their rows are not written)
+    step = 1.5 * avg * data.pts.stride
+    xs, cols = [], [[] for _ in range(8)]
+    prev = None
+    for r in rows:
+        if prev is not None and r[0] - prev > step:
+            xs.append(tx(prev + avg))
+            for c in cols:
+                c.append(NAN)
+        xs.append(tx(r[0]))
+        for i, c in enumerate(cols):
+            v = r[i + 1]
+            c.append(NAN if v is None else v)
+        prev = r[0]
+    p, msl, qnh, tend, _, t_c, td_c, _ = cols
+
+    fig = Figure(figsize=(11.0, 10.5))
+    FigureCanvasAgg(fig)
+    gs = fig.add_gridspec(5, 1, height_ratios=(3.0, 2.0, 2.2, 2.0, 1.3))
+    ax_m = fig.add_subplot(gs[0])
+    ax_p = fig.add_subplot(gs[1], sharex=ax_m)
+    ax_t = fig.add_subplot(gs[2], sharex=ax_m)
+    ax_c = fig.add_subplot(gs[3], sharex=ax_m)
+    ax_f = fig.add_subplot(gs[4], sharex=ax_m)
+    axes = (ax_m, ax_p, ax_t, ax_c, ax_f)
+    for a0, a1 in data.gaps:
+        for ax in axes:
+            ax.axvspan(tx(a0), tx(a1), color="0.85", lw=0, zorder=0,
+                       label="missing averages" if ax is ax_m and (a0, a1) == data.gaps[0]
+                       else None)
+    for ts, fl in data.flagged.rows:
+        if fl & 1:
+            for ax in (ax_m, ax_p):
+                ax.axvspan(tx(ts - avg), tx(ts), color="tab:red", alpha=0.12, lw=0, zorder=0)
+    ax_m.plot(xs, msl, color="tab:blue", lw=1.6, label="sea-level pressure (mslp_pa)")
+    ax_m.plot(xs, qnh, color="tab:cyan", lw=0.9, ls=(0, (4, 2)), label="QNH (qnh_pa)")
+    s = data.summary
+    if s.highest is not None:
+        ax_m.plot([tx(s.highest[1])], [s.highest[0] / 100.0], marker="^", ms=9, color="tab:red",
+                  ls="none", label="highest %.1f hPa at %s" % (s.highest[0] / 100.0,
+                                                             when(s.highest[1])))
+        ax_m.plot([tx(s.lowest[1])], [s.lowest[0] / 100.0], marker="v", ms=9, color="navy",
+                  ls="none", label="lowest %.1f hPa at %s" % (s.lowest[0] / 100.0,
+                                                            when(s.lowest[1])))
+    ax_m.set_ylabel("hPa")
+    ax_m.set_title("Sea-level pressure and QNH (shaded red: stuck pressure taken out)",
+                   fontsize=10)
+    ax_p.plot(xs, p, color="tab:green", lw=1.4, label="station pressure (p_pa)")
+    ax_p.set_ylabel("hPa")
+    ax_p.set_title("Station pressure, mean of each average", fontsize=10)
+    ax_t.axhline(0.0, color="0.5", lw=0.6)
+    ax_t.plot(xs, tend, color="tab:purple", lw=1.4, marker=".", ms=3,
+              label="3-hour tendency (tend3h_pa)")
+    lo, hi = _finite_range(tend)
+    pad = max(0.08 * (hi - lo), 0.3)
+    for r in rows:
+        if r[5] is not None and r[4] == r[4] and abs(r[0] % 3600.0) < 0.5:
+            ax_t.annotate("%d" % r[5], xy=(tx(r[0]), r[4]), xytext=(0, 5 if r[4] >= 0 else -11),
+                          textcoords="offset points", ha="center", fontsize=7, color="0.2")
+    if s.fall is not None:
+        ax_t.plot([tx(s.fall[1])], [s.fall[0] / 100.0], marker="v", ms=8, color="navy",
+                  ls="none", label="largest fall %.1f hPa, 3 h to %s" % (s.fall[0] / 100.0,
+                                                                     when(s.fall[1])))
+    if lo == lo:
+        ax_t.set_ylim(lo - pad - 0.6, hi + pad + 0.6)
+    ax_t.set_ylabel("hPa in 3 h")
+    ax_t.set_title("3-hour tendency; digits: its characteristic (WMO code table 0200) at each "
+                   "full hour", fontsize=10)
+    ax_c.plot(xs, t_c, color="tab:red", lw=1.4, label="temperature (t_k)")
+    ax_c.plot(xs, td_c, color="tab:olive", lw=1.2, label="dew point (td_k)")
+    ax_c.set_ylabel("\u00b0C")
+    ax_c.set_title("Temperature and dew point", fontsize=10)
+    present = [(w, lab) for w, lab in STATION_FLAG_LABELS if s.flags.get(w)]
+    bits = dict((w, b) for b, w in stationlog.FLAG_WORDS)
+    for i, (w, lab) in enumerate(present):
+        b = bits[w]
+        ts = [tx(t) for t, fl in data.flagged.rows if fl & b]
+        ax_f.plot(ts, [i] * len(ts), "|", ms=9, mew=1.6,
+                  color="tab:red" if w.startswith("stuck") else "0.3")
+    ax_f.set_yticks(range(len(present)))
+    ax_f.set_yticklabels([lab for _, lab in present], fontsize=7)
+    ax_f.set_ylim(-0.8, max(len(present), 1) - 0.2)
+    if not present:
+        ax_f.text(0.5, 0.4, "no average carries a flag", transform=ax_f.transAxes,
+                  ha="center", fontsize=8, color="0.4")
+    ax_f.set_title("QC flags of the averages", fontsize=10)
+    ax_f.set_xlabel(t_label)
+    for ax in axes:
+        ax.grid(True, color="0.9", lw=0.5)
+        if ax is not ax_f:
+            ax.tick_params(labelbottom=False)
+        handles, labels = ax.get_legend_handles_labels()
+        if handles:
+            ax.legend(fontsize=7, loc="best")
+    if data.epoch:
+        ax_f.xaxis.set_major_formatter(mdates.DateFormatter("%H:%M", tz=datetime.timezone.utc))
+    fig.suptitle("%s  (barometer at %.1f m, latitude %.2f\u00b0, averages of "
+                 "%g s)" % (title, data.height_m, data.lat_deg, avg), fontsize=11)
+    fig.tight_layout(rect=(0.0, 0.0, 1.0, 0.97))
+    fmt = fmt or out_path.rsplit(".", 1)[-1].lower()
+    meta = {"svg": {"Date": None}, "pdf": {"CreationDate": None, "ModDate": None},
+            "png": {"Software": None}}[fmt]
+    fig.savefig(out_path, dpi=dpi, format=fmt, metadata=meta)
+
+
+def _finite_range(values):
+    v = [x for x in values if x == x]
+    if not v:
+        return NAN, NAN
+    return min(v), max(v)
+
+
 class _Prepend:
     """A stream whose first readline() returns an already read line."""
 
@@ -288,11 +486,15 @@ def run(a, stdin, stdout, stderr):
                      "install it with: pip install 'tinygeo[plot]'  (or: pip install matplotlib)\n")
         return EXIT_MISSING_EXTRA
     lines, name, close = open_text(a.input, stdin)
+    station = None
     try:
         first = lines.readline()
         pts = Points()
         src = _Prepend(first, lines)
-        if first.strip() in (table.MAGIC, table.OLD_MAGIC):
+        if first.strip() == table.STATION_MAGIC:
+            station = StationData(table.StationTableReader(src, name))
+            pts = station.pts
+        elif first.strip() in (table.MAGIC, table.OLD_MAGIC):
             setup, summary, origin = _from_table(a, src, name, pts)
         else:
             setup, summary, origin = _from_log(a, src, name, pts, stderr)
@@ -300,17 +502,24 @@ def run(a, stdin, stdout, stderr):
         close()
     if not pts.rows:
         raise table.TableError("%s: no rows to plot" % name)
-    records = []
-    for line in summary.lines():
-        words = line[len(table.SUMMARY_PREFIX):].split()
-        records.append((words[0], table.parse_pairs(words[1:])))
+    if station is not None:
+        def render(path):
+            draw_station(station, path, a.title or station.source or name, a.dpi, fmt)
+    else:
+        records = []
+        for line in summary.lines():
+            words = line[len(table.SUMMARY_PREFIX):].split()
+            records.append((words[0], table.parse_pairs(words[1:])))
+
+        def render(path):
+            draw(pts, setup, records, path, a.title or name, a.dpi, _origin(origin), fmt)
     tmp = None
     try:
         if os.path.exists(out) and not os.path.isfile(out):
-            draw(pts, setup, records, out, a.title or name, a.dpi, _origin(origin), fmt)
+            render(out)
         else:
             tmp = temp_path_for(out)
-            draw(pts, setup, records, tmp, a.title or name, a.dpi, _origin(origin), fmt)
+            render(tmp)
             os.replace(tmp, out)
             tmp = None
     except OSError as e:

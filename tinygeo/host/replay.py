@@ -26,7 +26,8 @@ from tinygeo.moisture import td_rh
 from tinygeo.column import (EV_LEVEL, EV_TROPOPAUSE, EV_BURST, EV_LANDED, EV_LAUNCH, EV_FLOAT,
                             FL_REPLACED, FL_TAKEOVER, PH_WAIT, PH_ASCENT, PH_FLOAT, PH_DESCENT)
 from tinygeo.host import table
-from tinygeo.host.options import InputError, OutputError, column_default, one_line
+from tinygeo.host.options import (InputError, OutputError, column_default, one_line,
+                                  round_numbers)
 
 NAN = float("nan")
 MAX_REPORTS = 20          # rejected readings reported one by one on stderr
@@ -39,6 +40,14 @@ MAJORITY_REASONS = ("rate", "time", "pressure", "temperature", "humidity", "numb
 RING = 1 << 16            # readings whose (time, line) are kept to date past events
 MAX_FLOATS = 20           # floats listed in the summary (more are counted)
 STATION_RISE_M = 50.0     # a log that never rises more than this looks like a station, m
+# ... and so does a log of hours with no burst whose whole rise is slower than a
+# station's pressure altitude moves with the weather (a fall of 10 hPa in 3 h,
+# about 85 m in 3 h or 0.008 m/s, is a rapid one; a balloon climbs at metres
+# per second: common practice) and smaller than the yearly range of sea-level
+# pressure at a place (about 950..1050 hPa, some 850 m; common practice)
+STATION_SLOW_M_S = 0.05
+STATION_SPAN_M = 1000.0
+STATION_HOURS_S = 3600.0
 
 # time unit check (see TimeUnitCheck)
 SPACINGS = 8              # time steps whose median is reported as the log's spacing
@@ -304,10 +313,32 @@ class Summary:
 
     def looks_like_station(self):
         """True when the log never left the ground: no launch and a rise of
-        less than STATION_RISE_M above the lowest reading."""
-        return (self.launch is None and self.highest is not None and
-                self.lowest_m == self.lowest_m and self.highest[0] - self.lowest_m
-                < STATION_RISE_M)
+        less than STATION_RISE_M above the lowest reading; or no burst, a
+        log of STATION_HOURS_S or more, and a rise under STATION_SPAN_M that
+        is slower on the whole than STATION_SLOW_M_S (a buoy's heave or the
+        weather may look like a launch to the column)."""
+        if self.highest is None or self.lowest_m != self.lowest_m:
+            return False
+        rise = self.highest[0] - self.lowest_m
+        if self.launch is None and rise < STATION_RISE_M:
+            return True
+        if self.burst is not None or self.surface is None or self.last is None:
+            return False
+        t0, t1 = self.surface[0][4], self.last[0][4]
+        if t0 is None or t1 is None or not t1 - t0 >= STATION_HOURS_S:
+            return False
+        return rise < STATION_SPAN_M and rise / (t1 - t0) < STATION_SLOW_M_S
+
+    def station_span(self):
+        """(rise above the lowest reading, m; hours between the first and the
+        last accepted reading, nan without time stamps) for the station note."""
+        rise = self.highest[0] - self.lowest_m
+        hours = NAN
+        if self.surface is not None and self.last is not None:
+            t0, t1 = self.surface[0][4], self.last[0][4]
+            if t0 is not None and t1 is not None:
+                hours = (t1 - t0) / 3600.0
+        return rise, hours
 
 
 def _nan(x):
@@ -330,30 +361,7 @@ def tidy(message):
     column's keyword hints given as the command's options."""
     for old, new in _OPTION_HINTS:
         message = message.replace(old, new)
-    out = []
-    i = 0
-    n = len(message)
-    while i < n:
-        c = message[i]
-        if c.isdigit() or (c == "-" and i + 1 < n and message[i + 1].isdigit()):
-            j = i + 1
-            while j < n and (message[j].isdigit() or message[j] in ".eE" or
-                             (message[j] in "+-" and message[j - 1] in "eE")):
-                j += 1
-            word = message[i:j].rstrip(".")
-            j = i + len(word)
-            if "." in word and len(word.split(".")[1].rstrip("eE+-0123456789")) == 0 and \
-                    len(word) > 9:
-                try:
-                    word = "%.6g" % float(word)
-                except ValueError:
-                    pass
-            out.append(word)
-            i = j
-        else:
-            out.append(c)
-            i += 1
-    return "".join(out)
+    return round_numbers(message)
 
 
 # --- the replay loop ----------------------------------------------------------------
@@ -775,13 +783,47 @@ def command(a, stdin, stdout, stderr):
                     o.write(line + "\n")
                 outs.commit()
         if summary.looks_like_station():
+            cmd, unknown = station_command(a, reader, setup)
+            rise, hours = summary.station_span()
             stderr.write("tinygeo replay: note: the log never rises more than %.0f m above its "
-                         "lowest reading: it looks like a fixed station, not a flight; "
-                         "'tinygeo station' is the command for station logs\n"
-                         % (summary.highest[0] - summary.lowest_m))
+                         "lowest reading%s: it looks like a fixed station or a buoy, not a "
+                         "flight; for averages, sea-level pressure, the 3-hour tendency and "
+                         "quality control run:  %s%s\n"
+                         % (rise, " in %.1f h" % hours if hours == hours else "", cmd,
+                            "  (M: the barometer's height above mean sea level, m)" if unknown
+                            else ""))
         return 0
     finally:
         close()
+
+
+def station_command(a, reader, setup):
+    """The ``tinygeo station`` command line for the log a replay read
+    (``a``: the replay's options, ``reader`` its LogReader, ``setup`` its
+    column Setup): the log, the mapping options given, the latitude and the
+    height where the log's comments do not carry them, ``--ice``. Returns
+    (text, unknown): ``unknown`` is True when the height is not known (the
+    start height defaulted to 0 m), and the text then says ``--height M``."""
+    import shlex
+    words = ["tinygeo", "station", a.log]
+    for q in ("pressure", "temperature", "humidity", "dewpoint", "time"):
+        v = getattr(a, q, None)
+        if v:
+            words += ["--dew-point" if q == "dewpoint" else "--" + q, v]
+    if a.delimiter:
+        words += ["--delimiter", a.delimiter]
+    if "lat_deg" not in reader.meta:
+        words += ["--lat", "%g" % setup.lat_deg]
+    unknown = False
+    if "height_m" not in reader.meta:
+        if setup.start_given:
+            words += ["--height", "%g" % setup.start_height_m]
+        else:
+            words += ["--height", "M"]
+            unknown = True
+    if a.ice:
+        words.append("--ice")
+    return " ".join(shlex.quote(w) for w in words), unknown
 
 
 class _Quiet:

@@ -12,6 +12,12 @@ of the same layout before it moved to tinygeo.record) and its header names
 ``line`` or ``time_s`` and any subset of ``COLUMNS``, in any order: a device
 may write only what it computes. A value ``nan`` (or a column left out)
 means "not given / not computed".
+
+A station table (``STATION_MAGIC``: one row per completed average of
+tinygeo.station.Station, written by ``tinygeo station`` or a logger such as
+ports/micropython/buoy.py) is read by :class:`StationTableReader` the same
+way: its header names ``time_s`` and any subset of ``STATION_COLUMNS`` (and
+``iso_gph_m``), in any order.
 """
 from tinygeo import record
 from tinygeo.errors import TinygeoError
@@ -28,6 +34,10 @@ HEADER = record.HEADER
 FORMAT = record.FORMAT
 events_text = record.events_text
 format_row = record.row
+
+STATION_MAGIC = record.STATION_MAGIC
+STATION_PREFIX = record.STATION_PREFIX
+STATION_COLUMNS = record.STATION_COLUMNS + (record.STATION_ISO,)
 
 EV_LEVEL = record.EV_LEVEL
 EVENT_BITS = dict((word, bit) for bit, word in record.EVENT_WORDS)
@@ -141,6 +151,10 @@ class TableReader:
             line = raw.rstrip("\r\n")
             if first:
                 first = False
+                if line.strip() == STATION_MAGIC:
+                    raise TableError("%s line 1: a station table ('tinygeo station'): one row "
+                                     "per average, not per reading; draw it with 'tinygeo plot'"
+                                     % name)
                 if line.strip() not in (MAGIC, OLD_MAGIC):
                     raise TableError("%s line 1: not a tinygeo table (expected %r); replay the "
                                      "log first with 'tinygeo replay'" % (name, MAGIC))
@@ -216,6 +230,127 @@ class TableReader:
                     row.line = None
                 row.event_bits, row.level_hpa = (None, 0) if row.events is None else \
                     parse_events(row.events)
+            except ValueError as e:
+                raise TableError("%s line %d: unreadable field (%s); the row must hold %s"
+                                 % (self.name, self.lineno, e, " ".join(self.present)))
+            row.lineno = self.lineno
+            self.rows += 1
+            yield row
+
+
+class StationRow:
+    """One parsed station table row: an attribute per name of
+    STATION_COLUMNS (nan when the table has no such column; ``tend_code``
+    None when unknown, ``flags`` and ``readings`` None when absent), plus
+    ``lineno`` (the line within the table file)."""
+
+    __slots__ = STATION_COLUMNS + ("lineno",)
+
+
+_STATION_INTS = ("flags", "readings")
+
+
+class StationTableReader:
+    """Read a station table one row at a time (constant memory).
+
+    ``lines`` as for :class:`TableReader`. After construction ``station``
+    (dict of the ``# station`` words), ``input`` (dict of the ``# input``
+    words), ``time_origin`` (ISO text of ``# time_s counts from``, or None)
+    and ``present`` (the columns the header names) hold the set-up; iterate
+    for :class:`StationRow` objects. After the iteration ``summary`` holds
+    the ``#:`` records as (what, dict) in file order, ``end`` the end
+    record's dict (None: no end record, the table was cut short) and ``rows``
+    the number of rows read."""
+
+    def __init__(self, lines, name="station table"):
+        self.stream = lines
+        self.name = name
+        self.station = {}
+        self.input = {}
+        self.summary = []
+        self.end = None
+        self.rows = 0
+        self.time_origin = None
+        self.lineno = 0
+        first = True
+        while True:
+            raw = lines.readline()
+            if not raw:
+                raise TableError("%s: no header line; is this a table written by "
+                                 "'tinygeo station' or tinygeo.record.station_row?" % name)
+            self.lineno += 1
+            line = raw.rstrip("\r\n")
+            if first:
+                first = False
+                if line.strip() != STATION_MAGIC:
+                    raise TableError("%s line 1: not a station table (expected %r); write one "
+                                     "with 'tinygeo station LOG -o FILE'" % (name, STATION_MAGIC))
+                continue
+            if line.startswith(STATION_PREFIX):
+                self.station.update(parse_pairs(line[len(STATION_PREFIX):].split()))
+            elif line.startswith(INPUT_PREFIX):
+                self.input.update(parse_pairs(line[len(INPUT_PREFIX):].split()))
+            elif line.startswith(TIME_ORIGIN_PREFIX):
+                self.time_origin = line[len(TIME_ORIGIN_PREFIX):].strip()
+            elif line.startswith("#") or not line.strip():
+                continue
+            else:
+                self._header(line)
+                break
+
+    def _header(self, line):
+        names = [f.strip() for f in line.split("\t")]
+        unknown = [n for n in names if n not in STATION_COLUMNS]
+        if unknown or len(set(names)) != len(names) or "time_s" not in names:
+            raise TableError("%s line %d: unexpected header %r; the fields are time_s and any "
+                             "of %s, each once, separated by tabs"
+                             % (self.name, self.lineno, line[:80], " ".join(STATION_COLUMNS[1:])))
+        self.present = tuple(names)
+        self.index = [(n, names.index(n)) for n in STATION_COLUMNS if n in names]
+        self.absent = [n for n in STATION_COLUMNS if n not in names]
+
+    def __iter__(self):
+        stream = self.stream
+        n = len(self.present)
+        while True:
+            raw = stream.readline()
+            if not raw:
+                return
+            self.lineno += 1
+            line = raw.rstrip("\r\n")
+            if not line.strip():
+                continue
+            if line.startswith("#"):
+                if line.startswith(SUMMARY_PREFIX):
+                    words = line[len(SUMMARY_PREFIX):].split()
+                    if words:
+                        pairs = parse_pairs(words[1:])
+                        if words[0] == "end":
+                            self.end = pairs
+                        else:
+                            self.summary.append((words[0], pairs))
+                continue
+            fields = line.split("\t")
+            if len(fields) != n:
+                raise TableError("%s line %d: %d fields, expected %d (%s)"
+                                 % (self.name, self.lineno, len(fields), n, " ".join(self.present)))
+            if self.end is not None:
+                raise TableError("%s line %d: a row after the end record" % (self.name, self.lineno))
+            row = StationRow()
+            try:
+                for name, i in self.index:
+                    text = fields[i].strip()
+                    if name in _STATION_INTS:
+                        setattr(row, name, int(text))
+                    elif name == "tend_code":
+                        row.tend_code = None if text in ("-", "") else int(text)
+                        if row.tend_code is not None and not 0 <= row.tend_code <= 8:
+                            raise ValueError("tend_code %d outside 0..8" % row.tend_code)
+                    else:
+                        setattr(row, name, float(text))
+                for name in self.absent:
+                    setattr(row, name, None if name in _STATION_INTS or name == "tend_code"
+                            else NAN)
             except ValueError as e:
                 raise TableError("%s line %d: unreadable field (%s); the row must hold %s"
                                  % (self.name, self.lineno, e, " ".join(self.present)))

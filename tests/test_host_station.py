@@ -1,0 +1,585 @@
+"""``tinygeo station LOG`` and the station table (tinygeo/record.py,
+tinygeo/host/table.py, tinygeo/host/stationlog.py, the station plot).
+
+Everything runs in-process (tinygeo.host.cli.main on StringIO streams),
+except the MicroPython run of the buoy logger that writes the same table.
+
+References, named beside each check:
+- [WMO8] WMO-No. 8, Vol. I, Ch. 3: the reduction of pressure to sea level,
+  p0 = p exp(g0 H / (Rd (Tv + 0.0065 H/2))), Annex 4.B Magnus forms and
+  enhancement factor (from memory), evaluated in mpmath by
+  tests/vectors/gen_station.py (ref_msl, ref_tv, ref_td, ref_iso, ref_gph);
+- [ICAO] the altimeter-setting closed form for QNH (ICAO Doc 7488 layer 0,
+  from memory; gen_station.ref_qnh);
+- [0200] WMO-No. 306 Manual on Codes, Vol. I.1, code table 0200,
+  characteristic of pressure tendency (the words of each code, from
+  memory): 0 increasing, then decreasing; same or higher than 3 hours ago.
+  1 increasing, then steady, or increasing, then increasing more slowly;
+  higher. 2 increasing (steadily or unsteadily); higher. 3 decreasing or
+  steady, then increasing, or increasing, then increasing more rapidly;
+  higher. 4 steady; same. 5 decreasing, then increasing; same or lower.
+  6 decreasing, then steady, or decreasing, then decreasing more slowly;
+  lower. 7 decreasing (steadily or unsteadily); lower. 8 steady or
+  increasing, then decreasing, or decreasing, then decreasing more rapidly;
+  lower;
+- the pressure tendency is the change of pressure over the last 3 hours,
+  the 24-hour change over 24 hours ([WMO8] Ch. 3, from memory);
+- the invented buoy day's own scenario (examples/make_buoy_day.py, which
+  uses no tinygeo code): its spike times;
+- file signatures: PNG (ISO/IEC 15948, the 8-byte signature) and PDF
+  (ISO 32000-1 section 7.5.2, the "%PDF-" header).
+"""
+import io
+import math
+import os
+import sys
+from pathlib import Path
+
+import pytest
+
+from conftest import MICROPYTHON, ROOT, VECTORS, require_micropython, run_script
+
+sys.path.insert(0, str(VECTORS))
+import gen_station as G  # noqa: E402
+
+from tinygeo import record  # noqa: E402
+from tinygeo.host import cli, stationlog, table  # noqa: E402
+from tinygeo.station import Station  # noqa: E402
+
+BUOY_LOG = ROOT / "examples" / "buoy_day.csv"
+BUOY = ROOT / "ports" / "micropython" / "buoy.py"
+
+
+def main(args, text=""):
+    out, err = io.StringIO(), io.StringIO()
+    rc = cli.main([str(a) for a in args], stdin=io.StringIO(text), stdout=out, stderr=err)
+    assert "Traceback" not in err.getvalue()
+    return rc, out.getvalue(), err.getvalue()
+
+
+def read_table(text, name="t"):
+    """(reader, rows) of a station table's text."""
+    rd = table.StationTableReader(io.StringIO(text), name)
+    rows = list(rd)
+    return rd, rows
+
+
+def records(text):
+    """The ``#:`` records of a table: what -> dict of key -> text."""
+    out = {}
+    for ln in text.splitlines():
+        if ln.startswith("#: "):
+            body = ln[3:].split(" -- ")[0].split()
+            out[body[0]] = dict(w.split("=", 1) for w in body[1:])
+    return out
+
+
+@pytest.fixture(scope="module")
+def buoy():
+    rc, out, err = main(["station", BUOY_LOG])
+    assert rc == 0, err
+    rd, rows = read_table(out, "buoy")
+    return {"out": out, "err": err, "reader": rd, "rows": rows}
+
+
+def station_log(pressures_hpa, step_s=60, t_c=11.0, rh=80.0, head="# lat_deg=47.0 height_m=20"):
+    """A log of readings every ``step_s`` s with these pressures (hPa)."""
+    lines = [head, "time_s,pressure_hpa,temp_c,rh_pct"]
+    for i, p in enumerate(pressures_hpa):
+        tc = t_c(i * step_s) if callable(t_c) else t_c
+        lines.append("%d,%.2f,%.2f,%.1f" % (i * step_s, p, tc, rh))
+    return "\n".join(lines) + "\n"
+
+
+# ================================================================ the table's values
+def test_rows_reduce_to_sea_level_as_the_published_formula(buoy):
+    # [WMO8] reduction and [ICAO] QNH in mpmath (gen_station) on the row's own
+    # printed p_pa, t_k and rh_pct; the barometer's geopotential height from
+    # the closed normal potential (gen_station.ref_gph). The row prints 0.01 Pa
+    # (an input and the result: up to 0.01 Pa apart) and 0.001 K: measured
+    # worst 0.0082 Pa (mslp), 0.0081 Pa (qnh); goal 0.011 Pa
+    gph = G.ref_gph(3.5, 54.2)
+    worst_m = worst_q = 0.0
+    n = 0
+    for r in buoy["rows"]:
+        if r.p_pa != r.p_pa:
+            assert r.mslp_pa != r.mslp_pa and r.qnh_pa != r.qnh_pa      # stuck hour: unknown
+            continue
+        tv = G.ref_tv(r.t_k, r.p_pa, r.rh_pct)
+        worst_m = max(worst_m, abs(r.mslp_pa - float(G.ref_msl(r.p_pa, tv, gph))))
+        worst_q = max(worst_q, abs(r.qnh_pa - float(G.ref_qnh(r.p_pa, 3.5))))
+        n += 1
+    assert n == 136
+    assert worst_m < 0.011 and worst_q < 0.011, (worst_m, worst_q)
+
+
+def test_rows_dew_point_is_the_inverse_magnus_form(buoy):
+    # [WMO8] Annex 4.B Magnus form solved for the dew point in mpmath
+    # (gen_station.ref_td) on the row's printed t_k and rh_pct (0.001 K,
+    # 0.01 %) and printed to 0.001 K: measured worst 0.0018 K; goal 0.0025 K
+    worst = max(abs(r.td_k - float(G.ref_td(r.t_k, r.rh_pct))) for r in buoy["rows"])
+    assert worst < 0.0025, worst
+
+
+def test_rows_tendency_is_the_change_over_three_hours(buoy):
+    # the 3-hour tendency is p now minus p 3 hours earlier ([WMO8] Ch. 3):
+    # checked on the rows themselves (two printed values: 0.01 Pa)
+    by_time = dict((r.time_s, r) for r in buoy["rows"])
+    checked = 0
+    for r in buoy["rows"]:
+        old = by_time.get(r.time_s - 10800.0)
+        if old is None or old.p_pa != old.p_pa or r.p_pa != r.p_pa:
+            assert r.tend3h_pa != r.tend3h_pa
+            continue
+        assert abs(r.tend3h_pa - (r.p_pa - old.p_pa)) <= 0.011
+        checked += 1
+    # 142 rows - 18 in the first 3 h - 6 stuck - 6 three hours after them - 1 three
+    # hours after the lost burst
+    assert checked == 111
+
+
+def words_hold(code, trace):
+    """Does the trace (3 hours of averages, Pa, oldest first) fit the words
+    of code ``code`` in [0200]? 'same' within 5 Pa (rounds to 0.0 hPa),
+    'steady' within 10 Pa (one unit of the report, 0.1 hPa; common
+    practice), the halves' changes compared for 'more slowly/rapidly'."""
+    a, c = trace[0], trace[-1]
+    m = trace[len(trace) // 2]
+    d = c - a
+    h1, h2 = m - a, c - m
+    peak = max(trace) - max(a, c) > 10.0
+    trough = min(a, c) - min(trace) > 10.0
+    higher, lower, same = d >= 5.0, d <= -5.0, abs(d) < 5.0
+    return {
+        0: peak and not lower,
+        1: higher and h1 > 0 and h2 < h1,
+        2: higher and not peak and not trough,
+        3: higher and (trough or h2 > h1),
+        4: same and not peak and not trough,
+        5: trough and not higher,
+        6: lower and h1 < 0 and h2 > h1,
+        7: lower and not peak and not trough,
+        8: lower and (peak or h2 < h1),
+    }[code]
+
+
+def test_buoy_codes_fit_the_words_of_code_table_0200(buoy):
+    # every code of the buoy day against [0200]'s words on the 19 averages of
+    # its 3 hours (from the table's p_pa)
+    by_time = dict((r.time_s, r.p_pa) for r in buoy["rows"])
+    seen = set()
+    for r in buoy["rows"]:
+        if r.tend_code is None:
+            continue
+        trace = [by_time.get(r.time_s - 600.0 * i, math.nan) for i in range(18, -1, -1)]
+        trace = [p for p in trace if p == p]       # the lost burst's average is missing
+        assert words_hold(r.tend_code, trace), (r.time_s, r.tend_code, trace)
+        seen.add(r.tend_code)
+    assert seen == {1, 2, 3, 5, 6, 7}
+
+
+# each code's 3-hour trace, built to fit its words in [0200] unambiguously:
+# (code, change over the first 1.5 h, over the second 1.5 h), hPa
+SHAPES = ((0, 1.5, -1.0), (1, 1.5, 0.0), (2, 0.75, 0.75), (3, -0.5, 1.5), (4, 0.0, 0.0),
+          (5, -1.5, 1.0), (6, -1.5, 0.0), (7, -0.75, -0.75), (8, 0.5, -1.5))
+
+
+@pytest.mark.parametrize("code,first,second", SHAPES)
+def test_one_log_per_code_of_code_table_0200(code, first, second):
+    # readings every 60 s, constant within each 10-minute average, so the
+    # averages are the designed trace; the average ending 3 h after the
+    # trace's start carries the code its words give ([0200])
+    def p_at(k):          # the k-th average's pressure, hPa (k = 0 .. 18 over the 3 h)
+        if k <= 9:
+            return 1000.0 + first * k / 9.0
+        return 1000.0 + first + second * (k - 9) / 9.0
+    # +-0.01 hPa in turn (a mean of 0 over each average): a flat part is not
+    # a stuck sensor (60 equal readings in a row)
+    ps = [p_at(min(i // 10, 18)) + (0.01 if i % 2 else -0.01) for i in range(200)]
+    assert words_hold(code, [100.0 * p_at(k) for k in range(19)])
+    rc, out, err = main(["station", "-"], station_log(ps))
+    assert rc == 0, err
+    rd, rows = read_table(out)
+    last = [r for r in rows if r.time_s == 10800.0 + 600.0]
+    assert len(last) == 1 and last[0].tend_code == code, [(r.time_s, r.tend_code) for r in rows]
+
+
+def test_a_high_station_reports_its_isobaric_surface_and_24_hour_change():
+    # a station at 1500 m: the 850 hPa surface by default (WMO practice for
+    # stations from about 800 m; the table's iso_gph_m column), against
+    # [WMO8]/[USSA76] eq. 33a in mpmath (gen_station.ref_iso) on the row's
+    # printed values: measured 0.0048 gpm; goal 0.01 gpm. Hourly averages over
+    # 26 h: the 24-hour change is p now minus p 24 h earlier.
+    n = 26 * 60 + 2
+    ps = [845.0 + 3.0 * math.sin(2 * math.pi * i / 1000.0) for i in range(n)]
+    log = station_log(ps, t_c=lambda s: 8.0 + 4.0 * math.sin(2 * math.pi * s / 86400.0),
+                      head="# lat_deg=46.5 height_m=1500")
+    rc, out, err = main(["station", "-", "--average", "3600", "--mean12"], log)
+    assert rc == 0, err
+    rd, rows = read_table(out)
+    assert rd.present[-1] == "iso_gph_m" and rd.station["iso_p_pa"] == "85000.0"
+    gph = G.ref_gph(1500.0, 46.5)
+    worst = 0.0
+    for r in rows:
+        tv = G.ref_tv(r.t_k, r.p_pa, r.rh_pct)
+        worst = max(worst, abs(r.iso_gph_m - float(G.ref_iso(r.p_pa, tv, gph, 85000.0))))
+    assert worst < 0.01, worst
+    by_time = dict((r.time_s, r) for r in rows)
+    day = [r for r in rows if r.time_s - 86400.0 in by_time]
+    assert len(day) == 2
+    for r in day:
+        assert abs(r.chg24h_pa - (r.p_pa - by_time[r.time_s - 86400.0].p_pa)) <= 0.011
+    # --mean12: no temperature 12 hours earlier for the first 12 averages (flag 32)
+    assert [bool(r.flags & 32) for r in rows[:13]] == [True] * 12 + [False]
+
+
+# ================================================================ the summary
+def test_summary_extremes_and_counts_match_a_scan_of_the_table(buoy):
+    rows = buoy["rows"]
+    rec = records(buoy["out"])
+    known = [r for r in rows if r.mslp_pa == r.mslp_pa]
+    hi = max(known, key=lambda r: r.mslp_pa)
+    lo = min(known, key=lambda r: r.mslp_pa)
+    # the summary holds the unrounded value (3 decimals of hPa), the table 0.01 Pa
+    assert abs(float(rec["highest_mslp"]["mslp_hpa"]) * 100.0 - hi.mslp_pa) < 0.06
+    assert float(rec["highest_mslp"]["time_s"]) == hi.time_s == 600.0
+    assert abs(float(rec["lowest_mslp"]["mslp_hpa"]) * 100.0 - lo.mslp_pa) < 0.06
+    assert float(rec["lowest_mslp"]["time_s"]) == lo.time_s
+    falls = [r for r in rows if r.tend3h_pa == r.tend3h_pa]
+    fall = min(falls, key=lambda r: r.tend3h_pa)
+    assert abs(float(rec["largest_fall"]["tend3h_hpa"]) * 100.0 - fall.tend3h_pa) < 0.06
+    assert float(rec["largest_fall"]["time_s"]) == fall.time_s
+    assert rec["largest_fall"]["tend_code"] == "-" and fall.tend_code is None
+    for bit, word in stationlog.FLAG_WORDS:
+        assert int(rec["flags"][word]) == sum(1 for r in rows if r.flags & bit), word
+    assert int(rec["averages"]["count"]) == len(rows) == 142
+    assert rec["flags"]["stuck_p"] == "6" and rec["flags"]["gap"] == "1"
+    # the end record and the counters
+    end = buoy["reader"].end
+    assert end == {"rows": "142", "count": "8575", "rejected": "5", "averages": "142",
+                   "missing": "1"}
+    assert rec["rejected"] == {"count": "5", "humidity": "1", "pressure": "3",
+                               "temperature": "1"}
+    assert rec["restarts"] == {"count": "0"} and rec["open"] == {"readings": "60"}
+
+
+def test_rejected_readings_are_the_invented_spikes_by_line(buoy):
+    # the five rejections reported on stderr name the log lines of the
+    # scenario's five spikes (examples/make_buoy_day.py: P_SPIKES, T_SPIKE,
+    # RH_SPIKE; that script uses no tinygeo code)
+    sys.path.insert(0, str(ROOT / "examples"))
+    import make_buoy_day as M
+    spikes = set(M.P_SPIKES) | {M.T_SPIKE[0], M.RH_SPIKE}
+    lines = BUOY_LOG.read_text().splitlines()
+    reported = [ln for ln in buoy["err"].splitlines() if ln.startswith("tinygeo station: rejected")]
+    assert len(reported) == 5
+    times = set()
+    for ln in reported:
+        n = int(ln.split(" line ")[1].split(":")[0])
+        times.add(int(lines[n - 1].split(",")[0]))
+    assert times == spikes
+    # the messages speak in the command's options
+    assert "(limits: --max-p-step, --max-p-rate)" in buoy["err"]
+    assert "max_p_step_pa" not in buoy["err"]
+
+
+def test_restarts_after_a_clock_set_back_are_counted_with_their_line():
+    # a clock set back by 2 h in the middle: 3 readings in a row restart the
+    # station (Station's takeover_readings); the summary names the line
+    ps = [1005.0] * 400
+    text = station_log(ps)
+    lines = text.splitlines()
+    for i in range(2 + 200, len(lines)):
+        t, rest = lines[i].split(",", 1)
+        lines[i] = "%d,%s" % (int(t) - 7200, rest)
+    rc, out, err = main(["station", "-"], "\n".join(lines) + "\n")
+    assert rc == 0, err
+    rec = records(out)
+    assert rec["restarts"] == {"count": "1", "line1": "205"}
+    assert rec["rejected"] == {"count": "2", "time": "2"}
+    assert "line 203: time_s=4800" in err
+
+
+# ================================================================ units
+def head_of(n):
+    lines = BUOY_LOG.read_text().splitlines()
+    return lines[:3], lines[3], lines[4:4 + n]
+
+
+def relabel(header, conv=None):
+    comments, _, data = head_of(1500)
+    out = comments + [header]
+    for ln in data:
+        w = ln.split(",")
+        if conv:
+            w = conv(w)
+        out.append(",".join(w))
+    return "\n".join(out) + "\n"
+
+
+def test_units_stated_or_inferred_give_the_same_rows():
+    rc, ref, err = main(["station", "-"], relabel("time_s,pressure_hpa,temp_c,rh_pct"))
+    assert rc == 0, err
+    ref_rows = read_table(ref)[1]
+    assert len(ref_rows) == 24
+    # no unit words: hPa and degC inferred from the values, confirmed, said on stderr
+    rc, out, err = main(["station", "-"], relabel("time,p,t,rh"))
+    assert rc == 0, err
+    assert "column 'p' taken as pressure in hPa" in err and "taken as temperature in degC" in err
+    assert [r.p_pa for r in read_table(out)[1]] == [r.p_pa for r in ref_rows]
+    # Pa and K (converted here: x 100 and + 273.15 as printed text)
+    def si(w):
+        return [w[0], "%.0f" % (float(w[1]) * 100.0), "%.2f" % (float(w[2]) + 273.15), w[3]]
+    rc, out, err = main(["station", "-"], relabel("time_s,pressure_pa,temp_k,rh_pct", si))
+    assert rc == 0, err
+    for a, b in zip(read_table(out)[1], ref_rows):
+        assert abs(a.p_pa - b.p_pa) <= 0.011 and abs(a.t_k - b.t_k) <= 0.0011
+
+
+@pytest.mark.parametrize("args,header,words", [
+    (["--pressure", "p:Pa"], "time_s,p,temp_c,rh_pct", "declared in Pa but its value 1011.44 looks "
+                                                        "like hPa"),
+    (["--temperature", "t:K"], "time_s,pressure_hpa,t,rh_pct", "declared in K but its value "
+                                                               "11.51 looks like degC"),
+    ([], "time_s,p,temp_c,rh_pct", None),
+])
+def test_a_unit_the_values_contradict_stops_with_the_option_to_give(args, header, words):
+    rc, out, err = main(["station", "-"] + args, relabel(header))
+    if words is None:
+        assert rc == 0, err
+        return
+    assert rc == 2 and words in err, err
+    assert out == ""
+
+
+def test_a_height_far_from_the_pressures_is_refused_or_noted():
+    text = relabel("time_s,pressure_hpa,temp_c,rh_pct")
+    # 3500 m: every pressure lies kilometres of pressure altitude away (guard_m 2000)
+    rc, out, err = main(["station", "-", "--height", "3500"], text)
+    assert rc == 2 and "none of the first 50 readings was accepted" in err, err
+    assert "wrong unit or --height?" in err
+    # 1000 m: accepted, but the sea-level pressure is beyond the recorded
+    # extremes (1085 hPa; WMO archive of weather extremes, from memory): a note
+    rc, out, err = main(["station", "-", "--height", "1000"], text)
+    assert rc == 0 and "beyond the recorded extremes" in err and "--height 1000" in err, err
+
+
+# ================================================================ refusals and files
+@pytest.mark.parametrize("args,head,words", [
+    ([], "# lat_deg=54.2", "the station's height is not known: pass --height M"),
+    ([], "# lat_deg=54.2 start_height_m=3.5", "if the barometer stays there, pass --height 3.5"),
+    ([], "# height_m=3.5", "the latitude is not known: pass --lat DEG"),
+    (["--average", "700"], None, "--average 700 must be whole seconds dividing 10800 s"),
+    (["--iso-surface", "85000"], None, "Pa passed? give hPa: --iso-surface 850"),
+    (["--max-p-rate", "none"], None, "invalid"),
+    (["--stuck", "2.5"], None, "--stuck 2.5: give a whole number of readings"),
+    (["--takeover", "1"], None, "--takeover 1 outside 2..100 readings"),
+])
+def test_settings_and_heights_refused_with_what_to_pass(args, head, words):
+    comments, header, data = head_of(20)
+    lines = ([head] if head else comments) + [header] + data
+    rc, out, err = main(["station", "-"] + args, "\n".join(lines) + "\n")
+    assert rc == 2 and words in err, err
+
+
+def test_no_time_column_is_refused():
+    rc, out, err = main(["station", "-"], "# lat_deg=1 height_m=2\np,t\n1000,10\n")
+    assert rc == 2 and "no time column" in err and "--time NAME" in err, err
+
+
+def test_output_over_the_input_is_refused_and_outputs_are_whole(tmp_path):
+    log = tmp_path / "day.csv"
+    log.write_text(relabel("time_s,pressure_hpa,temp_c,rh_pct"))
+    link = tmp_path / "link.csv"
+    os.symlink(log, link)
+    before = log.read_bytes()
+    for target in (log, link):
+        rc, out, err = main(["station", log, "-o", target])
+        assert rc == 2 and "would overwrite the input" in err, err
+    rc, out, err = main(["station", log, "--summary", log])
+    assert rc == 2
+    assert log.read_bytes() == before
+    # -o and --summary: the table in the file, the summary in both and on stdout
+    rc, out, err = main(["station", log, "-o", tmp_path / "t.tsv", "--summary", tmp_path / "s.txt"])
+    assert rc == 0, err
+    text = (tmp_path / "t.tsv").read_text()
+    summ = (tmp_path / "s.txt").read_text()
+    assert text.startswith(record.STATION_MAGIC + "\n") and text.endswith(summ) and out == summ
+    # a full disk: exit 4, nothing left under the name
+    if os.path.exists("/dev/full"):
+        rc, out, err = main(["station", log, "-o", "/dev/full"])
+        assert rc == 4 and "/dev/full" in err, err
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["day.csv", "link.csv", "s.txt", "t.tsv"]
+
+
+def test_iso_time_stamps_align_the_averages_to_utc():
+    # ISO-8601 stamps from 09:03:27Z every 30 s: averages end on the UTC
+    # clock (09:10, 09:20 ...); time_s counts from 1970-01-01T00:00:00Z
+    import datetime
+    t0 = datetime.datetime(2026, 3, 1, 9, 3, 27, tzinfo=datetime.timezone.utc)
+    lines = ["# lat_deg=50 height_m=10", "utc,pressure_hpa,temp_c"]
+    for i in range(240):
+        t = t0 + datetime.timedelta(seconds=30 * i)
+        lines.append("%s,%.2f,12.0" % (t.strftime("%Y-%m-%dT%H:%M:%SZ"), 1010.0 - 0.002 * i))
+    rc, out, err = main(["station", "-"], "\n".join(lines) + "\n")
+    assert rc == 0, err
+    rd, rows = read_table(out)
+    assert rd.time_origin == "1970-01-01T00:00:00Z"
+    first = datetime.datetime(2026, 3, 1, 9, 10, tzinfo=datetime.timezone.utc).timestamp()
+    assert [r.time_s for r in rows] == [first + 600.0 * k for k in range(len(rows))]
+    assert rows[0].readings == 14          # 09:03:27 .. 09:09:57
+    assert records(out)["highest_mslp"]["utc"] == "2026-03-01T09:10:00Z"
+
+
+def test_stdin_streams_and_the_help_lists_the_flags():
+    rc, out, err = main(["station", "-", "--quiet"], relabel("time_s,pressure_hpa,temp_c,rh_pct"))
+    assert rc == 0 and out.count("\n#: ") >= 6 and "rejected" not in err
+    rc, out, err = main(["station", "--help"])
+    assert rc == 0
+    for words in ("--height M", "--max-p-step PA", "--iso-surface HPA", "128  a run of readings",
+                  "Not for aviation", "tinygeo station examples/buoy_day.csv"):
+        assert words in out, words
+
+
+def test_readme_shows_the_table_and_summary_as_the_command_prints_them(monkeypatch):
+    # the README's "Stations and buoys" block: every line but '...' is a line
+    # of 'tinygeo station examples/buoy_day.csv' (run from the repository root)
+    doc = (ROOT / "README.md").read_text()
+    doc = doc[doc.index("## Stations and buoys"):]
+    start = doc.index("```text\n" + record.STATION_MAGIC) + len("```text\n")
+    block = doc[start:doc.index("```", start)].strip().splitlines()
+    monkeypatch.chdir(ROOT)
+    rc, out, err = main(["station", "examples/buoy_day.csv"])
+    assert rc == 0
+    lines = out.splitlines()
+    assert len(block) >= 20 and block[:7] == lines[:7]
+    for line in block:
+        assert line == "..." or line in lines, line
+    assert "tinygeo station examples/buoy_day.csv -o buoy_day.tsv && tinygeo plot buoy_day.tsv " \
+           "-o examples/buoy_day.png" in doc
+    assert (ROOT / "examples" / "buoy_day.png").read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+
+
+# ================================================================ the table round trip
+def test_table_round_trip_against_a_station_fed_in_process(buoy):
+    # the table's rows, read back, are the Station's attributes after each
+    # completed average (printed to 0.01 Pa / 0.001 K / 0.01 %), and the
+    # '# station' words rebuild a station with the same settings
+    rd = buoy["reader"]
+    words = dict((k, None if v == "nan" else float(v)) for k, v in rd.station.items())
+    for k in ("ice", "mean12"):
+        words[k] = bool(words[k])
+    for k in ("min_readings", "stuck_readings", "takeover_readings"):
+        words[k] = int(words[k])
+    st = Station(**words)
+    assert all(getattr(st, k) == getattr(Station(3.5, 54.2), k) for k in record.STATION_KEYS)
+    got = []
+    for ln in BUOY_LOG.read_text().splitlines()[4:]:
+        w = ln.split(",")
+        try:
+            bits = st.feed(float(w[1]) * 100.0, float(w[2]) + 273.15, float(w[3]), int(w[0]))
+        except ValueError:
+            continue
+        if bits & 1:
+            got.append((st.time_s, st.p_pa, st.mslp_pa, st.tendency_3h_pa, st.tendency_code,
+                        st.t_k, st.rh_pct, st.flags, st.average_readings))
+    assert len(got) == len(buoy["rows"])
+    for g, r in zip(got, buoy["rows"]):
+        assert r.time_s == g[0] and r.tend_code == g[4] and r.flags == g[7] and r.readings == g[8]
+        for a, b, tol in ((r.p_pa, g[1], 0.005), (r.mslp_pa, g[2], 0.005),
+                          (r.tend3h_pa, g[3], 0.005), (r.t_k, g[5], 0.0005),
+                          (r.rh_pct, g[6], 0.005)):
+            assert (a != a and b != b) or abs(a - b) <= tol + 1e-9, (r.time_s, a, b)
+
+
+def test_the_buoy_logger_writes_the_same_table_under_micropython(tmp_path, buoy):
+    # ports/micropython/buoy.py --table: the same rows as the host command
+    # (numbers compared: MicroPython may round a last digit differently),
+    # then read and drawn by the host
+    require_micropython()
+    path = tmp_path / "dev.tsv"
+    run_script(MICROPYTHON, [BUOY, "--log", BUOY_LOG, "--checkpoint", tmp_path / "b.ckpt",
+                             "--table", path])
+    rd, rows = read_table(path.read_text(), "dev")
+    assert rd.end == buoy["reader"].end and rd.summary == []
+    assert rd.station == buoy["reader"].station
+    assert len(rows) == len(buoy["rows"])
+    for a, b in zip(rows, buoy["rows"]):
+        for k in record.STATION_COLUMNS:
+            x, y = getattr(a, k), getattr(b, k)
+            if isinstance(x, float):
+                assert (x != x and y != y) or abs(x - y) <= 0.011, (k, x, y)
+            else:
+                assert x == y, (k, x, y)
+
+
+@pytest.mark.parametrize("text,words", [
+    (record.STATION_MAGIC + "\ntime_s\tp_pa\ttend_code\n600\t1e5\t9\n", "tend_code 9 outside 0..8"),
+    (record.STATION_MAGIC + "\np_pa\tmslp_pa\n", "the fields are time_s and any of"),
+    (record.STATION_MAGIC + "\ntime_s\tp_pa\n600\t1e5\t3\n", "3 fields, expected 2"),
+    ("# tinygeo table 1\n", "not a station table"),
+])
+def test_the_station_table_reader_refuses_what_it_cannot_read(text, words):
+    with pytest.raises(table.TableError, match=words):
+        read_table(text)
+
+
+def test_a_cut_table_has_no_end_and_compare_names_a_station_table(tmp_path, buoy):
+    cut = buoy["out"].split(record.END_PREFIX)[0]
+    rd, rows = read_table(cut)
+    assert rd.end is None and len(rows) == 142
+    path = tmp_path / "st.tsv"
+    path.write_text(buoy["out"])
+    rc, out, err = main(["compare", path])
+    assert rc == 2 and "a station table ('tinygeo station')" in err, err
+
+
+# ================================================================ the plot
+@pytest.fixture(scope="module")
+def station_table(tmp_path_factory, buoy):
+    path = tmp_path_factory.mktemp("plot") / "buoy.tsv"
+    path.write_text(buoy["out"])
+    return path
+
+
+def test_plot_of_a_station_table_writes_png_and_pdf(station_table, tmp_path):
+    pytest.importorskip("matplotlib")
+    png, pdf = tmp_path / "day.png", tmp_path / "day.pdf"
+    rc, out, err = main(["plot", station_table, "-o", png])
+    assert rc == 0 and "142 points of 142" in err, err
+    assert png.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"        # PNG signature
+    # a device's table (no summary records) draws too
+    dev = tmp_path / "dev.tsv"
+    dev.write_text("".join(ln + "\n" for ln in station_table.read_text().splitlines()
+                           if not ln.startswith("#: ") or ln.startswith("#: end")))
+    rc, out, err = main(["plot", dev, "-o", pdf])
+    assert rc == 0, err
+    assert pdf.read_bytes()[:5] == b"%PDF-"                       # PDF header
+    # the plot's summary (a scan of the rows) is the command's
+    rd, rows = read_table(dev.read_text())
+    assert len(rows) == 142
+    rc, out, err = main(["plot", tmp_path / "missing.tsv", "-o", tmp_path / "x.png"])
+    assert rc == 2
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["day.pdf", "day.png", "dev.tsv"]
+
+
+def test_plot_of_an_iso_station_table_and_an_empty_one(tmp_path):
+    pytest.importorskip("matplotlib")
+    import datetime
+    t0 = datetime.datetime(2026, 3, 1, 0, 0, 0, tzinfo=datetime.timezone.utc)
+    lines = ["# lat_deg=50 height_m=10", "utc,pressure_hpa,temp_c"]
+    for i in range(600):
+        t = t0 + datetime.timedelta(seconds=60 * i)
+        lines.append("%s,%.2f,12.0" % (t.strftime("%Y-%m-%dT%H:%M:%SZ"),
+                                       1010.0 - 3.0 * math.sin(i / 200.0)))
+    rc, out, err = main(["station", "-", "-o", tmp_path / "iso.tsv"], "\n".join(lines) + "\n")
+    assert rc == 0, err
+    rc, out, err = main(["plot", tmp_path / "iso.tsv", "-o", tmp_path / "iso.svg"])
+    assert rc == 0, err
+    assert b"<svg" in (tmp_path / "iso.svg").read_bytes()[:400]
+    # a table with no rows (fewer readings than one average)
+    rc, out, err = main(["station", "-", "-o", tmp_path / "empty.tsv"],
+                        "\n".join(lines[:6]) + "\n")
+    assert rc == 0, err
+    rc, out, err = main(["plot", tmp_path / "empty.tsv", "-o", tmp_path / "e.png"])
+    assert rc == 2 and "no rows to plot" in err, err
