@@ -349,6 +349,8 @@ def _nan(x):
 _OPTION_HINTS = (
     ("(max_t_step_k=None: no check)",
      "(limits: --max-t-step, --max-t-rate, --max-t-gradient)"),
+    ("(max_t_step_k=None turns this check off)",
+     "(limits: --max-t-step, --max-t-rate, --max-t-gradient)"),
     ("beyond max_rate_m_s=", "beyond --max-rate "),
     ("(start_guard_m=None: no guard)", "(--start-height)"),
     ("start_height_m=", "start height "),

@@ -156,13 +156,16 @@ def tidy(message, st):
     """A station's rejection message for the command line: the keyword hints
     given as the command's options, long floats rounded."""
     for old, new in (
-            ("(max_p_step_pa=None: no check)", "(limits: --max-p-step, --max-p-rate)"),
-            ("(max_t_step_k=None: no check)", "(limits: --max-t-step, --max-t-rate)"),
-            ("(max_rh_step_pct=None: no check)", "(limits: --max-rh-step, --max-rh-rate)"),
+            ("(max_p_step_pa=None turns this check off)", "(limits: --max-p-step, --max-p-rate)"),
+            ("(max_t_step_k=None turns this check off)", "(limits: --max-t-step, --max-t-rate)"),
+            ("(max_rh_step_pct=None turns this check off)", "(limits: --max-rh-step, --max-rh-rate)"),
             ("wrong unit or height_m? (guard_m=None: no guard)",
              "wrong unit or --height? (--guard none: no such check)"),
             ("takeover_readings in a row restart the station",
-             "%d readings in a row restart the station, --takeover" % st.takeover_readings)):
+             "%d readings in a row restart the station, --takeover" % st.takeover_readings),
+            ("takeover_readings in a row go on from it",
+             "%d readings in a row go on from it, --takeover" % st.takeover_readings),
+            ("(max_gap_s + average_s)", "(--max-gap + --average)")):
         message = message.replace(old, new)
     return round_numbers(message)
 
