@@ -23,7 +23,7 @@ Each is run ``--repeat`` times, alternated, and the fastest run is shown
 (the machine is shared: the fastest is the least disturbed). In this
 process, on the long log's readings parsed beforehand: the STATION FLOOR,
 ``Station.feed`` alone plus the row of each completed average
-(tinygeo.record.station_row), us per reading: what the station costs before
+(tinygeo.stationrecord.row), us per reading: what the station costs before
 the host reads or writes anything. Not run by the tests.
 """
 import argparse
@@ -81,7 +81,7 @@ def child(args):
 def station_floor(path, repeat):
     """us per reading of Station.feed (+ the row of each average) on the
     readings of ``path`` parsed beforehand; the fastest of ``repeat`` runs."""
-    from tinygeo import record
+    from tinygeo import stationrecord
     from tinygeo.station import Station
     rows = []
     with open(path) as f:
@@ -94,7 +94,7 @@ def station_floor(path, repeat):
     for _ in range(repeat):
         st = Station(HEIGHT_M, LAT_DEG)
         feed = st.feed
-        row = record.station_row
+        row = stationrecord.row
         t0 = time.perf_counter()
         for p, t, rh, ts in rows:
             if feed(p, t, rh, ts) & 1:

@@ -1,4 +1,4 @@
-"""``tinygeo station LOG`` and the station table (tinygeo/record.py,
+"""``tinygeo station LOG`` and the station table (tinygeo/stationrecord.py,
 tinygeo/host/table.py, tinygeo/host/stationlog.py, the station plot).
 
 Everything runs in-process (tinygeo.host.cli.main on StringIO streams),
@@ -42,7 +42,7 @@ from conftest import MICROPYTHON, ROOT, VECTORS, require_micropython, run_script
 sys.path.insert(0, str(VECTORS))
 import gen_station as G  # noqa: E402
 
-from tinygeo import record  # noqa: E402
+from tinygeo import record, stationrecord  # noqa: E402
 from tinygeo.host import cli, stationlog, table  # noqa: E402
 from tinygeo.station import Station  # noqa: E402
 
@@ -404,7 +404,7 @@ def test_output_over_the_input_is_refused_and_outputs_are_whole(tmp_path):
     assert rc == 0, err
     text = (tmp_path / "t.tsv").read_text()
     summ = (tmp_path / "s.txt").read_text()
-    assert text.startswith(record.STATION_MAGIC + "\n") and text.endswith(summ) and out == summ
+    assert text.startswith(stationrecord.MAGIC + "\n") and text.endswith(summ) and out == summ
     # a full disk: exit 4, nothing left under the name
     if os.path.exists("/dev/full"):
         rc, out, err = main(["station", log, "-o", "/dev/full"])
@@ -446,7 +446,7 @@ def test_readme_shows_the_table_and_summary_as_the_command_prints_them(monkeypat
     # of 'tinygeo station examples/buoy_day.csv' (run from the repository root)
     doc = (ROOT / "README.md").read_text()
     doc = doc[doc.index("## Stations and buoys"):]
-    start = doc.index("```text\n" + record.STATION_MAGIC) + len("```text\n")
+    start = doc.index("```text\n" + stationrecord.MAGIC) + len("```text\n")
     block = doc[start:doc.index("```", start)].strip().splitlines()
     monkeypatch.chdir(ROOT)
     rc, out, err = main(["station", "examples/buoy_day.csv"])
@@ -472,7 +472,7 @@ def test_table_round_trip_against_a_station_fed_in_process(buoy):
     for k in ("min_readings", "stuck_readings", "takeover_readings"):
         words[k] = int(words[k])
     st = Station(**words)
-    assert all(getattr(st, k) == getattr(Station(3.5, 54.2), k) for k in record.STATION_KEYS)
+    assert all(getattr(st, k) == getattr(Station(3.5, 54.2), k) for k in stationrecord.KEYS)
     got = []
     for ln in BUOY_LOG.read_text().splitlines()[4:]:
         w = ln.split(",")
@@ -505,7 +505,7 @@ def test_the_buoy_logger_writes_the_same_table_under_micropython(tmp_path, buoy)
     assert rd.station == buoy["reader"].station
     assert len(rows) == len(buoy["rows"])
     for a, b in zip(rows, buoy["rows"]):
-        for k in record.STATION_COLUMNS:
+        for k in stationrecord.COLUMNS:
             x, y = getattr(a, k), getattr(b, k)
             if isinstance(x, float):
                 assert (x != x and y != y) or abs(x - y) <= 0.011, (k, x, y)
@@ -514,9 +514,9 @@ def test_the_buoy_logger_writes_the_same_table_under_micropython(tmp_path, buoy)
 
 
 @pytest.mark.parametrize("text,words", [
-    (record.STATION_MAGIC + "\ntime_s\tp_pa\ttend_code\n600\t1e5\t9\n", "tend_code 9 outside 0..8"),
-    (record.STATION_MAGIC + "\np_pa\tmslp_pa\n", "the fields are time_s and any of"),
-    (record.STATION_MAGIC + "\ntime_s\tp_pa\n600\t1e5\t3\n", "3 fields, expected 2"),
+    (stationrecord.MAGIC + "\ntime_s\tp_pa\ttend_code\n600\t1e5\t9\n", "tend_code 9 outside 0..8"),
+    (stationrecord.MAGIC + "\np_pa\tmslp_pa\n", "the fields are time_s and any of"),
+    (stationrecord.MAGIC + "\ntime_s\tp_pa\n600\t1e5\t3\n", "3 fields, expected 2"),
     ("# tinygeo table 1\n", "not a station table"),
 ])
 def test_the_station_table_reader_refuses_what_it_cannot_read(text, words):
@@ -583,3 +583,9 @@ def test_plot_of_an_iso_station_table_and_an_empty_one(tmp_path):
     assert rc == 0, err
     rc, out, err = main(["plot", tmp_path / "empty.tsv", "-o", tmp_path / "e.png"])
     assert rc == 2 and "no rows to plot" in err, err
+
+
+def test_station_table_end_prefix_is_the_column_tables():
+    # stationrecord imports nothing (a buoy logger loads only it): its end
+    # record prefix is written out and must stay the column table's
+    assert stationrecord.END_PREFIX == record.END_PREFIX

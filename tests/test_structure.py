@@ -21,6 +21,7 @@ LAYERS = {
     "tinygeo.constants": 1,
     "tinygeo.checkpoint": 1,
     "tinygeo.record": 1,
+    "tinygeo.stationrecord": 1,
     "tinygeo.gravity": 2,
     "tinygeo.potential": 2,
     "tinygeo.moisture": 2,

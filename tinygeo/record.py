@@ -49,31 +49,8 @@ Layout (UTF-8 text, one record per line, fields separated by one TAB)::
   input on one interpreter; MicroPython may round the last printed digit
   differently, so readers compare numbers, not text.
 
-The station table (tinygeo.station.Station; written by ports/micropython/
-buoy.py and ``tinygeo station``, read by tinygeo/host/table.py and ``tinygeo
-plot``) has the same conventions and its own magic line and columns, one row
-per completed average::
-
-    # tinygeo station table 1
-    # station height_m=3.5 lat_deg=54.2 average_s=600 ...
-    time_s  p_pa  mslp_pa  qnh_pa  tend3h_pa  tend_code  chg24h_pa  t_k  rh_pct  td_k  flags  readings
-    600.000 101144.31 ...
-
-* ``# station`` (``station_line``) holds the station's settings as
-  ``key=value`` words (STATION_KEYS; nan for a setting that is None, 1/0
-  for True/False).
-* ``time_s``: the end of the average, in the clock of the time stamps fed
-  (Station.time_s), s; ``p_pa``, ``mslp_pa``, ``qnh_pa``: mean station
-  pressure, sea-level pressure, QNH, Pa; ``tend3h_pa``: the 3-hour tendency,
-  Pa; ``tend_code``: its characteristic (WMO code table 0200, 0..8; ``-``
-  when unknown); ``chg24h_pa``: the 24-hour change, Pa; ``t_k``, ``rh_pct``,
-  ``td_k``: mean temperature, humidity, dew point; ``flags``: the station's
-  FL_* bits; ``readings``: the accepted readings that fell in the average;
-  ``iso_gph_m``: the geopotential height of the standard isobaric surface
-  (gpm), a column of its own only when the station has one (iso_p_pa set,
-  or a station at 800 m and above). ``nan``: not known.
-* ``#: end`` (``station_end_line``) after the rows: rows written and the
-  station's counters.
+The station table has its own module, tinygeo.stationrecord (same
+conventions).
 """
 
 MAGIC = "# tinygeo table 1"
@@ -168,61 +145,3 @@ def end_line(rows, col):
     retracted). Example: ``#: end rows=3566 count=3566 rejected=4 retracted=0``."""
     return "%srows=%d count=%d rejected=%d retracted=%d" % (
         END_PREFIX, rows, col.count, col.rejected, col.retracted)
-
-
-# --- the station table ----------------------------------------------------------
-STATION_MAGIC = "# tinygeo station table 1"
-"""First line of a station table (name and version of the layout)."""
-STATION_PREFIX = "# station "
-STATION_COLUMNS = ("time_s", "p_pa", "mslp_pa", "qnh_pa", "tend3h_pa", "tend_code", "chg24h_pa",
-                   "t_k", "rh_pct", "td_k", "flags", "readings")
-STATION_ISO = "iso_gph_m"
-"""The column added after STATION_COLUMNS when the station has an isobaric surface."""
-STATION_FORMAT = "%.3f\t%.2f\t%.2f\t%.2f\t%.2f\t%s\t%.2f\t%.3f\t%.2f\t%.3f\t%d\t%d"
-# the Station settings a station line carries, in this order
-STATION_KEYS = ("height_m", "lat_deg", "average_s", "ice", "min_readings", "stuck_readings",
-                "max_p_step_pa", "max_p_rate_pa_s", "max_t_step_k", "max_t_rate_k_s",
-                "max_rh_step_pct", "max_rh_rate_pct_s", "guard_m", "steady_pa", "max_gap_s",
-                "mean12", "iso_p_pa", "takeover_readings")
-
-
-def station_header(st):
-    """The header line of a station table for the tinygeo.station.Station
-    ``st`` (``iso_gph_m`` last when the station has an isobaric surface)."""
-    out = "\t".join(STATION_COLUMNS)
-    if st.iso_p_pa is not None:
-        out += "\t" + STATION_ISO
-    return out
-
-
-def station_line(st):
-    """The ``# station`` line: ``key=value`` words of STATION_KEYS."""
-    out = STATION_PREFIX[:-1]
-    for k in STATION_KEYS:
-        v = getattr(st, k)
-        if v is None:
-            v = _NAN
-        elif v is True or v is False:
-            v = 1 if v else 0
-        out += " %s=%r" % (k, v)
-    return out
-
-
-def station_row(st):
-    """The row of the average a Station has just completed (after a feed
-    that returned EV_AVERAGE), no newline."""
-    code = st.tendency_code
-    out = STATION_FORMAT % (st.time_s, st.p_pa, st.mslp_pa, st.qnh_pa, st.tendency_3h_pa,
-                            "-" if code is None else "%d" % code, st.change_24h_pa, st.t_k,
-                            st.rh_pct, st.dew_point_k, st.flags, st.average_readings)
-    if st.iso_p_pa is not None:
-        out += "\t%.2f" % st.iso_gph_m
-    return out
-
-
-def station_end_line(rows, st):
-    """The end record of a station table: ``rows`` written, and the station's
-    counters. Example: ``#: end rows=142 count=8575 rejected=5 averages=142
-    missing=1``."""
-    return "%srows=%d count=%d rejected=%d averages=%d missing=%d" % (
-        END_PREFIX, rows, st.count, st.rejected, st.averages, st.missing)

@@ -42,7 +42,7 @@ What it shows:
   good slot is restored and the first line says so. A write that fails is
   reported and retried at the next checkpoint, into the same slot.
 - with ``--table PATH`` (``TABLE`` below) every completed average is also
-  written as a row of tinygeo's station table (tinygeo/record.py: the layout
+  written as a row of tinygeo's station table (tinygeo/stationrecord.py: the layout
   ``tinygeo station`` writes and ``tinygeo plot`` draws), flushed, and a
   checkpoint follows each row, so a resumed log appends to its table
   without repeating rows (a power cut between a row and its checkpoint
@@ -68,7 +68,7 @@ LOG = "buoy_day.csv"           # the replayed log (the "sensor" of this example)
 CHECKPOINT = "buoy.ckpt"       # slot files buoy.ckpt.0 and buoy.ckpt.1
 CHECKPOINT_EVERY = 600         # readings between checkpoints (and after each report)
 STOP_AFTER = 0                 # stop after this many readings, no final checkpoint (0 = never)
-TABLE = ""                     # a file for the station table of tinygeo/record.py ("" = none)
+TABLE = ""                     # a file for the station table of tinygeo/stationrecord.py ("" = none)
 
 MAGIC = b"TGBY"
 _HEAD = "<II"
@@ -250,11 +250,11 @@ def run(opts):
     table = None
     rows = 0
     if opts["table"]:
-        from tinygeo import record     # loaded only when a table is written
+        from tinygeo import stationrecord     # loaded only when a table is written
         if got is None:
             table = open(opts["table"], "w")
-            table.write(record.STATION_MAGIC + "\n" + record.station_line(st) + "\n" +
-                        record.station_header(st) + "\n")
+            table.write(stationrecord.MAGIC + "\n" + stationrecord.station_line(st) + "\n" +
+                        stationrecord.header(st) + "\n")
         else:
             rows = table_rows(opts["table"])
             table = open(opts["table"], "a")
@@ -275,7 +275,7 @@ def run(opts):
             if st.time_s % 3600 == 0:
                 print(report_line(st))
             if table is not None:
-                table.write(record.station_row(st) + "\n")
+                table.write(stationrecord.row(st) + "\n")
                 table.flush()
                 rows += 1
             if table is not None or st.time_s % 3600 == 0:
@@ -292,7 +292,7 @@ def run(opts):
     sensor.close()
     slots.save(sensor.index, st)
     if table is not None:
-        table.write(record.station_end_line(rows, st) + "\n")
+        table.write(stationrecord.end_line(rows, st) + "\n")
         table.close()
     print("summary accepted %d rejected %d averages %d missing %d" % (
         st.count, st.rejected, st.averages, st.missing))

@@ -32,6 +32,7 @@ package(
         "sealevel.py",
         "standard.py",
         "station.py",
+        "stationrecord.py",
     ),
     base_path="../..",
 )

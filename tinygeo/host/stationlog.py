@@ -5,7 +5,7 @@ The log is read as ``tinygeo replay`` reads one (tinygeo.host.logread: the
 same column mapping, units stated or inferred and confirmed by the values,
 UTF-8 line by line); the pressure unit is confirmed against the station's
 height. Each reading goes to ``Station.feed``; each completed average
-becomes one row of the station table (tinygeo.record: ``STATION_MAGIC``,
+becomes one row of the station table (tinygeo.stationrecord: ``MAGIC``,
 ``station_line``, ``station_header``, ``station_row``, ``station_end_line``;
 the same functions a logger on a board writes it with), and the summary
 records ``#: what key=value ...`` follow the end record (:class:`Summary`).
@@ -22,7 +22,7 @@ Only the station's public attributes are read.
 """
 import datetime
 
-from tinygeo import record
+from tinygeo import stationrecord
 from tinygeo.station import (EV_AVERAGE, EV_RESTART, FL_STUCK_P, FL_STUCK_T, FL_STUCK_RH,
                              FL_GAP, FL_TREND_GAP, FL_NO_T12, FL_FEW, FL_TAKEOVER)
 from tinygeo.host import table
@@ -292,12 +292,12 @@ class Summary:
 
 def header_lines(st, reader, source_name):
     """The station table's comment and header lines (without newlines)."""
-    lines = [table.STATION_MAGIC, record.station_line(st),
+    lines = [table.STATION_MAGIC, stationrecord.station_line(st),
              table.INPUT_PREFIX + "source=%s %s" % (source_name.replace(" ", "_"),
                                                     reader.describe())]
     if reader.time_origin_s is not None:
         lines.append(table.TIME_ORIGIN_PREFIX + EPOCH)
-    lines.append(record.station_header(st))
+    lines.append(stationrecord.header(st))
     return lines
 
 
@@ -328,7 +328,7 @@ def _rejected(summary, e, lineno, report, st):
 def run(reader, st, summary, report, write=None, before_first=None, flush=None, note=None):
     """Feed every reading of ``reader`` to the Station ``st``.
 
-    Each completed average: its table row (record.station_row) goes to
+    Each completed average: its table row (stationrecord.row) goes to
     ``write(text)`` (with ``flush()`` after it when given) and to
     ``summary.average``. ``before_first()`` is called before the first row
     is written (the table's header). Rejected lines go to
@@ -376,7 +376,7 @@ def run(reader, st, summary, report, write=None, before_first=None, flush=None, 
                     started = True
                     if before_first is not None:
                         before_first()
-                write(record.station_row(st) + "\n")
+                write(stationrecord.row(st) + "\n")
                 if flush is not None:
                     flush()
 
@@ -430,7 +430,7 @@ def command(a, stdin, stdout, stderr):
                         else ", no data lines after the header"))
             if not state["header"]:
                 header()
-            out.write(record.station_end_line(summary.averages, st) + "\n")
+            out.write(stationrecord.end_line(summary.averages, st) + "\n")
             records = summary.lines()
             for line in records:
                 out.write(line + "\n")

@@ -19,7 +19,7 @@ ports/micropython/buoy.py) is read by :class:`StationTableReader` the same
 way: its header names ``time_s`` and any subset of ``STATION_COLUMNS`` (and
 ``iso_gph_m``), in any order.
 """
-from tinygeo import record
+from tinygeo import record, stationrecord
 from tinygeo.errors import TinygeoError
 
 MAGIC = record.MAGIC
@@ -35,9 +35,9 @@ FORMAT = record.FORMAT
 events_text = record.events_text
 format_row = record.row
 
-STATION_MAGIC = record.STATION_MAGIC
-STATION_PREFIX = record.STATION_PREFIX
-STATION_COLUMNS = record.STATION_COLUMNS + (record.STATION_ISO,)
+STATION_MAGIC = stationrecord.MAGIC
+STATION_PREFIX = stationrecord.PREFIX
+STATION_COLUMNS = stationrecord.COLUMNS + (stationrecord.ISO,)
 
 EV_LEVEL = record.EV_LEVEL
 EVENT_BITS = dict((word, bit) for bit, word in record.EVENT_WORDS)
@@ -277,7 +277,7 @@ class StationTableReader:
             raw = lines.readline()
             if not raw:
                 raise TableError("%s: no header line; is this a table written by "
-                                 "'tinygeo station' or tinygeo.record.station_row?" % name)
+                                 "'tinygeo station' or tinygeo.stationrecord.row?" % name)
             self.lineno += 1
             line = raw.rstrip("\r\n")
             if first:
