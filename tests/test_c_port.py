@@ -1281,6 +1281,13 @@ def test_column_checkpoint_byte_identity_and_restore(build):
     print("column checkpoints: %d restore positions in %d streams: bit-identical" % (n_pos, len(bases)))
 
 
+def _f_dt_of(raw):
+    """The track's step _f_dt of a column blob, s."""
+    import struct as _struct
+    off = dict((name, o) for o, _, name in _layout())["st._f_dt"]
+    return _struct.unpack("<d", raw[off:off + 8])[0]
+
+
 def test_column_checkpoint_refusals(build):
     """from_bytes refuses in C exactly what Python refuses: a bit flip (CRC),
     truncation, an extra byte, another magic or version, an inf anywhere, a
@@ -1326,6 +1333,13 @@ def test_column_checkpoint_refusals(build):
         "gps_here 5": _craft(raw, **{"h.gps_here": 5}),
         "int first stamp": _craft(raw, **{"st._t0_int": 1, "st._t0_hi": 0, "st._t0_lo": 7}),
         "nan level (not known yet)": _craft(raw, **{"st.level_p_pa": NAN}),
+        # the track's gain window (_f_lo.._f_hi) tied to _f_dt: a huge one
+        # would keep one step's gains for every step
+        "huge gain window": _craft(raw, **{"st._f_lo": 0.0, "st._f_hi": 1e300}),
+        "gain window, negative": _craft(raw, **{"st._f_lo": -5.0}),
+        "gain window without a step": _craft(raw, **{"st._f_dt": NAN}),
+        "gain window off by 1e-5": _craft(raw, **{"st._f_hi": _f_dt_of(raw) * 1.05 * (1 + 1e-5)}),
+        "gain window within 1e-7": _craft(raw, **{"st._f_hi": _f_dt_of(raw) * 1.05 * (1 + 1e-7)}),
     }
     cmds = [("load", (b.hex(),)) for b in cases.values()]
     for cm in cmds:
@@ -1334,7 +1348,8 @@ def test_column_checkpoint_refusals(build):
         _compare(base[:1] + [cm], c, p)
     got = dict((name, run_py_column(base[:1] + [cm])[0][1][0]) for name, cm in zip(cases, cmds))
     accepted = sorted(n for n, st in got.items() if st == "ok")
-    assert accepted == ["gps_here 5", "int first stamp", "nan level (not known yet)"], got
+    assert accepted == ["gain window within 1e-7", "gps_here 5", "int first stamp",
+                        "nan level (not known yet)"], got
 
 
 def test_column_time_ms_ticks_float_build(build):

@@ -1842,6 +1842,16 @@ tg_status tg_column_from_bytes(tg_column *col, const unsigned char *blob, size_t
     }
     if (!check_values(TGPY_COLUMN__RESTORE_COL, ST_NAMES, st_vals))
         return TG_CHECKPOINT;
+    /* the track's gain window: unknown with f_dt, else the one track makes
+     * for it, within WINDOW_TOL of f_dt (Column.from_bytes) */
+    if (c.f_dt != c.f_dt) {
+        if (c.f_lo == c.f_lo || c.f_hi == c.f_hi)
+            return TG_CHECKPOINT;
+    } else {
+        TG_FLOAT tol = TGPY_COLUMN_WINDOW_TOL * c.f_dt;
+        if (!(TG_FABS(c.f_lo - c.f_dt * TG_L(0.95)) <= tol && TG_FABS(c.f_hi - c.f_dt * TG_L(1.05)) <= tol))
+            return TG_CHECKPOINT;
+    }
     if (c.count && !check_values(TGPY_COLUMN__RESTORE_REC, REC_NAMES, rec_vals[0]))
         return TG_CHECKPOINT;
     if (c.has_b && !check_values(TGPY_COLUMN__RESTORE_REC, REC_NAMES, rec_vals[1]))

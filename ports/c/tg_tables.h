@@ -362,7 +362,8 @@
     X(t0_int) \
     X(t0_hi) \
     X(t0_lo)
-#define TGPY_COLUMN__RESTORE_COL "count 0 1073741823;rejected 0 1073741823;retracted 0 1073741823;phase 0 4;_has_b 0 1;_e_n 0 1073741823;_lvl 0 16;_burst_n 0 100000;_tb_n 0 1073741823;_tp_state 0 3;smooth_gph_m -250000 250000 n;max_gph_m -250000 250000 n;burst_p_pa 0.1 120000 n;level_p_pa 1000 100000 n;level_t_k 150 350 n;tropopause_p_pa 0 120000 n;tropopause_t_k 150 350 n;_var_anchor 0 *;_f_dt 0 * n;_f_a 0 1 n;_f_cx 0 * n;_f_cv 0 * n"
+#define TGPY_COLUMN__RESTORE_COL "count 0 1073741823;rejected 0 1073741823;retracted 0 1073741823;phase 0 4;_has_b 0 1;_e_n 0 1073741823;_lvl 0 16;_burst_n 0 100000;_tb_n 0 1073741823;_tp_state 0 3;smooth_gph_m -250000 250000 n;max_gph_m -250000 250000 n;burst_p_pa 0.1 120000 n;level_p_pa 1000 100000 n;level_t_k 150 350 n;tropopause_p_pa 0 120000 n;tropopause_t_k 150 350 n;_var_anchor 0 *;_f_dt 0 * n;_f_lo 0 * n;_f_hi 0 * n;_f_a 0 1 n;_f_cx 0 * n;_f_cv 0 * n"
+#define TGPY_COLUMN_WINDOW_TOL TG_L(1e-6)
 #define TGPY_COLUMN__RESTORE_REC "p_pa 0.1 120000;t_k 150 350;rh_pct -3 103 n;tv_k 150 350;gph_m -250000 250000;c -1 1;height_m -250000 250000 n;dt 0 * n;h_t 150 350 n;h_p 0.1 120000 n;h_rh -3 103 n;w 0 1 n;gps_m -1000 100000 n;var_done 0 *;var_p 0 *;tm2 0 700;s2 0 *;p_start 0.1 120000 n;tvh 0 *;flags 0 1023;gps_here 0 1"
 #define TGPY_COLUMN__MAGIC "TGCK"
 #define TGPY_COLUMN__VERSION 4
