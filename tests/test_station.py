@@ -40,7 +40,7 @@ import runvec  # noqa: E402
 import tinygeo  # noqa: E402
 from tinygeo import moisture, sealevel, station as S  # noqa: E402
 from tinygeo.errors import CheckpointError, ModelRangeError, RangeError, ReadingError  # noqa: E402
-from tinygeo.station import Station, tendency_code, FL_TAKEOVER, EV_RESTART  # noqa: E402
+from tinygeo.station import Station, tendency_code, FL_GAP, FL_TAKEOVER, EV_RESTART  # noqa: E402
 
 STATION_FILES = sorted((VECTORS / "station").glob("*.txt"))
 
@@ -1152,3 +1152,29 @@ def test_buoy_logger_typechecks_against_micropython_stubs():
                         os.devnull, str(BUOY)], capture_output=True, text=True, cwd=str(ROOT),
                        timeout=300)
     assert p.returncode == 0, p.stdout + p.stderr
+
+
+def test_a_reading_68_years_on_is_refused_so_checkpoints_keep_int32s():
+    # the checkpoint holds the slot numbers, gap_s and the stamps relative to
+    # the first one as int32s (tinygeo.checkpoint's frame): a reading 2**31 s
+    # or more after the start of the first average is refused ('time'), the
+    # station unchanged; one just below is accepted and the blob round-trips
+    # (constructed). Before SPAN_MAX_S, to_bytes raised struct.error after
+    # such a reading, and two float stamps 2e308 apart raised ValueError.
+    s = Station(3.5, 54.2, 600)
+    s.feed(100500.0, 285.0, 80.0, 600)
+    for ts in (600 + 2 ** 31, 600 + 2 ** 40, 1e300):
+        with pytest.raises(ReadingError) as e:
+            s.feed(100500.0, 285.0, 80.0, ts)
+        assert e.value.reason == "time" and "start a new Station" in str(e.value)
+    assert (s.count, s.rejected) == (1, 3)
+    s.feed(100500.0, 285.0, 80.0, 2 ** 31 - 1300)
+    s.feed(100500.0, 285.0, 80.0, 2 ** 31 + 599)
+    assert s.gap_s == (3579137 - 2) * 600 and s.flags & FL_GAP     # slots 1 and 3579137
+    blob = s.to_bytes()
+    assert Station.from_bytes(blob).to_bytes() == blob
+    f = Station(3.5, 54.2, 600)
+    f.feed(100500.0, 285.0, 80.0, -1e308)
+    with pytest.raises(ReadingError) as e:
+        f.feed(100500.0, 285.0, 80.0, 1e308)                 # an inf difference
+    assert e.value.reason == "time"

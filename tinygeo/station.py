@@ -259,7 +259,9 @@ Checks
 ``feed`` checks the reading on its own (a number: int or float, not bool or
 text; in range, with a hint for hPa given as Pa or Celsius as kelvin; the
 pressure plausible for height_m), then against the latest accepted reading
-(time must not go back; the steps above). Every check runs before anything
+(time must not go back; the steps above). A reading SPAN_MAX_S (2**31 s, 68
+years) or more after the start of the first average is refused as 'time'
+(the checkpoint keeps slots and relative stamps as int32s). Every check runs before anything
 is changed: a rejected reading leaves the station exactly as it was, only
 ``rejected`` counts it, so a stream with bad readings interleaved gives
 bit-identical results to the same stream without them. A clock set back
@@ -314,6 +316,12 @@ DAY_S = 86400
 COUNT_MAX = 1073741823
 """2**30 - 1: counters stop here (MicroPython's small-int limit on 32-bit
 boards, so a counter never allocates)."""
+
+SPAN_MAX_S = 2147483648
+"""2**31 s (68 years): a reading at or beyond this time after the station's
+first slot boundary is refused ('time'), so that the slot numbers, gap_s and
+the time stamps relative to the first one fit the checkpoint's int32s and
+doubles exactly (start a new Station)."""
 
 _NAN = float("nan")
 _TS_MAX = 1 << 62     # int time stamps beyond +-2**62 s are refused (10**400 would overflow a float)
@@ -643,6 +651,9 @@ class Station:
             h = pressure_hint(p)
             self._bad("pressure", 4, quote(p_pa), altitude_at(p), self._gph, self.guard_m,
                       h or "wrong unit or height_m? (guard_m=None: no guard)")
+        if self.count and not ts - self._t0 + self._phase < SPAN_MAX_S:
+            # (also an inf difference of two huge float stamps)
+            self._bad("time", 7, quote(time_s), SPAN_MAX_S, quote(self._t0))
         # 2. against the latest accepted reading; a reading that contradicts
         # it joins the recovery run, which takes over after takeover_readings
         # readings in a row (see "Recovery")
@@ -965,7 +976,9 @@ class Station:
                "|time_s=%s before the latest accepted reading's %s; time must not decrease "
                "(clock set back? takeover_readings in a row restart the station)"                    # 5
                "|%s=%s steps %+.3g %s in %s s, beyond the %.3g allowed; spike? (%s=None: "
-               "no check)").split("|")[i] % args                          # 6
+               "no check)"                                                # 6
+               "|time_s=%s lies %d s or more after the start of the station's first average "
+               "(first time_s=%s): start a new Station").split("|")[i] % args  # 7
         if self.rejected < COUNT_MAX:
             self.rejected += 1
         raise ReadingError(msg, reason)
