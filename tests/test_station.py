@@ -786,6 +786,12 @@ def test_checkpoint_of_a_fresh_station_and_refusals():
     j[k] = 999
     with pytest.raises(CheckpointError):
         Station.from_bytes(C.pack(S._MAGIC, S._VERSION, f, j))
+    # a recovery run without the stamp of its latest reading (feed would
+    # subtract None from the next stamp): refused (constructed)
+    j = list(ints)
+    j[len(S._CFG_I) + S._ST_I.index("_run")] = 2
+    with pytest.raises(CheckpointError, match="inconsistent clock"):
+        Station.from_bytes(C.pack(S._MAGIC, S._VERSION, f, j))
 
 
 # ============================================================== O(1) memory

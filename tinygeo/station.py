@@ -1096,7 +1096,8 @@ class Station:
                 i += 1
         check_values(st, _RESTORE, "station")
         if (st.count > 0) != (t0 is not None) or (st.count > 0) != (st._ts is not None) \
-                or st._k < st._kring or st._kring < st._klast:
+                or st._k < st._kring or st._kring < st._klast \
+                or (st._run > 0 and st._rn_ts is None):
             raise CheckpointError("station checkpoint holds an inconsistent clock; not written "
                                   "by this tinygeo")
         return st
