@@ -55,7 +55,7 @@ SRCS = ["constants.c", "gravity.c", "potential.c", "moisture.c", "layers.c", "st
 
 
 def _sources():
-    return [os.path.join(PORT, s) for s in SRCS + ["column.c", "record.c"]]
+    return [os.path.join(PORT, s) for s in SRCS + ["checkpoint.c", "column.c", "record.c", "station.c"]]
 
 
 def _vector_files():
@@ -74,8 +74,9 @@ BUILD_FLAGS = {
 def build():
     """Compile the sources once per build (double, float, sanitizers; the three
     in parallel) and link the runners: {'double', 'float', 'column_double',
-    'column_float', 'vec_double', 'vec_float', 'asan', 'column_asan' and
-    'vec_asan' (None if unavailable), 'asan_err', 'dir'}."""
+    'column_float', 'vec_double', 'vec_float', 'station_double', 'station_float',
+    'stavec_double', 'stavec_float', 'asan', 'column_asan', 'vec_asan',
+    'station_asan' and 'stavec_asan' (None if unavailable), 'asan_err', 'dir'}."""
     gcc = shutil.which("gcc")
     if gcc is None:
         if IN_CI:
@@ -84,8 +85,10 @@ def build():
     tmp = tempfile.mkdtemp(prefix="tinygeo_c_")
     out = {"dir": tmp}
     mains = [os.path.join(PORT, "runvec.c"), os.path.join(PORT, "column_run.c"),
-             os.path.join(PORT, "column_vec.c")]
-    prefix = {mains[0]: "runvec_", mains[1]: "column_", mains[2]: "vec_"}
+             os.path.join(PORT, "column_vec.c"), os.path.join(PORT, "station_run.c"),
+             os.path.join(PORT, "station_vec.c")]
+    prefix = {mains[0]: "runvec_", mains[1]: "column_", mains[2]: "vec_", mains[3]: "station_",
+              mains[4]: "stavec_"}
     procs = {}
     for kind, flags in BUILD_FLAGS.items():
         d = os.path.join(tmp, kind)
@@ -98,6 +101,7 @@ def build():
         _, err = proc.communicate(timeout=120)
         if kind == "asan" and proc.returncode != 0:
             out["asan"], out["column_asan"], out["vec_asan"], out["asan_err"] = None, None, None, err
+            out["station_asan"] = out["stavec_asan"] = None
             continue
         assert proc.returncode == 0, "gcc (%s build) failed:\n%s\n%s" % (kind, " ".join(cmd), err)
         objs = [os.path.join(d, os.path.basename(f)[:-2] + ".o") for f in _sources()]
@@ -109,6 +113,7 @@ def build():
             r = subprocess.run(link, capture_output=True, text=True)
             if kind == "asan" and r.returncode != 0:
                 out["asan"], out["column_asan"], out["vec_asan"], out["asan_err"] = None, None, None, r.stderr
+                out["station_asan"] = out["stavec_asan"] = None
                 break
             assert r.returncode == 0, "link failed:\n%s\n%s" % (" ".join(link), r.stderr)
             out[name] = exe
@@ -177,6 +182,8 @@ def py_call(name, args, mod=None):
         args[5] = bool(args[5])
     if name == "qfe" and len(args) == 5:
         args[4] = bool(args[4])
+    if name == "isobaric_height" and len(args) == 7:
+        args[6] = bool(args[6])
     if name in ("saturation_vapour_pressure", "vapour_pressure", "vapour_pressure_from_dew_point",
                 "dew_point", "dew_point_from_rh", "virtual_temperature") and len(args) in (2, 3, 4):
         n_num = {"saturation_vapour_pressure": 1, "vapour_pressure": 3,
@@ -307,6 +314,13 @@ FLOAT_CASES = [
      lambda r: (r.uniform(85000.0, 105000.0), r.uniform(-100.0, 100.0), r.uniform(250.0, 310.0),
                 r.uniform(0.0, 100.0)), []),
     ("qnh", "qnh", "abs", 0.015, _qnh_case, [(96200.0, 430.0)]),
+    ("isobaric_height", "isobaric_height", "abs", 0.01,
+     lambda r: (r.uniform(55000.0, 100000.0), r.uniform(230.0, 310.0), r.uniform(800.0, 5000.0),
+                r.choice((50000.0, 70000.0, 85000.0, 92500.0))), [(83800.0, 281.15, 1600.0, 85000.0)]),
+    ("isobaric_height rh lat ice", "isobaric_height", "abs", 0.01,
+     lambda r: (r.uniform(55000.0, 100000.0), r.uniform(230.0, 310.0), r.uniform(800.0, 5000.0),
+                r.choice((50000.0, 70000.0, 85000.0)), r.uniform(0.0, 100.0), r.uniform(-90.0, 90.0),
+                float(r.random() < 0.5)), []),
     ("indicated_altitude", "indicated_altitude", "abs", 0.003,
      lambda r: (r.uniform(50000.0, 105000.0), r.uniform(95000.0, 105000.0)), [(96200.0, 101257.4)]),
 ]
@@ -357,6 +371,10 @@ ERROR_CASES = [
     ("sea_level_pressure", (101325.0, 288.0, 6000.0)),
     ("sea_level_pressure", (101325.0, 288.0, 10.0, 120.0)),
     ("sea_level_pressure", (101325.0, 288.0, 10.0, 50.0, 95.0)),
+    ("isobaric_height", (83800.0, 281.15, 1600.0, 40000.0)),
+    ("isobaric_height", (83800.0, 281.15, 6000.0, 85000.0)),
+    ("isobaric_height", (83800.0, 281.15, 1600.0, 85000.0, 150.0)),
+    ("standard_surface_pa", (5001.0,)), ("standard_surface_pa", (-600.0,)),
     ("qfe", (101325.0, 250.0, 288.0)), ("qfe", (101325.0, 10.0, 350.0)), ("qfe", (101325.0, 10.0, 288.0, -5.0)),
     ("qnh", (101325.0, 4000.0)), ("qnh", (45000.0, 0.0)), ("qnh", (101325.0, 5001.0)),
     ("indicated_altitude", (90000.0, 80000.0)), ("indicated_altitude", (0.1, 101325.0)),

@@ -312,6 +312,7 @@ SAME_PA = 5
 """|3-hour change| below which the pressure is 'the same', Pa: it rounds to
 0.0 hPa in a report in tenths of hPa."""
 THREE_H_S = 10800
+HALF_DAY_S = 43200
 DAY_S = 86400
 COUNT_MAX = 1073741823
 """2**30 - 1: counters stop here (MicroPython's small-int limit on 32-bit
@@ -552,7 +553,7 @@ class Station:
         self._stuck = 0 if self.stuck_readings is None else self.stuck_readings
         self._m3 = THREE_H_S // self._avg          # averages in 3 hours
         self._n = DAY_S // self._avg + 1            # ring: 24 hours and the latest
-        self._n12 = 43200 // self._avg + 1
+        self._n12 = HALF_DAY_S // self._avg + 1
         self._ring_p = _ring(self._n)
         self._ring_t = _ring(self._n12) if self.mean12 else None
         self._reset()
