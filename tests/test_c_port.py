@@ -2041,3 +2041,178 @@ def test_station_random_streams_double_bit_identical(build):
                 paths["code"] += attrs[5] >= 0
     print("station streams: %d, bit-identical; paths seen: %s" % (len(streams), paths))
     assert all(v > 0 for v in paths.values()), paths
+
+
+def test_station_checkpoint_restore_and_continue(build):
+    """A blob saved at random positions of random streams (Python's bytes) is
+    restored in C and in Python, both continue bit-identically, and a blob
+    restored at once and saved again gives the same bytes; a blob written by
+    C restores in Python (the -s blobs above are byte-identical already)."""
+    rng = random.Random(31)
+    n_pos = 0
+    for _ in range(12):
+        base = station_stream(rng, n=rng.randint(200, 500))
+        for k in sorted(set(rng.randint(2, len(base) - 1) for _ in range(3))):
+            head = base[:k] + [("save", ())]
+            blob = run_py_station(head)[2][-1]
+            cmds = head + [("load", (blob,)), ("save", ())] + base[k:] + [("save", ())]
+            c = run_c_station(build["station_double"], cmds)
+            p = run_py_station(cmds)
+            _sta_compare(cmds, c, p)
+            j = sum(1 for v, _ in head if v == "save")     # the blob saved right after the load
+            assert p[0][k + 1][0] == "ok" and c[2][j] == blob, _sta_blob_diff(c[2][j], blob)
+            n_pos += 1
+    print("station checkpoints: %d restore positions, bit-identical" % n_pos)
+
+
+def _sta_blob(cmds):
+    return bytes.fromhex(run_py_station(cmds + [("save", ())])[2][-1])
+
+
+def test_station_checkpoint_refusals(build):
+    """tg_station_from_bytes refuses exactly what Station.from_bytes refuses
+    (the station untouched: the attributes after a refused load are those
+    before it), and accepts the same odd but valid blobs."""
+    rng = random.Random(5)
+    cmds = [("init", (25.0, 60.0, {"average_s": 300.0, "mean12": 1}))]
+    cmds += [("feed", (100500.0 + 20.0 * math.sin(i / 40.0), 280.0 + 0.01 * i, 80.0, i * 30))
+             for i in range(700)]
+    raw = _sta_blob(cmds)
+    flip = bytearray(raw)
+    flip[200] ^= 8
+    ver = bytearray(raw)
+    ver[4] = 1
+    cases = {
+        "bit flip": bytes(flip), "truncated": raw[:-1], "extra byte": raw + b"\0",
+        "8 bytes more": _sta_craft(raw)[:-4] + b"\0" * 8 + _sta_craft(raw)[-4:], "one byte": b"\0",
+        "magic": b"TGCK" + raw[4:], "version": bytes(ver), "version, valid CRC": _sta_craft(bytes(ver)),
+        "inf setting": _sta_craft(raw, **{"cfg.steady_pa": INF}),
+        "inf ring": _sta_craft(raw, **{"ring.3": -INF}),
+        "ring 5 Pa": _sta_craft(raw, **{"ring.3": 5.0}),
+        "ring12 500 K": _sta_craft(raw, **{"ring.200": 500.0}),
+        "average_s 700": _sta_craft(raw, **{"cfg.average_s": 700.0}),
+        "average_s 600 (another ring)": _sta_craft(raw, **{"cfg.average_s": 600.0}),
+        "height": _sta_craft(raw, **{"cfg.height_m": 9000.0}),
+        "ice 2": _sta_craft(raw, **{"cfg.ice": 2}),
+        "mean12 0 (a ring too long)": _sta_craft(raw, **{"cfg.mean12": 0}),
+        "stuck 1": _sta_craft(raw, **{"cfg._stuck_set": 1}),
+        "stuck 0 (None)": _sta_craft(raw, **{"cfg._stuck_set": 0}),
+        "takeover 101": _sta_craft(raw, **{"cfg.takeover_readings": 101}),
+        "count": _sta_craft(raw, **{"st.count": COUNT_MAX + 1}),
+        "flags": _sta_craft(raw, **{"st.flags": 256}),
+        "code": _sta_craft(raw, **{"st._code": 9}),
+        "k below kring": _sta_craft(raw, **{"st._k": 0}),
+        "klast above kring": _sta_craft(raw, **{"st._klast": 10 ** 6}),
+        "run": _sta_craft(raw, **{"st._run": 100}),
+        "run without stamp": _sta_craft(raw, **{"st._run": 1}),
+        "p_pa": _sta_craft(raw, **{"st.p_pa": 30000.0}),
+        "nan lp": _sta_craft(raw, **{"st._lp": NAN}),
+        "nan t0": _sta_craft(raw, **{"t0": NAN}),
+        "nan ts": _sta_craft(raw, **{"ts._ts": NAN}),
+        "count 0": _sta_craft(raw, **{"st.count": 0}),
+        "huge inp": _sta_craft(raw, **{"st._inp": 2 ** 31 - 1}),
+        "int first stamp": _sta_craft(raw, **{"st._t0_int": 1, "st._t0_hi": -1, "st._t0_lo": -5}),
+        "float first stamp": _sta_craft(raw, **{"st._t0_int": 0, "t0": 12.5}),
+        "rn_time 1": _sta_craft(raw, **{"st._rn_time": 1}),
+        "nan ring": _sta_craft(raw, **{"ring.3": NAN}),
+    }
+    got = {}
+    for name, b in cases.items():
+        seq = cmds[:1] + [("feed", (100500.0, 280.0, 80.0, 0)), ("load", (b.hex(),))]
+        seq += [("feed", (100500.0 + i, 280.0, 80.0, 21000 + 30 * i)) for i in range(5)]
+        c = run_c_station(build["station_double"], seq)
+        p = run_py_station(seq)
+        assert c[0][2][0] == p[0][2][0], (name, c[0][2][:2], p[0][2][:2])
+        got[name] = p[0][2][0]
+        if name not in ("huge inp",):
+            _sta_compare(seq, c, p, blobs=False)
+        if p[0][2][0] == "checkpoint":
+            assert all(_same(x, y) for x, y in zip(c[0][2][3], c[0][1][3])), name    # untouched
+    accepted = sorted(n for n, s in got.items() if s == "ok")
+    assert accepted == ["float first stamp", "huge inp", "int first stamp", "nan lp", "nan ring", "rn_time 1",
+                        "stuck 0 (None)"], got
+
+
+def test_station_hostile_blobs_no_crash(build):
+    """Blobs with random fields set to random values (a valid CRC): the C
+    build under ASan/UBSan refuses or accepts each as Python does, and a few
+    readings after an accepted one run without a sanitizer report."""
+    exe = build["station_asan"]
+    if exe is None:
+        if ("sanitize" in build["asan_err"] or "asan" in build["asan_err"]) and not IN_CI:
+            pytest.skip("this gcc has no sanitizer runtime: " + build["asan_err"][-200:])
+        pytest.fail("sanitizer build failed: " + build["asan_err"])
+    rng = random.Random(11)
+    seqs = []
+    for _ in range(6):
+        cmds = station_stream(rng, n=300)
+        raw = _sta_blob(cmds)
+        lay = _sta_layout(len(raw), None)
+        for _ in range(40):
+            fields = {}
+            for off, size, name in rng.sample(lay, rng.randint(1, 3)):
+                if size == 4:
+                    fields[name] = rng.choice((-1, 0, 1, 2, 7, 99, 100, COUNT_MAX, 2 ** 31 - 1, -2 ** 31,
+                                               rng.randint(-2 ** 31, 2 ** 31 - 1)))
+                else:
+                    fields[name] = rng.choice((NAN, 0.0, -1.0, 1e300, -1e300, 5e9, 100000.0, 285.0,
+                                               rng.uniform(-1e6, 1e6)))
+            seqs.append(cmds[:1] + [("load", (_sta_craft(raw, **fields).hex(),))]
+                        + [("feed", (100000.0 + 10 * i, 285.0, 80.0 if i % 2 else None, 5e8 + 40.0 * i))
+                           for i in range(6)] + [("save", ())])
+    env = dict(os.environ, ASAN_OPTIONS="detect_leaks=1", UBSAN_OPTIONS="print_stacktrace=1")
+    text = "".join(_sta_text(s) for s in seqs)
+    r = subprocess.run([exe], input=text, capture_output=True, text=True, env=env, timeout=300)
+    assert r.returncode == 0 and "runtime error" not in r.stderr and "Sanitizer" not in r.stderr, r.stderr[-3000:]
+    n_ok = 0
+    for s in seqs:
+        c = run_c_station(build["station_double"], s[:2])
+        p = run_py_station(s[:2])
+        assert c[0][1][0] == p[0][1][0], (s[1], c[0][1], p[0][1])
+        n_ok += p[0][1][0] == "ok"
+    print("hostile station blobs: %d, %d accepted by both, the rest refused by both" % (len(seqs), n_ok))
+    assert 0 < n_ok < len(seqs)
+
+
+def test_station_sanitizers_and_float_build(build):
+    """The ASan/UBSan build of station_run on random streams (blob after every
+    feed) and of station_vec on the vector files: no report, output identical
+    to the double build's. The float build runs the same streams to the end
+    (its values are measured against the vector files above)."""
+    exe = build["station_asan"]
+    if exe is None:
+        if ("sanitize" in build["asan_err"] or "asan" in build["asan_err"]) and not IN_CI:
+            pytest.skip("this gcc has no sanitizer runtime: " + build["asan_err"][-200:])
+        pytest.fail("sanitizer build failed: " + build["asan_err"])
+    rng = random.Random(99)
+    cmds = []
+    for _ in range(8):
+        cmds += station_stream(rng, n=300)
+    for s in _sta_special_streams()[:3]:
+        cmds += s
+    text = _sta_text(cmds)
+    env = dict(os.environ, ASAN_OPTIONS="detect_leaks=1", UBSAN_OPTIONS="print_stacktrace=1")
+    r = subprocess.run([exe, "-s"], input=text, capture_output=True, text=True, env=env, timeout=300)
+    assert r.returncode == 0 and "runtime error" not in r.stderr and "Sanitizer" not in r.stderr, r.stderr
+    ref = subprocess.run([build["station_double"], "-s"], input=text, capture_output=True, text=True,
+                         timeout=120)
+    assert r.stdout == ref.stdout
+    files = sorted(os.path.join(VEC_DIR, "station", f) for f in os.listdir(os.path.join(VEC_DIR, "station")))
+    v = subprocess.run([build["stavec_asan"]] + files, capture_output=True, text=True, env=env, timeout=120)
+    assert v.returncode == 0 and "runtime error" not in v.stderr, v.stdout + v.stderr
+    f = subprocess.run([build["station_float"], "-s"], input=text, capture_output=True, text=True, timeout=120)
+    assert f.returncode == 0 and f.stdout.count("\nr ") == ref.stdout.count("\nr "), f.stderr
+
+
+def test_station_tendency_code_and_surfaces(build):
+    """tg_tendency_code on the traces of station.tendency_code's docstring and
+    random traces with missing values, and tg_standard_surface_pa at the
+    boundaries of sealevel.SURFACES: the same as Python (double and float)."""
+    from tinygeo.sealevel import standard_surface_pa
+    heights = [-500.0, 0.0, 799.999, 800.0, 2299.999, 2300.0, 3699.999, 3700.0, 5000.0]
+    cases = [("surface", "standard_surface_pa", (h,)) for h in heights]
+    for kind in ("double", "float"):
+        got = _run_cases(build[kind], build["dir"], "surface_" + kind, cases)
+        for (_, _, (h,)), (_, status, value) in zip(cases, got):
+            ref = standard_surface_pa(h)
+            assert status == "ok" and (value == ref or (ref is None and value != value)), (kind, h, value)
