@@ -43,7 +43,7 @@ sys.path.insert(0, ROOT)
 from tinygeo.standard import standard_pressure, standard_temperature  # noqa: E402
 
 SRCS = ("constants.c", "gravity.c", "potential.c", "moisture.c", "layers.c", "standard.c",
-        "sealevel.c", "column.c")
+        "sealevel.c", "checkpoint.c", "column.c")
 CFLAGS = ["-std=c99", "-O2", "-ffp-contract=off", "-Wall", "-Wextra", "-Werror"]
 TOP_GPM = 35000.0
 ASCENT_M_S = 5.0

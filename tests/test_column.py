@@ -1021,7 +1021,9 @@ def _forge(col, **values):
 @pytest.mark.parametrize("values", [
     dict(smooth_gph_m=float("inf")), dict(h_gph_m=NAN), dict(h_p_pa=5.0e5), dict(phase=7),
     dict(count=-1), dict(h_tv_k=20.0), dict(h_var_done=-1.0), dict(level_p_pa=123.0),
-    dict(_lvl=17), dict(h_c=float("-inf"))])
+    dict(_lvl=17), dict(h_c=float("-inf")),
+    # the track's gain window, tied to _f_dt (0.95 and 1.05 of it, Column._track)
+    dict(_f_lo=0.0, _f_hi=1e300), dict(_f_lo=-1.0), dict(_f_hi=NAN), dict(_f_dt=NAN)])
 def test_checkpoint_with_valid_crc_but_impossible_state_is_refused(values):
     col = Column(45.0)
     for row in GOOD[:20]:

@@ -41,7 +41,7 @@ import runvec  # noqa: E402
 import tinygeo  # noqa: E402
 from tinygeo import moisture, sealevel, station as S  # noqa: E402
 from tinygeo.errors import CheckpointError, ModelRangeError, RangeError, ReadingError  # noqa: E402
-from tinygeo.station import Station, tendency_code, FL_TAKEOVER, EV_RESTART  # noqa: E402
+from tinygeo.station import Station, tendency_code, FL_GAP, FL_TAKEOVER, EV_RESTART  # noqa: E402
 
 STATION_FILES = sorted((VECTORS / "station").glob("*.txt"))
 
@@ -875,6 +875,12 @@ def test_checkpoint_of_a_fresh_station_and_refusals():
     j[k] = 999
     with pytest.raises(CheckpointError):
         Station.from_bytes(C.pack(S._MAGIC, S._VERSION, f, j))
+    # a recovery run without the stamp of its latest reading (feed would
+    # subtract None from the next stamp): refused (constructed)
+    j = list(ints)
+    j[len(S._CFG_I) + S._ST_I.index("_run")] = 2
+    with pytest.raises(CheckpointError, match="inconsistent clock"):
+        Station.from_bytes(C.pack(S._MAGIC, S._VERSION, f, j))
 
 
 # ============================================================== O(1) memory
@@ -1286,3 +1292,39 @@ def test_crafted_checkpoints_are_refused_or_harmless(mean12):
                 assert x != x or abs(x) < 1e6, (name, v, a, x)
             survived += 1
     assert refused > 50 and survived > 50
+
+
+def test_far_stamps_never_break_a_checkpoint():
+    # the checkpoint keeps the average's number and gap_s as int32s (the
+    # frame of tinygeo.checkpoint): a run far ahead goes on with gap_s
+    # stopping at COUNT_MAX; a run beyond COUNT_MAX averages restarts the
+    # station; stamps beyond 2**62 are refused; every blob round-trips
+    # (constructed; before, to_bytes raised struct.error after a reading
+    # 2**31 s on, and two float stamps 2e308 apart raised ValueError)
+    s = Station(3.5, 54.2, 600)
+    for k in range(10):          # more readings than a run: a run far ahead goes on
+        s.feed(100500.0 + k, 285.0, 80.0, 600 + k)
+    for k in range(3):
+        try:
+            s.feed(100500.0, 285.0, 80.0, 600 + 2 ** 31 + k)
+        except ReadingError as e:
+            assert k < 2 and e.reason == "time"
+    s.feed(100500.0, 285.0, 80.0, 600 + 2 ** 31 + 600)    # completes the far average
+    assert s.count == 12 and s.gap_s == S.COUNT_MAX and s.flags & FL_GAP
+    blob = s.to_bytes()
+    assert Station.from_bytes(blob).to_bytes() == blob
+    far = 600 + 2 ** 31 + 600 * S.COUNT_MAX
+    bits = 0
+    for k in range(3):
+        try:
+            bits = s.feed(100500.0, 285.0, 80.0, far + k)
+        except ReadingError as e:
+            assert k < 2 and e.reason == "time"
+    assert bits & EV_RESTART and s.averages == 0 and s.count == 13
+    blob = s.to_bytes()
+    assert Station.from_bytes(blob).to_bytes() == blob
+    f = Station(3.5, 54.2, 600)
+    f.feed(100500.0, 285.0, 80.0, -1e18)
+    with pytest.raises(ReadingError) as e:
+        f.feed(100500.0, 285.0, 80.0, 1e308)
+    assert e.value.reason == "number" and "2**62" in str(e.value)

@@ -527,7 +527,11 @@ _RESTORE_COL = ("count 0 1073741823;rejected 0 1073741823;retracted 0 1073741823
                 "smooth_gph_m -250000 250000 n;max_gph_m -250000 250000 n;"
                 "burst_p_pa 0.1 120000 n;level_p_pa 1000 100000 n;level_t_k 150 350 n;"
                 "tropopause_p_pa 0 120000 n;tropopause_t_k 150 350 n;_var_anchor 0 *;"
-                "_f_dt 0 * n;_f_a 0 1 n;_f_cx 0 * n;_f_cv 0 * n")
+                "_f_dt 0 * n;_f_lo 0 * n;_f_hi 0 * n;_f_a 0 1 n;_f_cx 0 * n;_f_cv 0 * n")
+WINDOW_TOL = 1e-6
+"""How far a restored gain window (_f_lo, _f_hi) may lie from the one
+Column._track makes for _f_dt (0.95 and 1.05 of it), relative to _f_dt: the
+rounding of a float32 or 30-bit-float board that wrote it (a few 1e-7)."""
 _RESTORE_REC = ("p_pa 0.1 120000;t_k 150 350;rh_pct -3 103 n;tv_k 150 350;"
                 "gph_m -250000 250000;c -1 1;height_m -250000 250000 n;dt 0 * n;"
                 "h_t 150 350 n;h_p 0.1 120000 n;h_rh -3 103 n;w 0 1 n;"
@@ -1823,6 +1827,17 @@ class Column:
             r.t0 = t0
             r.gps_here = bool(r.gps_here)
         check_values(col, _RESTORE_COL, "column")
+        # the track's gain window: unknown with _f_dt, else the one _track
+        # makes for it (a wider one would keep one step's gains for any step)
+        fd, lo, hi = col._f_dt, col._f_lo, col._f_hi
+        if fd != fd:
+            bad = lo == lo or hi == hi
+        else:
+            tol = WINDOW_TOL * fd
+            bad = not (abs(lo - fd * 0.95) <= tol and abs(hi - fd * 1.05) <= tol)
+        if bad:
+            raise CheckpointError("column checkpoint holds the gain window %r..%r s for steps of %r "
+                                  "s; not written by this tinygeo" % (lo, hi, fd))
         if col.count:
             check_values(col._h, _RESTORE_REC, "column")
         if col._has_b:

@@ -267,11 +267,16 @@ def standard_surface_pa(height_m):
     h = _check_height("height_m", height_m)
     if h < HIGH_STATION_M:
         return None
-    if h < 2300.0:
-        return 85000.0
-    if h < 3700.0:
-        return 70000.0
-    return 50000.0
+    for below_m, surface_pa in SURFACES:
+        if h < below_m:
+            return surface_pa
+    return SURFACE_TOP_PA
+
+
+SURFACES = ((2300.0, 85000.0), (3700.0, 70000.0))
+"""standard_surface_pa's rule: (the barometer height below which, m; the
+surface, Pa), from HIGH_STATION_M up; SURFACE_TOP_PA above the last."""
+SURFACE_TOP_PA = 50000.0
 
 
 ISO_MIN_PA = 50000.0

@@ -282,7 +282,10 @@ Checks
 ``feed`` checks the reading on its own (a number: int or float, not bool or
 text; in range, with a hint for hPa given as Pa or Celsius as kelvin; the
 pressure plausible for height_m), then against the latest accepted reading
-(time must not go back; the steps above). Every check runs before anything
+(time must not go back; the steps above; see "Recovery" for clock steps). A
+reading that would fall in an average COUNT_MAX averages or more after the
+first one (34 years of 1-second averages; checkpoints keep the average's
+number as an int32) restarts the station (EV_RESTART). Every check runs before anything
 is changed: a rejected reading leaves the station exactly as it was, only
 ``rejected`` counts it, so a stream with bad readings interleaved gives
 bit-identical results to the same stream without them. A clock set back
@@ -334,6 +337,7 @@ SAME_PA = 5
 """|3-hour change| below which the pressure is 'the same', Pa: it rounds to
 0.0 hPa in a report in tenths of hPa."""
 THREE_H_S = 10800
+HALF_DAY_S = 43200
 DAY_S = 86400
 COUNT_MAX = 1073741823
 """2**30 - 1: counters stop here (MicroPython's small-int limit on 32-bit
@@ -574,7 +578,7 @@ class Station:
         self._clock_s = self.max_gap_s + self._avg   # the clock step (see "Recovery")
         self._m3 = THREE_H_S // self._avg          # averages in 3 hours
         self._n = DAY_S // self._avg + 1            # ring: 24 hours and the latest
-        self._n12 = 43200 // self._avg + 1
+        self._n12 = HALF_DAY_S // self._avg + 1
         self._ring_p = _ring(self._n)
         self._ring_t = _ring(self._n12) if self.mean12 else None
         self._reset()
@@ -687,9 +691,12 @@ class Station:
                 restart = self._contradicts(why, p, t, rh, ts)
             else:
                 self._run = 0
+        if restart != 1 and self.count and \
+                (ts - self._t0 + self._phase) // self._avg >= COUNT_MAX:
+            restart = 1    # the average's number would leave what a checkpoint holds
         if restart == 1:
-            # a clock set back, or a bad first reading: start afresh from this
-            # reading (the counters go on)
+            # a clock set back, a bad first reading, or the end of the slot
+            # numbers: start afresh from this reading (the counters go on)
             c, r = self.count, self.rejected
             self._reset()
             self.count, self.rejected = c, r
@@ -784,10 +791,8 @@ class Station:
         if self._rn_time == 1 or self.count <= self.takeover_readings:
             return 1
         if self._rn_time == 2:
-            # after a long outage: go on with the averages in between missing,
-            # unless the slot number would leave what a checkpoint holds
-            k = (ts - self._t0 + self._phase) // self._avg
-            return 1 if k > COUNT_MAX else 0
+            # after a long outage: go on with the averages in between missing
+            return 0
         return 2
 
     def _num(self, x, name, unit):
@@ -1144,7 +1149,8 @@ class Station:
             raise CheckpointError("station checkpoint holds sums its counts cannot reach; not "
                                   "written by this tinygeo")
         if (st.count > 0) != (t0 is not None) or (st.count > 0) != (st._ts is not None) \
-                or st._k < st._kring or st._kring < st._klast:
+                or st._k < st._kring or st._kring < st._klast \
+                or (st._run > 0 and st._rn_ts is None):
             raise CheckpointError("station checkpoint holds an inconsistent clock; not written "
                                   "by this tinygeo")
         return st

@@ -1484,76 +1484,6 @@ tg_status tg_column_reanchor_gps(tg_column *col, TG_FLOAT sigma_gps_m, TG_FLOAT 
 typedef char tg__magic_len[(sizeof(TGPY_COLUMN__MAGIC) == 5) ? 1 : -1];
 /* tinygeo.h states the size; a change of column.py's layout stops the build here */
 typedef char tg__checkpoint_size[(HEAD_LEN + PAYLOAD_LEN + 4 == TG_CHECKPOINT_BYTES) ? 1 : -1];
-typedef char tg__ieee_double[(sizeof(double) == 8 && sizeof(uint64_t) == 8) ? 1 : -1];
-
-/* checkpoint.crc32_soft: CRC-32 (IEEE 802.3, reflected polynomial
- * 0xEDB88320, as zlib/binascii), four bits at a time with a 16-entry table */
-static uint32_t crc32_soft(const unsigned char *data, size_t n)
-{
-    static const uint32_t T[16] = {
-        0x00000000u, 0x1db71064u, 0x3b6e20c8u, 0x26d930acu, 0x76dc4190u, 0x6b6b51f4u,
-        0x4db26158u, 0x5005713cu, 0xedb88320u, 0xf00f9344u, 0xd6d6a3e8u, 0xcb61b38cu,
-        0x9b64c2b0u, 0x86d3d2d4u, 0xa00ae278u, 0xbdbdf21cu
-    };
-    uint32_t c = 0xFFFFFFFFu;
-    size_t i;
-    for (i = 0; i < n; i++) {
-        unsigned b = data[i];
-        c = T[(c ^ b) & 15u] ^ (c >> 4);
-        c = T[(c ^ (b >> 4)) & 15u] ^ (c >> 4);
-    }
-    return c ^ 0xFFFFFFFFu;
-}
-
-static unsigned char *put_f64(unsigned char *b, double d)
-{
-    uint64_t u;
-    int i;
-    memcpy(&u, &d, 8);
-    for (i = 0; i < 8; i++)
-        b[i] = (unsigned char)(u >> (8 * i));
-    return b + 8;
-}
-
-static double get_f64(const unsigned char *b)
-{
-    uint64_t u = 0;
-    double x;
-    int i;
-    for (i = 7; i >= 0; i--)
-        u = (u << 8) | b[i];
-    memcpy(&x, &u, 8);
-    return x;
-}
-
-/* struct "<I": little-endian uint32 */
-static unsigned char *put_u32(unsigned char *b, uint32_t u)
-{
-    int i;
-    for (i = 0; i < 4; i++)
-        b[i] = (unsigned char)(u >> (8 * i));
-    return b + 4;
-}
-
-static uint32_t get_u32(const unsigned char *b)
-{
-    return (uint32_t)b[0] | ((uint32_t)b[1] << 8) | ((uint32_t)b[2] << 16) | ((uint32_t)b[3] << 24);
-}
-
-/* struct "<i": two's complement int32. Both directions are defined for every
- * value and bit pattern whatever the width of int and long: int32_t ->
- * uint32_t is modular; back, a pattern of 2^31 or more is -(int32_t)~u - 1
- * (~u is below 2^31), never an out-of-range conversion or an overflow. */
-static unsigned char *put_i32(unsigned char *b, int32_t v)
-{
-    return put_u32(b, (uint32_t)v);
-}
-
-static int32_t get_i32(const unsigned char *b)
-{
-    uint32_t u = get_u32(b);
-    return u <= 0x7FFFFFFFu ? (int32_t)u : -(int32_t)~u - 1;
-}
 
 #define TWO32 4294967296.0
 #define TWO62 4611686018427387904.0
@@ -1593,22 +1523,22 @@ tg_status tg_column_to_bytes(tg_column *col, unsigned char *buf, size_t size)
         double lo = t0 - hi * TWO32;           /* t0 & 0xFFFFFFFF, exact */
         col->t0_int = 1;
         col->t0_hi = (int32_t)hi;
-        col->t0_lo = get_i32(put_u32(buf, (uint32_t)lo) - 4);   /* as '<i'; buf is rewritten below */
+        col->t0_lo = tg__get_i32(tg__put_u32(buf, (uint32_t)lo) - 4);   /* as '<i'; buf is rewritten below */
     }
     memcpy(b, TGPY_COLUMN__MAGIC, 4);
     b[4] = (unsigned char)TGPY_COLUMN__VERSION;
     b[5] = (unsigned char)(PAYLOAD_LEN & 0xFF);
     b[6] = (unsigned char)(PAYLOAD_LEN >> 8);
     b += HEAD_LEN;
-#define PUT_F(name) b = put_f64(b, (double)col->name);
+#define PUT_F(name) b = tg__put_f64(b, (double)col->name);
 #define PUT_ST(name) \
     v = (double)col->name; \
     if (t0 == t0 && v == v && is_clk(#name)) \
         v = v - t0; \
-    b = put_f64(b, v);
+    b = tg__put_f64(b, v);
     TGPY_COLUMN__CFG_F(PUT_F)
     TGPY_COLUMN__ST_F(PUT_ST)
-    b = put_f64(b, t0);
+    b = tg__put_f64(b, t0);
     recs[0] = H(col);
     recs[1] = B(col);
     for (i = 0; i < 2; i++) {
@@ -1617,120 +1547,25 @@ tg_status tg_column_to_bytes(tg_column *col, unsigned char *buf, size_t size)
         v = (double)r->name; \
         if (t0 == t0 && (strcmp(#name, "tsr") == 0 || strcmp(#name, "tr") == 0)) \
             v = v - t0; \
-        b = put_f64(b, v);
+        b = tg__put_f64(b, v);
         TGPY_COLUMN__REC_F(PUT_R)
 #undef PUT_R
     }
-#define PUT_I(name) b = put_i32(b, col->name);
+#define PUT_I(name) b = tg__put_i32(b, col->name);
     TGPY_COLUMN__CFG_I(PUT_I)
     TGPY_COLUMN__ST_I(PUT_I)
     for (i = 0; i < 2; i++) {
         const tg_rec *r = recs[i];
-#define PUT_RI(name) b = put_i32(b, r->name);
+#define PUT_RI(name) b = tg__put_i32(b, r->name);
         TGPY_COLUMN__REC_I(PUT_RI)
 #undef PUT_RI
     }
 #undef PUT_F
 #undef PUT_ST
 #undef PUT_I
-    put_u32(b, crc32_soft(buf, (size_t)(b - buf)));
+    tg__put_u32(b, tg__crc32(buf, (size_t)(b - buf)));
     return TG_OK;
 }
-
-/* parse one bound of a check_values spec: "*" (none) or a decimal number
- * (sign, digits, optional fraction: digits / 10^k, correctly rounded for the
- * short literals the specs hold); advances *s */
-static int spec_num(const char **s, double *v)
-{
-    const char *p = *s;
-    double mant = 0.0, scale = 1.0;
-    int neg = 0, frac = 0;
-    while (*p == ' ')
-        p++;
-    if (*p == '*') {
-        *s = p + 1;
-        return 0;
-    }
-    if (*p == '-') {
-        neg = 1;
-        p++;
-    }
-    for (; (*p >= '0' && *p <= '9') || *p == '.'; p++) {
-        if (*p == '.') {
-            frac = 1;
-            continue;
-        }
-        mant = mant * 10.0 + (double)(*p - '0');
-        if (frac)
-            scale *= 10.0;
-    }
-    *v = (neg ? -mant : mant) / scale;
-    *s = p;
-    return 1;
-}
-
-/* checkpoint.check_values: every entry "name lo hi [n]" of spec must hold for
- * the value of that name (names, vals: the layout's names as C members and
- * the restored values as doubles). 0 if one fails. */
-static int check_values(const char *spec, const char *const *names, const double *vals)
-{
-    const char *s = spec;
-    while (*s) {
-        char name[40];
-        size_t len = 0;
-        double lo = 0.0, hi = 0.0, v;
-        int has_lo, has_hi, nan_ok = 0, i;
-        while (*s == ' ' || *s == ';')
-            s++;
-        if (*s == '\0')
-            break;
-        if (*s == '_')
-            s++;                      /* the C member has no leading underscore */
-        while (*s && *s != ' ' && len < sizeof name - 1)
-            name[len++] = *s++;
-        name[len] = '\0';
-        has_lo = spec_num(&s, &lo);
-        has_hi = spec_num(&s, &hi);
-        while (*s == ' ')
-            s++;
-        if (*s == 'n') {
-            nan_ok = 1;
-            s++;
-        }
-        for (i = 0; names[i] != NULL && strcmp(names[i], name) != 0; i++)
-            ;
-        if (names[i] == NULL)
-            return 0;                 /* a spec naming no field: never written by column.py */
-        v = vals[i];
-        if (v != v) {
-            if (nan_ok)
-                continue;
-            return 0;
-        }
-        if ((has_lo && v < lo) || (has_hi && v > hi))
-            return 0;
-    }
-    return 1;
-}
-
-/* a restored double into a field of the column: a tg_time (double) field
- * takes it as it is, a TG_FLOAT field rounded to TG_FLOAT; 0 when a float
- * build cannot hold it (finite in the blob, infinite as a float: a blob of
- * another build; Python on a float32 board would refuse it the same way) */
-static int set_num(void *field, size_t size, double v)
-{
-    if (size == sizeof(double)) {
-        memcpy(field, &v, sizeof v);
-    } else {
-        float x = (float)v;
-        if (isinf(x) && !isinf(v))
-            return 0;
-        memcpy(field, &x, sizeof x);
-    }
-    return 1;
-}
-typedef char tg__float_or_double[(sizeof(TG_FLOAT) == sizeof(double) || sizeof(TG_FLOAT) == sizeof(float))
-                                 ? 1 : -1];
 
 /* Column.from_bytes: the same refusals (checkpoint.unpack, check_finite, the
  * constructor's checks, check_values with _RESTORE_COL and _RESTORE_REC) */
@@ -1756,23 +1591,23 @@ tg_status tg_column_from_bytes(tg_column *col, const unsigned char *blob, size_t
     length = (uint32_t)blob[5] | ((uint32_t)blob[6] << 8);
     if (n != TG_CHECKPOINT_BYTES || length != PAYLOAD_LEN)
         return TG_CHECKPOINT;                                  /* truncated or corrupted */
-    if (get_u32(blob + n - 4) != crc32_soft(blob, n - 4))
+    if (tg__get_u32(blob + n - 4) != tg__crc32(blob, n - 4))
         return TG_CHECKPOINT;                                  /* CRC-32 mismatch */
     b = blob + HEAD_LEN;
     for (i = 0; i < N_F; i++, b += 8) {
-        f[i] = get_f64(b);
+        f[i] = tg__get_f64(b);
         if (isinf(f[i]))
             return TG_CHECKPOINT;                              /* checkpoint.check_finite */
     }
     for (i = 0; i < N_I; i++, b += 4)
-        iv[i] = get_i32(b);
+        iv[i] = tg__get_i32(b);
     if (iv[0] != 0 && iv[0] != 1)
         return TG_CHECKPOINT;                                  /* unknown ellipsoid code */
     /* the constructor, with the stored settings (NaN stands for None, as
      * Column.from_bytes's opt() makes it) */
     tg_column_config_defaults(&cfg, TG_L(0.0));
     k = 0;
-#define GET_CFG(name) if (!set_num(&cfg.name, sizeof cfg.name, f[k++])) return TG_CHECKPOINT;
+#define GET_CFG(name) if (!tg__set_num(&cfg.name, sizeof cfg.name, f[k++])) return TG_CHECKPOINT;
     TGPY_COLUMN__CFG_F(GET_CFG)
 #undef GET_CFG
     j = 0;
@@ -1814,7 +1649,7 @@ tg_status tg_column_from_bytes(tg_column *col, const unsigned char *blob, size_t
     st_vals[i++] = v; \
     if (v == v && t0 == t0 && is_clk(#name)) \
         v = t0 + v; \
-    if (!set_num(&c.name, sizeof c.name, v)) \
+    if (!tg__set_num(&c.name, sizeof c.name, v)) \
         return TG_CHECKPOINT; \
     k++;
     TGPY_COLUMN__ST_F(GET_ST)
@@ -1828,7 +1663,7 @@ tg_status tg_column_from_bytes(tg_column *col, const unsigned char *blob, size_t
         rec_vals[r][i++] = v; \
         if (v == v && t0 == t0 && (strcmp(#name, "tsr") == 0 || strcmp(#name, "tr") == 0)) \
             v = t0 + v; \
-        if (!set_num(&rc->name, sizeof rc->name, v)) \
+        if (!tg__set_num(&rc->name, sizeof rc->name, v)) \
             return TG_CHECKPOINT; \
         k++;
         TGPY_COLUMN__REC_F(GET_R)
@@ -1840,11 +1675,21 @@ tg_status tg_column_from_bytes(tg_column *col, const unsigned char *blob, size_t
         rec_vals[r][i++] = (double)rc->gps_here;
         rc->t0 = t0;
     }
-    if (!check_values(TGPY_COLUMN__RESTORE_COL, ST_NAMES, st_vals))
+    if (!tg__check_values(TGPY_COLUMN__RESTORE_COL, ST_NAMES, st_vals))
         return TG_CHECKPOINT;
-    if (c.count && !check_values(TGPY_COLUMN__RESTORE_REC, REC_NAMES, rec_vals[0]))
+    /* the track's gain window: unknown with f_dt, else the one track makes
+     * for it, within WINDOW_TOL of f_dt (Column.from_bytes) */
+    if (c.f_dt != c.f_dt) {
+        if (c.f_lo == c.f_lo || c.f_hi == c.f_hi)
+            return TG_CHECKPOINT;
+    } else {
+        TG_FLOAT tol = TGPY_COLUMN_WINDOW_TOL * c.f_dt;
+        if (!(TG_FABS(c.f_lo - c.f_dt * TG_L(0.95)) <= tol && TG_FABS(c.f_hi - c.f_dt * TG_L(1.05)) <= tol))
+            return TG_CHECKPOINT;
+    }
+    if (c.count && !tg__check_values(TGPY_COLUMN__RESTORE_REC, REC_NAMES, rec_vals[0]))
         return TG_CHECKPOINT;
-    if (c.has_b && !check_values(TGPY_COLUMN__RESTORE_REC, REC_NAMES, rec_vals[1]))
+    if (c.has_b && !tg__check_values(TGPY_COLUMN__RESTORE_REC, REC_NAMES, rec_vals[1]))
         return TG_CHECKPOINT;
     *col = c;
     return TG_OK;

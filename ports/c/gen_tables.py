@@ -45,7 +45,10 @@ HERE = os.path.dirname(os.path.abspath(__file__))
 ROOT = os.path.dirname(os.path.dirname(HERE))
 OUT = os.path.join(HERE, "tg_tables.h")
 MODULES = ("constants", "gravity", "potential", "moisture", "layers", "standard", "sealevel",
-           "column", "record")
+           "column", "record", "station")
+SETTINGS = {"column": ("Column", "_count_setting"), "station": ("Station", "_count")}
+"""The modules whose class's settings are generated (column_settings): the
+class and the name of the module's int-setting check."""
 
 
 class NotLiteral(Exception):
@@ -145,6 +148,20 @@ def _joined(node, tuples):
     return None
 
 
+C_KEYWORDS = ("auto", "break", "case", "char", "const", "continue", "default", "do", "double",
+              "else", "enum", "extern", "float", "for", "goto", "if", "inline", "int", "long",
+              "register", "restrict", "return", "short", "signed", "sizeof", "static", "struct",
+              "switch", "typedef", "union", "unsigned", "void", "volatile", "while")
+
+
+def c_member(name):
+    """The C struct member of a Python attribute name: the leading underscores
+    dropped, and a trailing one added to a C keyword (Station._int -> int_;
+    checkpoint.c's tg__check_values applies the same rule to the specs)."""
+    m = name.lstrip("_")
+    return m + "_" if m in C_KEYWORDS else m
+
+
 def _emit_value(src, name, node, lines):
     rows = _number_rows(node)
     if rows is not None:
@@ -166,7 +183,7 @@ def _emit_value(src, name, node, lines):
     if isinstance(node, ast.Tuple) and node.elts and all(_is_str(e) for e in node.elts):
         # a tuple of attribute names (checkpoint layout): an X-macro list, the
         # leading underscore of private names dropped (C struct member names)
-        names = [e.value.lstrip("_") for e in node.elts]
+        names = [c_member(e.value) for e in node.elts]
         lines.append("#define %s_N %d" % (name, len(names)))
         lines.append("#define %s(X) \\\n    %s" % (name, " \\\n    ".join("X(%s)" % n for n in names)))
         return True
@@ -200,13 +217,14 @@ def _is_name(node, name):
 
 def _bound(node, constants, what):
     # a check's bound: a number literal (C: TG_L(text)) or a module-level
-    # number of column.py (C: its TGPY_COLUMN_ macro)
+    # number of the module, or one the constructor imports from a sibling
+    # module (C: its TGPY_<MODULE>_ macro; constants maps the name to it)
     if _is_number_expr(node):
         return node
     if isinstance(node, ast.Name) and node.id in constants:
         return node
     raise SettingError("%s: bound %s is neither a number literal nor a module-level number of "
-                       "column.py" % (what, ast.dump(node)))
+                       "the module" % (what, ast.dump(node)))
 
 
 def _int_range(test, name):
@@ -231,9 +249,20 @@ def _int_range(test, name):
     return tuple(out)
 
 
-def column_settings(src, tree):
-    """The parameters of Column.__init__ (tinygeo/column.py): a list of
-    (name, kind, default node or None, lo node, hi node). The forms read:
+def column_settings(src, tree, cls="Column", count_fn="_count_setting", module="column"):
+    try:
+        return _settings(src, tree, cls, count_fn, module)
+    except SettingError as e:
+        # the messages name Column.__init__ and _count_setting: the class's own
+        raise SettingError(str(e).replace("Column.__init__", cls + ".__init__")
+                           .replace("_count_setting", count_fn))
+
+
+def _settings(src, tree, cls, count_fn, module):
+    """The parameters of Column.__init__ (tinygeo/column.py; or of another
+    class of another module: Station.__init__ of station.py with its _count):
+    a list of (name, kind, default node or None, lo node, hi node), and the
+    {name: C macro} of the named bounds. The forms read:
 
     * ``check_range("name", name, lo, hi, unit, ...)`` (the string is the
       parameter's name; exactly one such call): kind "range", a number
@@ -257,18 +286,24 @@ def column_settings(src, tree):
 
     Any other parameter raises SettingError naming it: a range checked by
     hand would otherwise be copied into C by hand, and forgotten."""
-    constants = set()
+    constants = {}
     init = None
     for stmt in tree.body:
         if isinstance(stmt, ast.Assign) and len(stmt.targets) == 1 and \
                 isinstance(stmt.targets[0], ast.Name) and _is_number_expr(stmt.value):
-            constants.add(stmt.targets[0].id)
-        if isinstance(stmt, ast.ClassDef) and stmt.name == "Column":
+            constants[stmt.targets[0].id] = "TGPY_%s_%s" % (module.upper(), stmt.targets[0].id.upper())
+        if isinstance(stmt, ast.ClassDef) and stmt.name == cls:
             for f in stmt.body:
                 if isinstance(f, ast.FunctionDef) and f.name == "__init__":
                     init = f
     if init is None:
-        raise SettingError("column.py has no Column.__init__")
+        raise SettingError("%s.py has no %s.__init__" % (module, cls))
+    for node in ast.walk(init):
+        # "from .sealevel import HEIGHT_MIN_M" in the constructor
+        if isinstance(node, ast.ImportFrom) and node.level == 1 and node.module in MODULES:
+            for a in node.names:
+                constants.setdefault(a.asname or a.name,
+                                     "TGPY_%s_%s" % (node.module.upper(), a.name.upper()))
     a = init.args
     params = a.args[1:] + a.kwonlyargs
     defaults = [None] * (len(a.args) - 1 - len(a.defaults)) + list(a.defaults) + list(a.kw_defaults)
@@ -300,7 +335,7 @@ def column_settings(src, tree):
             elif fn == "check_flag" and len(node.args) == 2 and isinstance(node.args[1], ast.Name):
                 _label(node.args[0], node.args[1].id, fn)
                 flags.add(node.args[1].id)
-            elif fn == "_count_setting" and len(node.args) == 4 and isinstance(node.args[1], ast.Name):
+            elif fn == count_fn and len(node.args) == 4 and isinstance(node.args[1], ast.Name):
                 name = node.args[1].id
                 _label(node.args[0], name, fn)
                 bounds = node.args[2:4]
@@ -332,6 +367,7 @@ def column_settings(src, tree):
                 and isinstance(node.targets[0], ast.Attribute) and _is_name(node.targets[0].value, "self")):
             stored[node.value.id] = stored.get(node.value.id, 0) + 1
     out = []
+    _settings.bounds = constants      # {name: C macro} of the named bounds, for _emit_settings
     for p, d in zip(params, defaults):
         name = p.arg
         where = "Column.__init__ parameter %r" % name
@@ -342,6 +378,9 @@ def column_settings(src, tree):
             raise SettingError("%s is checked in several ways (%s)" % (where, ", ".join(forms)))
         is_none = isinstance(d, ast.Constant) and d.value is None
         if forms == ["range"]:
+            if d is None:           # a required parameter (Station's height_m): no default
+                out.append((name, "range", None, ranges[name][0], ranges[name][1]))
+                continue
             if not (_is_number_expr(d) or (is_none and name in none_guarded)):
                 raise SettingError("%s: default %s is not a number (or None with an "
                                    "'if %s is None:' branch)" % (where, ast.dump(d), name))
@@ -378,28 +417,33 @@ def column_settings(src, tree):
     return out
 
 
-def _emit_settings(src, tree, lines):
-    sets = column_settings(src, tree)
-    lines.append("/* Column.__init__: %d parameters; per setting its default (_DEF; None -> TG_NAN,"
-                 % len(sets))
-    lines.append(" * as Column stores NaN for None; True/False -> 1/0) and the range its check")
+def _emit_settings(src, tree, lines, module="column"):
+    cls, count_fn = SETTINGS[module]
+    sets = column_settings(src, tree, cls, count_fn, module)
+    bounds = _settings.bounds
+    pre = "TGPY_%s_SET_" % module.upper()
+    lines.append("/* %s.__init__: %d parameters; per setting its default (_DEF; None -> TG_NAN,"
+                 % (cls, len(sets)))
+    lines.append(" * as %s stores NaN for None; True/False -> 1/0) and the range its check" % cls)
     lines.append(" * accepts (_LO, _HI). Read by gen_tables.column_settings. */")
-    lines.append("#define TGPY_COLUMN_SET_N %d" % len(sets))
+    lines.append("#define %sN %d" % (pre, len(sets)))
     others = ["%s (%s)" % (name, kind) for name, kind, _, _, _ in sets
               if kind not in ("range", "int", "flag")]
     if others:
         lines.append("/* the other parameters (kinds of gen_tables.column_settings): %s */"
                      % ", ".join(others))
     for name, kind, d, lo, hi in sets:
-        base = "TGPY_COLUMN_SET_%s" % name.upper()
+        base = pre + name.upper()
         if kind == "range":
-            if isinstance(d, ast.Constant) and d.value is None:
+            if d is None:
+                pass                # required: no default
+            elif isinstance(d, ast.Constant) and d.value is None:
                 lines.append("#define %s_DEF TG_NAN   /* None */" % base)
             else:
                 lines.append("#define %s_DEF TG_L(%s)" % (base, _c_number(src, d)[0]))
             for suffix, b in (("LO", lo), ("HI", hi)):
                 if isinstance(b, ast.Name):
-                    lines.append("#define %s_%s TGPY_COLUMN_%s" % (base, suffix, b.id.upper()))
+                    lines.append("#define %s_%s %s" % (base, suffix, bounds[b.id]))
                 else:
                     lines.append("#define %s_%s TG_L(%s)" % (base, suffix, _c_number(src, b)[0]))
         elif kind == "int":
@@ -443,8 +487,8 @@ def generate(root=ROOT):
                 out.append("#define %s %s" % (base, _c_string(text)))
                 continue
             _emit_value(src, base, val, out)
-        if mod == "column":
-            _emit_settings(src, tree, out)
+        if mod in SETTINGS:
+            _emit_settings(src, tree, out, mod)
         out.append("")
     out.append("#endif /* TG_TABLES_H */")
     return "\n".join(out) + "\n"

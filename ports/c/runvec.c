@@ -59,6 +59,11 @@ static tg_status w_sea_level_pressure3(const TG_FLOAT *a, TG_FLOAT *o) { return 
 static tg_status w_sea_level_pressure4(const TG_FLOAT *a, TG_FLOAT *o) { return tg_sea_level_pressure(A(0), A(1), A(2), &a[3], NULL, 0, o); }
 static tg_status w_sea_level_pressure5(const TG_FLOAT *a, TG_FLOAT *o) { return tg_sea_level_pressure(A(0), A(1), A(2), &a[3], &a[4], 0, o); }
 static tg_status w_sea_level_pressure6(const TG_FLOAT *a, TG_FLOAT *o) { return tg_sea_level_pressure(A(0), A(1), A(2), &a[3], &a[4], ICE(5), o); }
+static tg_status w_isobaric_height4(const TG_FLOAT *a, TG_FLOAT *o) { return tg_isobaric_height(A(0), A(1), A(2), A(3), NULL, NULL, 0, o); }
+static tg_status w_isobaric_height5(const TG_FLOAT *a, TG_FLOAT *o) { return tg_isobaric_height(A(0), A(1), A(2), A(3), &a[4], NULL, 0, o); }
+static tg_status w_isobaric_height6(const TG_FLOAT *a, TG_FLOAT *o) { return tg_isobaric_height(A(0), A(1), A(2), A(3), &a[4], &a[5], 0, o); }
+static tg_status w_isobaric_height7(const TG_FLOAT *a, TG_FLOAT *o) { return tg_isobaric_height(A(0), A(1), A(2), A(3), &a[4], &a[5], ICE(6), o); }
+static tg_status w_standard_surface_pa(const TG_FLOAT *a, TG_FLOAT *o) { return tg_standard_surface_pa(A(0), o); }
 static tg_status w_qfe3(const TG_FLOAT *a, TG_FLOAT *o) { return tg_qfe(A(0), A(1), A(2), NULL, 0, o); }
 static tg_status w_qfe4(const TG_FLOAT *a, TG_FLOAT *o) { return tg_qfe(A(0), A(1), A(2), &a[3], 0, o); }
 static tg_status w_qfe5(const TG_FLOAT *a, TG_FLOAT *o) { return tg_qfe(A(0), A(1), A(2), &a[3], ICE(4), o); }
@@ -130,6 +135,11 @@ static const struct { const char *name; int nargs; fn_t fn; } MAP[] = {
     {"sea_level_pressure", 4, w_sea_level_pressure4},
     {"sea_level_pressure", 5, w_sea_level_pressure5},
     {"sea_level_pressure", 6, w_sea_level_pressure6},
+    {"isobaric_height", 4, w_isobaric_height4},
+    {"isobaric_height", 5, w_isobaric_height5},
+    {"isobaric_height", 6, w_isobaric_height6},
+    {"isobaric_height", 7, w_isobaric_height7},
+    {"standard_surface_pa", 1, w_standard_surface_pa},
     {"qfe", 3, w_qfe3},
     {"qfe", 4, w_qfe4},
     {"qfe", 5, w_qfe5},

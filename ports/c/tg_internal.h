@@ -39,6 +39,7 @@
 #define TG_EXPM1 expm1f
 #define TG_LOG logf
 #define TG_FABS fabsf
+#define TG_FLOOR floorf
 #else
 #define TG_SINGLE 0
 #define TG_SIN sin
@@ -48,6 +49,7 @@
 #define TG_EXPM1 expm1
 #define TG_LOG log
 #define TG_FABS fabs
+#define TG_FLOOR floor
 #endif
 
 /* Branch hints for the compiler's block layout (GCC and clang; nothing
@@ -155,6 +157,8 @@ TG_FLOAT tg__moisture_es(TG_FLOAT t_k, int ice);                     /* E0_PA * 
 TG_FLOAT tg__moisture_f(TG_FLOAT p_pa);                              /* moisture._f */
 TG_FLOAT tg__moisture_tv_w(TG_FLOAT t_k, TG_FLOAT w);                /* moisture.tv_w */
 TG_FLOAT tg__moisture_td_rh(TG_FLOAT t_k, TG_FLOAT rh_pct, int ice); /* moisture.td_rh */
+TG_FLOAT tg__sealevel_msl_tv(TG_FLOAT p_pa, TG_FLOAT tv_k, TG_FLOAT gph_m);           /* sealevel.msl_tv */
+TG_FLOAT tg__sealevel_iso_tv(TG_FLOAT p_pa, TG_FLOAT tv_k, TG_FLOAT gph_m, TG_FLOAT iso_p_pa); /* sealevel.iso_tv */
 /* potential.series: the series at one latitude, D_1(s)..D_6(s) then
  * 1*D_1(s)..6*D_6(s) (Python: a tuple of 12 floats; C fills the caller's array) */
 #define TG_PC_N 12
@@ -164,6 +168,23 @@ TG_FLOAT tg__potential_newton_step(TG_FLOAT z, TG_FLOAT h, const TG_FLOAT *c,
                                    TG_FLOAT a);                                   /* potential.newton_step */
 TG_FLOAT tg__potential_height_series(TG_FLOAT z, const TG_FLOAT *c, TG_FLOAT a);  /* potential.height_series */
 
+
+/* ---- checkpoint.py's frame (checkpoint.c), shared by column.c and station.c ---- */
+#include <stdint.h>
+uint32_t tg__crc32(const unsigned char *data, size_t n);        /* checkpoint.crc32_soft */
+unsigned char *tg__put_f64(unsigned char *b, double d);         /* struct "<d" */
+double tg__get_f64(const unsigned char *b);
+unsigned char *tg__put_u32(unsigned char *b, uint32_t u);       /* struct "<I" */
+uint32_t tg__get_u32(const unsigned char *b);
+unsigned char *tg__put_i32(unsigned char *b, int32_t v);        /* struct "<i" */
+int32_t tg__get_i32(const unsigned char *b);
+/* checkpoint.check_values(obj, spec, what): names are the C members (Python's
+ * names without the leading underscore, gen_tables.c_member), vals the
+ * restored values as doubles; 0 if an entry fails */
+int tg__check_values(const char *spec, const char *const *names, const double *vals);
+/* a restored double into a TG_FLOAT or tg_time field of size size; 0 when a
+ * float build cannot hold it */
+int tg__set_num(void *field, size_t size, double v);
 
 /* ---- the kernels of every reading (layers.lnr, layers.half_k_ln,
  * moisture._ex, moisture.rh_q): defined here, static inline, so that

@@ -143,6 +143,13 @@
 #define TGPY_SEALEVEL_QNH_MAX_PA TG_L(110000.0)
 #define TGPY_SEALEVEL_FIELD_STEP_MAX_M TG_L(200.0)
 #define TGPY_SEALEVEL_HIGH_STATION_M TG_L(800.0)
+#define TGPY_SEALEVEL_SURFACES_ROWS 2
+#define TGPY_SEALEVEL_SURFACES_WIDTH 2
+#define TGPY_SEALEVEL_SURFACES_LENS { 2, 2 }
+#define TGPY_SEALEVEL_SURFACES { \
+    { TG_L(2300.0), TG_L(85000.0) }, \
+    { TG_L(3700.0), TG_L(70000.0) } }
+#define TGPY_SEALEVEL_SURFACE_TOP_PA TG_L(50000.0)
 #define TGPY_SEALEVEL_ISO_MIN_PA TG_L(50000.0)
 #define TGPY_SEALEVEL_ISO_MAX_PA TG_L(100000.0)
 
@@ -362,7 +369,8 @@
     X(t0_int) \
     X(t0_hi) \
     X(t0_lo)
-#define TGPY_COLUMN__RESTORE_COL "count 0 1073741823;rejected 0 1073741823;retracted 0 1073741823;phase 0 4;_has_b 0 1;_e_n 0 1073741823;_lvl 0 16;_burst_n 0 100000;_tb_n 0 1073741823;_tp_state 0 3;smooth_gph_m -250000 250000 n;max_gph_m -250000 250000 n;burst_p_pa 0.1 120000 n;level_p_pa 1000 100000 n;level_t_k 150 350 n;tropopause_p_pa 0 120000 n;tropopause_t_k 150 350 n;_var_anchor 0 *;_f_dt 0 * n;_f_a 0 1 n;_f_cx 0 * n;_f_cv 0 * n"
+#define TGPY_COLUMN__RESTORE_COL "count 0 1073741823;rejected 0 1073741823;retracted 0 1073741823;phase 0 4;_has_b 0 1;_e_n 0 1073741823;_lvl 0 16;_burst_n 0 100000;_tb_n 0 1073741823;_tp_state 0 3;smooth_gph_m -250000 250000 n;max_gph_m -250000 250000 n;burst_p_pa 0.1 120000 n;level_p_pa 1000 100000 n;level_t_k 150 350 n;tropopause_p_pa 0 120000 n;tropopause_t_k 150 350 n;_var_anchor 0 *;_f_dt 0 * n;_f_lo 0 * n;_f_hi 0 * n;_f_a 0 1 n;_f_cx 0 * n;_f_cv 0 * n"
+#define TGPY_COLUMN_WINDOW_TOL TG_L(1e-6)
 #define TGPY_COLUMN__RESTORE_REC "p_pa 0.1 120000;t_k 150 350;rh_pct -3 103 n;tv_k 150 350;gph_m -250000 250000;c -1 1;height_m -250000 250000 n;dt 0 * n;h_t 150 350 n;h_p 0.1 120000 n;h_rh -3 103 n;w 0 1 n;gps_m -1000 100000 n;var_done 0 *;var_p 0 *;tm2 0 700;s2 0 *;p_start 0.1 120000 n;tvh 0 *;flags 0 1023;gps_here 0 1"
 #define TGPY_COLUMN__MAGIC "TGCK"
 #define TGPY_COLUMN__VERSION 4
@@ -504,5 +512,165 @@
     X(time_unit_s) \
     X(ice) \
     X(dry_fallback)
+
+/* ---- tinygeo/station.py ---- */
+#define TGPY_STATION_EV_AVERAGE 1
+#define TGPY_STATION_EV_FLAGS 2
+#define TGPY_STATION_EV_GAP 4
+#define TGPY_STATION_FL_STUCK_P 1
+#define TGPY_STATION_FL_STUCK_T 2
+#define TGPY_STATION_FL_STUCK_RH 4
+#define TGPY_STATION_FL_GAP 8
+#define TGPY_STATION_FL_TREND_GAP 16
+#define TGPY_STATION_FL_NO_T12 32
+#define TGPY_STATION_FL_FEW 64
+#define TGPY_STATION_FL_TAKEOVER 128
+#define TGPY_STATION_EV_RESTART 8
+#define TGPY_STATION_P_MIN_PA TG_L(40000.0)
+#define TGPY_STATION_P_MAX_PA TG_L(115000.0)
+#define TGPY_STATION_T_MIN_K TG_L(180.0)
+#define TGPY_STATION_T_MAX_K TG_L(340.0)
+#define TGPY_STATION_RH_TOL_PCT 3
+#define TGPY_STATION_SAME_PA 5
+#define TGPY_STATION_THREE_H_S 10800
+#define TGPY_STATION_HALF_DAY_S 43200
+#define TGPY_STATION_DAY_S 86400
+#define TGPY_STATION_COUNT_MAX 1073741823
+#define TGPY_STATION_SPAN_MAX_S 2147483648
+#define TGPY_STATION__CFG_F_N 13
+#define TGPY_STATION__CFG_F(X) \
+    X(height_m) \
+    X(lat_deg) \
+    X(average_s) \
+    X(max_p_step_pa) \
+    X(max_p_rate_pa_s) \
+    X(max_t_step_k) \
+    X(max_t_rate_k_s) \
+    X(max_rh_step_pct) \
+    X(max_rh_rate_pct_s) \
+    X(guard_m) \
+    X(steady_pa) \
+    X(max_gap_s) \
+    X(iso_set)
+#define TGPY_STATION__CFG_I_N 5
+#define TGPY_STATION__CFG_I(X) \
+    X(ice) \
+    X(min_readings) \
+    X(stuck_set) \
+    X(mean12) \
+    X(takeover_readings)
+#define TGPY_STATION__ST_F_N 22
+#define TGPY_STATION__ST_F(X) \
+    X(p_pa) \
+    X(t_k) \
+    X(rh_pct) \
+    X(dew_point_k) \
+    X(mslp_pa) \
+    X(qnh_pa) \
+    X(iso_gph_m) \
+    X(tendency_3h_pa) \
+    X(change_24h_pa) \
+    X(rp) \
+    X(sp) \
+    X(cp) \
+    X(rt) \
+    X(st) \
+    X(rr) \
+    X(sr) \
+    X(lp) \
+    X(lt) \
+    X(lrh) \
+    X(rn_p) \
+    X(rn_t) \
+    X(rn_rh)
+#define TGPY_STATION__TS_F_N 4
+#define TGPY_STATION__TS_F(X) \
+    X(ts) \
+    X(tsrh) \
+    X(rn_ts) \
+    X(rn_tsrh)
+#define TGPY_STATION__ST_I_N 27
+#define TGPY_STATION__ST_I(X) \
+    X(count) \
+    X(rejected) \
+    X(averages) \
+    X(missing) \
+    X(flags) \
+    X(code) \
+    X(gap_s) \
+    X(average_readings) \
+    X(k) \
+    X(kring) \
+    X(klast) \
+    X(np) \
+    X(nt) \
+    X(nr) \
+    X(sflags) \
+    X(runp) \
+    X(runt) \
+    X(runr) \
+    X(inp) \
+    X(int_) \
+    X(inr) \
+    X(nslot) \
+    X(t0_int) \
+    X(t0_hi) \
+    X(t0_lo) \
+    X(run) \
+    X(rn_time)
+#define TGPY_STATION__RESTORE "count 0 1073741823;rejected 0 1073741823;averages 0 1073741823;missing 0 1073741823;flags 0 255;_code -1 8;gap_s 0 *;average_readings 0 *;_k -1 *;_kring -1 *;_klast -1 *;_np 0 *;_nt 0 *;_nr 0 *;_sflags 0 255;_runp 0 *;_runt 0 *;_runr 0 *;_inp 0 *;_int 0 *;_inr 0 *;_nslot 0 *;p_pa 40000 115000 n;t_k 180 340 n;rh_pct -3 103 n;mslp_pa 0 200000 n;_lp 40000 115000 n;_lt 180 340 n;_lrh -3 103 n;_run 0 99;_rn_time 0 1;_rn_p 40000 115000 n;_rn_t 180 340 n;_rn_rh -3 103 n"
+#define TGPY_STATION__MAGIC "TGST"
+#define TGPY_STATION__VERSION 2
+/* Station.__init__: 19 parameters; per setting its default (_DEF; None -> TG_NAN,
+ * as Station stores NaN for None; True/False -> 1/0) and the range its check
+ * accepts (_LO, _HI). Read by gen_tables.column_settings. */
+#define TGPY_STATION_SET_N 19
+/* the other parameters (kinds of gen_tables.column_settings): lat_deg (lat), on_event (passthrough) */
+#define TGPY_STATION_SET_HEIGHT_M_LO TGPY_SEALEVEL_HEIGHT_MIN_M
+#define TGPY_STATION_SET_HEIGHT_M_HI TGPY_SEALEVEL_HEIGHT_MAX_M
+#define TGPY_STATION_SET_AVERAGE_S_DEF TG_L(600.0)
+#define TGPY_STATION_SET_AVERAGE_S_LO TG_L(60)
+#define TGPY_STATION_SET_AVERAGE_S_HI TG_L(3600)
+#define TGPY_STATION_SET_ICE_DEF 0   /* False */
+#define TGPY_STATION_SET_MIN_READINGS_DEF 1
+#define TGPY_STATION_SET_MIN_READINGS_LO 1
+#define TGPY_STATION_SET_MIN_READINGS_HI 100000
+#define TGPY_STATION_SET_STUCK_READINGS_DEF 60
+#define TGPY_STATION_SET_STUCK_READINGS_LO 2
+#define TGPY_STATION_SET_STUCK_READINGS_HI 1000000
+#define TGPY_STATION_SET_MAX_P_STEP_PA_DEF TG_L(50)
+#define TGPY_STATION_SET_MAX_P_STEP_PA_LO TG_L(0)
+#define TGPY_STATION_SET_MAX_P_STEP_PA_HI TG_L(100000)
+#define TGPY_STATION_SET_MAX_P_RATE_PA_S_DEF TG_L(1)
+#define TGPY_STATION_SET_MAX_P_RATE_PA_S_LO TG_L(0)
+#define TGPY_STATION_SET_MAX_P_RATE_PA_S_HI TG_L(1000)
+#define TGPY_STATION_SET_MAX_T_STEP_K_DEF TG_L(3)
+#define TGPY_STATION_SET_MAX_T_STEP_K_LO TG_L(0)
+#define TGPY_STATION_SET_MAX_T_STEP_K_HI TG_L(100)
+#define TGPY_STATION_SET_MAX_T_RATE_K_S_DEF TG_L(0.01)
+#define TGPY_STATION_SET_MAX_T_RATE_K_S_LO TG_L(0)
+#define TGPY_STATION_SET_MAX_T_RATE_K_S_HI TG_L(10)
+#define TGPY_STATION_SET_MAX_RH_STEP_PCT_DEF TG_L(10)
+#define TGPY_STATION_SET_MAX_RH_STEP_PCT_LO TG_L(0)
+#define TGPY_STATION_SET_MAX_RH_STEP_PCT_HI TG_L(200)
+#define TGPY_STATION_SET_MAX_RH_RATE_PCT_S_DEF TG_L(0.05)
+#define TGPY_STATION_SET_MAX_RH_RATE_PCT_S_LO TG_L(0)
+#define TGPY_STATION_SET_MAX_RH_RATE_PCT_S_HI TG_L(100)
+#define TGPY_STATION_SET_GUARD_M_DEF TG_L(2000)
+#define TGPY_STATION_SET_GUARD_M_LO TG_L(100)
+#define TGPY_STATION_SET_GUARD_M_HI TG_L(20000)
+#define TGPY_STATION_SET_STEADY_PA_DEF TG_L(10)
+#define TGPY_STATION_SET_STEADY_PA_LO TG_L(0)
+#define TGPY_STATION_SET_STEADY_PA_HI TG_L(1000)
+#define TGPY_STATION_SET_MAX_GAP_S_DEF TG_L(1800)
+#define TGPY_STATION_SET_MAX_GAP_S_LO TG_L(0)
+#define TGPY_STATION_SET_MAX_GAP_S_HI TGPY_STATION_THREE_H_S
+#define TGPY_STATION_SET_MEAN12_DEF 0   /* False */
+#define TGPY_STATION_SET_ISO_P_PA_DEF TG_NAN   /* None */
+#define TGPY_STATION_SET_ISO_P_PA_LO TGPY_SEALEVEL_ISO_MIN_PA
+#define TGPY_STATION_SET_ISO_P_PA_HI TGPY_SEALEVEL_ISO_MAX_PA
+#define TGPY_STATION_SET_TAKEOVER_READINGS_DEF 3
+#define TGPY_STATION_SET_TAKEOVER_READINGS_LO 2
+#define TGPY_STATION_SET_TAKEOVER_READINGS_HI 100
 
 #endif /* TG_TABLES_H */

@@ -151,6 +151,13 @@ tg_status tg_qfe(TG_FLOAT p_pa, TG_FLOAT barometer_above_field_m, TG_FLOAT t_k,
                  const TG_FLOAT *rh_pct, int ice, TG_FLOAT *out);
 tg_status tg_qnh(TG_FLOAT p_pa, TG_FLOAT elevation_m, TG_FLOAT *out);
 tg_status tg_indicated_altitude(TG_FLOAT p_pa, TG_FLOAT qnh_pa, TG_FLOAT *out);
+/* standard_surface_pa(height_m): *out the surface, Pa, NaN for None (below
+ * sealevel.HIGH_STATION_M, 800 m) */
+tg_status tg_standard_surface_pa(TG_FLOAT height_m, TG_FLOAT *out);
+/* isobaric_height(p_pa, t_k, height_m, iso_p_pa, rh_pct, lat_deg, ice): gpm */
+tg_status tg_isobaric_height(TG_FLOAT p_pa, TG_FLOAT t_k, TG_FLOAT height_m, TG_FLOAT iso_p_pa,
+                             const TG_FLOAT *rh_pct, const TG_FLOAT *lat_deg, int ice,
+                             TG_FLOAT *out);
 
 /* ---- column.py: the streaming Column ------------------------------------ */
 /* Event bits, flags and phases: the values of column.py (EV_*, FL_*, PH_*;
@@ -349,6 +356,121 @@ tg_status tg_column_to_bytes(tg_column *col, unsigned char *buf, size_t size);
  * blob Python refuses */
 tg_status tg_column_from_bytes(tg_column *col, const unsigned char *blob, size_t n,
                                tg_column_event_fn on_event, void *on_event_ctx);
+
+/* ---- station.py: the Station (station.c) -------------------------------- */
+/* Event bits and flags: the values of station.py (EV_*, FL_*; station.c stops
+ * the build if they drift). */
+#define TG_STATION_EV_AVERAGE 1
+#define TG_STATION_EV_FLAGS 2
+#define TG_STATION_EV_GAP 4
+#define TG_STATION_EV_RESTART 8
+#define TG_STATION_FL_STUCK_P 1
+#define TG_STATION_FL_STUCK_T 2
+#define TG_STATION_FL_STUCK_RH 4
+#define TG_STATION_FL_GAP 8
+#define TG_STATION_FL_TREND_GAP 16
+#define TG_STATION_FL_NO_T12 32
+#define TG_STATION_FL_FEW 64
+#define TG_STATION_FL_TAKEOVER 128
+
+/* The ring of averages, fixed at compile time: TG_STATION_RING slots hold 24
+ * hours and the latest average for average_s >= 86400 / (TG_STATION_RING - 1).
+ * The default, 1441, is the largest ring Station allows (average_s = 60 s);
+ * a firmware that averages 600 s or longer may build with
+ * -DTG_STATION_RING=145 (tg_station_init refuses a shorter average_s with
+ * TG_RANGE). The mean12 ring of temperatures has (TG_STATION_RING - 1)/2 + 1. */
+#ifndef TG_STATION_RING
+#define TG_STATION_RING 1441
+#endif
+#define TG_STATION_RING12 ((TG_STATION_RING - 1) / 2 + 1)
+
+struct tg_station;
+/* on_event(station, bits, ctx): called after a feed that raised events */
+typedef void (*tg_station_event_fn)(struct tg_station *st, int bits, void *ctx);
+
+/* The Station constructor's arguments, in Python's order, names and units;
+ * tg_station_config_defaults() fills in Python's defaults (generated from
+ * Station.__init__ into tg_tables.h). The settings Python takes as None are
+ * NaN here (max_p_step_pa, max_t_step_k, max_rh_step_pct, guard_m,
+ * iso_p_pa), and 0 for stuck_readings. Flags (ice, mean12) are 0 or 1. */
+typedef struct tg_station_config {
+    TG_FLOAT height_m, lat_deg, average_s;
+    int ice;
+    int32_t min_readings, stuck_readings;
+    TG_FLOAT max_p_step_pa, max_p_rate_pa_s, max_t_step_k, max_t_rate_k_s, max_rh_step_pct;
+    TG_FLOAT max_rh_rate_pct_s, guard_m, steady_pa, max_gap_s;
+    int mean12;
+    TG_FLOAT iso_p_pa;
+    int32_t takeover_readings;
+    tg_station_event_fn on_event;
+    void *on_event_ctx;
+} tg_station_config;
+
+/* The station: the Python attributes of the same name (private ones without
+ * their leading underscore; _int is int_), NaN where Python has nan or None,
+ * code -1 for a tendency_code of None. Fixed size, no allocation, no pointer
+ * into itself: it may be a static variable and may be copied. Time stamps
+ * (t0, ts, tsrh, rn_ts, rn_tsrh) and phase are tg_time (double) in every
+ * build; the integers are int32_t, the checkpoint's int32s. */
+typedef struct tg_station {
+    /* settings (Station.__init__) */
+    TG_FLOAT height_m, lat_deg, average_s, max_p_step_pa, max_p_rate_pa_s, max_t_step_k;
+    TG_FLOAT max_t_rate_k_s, max_rh_step_pct, max_rh_rate_pct_s, guard_m, steady_pa, max_gap_s;
+    TG_FLOAT iso_set, iso_p_pa;
+    int32_t ice, min_readings, stuck_readings, stuck_set, mean12, takeover_readings;
+    tg_station_event_fn on_event;
+    void *on_event_ctx;
+    /* derived settings */
+    int32_t avg, stuck, m3, n, n12;
+    TG_FLOAT gph, p_lo, p_hi, ps, ts_step, rs;
+    /* results of the latest average */
+    TG_FLOAT p_pa, t_k, rh_pct, dew_point_k, mslp_pa, qnh_pa, iso_gph_m, tendency_3h_pa;
+    TG_FLOAT change_24h_pa;
+    int32_t code, flags, gap_s, average_readings, count, rejected, averages, missing;
+    tg_reason reason;                 /* of the latest rejection (C only; Python: ReadingError.reason) */
+    /* the clock and the slots */
+    tg_time t0, phase, ts, tsrh;
+    int32_t k, kring, klast, t0_int, t0_hi, t0_lo;
+    /* the average being built, the stuck test */
+    TG_FLOAT rp, sp, cp, rt, st, rr, sr, lp, lt, lrh;
+    int32_t np, nt, nr, nslot, sflags, runp, runt, runr, inp, int_, inr;
+    /* the recovery memory (kept in checkpoints) */
+    int32_t run, rn_time;
+    TG_FLOAT rn_p, rn_t, rn_rh;
+    tg_time rn_ts, rn_tsrh;
+    /* the rings: ring_p[0 .. n-1], ring_t[0 .. n12-1] (mean12) */
+    TG_FLOAT ring_p[TG_STATION_RING];
+    TG_FLOAT ring_t[TG_STATION_RING12];
+} tg_station;
+
+void tg_station_config_defaults(tg_station_config *cfg, TG_FLOAT height_m, TG_FLOAT lat_deg);
+/* Station(...): TG_RANGE for a bad setting, or an average_s whose ring is
+ * longer than TG_STATION_RING (st untouched) */
+tg_status tg_station_init(tg_station *st, const tg_station_config *cfg);
+/* st.feed(p_pa, t_k, rh_pct, time_s): rh_pct NULL for None, time_s NaN for
+ * None ('time'; Python rejects a nan stamp as 'number'), an infinite one is
+ * 'number'. TG_OK: *bits the event bits. TG_READING: rejected, st->reason
+ * says why, nothing changed but rejected and the recovery memory; *bits = 0. */
+tg_status tg_station_feed(tg_station *st, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_FLOAT *rh_pct,
+                          tg_time time_s, int *bits);
+/* st.time_s: the end of the latest average (NaN before one) */
+tg_time tg_station_time_s(const tg_station *st);
+/* st.tendency_code: 0..8, -1 for None */
+int tg_station_tendency_code(const tg_station *st);
+/* station.tendency_code(trace_pa, steady_pa): *code 0..8 or -1 (None); NaN
+ * for a missing value of the trace; TG_RANGE for trace_pa NULL with n > 0 */
+tg_status tg_tendency_code(const TG_FLOAT *trace_pa, int32_t n, TG_FLOAT steady_pa, int *code);
+/* Checkpoints, byte for byte Station.to_bytes (checkpoint.py's frame, magic
+ * "TGST"); the length depends on average_s and mean12 (the ring):
+ * tg_station_checkpoint_bytes(st), at most TG_STATION_CHECKPOINT_MAX. */
+#define TG_STATION_CHECKPOINT_MAX (7 + 8 * (40 + TG_STATION_RING + TG_STATION_RING12) + 4 * 32 + 4)
+size_t tg_station_checkpoint_bytes(const tg_station *st);
+/* st.to_bytes(): writes tg_station_checkpoint_bytes(st) bytes (TG_RANGE if size is smaller) */
+tg_status tg_station_to_bytes(const tg_station *st, unsigned char *buf, size_t size);
+/* Station.from_bytes(blob, on_event): TG_CHECKPOINT and st untouched for a
+ * blob Python refuses (and for a ring longer than TG_STATION_RING) */
+tg_status tg_station_from_bytes(tg_station *st, const unsigned char *blob, size_t n,
+                                tg_station_event_fn on_event, void *on_event_ctx);
 
 /* ---- record.py: the table of per-reading results (record.c) -------------- */
 /* record.MAGIC ("# tinygeo table 1") and record.HEADER (the column names,
