@@ -14,18 +14,20 @@
  * Deliberate differences (each also where it happens):
  * - time stamps are tg_time (double) in every build, NaN for None; Python
  *   keeps an int stamp an int and computes with it exactly (the slot, the
- *   phase, time_s): the same values for whole stamps below 2^53 (README.md);
- *   a whole stamp of magnitude below 2^62 counts as an int for the
- *   checkpoint's t0_int (Python: isinstance(ts, int));
+ *   phase, time_s, the clock step): the same values for whole stamps below
+ *   2^53 (README.md); a whole stamp of magnitude below 2^62 counts as an int
+ *   for the checkpoint's t0_int (Python: isinstance(ts, int));
  * - a NaN time_s is None ('time'); Python rejects a nan stamp as 'number';
- *   int stamps beyond +-2^62 ('number' in Python) cannot be told from floats;
+ *   stamps of magnitude 2^62 or more are 'number' in both (an int stamp
+ *   within 256 s below 2^62 rounds to 2^62 as a double: refused in C);
  * - a rejected reading returns TG_READING with st->reason (Python raises
  *   ReadingError with a message);
  * - the ring is an array of TG_STATION_RING slots in the struct (Python
  *   allocates the ring of its average_s once, in the constructor);
  * - slot arithmetic in int64_t and counters that a hostile but accepted
- *   checkpoint could push past int32 saturate (Python's ints grow; valid
- *   streams never get there, see sat()).
+ *   checkpoint could push past int32 saturate, a slot beyond int32 is
+ *   clamped (Python's ints grow; valid streams never get there: see sat()
+ *   and the restart at COUNT_MAX averages in tg_station_feed).
  */
 #include <stddef.h>
 #include <stdint.h>
@@ -39,6 +41,7 @@ typedef char tg__station_bits_match[
      && TGPY_STATION_FL_STUCK_RH == TG_STATION_FL_STUCK_RH && TGPY_STATION_FL_GAP == TG_STATION_FL_GAP
      && TGPY_STATION_FL_TREND_GAP == TG_STATION_FL_TREND_GAP && TGPY_STATION_FL_NO_T12 == TG_STATION_FL_NO_T12
      && TGPY_STATION_FL_FEW == TG_STATION_FL_FEW && TGPY_STATION_FL_TAKEOVER == TG_STATION_FL_TAKEOVER
+     && TGPY_STATION_FL_CLOCK_HELD == TG_STATION_FL_CLOCK_HELD
      && TGPY_STATION_COUNT_MAX == TG_COUNT_MAX) ? 1 : -1];
 /* the smallest ring Station needs (average_s = 3600 s: 25 slots) */
 typedef char tg__station_ring_min[(TG_STATION_RING >= TGPY_STATION_DAY_S / 3600 + 1) ? 1 : -1];
@@ -50,7 +53,8 @@ typedef char tg__station_ring_min[(TG_STATION_RING >= TGPY_STATION_DAY_S / 3600 
 #define RH_TOL_PCT ((TG_FLOAT)TGPY_STATION_RH_TOL_PCT)
 #define SAME_PA ((TG_FLOAT)TGPY_STATION_SAME_PA)
 #define COUNT_MAX TGPY_STATION_COUNT_MAX
-#define SPAN_MAX_S ((double)TGPY_STATION_SPAN_MAX_S)
+/* _TS_MAX: time stamps of magnitude 2**62 s or more are refused ('number') */
+#define TS_MAX 4611686018427387904.0
 #define QNH_MIN_PA TGPY_SEALEVEL_QNH_MIN_PA
 #define QNH_MAX_PA TGPY_SEALEVEL_QNH_MAX_PA
 #define FL_STUCK_P TG_STATION_FL_STUCK_P
@@ -61,14 +65,15 @@ typedef char tg__station_ring_min[(TG_STATION_RING >= TGPY_STATION_DAY_S / 3600 
 #define FL_NO_T12 TG_STATION_FL_NO_T12
 #define FL_FEW TG_STATION_FL_FEW
 #define FL_TAKEOVER TG_STATION_FL_TAKEOVER
+#define FL_CLOCK_HELD TG_STATION_FL_CLOCK_HELD
 #define NAN_ TG_NAN
 #define INF_ ((TG_FLOAT)INFINITY)
 #define TNAN ((tg_time)NAN)
 #define SET(name) TGPY_STATION_SET_##name
 
 /* an int64 result into int32, saturated: Python's ints grow without bound,
- * C's may not overflow. Reached only from checkpoints that hold counters
- * near 2^31 (restore allows "0 *" for some), never by valid streams. */
+ * C's may not overflow. Reached only from hostile checkpoints whose stamps
+ * put a slot far from the restored ones, never by valid streams. */
 static int32_t sat(int64_t x)
 {
     if (x > INT32_MAX)
@@ -252,6 +257,7 @@ static void apply_config(tg_station *s, const tg_station_config *cfg, const deri
     s->ts_step = s->max_t_step_k != s->max_t_step_k ? INF_ : s->max_t_step_k;
     s->rs = s->max_rh_step_pct != s->max_rh_step_pct ? INF_ : s->max_rh_step_pct;
     s->stuck = s->stuck_readings;
+    s->clock_s = (tg_time)s->max_gap_s + (tg_time)s->avg;   /* the clock step (station.py, "Recovery") */
     s->m3 = d->m3;
     s->n = d->n;
     s->n12 = d->n12;
@@ -450,49 +456,65 @@ static tg_status bad(tg_station *s, tg_reason reason)
     return TG_READING;
 }
 
-/* Station._against: TG_REASON_NONE if the reading agrees with the reference
- * reading (lp, lt, lrh at stamps lts, ltsrh; NaN: None), else why not */
-static tg_reason against(const tg_station *s, TG_FLOAT p, TG_FLOAT t, TG_FLOAT rh, tg_time ts,
-                         TG_FLOAT lp, TG_FLOAT lt, TG_FLOAT lrh, tg_time lts, tg_time ltsrh)
+/* why a reading contradicts another (Station._against's tuple: its reason
+ * and, for 'time', its message: 5 back, 7 ahead beyond the clock step) */
+enum { WHY_NONE, WHY_BACK, WHY_AHEAD, WHY_P, WHY_T, WHY_RH };
+static const tg_reason WHY_REASON[] = {
+    TG_REASON_NONE, TG_REASON_TIME, TG_REASON_TIME, TG_REASON_PRESSURE, TG_REASON_TEMPERATURE,
+    TG_REASON_HUMIDITY
+};
+
+/* Station._against: WHY_NONE if the reading agrees with the reference
+ * reading (lp, lt, lrh at stamps lts, ltsrh; NaN: None): time not going
+ * back nor jumping beyond the clock step, steps within the allowance; else
+ * why not */
+static int against(const tg_station *s, TG_FLOAT p, TG_FLOAT t, TG_FLOAT rh, tg_time ts,
+                   TG_FLOAT lp, TG_FLOAT lt, TG_FLOAT lrh, tg_time lts, tg_time ltsrh)
 {
     tg_time dt = ts - lts;
     TG_FLOAT d, allow;
     if (dt < 0)
-        return TG_REASON_TIME;
+        return WHY_BACK;
+    if (dt > s->clock_s)
+        return WHY_AHEAD;
     d = p - lp;
     if (d > s->ps || d < -s->ps) {
         allow = s->ps + s->max_p_rate_pa_s * (TG_FLOAT)dt;
         if (d > allow || d < -allow)
-            return TG_REASON_PRESSURE;
+            return WHY_P;
     }
     d = t - lt;
     if (d > s->ts_step || d < -s->ts_step) {
         allow = s->ts_step + s->max_t_rate_k_s * (TG_FLOAT)dt;
         if (d > allow || d < -allow)
-            return TG_REASON_TEMPERATURE;
+            return WHY_T;
     }
     if (rh == rh && ltsrh == ltsrh) {
         d = rh - lrh;
         if (d > s->rs || d < -s->rs) {
             allow = s->rs + s->max_rh_rate_pct_s * (TG_FLOAT)(ts - ltsrh);
             if (d > allow || d < -allow)
-                return TG_REASON_HUMIDITY;
+                return WHY_RH;
         }
     }
-    return TG_REASON_NONE;
+    return WHY_NONE;
 }
 
 /* Station._contradicts: the reading joins the recovery run (or starts one).
  * -1: rejected (TG_READING) until the run has takeover_readings readings;
- * then 1 when the station must restart, 0 when it goes on (FL_TAKEOVER) */
-static int contradicts(tg_station *s, tg_reason why, TG_FLOAT p, TG_FLOAT t, TG_FLOAT rh, tg_time ts)
+ * then 1 when the station must restart (a run started by time going back,
+ * or the station had no more readings than the run), 0 when it goes on from
+ * this reading after a jump ahead, 2 when it goes on from it after a
+ * sensor's real jump (FL_TAKEOVER on the average it goes into) */
+static int contradicts(tg_station *s, int why, TG_FLOAT p, TG_FLOAT t, TG_FLOAT rh, tg_time ts)
 {
     if (s->run && against(s, p, t, rh, ts, s->rn_p, s->rn_t, s->rn_rh, s->rn_ts, s->rn_tsrh)
-                  == TG_REASON_NONE) {
+                  == WHY_NONE) {
         s->run += 1;
     } else {
         s->run = 1;
-        s->rn_time = why == TG_REASON_TIME ? 1 : 0;
+        /* 1: began going back in time, 2: jumping ahead, 0: a step */
+        s->rn_time = why == WHY_BACK ? 1 : why == WHY_AHEAD ? 2 : 0;
         s->rn_tsrh = TNAN;
     }
     s->rn_p = p;
@@ -502,14 +524,15 @@ static int contradicts(tg_station *s, tg_reason why, TG_FLOAT p, TG_FLOAT t, TG_
     if (rh == rh)
         s->rn_tsrh = ts;
     if (s->run < s->takeover_readings) {
-        bad(s, why);
+        bad(s, WHY_REASON[why]);
         return -1;
     }
     s->run = 0;
-    if (s->rn_time || s->count <= s->takeover_readings)
+    if (s->rn_time == 1 || s->count <= s->takeover_readings)
         return 1;
-    s->sflags |= FL_TAKEOVER;
-    return 0;
+    if (s->rn_time == 2)
+        return 0;                     /* after a long outage: the averages in between missing */
+    return 2;
 }
 
 /* Station._start: the first reading: the clock's origin and the slots'
@@ -677,7 +700,7 @@ static int close_avg(tg_station *s)
         s->missing = sat((int64_t)s->missing + gap < COUNT_MAX ? (int64_t)s->missing + gap : COUNT_MAX);
     }
     s->klast = (int32_t)k;
-    s->gap_s = sat(gap * s->avg);
+    s->gap_s = sat(gap * s->avg < COUNT_MAX ? gap * s->avg : COUNT_MAX);   /* saturates (34 years) */
     s->average_readings = s->nslot;
     if (s->averages < COUNT_MAX)
         s->averages += 1;
@@ -760,8 +783,7 @@ tg_status tg_station_feed(tg_station *s, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_F
     tg_time ts = time_s;
     double x, kd;
     int32_t k, c, r;
-    int restart = 0, b = 0;
-    tg_reason why;
+    int restart = 0, held = 0, b = 0, why;
     *bits = 0;
     /* 1. the values on their own */
     if (!isfinite(p))
@@ -781,16 +803,20 @@ tg_status tg_station_feed(tg_station *s, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_F
     }
     if (ts != ts)
         return bad(s, TG_REASON_TIME);           /* None (C: NaN) */
-    if (isinf(ts))
-        return bad(s, TG_REASON_NUMBER);
+    if (!(-TS_MAX < ts && ts < TS_MAX))
+        return bad(s, TG_REASON_NUMBER);         /* beyond +-2**62 s, or infinite */
     if (!(s->p_lo <= p && p <= s->p_hi))
         return bad(s, TG_REASON_PRESSURE);
-    if (s->count && !(ts - s->t0 + s->phase < SPAN_MAX_S))
-        return bad(s, TG_REASON_TIME);
-    /* 2. against the latest accepted reading; the recovery run */
+    /* 2. against the latest accepted reading; a reading that contradicts it
+     * joins the recovery run, which takes over after takeover_readings
+     * readings in a row (station.py, "Recovery") */
     if (s->count) {
+        if (ts < s->ts && s->ts - ts <= s->clock_s) {
+            ts = s->ts;               /* a small clock step back: held */
+            held = 1;
+        }
         why = against(s, p, t, rh, ts, s->lp, s->lt, s->lrh, s->ts, s->tsrh);
-        if (why != TG_REASON_NONE) {
+        if (why != WHY_NONE) {
             restart = contradicts(s, why, p, t, rh, ts);
             if (restart < 0)
                 return TG_READING;
@@ -798,9 +824,12 @@ tg_status tg_station_feed(tg_station *s, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_F
             s->run = 0;
         }
     }
-    if (restart) {
-        /* a clock set back, or a bad first reading: start afresh from this
-         * reading (the counters go on) */
+    if (restart != 1 && s->count
+        && py_floordiv(ts - s->t0 + s->phase, (double)s->avg) >= (double)COUNT_MAX)
+        restart = 1;    /* the average's number would leave what a checkpoint holds */
+    if (restart == 1) {
+        /* a clock set back, a bad first reading, or the end of the slot
+         * numbers: start afresh from this reading (the counters go on) */
         c = s->count;
         r = s->rejected;
         reset(s);
@@ -809,22 +838,29 @@ tg_status tg_station_feed(tg_station *s, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_F
     }
     /* 3. accepted: into the average (closing the one before if this reading
      * starts a new one) */
-    if (s->count == 0 || restart)
+    if (s->count == 0 || restart == 1)
         start(s, ts);
     x = ts - s->t0 + s->phase;
     kd = py_floordiv(x, (double)s->avg);
-    /* a valid state keeps 0 <= x < SPAN_MAX_S; a hostile checkpoint's stamps
-     * may not: clamp before the conversion (Python's int has no bound) */
+    /* a valid state keeps 0 <= kd < COUNT_MAX (the restart above); a hostile
+     * checkpoint's stamps may not: clamp before the conversion (Python's int
+     * has no bound) */
     if (!(kd >= -2147483648.0))
         kd = -2147483648.0;
     if (kd > 2147483647.0)
         kd = 2147483647.0;
     k = (int32_t)kd;
+    if (k == s->k && s->nslot >= COUNT_MAX)
+        return bad(s, TG_REASON_TIME);           /* 2**30 readings in one average: a stuck clock */
     if (k != s->k) {
         if (s->k >= 0)
             b = close_avg(s);
         open_avg(s, k, p, t, rh);
     }
+    if (restart == 2)
+        s->sflags |= FL_TAKEOVER;     /* a sensor's real jump: on the average it goes into */
+    if (held)
+        s->sflags |= FL_CLOCK_HELD;
     add(s, p, t, rh);
     s->ts = ts;
     if (rh == rh)
@@ -833,7 +869,7 @@ tg_status tg_station_feed(tg_station *s, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_F
         s->count += 1;
     if (s->nslot < COUNT_MAX)
         s->nslot += 1;
-    if (restart)
+    if (restart == 1)
         b |= TG_STATION_EV_RESTART;
     if (b && s->on_event != NULL)
         s->on_event(s, b, s->on_event_ctx);
@@ -867,6 +903,9 @@ typedef char tg__station_st_i_pos[(ST_I_POS_count == ST_I_COUNT && ST_I_POS_k ==
                                    && ST_I_POS_kring == ST_I_K + 1 && ST_I_POS_klast == ST_I_K + 2
                                    && ST_I_POS_t0_int == ST_I_T0_INT && ST_I_POS_t0_hi == ST_I_T0_INT + 1
                                    && ST_I_POS_t0_lo == ST_I_T0_INT + 2 && ST_I_POS_run == ST_I_RUN) ? 1 : -1];
+#define ST_F_POS(name) ST_F_POS_##name,
+enum { TGPY_STATION__ST_F(ST_F_POS) ST_F_POS_END };
+#undef ST_F_POS
 #define TS_F_POS(name) TS_F_POS_##name,
 enum { TGPY_STATION__TS_F(TS_F_POS) TS_F_POS_END };
 #undef TS_F_POS
@@ -936,8 +975,9 @@ static int too_big(double v)
 
 /* Station.from_bytes: the same refusals (checkpoint.unpack, check_finite, the
  * constructor's checks, the ring's length and values, check_values with
- * _RESTORE, the clock's consistency); every check runs on the blob before
- * anything is written, so st is untouched on TG_CHECKPOINT */
+ * _RESTORE, the sums tied to their counts, the clock's consistency); every
+ * check runs on the blob before anything is written, so st is untouched on
+ * TG_CHECKPOINT */
 tg_status tg_station_from_bytes(tg_station *st, const unsigned char *blob, size_t n,
                                 tg_station_event_fn on_event, void *on_event_ctx)
 {
@@ -1045,6 +1085,17 @@ tg_status tg_station_from_bytes(tg_station *st, const unsigned char *blob, size_
         }
     if (!tg__check_values(TGPY_STATION__RESTORE, ST_NAMES, vals))
         return TG_CHECKPOINT;
+    /* the sums of the average being built: deviations from its first
+     * reading, so at most the count times the widest range (Python's
+     * expression, on the blob's doubles) */
+#define VF(name) vals[ST_F_POS_##name]
+#define VI(name) vals[TGPY_STATION__ST_F_N + ST_I_POS_##name]
+    if (!(fabs(VF(sp)) <= VI(np) * 80000.0 && fabs(VF(cp)) <= fabs(VF(sp)) + 1.0
+          && fabs(VF(st)) <= VI(nt) * 200.0 && fabs(VF(sr)) <= VI(nr) * 110.0)
+        && VI(k) >= 0)
+        return TG_CHECKPOINT;                                  /* sums their counts cannot reach */
+#undef VF
+#undef VI
     count = iv[TGPY_STATION__CFG_I_N + ST_I_COUNT];
     k = iv[TGPY_STATION__CFG_I_N + ST_I_K];
     kring = iv[TGPY_STATION__CFG_I_N + ST_I_K + 1];

@@ -30,7 +30,8 @@ static const struct { const char *name; int bit; } FLAGS[] = {
     {"FL_STUCK_P", TG_STATION_FL_STUCK_P}, {"FL_STUCK_T", TG_STATION_FL_STUCK_T},
     {"FL_STUCK_RH", TG_STATION_FL_STUCK_RH}, {"FL_GAP", TG_STATION_FL_GAP},
     {"FL_TREND_GAP", TG_STATION_FL_TREND_GAP}, {"FL_NO_T12", TG_STATION_FL_NO_T12},
-    {"FL_FEW", TG_STATION_FL_FEW}, {"FL_TAKEOVER", TG_STATION_FL_TAKEOVER}
+    {"FL_FEW", TG_STATION_FL_FEW}, {"FL_TAKEOVER", TG_STATION_FL_TAKEOVER},
+    {"FL_CLOCK_HELD", TG_STATION_FL_CLOCK_HELD}
 };
 
 static int flag_bit(const char *name)

@@ -525,6 +525,7 @@
 #define TGPY_STATION_FL_NO_T12 32
 #define TGPY_STATION_FL_FEW 64
 #define TGPY_STATION_FL_TAKEOVER 128
+#define TGPY_STATION_FL_CLOCK_HELD 256
 #define TGPY_STATION_EV_RESTART 8
 #define TGPY_STATION_P_MIN_PA TG_L(40000.0)
 #define TGPY_STATION_P_MAX_PA TG_L(115000.0)
@@ -536,7 +537,6 @@
 #define TGPY_STATION_HALF_DAY_S 43200
 #define TGPY_STATION_DAY_S 86400
 #define TGPY_STATION_COUNT_MAX 1073741823
-#define TGPY_STATION_SPAN_MAX_S 2147483648
 #define TGPY_STATION__CFG_F_N 13
 #define TGPY_STATION__CFG_F(X) \
     X(height_m) \
@@ -618,7 +618,7 @@
     X(t0_lo) \
     X(run) \
     X(rn_time)
-#define TGPY_STATION__RESTORE "count 0 1073741823;rejected 0 1073741823;averages 0 1073741823;missing 0 1073741823;flags 0 255;_code -1 8;gap_s 0 *;average_readings 0 *;_k -1 *;_kring -1 *;_klast -1 *;_np 0 *;_nt 0 *;_nr 0 *;_sflags 0 255;_runp 0 *;_runt 0 *;_runr 0 *;_inp 0 *;_int 0 *;_inr 0 *;_nslot 0 *;p_pa 40000 115000 n;t_k 180 340 n;rh_pct -3 103 n;mslp_pa 0 200000 n;_lp 40000 115000 n;_lt 180 340 n;_lrh -3 103 n;_run 0 99;_rn_time 0 1;_rn_p 40000 115000 n;_rn_t 180 340 n;_rn_rh -3 103 n"
+#define TGPY_STATION__RESTORE "count 0 1073741823;rejected 0 1073741823;averages 0 1073741823;missing 0 1073741823;flags 0 511;_code -1 8;gap_s 0 1073741823;average_readings 0 1073741823;_k -1 1073741823;_kring -1 1073741823;_klast -1 1073741823;_np 0 1073741823;_nt 0 1073741823;_nr 0 1073741823;_sflags 0 511;_t0_hi -1073741824 1073741823;_runp 0 1073741823;_runt 0 1073741823;_runr 0 1073741823;_inp 0 1073741823;_int 0 1073741823;_inr 0 1073741823;_nslot 0 1073741823;p_pa 40000 115000 n;t_k 180 340 n;rh_pct -3 103 n;mslp_pa 0 200000 n;_lp 40000 115000 n;_lt 180 340 n;_lrh -3 103 n;_run 0 99;_rn_time 0 2;_rn_p 40000 115000 n;_rn_t 180 340 n;_rn_rh -3 103 n;dew_point_k 100 340 n;qnh_pa 0 200000 n;iso_gph_m -2000 12000 n;tendency_3h_pa -20000 20000 n;change_24h_pa -75000 75000 n;_rp 40000 115000 n;_rt 180 340 n;_rr -3 103 n"
 #define TGPY_STATION__MAGIC "TGST"
 #define TGPY_STATION__VERSION 2
 /* Station.__init__: 19 parameters; per setting its default (_DEF; None -> TG_NAN,

@@ -372,6 +372,7 @@ tg_status tg_column_from_bytes(tg_column *col, const unsigned char *blob, size_t
 #define TG_STATION_FL_NO_T12 32
 #define TG_STATION_FL_FEW 64
 #define TG_STATION_FL_TAKEOVER 128
+#define TG_STATION_FL_CLOCK_HELD 256
 
 /* The ring of averages, fixed at compile time: TG_STATION_RING slots hold 24
  * hours and the latest average for average_s >= 86400 / (TG_STATION_RING - 1).
@@ -423,6 +424,7 @@ typedef struct tg_station {
     /* derived settings */
     int32_t avg, stuck, m3, n, n12;
     TG_FLOAT gph, p_lo, p_hi, ps, ts_step, rs;
+    tg_time clock_s;                  /* the clock step, max_gap_s + average_s, s */
     /* results of the latest average */
     TG_FLOAT p_pa, t_k, rh_pct, dew_point_k, mslp_pa, qnh_pa, iso_gph_m, tendency_3h_pa;
     TG_FLOAT change_24h_pa;
@@ -448,8 +450,8 @@ void tg_station_config_defaults(tg_station_config *cfg, TG_FLOAT height_m, TG_FL
  * longer than TG_STATION_RING (st untouched) */
 tg_status tg_station_init(tg_station *st, const tg_station_config *cfg);
 /* st.feed(p_pa, t_k, rh_pct, time_s): rh_pct NULL for None, time_s NaN for
- * None ('time'; Python rejects a nan stamp as 'number'), an infinite one is
- * 'number'. TG_OK: *bits the event bits. TG_READING: rejected, st->reason
+ * None ('time'; Python rejects a nan stamp as 'number'), one of magnitude
+ * 2^62 s or more (or infinite) is 'number'. TG_OK: *bits the event bits. TG_READING: rejected, st->reason
  * says why, nothing changed but rejected and the recovery memory; *bits = 0. */
 tg_status tg_station_feed(tg_station *st, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_FLOAT *rh_pct,
                           tg_time time_s, int *bits);
