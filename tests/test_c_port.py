@@ -1716,6 +1716,7 @@ def test_column_32bit_long_ubsan(build):
 # feed).
 from tinygeo.station import Station  # noqa: E402
 from tinygeo import station as _station  # noqa: E402
+STA_COUNT_MAX = _station.COUNT_MAX
 
 STA_ATTRS = ("count", "rejected", "averages", "missing", "flags", "tendency_code", "gap_s",
              "average_readings", "time_s", "p_pa", "t_k", "rh_pct", "dew_point_k", "mslp_pa",
@@ -1898,8 +1899,12 @@ def station_stream(rng, n=None):
     bad first reading, spikes of one and two readings, a sensor that jumps
     and stays, the clock set back, gaps of hours, stuck values, repeated
     stamps, bad numbers (nan, hPa, Celsius, rh beyond 103, no time, inf),
-    and a save now and then; stamps whole (ints in Python) or fractional,
-    from origins near 0, negative, or 1.7e9 s."""
+    and a save now and then; the clock steps of "Recovery": the clock set back
+    within the clock step (held readings), one stamp ahead within it or
+    beyond it, outages beyond it (a run that goes on), rarely a jump of more
+    than 2**30 s (gap_s stops at COUNT_MAX) or of COUNT_MAX averages (a
+    restart), stamps beyond 2**62 s; stamps whole (ints in Python) or
+    fractional, from origins near 0, negative, or 1.7e9 s."""
     h, lat, kw = _sta_settings(rng)
     avg = kw["average_s"]
     p0 = standard.standard_pressure(h if h > -400 else -400.0) + rng.uniform(-1500.0, 1500.0)
@@ -1935,9 +1940,15 @@ def station_stream(rng, n=None):
                 cmds.append(("feed", (p + rng.choice((-1, 1)) * 900.0, t, rh, ts)))
         elif u < 0.025:                # a sensor that jumps and stays
             jump += rng.choice((-1, 1)) * rng.uniform(200.0, 800.0)
-        elif u < 0.03:                 # the clock set back
-            ts = ts - rng.choice((step * 3, 3600, 86400))
-        elif u < 0.04:                 # a gap
+        elif u < 0.03:                 # the clock set back (held within the clock step)
+            ts = ts - rng.choice((step * 3, 600, 1200, 3600, 86400))
+        elif u < 0.035:                # one stamp ahead, within the clock step or beyond it
+            cmds.append(("feed", (p, t, rh, ts + rng.choice((900, 1800, 5000, 86400)))))
+        elif u < 0.037:                # a jump of more than 2**30 s, or of COUNT_MAX averages
+            ts = ts + rng.choice((2 ** 31, STA_COUNT_MAX * int(avg) + 7200))
+        elif u < 0.038:                # beyond 2**62 s: 'number'
+            cmds.append(("feed", (p, t, rh, rng.choice((2.0 ** 62, -2.0 ** 62, 1e300)))))
+        elif u < 0.045:                # a gap (beyond the clock step: a run that goes on)
             ts = ts + rng.choice((avg * 2, 1800, 3600 * 3, 3600 * 13))
         elif u < 0.05:                 # bad numbers
             cmds.append(("feed", rng.choice(((NAN, t, rh, ts), (p / 100.0, t, rh, ts),
@@ -1973,10 +1984,99 @@ def _sta_special_streams():
     # huge int first stamp (2^52) and float stamps near 1e15
     out.append([init] + [("feed", (a[0], a[1], a[2], 2 ** 52 + a[3])) for _, a in base[:700]])
     out.append([init] + [("feed", (a[0], a[1], a[2], 1e15 + a[3] + 0.5)) for _, a in base[:700]])
-    # a reading 2**31 s on: refused ('time')
+    # two readings 2**31 s on (beyond the clock step: refused, 'time'), then the clock back
     out.append([init] + base[:50] + [("feed", (100500.0, 285.0, 80.0, 2 ** 31 + 600)),
                                      ("feed", (100500.0, 285.0, 80.0, 2 ** 31 - 1000))] + base[:2])
+    out.extend(_sta_clock_streams().values())
     return out
+
+
+def _sta_clock_streams():
+    """Streams for the clock step of station.py ("Recovery", "Checks"; here
+    max_gap_s + average_s = 1800 + 300 = 2100 s), by name (constructed)."""
+    base = [("feed", (100500.0 + 0.01 * i, 285.0 + 0.001 * i, 80.0, i * 10)) for i in range(2000)]
+    init = ("init", (3.5, 54.2, {"average_s": 300.0}))
+
+    def go_on(i0, n, shift, dp=0.0):
+        return [("feed", (100500.0 + dp + 0.01 * i, 285.0 + 0.001 * i, 80.0, i * 10 + shift))
+                for i in range(i0, i0 + n)]
+
+    out = {}
+    # the clock set back 20 minutes: held at the latest stamp until it passes it
+    out["held back"] = [init] + base + go_on(2000, 400, -1200)
+    # one stamp 30 minutes ahead (within the clock step): taken; the readings after it held
+    out["one ahead within"] = [init] + base[:1000] + go_on(1000, 1, 1800) + base[1001:1400]
+    # one stamp a day ahead: refused (message 7); the next good reading clears it
+    out["one ahead beyond"] = [init] + base[:1000] + go_on(1000, 1, 86400) + base[1001:1400]
+    # an outage of 6 hours: two refused, the third goes on with the averages missing
+    out["outage goes on"] = [init] + base[:1500] + go_on(1500, 500, 6 * 3600)
+    # ... and 2**31 s (68 years): gap_s stops at COUNT_MAX
+    out["outage 2**31 s"] = [init] + base[:500] + go_on(500, 300, 2 ** 31)
+    # a run ahead when the station has no more readings than the run: a restart
+    out["early ahead restarts"] = [init] + base[:2] + go_on(2, 100, 86400)
+    # a run ahead into average number COUNT_MAX - 2: it goes on (gap_s stops at
+    # COUNT_MAX when it completes); the first reading of average COUNT_MAX
+    # restarts the station
+    last = (STA_COUNT_MAX - 2) * 300 + 200
+    out["last average"] = [init] + base[:100] + go_on(0, 70, last) + go_on(70, 5, last, 0.5)
+    # ... and a run ahead beyond it (float stamps): the run's third reading restarts
+    out["beyond the last"] = [init] + [("feed", (a[0], a[1], a[2], a[3] + 0.25)) for _, a in base[:100]] + \
+        go_on(100, 50, STA_COUNT_MAX * 300.0 + 0.25)
+    # a stuck clock: 2**30 readings in one average (the checkpoint's _nslot at
+    # COUNT_MAX): the next reading of that average is refused (message 8) after
+    # the recovery run is cleared; the next average takes it
+    head = [init] + base[:100]
+    raw = _sta_blob(head)
+    stuck = _sta_craft(raw, **{"st._nslot": STA_COUNT_MAX, "st._run": 1, "ts._rn_ts": 985.0})
+    out["stuck clock"] = head + [("load", (stuck.hex(),))] + go_on(100, 30, -5)
+    # stamps at the bound of 2**62 s ('number'), and whole float stamps near it
+    out["2**62"] = [init] + base[:20] + [("feed", (100500.2, 285.02, 80.0, v))
+                                         for v in (2.0 ** 62, -2.0 ** 62, 1e300, -1e300)] + base[20:40]
+    return out
+
+
+def test_station_clock_step_paths(build):
+    """The clock-step streams (_sta_clock_streams): C and CPython bit-identical
+    (blob after every feed), and each stream takes the path it was built
+    for (station.py, "Recovery" and "Checks")."""
+    EV_R, EV_G, FL_H = _station.EV_RESTART, _station.EV_GAP, _station.FL_CLOCK_HELD
+    for name, cmds in _sta_clock_streams().items():
+        c = run_c_station(build["station_double"], cmds, ["-s"])
+        p = run_py_station(cmds, every_blob=True)
+        _sta_compare(cmds, c, p)
+        rows = [r for (v, _), r in zip(cmds, p[0]) if v == "feed"]
+        rej = [r[1] for r in rows if r[0] == "reading"]
+        held = [r for r in rows if r[0] == "ok" and r[2] & 1 and int(r[3][4]) & FL_H]
+        restarts = [i for i, r in enumerate(rows) if r[0] == "ok" and r[2] & EV_R]
+        gap_max = [r for r in rows if r[0] == "ok" and r[3][6] == STA_COUNT_MAX]
+        if name in ("held back", "one ahead within"):
+            assert not rej and held and not restarts, name
+        elif name == "one ahead beyond":
+            assert rej == ["time"] and not restarts, name
+        elif name == "outage goes on":
+            # slots 49 (the latest before) and 122 (the run's): 72 averages missing
+            assert rej == ["time", "time"] and not restarts, name
+            assert [r[3][3] for r in rows if r[2] & EV_G] == [72.0] and rows[-1][3][2] > rows[1499][3][2], name
+        elif name == "outage 2**31 s":
+            assert rej == ["time", "time"] and not restarts and gap_max, name
+        elif name == "early ahead restarts":
+            assert rej == ["time", "time"] and len(restarts) == 1 and rows[restarts[0]][3][2] == 0, name
+        elif name == "last average":
+            # the restart follows an accepted reading: no run, the average numbers ran out
+            assert rej == ["time", "time"] and gap_max and len(restarts) == 1, name
+            assert rows[restarts[0] - 1][0] == "ok" and rows[restarts[0]][3][2] == 0, name
+        elif name == "beyond the last":
+            assert rej == ["time", "time"] and len(restarts) == 1, name
+            assert rows[restarts[0] - 1][0] == "reading", name
+        elif name == "stuck clock":
+            after = rows[100:]
+            n_ref = sum(1 for r in after if r[0] == "reading")
+            assert n_ref == 21 and set(rej[-n_ref:]) == {"time"} and after[n_ref][0] == "ok", name
+            assert after[n_ref][3][7] == STA_COUNT_MAX and after[n_ref][2] & 1, name    # average_readings
+        elif name == "2**62":
+            assert rej == ["number"] * 4 and not restarts, name
+        else:
+            raise AssertionError(name)
 
 
 def test_station_vectors(build):
@@ -1988,7 +2088,7 @@ def test_station_vectors(build):
                    if f.endswith(".txt"))
     r = subprocess.run([build["stavec_double"]] + files, capture_output=True, text=True, timeout=60)
     assert r.returncode == 0, r.stdout + r.stderr
-    assert r.stdout.splitlines()[-1] == "stations 5 checks 259 failed 0", r.stdout
+    assert r.stdout.splitlines()[-1] == "stations 5 checks 264 failed 0", r.stdout
     f = subprocess.run([build["stavec_float"], "-v"] + files, capture_output=True, text=True, timeout=60)
     worst = {}
     for ln in f.stdout.splitlines():
@@ -1998,7 +2098,7 @@ def test_station_vectors(build):
             err = abs(got - want) if want == want else (0.0 if got != got else INF)
             worst[name] = max(worst.get(name, 0.0), err - tol if err > tol else 0.0)
     fails = [ln for ln in f.stdout.splitlines() if not ln.startswith(("v ", "stations"))]
-    print("float build: %d of 259 checks outside the double tolerance; worst excess per attribute: %s"
+    print("float build: %d of 264 checks outside the double tolerance; worst excess per attribute: %s"
           % (len(fails), ", ".join("%s %.3g" % kv for kv in sorted(worst.items()) if kv[1])))
     assert not [ln for ln in fails if " value:" not in ln], fails     # every other check passes
     for name, excess in worst.items():
@@ -2008,9 +2108,10 @@ def test_station_vectors(build):
 STA_FLOAT_BUDGET = {"p_pa": 0.005, "mslp_pa": 0.01, "qnh_pa": 0.016, "tendency_3h_pa": 0.008,
                     "change_24h_pa": 0.003, "iso_gph_m": 0.0006, "t_k": 2e-5, "rh_pct": 3e-6,
                     "dew_point_k": 2e-5}
-# measured (gcc 12, x86-64): p_pa 0.0041, mslp_pa 0.0085, qnh_pa 0.0149, tendency_3h_pa 0.0065,
-# change_24h_pa 0.0020 Pa, iso_gph_m 0.00045 gpm, t_k 1.6e-5 K, rh_pct 2.3e-6 %, dew_point_k
-# 1.8e-5 K beyond the files' tolerances; goal: within 2 float32 spacings at 1e5 Pa (0.016 Pa)
+# measured (gcc 12, x86-64; 46 of the 264 checks): p_pa 0.0040, mslp_pa 0.0085, qnh_pa 0.0149,
+# tendency_3h_pa 0.0065, change_24h_pa 0.0020 Pa, iso_gph_m 0.00045 gpm, t_k 1.6e-5 K, rh_pct
+# 1.9e-6 %, dew_point_k 1.8e-5 K beyond the files' tolerances (before the clock step's vectors:
+# p_pa 0.0041, rh_pct 2.3e-6); goal: within 2 float32 spacings at 1e5 Pa (0.016 Pa)
 """How far the float build's values may lie beyond the vector files' (double)
 tolerances, per attribute (measured by test_station_vectors; README.md)."""
 
@@ -2022,15 +2123,32 @@ def test_station_random_streams_double_bit_identical(build):
     rng = random.Random(2024)
     streams = [station_stream(rng) for _ in range(40)] + _sta_special_streams()
     paths = dict.fromkeys(("reading", "restart", "takeover", "stuck", "gap", "trend", "few", "no_t12",
-                           "iso", "code"), 0)
+                           "iso", "code", "held", "ahead_on", "gap_s_max", "count_max"), 0)
     for cmds in streams:
         c = run_c_station(build["station_double"], cmds, ["-s"])
         p = run_py_station(cmds, every_blob=True)
         _sta_compare(cmds, c, p)
-        for st_, reason, bits, attrs in p[0]:
+        kw = cmds[0][1][2]
+        clock_s = kw.get("max_gap_s", 1800) + kw["average_s"]     # the clock step
+        prev = None                    # the previous feed's row
+        last = None                    # the latest accepted stamp
+        for (verb, args), (st_, reason, bits, attrs) in zip(cmds, p[0]):
+            if verb != "feed":
+                continue
             paths["reading"] += st_ == "reading"
             paths["restart"] += bool(bits & _station.EV_RESTART)
+            if bits & _station.EV_RESTART and prev is not None and (
+                    prev[0] == "ok" or args[3] - last >= (STA_COUNT_MAX - 1) * kw["average_s"]):
+                paths["count_max"] += 1     # no run before it, or a jump: the average numbers ran out
+            if st_ == "ok" and not bits & _station.EV_RESTART and prev == ("reading", "time") \
+                    and args[3] - last > clock_s:
+                paths["ahead_on"] += 1      # a run that began ahead went on
+            if st_ == "ok":
+                last = args[3] if bits & _station.EV_RESTART or last is None else max(last, args[3])
+            prev = (st_, reason)
             if attrs is not None and bits & _station.EV_AVERAGE:
+                paths["held"] += bool(int(attrs[4]) & _station.FL_CLOCK_HELD)
+                paths["gap_s_max"] += attrs[6] == STA_COUNT_MAX
                 fl = int(attrs[4])
                 paths["takeover"] += bool(fl & _station.FL_TAKEOVER)
                 paths["stuck"] += bool(fl & 7)
@@ -2099,8 +2217,10 @@ def test_station_checkpoint_refusals(build):
         "stuck 1": _sta_craft(raw, **{"cfg._stuck_set": 1}),
         "stuck 0 (None)": _sta_craft(raw, **{"cfg._stuck_set": 0}),
         "takeover 101": _sta_craft(raw, **{"cfg.takeover_readings": 101}),
-        "count": _sta_craft(raw, **{"st.count": COUNT_MAX + 1}),
-        "flags": _sta_craft(raw, **{"st.flags": 256}),
+        "count": _sta_craft(raw, **{"st.count": STA_COUNT_MAX + 1}),
+        "flags": _sta_craft(raw, **{"st.flags": 512}),
+        "flags clock held": _sta_craft(raw, **{"st.flags": 256, "st._sflags": 256 + 128}),
+        "sflags": _sta_craft(raw, **{"st._sflags": 512}),
         "code": _sta_craft(raw, **{"st._code": 9}),
         "k below kring": _sta_craft(raw, **{"st._k": 0}),
         "klast above kring": _sta_craft(raw, **{"st._klast": 10 ** 6}),
@@ -2112,6 +2232,31 @@ def test_station_checkpoint_refusals(build):
         "nan ts": _sta_craft(raw, **{"ts._ts": NAN}),
         "count 0": _sta_craft(raw, **{"st.count": 0}),
         "huge inp": _sta_craft(raw, **{"st._inp": 2 ** 31 - 1}),
+        "inp COUNT_MAX": _sta_craft(raw, **{"st._inp": STA_COUNT_MAX}),
+        "nslot beyond": _sta_craft(raw, **{"st._nslot": STA_COUNT_MAX + 1}),
+        "gap_s beyond": _sta_craft(raw, **{"st.gap_s": STA_COUNT_MAX + 1}),
+        "gap_s COUNT_MAX": _sta_craft(raw, **{"st.gap_s": STA_COUNT_MAX}),
+        "k beyond": _sta_craft(raw, **{"st._k": STA_COUNT_MAX + 1}),
+        "t0_hi beyond": _sta_craft(raw, **{"st._t0_hi": 2 ** 30}),
+        "t0_hi lowest": _sta_craft(raw, **{"st._t0_hi": -2 ** 30}),
+        "t0_hi below": _sta_craft(raw, **{"st._t0_hi": -2 ** 30 - 1}),
+        "rn_time 2": _sta_craft(raw, **{"st._rn_time": 2}),
+        "rn_time 3": _sta_craft(raw, **{"st._rn_time": 3}),
+        "sum p": _sta_craft(raw, **{"st._sp": 1e12}),
+        "sum p at the bound": _sta_craft(raw, **{"st._sp": -80000.0 * 10, "st._np": 10}),
+        "compensation": _sta_craft(raw, **{"st._cp": 1e6}),
+        "sum t": _sta_craft(raw, **{"st._st": -1e9}),
+        "sum rh": _sta_craft(raw, **{"st._sr": 1e9}),
+        "nan sum": _sta_craft(raw, **{"st._sp": NAN}),
+        "dew point": _sta_craft(raw, **{"st.dew_point_k": 400.0}),
+        "qnh": _sta_craft(raw, **{"st.qnh_pa": 250000.0}),
+        "nan qnh": _sta_craft(raw, **{"st.qnh_pa": NAN}),
+        "iso height": _sta_craft(raw, **{"st.iso_gph_m": -3000.0}),
+        "tendency": _sta_craft(raw, **{"st.tendency_3h_pa": 30000.0}),
+        "change 24 h": _sta_craft(raw, **{"st.change_24h_pa": -80000.0}),
+        "reference p": _sta_craft(raw, **{"st._rp": 30000.0}),
+        "reference t": _sta_craft(raw, **{"st._rt": 100.0}),
+        "reference rh": _sta_craft(raw, **{"st._rr": 110.0}),
         "int first stamp": _sta_craft(raw, **{"st._t0_int": 1, "st._t0_hi": -1, "st._t0_lo": -5}),
         "float first stamp": _sta_craft(raw, **{"st._t0_int": 0, "t0": 12.5}),
         "rn_time 1": _sta_craft(raw, **{"st._rn_time": 1}),
@@ -2125,13 +2270,13 @@ def test_station_checkpoint_refusals(build):
         p = run_py_station(seq)
         assert c[0][2][0] == p[0][2][0], (name, c[0][2][:2], p[0][2][:2])
         got[name] = p[0][2][0]
-        if name not in ("huge inp",):
-            _sta_compare(seq, c, p, blobs=False)
+        _sta_compare(seq, c, p, blobs=False)
         if p[0][2][0] == "checkpoint":
             assert all(_same(x, y) for x, y in zip(c[0][2][3], c[0][1][3])), name    # untouched
     accepted = sorted(n for n, s in got.items() if s == "ok")
-    assert accepted == ["float first stamp", "huge inp", "int first stamp", "nan lp", "nan ring", "rn_time 1",
-                        "stuck 0 (None)"], got
+    assert accepted == ["flags clock held", "float first stamp", "gap_s COUNT_MAX", "inp COUNT_MAX",
+                        "int first stamp", "nan lp", "nan qnh", "nan ring", "rn_time 1", "rn_time 2",
+                        "stuck 0 (None)", "sum p at the bound", "t0_hi lowest"], got
 
 
 def test_station_hostile_blobs_no_crash(build):
@@ -2153,7 +2298,7 @@ def test_station_hostile_blobs_no_crash(build):
             fields = {}
             for off, size, name in rng.sample(lay, rng.randint(1, 3)):
                 if size == 4:
-                    fields[name] = rng.choice((-1, 0, 1, 2, 7, 99, 100, COUNT_MAX, 2 ** 31 - 1, -2 ** 31,
+                    fields[name] = rng.choice((-1, 0, 1, 2, 7, 99, 100, STA_COUNT_MAX, 2 ** 31 - 1, -2 ** 31,
                                                rng.randint(-2 ** 31, 2 ** 31 - 1)))
                 else:
                     fields[name] = rng.choice((NAN, 0.0, -1.0, 1e300, -1e300, 5e9, 100000.0, 285.0,
@@ -2179,7 +2324,8 @@ def test_station_sanitizers_and_float_build(build):
     """The ASan/UBSan build of station_run on random streams (blob after every
     feed) and of station_vec on the vector files: no report, output identical
     to the double build's. The float build runs the same streams to the end
-    (its values are measured against the vector files above)."""
+    and takes the same decisions as the double build (its values are measured
+    against the vector files above)."""
     exe = build["station_asan"]
     if exe is None:
         if ("sanitize" in build["asan_err"] or "asan" in build["asan_err"]) and not IN_CI:
@@ -2189,7 +2335,7 @@ def test_station_sanitizers_and_float_build(build):
     cmds = []
     for _ in range(8):
         cmds += station_stream(rng, n=300)
-    for s in _sta_special_streams()[:3]:
+    for s in _sta_special_streams():
         cmds += s
     text = _sta_text(cmds)
     env = dict(os.environ, ASAN_OPTIONS="detect_leaks=1", UBSAN_OPTIONS="print_stacktrace=1")
@@ -2203,6 +2349,15 @@ def test_station_sanitizers_and_float_build(build):
     assert v.returncode == 0 and "runtime error" not in v.stderr, v.stdout + v.stderr
     f = subprocess.run([build["station_float"], "-s"], input=text, capture_output=True, text=True, timeout=120)
     assert f.returncode == 0 and f.stdout.count("\nr ") == ref.stdout.count("\nr "), f.stderr
+    # time stamps are doubles in both builds: the float build takes the same
+    # decisions (status, reason, event bits, on_event calls) and gives the same
+    # counters, flags, tendency codes, gap_s, average_readings and time_s as
+    # the double build on these streams (measured: no line differs of 19 969;
+    # goal: none)
+    def decisions(out):
+        return [ln.split()[:13] for ln in out.splitlines() if ln[:2] in ("r ", "e ")]
+    fd, dd = decisions(f.stdout), decisions(ref.stdout)
+    assert len(fd) == len(dd) and [i for i, (a, b) in enumerate(zip(fd, dd)) if a != b][:5] == []
 
 
 def test_station_tendency_code_and_surfaces(build):
