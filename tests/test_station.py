@@ -1328,3 +1328,24 @@ def test_far_stamps_never_break_a_checkpoint():
     with pytest.raises(ReadingError) as e:
         f.feed(100500.0, 285.0, 80.0, 1e308)
     assert e.value.reason == "number" and "2**62" in str(e.value)
+
+
+def test_a_stuck_clock_is_refused_before_anything_changes():
+    # 2**30 readings in one average (reached here by setting the count, as a
+    # checkpoint may hold it): the next reading in that average is refused as
+    # 'time' and leaves the station, its recovery run included, as it was
+    s = Station(3.5, 54.2, 600)
+    _steady(s, 100)
+    with pytest.raises(ReadingError):
+        s.feed(100400.0, 285.1, 80.1, 100)        # a jump: the run holds one reading
+    s._nslot = S.COUNT_MAX
+    before = dict(vars(s))
+    before["_ring_p"] = list(s._ring_p)
+    with pytest.raises(ReadingError) as e:
+        s.feed(100400.0, 285.1, 80.1, 101)
+    assert e.value.reason == "time" and "clock stuck" in str(e.value)
+    after = dict(vars(s))
+    after["_ring_p"] = list(s._ring_p)
+    before.pop("rejected"), after.pop("rejected")
+    assert all(before[k] == after[k] or (before[k] != before[k] and after[k] != after[k])
+               for k in before if not isinstance(before[k], list)) and s._run == 1

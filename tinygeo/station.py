@@ -288,10 +288,10 @@ first one (34 years of 1-second averages; checkpoints keep the average's
 number as an int32) restarts the station (EV_RESTART). Every check runs before anything
 is changed: a rejected reading leaves the station exactly as it was, only
 ``rejected`` counts it, so a stream with bad readings interleaved gives
-bit-identical results to the same stream without them. A clock set back
-stops the station (every later reading is 'time') until its time passes the
-latest accepted stamp: a logger that sees 'time' rejections persist starts
-a new Station (ports/micropython/buoy.py does).
+bit-identical results to the same stream without them. A clock set back is
+held or, beyond the clock step, restarts the station after takeover_readings
+readings (see "Recovery"); the only memory a rejected reading leaves is the
+recovery run.
 
 Checkpoint
 ----------
@@ -686,6 +686,10 @@ class Station:
             if ts < self._ts and self._ts - ts <= self._clock_s:
                 ts = self._ts      # a small clock step back: held (see "Recovery")
                 held = 1
+            if self._nslot >= COUNT_MAX and (ts - self._t0 + self._phase) // self._avg == self._k:
+                # 2**30 readings in one average: a stuck clock (refused before
+                # anything changes)
+                self._bad("time", 8, quote(time_s))
             why = self._against(p, t, rh, ts, self._lp, self._lt, self._lrh, self._ts, self._tsrh)
             if why:
                 restart = self._contradicts(why, p, t, rh, ts)
@@ -709,8 +713,6 @@ class Station:
             k = k // self._avg
         else:
             k = int(k // self._avg)
-        if k == self._k and self._nslot >= COUNT_MAX:
-            self._bad("time", 8, quote(time_s))
         bits = 0
         if k != self._k:
             if self._k >= 0:
@@ -1144,7 +1146,8 @@ class Station:
         # the sums of the average being built: deviations from its first
         # reading, so at most the count times the widest range
         if not (abs(st._sp) <= st._np * 80000.0 and abs(st._cp) <= abs(st._sp) + 1.0
-                and abs(st._st) <= st._nt * 200.0 and abs(st._sr) <= st._nr * 110.0) \
+                and abs(st._st) <= st._nt * 200.0 and abs(st._sr) <= st._nr * 110.0
+                and st._inp <= st._np and st._int <= st._nt and st._inr <= st._nr) \
                 and st._k >= 0:
             raise CheckpointError("station checkpoint holds sums its counts cannot reach; not "
                                   "written by this tinygeo")

@@ -815,6 +815,10 @@ tg_status tg_station_feed(tg_station *s, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_F
             ts = s->ts;               /* a small clock step back: held */
             held = 1;
         }
+        if (s->nslot >= COUNT_MAX
+            && py_floordiv(ts - s->t0 + s->phase, (double)s->avg) == (double)s->k)
+            return bad(s, TG_REASON_TIME);       /* 2**30 readings in one average: a stuck
+                                                  * clock (refused before anything changes) */
         why = against(s, p, t, rh, ts, s->lp, s->lt, s->lrh, s->ts, s->tsrh);
         if (why != WHY_NONE) {
             restart = contradicts(s, why, p, t, rh, ts);
@@ -850,8 +854,6 @@ tg_status tg_station_feed(tg_station *s, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_F
     if (kd > 2147483647.0)
         kd = 2147483647.0;
     k = (int32_t)kd;
-    if (k == s->k && s->nslot >= COUNT_MAX)
-        return bad(s, TG_REASON_TIME);           /* 2**30 readings in one average: a stuck clock */
     if (k != s->k) {
         if (s->k >= 0)
             b = close_avg(s);
@@ -1091,7 +1093,8 @@ tg_status tg_station_from_bytes(tg_station *st, const unsigned char *blob, size_
 #define VF(name) vals[ST_F_POS_##name]
 #define VI(name) vals[TGPY_STATION__ST_F_N + ST_I_POS_##name]
     if (!(fabs(VF(sp)) <= VI(np) * 80000.0 && fabs(VF(cp)) <= fabs(VF(sp)) + 1.0
-          && fabs(VF(st)) <= VI(nt) * 200.0 && fabs(VF(sr)) <= VI(nr) * 110.0)
+          && fabs(VF(st)) <= VI(nt) * 200.0 && fabs(VF(sr)) <= VI(nr) * 110.0
+          && VI(inp) <= VI(np) && VI(int_) <= VI(nt) && VI(inr) <= VI(nr))
         && VI(k) >= 0)
         return TG_CHECKPOINT;                                  /* sums their counts cannot reach */
 #undef VF
