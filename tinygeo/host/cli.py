@@ -359,13 +359,21 @@ def build_parser():
     c = sub.add_parser(
         "compare", help="compare a device's table with a host replay of the same readings",
         description="Compare a table written by a device (tinygeo/record.py: 'line' or 'time_s' "
-                    "and any of the value columns; nan = not computed, skipped) with a host "
-                    "replay. By default the host re-feeds the inputs found in the device table "
-                    "(time_s p_pa t_k rh_pct gps_m) to a column set up from its '# site' line, "
-                    "and the table must end with its end record ('#: end rows=N', "
-                    "tinygeo.record.end_line): a table cut short fails. With --log the host "
-                    "replays the raw log instead and matches rows by line number (or time_s); "
-                    "readings on one side only fail, rows missing at the end too.",
+                    "and any of the value columns; a column that is nan in every row is not "
+                    "computed and skipped, a nan where the column holds numbers elsewhere fails "
+                    "when the host has a number) with a host replay. By default the host "
+                    "re-feeds the inputs found in the device table (time_s p_pa t_k rh_pct "
+                    "gps_m) to a column set up from its '# site' line (anywhere before the "
+                    "first row), and the table must end with its end record ('#: end rows=N', "
+                    "tinygeo.record.end_line): a table cut short fails, and so do extra rows. "
+                    "Rows whose flags differ only because the table prints p_pa to 0.01 Pa "
+                    "(FL_SAME_P on the host where the device had FL_DESCENT or nothing, the "
+                    "printed pressure repeated) are counted as 'rounded', not failed. A "
+                    "logger that resumed from a checkpoint writes '#: resume line=N' "
+                    "(tinygeo.record.resume_line): the earlier rows from line N on, and a row "
+                    "torn by the power cut, are dropped. With --log the host replays the raw "
+                    "log instead and matches rows by line number (or time_s); readings on one "
+                    "side only fail, rows missing at the end too.",
         epilog=epilog, formatter_class=argparse.RawDescriptionHelpFormatter)
     c.add_argument("device", help="table written by the device")
     c.add_argument("--log", metavar="FILE", help="raw log the device was fed (replayed on the host)")

@@ -536,8 +536,8 @@ def setup_from_site(site, a, meta):
     words = dict((k, _site_value(k, v)) for k, v in site.items())
     lat = a.lat if a.lat is not None else words.get("lat_deg", meta.get("lat_deg"))
     if lat is None:
-        raise InputError("the latitude is not known: the table has no lat_deg in its "
-                         "'# site' line; pass --lat DEG")
+        raise InputError("the latitude is not known: the table has no lat_deg= in a '# site' "
+                         "line before its first row; pass --lat DEG")
     h0 = a.start_height if a.start_height is not None else \
         words.get("start_height_m", meta.get("start_height_m"))
     given = h0 is not None
