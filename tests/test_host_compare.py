@@ -300,3 +300,43 @@ def test_flags_the_table_rounding_changes_are_explained_not_failed(tmp_path):
     _rounding_table(dev, (10, FL_SAME_P))
     rc, out, _ = main(["compare", dev])
     assert rc == 1 and "flags device %d, host 0" % FL_SAME_P in out, out
+
+
+def test_an_empty_gps_cell_is_no_fix_as_the_device_passes_it(flight, tmp_path):
+    # a log with a GPS column, some cells empty (no fix); the device passes
+    # nan for them ('gps_m=nan means no fix', README), so its column sets
+    # FL_NO_GPS: the host's replay of the log must read them the same way
+    from tinygeo.column import Column, FL_NO_GPS
+    from tinygeo.errors import ReadingError
+    src = flight["log"].read_text().splitlines()
+    k = src.index("time_s,pressure_hpa,temp_c,rh_pct,gps_m")
+    log_lines = src[:k + 1]
+    col = Column(47.3, 420.0)
+    out = [record.MAGIC, record.site_line(col), record.HEADER]
+    rows = 0
+    for i, ln in enumerate(src[k + 1:]):
+        f = ln.split(",")
+        if i % 7 == 3:
+            f[4] = ""                      # no fix on this line
+        log_lines.append(",".join(f))
+        try:
+            t, p, tc = float(f[0]), float(f[1]) * 100.0, float(f[2]) + 273.15
+            rh = float(f[3]) if f[3] else None
+        except ValueError:
+            continue
+        gps = float(f[4]) if f[4] else float("nan")
+        try:
+            bits = col.feed(p, tc, rh, t, gps)
+        except ReadingError:
+            continue
+        out.append(record.column_row(k + 2 + i, col, bits, rh, gps))
+        rows += 1
+    out.append(record.end_line(rows, col))
+    log = tmp_path / "nofix.csv"
+    log.write_text("\n".join(log_lines) + "\n")
+    dev = tmp_path / "nofix.tsv"
+    dev.write_text("\n".join(out) + "\n")
+    assert sum(1 for r in out[3:-1] if int(r.split("\t")[11]) & FL_NO_GPS) > 50
+    rc, rep, _ = main(["compare", dev, "--log", log])
+    assert rc == 0 and "result: PASS" in rep and report(rep)["flags/events differing"] == 0, rep
+    assert report(rep)["readings compared"] == rows

@@ -237,3 +237,22 @@ def test_exit_codes_are_documented():
     for words in ("not UTF-8", "a line over 1 MiB", "would overwrite an", "closed standard output",
                   "'| head'", "two columns for one"):
         assert words in " ".join(out.split()), words
+
+
+def test_a_small_file_with_cr_line_ends_says_so(tmp_path):
+    # line ends of CR alone (classic Mac OS): the whole file is one line
+    log = tmp_path / "cr.csv"
+    log.write_bytes(b"# lat_deg=47 start_height_m=420\rtime_s,p_hpa,t_c\r0,965.0,12.0\r"
+                    b"2,964.4,12.0\r")
+    rc, _, err = main(["replay", log])
+    msg = one_error(err)
+    assert rc == 2 and "line 1" in msg and "CR alone" in msg and "LF" in msg, msg
+    assert "only comments" not in msg
+    table = tmp_path / "cr.tsv"
+    table.write_bytes(b"# tinygeo table 1\r# site lat_deg=47\rline\tp_pa\tt_k\r")
+    rc, _, err = main(["compare", table])
+    assert rc == 2 and "CR alone" in one_error(err)
+    # CR LF line ends are fine
+    log.write_bytes(log.read_bytes().replace(b"\r", b"\r\n"))
+    rc, out, err = main(["replay", log])
+    assert rc == 0, err

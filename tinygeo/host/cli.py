@@ -43,13 +43,16 @@ MAPPING_HELP = """column mapping (default: from the header names):
   NAME is a header name or a column number (1 = first); :UNIT is optional
   when the header name ends in a unit word (pressure_hpa, temp_c, time_s).
   Recognised by default: p/pressure/press/baro, t/temp/temperature,
-  rh/humidity, td/dewpoint/dew_point, time/elapsed/timestamp/utc, gps/gps_alt,
-  each optionally followed by a unit (pa hpa mbar kpa, k c degc f degf, pct,
-  s ms, m). Two columns for one quantity are an error: choose with the
-  option. A unit not stated is inferred from the values and must be
-  confirmed by them (pressure near the start height, a surface temperature,
-  at most 10 K/km of cooling over the first 1500 m of climb), else the
-  replay stops and asks for it. Comment lines (#) before the header may set
+  rh/humidity, td/dewpoint/dew_point, time/elapsed/timestamp/utc/uptime,
+  gps/gps_alt, each optionally followed by a unit (pa hpa mbar kpa, k c degc
+  f degf, pct fraction, s ms, m). Two columns for one quantity are an error
+  (a device clock and UTC stamps too): choose with the option. A unit not
+  stated is inferred from the values and must be confirmed by them
+  (pressure near the start height, a surface temperature, at most 10 K/km of
+  cooling over the first 1500 m of climb, humidity above 1 in one of the
+  first 10 readings: else a 0..1 fraction), else the replay stops and asks
+  for it. In a GPS column an empty cell (or nan) means no fix (flag 32).
+  Lines must end in LF or CR LF. Comment lines (#) before the header may set
   lat_deg=, start_height_m=, sigma_p_pa=, sigma_t_k=, sigma_rh_pct=,
   bias_p_pa=, bias_t_k=, bias_rh_pct= (as 'tinygeo simulate' writes);
   options given here take precedence."""
@@ -86,7 +89,8 @@ def _add_mapping(p, gps=True, text=MAPPING_HELP):
     g = p.add_argument_group("column mapping", text)
     g.add_argument("--pressure", metavar="NAME[:Pa|hPa|kPa]", help="pressure column")
     g.add_argument("--temperature", metavar="NAME[:K|C|F]", help="air temperature column")
-    g.add_argument("--humidity", metavar="NAME", help="relative humidity column, %% (over water)")
+    g.add_argument("--humidity", metavar="NAME[:pct|fraction]",
+                   help="relative humidity column, %% (over water), or a 0..1 fraction")
     g.add_argument("--dew-point", dest="dewpoint", metavar="NAME[:K|C|F]",
                    help="dew point column, instead of --humidity")
     g.add_argument("--time", metavar="NAME[:s|ms|iso]",

@@ -12,8 +12,9 @@ Files:
 
 * Inputs are read as UTF-8, line by line, at most MAX_LINE_CHARS characters
   per line (:class:`TextLines`): a line that is not UTF-8 (a UTF-16 log, a
-  binary file), holds NUL bytes or is longer stops the command with one
-  message naming the file and the line (exit 2), in bounded memory.
+  binary file), holds NUL bytes or a CR before its end (line ends of CR
+  alone) or is longer stops the command with one message naming the file
+  and the line (exit 2), in bounded memory.
 * No output may be one of the inputs (:func:`check_paths`: the same file,
   links and hard links included, or stdin redirected from it): exit 2 before
   anything is opened for writing.
@@ -110,8 +111,11 @@ class TextLines:
     :meth:`readline`) gives each line as text with its line end, '' at the
     end; ``lineno`` is the number of the line last read. Raises InputError
     naming ``name`` and the line for a line that is not UTF-8, holds a NUL
-    character, or is longer than MAX_LINE_CHARS; memory stays within one
-    line of that size."""
+    character, holds a CR before its line end (a file whose lines end in CR
+    alone), or is longer than MAX_LINE_CHARS; memory stays within one line
+    of that size. (The replay's hot loop reads the stream itself and checks
+    the length and NUL only: the header and the lines read ahead come
+    through here.)"""
 
     def __init__(self, stream, name):
         self.stream = stream
@@ -137,6 +141,11 @@ class TextLines:
                 raise self.not_utf8(self.lineno, e, raw)
         if len(raw) >= MAX_LINE_CHARS or "\x00" in raw:
             self.check(raw, self.lineno)
+        if "\r" in raw and "\r" in raw.rstrip("\r\n"):
+            raise InputError("%s line %d: a CR (carriage return) inside the line: the file's "
+                             "lines seem to end in CR alone (old Mac line ends), so it reads as "
+                             "one line; convert the line ends to LF (e.g. tr '\\r' '\\n' < IN "
+                             "> OUT)" % (self.name, self.lineno))
         return raw
 
     def check(self, text, lineno):

@@ -234,7 +234,7 @@ class Summary:
             rd, h, td = self.surface
             pairs = [("time_s", _nan(rd[4])), ("line", rd[0]), ("p_hpa", rd[1] / 100.0),
                      ("t_k", rd[2]), ("td_k", td), ("rh_pct", _nan(rd[3])), ("height_m", h)]
-            if rd[5] is not None:
+            if rd[5] is not None and rd[5] == rd[5]:
                 pairs.append(("gps_m", rd[5]))
             out.append(rec("surface", pairs, "the first accepted reading"))
         if self.launch is not None:
@@ -479,7 +479,7 @@ def run(reader, col, summary, report, out=None, every=1, flush=False, sink=None,
                 summary.highest = (h, col.gph_m, nan if ts is None else ts, lineno)
             elif h < hmin:
                 hmin = h
-            if gps is not None:
+            if gps is not None and gps == gps:      # nan: no fix
                 d = col.gps_diff_m
                 if d == d:
                     gps_n += 1
