@@ -266,11 +266,16 @@ def build_parser():
         "replay", help="replay a recorded log through the column, writing a table and a summary",
         description="Replay a log (CSV/TSV with a header, or '-' for stdin, read line by line) "
                     "through the column; write one row per accepted reading and a summary "
-                    "(surface, mandatory levels with temperature and dew point, tropopause, "
-                    "float, burst, highest point, landing, GPS difference, counts). Rejected "
-                    "readings are reported on stderr with their line number. Event words stand "
-                    "on the row where the column decided (one reading after the event, the "
-                    "tropopause 2 km above it); the summary says where each happened.",
+                    "(surface, launch, mandatory levels with temperature and dew point, "
+                    "tropopause and the layer it is resolved to, float, burst, highest point, "
+                    "landing with the touchdown it implies, where humidity went missing, GPS "
+                    "difference, counts: rejected by the column, as the end record says, and "
+                    "lines that could not be read). Rejected readings are reported on stderr "
+                    "with their line number. Event words stand on the row where the column "
+                    "decided (one reading after the reading that completed the event, the "
+                    "tropopause 2 km above it); the summary says where each happened. Launch "
+                    "and landing are the times the column detected them: lift-off is earlier, "
+                    "touchdown landing_s (60 s) earlier.",
         epilog="table layout: see tinygeo/record.py.\n\n" + epilog,
         formatter_class=argparse.RawDescriptionHelpFormatter)
     r.add_argument("log", help="log file, or - for standard input")

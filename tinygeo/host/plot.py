@@ -253,8 +253,11 @@ def draw(pts, setup, records, out_path, title, dpi, origin=None, fmt=None):
             if hk == hk:
                 ax_tp.axhline(hk, color="tab:red", lw=0.8, ls="--", label="burst %.1f km" % hk)
         elif what == "landing" and hk == hk and tm == tm:
-            ax_ht.plot([tx(tm)], [hk], marker="v", ms=8, color="tab:brown", ls="none",
-                       label="landing")
+            # at the touchdown the summary estimates (time_s is when the
+            # column decided, landing_s later)
+            td = _f(d, "touchdown_time_s")
+            ax_ht.plot([tx(td if td == td else tm)], [hk], marker="v", ms=8, color="tab:brown",
+                       ls="none", label="touchdown" if td == td else "landing")
     for ax in (ax_ht, ax_tp, ax_rt, ax_sg):
         ax.grid(True, color="0.9", lw=0.5)
         handles, labels = ax.get_legend_handles_labels()
