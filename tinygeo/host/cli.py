@@ -35,8 +35,10 @@ EXIT_TEXT = """exit status:
       rejected for one reason (rate, time, pressure, temperature, humidity,
       number, gps; counted from the 100th reading on)
   3   plot: matplotlib is not installed (pip install 'tinygeo[plot]')
-  4   an output could not be written (full disk, closed standard output...);
-      the message names it, and no half-written file is left under its name
+  4   an output could not be written (full disk, closed standard output, an
+      existing read-only file: make it writable or delete it...); the
+      message names it, and no half-written file is left under its name (an
+      output named by a symbolic link is written to the file it points to)
   130 interrupted (Ctrl-C)"""
 
 MAPPING_HELP = """column mapping (default: from the header names):

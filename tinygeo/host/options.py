@@ -21,7 +21,11 @@ Files:
 * An output file is written under a temporary name in its directory and
   renamed over the final name at the end (:class:`OutFile`), so an
   interrupted or failed run leaves no half-written file under that name (an
-  existing file keeps its old contents). Devices and pipes (``/dev/null``,
+  existing file keeps its old contents). An output named by a symbolic link
+  is written to the file the link points to (the link stays). An existing
+  output file that is read-only (no write permission for its owner) is not
+  replaced: exit 4 before anything is written, saying to make it writable or
+  delete it (:func:`replace_target`). Devices and pipes (``/dev/null``,
   ``/dev/full``, a FIFO) are written directly. A write that fails (a full
   disk, a closed standard output) stops the command with exit 4 naming the
   file.
@@ -256,6 +260,27 @@ def check_paths(inputs, outputs, stdin=None):
         seen.append((opt, path, ident, real))
 
 
+def replace_target(path):
+    """The file that writing ``path`` by renaming a new file over it must
+    replace: ``path`` itself, or, when ``path`` is a symbolic link, the file
+    it points to (so the link stays a link and its target gets the new
+    contents; a dangling link's target is created). Raises OutputError when
+    that file exists and is read-only (no write bit for its owner, whoever
+    runs: a rename would go around the protection)."""
+    target = os.path.realpath(path) if os.path.islink(path) else path
+    try:
+        st = os.stat(target)
+    except OSError:
+        return target
+    if stat.S_ISREG(st.st_mode) and not st.st_mode & stat.S_IWUSR:
+        raise OutputError("cannot write %s: it is read-only (mode %04o)%s; make it writable "
+                          "(chmod u+w) or delete it, to replace it"
+                          % (path, stat.S_IMODE(st.st_mode),
+                             "" if target == path else " (the file the link points to, %s)"
+                             % target))
+    return target
+
+
 class OutFile:
     """An output: ``path`` written under a temporary name in the same
     directory and renamed over ``path`` by :meth:`commit`; or ``stdout`` for
@@ -269,6 +294,7 @@ class OutFile:
 
     def __init__(self, path, stdout):
         self.path = path
+        self.target = path          # the file replaced at commit (a link's target)
         self.name = "stdout" if path in (None, "-") else path
         self.temp = None
         self._own = False
@@ -287,7 +313,8 @@ class OutFile:
                     raise UsageError("%s is a directory; give a file name" % path)
                 self.f = open(path, "w", encoding="utf-8", newline="\n")
             else:
-                d = os.path.dirname(os.path.abspath(path))
+                self.target = replace_target(path)
+                d = os.path.dirname(os.path.abspath(self.target))
                 fd, self.temp = tempfile.mkstemp(dir=d, prefix="." + os.path.basename(path) + ".",
                                                  suffix=".part")
                 mode = 0o666 & ~_umask() if st is None else stat.S_IMODE(st.st_mode)
@@ -334,7 +361,7 @@ class OutFile:
         self._own = False
         if self.temp is not None:
             try:
-                os.replace(self.temp, self.path)
+                os.replace(self.temp, self.target)
             except OSError as e:
                 self.discard()
                 raise OutputError("cannot write %s: %s" % (self.path, e.strerror or e))

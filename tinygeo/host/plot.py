@@ -40,7 +40,8 @@ from tinygeo.host import stationlog
 from tinygeo.host.logread import LogReader
 from tinygeo.host.options import (EXIT_MISSING_EXTRA, EXIT_OK, InputError, OutputError,
                                   UsageError, check_paths, column_setup, mapping, new_column,
-                                  open_text, setup_from_site, temp_path_for)
+                                  open_text, replace_target, setup_from_site,
+                                  temp_path_for)
 
 MAX_POINTS = 4000
 NAN = float("nan")
@@ -521,9 +522,10 @@ def run(a, stdin, stdout, stderr):
         if os.path.exists(out) and not os.path.isfile(out):
             render(out)
         else:
-            tmp = temp_path_for(out)
+            target = replace_target(out)
+            tmp = temp_path_for(target)
             render(tmp)
-            os.replace(tmp, out)
+            os.replace(tmp, target)
             tmp = None
     except OSError as e:
         raise OutputError("cannot write %s: %s" % (out, e.strerror or e))
