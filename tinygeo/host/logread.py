@@ -380,10 +380,12 @@ class LogReader:
                 continue
             if len(m) > 1:
                 raise InputError(
-                    "%s line %d: %s both look like the %s; choose one with --%s NAME"
+                    "%s line %d: %s both look like the %s; choose one with --%s NAME%s"
                     % (self.name, self.lineno,
                        " and ".join("column %d %r" % (i + 1, n) for i, n, _ in m),
-                       _what(q), _opt(q)))
+                       _what(q), _opt(q),
+                       " (to compare with a device: the clock it fed its column)"
+                       if q == "time" else ""))
             i, n, unit = m[0]
             if q == "dewpoint" and "humidity" in cols:
                 self.notes.append("column %r (dew point) not used: the humidity comes from "
