@@ -47,10 +47,10 @@ log stops with exit 2 asking for the unit:
   with a unit in the header name, the values of the lines read ahead
   anyway, at least the first reading's) must not all be at or below
   RH_FRACTION_MAX (1.0): relative humidity at or below 1 % in every one of
-  the first readings near the surface does not happen (the driest surface
-  air measured holds a few percent; common practice), a 0..1 fraction does,
-  and read as percent it is taken for air 100 times too dry (heights some
-  37 m low at 12 km in a warm humid atmosphere). A header-stated fraction
+  the first readings near the surface is not seen in surface air (common
+  practice, from memory), a 0..1 fraction is, and read as percent it is
+  taken for air 100 times too dry (measured: heights 36.9 m low at 12 km in
+  the warm humid atmosphere of tests/streams.py). A header-stated fraction
   whose values exceed 1 is refused the same way.
 
 The start height: when none was given (it defaulted to 0 m) and the first
@@ -128,7 +128,8 @@ LOOKAHEAD_CHARS = 4 << 20     # ... and characters
 START_PA_M = 500.0            # start height defaulted to 0: pressure altitude allowed (weather)
 START_GPS_M = 300.0           # ... GPS height allowed
 RH_PROBES = 10                # humidity values read ahead to tell percent from a fraction
-RH_FRACTION_MAX = 1.0         # ... all at or below this: a 0..1 fraction (common practice)
+RH_FRACTION_MAX = 1.0         # ... all at or below this: a 0..1 fraction (common practice,
+                              # from memory)
 
 
 def normalise(name):
