@@ -807,7 +807,7 @@ def run_c_column(exe, cmds, opts=(), env=None):
     assert r.returncode == 0, r.stderr
     rows, events, blobs, recs = [], [], [], []
     for ln in r.stdout.splitlines():
-        if ln[:2] in ("w ", "s ", "m ", "h ", "z "):
+        if ln[:2] in ("w ", "s ", "m ", "h ", "z ", "u "):
             recs.append(ln[2:])
             continue
         w = ln.split()
@@ -1533,16 +1533,26 @@ def test_column_stream_vectors(build):
 def test_record_rows_identical(build):
     """ports/c/record.c writes the table exactly as tinygeo/record.py: the
     magic, header and site line, the row of every accepted reading of the
-    random streams (column_row with the reading's rh_pct and gps_m) and the
-    end record (end_line), byte for byte (C's printf and Python's % round the same on all of them)."""
+    random streams (column_row with the reading's rh_pct and gps_m), the
+    resume record after a checkpoint is loaded (resume_line) and the end
+    record (end_line), byte for byte (C's printf and Python's % round the
+    same on all of them)."""
     rng = random.Random(5)
     n = 0
+    resumed = 0
     for s in range(40):
         cmds = random_stream(rng) if s else sounding_commands(step=100.0)
+        if s == 1:
+            # a logger resuming: the column restored from a checkpoint half-way
+            base = sounding_commands(step=100.0)
+            k = len(base) // 2
+            blob = run_py_column(base[:k] + [("save", ())])[2][-1]
+            cmds = base[:k] + [("load", (blob,))] + base[k:]
         crec = run_c_column(build["column_double"], cmds, ["-r"])[3]
         prec = []
         col = None
         k = 0
+        rows = 0
         for verb, args in cmds:
             if verb == "init":
                 kw = dict(args[1])
@@ -1555,6 +1565,7 @@ def test_record_rows_identical(build):
                 try:
                     bits = col.feed(p, t, rh, stamp(ts), gps)
                     prec.append(record.column_row(k, col, bits, rh, gps))
+                    rows += 1
                 except ReadingError:
                     pass
                 k += 1
@@ -1563,11 +1574,15 @@ def test_record_rows_identical(build):
                     col.reanchor_gps(*args)
                 except TinygeoError:
                     pass
-        prec.append(record.end_line(len(prec) - 3, col))
+            elif verb == "load":
+                col = Column.from_bytes(bytes.fromhex(args[0]))
+                prec.append(record.resume_line(k))
+                resumed += 1
+        prec.append(record.end_line(rows, col))
         assert crec == prec, next((a, b) for a, b in zip(crec, prec) if a != b)
         n += len(prec)
     print("record rows: %d lines byte-identical" % n)
-    assert n > 3000
+    assert n > 3000 and resumed == 1
 
 
 def test_column_bad_settings(build):

@@ -86,15 +86,17 @@ def test_a_subset_of_the_value_columns_passes(flight):
     assert rc == 2 and "no p_pa column" in err and "--log FILE" in err
 
 
-def test_nan_means_not_computed_and_is_skipped(flight):
+def test_nan_in_every_row_means_not_computed_and_is_skipped(flight):
     rows = [r[:10] + ["nan"] + r[11:] for r in flight["rows"]]      # sigma_m not computed
     dev = device(flight, "nan_sigma.tsv", list(record.COLUMNS), rows)
     rc, out, _ = main(["compare", dev])
     assert rc == 0 and "result: PASS" in out, out
-    # every sigma_m, and the rates nan on both sides (the first reading has none)
+    # every sigma_m; the rates nan on both sides (the first reading has none)
+    # agree and are not counted
     first = sum(1 for r in rows if r[9] == "nan")
     assert first >= 1
-    assert report(out)["values not computed on the device (nan), skipped"] == len(rows) + first
+    assert report(out)["values not computed on the device (nan in every row), skipped"] == \
+        len(rows)
 
 
 def test_a_table_cut_short_fails_in_every_mode(flight):
@@ -170,3 +172,171 @@ def test_a_thinned_table_is_refused(flight, tmp_path):
         in thin.read_text()
     rc, _, err = main(["compare", thin])
     assert rc == 2 and "every 10-th row only" in err and "without --every" in err
+
+
+def _body(path):
+    """The lines of a device table split into (head, rows) as text lines."""
+    text = path.read_text().splitlines(keepends=True)
+    k = next(i for i, ln in enumerate(text) if ln[:1].isdigit())
+    return text[:k], [ln for ln in text[k:] if ln[:1].isdigit()]
+
+
+def test_a_resume_record_drops_the_rows_taken_again(flight, tmp_path):
+    # a logger cut at row k+30 after a checkpoint at row k: on resume it
+    # writes '#: resume line=N' (tinygeo.record.resume_line) and takes the
+    # readings from N on again; the copies before the record are void
+    n = len(flight["rows"])
+    head, rows = _body(device(flight, "whole.tsv", list(record.COLUMNS), end=False))
+    k = 500
+    line_k = int(rows[k].split("\t")[0])
+    torn = rows[k + 30][:25]                   # the power cut tore this row
+    text = head + rows[:k + 30] + [torn, "\n", record.resume_line(line_k) + "\n"] + rows[k:] + \
+        [record.END_PREFIX + "rows=%d\n" % n]
+    dev = tmp_path / "resumed.tsv"
+    dev.write_text("".join(text))
+    rc, out, _ = main(["compare", dev])
+    assert rc == 0 and "result: PASS" in out, out
+    r = report(out)
+    assert r["readings compared"] == n
+    assert "rows it took again, earlier copies dropped: 30" in out
+    assert "rows torn by a power cut, dropped: 1" in out
+    rc, out, _ = main(["compare", dev, "--log", flight["log"]])
+    assert rc == 0 and report(out)["readings compared"] == n, out
+    # the same table read from standard input (read once, into a temporary file)
+    o, e = io.StringIO(), io.StringIO()
+    rc = cli.main(["compare", "-"], stdin=io.StringIO("".join(text)), stdout=o, stderr=e)
+    assert rc == 0 and "result: PASS" in o.getvalue(), o.getvalue() + e.getvalue()
+    # without the record the repeated rows are named as such
+    dup = tmp_path / "dup.tsv"
+    dup.write_text("".join(head + rows[:k + 30] + rows[k:] +
+                           [record.END_PREFIX + "rows=%d\n" % n]))
+    rc, out, _ = main(["compare", dup])
+    assert rc == 1
+    assert "rows whose line is not above every row before: 30" in out
+    assert "the end record says %d rows, the table holds %d: 30 extra rows (duplicated rows?" % (
+        n, n + 30) in out and "rows are missing" not in out
+
+
+def test_a_torn_last_row_is_a_table_cut_short(flight, tmp_path):
+    head, rows = _body(device(flight, "whole2.tsv", list(record.COLUMNS), end=False))
+    dev = tmp_path / "torn.tsv"
+    dev.write_text("".join(head + rows[:100] + [rows[100][:30]]))     # no line end, no end record
+    rc, out, err = main(["compare", dev])
+    assert rc == 1 and "no end record" in out and "last row torn" in out, out + err
+    # a row that cannot be read in the middle is still an error (exit 2)
+    dev.write_text("".join(head + rows[:100] + [rows[100][:30] + "\n"] + rows[101:]))
+    rc, out, err = main(["compare", dev])
+    assert rc == 2 and "fields, expected 13" in err
+
+
+def test_the_site_line_may_stand_anywhere_before_the_first_row(flight, tmp_path):
+    head, rows = _body(device(flight, "site.tsv", list(record.COLUMNS)))
+    site = [ln for ln in head if ln.startswith(record.SITE_PREFIX)]
+    rest = [ln for ln in head if not ln.startswith(record.SITE_PREFIX)]
+    tail = [record.END_PREFIX + "rows=%d\n" % len(rows)]
+    dev = tmp_path / "after_header.tsv"
+    dev.write_text("".join(rest + site + rows + tail))          # after the column header
+    assert rest[-1].startswith("line\t")
+    rc, out, err = main(["compare", dev])
+    assert rc == 0 and "result: PASS" in out, out + err
+    dev.write_text("".join(rest + rows[:1] + site + rows[1:] + tail))
+    rc, out, err = main(["compare", dev])
+    assert rc == 2 and "after the first row" in err and "must come before the rows" in err, err
+    dev.write_text("".join(rest + rows + tail))
+    rc, out, err = main(["compare", dev])
+    assert rc == 2 and "'# site' line before its first row" in err and "--lat" in err, err
+
+
+def test_a_nan_where_the_device_writes_numbers_fails(flight):
+    # one row with nan heights, rate and sigma: the device computes these
+    # columns (numbers in every other row), the host has numbers there
+    rows = [list(r) for r in flight["rows"]]
+    rows[400][7:11] = ["nan"] * 4
+    dev = device(flight, "nan_row.tsv", list(record.COLUMNS), rows)
+    rc, out, _ = main(["compare", dev])
+    assert rc == 1 and report(out)["FAIL"] == 1, out
+    assert "gph_m is nan on the device, host" in out
+    rc, out, _ = main(["compare", dev, "--log", flight["log"]])
+    assert rc == 1 and report(out)["FAIL"] == 1, out
+
+
+def _rounding_table(path, flags_edit=None):
+    """A device table written with tinygeo.record by a column fed pressures
+    0.003 Pa apart (they print equal with %.2f); ``flags_edit``: (row, flags)
+    to overwrite."""
+    from tinygeo.column import Column
+    col = Column(47.0, 420.0)
+    ps = [96500.0 - 2.0 * i for i in range(40)]
+    ps[20] = ps[19] + 0.003          # pressure rose by 0.003 Pa: FL_DESCENT on the device
+    ps[30] = ps[29] - 0.003          # fell by 0.003 Pa: no flag on the device
+    lines = [record.MAGIC, record.site_line(col), record.HEADER]
+    for i, p in enumerate(ps):
+        bits = col.feed(p, 288.0, 50.0, i)
+        lines.append(record.column_row(i, col, bits, 50.0))
+    if flags_edit is not None:
+        f = lines[3 + flags_edit[0]].split("\t")
+        f[11] = str(flags_edit[1])
+        lines[3 + flags_edit[0]] = "\t".join(f)
+    lines.append(record.end_line(len(ps), col))
+    path.write_text("\n".join(lines) + "\n")
+    return lines
+
+
+def test_flags_the_table_rounding_changes_are_explained_not_failed(tmp_path):
+    from tinygeo.column import FL_DESCENT, FL_SAME_P
+    dev = tmp_path / "rounding.tsv"
+    lines = _rounding_table(dev)
+    row = [ln.split("\t") for ln in lines[3:-1]]
+    assert row[20][2] == row[19][2] and row[30][2] == row[29][2]    # printed equal
+    assert int(row[20][11]) == FL_DESCENT and int(row[30][11]) == 0
+    diffs = tmp_path / "d.tsv"
+    rc, out, _ = main(["compare", dev, "--diffs", diffs])
+    assert rc == 0 and "result: PASS" in out, out
+    assert "rounded: 2 (flags FL_SAME_P/FL_DESCENT" in out and "offending readings: 0" in out
+    status = [ln.split("\t")[-1] for ln in diffs.read_text().splitlines()[1:]]
+    assert status.count("rounded") == 2 and status.count("ok") == 38
+    # FL_SAME_P on a row whose printed pressure differs from the row before's
+    # is no rounding: it fails
+    _rounding_table(dev, (10, FL_SAME_P))
+    rc, out, _ = main(["compare", dev])
+    assert rc == 1 and "flags device %d, host 0" % FL_SAME_P in out, out
+
+
+def test_an_empty_gps_cell_is_no_fix_as_the_device_passes_it(flight, tmp_path):
+    # a log with a GPS column, some cells empty (no fix); the device passes
+    # nan for them ('gps_m=nan means no fix', README), so its column sets
+    # FL_NO_GPS: the host's replay of the log must read them the same way
+    from tinygeo.column import Column, FL_NO_GPS
+    from tinygeo.errors import ReadingError
+    src = flight["log"].read_text().splitlines()
+    k = src.index("time_s,pressure_hpa,temp_c,rh_pct,gps_m")
+    log_lines = src[:k + 1]
+    col = Column(47.3, 420.0)
+    out = [record.MAGIC, record.site_line(col), record.HEADER]
+    rows = 0
+    for i, ln in enumerate(src[k + 1:]):
+        f = ln.split(",")
+        if i % 7 == 3:
+            f[4] = ""                      # no fix on this line
+        log_lines.append(",".join(f))
+        try:
+            t, p, tc = float(f[0]), float(f[1]) * 100.0, float(f[2]) + 273.15
+            rh = float(f[3]) if f[3] else None
+        except ValueError:
+            continue
+        gps = float(f[4]) if f[4] else float("nan")
+        try:
+            bits = col.feed(p, tc, rh, t, gps)
+        except ReadingError:
+            continue
+        out.append(record.column_row(k + 2 + i, col, bits, rh, gps))
+        rows += 1
+    out.append(record.end_line(rows, col))
+    log = tmp_path / "nofix.csv"
+    log.write_text("\n".join(log_lines) + "\n")
+    dev = tmp_path / "nofix.tsv"
+    dev.write_text("\n".join(out) + "\n")
+    assert sum(1 for r in out[3:-1] if int(r.split("\t")[11]) & FL_NO_GPS) > 50
+    rc, rep, _ = main(["compare", dev, "--log", log])
+    assert rc == 0 and "result: PASS" in rep and report(rep)["flags/events differing"] == 0, rep
+    assert report(rep)["readings compared"] == rows

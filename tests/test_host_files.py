@@ -237,3 +237,68 @@ def test_exit_codes_are_documented():
     for words in ("not UTF-8", "a line over 1 MiB", "would overwrite an", "closed standard output",
                   "'| head'", "two columns for one"):
         assert words in " ".join(out.split()), words
+
+
+def test_a_small_file_with_cr_line_ends_says_so(tmp_path):
+    # line ends of CR alone (classic Mac OS): the whole file is one line
+    log = tmp_path / "cr.csv"
+    log.write_bytes(b"# lat_deg=47 start_height_m=420\rtime_s,p_hpa,t_c\r0,965.0,12.0\r"
+                    b"2,964.4,12.0\r")
+    rc, _, err = main(["replay", log])
+    msg = one_error(err)
+    assert rc == 2 and "line 1" in msg and "CR alone" in msg and "LF" in msg, msg
+    assert "only comments" not in msg
+    table = tmp_path / "cr.tsv"
+    table.write_bytes(b"# tinygeo table 1\r# site lat_deg=47\rline\tp_pa\tt_k\r")
+    rc, _, err = main(["compare", table])
+    assert rc == 2 and "CR alone" in one_error(err)
+    # CR LF line ends are fine
+    log.write_bytes(log.read_bytes().replace(b"\r", b"\r\n"))
+    rc, out, err = main(["replay", log])
+    assert rc == 0, err
+
+
+def test_an_output_named_by_a_symlink_is_written_through_it(flight, tmp_path):
+    target = tmp_path / "real.tsv"
+    target.write_text("old\n")
+    link = tmp_path / "link.tsv"
+    link.symlink_to(target)
+    rc, _, err = main(["replay", flight["log"], "-o", link])
+    assert rc == 0, err
+    assert link.is_symlink() and os.readlink(link) == str(target)
+    assert target.read_text() == flight["table"].read_text()
+    # a dangling link: its target is created
+    target.unlink()
+    rc, _, err = main(["replay", flight["log"], "-o", link, "--summary", tmp_path / "s.txt"])
+    assert rc == 0, err
+    assert link.is_symlink() and target.read_text() == flight["table"].read_text()
+    assert not [p for p in os.listdir(tmp_path) if p.endswith(".part")]
+
+
+def test_a_read_only_output_is_not_replaced(flight, tmp_path):
+    out = tmp_path / "kept.tsv"
+    out.write_text("keep me\n")
+    out.chmod(0o444)
+    try:
+        for args in (["replay", flight["log"], "-o", out],
+                     ["compare", flight["table"], "--diffs", out],
+                     ["simulate", "-o", out]):
+            rc, _, err = main(args)
+            msg = one_error(err)
+            assert rc == 4 and "read-only (mode 0444)" in msg and "chmod u+w" in msg, msg
+            assert out.read_text() == "keep me\n" and (out.stat().st_mode & 0o777) == 0o444
+        png = tmp_path / "kept.png"
+        png.write_text("keep me\n")
+        png.chmod(0o444)
+        rc, _, err = main(["plot", flight["table"], "-o", png])
+        assert rc == 4 and "read-only (mode 0444)" in one_error(err)
+        assert png.read_text() == "keep me\n"
+        # through a link too
+        link = tmp_path / "link.tsv"
+        link.symlink_to(out)
+        rc, _, err = main(["replay", flight["log"], "-o", link])
+        assert rc == 4 and "the file the link points to" in one_error(err)
+        assert out.read_text() == "keep me\n"
+    finally:
+        out.chmod(0o644)
+    assert not [p for p in os.listdir(tmp_path) if p.endswith(".part")]

@@ -61,7 +61,7 @@ def test_unparseable_numbers_are_rejected_with_line_and_counted():
     assert rc == 0
     assert "line 8: pressure '96x.2' in column 'pressure_hpa' is not a number" in err
     assert "line 12: 3 fields, expected 4" in err
-    assert "#: rejected count=2 fields=1 number=1" in out
+    assert "#: rejected count=2 by_column=0 unread=2 fields=1 number=1 -- " in out
 
 
 def test_celsius_column_declared_kelvin():

@@ -373,8 +373,8 @@ KILL_AT = %d
 _save = logbook.Checkpoints.save
 
 
-def save(self, index, column):
-    ok = _save(self, index, column)
+def save(self, index, column, rows=0):
+    ok = _save(self, index, column, rows)
     if index == KILL_AT:
         # the checkpoint file is closed: say so, then wait for the SIGKILL
         # (stdin stays open and silent, so this blocks until the process dies)
@@ -563,9 +563,9 @@ main_index = [0]
 _save = logbook.Checkpoints.save
 
 
-def save(self, index, column):
+def save(self, index, column, rows=0):
     main_index[0] = index
-    return _save(self, index, column)
+    return _save(self, index, column, rows)
 
 
 logbook.open = flaky_open
@@ -611,7 +611,8 @@ def test_a_slot_whose_header_is_not_covered_is_refused(tmp_path, full_runs):
 
 def test_the_logger_writes_a_table_that_the_record_layout_describes(tmp_path):
     # --table writes tinygeo/record.py rows under MicroPython: the magic, the
-    # site line, the header, then one row per accepted reading
+    # site line, the header, one row per accepted reading, the end record;
+    # the host's compare passes it
     require_micropython()
     from tinygeo import record
     table = tmp_path / "device.tsv"
@@ -619,9 +620,78 @@ def test_the_logger_writes_a_table_that_the_record_layout_describes(tmp_path):
     lines = table.read_text().splitlines()
     assert lines[0] == record.MAGIC and lines[1].startswith(record.SITE_PREFIX)
     assert lines[2] == record.HEADER
-    rows = [ln.split("\t") for ln in lines[3:]]
+    rows = [ln.split("\t") for ln in lines[3:-1]]
     assert len(rows) == 1580 and all(len(r) == len(record.COLUMNS) for r in rows)
     assert any("burst" in r[-1] for r in rows) and any("landed" in r[-1] for r in rows)
+    assert lines[-1].startswith(record.END_PREFIX + "rows=1580 count=1580 rejected=1 ")
+    rc, out = _compare(table)
+    assert rc == 0 and "result: PASS" in out, out
+
+
+def _compare(table):
+    from tinygeo.host import cli
+    import io
+    out, err = io.StringIO(), io.StringIO()
+    rc = cli.main(["compare", str(table)], stdin=io.StringIO(""), stdout=out, stderr=err)
+    return rc, out.getvalue() + err.getvalue()
+
+
+@pytest.mark.parametrize("interp", ["micropython", "cpython"])
+def test_a_resumed_logger_table_passes_compare(tmp_path, interp):
+    # a power cut (--stop-after) 20 readings after the checkpoint of 1250,
+    # with the last row torn on storage; the resumed log writes the resume
+    # record, takes the readings from 1250 on again and ends with the end
+    # record: compare drops the void rows and passes; the table of the cut
+    # run alone is cut short (exit 1, not a table error)
+    exe = MICROPYTHON if interp == "micropython" else sys.executable
+    if interp == "micropython":
+        require_micropython()
+    table = tmp_path / "device.tsv"
+    run_main(exe, tmp_path, "--checkpoint-every", "50", "--stop-after", "1270", "--table", str(table))
+    rc, out = _compare(table)
+    assert rc == 1 and "no end record" in out, out
+    text = table.read_text()
+    table.write_text(text[:-30])                   # the cut tore the last row
+    second = run_main(exe, tmp_path, "--checkpoint-every", "50", "--table", str(table))
+    assert resumed_at(second, str(tmp_path / "tg.ckpt")) == 1250
+    lines = table.read_text().splitlines()
+    assert lines.count("#: resume line=1250") == 1
+    rc, out = _compare(table)
+    assert rc == 0 and "result: PASS" in out, out
+    assert "readings compared: 1580" in out
+    assert "rows it took again, earlier copies dropped: 19; rows torn by a power cut, dropped: 1" \
+        in out
+    assert lines[-1].startswith("#: end rows=1580 ")
+
+
+@pytest.mark.parametrize("interp", ["micropython", "cpython"])
+def test_a_resumed_log_prints_no_status_line_twice(tmp_path, interp):
+    # the status line of the reading before each checkpoint (PRINT_EVERY =
+    # CHECKPOINT_EVERY): the resumed log starts after it
+    exe = MICROPYTHON if interp == "micropython" else sys.executable
+    if interp == "micropython":
+        require_micropython()
+    first = run_main(exe, tmp_path, "--checkpoint-every", "60", "--print-every", "60",
+                     "--stop-after", "1270")
+    second = run_main(exe, tmp_path, "--checkpoint-every", "60", "--print-every", "60")
+    assert resumed_at(second, str(tmp_path / "tg.ckpt")) == 1260
+
+    def status(out):
+        return [ln.split()[0] for ln in out.splitlines() if ln.startswith("#") and
+                ln.split()[1] == "t"]
+    s1, s2 = status(first), status(second)
+    assert s1[:3] == ["#0", "#59", "#119"] and s1[-1] == "#1259" and s2[0] == "#1319", (s1, s2)
+    assert not set(s1) & set(s2)
+
+
+@pytest.mark.parametrize("interp", ["micropython", "cpython"])
+def test_the_logger_help_prints_the_usage(tmp_path, interp):
+    exe = MICROPYTHON if interp == "micropython" else sys.executable
+    if interp == "micropython":
+        require_micropython()
+    out = run_script(exe, [MAIN, "--help"], cwd=tmp_path)
+    assert out.startswith("usage: main.py") and "--table ''" in out and "--step 1.0" in out, out
+    assert not (tmp_path / "tinygeo.ckpt.0").exists()
 
 
 CP_STUBS = ROOT / ".typings" / "cp"

@@ -55,6 +55,18 @@ def test_runner_exit_status_as_cpython(tmp_path, code, status, err):
     assert err in p.stderr
 
 
+def test_runner_help_prints_the_usage():
+    require_wasm32()
+    import subprocess
+    from conftest import WASM32_RUN
+    for opt in ("--help", "-h"):
+        p = subprocess.run(["node", str(WASM32_RUN), opt], capture_output=True, text=True,
+                           timeout=60)
+        assert p.returncode == 0 and p.stderr == "", (p.returncode, p.stderr)
+        assert "node tests/wasm32/run.mjs [--heapsize BYTES]" in p.stdout
+        assert "needs a value" not in p.stdout
+
+
 @pytest.mark.parametrize("path", FILES, ids=lambda p: p.name)
 def test_vectors_agree_with_cpython(path):
     require_wasm32()

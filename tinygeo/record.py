@@ -45,6 +45,14 @@ Layout (UTF-8 text, one record per line, fields separated by one TAB)::
 * After the rows, ``#: end`` (``end_line``) says that the table is complete:
   the rows written and the column's counters. A reader that finds no end
   record knows the table was cut short.
+* ``#: resume line=N`` (``resume_line``): a logger that went on from a
+  checkpoint taken before reading N takes readings N, N+1, ... again, so
+  the rows it wrote for them before the power cut are void: a reader drops
+  every earlier row whose ``line`` is N or more (and an earlier end
+  record), and a row torn by the cut (the last line before the marker that
+  is not a whole row). Rows with lines below N must be on storage when the
+  checkpoint is written (flush the table first), so the rows kept are those
+  of an uninterrupted run; the end record's ``rows`` counts them.
 * Fixed decimals (``FORMAT``) make the output byte-identical for the same
   input on one interpreter; MicroPython may round the last printed digit
   differently, so readers compare numbers, not text.
@@ -58,6 +66,8 @@ MAGIC = "# tinygeo table 1"
 SITE_PREFIX = "# site "
 END_PREFIX = "#: end "
 """Start of the end record (``end_line``)."""
+RESUME_PREFIX = "#: resume "
+"""Start of the resume record (``resume_line``)."""
 
 COLUMNS = ("line", "time_s", "p_pa", "t_k", "rh_pct", "td_k", "gps_m",
            "gph_m", "height_m", "rate_m_s", "sigma_m", "flags", "events")
@@ -145,3 +155,13 @@ def end_line(rows, col):
     retracted). Example: ``#: end rows=3566 count=3566 rejected=4 retracted=0``."""
     return "%srows=%d count=%d rejected=%d retracted=%d" % (
         END_PREFIX, rows, col.count, col.rejected, col.retracted)
+
+
+def resume_line(line):
+    """The resume record of a logger that goes on from a checkpoint taken
+    before reading ``line`` (the number of the next reading it takes): rows
+    written earlier with a line of ``line`` or more are void (see the module
+    docstring). A power cut may have torn the last row, so write it on a line
+    of its own after a line end: ``"\\n" + resume_line(n) + "\\n"`` (readers
+    skip the blank line). Example: ``resume_line(3000) == '#: resume line=3000'``."""
+    return "%sline=%d" % (RESUME_PREFIX, line)

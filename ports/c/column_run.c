@@ -7,8 +7,10 @@
  *   -r: print the table record (record.c) too: "m <magic>", "h <header>" and
  *       "s <site line>" after init, "w <row>" after every accepted reading
  *       (tg_record_column_row with the reading's number, its rh_pct and gps_m),
- *       and "z <end line>" at the end of the input (tg_record_end_line with
- *       the number of rows written since the latest init);
+ *       "u <resume line>" after a load that succeeded (tg_record_resume_line
+ *       with the number of the next feed), and "z <end line>" at the end of
+ *       the input (tg_record_end_line with the number of rows written since
+ *       the latest init);
  *   -l: print the "r" line of the last command only (long streams).
  *
  * Input, one command per line ("-" stands for Python's None):
@@ -203,6 +205,11 @@ int main(int argc, char **argv)
                 buf[i] = (unsigned char)x;
             }
             st = tg_column_from_bytes(&col, buf, len, on_event, NULL);
+            if (records && st == TG_OK) {
+                char text[64];
+                tg_record_resume_line(n_feed, text, sizeof text);
+                printf("u %s\n", text);
+            }
             show(&col, st, 0.0);
         } else {
             fprintf(stderr, "column_run: line %d malformed\n", lineno);

@@ -3,7 +3,8 @@
  * record.HEADER, record.FORMAT, record.EVENT_WORDS, record.SITE_PREFIX) comes
  * from record.py through tg_tables.h, so the two cannot drift; the functions
  * are record.events_text, record.row, record.column_row,
- * record.site_line and record.end_line with a tg_record_ prefix. Each writes into the caller's
+ * record.site_line, record.end_line and record.resume_line with a tg_record_
+ * prefix. Each writes into the caller's
  * buffer like snprintf and returns the length of the whole text (without the
  * NUL), so a result >= size means it was cut; no allocation.
  *
@@ -173,4 +174,13 @@ int tg_record_end_line(int32_t rows, const tg_column *col, char *buf, size_t siz
 {
     return snprintf(buf, size, "%srows=%ld count=%ld rejected=%ld retracted=%ld", TGPY_RECORD_END_PREFIX,
                     (long)rows, (long)col->count, (long)col->rejected, (long)col->retracted);
+}
+
+/* record.resume_line: the resume record of a logger that goes on from a
+ * checkpoint taken before reading `line` (RESUME_PREFIX "line=N"): rows
+ * written earlier with a line of N or more are void. Write it after a line
+ * end of its own ("\n" first: the power cut may have torn the last row). */
+int tg_record_resume_line(int32_t line, char *buf, size_t size)
+{
+    return snprintf(buf, size, "%sline=%ld", TGPY_RECORD_RESUME_PREFIX, (long)line);
 }

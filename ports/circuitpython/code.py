@@ -99,7 +99,7 @@ def run():
             column.feed(sensor.p_pa, sensor.t_k, sensor.rh_pct, sensor.time_s, sensor.gps_m)
         except ReadingError as e:
             print("#%d rejected %s: %s" % (index, e.reason, e))
-        if show and index % show == 0:
+        if show and (index == 0 or sensor.index % show == 0):
             print(status_line(index, column))
         if storage and every and sensor.index % every == 0:
             if not book.save(sensor.index, column) and book.note:

@@ -5,12 +5,15 @@ two slot files (``<path>.0`` and ``<path>.1``) are written in turn, so the
 slot holding the newest good checkpoint is never the one being overwritten.
 Each slot holds::
 
-    b"TGL2"  index (uint32 LE)  Column.to_bytes()  CRC-32 (uint32 LE)
+    b"TGL3"  index (uint32 LE)  rows (uint32 LE)  Column.to_bytes()  CRC-32 (uint32 LE)
 
-``index`` is the number of the next reading the logger will take; the CRC-32
-(tinygeo.checkpoint.crc32) covers everything before it, the slot header
-included, so a torn write (header written, blob not) or a corrupted index is
-never taken for a checkpoint. A slot that is missing, torn or corrupted is
+``index`` is the number of the next reading the logger will take; ``rows``
+the number of table rows the logger had written for the readings before it
+(0 without a table), so that a resumed table's end record counts all of its
+rows; the CRC-32 (tinygeo.checkpoint.crc32) covers everything before it, the
+slot header included, so a torn write (header written, blob not) or a
+corrupted index is never taken for a checkpoint. (Slots of the layout before
+the row count, b"TGL2", are not read: the logger starts a new log.) A slot that is missing, torn or corrupted is
 skipped (the column's own blob check raises ``CheckpointError`` too), and the
 newest good one is restored. No rename is needed, which matters because
 renaming over an existing file fails on FAT and is not atomic everywhere.
@@ -28,8 +31,8 @@ from tinygeo.column import Column, EV_LEVEL, EV_TROPOPAUSE, EV_BURST, EV_LANDED,
 from tinygeo.checkpoint import crc32
 from tinygeo.errors import CheckpointError
 
-MAGIC = b"TGL2"
-_HEADER_LEN = 4 + 4
+MAGIC = b"TGL3"
+_HEADER_LEN = 4 + 4 + 4
 
 
 class Checkpoints:
@@ -41,12 +44,13 @@ class Checkpoints:
         self.note = ""
         self.failures = 0         # failed writes so far (each retried at the next save)
         self.loaded_from = ""     # slot file of the checkpoint load() returned
+        self.rows = 0             # the table rows saved with that checkpoint
 
     def slot_path(self, slot):
         return "%s.%d" % (self.path, slot)
 
     def _read_slot(self, slot, on_event):
-        # Return (index, column) from one slot, or None if it is unusable.
+        # Return (index, column, rows) from one slot, or None if it is unusable.
         try:
             f = open(self.slot_path(slot), "rb")
         except OSError:
@@ -61,15 +65,16 @@ class Checkpoints:
         (crc,) = struct.unpack("<I", data[n - 4:])
         if crc != crc32(data[:n - 4]):
             return None
-        (index,) = struct.unpack("<I", data[4:_HEADER_LEN])
+        index, rows = struct.unpack("<II", data[4:_HEADER_LEN])
         try:
             column = Column.from_bytes(data[_HEADER_LEN:n - 4], on_event)
         except CheckpointError:
             return None
-        return index, column
+        return index, column, rows
 
     def load(self, on_event=None):
-        """Return ``(index, column)`` of the newest good checkpoint, or None.
+        """Return ``(index, column)`` of the newest good checkpoint, or None;
+        ``rows`` is then the row count saved with it.
 
         ``on_event`` is given to the restored column (a checkpoint cannot hold
         a function). The next save then goes to the other slot."""
@@ -82,12 +87,16 @@ class Checkpoints:
                 best_slot = slot
         self._next_slot = 1 - best_slot
         self.loaded_from = self.slot_path(best_slot) if best is not None else ""
-        return best
+        if best is None:
+            return None
+        self.rows = best[2]
+        return best[0], best[1]
 
-    def save(self, index, column):
-        """Write a checkpoint; return True, or False if the write failed (then
-        ``note`` says why and the next save tries the same slot again)."""
-        data = MAGIC + struct.pack("<I", index) + column.to_bytes()
+    def save(self, index, column, rows=0):
+        """Write a checkpoint (``rows``: the table rows written for the
+        readings before ``index``); return True, or False if the write failed
+        (then ``note`` says why and the next save tries the same slot again)."""
+        data = MAGIC + struct.pack("<II", index, rows) + column.to_bytes()
         data += struct.pack("<I", crc32(data))
         path = self.slot_path(self._next_slot)
         try:

@@ -17,8 +17,11 @@ What it shows:
   it and goes on;
 - events (launch, mandatory level crossed, tropopause, burst, landing) print
   a line from the column's ``on_event`` callback, called once per level when
-  one reading crosses several; a status line prints every ``PRINT_EVERY``
-  readings;
+  one reading crosses several; a status line prints for the first reading
+  and then every ``PRINT_EVERY`` readings, at the reading before a multiple
+  of ``PRINT_EVERY`` (``#59``, ``#119`` ...): with ``PRINT_EVERY`` equal to
+  ``CHECKPOINT_EVERY`` the status line shows the state the checkpoint saves,
+  and a resumed log does not print it again;
 - every ``CHECKPOINT_EVERY`` readings the column state (``Column.to_bytes``)
   and the reading number go to a checkpoint; at start the newest good
   checkpoint is restored, so after a power cut the log goes on from there
@@ -32,11 +35,20 @@ What it shows:
 - with ``--table PATH`` (``TABLE`` below) every accepted reading is also
   written as a row of tinygeo's table (tinygeo/record.py: the layout
   ``tinygeo compare`` reads), so a host can check the device's numbers with
-  ``tinygeo compare PATH --log LOG``.
+  ``tinygeo compare PATH``. The rows are flushed before each checkpoint is
+  written, and the checkpoint holds the number of rows; a run that ends
+  writes the end record (``record.end_line``). A resumed log appends to the
+  table: first the resume record (``record.resume_line``: the rows written
+  after the checkpoint, for readings the logger now takes again, are void,
+  and so is a row the power cut tore), then the rows from the checkpoint's
+  reading on, and at the end the end record counting all the rows kept. A
+  run stopped by a power cut (or ``--stop-after``) has no end record:
+  ``tinygeo compare`` says it was cut short.
 
 Settings are the constants below; on the host each can also be given as
 ``--name value`` (``--step``, ``--checkpoint``, ``--checkpoint-every``,
-``--print-every``, ``--stop-after``, ``--pace-ms``, ``--table``).
+``--print-every``, ``--stop-after``, ``--pace-ms``, ``--table``; ``--help``
+lists them).
 ``--stop-after N`` ends the run after N readings without a final checkpoint,
 as a power cut would.
 """
@@ -62,18 +74,25 @@ TABLE = ""                     # a file for the table rows of tinygeo/record.py 
 
 
 def options(argv):
-    """Return the settings, with ``--name value`` pairs from ``argv`` applied."""
+    """Return the settings, with ``--name value`` pairs from ``argv`` applied;
+    None after printing the usage for ``--help`` (or ``-h``)."""
     opts = {
         "step": STEP_S, "checkpoint": CHECKPOINT, "checkpoint-every": CHECKPOINT_EVERY,
         "print-every": PRINT_EVERY, "stop-after": STOP_AFTER, "pace-ms": PACE_MS,
         "table": TABLE,
     }
+    if "--help" in argv or "-h" in argv:
+        print("usage: main.py [--NAME VALUE]...  (a simulated flight through the column; the "
+              "settings, with their defaults:)")
+        for name in sorted(opts):
+            print("  --%s %r" % (name, opts[name]))
+        return None
     i = 0
     while i < len(argv):
         name = argv[i][2:] if argv[i].startswith("--") else ""
         if name not in opts or i + 1 >= len(argv):
-            raise SystemExit("unknown or incomplete option %r; known: --%s VALUE" % (
-                argv[i], " VALUE, --".join(sorted(opts))))
+            raise SystemExit("unknown or incomplete option %r; known: --%s VALUE (--help "
+                             "lists them)" % (argv[i], " VALUE, --".join(sorted(opts))))
         default = opts[name]
         value = argv[i + 1]
         if isinstance(default, float):
@@ -115,11 +134,10 @@ def run(opts):
     show = opts["print-every"]
     stop_after = opts["stop-after"]
     table = None
+    rows = 0            # table rows written (kept: those of the readings taken once)
     if opts["table"]:
-        # a resumed log appends to its table (the header is there already)
-        table = open(opts["table"], "a" if restored is not None else "w")
-        if restored is None:
-            table.write(record.MAGIC + "\n" + record.site_line(column) + "\n" + record.HEADER + "\n")
+        table = open_table(opts["table"], column, restored is not None, sensor.index)
+        rows = book.rows if restored is not None else 0
     taken = 0
     while sensor.read():
         index = sensor.index - 1
@@ -128,28 +146,59 @@ def run(opts):
             bits = column.feed(sensor.p_pa, sensor.t_k, sensor.rh_pct, sensor.time_s, sensor.gps_m)
             if table is not None:
                 table.write(record.column_row(index, column, bits, sensor.rh_pct, sensor.gps_m) + "\n")
+                rows += 1
         except ReadingError as e:
             print("#%d rejected %s: %s" % (index, e.reason, e))
-        if show and index % show == 0:
+        if show and (index == 0 or sensor.index % show == 0):
             print(status_line(index, column))
         if every and sensor.index % every == 0:
-            if not book.save(sensor.index, column) and book.note:
+            if table is not None:
+                table.flush()       # the rows before the checkpoint are on storage first
+            if not book.save(sensor.index, column, rows) and book.note:
                 print(book.note)
                 book.note = ""
         if stop_after and taken >= stop_after:
             print("stopped after %d readings (as by a power cut)" % taken)
             if table is not None:
-                table.close()
+                table.close()       # no end record: the table is cut short
             return column
         sleep_ms(opts["pace-ms"])
     if taken == 0 and restored is not None:
         print(ENDED_LINE)
-    book.save(sensor.index, column)
     if table is not None:
+        table.flush()
+    book.save(sensor.index, column, rows)
+    if table is not None:
+        table.write(record.end_line(rows, column) + "\n")
         table.close()
     print(summary_line(column))
     return column
 
 
+def open_table(path, column, resumed, index):
+    """Open the table file for the rows: a new log writes its head (magic,
+    site line, header); a resumed one appends the resume record for reading
+    ``index`` after a line end (the power cut may have torn the last row),
+    and writes the head first if the file is missing or empty."""
+    head = not resumed
+    if resumed:
+        try:
+            f = open(path, "r")
+            try:
+                head = f.read(1) == ""
+            finally:
+                f.close()
+        except OSError:
+            head = True
+    table = open(path, "w" if not resumed else "a")
+    if head:
+        table.write(record.MAGIC + "\n" + record.site_line(column) + "\n" + record.HEADER + "\n")
+    if resumed:
+        table.write("\n" + record.resume_line(index) + "\n")
+    return table
+
+
 if __name__ == "__main__":
-    run(options(getattr(sys, "argv", [])[1:]))
+    _opts = options(getattr(sys, "argv", [])[1:])
+    if _opts is not None:
+        run(_opts)

@@ -5,6 +5,7 @@
 //
 //   node tests/wasm32/run.mjs [--heapsize BYTES] [--copy HOSTDIR:DIR]... [--cwd DIR]
 //                             SCRIPT.py [ARG...]
+//   node tests/wasm32/run.mjs --help      (prints this text)
 //
 // --heapsize sets the first heap area only: this port adds heap areas on demand, so it is no
 // limit (measure memory with gc.mem_alloc() deltas, not by a heap too small to finish).
@@ -32,7 +33,18 @@ const argv = process.argv.slice(2);
 let heapsize = 2 * 1024 * 1024;
 const copies = [];
 let cwd = "/";
-while (argv.length && argv[0].startsWith("--")) {
+while (argv.length && (argv[0].startsWith("--") || argv[0] === "-h")) {
+  if (argv[0] === "--help" || argv[0] === "-h") {
+    // the usage: the comment at the head of this file
+    const own = fs.readFileSync(url.fileURLToPath(import.meta.url), "utf8").split("\n");
+    const head = [];
+    for (const line of own) {
+      if (!line.startsWith("//")) break;
+      head.push(line.replace(/^\/\/ ?/, ""));
+    }
+    console.log(head.join("\n"));
+    process.exit(0);
+  }
   const opt = argv.shift();
   const val = argv.shift();
   if (val === undefined) { console.error("run.mjs: " + opt + " needs a value"); process.exit(2); }

@@ -35,21 +35,26 @@ EXIT_TEXT = """exit status:
       rejected for one reason (rate, time, pressure, temperature, humidity,
       number, gps; counted from the 100th reading on)
   3   plot: matplotlib is not installed (pip install 'tinygeo[plot]')
-  4   an output could not be written (full disk, closed standard output...);
-      the message names it, and no half-written file is left under its name
+  4   an output could not be written (full disk, closed standard output, an
+      existing read-only file: make it writable or delete it...); the
+      message names it, and no half-written file is left under its name (an
+      output named by a symbolic link is written to the file it points to)
   130 interrupted (Ctrl-C)"""
 
 MAPPING_HELP = """column mapping (default: from the header names):
   NAME is a header name or a column number (1 = first); :UNIT is optional
   when the header name ends in a unit word (pressure_hpa, temp_c, time_s).
   Recognised by default: p/pressure/press/baro, t/temp/temperature,
-  rh/humidity, td/dewpoint/dew_point, time/elapsed/timestamp/utc, gps/gps_alt,
-  each optionally followed by a unit (pa hpa mbar kpa, k c degc f degf, pct,
-  s ms, m). Two columns for one quantity are an error: choose with the
-  option. A unit not stated is inferred from the values and must be
-  confirmed by them (pressure near the start height, a surface temperature,
-  at most 10 K/km of cooling over the first 1500 m of climb), else the
-  replay stops and asks for it. Comment lines (#) before the header may set
+  rh/humidity, td/dewpoint/dew_point, time/elapsed/timestamp/utc/uptime,
+  gps/gps_alt, each optionally followed by a unit (pa hpa mbar kpa, k c degc
+  f degf, pct fraction, s ms, m). Two columns for one quantity are an error
+  (a device clock and UTC stamps too): choose with the option. A unit not
+  stated is inferred from the values and must be confirmed by them
+  (pressure near the start height, a surface temperature, at most 10 K/km of
+  cooling over the first 1500 m of climb, humidity above 1 in one of the
+  first 10 readings: else a 0..1 fraction), else the replay stops and asks
+  for it. In a GPS column an empty cell (or nan) means no fix (flag 32).
+  Lines must end in LF or CR LF. Comment lines (#) before the header may set
   lat_deg=, start_height_m=, sigma_p_pa=, sigma_t_k=, sigma_rh_pct=,
   bias_p_pa=, bias_t_k=, bias_rh_pct= (as 'tinygeo simulate' writes);
   options given here take precedence."""
@@ -86,7 +91,8 @@ def _add_mapping(p, gps=True, text=MAPPING_HELP):
     g = p.add_argument_group("column mapping", text)
     g.add_argument("--pressure", metavar="NAME[:Pa|hPa|kPa]", help="pressure column")
     g.add_argument("--temperature", metavar="NAME[:K|C|F]", help="air temperature column")
-    g.add_argument("--humidity", metavar="NAME", help="relative humidity column, %% (over water)")
+    g.add_argument("--humidity", metavar="NAME[:pct|fraction]",
+                   help="relative humidity column, %% (over water), or a 0..1 fraction")
     g.add_argument("--dew-point", dest="dewpoint", metavar="NAME[:K|C|F]",
                    help="dew point column, instead of --humidity")
     g.add_argument("--time", metavar="NAME[:s|ms|iso]",
@@ -262,11 +268,16 @@ def build_parser():
         "replay", help="replay a recorded log through the column, writing a table and a summary",
         description="Replay a log (CSV/TSV with a header, or '-' for stdin, read line by line) "
                     "through the column; write one row per accepted reading and a summary "
-                    "(surface, mandatory levels with temperature and dew point, tropopause, "
-                    "float, burst, highest point, landing, GPS difference, counts). Rejected "
-                    "readings are reported on stderr with their line number. Event words stand "
-                    "on the row where the column decided (one reading after the event, the "
-                    "tropopause 2 km above it); the summary says where each happened.",
+                    "(surface, launch, mandatory levels with temperature and dew point, "
+                    "tropopause and the layer it is resolved to, float, burst, highest point, "
+                    "landing with the touchdown it implies, where humidity went missing, GPS "
+                    "difference, counts: rejected by the column, as the end record says, and "
+                    "lines that could not be read). Rejected readings are reported on stderr "
+                    "with their line number. Event words stand on the row where the column "
+                    "decided (one reading after the reading that completed the event, the "
+                    "tropopause 2 km above it); the summary says where each happened. Launch "
+                    "and landing are the times the column detected them: lift-off is earlier, "
+                    "touchdown landing_s (60 s) earlier.",
         epilog="table layout: see tinygeo/record.py.\n\n" + epilog,
         formatter_class=argparse.RawDescriptionHelpFormatter)
     r.add_argument("log", help="log file, or - for standard input")
@@ -359,13 +370,21 @@ def build_parser():
     c = sub.add_parser(
         "compare", help="compare a device's table with a host replay of the same readings",
         description="Compare a table written by a device (tinygeo/record.py: 'line' or 'time_s' "
-                    "and any of the value columns; nan = not computed, skipped) with a host "
-                    "replay. By default the host re-feeds the inputs found in the device table "
-                    "(time_s p_pa t_k rh_pct gps_m) to a column set up from its '# site' line, "
-                    "and the table must end with its end record ('#: end rows=N', "
-                    "tinygeo.record.end_line): a table cut short fails. With --log the host "
-                    "replays the raw log instead and matches rows by line number (or time_s); "
-                    "readings on one side only fail, rows missing at the end too.",
+                    "and any of the value columns; a column that is nan in every row is not "
+                    "computed and skipped, a nan where the column holds numbers elsewhere fails "
+                    "when the host has a number) with a host replay. By default the host "
+                    "re-feeds the inputs found in the device table (time_s p_pa t_k rh_pct "
+                    "gps_m) to a column set up from its '# site' line (anywhere before the "
+                    "first row), and the table must end with its end record ('#: end rows=N', "
+                    "tinygeo.record.end_line): a table cut short fails, and so do extra rows. "
+                    "Rows whose flags differ only because the table prints p_pa to 0.01 Pa "
+                    "(FL_SAME_P on the host where the device had FL_DESCENT or nothing, the "
+                    "printed pressure repeated) are counted as 'rounded', not failed. A "
+                    "logger that resumed from a checkpoint writes '#: resume line=N' "
+                    "(tinygeo.record.resume_line): the earlier rows from line N on, and a row "
+                    "torn by the power cut, are dropped. With --log the host replays the raw "
+                    "log instead and matches rows by line number (or time_s); readings on one "
+                    "side only fail, rows missing at the end too.",
         epilog=epilog, formatter_class=argparse.RawDescriptionHelpFormatter)
     c.add_argument("device", help="table written by the device")
     c.add_argument("--log", metavar="FILE", help="raw log the device was fed (replayed on the host)")

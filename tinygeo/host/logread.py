@@ -41,6 +41,17 @@ log stops with exit 2 asking for the unit:
   is 1.8 times too steep and usually far too hot at the surface.
 * time: seconds when the values are numbers, ISO-8601 otherwise (the
   replay's TimeUnitCheck confirms seconds against the first climb).
+* humidity: percent, or a 0..1 fraction when stated (``--humidity
+  NAME:fraction``, a header name ending in ``fraction``). Unless the unit was
+  given with the option, the first RH_PROBES humidity values (read ahead;
+  with a unit in the header name, the values of the lines read ahead
+  anyway, at least the first reading's) must not all be at or below
+  RH_FRACTION_MAX (1.0): relative humidity at or below 1 % in every one of
+  the first readings near the surface is not seen in surface air (common
+  practice, from memory), a 0..1 fraction is, and read as percent it is
+  taken for air 100 times too dry (measured: heights 36.9 m low at 12 km in
+  the warm humid atmosphere of tests/streams.py). A header-stated fraction
+  whose values exceed 1 is refused the same way.
 
 The start height: when none was given (it defaulted to 0 m) and the first
 reading's pressure altitude lies more than START_PA_M from 0, or its GPS
@@ -49,6 +60,10 @@ and ``--start-height``.
 
 Numbers may use a decimal comma (``12,5``) in a field without a '.'; a
 pressure stated in Pa may group thousands with commas (``96,512``).
+
+GPS: in a log with a GPS column an empty (or ``nan``, ``NA`` ...) cell is "no
+fix" and reads as nan, which the column takes as no fix (FL_NO_GPS); a log
+without a GPS column gives None.
 
 Problems with the log as a whole raise :class:`InputError` (exit status 2);
 problems with one line give a :class:`tinygeo.errors.ReadingError` with a
@@ -69,7 +84,7 @@ UNITS = {
     "pressure": {"pa": "Pa", "hpa": "hPa", "mbar": "hPa", "mb": "hPa", "kpa": "kPa"},
     "temperature": _T_UNITS,
     "dewpoint": _T_UNITS,
-    "humidity": {"pct": "%", "percent": "%"},
+    "humidity": {"pct": "%", "percent": "%", "fraction": "fraction", "frac": "fraction"},
     "time": {"s": "s", "sec": "s", "seconds": "s", "ms": "ms", "iso": "iso"},
     "gps": {"m": "m"},
 }
@@ -78,7 +93,8 @@ UNITS = {
 # SP 811 (2008) appendix B.8)
 TO_SI = {"Pa": (1.0, 0.0), "hPa": (100.0, 0.0), "kPa": (1000.0, 0.0),
          "K": (1.0, 0.0), "C": (1.0, 273.15), "F": (5.0 / 9.0, 459.67 * 5.0 / 9.0),
-         "%": (1.0, 0.0), "s": (1.0, 0.0), "ms": (0.001, 0.0), "m": (1.0, 0.0)}
+         "%": (1.0, 0.0), "fraction": (100.0, 0.0), "s": (1.0, 0.0), "ms": (0.001, 0.0),
+         "m": (1.0, 0.0)}
 
 # normalised header name (without unit word) -> quantity
 NAMES = {}
@@ -87,7 +103,7 @@ for _q, _names in (
         ("temperature", "t temp temperature air_temp air_temperature ta tair"),
         ("humidity", "rh hum humidity relative_humidity u"),
         ("dewpoint", "td dew dewpoint dew_point dp dew_temp"),
-        ("time", "time elapsed seconds timestamp utc datetime date_time clock t_s"),
+        ("time", "time elapsed seconds timestamp utc datetime date_time clock t_s uptime"),
         ("gps", "gps gps_alt gps_height gps_altitude alt_gps gnss gnss_alt gnss_height")):
     for _n in _names.split():
         NAMES[_n] = _q
@@ -111,6 +127,9 @@ LOOKAHEAD_LINES = 5000        # lines read ahead, at most, to confirm a unit
 LOOKAHEAD_CHARS = 4 << 20     # ... and characters
 START_PA_M = 500.0            # start height defaulted to 0: pressure altitude allowed (weather)
 START_GPS_M = 300.0           # ... GPS height allowed
+RH_PROBES = 10                # humidity values read ahead to tell percent from a fraction
+RH_FRACTION_MAX = 1.0         # ... all at or below this: a 0..1 fraction (common practice,
+                              # from memory)
 
 
 def normalise(name):
@@ -205,6 +224,9 @@ def _iso_seconds(text):
     return dt.timestamp()
 
 
+NAN = float("nan")
+
+
 def _missing(text):
     return text == "" or text.lower() in ("na", "n/a", "nan", "-", "null", "none")
 
@@ -216,7 +238,8 @@ class LogReader:
     ``mapping`` maps quantity names (see QUANTITIES) to ``NAME[:UNIT]``
     strings from the command line (missing = by header name). Each item of
     the iteration is ``(lineno, p_pa, t_k, rh_pct, time_s, gps_m)`` with None
-    for an optional quantity that is absent or empty; a bad line yields a
+    for an optional quantity that is absent or empty, except an empty GPS
+    cell in a GPS column: nan ("no fix"); a bad line yields a
     ReadingError instance (with ``lineno`` set on it) instead of a tuple.
     Call :meth:`settle` before iterating (iterating settles with no start
     height otherwise).
@@ -358,10 +381,12 @@ class LogReader:
                 continue
             if len(m) > 1:
                 raise InputError(
-                    "%s line %d: %s both look like the %s; choose one with --%s NAME"
+                    "%s line %d: %s both look like the %s; choose one with --%s NAME%s"
                     % (self.name, self.lineno,
                        " and ".join("column %d %r" % (i + 1, n) for i, n, _ in m),
-                       _what(q), _opt(q)))
+                       _what(q), _opt(q),
+                       " (to compare with a device: the clock it fed its column)"
+                       if q == "time" else ""))
             i, n, unit = m[0]
             if q == "dewpoint" and "humidity" in cols:
                 self.notes.append("column %r (dew point) not used: the humidity comes from "
@@ -392,6 +417,11 @@ class LogReader:
         self.settled = True
         cols = self.columns
         need_climb = any(q in cols and cols[q][2] is None for q in ("temperature", "dewpoint"))
+        check_rh = "humidity" in cols and "humidity" not in self.option_units
+        # read ahead for it only when the header states no unit (a live
+        # stream with a stated unit shows its rows as they come)
+        need_rh = check_rh and cols["humidity"][2] is None
+        rh_values = []
         probes = []
         chars = 0
         climb = None
@@ -405,24 +435,49 @@ class LogReader:
             if pr is None:
                 continue
             probes.append(pr)
+            if pr[7] is not None and len(rh_values) < RH_PROBES:
+                rh_values.append((pr[7], pr[0]))
             if len(probes) == 1:
                 self._pressure_unit(pr, start_height_m, start_given)
                 self._time_unit(raw)
                 pr[5] = _altitude(pr[1] * TO_SI[cols["pressure"][2]][0])
-                if not need_climb:
-                    break
-            else:
+            elif need_climb and climb is None:
                 climb = self._climb(probes)
-                if climb is not None:
-                    break
+            if (not need_climb or climb is not None) and \
+                    (not need_rh or len(rh_values) >= RH_PROBES):
+                break
         if not probes:
             return        # nothing to judge: the iteration reports the lines
         self.first = probes[0]
         for q in ("temperature", "dewpoint"):
             if q in cols:
                 self._temperature_unit(q, probes, climb)
+        if check_rh and rh_values:
+            self._humidity_unit(rh_values)
         if not start_given:
             self._start_check(probes[0])
+
+    def _humidity_unit(self, values):
+        # percent or a 0..1 fraction, from the first humidity values
+        # ((value, line) pairs, at most RH_PROBES; see the module docstring)
+        i, name, unit, stated = self.columns["humidity"]
+        top, line = max(values)
+        lines = "line %d" % values[0][1] if len(values) == 1 else \
+            "lines %d..%d" % (values[0][1], values[-1][1])
+        if unit == "fraction":
+            if top > RH_FRACTION_MAX:
+                raise InputError(
+                    "%s line %d: column %r is declared a 0..1 fraction but holds %s: percent? "
+                    "give --humidity %s:pct (or %s:fraction if it really is a fraction)"
+                    % (self.name, line, name, _short(top), name, name))
+            return
+        if top <= RH_FRACTION_MAX:
+            raise InputError(
+                "%s %s: the humidity column %r holds no value above %g in its first %d readings "
+                "(%s): a 0..1 fraction, not percent? Read as percent it would be air 100 times "
+                "too dry. Give --humidity %s:fraction, or --humidity %s:pct if it really is "
+                "percent" % (self.name, lines, name, RH_FRACTION_MAX, len(values),
+                             "largest %s" % _short(top), name, name))
 
     def _probe(self, raw, lineno):
         # the raw numbers of pressure, temperature, dew point and GPS of one
@@ -446,7 +501,8 @@ class LogReader:
             out.append(x)
         out.append(None)                                    # [5] pressure altitude, set later
         out.append(fields[cols["pressure"][0]].strip())    # [6] the pressure as written
-        return out          # [lineno, p, t, td, gps, z, p text]
+        out.append(to_float(fields[cols["humidity"][0]]) if "humidity" in cols else None)  # [7]
+        return out          # [lineno, p, t, td, gps, z, p text, rh]
 
     def _pressure_unit(self, pr, h0, given):
         i, name, unit, stated = self.columns["pressure"]
@@ -614,6 +670,7 @@ class LogReader:
         ip, fp, op = self._conv("pressure")
         it, ft, ot = self._conv("temperature")
         ih = cols["humidity"][0] if "humidity" in cols else -1
+        fh = TO_SI[cols["humidity"][2] or "%"][0] if ih >= 0 else 1.0
         ig = cols["gps"][0] if "gps" in cols else -1
         tcol = cols.get("time")
         # the fast path: numbers with a decimal point, humidity (not dew
@@ -659,7 +716,7 @@ class LogReader:
                         try:
                             p = float(fields[ip]) * fp + op
                             t = float(fields[it]) * ft + ot
-                            rh = float(fields[ih]) if ih >= 0 else 0.0
+                            rh = float(fields[ih]) * fh if ih >= 0 else 0.0
                             ts = float(fields[itm]) * ftm if itm >= 0 else 0.0
                             g = float(fields[ig]) if ig >= 0 else 0.0
                         except ValueError:
@@ -718,6 +775,8 @@ class LogReader:
         gps = None
         if "gps" in cols:
             gps = self._number(fields, "gps", lineno, False)
+            if gps is None:
+                gps = NAN       # an empty GPS cell: no fix (the column's FL_NO_GPS)
         return (lineno, p, t, rh, time_s, gps)
 
     def _hdr(self):

@@ -12,15 +12,20 @@ Files:
 
 * Inputs are read as UTF-8, line by line, at most MAX_LINE_CHARS characters
   per line (:class:`TextLines`): a line that is not UTF-8 (a UTF-16 log, a
-  binary file), holds NUL bytes or is longer stops the command with one
-  message naming the file and the line (exit 2), in bounded memory.
+  binary file), holds NUL bytes or a CR before its end (line ends of CR
+  alone) or is longer stops the command with one message naming the file
+  and the line (exit 2), in bounded memory.
 * No output may be one of the inputs (:func:`check_paths`: the same file,
   links and hard links included, or stdin redirected from it): exit 2 before
   anything is opened for writing.
 * An output file is written under a temporary name in its directory and
   renamed over the final name at the end (:class:`OutFile`), so an
   interrupted or failed run leaves no half-written file under that name (an
-  existing file keeps its old contents). Devices and pipes (``/dev/null``,
+  existing file keeps its old contents). An output named by a symbolic link
+  is written to the file the link points to (the link stays). An existing
+  output file that is read-only (no write permission for its owner) is not
+  replaced: exit 4 before anything is written, saying to make it writable or
+  delete it (:func:`replace_target`). Devices and pipes (``/dev/null``,
   ``/dev/full``, a FIFO) are written directly. A write that fails (a full
   disk, a closed standard output) stops the command with exit 4 naming the
   file.
@@ -110,8 +115,11 @@ class TextLines:
     :meth:`readline`) gives each line as text with its line end, '' at the
     end; ``lineno`` is the number of the line last read. Raises InputError
     naming ``name`` and the line for a line that is not UTF-8, holds a NUL
-    character, or is longer than MAX_LINE_CHARS; memory stays within one
-    line of that size."""
+    character, holds a CR before its line end (a file whose lines end in CR
+    alone), or is longer than MAX_LINE_CHARS; memory stays within one line
+    of that size. (The replay's hot loop reads the stream itself and checks
+    the length and NUL only: the header and the lines read ahead come
+    through here.)"""
 
     def __init__(self, stream, name):
         self.stream = stream
@@ -137,6 +145,11 @@ class TextLines:
                 raise self.not_utf8(self.lineno, e, raw)
         if len(raw) >= MAX_LINE_CHARS or "\x00" in raw:
             self.check(raw, self.lineno)
+        if "\r" in raw and "\r" in raw.rstrip("\r\n"):
+            raise InputError("%s line %d: a CR (carriage return) inside the line: the file's "
+                             "lines seem to end in CR alone (old Mac line ends), so it reads as "
+                             "one line; convert the line ends to LF (e.g. tr '\\r' '\\n' < IN "
+                             "> OUT)" % (self.name, self.lineno))
         return raw
 
     def check(self, text, lineno):
@@ -247,6 +260,27 @@ def check_paths(inputs, outputs, stdin=None):
         seen.append((opt, path, ident, real))
 
 
+def replace_target(path):
+    """The file that writing ``path`` by renaming a new file over it must
+    replace: ``path`` itself, or, when ``path`` is a symbolic link, the file
+    it points to (so the link stays a link and its target gets the new
+    contents; a dangling link's target is created). Raises OutputError when
+    that file exists and is read-only (no write bit for its owner, whoever
+    runs: a rename would go around the protection)."""
+    target = os.path.realpath(path) if os.path.islink(path) else path
+    try:
+        st = os.stat(target)
+    except OSError:
+        return target
+    if stat.S_ISREG(st.st_mode) and not st.st_mode & stat.S_IWUSR:
+        raise OutputError("cannot write %s: it is read-only (mode %04o)%s; make it writable "
+                          "(chmod u+w) or delete it, to replace it"
+                          % (path, stat.S_IMODE(st.st_mode),
+                             "" if target == path else " (the file the link points to, %s)"
+                             % target))
+    return target
+
+
 class OutFile:
     """An output: ``path`` written under a temporary name in the same
     directory and renamed over ``path`` by :meth:`commit`; or ``stdout`` for
@@ -260,6 +294,7 @@ class OutFile:
 
     def __init__(self, path, stdout):
         self.path = path
+        self.target = path          # the file replaced at commit (a link's target)
         self.name = "stdout" if path in (None, "-") else path
         self.temp = None
         self._own = False
@@ -278,7 +313,8 @@ class OutFile:
                     raise UsageError("%s is a directory; give a file name" % path)
                 self.f = open(path, "w", encoding="utf-8", newline="\n")
             else:
-                d = os.path.dirname(os.path.abspath(path))
+                self.target = replace_target(path)
+                d = os.path.dirname(os.path.abspath(self.target))
                 fd, self.temp = tempfile.mkstemp(dir=d, prefix="." + os.path.basename(path) + ".",
                                                  suffix=".part")
                 mode = 0o666 & ~_umask() if st is None else stat.S_IMODE(st.st_mode)
@@ -325,7 +361,7 @@ class OutFile:
         self._own = False
         if self.temp is not None:
             try:
-                os.replace(self.temp, self.path)
+                os.replace(self.temp, self.target)
             except OSError as e:
                 self.discard()
                 raise OutputError("cannot write %s: %s" % (self.path, e.strerror or e))
@@ -536,8 +572,8 @@ def setup_from_site(site, a, meta):
     words = dict((k, _site_value(k, v)) for k, v in site.items())
     lat = a.lat if a.lat is not None else words.get("lat_deg", meta.get("lat_deg"))
     if lat is None:
-        raise InputError("the latitude is not known: the table has no lat_deg in its "
-                         "'# site' line; pass --lat DEG")
+        raise InputError("the latitude is not known: the table has no lat_deg= in a '# site' "
+                         "line before its first row; pass --lat DEG")
     h0 = a.start_height if a.start_height is not None else \
         words.get("start_height_m", meta.get("start_height_m"))
     given = h0 is not None

@@ -40,7 +40,8 @@ from tinygeo.host import stationlog
 from tinygeo.host.logread import LogReader
 from tinygeo.host.options import (EXIT_MISSING_EXTRA, EXIT_OK, InputError, OutputError,
                                   UsageError, check_paths, column_setup, mapping, new_column,
-                                  open_text, setup_from_site, temp_path_for)
+                                  open_text, replace_target, setup_from_site,
+                                  temp_path_for)
 
 MAX_POINTS = 4000
 NAN = float("nan")
@@ -253,8 +254,11 @@ def draw(pts, setup, records, out_path, title, dpi, origin=None, fmt=None):
             if hk == hk:
                 ax_tp.axhline(hk, color="tab:red", lw=0.8, ls="--", label="burst %.1f km" % hk)
         elif what == "landing" and hk == hk and tm == tm:
-            ax_ht.plot([tx(tm)], [hk], marker="v", ms=8, color="tab:brown", ls="none",
-                       label="landing")
+            # at the touchdown the summary estimates (time_s is when the
+            # column decided, landing_s later)
+            td = _f(d, "touchdown_time_s")
+            ax_ht.plot([tx(td if td == td else tm)], [hk], marker="v", ms=8, color="tab:brown",
+                       ls="none", label="touchdown" if td == td else "landing")
     for ax in (ax_ht, ax_tp, ax_rt, ax_sg):
         ax.grid(True, color="0.9", lw=0.5)
         handles, labels = ax.get_legend_handles_labels()
@@ -518,9 +522,10 @@ def run(a, stdin, stdout, stderr):
         if os.path.exists(out) and not os.path.isfile(out):
             render(out)
         else:
-            tmp = temp_path_for(out)
+            target = replace_target(out)
+            tmp = temp_path_for(target)
             render(tmp)
-            os.replace(tmp, out)
+            os.replace(tmp, target)
             tmp = None
     except OSError as e:
         raise OutputError("cannot write %s: %s" % (out, e.strerror or e))

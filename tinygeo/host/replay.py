@@ -24,7 +24,8 @@ from array import array
 from tinygeo import record
 from tinygeo.moisture import td_rh
 from tinygeo.column import (EV_LEVEL, EV_TROPOPAUSE, EV_BURST, EV_LANDED, EV_LAUNCH, EV_FLOAT,
-                            FL_REPLACED, FL_TAKEOVER, PH_WAIT, PH_ASCENT, PH_FLOAT, PH_DESCENT)
+                            FL_CAPPED, FL_DRY, FL_HELD_MIXING, FL_REPLACED, FL_TAKEOVER, PH_WAIT,
+                            PH_ASCENT, PH_FLOAT, PH_DESCENT)
 from tinygeo.host import table
 from tinygeo.host.options import (InputError, OutputError, column_default, one_line,
                                   round_numbers)
@@ -106,18 +107,24 @@ class Summary:
         self.accepted = 0          # readings accepted when they came
         self.written = 0           # table rows written (fewer with --every)
         self.rejected = 0
+        self.unread = 0            # rejected lines the log reader could not read (never fed)
         self.reasons = {}
         self.first_rejection = None
         self.first_by_reason = {}
         self.last_rejected = None  # the latest rejected reading tuple (a takeover's run)
         self.surface = None        # the first accepted reading: (reading, height_m, td_k)
         self.levels = {}           # level hPa -> (gph_m, height_m, t_k, td_k, time_s, line)
-        self.launch = None         # (time_s, line)
+        self.launch = None         # (time_s, line, confirmed line)
         self.tropopause = None     # (p_pa, gph_m, t_k, time_s, line, confirmed line)
         self.floats = []           # (gph_m, time_s, line, confirmed line)
         self.nfloats = 0
         self.burst = None          # (gph_m, time_s, line of the peak, confirmed line)
-        self.landing = None        # (height_m, time_s, line)
+        self.landing = None        # (height_m, time_s, line, confirmed line)
+        self.timed = True          # the log has a time column
+        # readings without humidity: [count, first line, last line, held, capped,
+        # dry, first line of the latest run of them, count of that run, index
+        # (readings accepted before it) of the latest]
+        self.no_rh = [0, 0, 0, 0, 0, 0, 0, 0, -2]
         self.highest = None        # (height_m, gph_m, time_s, line): the highest single reading
         self.lowest_m = NAN        # the lowest height accepted (the station check)
         self.last = None           # (reading, height_m) of the latest accepted reading
@@ -131,8 +138,10 @@ class Summary:
         self.line = 0              # the line of the latest reading seen
 
     # -- rejections -----------------------------------------------------------------
-    def reject(self, reason, message):
+    def reject(self, reason, message, unread=False):
         self.rejected += 1
+        if unread:
+            self.unread += 1
         self.reasons[reason] = self.reasons.get(reason, 0) + 1
         if self.first_rejection is None:
             self.first_rejection = message
@@ -186,7 +195,7 @@ class Summary:
                     self.levels[hpa] = (g, hl, tk, self._level_td(p, conf, prev),
                                         NAN if cts is None else cts, cline)
         if bits & EV_LAUNCH and self.launch is None:
-            self.launch = (self.raw_time(col.launch_time_s), cline)
+            self.launch = (self.raw_time(col.launch_time_s), cline, line)
         if bits & EV_TROPOPAUSE and self.tropopause is None:
             ts = col.tropopause_time_s
             self.tropopause = (col.tropopause_p_pa, col.tropopause_gph_m, col.tropopause_t_k,
@@ -200,7 +209,7 @@ class Summary:
             ts = col.burst_time_s
             self.burst = (col.burst_gph_m, self.raw_time(ts), self.line_at(ts), line)
         if bits & EV_LANDED and self.landing is None:
-            self.landing = (col.height_m, self.raw_time(col.landing_time_s), cline)
+            self.landing = (col.height_m, self.raw_time(col.landing_time_s), cline, line)
 
     def _level_td(self, p_lev, conf, prev):
         # dew point at a level: linear in ln p between the two confirmed
@@ -224,21 +233,34 @@ class Summary:
         lat = self.lat_deg
         rec = table.summary_line
         out = [rec("accepted", [("count", self.accepted)])]
-        pairs = [("count", self.rejected)]
+        pairs = [("count", self.rejected), ("by_column", col.rejected), ("unread", self.unread)]
         for r in sorted(self.reasons):
             pairs.append((r, self.reasons[r]))
         if col.retracted:
             pairs.append(("retracted_after_acceptance", col.retracted))
-        out.append(rec("rejected", pairs))
+        text = None
+        if self.unread or col.rejected != self.rejected:
+            text = ("count: the lines not accepted when they came; by_column: the column's own "
+                    "count, the end record's rejected (readings it refused%s); unread: lines the "
+                    "log reader could not read as a reading, never fed to the column"
+                    % (", and those it took back later" if col.retracted else ""))
+        out.append(rec("rejected", pairs, text))
         if self.surface is not None:
             rd, h, td = self.surface
             pairs = [("time_s", _nan(rd[4])), ("line", rd[0]), ("p_hpa", rd[1] / 100.0),
                      ("t_k", rd[2]), ("td_k", td), ("rh_pct", _nan(rd[3])), ("height_m", h)]
-            if rd[5] is not None:
+            if rd[5] is not None and rd[5] == rd[5]:
                 pairs.append(("gps_m", rd[5]))
             out.append(rec("surface", pairs, "the first accepted reading"))
         if self.launch is not None:
-            out.append(rec("launch", [("time_s", self.launch[0]), ("line", self.launch[1])]))
+            t, ln, conf = self.launch
+            out.append(rec("launch", [("time_s", t), ("line", ln), ("confirmed_line", conf)],
+                           "when the column detected the launch: its height track (smoothed "
+                           "over smooth_s %g s) had risen launch_gpm %g gpm, plus 4 sigma of "
+                           "its noise, above its lowest point; lift-off was earlier (the column "
+                           "gives no lift-off time)%s; the table's launch word stands on line %d, "
+                           "the reading whose feed confirmed line %d"
+                           % (col.smooth_s, col.launch_gpm, self._clock_note(), conf, ln)))
         for hpa in sorted(self.levels, reverse=True):
             g, h, tk, td, t, ln = self.levels[hpa]
             out.append(rec("level", [("p_hpa", hpa), ("gph_m", g), ("height_m", h), ("t_k", tk),
@@ -250,10 +272,13 @@ class Summary:
             if ln is not None:
                 pairs.append(("line", ln))
             pairs.append(("confirmed_line", conf))
+            pairs.append(("layer_gpm", col.tropopause_layer_gpm))
             out.append(rec("tropopause", pairs,
-                           "the level itself (WMO lapse-rate definition); the table's "
-                           "tropopause_confirmed word stands on line %d, 2 km higher, where the "
-                           "definition was confirmed" % conf))
+                           "the level itself (WMO lapse-rate definition), found on the profile "
+                           "averaged over layers of tropopause_layer_gpm %g gpm: its height is "
+                           "resolved to about one such layer; the table's tropopause_confirmed "
+                           "word stands on line %d, 2 km higher, where the definition was "
+                           "confirmed" % (col.tropopause_layer_gpm, conf)))
         for g, t, ln, conf in self.floats:
             pairs = [("gph_m", g), ("height_m", geometric_height_m(g, lat)), ("time_s", t)]
             if ln is not None:
@@ -300,8 +325,24 @@ class Summary:
             out.append(rec("highest", [("gph_m", g), ("height_m", h), ("time_s", t),
                                        ("line", ln)], text))
         if self.landing is not None:
-            h, t, ln = self.landing
-            out.append(rec("landing", [("height_m", h), ("time_s", t), ("line", ln)]))
+            h, t, ln, conf = self.landing
+            touch = t - col.landing_s
+            out.append(rec("landing", [("height_m", h), ("time_s", t), ("line", ln),
+                                       ("confirmed_line", conf), ("touchdown_time_s", touch)],
+                           "when the column detected the landing: the readings had stayed within "
+                           "landing_band_gpm %g gpm, plus 4 sigma of their noise, for landing_s %g "
+                           "s; touchdown_time_s (time_s - landing_s, where that stay began) is the "
+                           "touchdown to within one reading step%s; height_m is that of line %d, "
+                           "where the table's landed word stands (the reading whose feed "
+                           "confirmed line %d)"
+                           % (col.landing_band_gpm, col.landing_s, self._clock_note(), conf, ln)))
+        n, first, last, held, capped, dry, run_line, run_n, last_i = self.no_rh
+        if n:
+            pairs = [("readings", n), ("first_line", first), ("last_line", last)]
+            if last_i == self.accepted - 1:
+                pairs.append(("missing_from_line", run_line))
+            out.append(rec("humidity_missing", pairs + [("held", held), ("capped", capped),
+                                                        ("dry", dry)], self._humidity_note()))
         if self.gps_n:
             worst, wline = self.gps_worst
             out.append(rec("gps", [("readings", self.gps_n),
@@ -310,6 +351,34 @@ class Summary:
                                    ("last_baro_minus_gps_m", self.gps_last)],
                            "barometric height minus GPS height over the readings with a fix"))
         return out
+
+    def _clock_note(self):
+        # how the event times count without a time column
+        if self.timed:
+            return ""
+        return " (no time column: the column counts each reading as one second, so time_s is " \
+            "nan and the durations are readings)"
+
+    def _humidity_note(self):
+        n, first, last, held, capped, dry, run_line, run_n, last_i = self.no_rh
+        if last_i != self.accepted - 1:
+            span = "on %d readings between lines %d and %d (it came back)" % (n, first, last)
+        elif run_n == n:
+            span = "from line %d on (%d readings)" % (run_line, n)
+        else:
+            span = "from line %d on (%d readings), and on %d readings before, from line %d" % (
+                run_line, run_n, n - run_n, first)
+        if dry == n:
+            how = "dry air assumed (no humidity known before)"
+        elif dry:
+            how = "dry air assumed on %d of them (no humidity known before), the last mixing " \
+                "ratio held on %d" % (dry, held)
+        else:
+            how = "the last mixing ratio held"
+        if capped:
+            how += " (capped at saturation on %d)" % capped
+        return ("humidity missing %s: %s; the unknown humidity raises sigma_m there"
+                % (span, how))
 
     def looks_like_station(self):
         """True when the log never left the ground: no launch and a rise of
@@ -381,7 +450,7 @@ def _rejected(summary, e, reading, lineno, report):
     if not msg.startswith("line "):
         msg = "line %d: %s" % (lineno, msg)
     reason = getattr(e, "reason", "reading") or "reading"
-    summary.reject(reason, msg)
+    summary.reject(reason, msg, reading is None)
     if reading is not None:
         summary.last_rejected = reading
     if summary.rejected <= MAX_REPORTS:
@@ -432,6 +501,8 @@ def run(reader, col, summary, report, out=None, every=1, flush=False, sink=None,
     mask = RING - 1
     rn = summary.ring_n
     special = FL_REPLACED | FL_TAKEOVER
+    no_rh_bits = FL_DRY | FL_HELD_MIXING
+    no_rh = summary.no_rh
     thin = sink is None and every > 1
     # the look-back of the replay: the readings of the column's two latest
     # records (h, b) and the one confirmed before b (c)
@@ -469,6 +540,23 @@ def run(reader, col, summary, report, out=None, every=1, flush=False, sink=None,
                 before_first()
             h = col.height_m
             flags = col.flags
+            if flags & no_rh_bits:
+                # no humidity: where it went missing and how it was filled in
+                if not no_rh[0]:
+                    no_rh[1] = lineno
+                if no_rh[8] != accepted - 1:
+                    no_rh[6] = lineno       # a new run of readings without humidity
+                    no_rh[7] = 0
+                no_rh[0] += 1
+                no_rh[2] = lineno
+                no_rh[7] += 1
+                no_rh[8] = accepted
+                if flags & FL_HELD_MIXING:
+                    no_rh[3] += 1
+                    if flags & FL_CAPPED:
+                        no_rh[4] += 1
+                else:
+                    no_rh[5] += 1
             # the summary's running values (the ring dates past events)
             j = rn & mask
             ring_t[j] = rn if ts is None else ts
@@ -479,7 +567,7 @@ def run(reader, col, summary, report, out=None, every=1, flush=False, sink=None,
                 summary.highest = (h, col.gph_m, nan if ts is None else ts, lineno)
             elif h < hmin:
                 hmin = h
-            if gps is not None:
+            if gps is not None and gps == gps:      # nan: no fix
                 d = col.gps_diff_m
                 if d == d:
                     gps_n += 1
@@ -692,6 +780,7 @@ def replay(reader, col, out, setup, source_name, every=1, flush=False, err=None,
     Returns the Summary. Rejections and notes are reported on ``err``."""
     err = err or sys.stderr
     summary = Summary(col, setup.lat_deg)
+    summary.timed = "time" in reader.columns
     prog = Progress(err) if progress else None
 
     def report(msg):
@@ -701,8 +790,9 @@ def replay(reader, col, out, setup, source_name, every=1, flush=False, err=None,
 
     if "time" not in reader.columns:
         err.write("tinygeo replay: warning: the log has no time column, so pressure glitches are "
-                  "not screened by vertical rate and no rate or landing is found; map one with "
-                  "--time NAME[:s|ms|iso]\n")
+                  "not screened by vertical rate, rate_m_s is nan, and the events (launch, "
+                  "float, burst, landing) are timed by counting each reading as one second "
+                  "(their time_s is nan); map one with --time NAME[:s|ms|iso]\n")
     state = {"header": False}
 
     def header():

@@ -19,6 +19,8 @@ ports/micropython/buoy.py) is read by :class:`StationTableReader` the same
 way: its header names ``time_s`` and any subset of ``STATION_COLUMNS`` (and
 ``iso_gph_m``), in any order.
 """
+import tempfile
+
 from tinygeo import record, stationrecord
 from tinygeo.errors import TinygeoError
 
@@ -26,6 +28,7 @@ MAGIC = record.MAGIC
 OLD_MAGIC = "# tinygeo replay table 1"
 SITE_PREFIX = record.SITE_PREFIX
 END_PREFIX = record.END_PREFIX
+RESUME_PREFIX = record.RESUME_PREFIX
 INPUT_PREFIX = "# input "
 SUMMARY_PREFIX = "#: "
 TIME_ORIGIN_PREFIX = "# time_s counts from "
@@ -117,19 +120,36 @@ class Row:
 
 
 _INTS = ("line", "flags")
+_TEXT = ("line", "flags", "events")
 
 
 class TableReader:
-    """Read a table one row at a time (constant memory).
+    """Read a table one row at a time (memory bounded by the number of
+    resume records, not by the rows).
 
     ``lines`` is a :class:`tinygeo.host.options.TextLines` (or any object with
-    ``readline``). After construction ``site`` (dict of the ``# site``
-    words), ``input`` (dict of the ``# input`` words), ``time_origin`` (ISO
-    text of ``# time_s counts from``, or None) and ``present`` (the columns
-    the header names) hold the set-up; iterate for :class:`Row` objects.
-    After the iteration ``summary`` holds the ``#:`` records as a list of
-    (what, dict) in file order, ``end`` the end record's dict (None: the
-    table has no end record) and ``rows`` the number of rows read."""
+    ``readline``). The constructor reads the whole table once (into a
+    temporary file, so standard input works too): the set-up lines before
+    the first row, wherever they stand around the header, the resume records
+    and which value columns hold a number. After construction ``site`` (dict
+    of the ``# site`` words), ``input`` (dict of the ``# input`` words),
+    ``time_origin`` (ISO text of ``# time_s counts from``, or None),
+    ``present`` (the columns the header names) and ``numeric`` (the columns
+    of ``present`` other than line, flags and events that hold a value other
+    than nan in some row) hold the set-up; iterate for :class:`Row` objects.
+
+    Resume records (``#: resume line=N``, tinygeo.record.resume_line) are
+    honoured: an earlier row whose ``line`` is N or more is dropped (counted
+    in ``voided``), and so is an earlier end record; a row that cannot be
+    read and is the last line before a resume record, or the last line of a
+    table without an end record, is a row torn by a power cut: dropped and
+    counted in ``torn``. After the iteration ``summary`` holds the ``#:``
+    records as a list of (what, dict) in file order, ``end`` the end
+    record's dict (None: the table has no end record), ``rows`` the number
+    of rows read (dropped ones not counted), ``resumes`` the number of
+    resume records, and ``backwards`` the number of rows whose ``line`` is
+    not above every row before (rows written twice; the first at table line
+    ``first_backwards``)."""
 
     def __init__(self, lines, name="table"):
         self.stream = lines
@@ -139,6 +159,11 @@ class TableReader:
         self.summary = []
         self.end = None
         self.rows = 0
+        self.voided = 0
+        self.torn = 0
+        self.resumes = 0
+        self.backwards = 0
+        self.first_backwards = None
         self.time_origin = None
         self.lineno = 0
         first = True
@@ -159,17 +184,106 @@ class TableReader:
                     raise TableError("%s line 1: not a tinygeo table (expected %r); replay the "
                                      "log first with 'tinygeo replay'" % (name, MAGIC))
                 continue
-            if line.startswith(SITE_PREFIX):
-                self.site.update(parse_pairs(line[len(SITE_PREFIX):].split()))
-            elif line.startswith(INPUT_PREFIX):
-                self.input.update(parse_pairs(line[len(INPUT_PREFIX):].split()))
-            elif line.startswith(TIME_ORIGIN_PREFIX):
-                self.time_origin = line[len(TIME_ORIGIN_PREFIX):].strip()
-            elif line.startswith("#") or not line.strip():
+            if self._setup_line(line):
                 continue
-            else:
-                self._header(line)
-                break
+            if line.startswith("#") or not line.strip():
+                continue
+            self._header(line)
+            break
+        self._scan()
+
+    def _setup_line(self, line):
+        # take a set-up comment line (site, input, time origin); True if it was one
+        if line.startswith(SITE_PREFIX):
+            self.site.update(parse_pairs(line[len(SITE_PREFIX):].split()))
+        elif line.startswith(INPUT_PREFIX):
+            self.input.update(parse_pairs(line[len(INPUT_PREFIX):].split()))
+        elif line.startswith(TIME_ORIGIN_PREFIX):
+            self.time_origin = line[len(TIME_ORIGIN_PREFIX):].strip()
+        else:
+            return False
+        return True
+
+    def _scan(self):
+        # read the rest once into a temporary file: the set-up lines before
+        # the first row, the resume records (table line, N), the rows that may
+        # be torn, the value columns holding a number; the iteration reads
+        # the temporary file
+        value_cols = [(n, i) for n, i in self.index if n not in _TEXT]
+        numeric = set()
+        width = len(self.present)
+        marks = []              # (table line, N) of the resume records
+        self._ends = set()      # lines of rows last before a resume record or the end
+        first_row = None
+        last_row = None         # the latest row line, while nothing but blanks followed it
+        end_after = False       # an end record after the latest row
+        lineno = self.lineno
+        spool = tempfile.TemporaryFile(mode="w+", encoding="utf-8", newline="\n")
+        try:
+            while True:
+                raw = self.stream.readline()
+                if not raw:
+                    break
+                lineno += 1
+                spool.write(raw)
+                line = raw.rstrip("\r\n")
+                if not line.strip():
+                    continue
+                if line.startswith("#"):
+                    if line.startswith(RESUME_PREFIX):
+                        marks.append((lineno, self._resume_at(line, lineno)))
+                        if last_row is not None:
+                            self._ends.add(last_row)
+                        end_after = False
+                    elif line.startswith(END_PREFIX):
+                        end_after = True
+                    elif first_row is None:
+                        self._setup_line(line)
+                    elif line.startswith((SITE_PREFIX, INPUT_PREFIX, TIME_ORIGIN_PREFIX)):
+                        raise TableError("%s line %d: %r after the first row (line %d): the set-up "
+                                         "lines (site, input, time origin) must come before the "
+                                         "rows" % (self.name, lineno, line.split("=")[0][:40],
+                                                   first_row))
+                    last_row = None
+                    continue
+                if first_row is None:
+                    first_row = lineno
+                last_row = lineno
+                end_after = False
+                if len(numeric) < len(value_cols):
+                    fields = line.split("\t")
+                    if len(fields) == width:
+                        for n, i in value_cols:
+                            if n not in numeric and fields[i].strip() != "nan":
+                                numeric.add(n)
+            if last_row is not None and not end_after:
+                self._ends.add(last_row)
+            spool.seek(0)
+        except BaseException:
+            spool.close()
+            raise
+        if marks and "line" not in self.present:
+            spool.close()
+            raise TableError("%s line %d: a resume record in a table without a 'line' column: the "
+                             "rows it voids cannot be told" % (self.name, marks[0][0]))
+        # the smallest N of the resume records from each one to the end: a row
+        # before record k is void when its line is at least floor[k]
+        floor = [0] * len(marks)
+        m = None
+        for k in range(len(marks) - 1, -1, -1):
+            m = marks[k][1] if m is None else min(m, marks[k][1])
+            floor[k] = m
+        self._marks = [(mk[0], f) for mk, f in zip(marks, floor)]
+        self.numeric = frozenset(numeric)
+        self._spool = spool
+
+    def _resume_at(self, line, lineno):
+        words = parse_pairs(line[len(RESUME_PREFIX):].split())
+        try:
+            return int(words["line"])
+        except (KeyError, ValueError):
+            raise TableError("%s line %d: unreadable resume record %r; expected %sline=N"
+                             % (self.name, lineno, line[:60], RESUME_PREFIX))
 
     def _header(self, line):
         names = [f.strip() for f in line.split("\t")]
@@ -186,56 +300,91 @@ class TableReader:
         self.absent = [n for n in COLUMNS if n not in names]
 
     def __iter__(self):
-        stream = self.stream
+        stream = self._spool
         n = len(self.present)
         index = self.index
         absent = self.absent
-        while True:
-            raw = stream.readline()
-            if not raw:
-                return
-            self.lineno += 1
-            line = raw.rstrip("\r\n")
-            if not line.strip():
-                continue
-            if line.startswith("#"):
-                if line.startswith(SUMMARY_PREFIX):
-                    words = line[len(SUMMARY_PREFIX):].split()
-                    if words:
-                        pairs = parse_pairs(words[1:])
-                        if words[0] == "end":
-                            self.end = pairs
-                        else:
-                            self.summary.append((words[0], pairs))
-                continue
-            fields = line.split("\t")
-            if len(fields) != n:
-                raise TableError("%s line %d: %d fields, expected %d (%s)"
-                                 % (self.name, self.lineno, len(fields), n, " ".join(self.present)))
-            if self.end is not None:
-                raise TableError("%s line %d: a row after the end record" % (self.name, self.lineno))
-            row = Row()
-            try:
-                for name, i in index:
-                    text = fields[i].strip()
-                    if name in _INTS:
-                        setattr(row, name, int(text))
-                    elif name == "events":
-                        row.events = text
+        marks = self._marks
+        k = 0                   # the next resume record
+        floor = marks[0][1] if marks else None
+        top = None              # the highest line of the rows kept
+        try:
+            while True:
+                raw = stream.readline()
+                if not raw:
+                    return
+                self.lineno += 1
+                line = raw.rstrip("\r\n")
+                if not line.strip():
+                    continue
+                if line.startswith("#"):
+                    if line.startswith(RESUME_PREFIX):
+                        # the rows it voids were dropped as they came; an end
+                        # record before it is void too
+                        self.resumes += 1
+                        self.end = None
+                        k += 1
+                        floor = marks[k][1] if k < len(marks) else None
+                    elif line.startswith(SUMMARY_PREFIX):
+                        words = line[len(SUMMARY_PREFIX):].split()
+                        if words:
+                            pairs = parse_pairs(words[1:])
+                            if words[0] == "end":
+                                self.end = pairs
+                            else:
+                                self.summary.append((words[0], pairs))
+                    continue
+                try:
+                    row = self._row(line, n, index, absent)
+                except TableError:
+                    if self.lineno in self._ends:
+                        self.torn += 1      # cut by a power cut: the logger takes it again
+                        continue
+                    raise
+                if floor is not None and row.line is not None and row.line >= floor:
+                    self.voided += 1        # taken again after a resume record below
+                    continue
+                if self.end is not None:
+                    raise TableError("%s line %d: a row after the end record"
+                                     % (self.name, self.lineno))
+                if row.line is not None:
+                    if top is not None and row.line <= top:
+                        self.backwards += 1
+                        if self.first_backwards is None:
+                            self.first_backwards = self.lineno
                     else:
-                        setattr(row, name, float(text))   # 'nan' parses to nan
-                for name in absent:
-                    setattr(row, name, None if name in ("flags", "events") else NAN)
-                if row.line is NAN:
-                    row.line = None
-                row.event_bits, row.level_hpa = (None, 0) if row.events is None else \
-                    parse_events(row.events)
-            except ValueError as e:
-                raise TableError("%s line %d: unreadable field (%s); the row must hold %s"
-                                 % (self.name, self.lineno, e, " ".join(self.present)))
-            row.lineno = self.lineno
-            self.rows += 1
-            yield row
+                        top = row.line
+                row.lineno = self.lineno
+                self.rows += 1
+                yield row
+        finally:
+            self._spool.close()
+
+    def _row(self, line, n, index, absent):
+        fields = line.split("\t")
+        if len(fields) != n:
+            raise TableError("%s line %d: %d fields, expected %d (%s)"
+                             % (self.name, self.lineno, len(fields), n, " ".join(self.present)))
+        row = Row()
+        try:
+            for name, i in index:
+                text = fields[i].strip()
+                if name in _INTS:
+                    setattr(row, name, int(text))
+                elif name == "events":
+                    row.events = text
+                else:
+                    setattr(row, name, float(text))   # 'nan' parses to nan
+            for name in absent:
+                setattr(row, name, None if name in ("flags", "events") else NAN)
+            if row.line is NAN:
+                row.line = None
+            row.event_bits, row.level_hpa = (None, 0) if row.events is None else \
+                parse_events(row.events)
+        except ValueError as e:
+            raise TableError("%s line %d: unreadable field (%s); the row must hold %s"
+                             % (self.name, self.lineno, e, " ".join(self.present)))
+        return row
 
 
 class StationRow:
