@@ -317,12 +317,16 @@ def test_levels_sparse_data_and_descent():
     col.feed(80000.0, 275.0, None, 400)      # crosses 1000, 925, 850 hPa at once
     assert calls == []
     col.feed(60000.0, 265.0, None, 800)      # confirms it; crosses 700 hPa
-    assert [p for b, p in calls] == [100000.0, 92500.0, 85000.0]
-    assert [b & EV_LEVEL for b, p in calls] == [EV_LEVEL] * 3
+    # on_event once per feed, level_* the highest, col.levels every one of them
+    assert [p for b, p in calls] == [85000.0]
+    assert [b & EV_LEVEL for b, p in calls] == [EV_LEVEL]
+    assert col.levels_new == 3 and [x[0] for x in col.levels] == [100000.0, 92500.0, 85000.0]
     col.feed(75000.0, 270.0, None, 900)      # confirms 700 hPa; a dip back below 700 hPa
     col.feed(65000.0, 268.0, None, 1000)     # ... and up again: not reported twice
     col.feed(64000.0, 268.0, None, 1010)
-    assert [p for b, p in calls if b & EV_LEVEL] == [100000.0, 92500.0, 85000.0, 70000.0]
+    assert [p for b, p in calls if b & EV_LEVEL] == [85000.0, 70000.0]
+    assert col.levels_new == 1 and [x[0] for x in col.levels] == [100000.0, 92500.0, 85000.0,
+                                                                  70000.0]
 
 
 def test_first_reading_exactly_at_a_level_and_high_start():

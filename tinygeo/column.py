@@ -439,12 +439,25 @@ small-int limit on 32-bit boards, so a counter never allocates; 3.4 years of
 10 Hz readings)."""
 
 _NAN = float("nan")
+_TS_POS = 1 << 62          # time stamps beyond +-2**62 (int or float) are refused ('time')
+_TS_NEG = -_TS_POS
 # Integral constants are ints: free on MicroPython (a float constant is a heap
 # object for the module's lifetime); every operation gives the same double.
 _NODE_D = 1500             # m between the nodes of the height quadratic
 _NODE_W = 3000             # gpm: the quadratic is used within +-_NODE_W of its node
 _NODE_W2 = 6000            # gpm: and gives the start of the next node's Newton step within it
 _RH_SLOPE_MIN = 1          # %RH below which dTv/dRH is held, not recomputed
+SPIKE_GPM = 30
+"""The floor of the "there and back" test, gpm (see "Checks and recovery")."""
+SPIKE_K = 8
+"""Multiple of the noise of a height difference (sqrt(2) noise_gph_m) that the
+"there and back" test adds to SPIKE_GPM."""
+_SPIKE_GPM = SPIKE_GPM
+UNIT_FACTOR = 5
+"""A run of readings whose pressure is off from the latest accepted reading by
+more than this factor (either way) and that contradicted it by rate is never
+followed (see "Checks and recovery")."""
+_SPIKE_KN = SPIKE_K * 1.4142135623730951
 _SQRT2 = 1.4142135623730951
 # dTv/dw / T = 1/eps - 1 at w = 0 (from Tv = T (1 + w/eps)/(1 + w)), times
 # 1/sqrt(3) (the RMS error bound of a mixing ratio known to lie in [0, w_s]);
@@ -501,7 +514,7 @@ _CFG_F = ("lat_deg", "start_height_m", "anchor_p_pa", "sigma_p_pa", "sigma_t_k",
           "time_unit_s", "smooth_s", "launch_gpm", "burst_drop_gpm", "burst_rate_gpm_s",
           "float_s", "float_band_gpm", "landing_s", "landing_band_gpm", "tropopause_max_p_pa",
           "tropopause_layer_gpm", "rh_tol_pct", "geoid_undulation_m", "max_t_step_k",
-          "max_t_rate_k_s", "max_t_gradient_k_gpm")
+          "max_t_rate_k_s", "max_t_gradient_k_gpm", "launch_rate_gpm_s")
 _CFG_I = ("ellipsoid_code", "ice", "dry_fallback", "burst_readings", "takeover_readings",
           "track_sigma")
 # the column's event state; the clocks (time stamps as given, or confirmed
@@ -534,7 +547,7 @@ _RESTORE_REC = ("p_pa 0.1 120000;t_k 150 350;rh_pct -3 103 n;tv_k 150 350;"
                 "gps_m -1000 100000 n;var_done 0 *;var_p 0 *;tm2 0 700;s2 0 *;"
                 "p_start 0.1 120000 n;tvh 0 *;flags 0 1023;gps_here 0 1")
 _MAGIC = b"TGCK"
-_VERSION = 4
+_VERSION = 5
 CHECKPOINT_BYTES = (7 + 8 * (len(_CFG_F) + len(_ST_F) + 1 + 2 * len(_REC_F))
                     + 4 * (len(_CFG_I) + len(_ST_I) + 2 * len(_REC_I)) + 4)
 """Size of a checkpoint blob, bytes (the frame of tinygeo.checkpoint)."""
@@ -572,7 +585,7 @@ class Column:
                  tropopause_max_p_pa=50000, tropopause_layer_gpm=100, rh_tol_pct=3,
                  takeover_readings=3, track_sigma=True, on_event=None,
                  geoid_undulation_m=None, max_t_step_k=3, max_t_rate_k_s=1,
-                 max_t_gradient_k_gpm=0.1):
+                 max_t_gradient_k_gpm=0.1, launch_rate_gpm_s=0.5):
         # What only the constructor or a rejection uses is imported where it is
         # used: fewer names in the module's dict (RAM on MicroPython).
         from .errors import check_lat, check_range, check_flag, pressure_hint
@@ -621,6 +634,8 @@ class Column:
         self.max_t_rate_k_s = check_range("max_t_rate_k_s", max_t_rate_k_s, 0, 100, "K/s")
         self.max_t_gradient_k_gpm = check_range("max_t_gradient_k_gpm", max_t_gradient_k_gpm, 0,
                                                 10, "K/gpm")
+        self.launch_rate_gpm_s = check_range("launch_rate_gpm_s", launch_rate_gpm_s, 0, 1000,
+                                             "gpm/s")
         # --- derived settings (so that feed builds no float for them)
         # the geopotential series at this latitude, evaluated once (tinygeo.potential)
         self._pc = series(self.lat_deg, self.ellipsoid)
@@ -684,6 +699,8 @@ class Column:
                 setattr(self, n, _NAN)
         self.phase = PH_WAIT
         self._e_n = self._lvl = self._burst_n = self._tb_n = self._tp_state = 0
+        self.levels = []
+        self.levels_new = 0
         self._tb_st = 0.0
 
     # ------------------------------------------------------------------ feed
@@ -703,9 +720,17 @@ class Column:
             self._compute(None, n)
             self._sigma(None, n)
             return self._advance()
-        ok = self._compute(self._h, n) == 0                    # 3. on top of the latest reading
+        h = self._h
+        ok = self._compute(h, n) == 0                          # 3. on top of the latest reading
         if ok and not self._run:
-            self._sigma(self._h, n)
+            # the "there and back" test, only where the latest reading lies
+            # more than its floor from the one before (rare: one subtraction)
+            d = h.gph_m - self._b.gph_m
+            if (d > _SPIKE_GPM or d < -_SPIKE_GPM) and self._has_b:
+                bits = self._spike(h, n)
+                if bits >= 0:
+                    return bits
+            self._sigma(h, n)
             return self._advance()
         return self._recover(n, ok)                            # 4. or: look-back, recovery
 
@@ -735,8 +760,11 @@ class Column:
                 tol = self.rh_tol_pct
                 if rh < -tol or rh > 100 + tol:
                     self._bad("humidity", 2, quote(rh_pct), -tol, 100 + tol)
-        if time_s is not None and (isinstance(time_s, bool) or not isinstance(time_s, int)):
-            time_s = self._num(time_s, "time_s", "s")   # ints stay ints (see "Time")
+        if time_s is not None:
+            if isinstance(time_s, bool) or not isinstance(time_s, int):
+                time_s = self._num(time_s, "time_s", "s")   # ints stay ints (see "Time")
+            if not _TS_NEG <= time_s <= _TS_POS:
+                self._bad("time", 7, quote(time_s))
         gps = None
         if gps_m is not None:
             gps = self._num(gps_m, "gps_m", "m", True)
@@ -1108,39 +1136,20 @@ class Column:
         # and is not taken by the run is accepted (the run was a glitch).
         why_h = self._why       # how n contradicts the latest reading (when not ok)
         m = self._m
-        # the reading, into the second scratch record
-        m.p_pa = n.p_pa
-        m.t_k = n.t_k
-        m.rh_pct = n.rh_pct
-        m.tsr = n.tsr
-        m.gpsr = n.gpsr
-        m.q = n.q
+        _copy(m, n)        # the reading, into the second scratch record
         agree_b = self._has_b and self._compute(self._b, m) == 0
         # does n agree with the run's latest reading? (computed on top of it)
         k = self._k
-        k.p_pa = n.p_pa
-        k.t_k = n.t_k
-        k.rh_pct = n.rh_pct
-        k.tsr = n.tsr
-        k.gpsr = n.gpsr
-        k.q = n.q
+        _copy(k, n)
         cr = self._cr
         in_run = self._run and self._compute(cr, k) == 0
-        if agree_b and self._run_b and in_run and (not ok or self._fit(self._b, m) <
-                                                    self._fit(self._h, n)):
+        if agree_b and self._run_b and in_run and not self._jump(n) and (
+                not ok or self._fit(self._b, m) < self._fit(self._h, n)):
             # two readings in a row agree with each other and with the reading
             # before the latest one, the first contradicted the latest and the
             # second contradicts it too or fits the one before better: the
             # latest was the bad one; go on from the one before
-            self._sigma(self._b, m)
-            self._m = self._h
-            self._h = m
-            m.flags |= FL_REPLACED
-            self._inc_rejected()
-            if self.retracted < COUNT_MAX:
-                self.retracted += 1
-            self._accept(m, 0)
-            return 0
+            return self._replace(m)
         if in_run and (not ok or not self._has_b or self._run >= 2):
             # the run goes on: n agrees with it, and contradicts the latest
             # reading, or the latest is the first one (not confirmed yet), or
@@ -1178,6 +1187,16 @@ class Column:
         if self._run < self.takeover_readings:
             self._why = self._run_why
             self._refuse()
+        f = self._jump(new)
+        if f:
+            # refused, with a message, for as long as it lasts (the run kept
+            # one short of a takeover)
+            self._run = self.takeover_readings - 1
+            u = ("kPa passed as Pa (x1000)?" if 500 <= f <= 2000 else
+                 "hPa or mbar passed as Pa (x100)?" if 50 <= f <= 200 else
+                 "a unit changed, or the sensor failed?")
+            self._why = ("pressure", 8, quote(new.p_pa), f, self._h.p_pa, u)
+            self._refuse()
         # takeover: the run's latest reading becomes the latest, the one before
         # it (cr) the one before; the old pair becomes scratch
         old_h = self._h
@@ -1204,6 +1223,90 @@ class Column:
         self._has_b = 1
         self._accept(new, 0)
         return self._tell(bits)
+
+    def _replace(self, m):
+        # retraction: record m (computed on top of the reading before the
+        # latest one) replaces the latest reading, which is taken off
+        self._sigma(self._b, m)
+        self._m = self._h
+        self._h = m
+        m.flags |= FL_REPLACED
+        self._inc_rejected()
+        if self.retracted < COUNT_MAX:
+            self.retracted += 1
+        self._accept(m, 0)
+        return 0
+
+    def _spike(self, h, n):
+        # The "there and back" test (see "Checks and recovery"), on heights
+        # only, no clock: with b the reading before the latest one h, and n
+        # the new reading (computed on top of h), T = _SPIKE_GPM + 8 sqrt(2)
+        # noise_gph_m (the larger noise of b and n). h is retracted when n
+        # agrees with b within T and h lies beyond T from both, on one side;
+        # b, when it is the first confirmed reading, when n agrees with h
+        # within T and b lies beyond T from both (restart from h). Returns
+        # the feed's bits, or -1: no spike (or the replacement contradicts
+        # its base), n goes on as usual. Only on a step above _SPIKE_GPM.
+        b = self._b
+        zb = b.tv_k / b.p_pa
+        zn = n.tv_k / n.p_pa
+        tt = _SPIKE_GPM + _SPIKE_KN * self._kz * (zb if zb > zn else zn)
+        gb = b.gph_m
+        gh = h.gph_m
+        gn = n.gph_m
+        if self._e_n == 1 and -tt <= gn - gh <= tt and (
+                (gb - gh > tt and gb - gn > tt) or (gb - gh < -tt and gb - gn < -tt)):
+            return self._restart(h, n)
+        if -tt <= gn - gb <= tt and (
+                (gh - gb > tt and gh - gn > tt) or (gh - gb < -tt and gh - gn < -tt)):
+            m = self._m
+            _copy(m, n)
+            if self._compute(b, m):
+                return -1
+            return self._replace(m)
+        return -1
+
+    def _restart(self, h, n):
+        # the first reading b was the bad one: the column restarts from h
+        # (placed at start_height_m, or from the anchor, as a first reading)
+        # with n on top of it; b is retracted
+        if self._guard(h.p_pa):
+            return -1
+        k = self._k
+        _copy(k, h)
+        self._compute(None, k)
+        k.nodes = None          # n's own nodes (if any) are taken by _accept
+        m = self._m
+        _copy(m, n)
+        if self._compute(k, m):
+            return -1
+        self._sigma(None, k)
+        self._sigma(k, m)
+        self._k = self._b
+        self._m = h
+        self._b = k
+        self._h = m
+        m.flags |= FL_REPLACED
+        self._reset_events()
+        self.count = 2
+        self._inc_rejected()
+        if self.retracted < COUNT_MAX:
+            self.retracted += 1
+        bits = self._confirm(k)
+        self._accept(m, 0)
+        return self._tell(bits)
+
+    def _jump(self, r):
+        # A run that contradicted the column by its rate, with reading r at a
+        # pressure a factor beyond UNIT_FACTOR from the latest accepted
+        # reading's: no flight gets there between two readings, a unit
+        # changed (hPa or kPa passed as Pa). The factor (latest over r), or 0
+        if not self._has_b or self._run_why is None or self._run_why[0] != "rate":
+            return 0
+        f = self._h.p_pa / r.p_pa
+        if f > UNIT_FACTOR or f * UNIT_FACTOR < 1:
+            return f
+        return 0
 
     def _fit(self, a, r):
         # how well reading r (computed on top of record a) fits a: the largest
@@ -1252,11 +1355,14 @@ class Column:
                "|gps_m=%s (ellipsoidal): %s"                             # 4
                "|gps_m=%s outside %g..%g m; above sea level; ellipsoidal? set geoid_undulation_m"
                "|rh_pct=%s at t_k=%r, p_pa=%r: %s"                       # 6
-               "|"
-               "|"                                                       # 8
+               "|time_s=%s outside -2**62..2**62 (units of time_unit_s); a time stamp from a "
+               "clock or tick counter (seconds since the epoch are 1.8e9)"   # 7
+               "|p_pa=%s: readings that agree with each other are a factor %.4g (latest over "
+               "them) from the latest accepted %g Pa and contradict its rate: no flight moves that far between them; "
+               "%s the column refuses them until the pressure agrees with it again"   # 8
                "|virtual temperature %.2f K (t_k=%r, p_pa=%r) outside %g..%g K; check the units"
                "|t_k=%s jumps %+.1f K from %.2f K, over the %.1f K allowed; glitch? "
-               "(max_t_step_k=None: no check)"                           # 10
+               "(max_t_step_k=None turns this check off)"                           # 10
                "|"                                                       # 11
                "|p_pa=%s moves the column %.0f m/s over %.3g s, beyond max_rate_m_s=%s with "
                "%.0f m of noise allowed; glitch, or wrong unit/time"     # 12
@@ -1372,7 +1478,7 @@ class Column:
                 if hs < self._min_g:
                     self._min_g = hs
                 self._launch_line = self._min_g + self.launch_gpm + self._sx(r)
-            elif hs >= self._launch_line:
+            elif hs >= self._launch_line and (r.tsr is None or self._climbing(r)):
                 self.phase = PH_ASCENT
                 self.launch_time_s = self._clock_s(clk, r)
                 self.max_gph_m = hs
@@ -1403,9 +1509,19 @@ class Column:
             else:
                 self._burst_n = 0
             if hs > self._fl_hi or hs < self._fl_lo:
-                if ph == PH_FLOAT and hs > self._fl_hi:
-                    self.phase = PH_ASCENT      # a new ascent after the float
-                self._float_ref(r, hs, clk)
+                if ph == PH_ASCENT:
+                    self._float_ref(r, hs, clk)
+                elif hs > self._fl_hi:
+                    if r.tsr is None or self._climbing(r):
+                        self.phase = PH_ASCENT      # a new ascent after the float
+                        self._float_ref(r, hs, clk)
+                    else:
+                        # a slow rise (a wave's crest): the float's top, _fl_g,
+                        # rises to it, its band with it
+                        self._fl_hi = hs + (self._fl_hi - self._fl_g)
+                        self._fl_g = hs
+                # (below the band while floating: nothing; a descent is the
+                # burst test's)
             elif ph == PH_ASCENT and clk >= self._fl_end:
                 self.phase = PH_FLOAT
                 self.float_gph_m = self._fl_g
@@ -1430,6 +1546,15 @@ class Column:
             return False
         return hs < self.max_gph_m - self.burst_drop_gpm - sx and \
             self._f_v < self._f_bv - self._f_cv * (sx / self._f_cx)
+
+    def _climbing(self, r):
+        # the track rises faster than launch_rate_gpm_s + 4 sigma_v (the
+        # launch's and a new ascent's rate test, with time; False before the
+        # track has a step)
+        if self._f_cx != self._f_cx:
+            return False
+        return self._f_v > self.launch_rate_gpm_s * self._f_dt + \
+            self._f_cv * (self._sx(r) / self._f_cx)
 
     def _clock_s(self, clk, r):
         # an event clock as seconds since the first time stamp (without time:
@@ -1456,12 +1581,13 @@ class Column:
 
     def _levels(self, p0, p, g0, g, t0, t):
         # report every mandatory level in [p, p0) not reported yet (ascent only)
+        # (level_* the highest of them; every one appended to levels, and
+        # levels_new says how many this reading added)
         bits = 0
-        cb = self.on_event
         lvl = self._lvl
         while lvl < 16 and MANDATORY_PA[lvl] >= p:
-            if bits and cb is not None:
-                cb(self, EV_LEVEL)   # the lower level crossed by this same reading
+            if not bits:
+                self.levels_new = 0
             lev = MANDATORY_PA[lvl]
             if p0 == p:
                 f = 0.0
@@ -1480,6 +1606,8 @@ class Column:
                 self.level_height_m = height_series(gl, self._pc, self._a_m)
             else:
                 self.level_height_m = _NAN
+            self.levels.append((lev, gl, self.level_height_m, self.level_t_k))
+            self.levels_new += 1
             lvl += 1
             self._lvl = lvl
             bits = EV_LEVEL
@@ -1768,7 +1896,7 @@ class Column:
         k = len(_CFG_F)
         (lat, start, anchor, sp, st, srh, bp, bt, brh, rate, guard, unit, smooth, launch, drop,
          brate, fl_s, fl_band, land_s, land_band, trop, trop_layer, rh_tol, geoid, t_step, t_rate,
-         t_grad) = f[:k]
+         t_grad, l_rate) = f[:k]
         ell, ice, dry, burst_n, takeover, track = ints[:len(_CFG_I)]
         if ell not in (0, 1):
             raise CheckpointError("column checkpoint holds an unknown ellipsoid code %d" % ell)
@@ -1779,7 +1907,7 @@ class Column:
             col = cls(lat, start, opt(anchor), (WGS84, GRS80)[ell], ice, dry, sp, st, srh, bp, bt,
                       brh, opt(rate), opt(guard), unit, smooth, launch, drop, brate, burst_n, fl_s,
                       fl_band, land_s, land_band, trop, trop_layer, rh_tol, takeover, track,
-                      on_event, opt(geoid), opt(t_step), t_rate, t_grad)
+                      on_event, opt(geoid), opt(t_step), t_rate, t_grad, l_rate)
         except TinygeoError as e:
             raise CheckpointError("column checkpoint holds settings the column refuses: %s" % e)
         j = len(_CFG_I)
@@ -1832,6 +1960,16 @@ class Column:
     def __repr__(self):
         return "Column(lat_deg=%r, count=%d, p_pa=%r, gph_m=%r, phase=%d)" % (
             self.lat_deg, self.count, self.p_pa, self.gph_m, self.phase)
+
+
+def _copy(x, n):
+    # the reading of record n into record x (the look-back's trial records)
+    x.p_pa = n.p_pa
+    x.t_k = n.t_k
+    x.rh_pct = n.rh_pct
+    x.tsr = n.tsr
+    x.gpsr = n.gpsr
+    x.q = n.q
 
 
 def _count_setting(name, value, lo, hi):
