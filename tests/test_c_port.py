@@ -471,7 +471,7 @@ def test_tables_follow_column_settings(tmp_path):
     rc, out = _gen_tables_on_copy(tmp, lambda t: _add_setting(
         t, 'self.new_gate_m = check_range("new_gate_m", new_gate_m, 0, 50, "m")'))
     assert rc == 1, out
-    for line in ("+#define TGPY_COLUMN_SET_N 35", "+#define TGPY_COLUMN_SET_NEW_GATE_M_DEF TG_L(5)",
+    for line in ("+#define TGPY_COLUMN_SET_N 36", "+#define TGPY_COLUMN_SET_NEW_GATE_M_DEF TG_L(5)",
                  "+#define TGPY_COLUMN_SET_NEW_GATE_M_LO TG_L(0)", "+#define TGPY_COLUMN_SET_NEW_GATE_M_HI TG_L(50)"):
         assert line in out, (line, out)
     rc, out = _gen_tables_on_copy(tmp, lambda t: _add_setting(
@@ -1277,7 +1277,7 @@ def test_column_checkpoint_byte_identity_and_restore(build):
             assert c[2][j] == blob and c[2][j + 1] == blob, _blob_diff(c[2][j + 1], blob)
             assert p[0][k + 1][0] == "ok"
             n_pos += 1
-    assert len(bytes.fromhex(blob)) == CHECKPOINT_BYTES == 1311
+    assert len(bytes.fromhex(blob)) == CHECKPOINT_BYTES == 1319
     print("column checkpoints: %d restore positions in %d streams: bit-identical" % (n_pos, len(bases)))
 
 

@@ -457,8 +457,8 @@ UNIT_FACTOR = 5
 """A run of readings whose pressure is off from the latest accepted reading by
 more than this factor (either way) and that contradicted it by rate is never
 followed (see "Checks and recovery")."""
-_SPIKE_KN = SPIKE_K * 1.4142135623730951
 _SQRT2 = 1.4142135623730951
+_SPIKE_KN = SPIKE_K * _SQRT2      # 8 sqrt(2): the noise of a difference of two heights
 # dTv/dw / T = 1/eps - 1 at w = 0 (from Tv = T (1 + w/eps)/(1 + w)), times
 # 1/sqrt(3) (the RMS error bound of a mixing ratio known to lie in [0, w_s]);
 # see "Humidity" and "Uncertainty"
