@@ -716,23 +716,39 @@ class Column:
         """
         n = self._n
         self._check(n, p_pa, t_k, rh_pct, time_s, gps_m)      # 1. the values on their own
-        if self.count == 0:                                    # 2. the first reading: the start
-            self._compute(None, n)
-            self._sigma(None, n)
-            return self._advance()
         h = self._h
+        if self.count < 3:                                     # 2. the first readings
+            return self._early(h, n)
         ok = self._compute(h, n) == 0                          # 3. on top of the latest reading
         if ok and not self._run:
-            # the "there and back" test, only where the latest reading lies
-            # more than its floor from the one before (rare: one subtraction)
-            d = h.gph_m - self._b.gph_m
-            if (d > _SPIKE_GPM or d < -_SPIKE_GPM) and self._has_b:
+            # the "there and back" test, only on a step above its floor (it
+            # needs one: rare)
+            d = n.gph_m - h.gph_m
+            if d > _SPIKE_GPM or d < -_SPIKE_GPM:
                 bits = self._spike(h, n)
                 if bits >= 0:
                     return bits
             self._sigma(h, n)
             return self._advance()
         return self._recover(n, ok)                            # 4. or: look-back, recovery
+
+    def _early(self, h, n):
+        # the first three readings: the start, then as feed, with the "there
+        # and back" test on every step (and, with two readings held, its
+        # first-reading test)
+        if self.count == 0:
+            self._compute(None, n)
+            self._sigma(None, n)
+            return self._advance()
+        ok = self._compute(h, n) == 0
+        if ok and not self._run:
+            if self.count == 2:
+                bits = self._spike(h, n)
+                if bits >= 0:
+                    return bits
+            self._sigma(h, n)
+            return self._advance()
+        return self._recover(n, ok)
 
     # ------------------------------------------------------------ 1. check
     def _check(self, n, p_pa, t_k, rh_pct, time_s, gps_m):
@@ -1243,10 +1259,10 @@ class Column:
         # the new reading (computed on top of h), T = _SPIKE_GPM + 8 sqrt(2)
         # noise_gph_m (the larger noise of b and n). h is retracted when n
         # agrees with b within T and h lies beyond T from both, on one side;
-        # b, when it is the first confirmed reading, when n agrees with h
-        # within T and b lies beyond T from both (restart from h). Returns
-        # the feed's bits, or -1: no spike (or the replacement contradicts
-        # its base), n goes on as usual. Only on a step above _SPIKE_GPM.
+        # b, when the column holds two readings (b the first), when n agrees
+        # with h within T and b lies beyond T from both (restart from h).
+        # Returns the feed's bits, or -1: no spike (or the replacement
+        # contradicts its base), n goes on as usual.
         b = self._b
         zb = b.tv_k / b.p_pa
         zn = n.tv_k / n.p_pa
@@ -1254,7 +1270,7 @@ class Column:
         gb = b.gph_m
         gh = h.gph_m
         gn = n.gph_m
-        if self._e_n == 1 and -tt <= gn - gh <= tt and (
+        if self.count == 2 and -tt <= gn - gh <= tt and (
                 (gb - gh > tt and gb - gn > tt) or (gb - gh < -tt and gb - gn < -tt)):
             return self._restart(h, n)
         if -tt <= gn - gb <= tt and (
@@ -1951,6 +1967,10 @@ class Column:
             r.t0 = t0
             r.gps_here = bool(r.gps_here)
         check_values(col, _RESTORE_COL, "column")
+        if col._has_b != (1 if col.count >= 2 else 0):
+            # a column holds the reading before the latest one from its second on
+            raise CheckpointError("column checkpoint holds _has_b=%d with count=%d; not written "
+                                  "by this tinygeo" % (col._has_b, col.count))
         if col.count:
             check_values(col._h, _RESTORE_REC, "column")
         if col._has_b:

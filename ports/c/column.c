@@ -1169,6 +1169,20 @@ TG_INLINE int advance(tg_column *col, tg_rec *h, tg_rec *n)
     return tell(col, bits);
 }
 
+/* advance for feed's common path, where count >= 3: the latest reading is
+ * confirmed and has_b is 1 already (Python calls _advance, whose tests
+ * give the same; deliberate: two tests and a store fewer per reading) */
+TG_INLINE int advance_on(tg_column *col, tg_rec *h, tg_rec *n)
+{
+    tg_recoff ni = col->n;
+    int bits = confirm(col, h);
+    col->n = col->b;
+    col->b = col->h;
+    col->h = ni;
+    accept(col, n, 1);
+    return tell(col, bits);
+}
+
 /* ------------------------------------------------------------ 4. recover */
 /* Column._refuse: the rejection of the contradiction in col->why */
 static int refuse(tg_column *col)
@@ -1414,7 +1428,7 @@ static int spike(tg_column *col, tg_rec *h, tg_rec *n)
     TG_FLOAT tt = SPIKE_GPM + SPIKE_KN * col->kz * (zb > zn ? zb : zn);
     TG_FLOAT gb = b->gph_m, gh = h->gph_m, gn = n->gph_m, d;
     d = gn - gh;
-    if (col->e_n == 1 && -tt <= d && d <= tt
+    if (col->count == 2 && -tt <= d && d <= tt
         && ((gb - gh > tt && gb - gn > tt) || (gb - gh < -tt && gb - gn < -tt)))
         return restart(col, h, n);
     d = gn - gb;
@@ -1433,31 +1447,56 @@ static int spike(tg_column *col, tg_rec *h, tg_rec *n)
     return -2;
 }
 
+/* Column._early: the first three readings: the start, then as feed, with
+ * the "there and back" test on every step (and, with two readings held, its
+ * first-reading test). The bits, or -1 after bad(). */
+static int early(tg_column *col, tg_rec *h, tg_rec *n)
+{
+    int k;
+    if (col->count == 0) {
+        if (compute(col, NULL, n) < 0)
+            return -1;
+        sigma(col, NULL, n);
+        return advance(col, h, n);
+    }
+    k = compute(col, h, n);
+    if (k < 0)
+        return -1;
+    if (k == 0 && !col->run) {
+        if (col->count == 2) {
+            k = spike(col, h, n);
+            if (k != -2)
+                return k;
+        }
+        sigma(col, h, n);
+        return advance(col, h, n);
+    }
+    return recover(col, n, k == 0);
+}
+
 /* ------------------------------------------------------------------ feed */
 /* Column.feed */
 tg_status tg_column_feed(tg_column *col, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_FLOAT *rh_pct,
                          tg_time time_s, const TG_FLOAT *gps_m, int *bits)
 {
     tg_rec *n = REC(col, col->n), *h;
-    int k, ok;
+    int k;
     if (TG_UNLIKELY(check(col, n, p_pa, t_k, rh_pct, time_s, gps_m) < 0))   /* 1. the values on their own */
         goto rejected;
     h = H(col);
-    if (TG_UNLIKELY(col->count == 0)) {                         /* 2. the first reading: the start */
-        if (compute(col, NULL, n) < 0)
+    if (TG_UNLIKELY(col->count < 3)) {                          /* 2. the first readings */
+        k = early(col, h, n);
+        if (k < 0)
             goto rejected;
-        sigma(col, NULL, n);
-        *bits = advance(col, h, n);
+        *bits = k;
         return TG_OK;
     }
     k = compute(col, h, n);                                     /* 3. on top of the latest reading */
     if (TG_UNLIKELY(k < 0))
         goto rejected;
-    ok = k == 0;
-    if (TG_LIKELY(ok && !col->run)) {
-        /* the "there and back" test, only where the latest reading lies more
-         * than its floor from the one before */
-        if (TG_UNLIKELY(TG_FABS(h->gph_m - B(col)->gph_m) > SPIKE_GPM) && col->has_b) {
+    if (TG_LIKELY(k == 0 && !col->run)) {
+        /* the "there and back" test, only on a step above its floor */
+        if (TG_UNLIKELY(TG_FABS(n->gph_m - h->gph_m) > SPIKE_GPM)) {
             k = spike(col, h, n);
             if (k != -2) {
                 if (k < 0)
@@ -1467,10 +1506,10 @@ tg_status tg_column_feed(tg_column *col, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_F
             }
         }
         sigma(col, h, n);
-        *bits = advance(col, h, n);
+        *bits = advance_on(col, h, n);
         return TG_OK;
     }
-    k = recover(col, n, ok);                                    /* 4. or: look-back, recovery */
+    k = recover(col, n, k == 0);                                /* 4. or: look-back, recovery */
     if (k < 0)
         goto rejected;
     *bits = k;
@@ -1982,6 +2021,8 @@ tg_status tg_column_from_bytes(tg_column *col, const unsigned char *blob, size_t
         rc->t0 = t0;
     }
     if (!check_values(TGPY_COLUMN__RESTORE_COL, ST_NAMES, st_vals))
+        return TG_CHECKPOINT;
+    if (c.has_b != (c.count >= 2))   /* a column holds the reading before the latest from its 2nd on */
         return TG_CHECKPOINT;
     if (c.count && !check_values(TGPY_COLUMN__RESTORE_REC, REC_NAMES, rec_vals[0]))
         return TG_CHECKPOINT;
