@@ -536,16 +536,42 @@ _ST_I = ("count", "rejected", "retracted", "phase", "_has_b", "_e_n", "_lvl", "_
 # "n" where nan means "not known yet"); kept as text: read only on a restore
 _RESTORE_COL = ("count 0 1073741823;rejected 0 1073741823;retracted 0 1073741823;phase 0 4;"
                 "_has_b 0 1;_e_n 0 1073741823;_lvl 0 16;_burst_n 0 100000;_tb_n 0 1073741823;"
-                "_tp_state 0 3;"
+                "_tp_state 0 3;_t0_int 0 1;_t0_hi -1073741824 1073741823;"
+                # heights (gpm; -250000..250000 as a record's), bands (sigma_p_pa 10 kPa at
+                # 0.1 Pa is 1e9 gpm of noise), times (s: a stamp of 2**63 units of 1e6 s)
                 "smooth_gph_m -250000 250000 n;max_gph_m -250000 250000 n;"
-                "burst_p_pa 0.1 120000 n;level_p_pa 1000 100000 n;level_t_k 150 350 n;"
-                "tropopause_p_pa 0 120000 n;tropopause_t_k 150 350 n;_var_anchor 0 *;"
-                "_f_dt 0 * n;_f_a 0 1 n;_f_cx 0 * n;_f_cv 0 * n")
+                "burst_gph_m -250000 250000 n;float_gph_m -250000 250000 n;"
+                "level_gph_m -250000 250000 n;level_height_m -300000 300000 n;"
+                "tropopause_gph_m -250000 250000 n;_e_g -250000 250000 n;_min_g -250000 250000 n;"
+                "_fl_g -250000 250000 n;_tb_g0 -250000 250000 n;_tb_g1 -250000 250000 n;"
+                "_tp_g -250000 250000 n;_tb_top -260000 260000 n;_tp_top -260000 260000 n;"
+                "_n_g -250000 250000 n;_n_lo -253000 253000 n;_n_hi -253000 253000 n;"
+                "_n_h -300000 300000 n;_n_k1 0.5 2 n;_n_k2 -0.001 0.001 n;"
+                "_launch_line -1e12 1e12 n;_fl_lo -1e12 1e12 n;_fl_hi -1e12 1e12 n;"
+                "_land_lo -1e12 1e12 n;_land_hi -1e12 1e12 n;"
+                "launch_time_s -1e25 1e25 n;burst_time_s -1e25 1e25 n;float_time_s -1e25 1e25 n;"
+                "landing_time_s -1e25 1e25 n;tropopause_time_s -1e25 1e25 n;"
+                "_max_clk -2e19 2e19 n;_fl_clk -2e19 2e19 n;_fl_end -2e19 2e19 n;"
+                "_land_end -2e19 2e19 n;_tb_c0 -2e19 2e19 n;_tb_c1 -2e19 2e19 n;"
+                "_tp_clk -2e19 2e19 n;"
+                "burst_p_pa 0.1 120000 n;level_p_pa 1000 100000 n;tropopause_p_pa 0 120000 n;"
+                "_e_p 0.1 120000 n;_max_p 0.1 120000 n;_tp_p 0 120000 n;"
+                "level_t_k 150 350 n;tropopause_t_k 150 350 n;_e_t 150 350 n;_tp_t 150 350 n;"
+                "_tb_st 0 4e11;_tb_th -1000 1000 n;_tp_th -1000 1000 n;_var_anchor 0 1e8;"
+                # the track: the step, s; gains 0..1; 4 sigma ratios; the rate per step
+                "_f_dt 1e-12 1e25 n;_f_a 0 1 n;_f_b 0 1 n;_f_cx 0 4 n;_f_cv 0 6 n;"
+                "_f_v -1e12 1e12 n;_f_bv -1e28 0 n")
 _RESTORE_REC = ("p_pa 0.1 120000;t_k 150 350;rh_pct -3 103 n;tv_k 150 350;"
-                "gph_m -250000 250000;c -1 1;height_m -250000 250000 n;dt 0 * n;"
+                "gph_m -250000 250000;c -1 1;height_m -250000 250000 n;dt 0 1e25 n;"
+                "rdh -600000 600000 n;rdt 1e-12 1e25 n;tsr -4.62e18 4.62e18 n;"
+                "tr -4.62e18 4.62e18 n;g_t -250000 250000 n;h_tm -300000 300000 n;"
                 "h_t 150 350 n;h_p 0.1 120000 n;h_rh -3 103 n;w 0 1 n;"
-                "gps_m -1000 100000 n;var_done 0 *;var_p 0 *;tm2 0 700;s2 0 *;"
-                "p_start 0.1 120000 n;tvh 0 *;flags 0 1023;gps_here 0 1")
+                "gps_m -1000 100000 n;gps_diff_m -400000 400000 n;"
+                # the uncertainty sums (see "Uncertainty"): a half-layer is at most
+                # (Rd/g0)/2 ln(1.2e6) = 205 gpm/K, dTv/dRH at most 132 K/%, 2**30 readings
+                "var_done 0 1e30;var_p 0 1e20;ct -1000 1000;tm2 0 700;s2 0 1e12;"
+                "sum_rh -1e15 1e15;sum_p -1e14 1e14;slope 0 1000;sum_hum -1e15 1e15;tvh 0 1000;"
+                "p_start 0.1 120000 n;flags 0 1023;gps_here 0 1")
 _MAGIC = b"TGCK"
 _VERSION = 5
 CHECKPOINT_BYTES = (7 + 8 * (len(_CFG_F) + len(_ST_F) + 1 + 2 * len(_REC_F))

@@ -1823,8 +1823,8 @@ tg_status tg_column_to_bytes(tg_column *col, unsigned char *buf, size_t size)
 static int spec_num(const char **s, double *v)
 {
     const char *p = *s;
-    double mant = 0.0, scale = 1.0;
-    int neg = 0, frac = 0;
+    double mant = 0.0, scale = 1.0, p10 = 1.0;
+    int neg = 0, frac = 0, nfrac = 0, e = 0, eneg = 0, k;
     while (*p == ' ')
         p++;
     if (*p == '*') {
@@ -1841,10 +1841,35 @@ static int spec_num(const char **s, double *v)
             continue;
         }
         mant = mant * 10.0 + (double)(*p - '0');
-        if (frac)
+        if (frac) {
             scale *= 10.0;
+            nfrac++;
+        }
     }
-    *v = (neg ? -mant : mant) / scale;
+    if (*p != 'e') {
+        *v = (neg ? -mant : mant) / scale;
+        *s = p;
+        return 1;
+    }
+    /* an exponent: mant x 10^(e - digits after the point), rounded once (10^k
+     * is exact up to k = 22; the spec's larger powers have the mantissa 1,
+     * 1e25 = 1e22 x 10^3 rounded once: float()'s value) */
+    p++;
+    if (*p == '-' || *p == '+')
+        eneg = *p++ == '-';
+    for (; *p >= '0' && *p <= '9'; p++)
+        e = e * 10 + (*p - '0');
+    e = (eneg ? -e : e) - nfrac;
+    k = e < 0 ? -e : e;
+    if (k > 22) {
+        p10 = 1e22;
+        k -= 22;
+    }
+    for (; k > 0; k--)
+        p10 *= 10.0;
+    *v = e < 0 ? mant / p10 : mant * p10;
+    if (neg)
+        *v = -*v;
     *s = p;
     return 1;
 }
@@ -1991,9 +2016,9 @@ tg_status tg_column_from_bytes(tg_column *col, const unsigned char *blob, size_t
     i = 0;
 #define GET_ST(name) \
     v = f[k]; \
-    st_vals[i++] = v; \
     if (v == v && t0 == t0 && is_clk(#name)) \
         v = t0 + v; \
+    st_vals[i++] = v;   /* the value restored, as Python checks it */ \
     if (!set_num(&c.name, sizeof c.name, v)) \
         return TG_CHECKPOINT; \
     k++;
@@ -2005,9 +2030,9 @@ tg_status tg_column_from_bytes(tg_column *col, const unsigned char *blob, size_t
         i = 0;
 #define GET_R(name) \
         v = f[k]; \
-        rec_vals[r][i++] = v; \
         if (v == v && t0 == t0 && (strcmp(#name, "tsr") == 0 || strcmp(#name, "tr") == 0)) \
             v = t0 + v; \
+        rec_vals[r][i++] = v; \
         if (!set_num(&rc->name, sizeof rc->name, v)) \
             return TG_CHECKPOINT; \
         k++;
