@@ -800,7 +800,7 @@ def run_column(factory, stream, sigma_at=()):
                     run.levels.append((current[0], getattr(c, "level_p_pa", _NAN),
                                        getattr(c, "level_gph_m", _NAN)))
                     return
-                for x in lv[len(lv) - c.levels_new:]:   # once per feed: every level it crossed
+                for x in lv:        # once per feed: every level it crossed
                     run.levels.append((current[0], x[0], x[1]))
         col.on_event = record
     feed = col.feed

@@ -320,13 +320,12 @@ def test_levels_sparse_data_and_descent():
     # on_event once per feed, level_* the highest, col.levels every one of them
     assert [p for b, p in calls] == [85000.0]
     assert [b & EV_LEVEL for b, p in calls] == [EV_LEVEL]
-    assert col.levels_new == 3 and [x[0] for x in col.levels] == [100000.0, 92500.0, 85000.0]
+    assert [x[0] for x in col.levels] == [100000.0, 92500.0, 85000.0]
     col.feed(75000.0, 270.0, None, 900)      # confirms 700 hPa; a dip back below 700 hPa
     col.feed(65000.0, 268.0, None, 1000)     # ... and up again: not reported twice
     col.feed(64000.0, 268.0, None, 1010)
     assert [p for b, p in calls if b & EV_LEVEL] == [85000.0, 70000.0]
-    assert col.levels_new == 1 and [x[0] for x in col.levels] == [100000.0, 92500.0, 85000.0,
-                                                                  70000.0]
+    assert [x[0] for x in col.levels] == [70000.0]
 
 
 def test_first_reading_exactly_at_a_level_and_high_start():
@@ -1169,7 +1168,8 @@ def test_slow_log_without_time_with_big_real_steps_is_never_rejected():
 # ------------------------------------------------------------------ unit change mid-flight
 
 def test_unit_change_mid_flight_is_refused_with_a_pressure_message():
-    col = Column(45.0, 0.0)
+    levels = []
+    col = Column(45.0, 0.0, on_event=lambda c, b: levels.extend(c.levels) if b & EV_LEVEL else 0)
     reasons = []
     bits = 0
     for k in range(1300):
@@ -1188,7 +1188,8 @@ def test_unit_change_mid_flight_is_refused_with_a_pressure_message():
     assert not bits & EV_TROPOPAUSE
     # the levels at their heights: USSA76 (mpref); 500 hPa interpolated in ln p
     # across the 1000 gpm the refused readings left: measured 3.1 m, goal 5 m
-    for p, g, hm, tk in col.levels:
+    assert [x[0] for x in levels] == list(MANDATORY_PA[:5])     # 1000..500 hPa below 6500 gpm
+    for p, g, hm, tk in levels:
         assert abs(g - float(mpref.ref_h(p))) < 5.0, (p, g)
     # the 1000 gpm over the refused readings are one trapezoid in ln p: measured
     # 56 mm, goal 0.1 m
@@ -1254,7 +1255,8 @@ def test_raising_callback_leaves_the_reading_accepted():
         except RuntimeError:
             pass
     assert c.count == ref.count and c.smooth_gph_m == ref.smooth_gph_m
-    assert [x[0] for x in c.levels] == [x[0] for x in ref.levels] == [100000.0, 92500.0, 85000.0]
+    assert [x[0] for x in c.levels] == [x[0] for x in ref.levels]
+    assert c.level_p_pa == ref.level_p_pa and c._lvl == ref._lvl == 3
     assert all(b & EV_LEVEL for b in calls[1:])
 
 

@@ -453,6 +453,7 @@ SPIKE_K = 8
 """Multiple of the noise of a height difference (sqrt(2) noise_gph_m) that the
 "there and back" test adds to SPIKE_GPM."""
 _SPIKE_GPM = SPIKE_GPM
+_SPIKE_PRE = SPIKE_GPM - 1    # feed's pre-filter on a layer (C: on the gph difference, SPIKE_GPM)
 UNIT_FACTOR = 5
 """A run of readings whose pressure is off from the latest accepted reading by
 more than this factor (either way) and that contradicted it by rate is never
@@ -496,6 +497,7 @@ class _Rec:
         self.h_t = self.h_p = self.h_rh = self.w = nan
         self.gps_m = self.gps_diff_m = nan
         self.gps_here = False
+        self.big = False
         self.var_done = self.var_p = self.ct = self.tm2 = self.s2 = self.sum_rh = self.sum_p = 0.0
         self.slope = self.sum_hum = self.tvh = self.half = self.lay = 0.0
         self.p_start = nan
@@ -559,11 +561,11 @@ _RESTORE_COL = ("count 0 1073741823;rejected 0 1073741823;retracted 0 1073741823
                 "level_t_k 150 350 n;tropopause_t_k 150 350 n;_e_t 150 350 n;_tp_t 150 350 n;"
                 "_tb_st 0 4e11;_tb_th -1000 1000 n;_tp_th -1000 1000 n;_var_anchor 0 1e8;"
                 # the track: the step, s; gains 0..1; 4 sigma ratios; the rate per step
-                "_f_dt 1e-12 1e25 n;_f_a 0 1 n;_f_b 0 1 n;_f_cx 0 4 n;_f_cv 0 6 n;"
+                "_f_dt 0 1e25 n;_f_a 0 1 n;_f_b 0 1 n;_f_cx 0 4 n;_f_cv 0 6 n;"
                 "_f_v -1e12 1e12 n;_f_bv -1e28 0 n")
 _RESTORE_REC = ("p_pa 0.1 120000;t_k 150 350;rh_pct -3 103 n;tv_k 150 350;"
                 "gph_m -250000 250000;c -1 1;height_m -250000 250000 n;dt 0 1e25 n;"
-                "rdh -600000 600000 n;rdt 1e-12 1e25 n;tsr -4.62e18 4.62e18 n;"
+                "rdh -600000 600000 n;rdt 0 1e25 n;tsr -4.62e18 4.62e18 n;"
                 "tr -4.62e18 4.62e18 n;g_t -250000 250000 n;h_tm -300000 300000 n;"
                 "h_t 150 350 n;h_p 0.1 120000 n;h_rh -3 103 n;w 0 1 n;"
                 "gps_m -1000 100000 n;gps_diff_m -400000 400000 n;"
@@ -709,6 +711,7 @@ class Column:
         self._run_b = 0            # of which the latest ones in a row agree with _b
         self._why = None           # (reason, message number, arguments) of the latest contradiction
         self._run_why = None       # the same for the run's first reading
+        self._run_f = 0            # its pressure factor when it is a unit change (_jump), or 0
         self.count = 0
         self.rejected = 0
         self.retracted = 0
@@ -716,6 +719,8 @@ class Column:
         self._n_g = self._n_h = self._n_k1 = self._n_k2 = _NAN
         self._n_lo = self._n_hi = _NAN
         self._var_anchor = 0.0
+        self._lv = [_NAN] * 48       # gph, height, t_k of the latest EV_LEVEL's levels
+        self._lv_first = 0           # the index in MANDATORY_PA of the lowest of them
         self._reset_events()
 
     def _reset_events(self):
@@ -725,8 +730,7 @@ class Column:
                 setattr(self, n, _NAN)
         self.phase = PH_WAIT
         self._e_n = self._lvl = self._burst_n = self._tb_n = self._tp_state = 0
-        self.levels = []
-        self.levels_new = 0
+        self.levels_n = 0
         self._tb_st = 0.0
 
     # ------------------------------------------------------------------ feed
@@ -749,8 +753,7 @@ class Column:
         if ok and not self._run:
             # the "there and back" test, only on a step above its floor (it
             # needs one: rare)
-            d = n.gph_m - h.gph_m
-            if d > _SPIKE_GPM or d < -_SPIKE_GPM:
+            if n.big:
                 bits = self._spike(h, n)
                 if bits >= 0:
                     return bits
@@ -1055,6 +1058,9 @@ class Column:
         n.tvh = tvh
         n.half = half
         n.lay = tm2
+        # a step beyond the "there and back" test's floor (less 1 gpm, so that
+        # the rounding of gph differences never hides one: feed's pre-filter)
+        n.big = dz > _SPIKE_PRE or dz < -_SPIKE_PRE
         return why
 
     def _sigma(self, a, n):
@@ -1185,7 +1191,7 @@ class Column:
         _copy(k, n)
         cr = self._cr
         in_run = self._run and self._compute(cr, k) == 0
-        if agree_b and self._run_b and in_run and not self._jump(n) and (
+        if agree_b and self._run_b and in_run and not self._run_f and (
                 not ok or self._fit(self._b, m) < self._fit(self._h, n)):
             # two readings in a row agree with each other and with the reading
             # before the latest one, the first contradicted the latest and the
@@ -1207,6 +1213,7 @@ class Column:
             # confirmed yet (the first reading may be the bad one), afresh
             # from the start height
             self._run_why = why_h
+            self._run_f = self._jump(n)
             if self._has_b:
                 self._sigma(self._h, n)
                 new = n
@@ -1229,7 +1236,7 @@ class Column:
         if self._run < self.takeover_readings:
             self._why = self._run_why
             self._refuse()
-        f = self._jump(new)
+        f = self._run_f
         if f:
             # refused, with a message, for as long as it lasts (the run kept
             # one short of a takeover)
@@ -1339,11 +1346,12 @@ class Column:
         return self._tell(bits)
 
     def _jump(self, r):
-        # A run that contradicted the column by its rate, with reading r at a
-        # pressure a factor beyond UNIT_FACTOR from the latest accepted
+        # A run that contradicts the column by its rate, starting with reading
+        # r at a pressure a factor beyond UNIT_FACTOR from the latest accepted
         # reading's: no flight gets there between two readings, a unit
         # changed (hPa or kPa passed as Pa). The factor (latest over r), or 0
-        if not self._has_b or self._run_why is None or self._run_why[0] != "rate":
+        # (kept for the run: _run_f)
+        if not self._has_b or self._run_why[0] != "rate":
             return 0
         f = self._h.p_pa / r.p_pa
         if f > UNIT_FACTOR or f * UNIT_FACTOR < 1:
@@ -1584,7 +1592,7 @@ class Column:
         # below its highest point and sinking faster than burst_rate_gpm_s +
         # 4 sigma_v (sigma_v = cv/cx sigma_x of the filter's noise ratios)
         sx = self._sx(r)
-        if self._f_cx != self._f_cx:
+        if not self._f_cx > 0:      # (no step yet, or one too short to move the track)
             return False
         return hs < self.max_gph_m - self.burst_drop_gpm - sx and \
             self._f_v < self._f_bv - self._f_cv * (sx / self._f_cx)
@@ -1592,8 +1600,8 @@ class Column:
     def _climbing(self, r):
         # the track rises faster than launch_rate_gpm_s + 4 sigma_v (the
         # launch's and a new ascent's rate test, with time; False before the
-        # track has a step)
-        if self._f_cx != self._f_cx:
+        # track has a step, or with a step too short to move it: cx 0)
+        if not self._f_cx > 0:
             return False
         return self._f_v > self.launch_rate_gpm_s * self._f_dt + \
             self._f_cv * (self._sx(r) / self._f_cx)
@@ -1623,13 +1631,15 @@ class Column:
 
     def _levels(self, p0, p, g0, g, t0, t):
         # report every mandatory level in [p, p0) not reported yet (ascent only)
-        # (level_* the highest of them; every one appended to levels, and
-        # levels_new says how many this reading added)
+        # (level_* the highest of them; each one's gph, height and
+        # temperature into _lv, read as the property levels: no list or tuple
+        # built here)
         bits = 0
         lvl = self._lvl
         while lvl < 16 and MANDATORY_PA[lvl] >= p:
             if not bits:
-                self.levels_new = 0
+                self.levels_n = 0
+                self._lv_first = lvl
             lev = MANDATORY_PA[lvl]
             if p0 == p:
                 f = 0.0
@@ -1648,8 +1658,12 @@ class Column:
                 self.level_height_m = height_series(gl, self._pc, self._a_m)
             else:
                 self.level_height_m = _NAN
-            self.levels.append((lev, gl, self.level_height_m, self.level_t_k))
-            self.levels_new += 1
+            i = 3 * self.levels_n
+            lv = self._lv
+            lv[i] = gl
+            lv[i + 1] = self.level_height_m
+            lv[i + 2] = self.level_t_k
+            self.levels_n += 1
             lvl += 1
             self._lvl = lvl
             bits = EV_LEVEL
@@ -1716,6 +1730,16 @@ class Column:
         else:
             self._tp_state = 0
         return 0
+
+    @property
+    def levels(self):
+        """The mandatory levels the latest EV_LEVEL reported, lowest first: a
+        list of (p_pa, gph_m, height_m, t_k), built when read (level_* is the
+        last of them); empty before any and after a restore."""
+        lv = self._lv
+        k = self._lv_first
+        return [(MANDATORY_PA[k + j], lv[3 * j], lv[3 * j + 1], lv[3 * j + 2])
+                for j in range(self.levels_n)]
 
     # ------------------------------------------------------------ the latest reading
     @property
@@ -1997,6 +2021,13 @@ class Column:
             # a column holds the reading before the latest one from its second on
             raise CheckpointError("column checkpoint holds _has_b=%d with count=%d; not written "
                                   "by this tinygeo" % (col._has_b, col.count))
+        # ties: a step is positive, and the track's rate within 1e9 gpm/s
+        fdt = col._f_dt
+        if fdt == fdt and not (fdt > 0 and -1e9 * fdt <= col._f_v <= 1e9 * fdt) or \
+                not col._h.rdt > 0 and col._h.rdt == col._h.rdt or \
+                not col._b.rdt > 0 and col._b.rdt == col._b.rdt:
+            raise CheckpointError("column checkpoint holds a step of 0 s or a track rate beyond "
+                                  "1e9 gpm/s; not written by this tinygeo")
         if col.count:
             check_values(col._h, _RESTORE_REC, "column")
         if col._has_b:

@@ -309,6 +309,7 @@ static tg_status init_checked(tg_column *col, const tg_column_config *cfg, TG_FL
     n.cr = REC_OFF(5);
     n.run = n.run_b = 0;
     n.why = n.run_why = TG_REASON_NONE;
+    n.run_f = TG_L(0.0);
     n.count = n.rejected = n.retracted = 0;
     n.reason = TG_REASON_NONE;
     n.has_b = 0;
@@ -368,7 +369,7 @@ static void reset_events(tg_column *col)
     col->phase = TG_PH_WAIT;
     col->e_n = col->lvl = col->burst_n = col->tb_n = col->tp_state = 0;
     col->tb_st = TG_L(0.0);
-    col->levels_n = col->levels_new = 0;
+    col->levels_n = 0;
 }
 
 /* ------------------------------------------------------------ 1. check */
@@ -844,7 +845,7 @@ static TG_FLOAT clock_s(const tg_column *col, tg_time clk, const tg_rec *r)
 static int sinking(const tg_column *col, const tg_rec *r, TG_FLOAT hs)
 {
     TG_FLOAT s = sx(col, r);
-    if (col->f_cx != col->f_cx)
+    if (!(col->f_cx > TG_L(0.0)))   /* no step yet, or one too short to move the track */
         return 0;
     return hs < col->max_gph_m - col->burst_drop_gpm - s
            && col->f_v < col->f_bv - col->f_cv * (s / col->f_cx);
@@ -854,7 +855,7 @@ static int sinking(const tg_column *col, const tg_rec *r, TG_FLOAT hs)
  * sigma_v (with time; 0 before the track has a step) */
 static int climbing(const tg_column *col, const tg_rec *r)
 {
-    if (col->f_cx != col->f_cx)
+    if (!(col->f_cx > TG_L(0.0)))   /* no step yet, or one too short to move the track */
         return 0;
     return col->f_v > col->launch_rate_gpm_s * col->f_dt + col->f_cv * (sx(col, r) / col->f_cx);
 }
@@ -966,7 +967,7 @@ static int levels(tg_column *col, TG_FLOAT p0, TG_FLOAT p, TG_FLOAT g0, TG_FLOAT
     while (lvl < 16 && MANDATORY_PA[lvl] >= p) {
         TG_FLOAT lev, f, gl, *lv;
         if (!bits)
-            col->levels_new = 0;
+            col->levels_n = 0;
         lev = MANDATORY_PA[lvl];
         if (p0 == p)
             f = TG_L(0.0);
@@ -992,7 +993,6 @@ static int levels(tg_column *col, TG_FLOAT p0, TG_FLOAT p, TG_FLOAT g0, TG_FLOAT
         lv[2] = col->level_height_m;
         lv[3] = col->level_t_k;
         col->levels_n += 1;
-        col->levels_new += 1;
         lvl += 1;
         col->lvl = lvl;
         bits = TG_EV_LEVEL;
@@ -1236,9 +1236,10 @@ static int replace(tg_column *col, tg_rec *m)
     return 0;
 }
 
-/* Column._jump: a run that contradicted the column by its rate, with reading
- * r at a pressure a factor beyond UNIT_FACTOR from the latest accepted
- * reading's (a unit changed): the factor (latest over r), else 0 */
+/* Column._jump: a run that contradicts the column by its rate, starting
+ * with reading r at a pressure a factor beyond UNIT_FACTOR from the latest
+ * accepted reading's (a unit changed): the factor (latest over r), else 0
+ * (kept for the run: run_f) */
 static TG_FLOAT jump(const tg_column *col, const tg_rec *r)
 {
     TG_FLOAT f;
@@ -1293,7 +1294,7 @@ static int recover(tg_column *col, tg_rec *n, int ok)
             return -1;
         in_run = w == 0;
     }
-    if (agree_b && col->run_b && in_run && jump(col, n) == TG_L(0.0)
+    if (agree_b && col->run_b && in_run && col->run_f == TG_L(0.0)
         && (!ok || fit(col, B(col), m) < fit(col, H(col), n))) {
         /* two readings in a row agree with each other and with the reading
          * before the latest one, the first contradicted the latest and the
@@ -1316,6 +1317,7 @@ static int recover(tg_column *col, tg_rec *n, int ok)
          * confirmed yet (the first reading may be the bad one), afresh
          * from the start height */
         col->run_why = why_h;
+        col->run_f = jump(col, n);
         if (col->has_b) {
             sigma(col, H(col), n);
             new_i = col->n;
@@ -1342,7 +1344,7 @@ static int recover(tg_column *col, tg_rec *n, int ok)
         col->why = col->run_why;
         return refuse(col);
     }
-    if (jump(col, REC(col, new_i)) != TG_L(0.0)) {
+    if (col->run_f != TG_L(0.0)) {
         /* refused for as long as it lasts (the run kept one short of a
          * takeover); Python's message names the factor and the likely unit */
         col->run = col->takeover_readings - 1;
@@ -1495,7 +1497,10 @@ tg_status tg_column_feed(tg_column *col, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_F
     if (TG_UNLIKELY(k < 0))
         goto rejected;
     if (TG_LIKELY(k == 0 && !col->run)) {
-        /* the "there and back" test, only on a step above its floor */
+        /* the "there and back" test, only on a step above its floor (Python
+         * tests compute's layer against SPIKE_GPM - 1 (n.big: no float built
+         * in feed), C the gph difference against SPIKE_GPM: either passes
+         * every step spike() can retract, |gph(h) - gph(n)| > T >= SPIKE_GPM) */
         if (TG_UNLIKELY(TG_FABS(n->gph_m - h->gph_m) > SPIKE_GPM)) {
             k = spike(col, h, n);
             if (k != -2) {
@@ -2049,6 +2054,14 @@ tg_status tg_column_from_bytes(tg_column *col, const unsigned char *blob, size_t
         return TG_CHECKPOINT;
     if (c.has_b != (c.count >= 2))   /* a column holds the reading before the latest from its 2nd on */
         return TG_CHECKPOINT;
+    /* ties: a step is positive, and the track's rate within 1e9 gpm/s */
+    {
+        double fdt = (double)c.f_dt, fv = (double)c.f_v;
+        double rh = (double)REC(&c, c.h)->rdt, rb = (double)REC(&c, c.b)->rdt;
+        if ((fdt == fdt && !(fdt > 0.0 && -1e9 * fdt <= fv && fv <= 1e9 * fdt))
+            || (!(rh > 0.0) && rh == rh) || (!(rb > 0.0) && rb == rb))
+            return TG_CHECKPOINT;
+    }
     if (c.count && !check_values(TGPY_COLUMN__RESTORE_REC, REC_NAMES, rec_vals[0]))
         return TG_CHECKPOINT;
     if (c.has_b && !check_values(TGPY_COLUMN__RESTORE_REC, REC_NAMES, rec_vals[1]))

@@ -192,7 +192,7 @@ struct tg_column;
 /* on_event(column, bits, ctx): called once per feed with events, after the
  * reading is fully committed (Python: on_event(column, bits); ctx is C's
  * closure). A reading that crosses several mandatory levels sets level_* to
- * the highest; levels[levels_n - levels_new .. levels_n - 1] are all of them
+ * the highest; levels[0 .. levels_n - 1] are all of them, lowest first
  * (tg_column.levels). */
 typedef void (*tg_column_event_fn)(struct tg_column *col, int bits, void *ctx);
 
@@ -290,11 +290,11 @@ typedef struct tg_column {
     TG_FLOAT tp_g, tp_top, tp_th, tp_p, tp_t;
     tg_time max_clk, fl_clk, fl_end, land_end, tb_c0, tb_c1, tp_clk;
     TG_FLOAT n_g, n_h, n_k1, n_k2, n_lo, n_hi, var_anchor;
-    /* the mandatory levels reported (Python: the list levels of (p_pa, gph_m,
-     * height_m, t_k)), levels_n of them, the latest EV_LEVEL's levels_new the
-     * last ones; not in checkpoints (empty after a restore) */
+    /* the mandatory levels of the latest EV_LEVEL, lowest first (Python: the
+     * list levels of (p_pa, gph_m, height_m, t_k)), levels_n of them; not in
+     * checkpoints (none after a restore) */
     TG_FLOAT levels[16][4];
-    int32_t levels_n, levels_new;
+    int32_t levels_n;
     /* the records: at byte offset h of rec the latest accepted reading, at
      * b the one before, at n, m and k scratch, at cr the recovery run's latest
      * reading (offsets, i * sizeof(tg_rec), not pointers: the column may be
@@ -304,6 +304,7 @@ typedef struct tg_column {
     /* the recovery memory (not in checkpoints) */
     int32_t run, run_b;
     tg_reason why, run_why;           /* Python: _why, _run_why (C keeps the reason only) */
+    TG_FLOAT run_f;                   /* Python: _run_f */
 } tg_column;
 
 void tg_column_config_defaults(tg_column_config *cfg, TG_FLOAT lat_deg);

@@ -529,8 +529,8 @@ def setup_from_site(site, a, meta):
 class LevelTap:
     """``on_event`` hook of a host column: collects every mandatory level a
     reading crossed (the column calls it once per feed, after the reading is
-    committed; col.levels ends with the col.levels_new levels of this
-    reading, level_* names the highest). The caller empties ``levels``
+    committed; col.levels holds every level of this reading, lowest first,
+    level_* names the highest). The caller empties ``levels``
     before each feed."""
 
     def __init__(self):
@@ -538,7 +538,7 @@ class LevelTap:
 
     def __call__(self, col, bits):
         if bits & 1:     # EV_LEVEL (tinygeo.record.EV_LEVEL)
-            self.levels.extend(col.levels[len(col.levels) - col.levels_new:])
+            self.levels.extend(col.levels)
 
 
 def new_column(setup):
