@@ -1287,7 +1287,7 @@ class Column:
             # confirmed yet (the first reading may be the bad one), afresh
             # from the start height
             self._run_why = why_h
-            self._run_f = self._jump(n)
+            self._run_f = self._jump(n, why_h)
             if self._has_b:
                 self._sigma(self._h, n)
                 new = n
@@ -1419,13 +1419,13 @@ class Column:
         self._accept(m, 0)
         return self._tell(bits)
 
-    def _jump(self, r):
+    def _jump(self, r, why):
         # A run that contradicts the column by its rate, starting with reading
         # r at a pressure a factor beyond UNIT_FACTOR from the latest accepted
         # reading's: no flight gets there between two readings, a unit
         # changed (hPa or kPa passed as Pa). The factor (latest over r), or 0
-        # (kept for the run: _run_f)
-        if not self._has_b or self._run_why[0] != "rate":
+        # (kept for the run: _run_f); why: how r contradicts the latest
+        if not self._has_b or why is None or why[0] != "rate":
             return 0
         f = self._h.p_pa / r.p_pa
         if f > UNIT_FACTOR or f * UNIT_FACTOR < 1:

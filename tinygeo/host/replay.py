@@ -316,7 +316,7 @@ def _nan(x):
 
 # --- message tidying ---------------------------------------------------------------
 _OPTION_HINTS = (
-    ("(max_t_step_k=None: no check)",
+    ("(max_t_step_k=None turns this check off)",
      "(limits: --max-t-step, --max-t-rate, --max-t-gradient)"),
     ("beyond max_rate_m_s=", "beyond --max-rate "),
     ("(start_guard_m=None: no guard)", "(--start-height)"),
