@@ -69,10 +69,11 @@ def ascents(atm, flight, seeds):
     print("1. Ascents to 35 000 gpm at 5 gpm/s, %d seeds (one run per seed and column)" % len(seeds))
     lv_rows = {}
     for name, sensor, kw in CONFIGS:
-        ev, rej, lv = [], [], []
+        ev, rej, lv, cols = [], [], [], []
         for seed in seeds:
             st = S.make_stream(flight, atm, seed, **sensor)
             run = S.run_column(factory(**kw), st)
+            cols.append(run.column)
             ev.append(S.event_scores(run, st))
             rej.append(S.clean_rejects(run, st))
             lv.append(S.level_scores(run, st))
@@ -102,6 +103,8 @@ def ascents(atm, flight, seeds):
                 if k not in ("n_clean", "gph_min", "gph_max"):
                     reasons[k] = reasons.get(k, 0) + v
         nrej = sum(reasons.values())
+        print("    noise-only readings retracted (there and back, FL_REPLACED): %d of %d"
+              % (sum(getattr(c, "retracted", 0) for c in cols), nclean))
         print("    noise-only readings rejected: %d of %d (%.2f %%) %s; true gph of the rejected %s..%s gpm"
               % (nrej, nclean, 100.0 * nrej / nclean, reasons or "",
                  "%.0f" % min((r["gph_min"] for r in rej if r["gph_min"] == r["gph_min"]), default=math.nan),
@@ -141,10 +144,11 @@ def floats(atm, seeds, float_s):
     fl = S.float_flight(atm, float_s=float_s)
     print("2. Floats: %.1f h at 32 000 gpm (+-30 gpm, 15 min wave), then cut-down; 2 Pa sensor, "
           "Column(sigma_p_pa=2); %d seeds" % (float_s / 3600.0, len(seeds)))
-    ev, rej = [], []
+    ev, rej, cols = [], [], []
     for seed in seeds:
         st = S.make_stream(fl, atm, seed, sigma_p_pa=2.0, sigma_t_k=0.2)
         run = S.run_column(factory(sigma_p_pa=2.0), st)
+        cols.append(run.column)
         ev.append(S.event_scores(run, st))
         rej.append(S.clean_rejects(run, st))
     n = len(seeds)
@@ -161,7 +165,21 @@ def floats(atm, seeds, float_s):
                                   "%d runs with one, float_delay_s %s" % (
                                       sum(1 for x in nf if x), rng([e["float_delay_s"] for e in ev]))))
     nrej = sum(sum(v for k, v in r.items() if k not in ("n_clean", "gph_min", "gph_max")) for r in rej)
-    print("    noise-only readings rejected: %d of %d" % (nrej, sum(r["n_clean"] for r in rej)))
+    print("    noise-only readings rejected: %d of %d; retracted (there and back): %d"
+          % (nrej, sum(r["n_clean"] for r in rej), sum(getattr(c, "retracted", 0) for c in cols)))
+    # a float high up with a slow wave, the defaults' 10 Pa sensor (noise 140 m a reading)
+    fw = S.float_flight(atm, rate_m_s=5.0, float_gph_m=36000.0, float_s=float_s, wave_m=300.0,
+                        wave_period_s=3600.0, ground_s=60.0)
+    ev, cols = [], []
+    for seed in seeds:
+        st = S.make_stream(fw, atm, seed, sigma_p_pa=10.0, humidity=False)
+        run = S.run_column(factory(), st)
+        cols.append(run.column)
+        ev.append(S.event_scores(run, st))
+    print("    %.1f h at 36 000 gpm, +-300 gpm wave of 1 h, 10 Pa sensor, defaults: float events per run %s; "
+          "bursts before the cut-down %d; readings retracted (there and back) %d"
+          % (float_s / 3600.0, sorted(set(e["n_float"] for e in ev)),
+             sum(1 for e in ev if e["n_burst_before_top"]), sum(c.retracted for c in cols)))
 
 
 def fault_table(atm, flight, seeds):

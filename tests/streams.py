@@ -795,8 +795,13 @@ def run_column(factory, stream, sigma_at=()):
     if via_callback:
         def record(c, bits):
             if bits & ev_level:
-                run.levels.append((current[0], getattr(c, "level_p_pa", _NAN),
-                                   getattr(c, "level_gph_m", _NAN)))
+                lv = getattr(c, "levels", None)
+                if lv is None:      # a column that calls once per level
+                    run.levels.append((current[0], getattr(c, "level_p_pa", _NAN),
+                                       getattr(c, "level_gph_m", _NAN)))
+                    return
+                for x in lv:        # once per feed: every level it crossed
+                    run.levels.append((current[0], x[0], x[1]))
         col.on_event = record
     feed = col.feed
     for k, r in enumerate(stream.readings):

@@ -255,7 +255,8 @@ def _float32_device_table(log, out_path):
     r32 = floatemu.r32
     col = colmod.Column(r32(47.3), r32(420.0))
     levels = []
-    col.on_event = lambda c, bits: levels.append(c.level_p_pa) if bits & record.EV_LEVEL else None
+    col.on_event = lambda c, bits: levels.extend(x[0] for x in c.levels) \
+        if bits & record.EV_LEVEL else None
     rows = 0
     with open(out_path, "w") as out:
         out.write(record.MAGIC + "\n" + record.site_line(col) + "\n")

@@ -128,7 +128,7 @@ def check_values(obj, spec, what):
 
     ``spec``: text of ``;``-separated entries ``name lo hi`` or
     ``name lo hi n``: attribute ``name`` must be a number within lo..hi
-    (``*`` for no bound), or nan where the entry ends in ``n``. An int
+    (``*`` for no bound), or nan (or None) where the entry ends in ``n``. An int
     attribute is checked the same way (never nan). Every float not named
     must still be finite or nan (an inf is never a state)."""
     for entry in spec.split(";"):
@@ -136,7 +136,7 @@ def check_values(obj, spec, what):
         if not w:
             continue
         v = getattr(obj, w[0])
-        if v != v:
+        if v is None or v != v:     # (None: a time stamp not given)
             if len(w) > 3:
                 continue
             raise CheckpointError("%s checkpoint holds %s=nan, which must be a number; not "

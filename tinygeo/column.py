@@ -43,7 +43,7 @@ float_band_gpm=150, landing_s=60, landing_band_gpm=10,
 tropopause_max_p_pa=50000, tropopause_layer_gpm=100, rh_tol_pct=3,
 takeover_readings=3, track_sigma=True, on_event=None,
 geoid_undulation_m=None, max_t_step_k=3, max_t_rate_k_s=1,
-max_t_gradient_k_gpm=0.1)``
+max_t_gradient_k_gpm=0.1, launch_rate_gpm_s=0.5)``
 
 Site and model
 - lat_deg: geodetic latitude, degrees, -90..90 (kept fixed: the latitude
@@ -103,6 +103,14 @@ Events (see "Events")
 - smooth_s: time constant of the height track, s, 1..10000 (default 20).
 - launch_gpm: rise of the track above its lowest point while waiting,
   0..10000 gpm (default 20), beyond the noise.
+- launch_rate_gpm_s: with time stamps, the track must also rise faster than
+  this, beyond its rate noise, for a launch and for a new ascent after a
+  float, gpm/s, 0..1000 (default 0.5: balloons ascend at 3-6 m/s, common
+  practice; the weather moves the pressure altitude of a pad by a few gpm
+  an hour, 1 hPa/h is 0.0024 gpm/s near the ground. 0.5 rather than 1: the
+  track's rate lags the climb, at 1 gpm/s a 5 m/s launch was reported 7 s
+  later than by the height alone, at 0.5 within 1 s of it; measured with
+  tests/streams.py's float flight).
 - burst_drop_gpm, burst_rate_gpm_s, burst_readings: the descent is confirmed
   when burst_readings confirmed readings in a row (1..100000) find the track
   burst_drop_gpm (0..100000) below its highest point and sinking faster than
@@ -119,15 +127,19 @@ Events (see "Events")
   and above this pressure (0..120000 Pa; 500 hPa by default, common
   practice), on the profile averaged over layers of tropopause_layer_gpm
   (1..5000 gpm; default 100).
-- on_event: callable(column, bits) called after a reading whose feed raised
-  events (see EV_LEVEL for readings crossing several levels).
+- on_event: callable(column, bits), called once per feed that raised events,
+  after the reading is fully committed (every attribute, levels included,
+  is the column's state after the feed; a checkpoint taken inside it is the
+  one taken after the feed). An exception it raises propagates out of feed
+  with the reading accepted and the column consistent.
 - track_sigma: False skips the uncertainty bookkeeping (sigma_* are nan).
 
 ``feed(p_pa, t_k, rh_pct=None, time_s=None, gps_m=None) -> int`` adds one
 reading and returns the bits of the events it caused (0 = none).
 p_pa: pressure, Pa, 0.1..120000; t_k: air temperature, K, 150..350;
 rh_pct: relative humidity, %, or None; time_s: a time stamp in units of
-time_unit_s, any origin (int or float), or None; gps_m: GPS height, m,
+time_unit_s, any origin (int or float) within -2**62..2**62 (beyond:
+'time'), or None; gps_m: GPS height, m,
 -1000..100000 above mean sea level (ellipsoidal if geoid_undulation_m is
 set), nan for "no fix", or None. A rejected reading raises
 tinygeo.errors.ReadingError with ``.reason`` one of 'number', 'pressure',
@@ -157,7 +169,10 @@ Attributes (nan where not known yet)
     began (set with EV_FLOAT).
   landing_time_s: the time of the reading that confirmed the landing.
   level_p_pa, level_gph_m, level_height_m, level_t_k: the mandatory level of
-    the latest EV_LEVEL.
+    the latest EV_LEVEL (the highest, when one reading crossed several).
+  levels, levels_n: every mandatory level the latest EV_LEVEL reported,
+    lowest first, as a list of (p_pa, gph_m, height_m, t_k) built when read,
+    and how many (not in checkpoints: empty after a restore).
   tropopause_p_pa, tropopause_gph_m, tropopause_t_k, tropopause_time_s:
     the tropopause level itself (set with EV_TROPOPAUSE, which fires 2 km
     above it, where the definition is confirmed).
@@ -174,12 +189,14 @@ downwards), FL_SAME_P 16 (pressure repeated: nothing added), FL_NO_GPS 32
 (gps_m was nan: no fix, ignored), FL_CAPPED 64 (the held mixing ratio was
 above saturation at this reading's temperature and was capped),
 FL_REPLACED 128 (this reading replaced the previous one, which the readings
-contradicted), FL_TAKEOVER 256 (the column followed a run of readings that
+contradicted or the "there and back" test retracted; or the column restarted
+from the reading before it, the first reading retracted), FL_TAKEOVER 256 (the column followed a run of readings that
 contradicted it; FL_TAKEOVER alone when it restarted from them),
 FL_SAME_TIME 512 (time_s repeated the previous stamp: no rate check for
 this step).
 
 Methods: ``reanchor_gps()``, ``to_bytes()``, ``Column.from_bytes(blob)``.
+Constants: SPIKE_GPM, SPIKE_K ("there and back"), UNIT_FACTOR (unit change).
 
 Integration
 -----------
@@ -290,15 +307,54 @@ allow) it integrates on through them. A reading that agrees with the latest
 one and is not taken by the run is accepted, and the run is forgotten. So no
 single bad reading, the first included, and no single wrong time stamp
 locks the column: it costs at most takeover_readings + 1 readings, and the
-heights after it are those of a column that never saw it (to a few mm: the
-skipped reading's layer is integrated as one; bench/montecarlo.py and
-tests/test_column_streams.py measure it at every position). A rejected
+heights after it are those of a column that never saw it (to a few mm at
+1 Hz: the skipped reading's layer is integrated as one; bench/montecarlo.py
+and tests/test_column_streams.py measure it at every position; 10 Hz on a
+1 s clock, 10 Pa, a glitch anywhere after the first reading: within 5 cm).
+A bad first reading is the exception: the column restarts from a later
+reading, whose own noise then places the flight (sqrt(2) noise_gph_m, 1.1 m
+at the ground for 10 Pa; measured 0.87 m in that coarse-clock stream). A rejected
 reading changes nothing of the results, only ``rejected`` and the recovery
 memory (the remembered run, not saved in checkpoints); a reading of a run
 that is followed was rejected when it came and counts in both ``rejected``
 and ``count``. Because the latest reading may still be retracted, events are
 decided on confirmed readings: a reading is confirmed when the next reading
 is accepted on top of it, so events come one reading late.
+
+There and back (no clock needed): a spike whose implied speed stays under
+max_rate_m_s (+8.2 hPa at 300 hPa is -176 gpm and +185 gpm back, 1 s apart),
+and any glitch where no rate check is possible (time_s None, a repeated
+stamp: FL_SAME_TIME), is found on heights alone. With b the reading before
+the latest one h and n the new reading, T = SPIKE_GPM + SPIKE_K sqrt(2)
+noise_gph_m (the larger noise of b and n; 30 gpm + 8 sqrt(2) x: 39 gpm at
+the ground for 10 Pa of noise, 56 gpm at 300 hPa, 790 gpm at 10 hPa): h is
+retracted (FL_REPLACED on n, ``retracted`` and ``rejected`` count it) when
+n agrees with b within T and h lies beyond T from both, on one side. K = 8
+on the noise of a difference of two readings: noise alone gets there with a
+probability of about 1e-15 a reading (bench/montecarlo.py: none in 211 340
+noise-only readings of 20 ascents, for 10 and 2 Pa sensors, none in 20 floats
+of 6 h at 32 km and 20 at 36 km with a +-300 gpm wave). The floor, 30 gpm,
+is real motion: out by 30 gpm and back within two readings needs a speed of
+30 m/s one way and then the other within one reading interval, which a
+balloon at 1 Hz never does (turbulence moves it by a few m/s; a burst
+starts a fall, not a return). A slower log (minutes between readings) may
+have such a real turning point: the test then retracts that reading only,
+never rejects one, and the heights stay right (the sum telescopes in ln p;
+tests/test_column.py feeds one). The first reading has no reading before
+it: while the column holds two readings, the third retracts the first when
+the second and third agree within T and the first lies beyond T from both;
+the column restarts from the second (placed at start_height_m, or from the
+anchor), FL_REPLACED on the third (a first reading 3-6 % off, inside the
+start guard, without a usable clock: the whole flight was 500 m off).
+
+A unit change mid-flight (hPa or kPa passed as Pa from some reading on) is
+a run that agrees with itself and contradicts the column; it is never
+followed: a run that contradicted the column by rate, at a pressure beyond
+UNIT_FACTOR = 5 (either way) from the latest accepted reading's, is refused
+('pressure', the message naming the factor and the likely unit) for as long
+as it lasts, and it retracts nothing (a factor 5 is about 11 km: no balloon
+moves that far between two readings whose rate check failed). When the
+pressure comes back in Pa the column goes on.
 
 Time: stamps are kept relative to the first one (time_origin), and an int
 stamp is subtracted as an int before it becomes a float, so tick counters
@@ -321,12 +377,18 @@ smooth_rate_gpm_s, O(1) memory; a step within 5 % of the one its gains were
 made for keeps them (clock jitter). Without time stamps each reading counts as
 one second. Its noise, sigma_x and sigma_v, scales every event threshold.
 EV_LAUNCH 16: in PH_WAIT, the track rises launch_gpm + 4 sigma_x above its
-  lowest point -> PH_ASCENT (launch_time_s).
+  lowest point and, with time stamps, rises faster than launch_rate_gpm_s +
+  4 sigma_v -> PH_ASCENT (launch_time_s). The weather on the pad moves the
+  track too (1 hPa/h: 26 gpm in 3 h) but at a few thousandths of a gpm/s.
 EV_FLOAT 32: in PH_ASCENT, the track stays within float_band_gpm + 4 sigma_x
   of one height for float_s seconds -> PH_FLOAT (float_gph_m, float_time_s,
-  where the float began). In PH_FLOAT a rise above the band is a new ascent
-  (PH_ASCENT, no event). Floats are a normal flight for zero-pressure and
-  superpressure balloons.
+  where the float began). In PH_FLOAT the float's top rises with the track
+  wherever the track passes it slower than launch_rate_gpm_s + 4 sigma_v (a
+  wave's crest), and a new ascent (PH_ASCENT, no event) needs the track above
+  the top's band and rising faster than that; without time stamps, any rise
+  above the band. So one float is one event however it oscillates, and
+  leaving it needs more than its own observed excursion. Floats are a normal
+  flight for zero-pressure and superpressure balloons.
 EV_BURST 4: in PH_ASCENT or PH_FLOAT (a cut-down after a float is a burst),
   burst_readings confirmed readings in a row find the track burst_drop_gpm
   + 4 sigma_x below its highest point and sinking faster than
@@ -340,8 +402,8 @@ EV_LEVEL 1: a WMO mandatory isobaric level (MANDATORY_PA) was crossed
   its gph, height and temperature are interpolated linearly in ln p. Each
   level once; a level at or below the start is never reported, except one
   exactly equal to the first reading's pressure. If one reading crosses
-  several levels, on_event is first called with EV_LEVEL alone for each lower
-  one (level_* set to it), then with the reading's bits for the highest.
+  several levels, level_* is the highest and ``levels`` lists them all;
+  on_event is called once, after the reading is committed.
 EV_TROPOPAUSE 2: the first tropopause by the WMO lapse-rate definition: "the
   lowest level at which the lapse rate decreases to 2 K/km or less, provided
   also the average lapse rate between this level and all higher levels
@@ -373,9 +435,21 @@ look-back, the event state) in the frame of tinygeo.checkpoint (magic
 b"TGCK", version, length, doubles and int32s, CRC-32); CHECKPOINT_BYTES is
 the blob size. from_bytes refuses a blob whose CRC fails, of another
 version or length, and one holding a value no column can hold (any inf; a
-nan where a value must be; a value outside its range; counters beyond
-COUNT_MAX). The recovery memory (a run of contradicting readings) is not
-saved: after a restore the column starts it afresh. on_event is not stored.
+nan where a value must be; a value outside its range: every restored
+field has one, _RESTORE_COL and _RESTORE_REC, from the readings' ranges, the
+settings' and 2**30 readings; counters beyond COUNT_MAX; _has_b not count
+>= 2; a step of 0 s; a track rate beyond 1e9 gpm/s), so a restored column
+computes only finite results (tests/colhostile.py sets every field to 0,
+-0.0, +-1e300, ints 0 and +-(2**31-1)). The recovery memory (a run of
+contradicting readings) is not saved: after a restore the column starts it
+afresh. A checkpoint taken while a run is pending can therefore continue
+differently from the live column for one reading: the restored column
+rejects the reading that would have retracted the bad one and keeps it one
+reading longer. Measured on a 2 s ascent with 12 faults (a checkpoint after
+every reading, 2180 positions): 2 positions diverged, each for one row
+(18 m and 337 m: the bad reading held one reading longer), then within 1 cm
+(3.9 mm and 9.9 mm at the end of the flight); every other position
+continues bit-identically. on_event and levels are not stored.
 """
 import math
 
@@ -439,13 +513,27 @@ small-int limit on 32-bit boards, so a counter never allocates; 3.4 years of
 10 Hz readings)."""
 
 _NAN = float("nan")
+_TS_POS = 1 << 62          # time stamps beyond +-2**62 (int or float) are refused ('time')
+_TS_NEG = -_TS_POS
 # Integral constants are ints: free on MicroPython (a float constant is a heap
 # object for the module's lifetime); every operation gives the same double.
 _NODE_D = 1500             # m between the nodes of the height quadratic
 _NODE_W = 3000             # gpm: the quadratic is used within +-_NODE_W of its node
 _NODE_W2 = 6000            # gpm: and gives the start of the next node's Newton step within it
 _RH_SLOPE_MIN = 1          # %RH below which dTv/dRH is held, not recomputed
+SPIKE_GPM = 30
+"""The floor of the "there and back" test, gpm (see "Checks and recovery")."""
+SPIKE_K = 8
+"""Multiple of the noise of a height difference (sqrt(2) noise_gph_m) that the
+"there and back" test adds to SPIKE_GPM."""
+_SPIKE_GPM = SPIKE_GPM
+_SPIKE_PRE = SPIKE_GPM - 1    # feed's pre-filter on a layer (C: on the gph difference, SPIKE_GPM)
+UNIT_FACTOR = 5
+"""A run of readings whose pressure is off from the latest accepted reading by
+more than this factor (either way) and that contradicted it by rate is never
+followed (see "Checks and recovery")."""
 _SQRT2 = 1.4142135623730951
+_SPIKE_KN = SPIKE_K * _SQRT2      # 8 sqrt(2): the noise of a difference of two heights
 # dTv/dw / T = 1/eps - 1 at w = 0 (from Tv = T (1 + w/eps)/(1 + w)), times
 # 1/sqrt(3) (the RMS error bound of a mixing ratio known to lie in [0, w_s]);
 # see "Humidity" and "Uncertainty"
@@ -483,6 +571,7 @@ class _Rec:
         self.h_t = self.h_p = self.h_rh = self.w = nan
         self.gps_m = self.gps_diff_m = nan
         self.gps_here = False
+        self.big = False
         self.var_done = self.var_p = self.ct = self.tm2 = self.s2 = self.sum_rh = self.sum_p = 0.0
         self.slope = self.sum_hum = self.tvh = self.half = self.lay = 0.0
         self.p_start = nan
@@ -501,7 +590,7 @@ _CFG_F = ("lat_deg", "start_height_m", "anchor_p_pa", "sigma_p_pa", "sigma_t_k",
           "time_unit_s", "smooth_s", "launch_gpm", "burst_drop_gpm", "burst_rate_gpm_s",
           "float_s", "float_band_gpm", "landing_s", "landing_band_gpm", "tropopause_max_p_pa",
           "tropopause_layer_gpm", "rh_tol_pct", "geoid_undulation_m", "max_t_step_k",
-          "max_t_rate_k_s", "max_t_gradient_k_gpm")
+          "max_t_rate_k_s", "max_t_gradient_k_gpm", "launch_rate_gpm_s")
 _CFG_I = ("ellipsoid_code", "ice", "dry_fallback", "burst_readings", "takeover_readings",
           "track_sigma")
 # the column's event state; the clocks (time stamps as given, or confirmed
@@ -523,22 +612,48 @@ _ST_I = ("count", "rejected", "retracted", "phase", "_has_b", "_e_n", "_lvl", "_
 # "n" where nan means "not known yet"); kept as text: read only on a restore
 _RESTORE_COL = ("count 0 1073741823;rejected 0 1073741823;retracted 0 1073741823;phase 0 4;"
                 "_has_b 0 1;_e_n 0 1073741823;_lvl 0 16;_burst_n 0 100000;_tb_n 0 1073741823;"
-                "_tp_state 0 3;"
+                "_tp_state 0 3;_t0_int 0 1;_t0_hi -1073741824 1073741823;"
+                # heights (gpm; -250000..250000 as a record's), bands (sigma_p_pa 10 kPa at
+                # 0.1 Pa is 1e9 gpm of noise), times (s: a stamp of 2**63 units of 1e6 s)
                 "smooth_gph_m -250000 250000 n;max_gph_m -250000 250000 n;"
-                "burst_p_pa 0.1 120000 n;level_p_pa 1000 100000 n;level_t_k 150 350 n;"
-                "tropopause_p_pa 0 120000 n;tropopause_t_k 150 350 n;_var_anchor 0 *;"
-                "_f_dt 0 * n;_f_lo 0 * n;_f_hi 0 * n;_f_a 0 1 n;_f_cx 0 * n;_f_cv 0 * n")
+                "burst_gph_m -250000 250000 n;float_gph_m -250000 250000 n;"
+                "level_gph_m -250000 250000 n;level_height_m -300000 300000 n;"
+                "tropopause_gph_m -250000 250000 n;_e_g -250000 250000 n;_min_g -250000 250000 n;"
+                "_fl_g -250000 250000 n;_tb_g0 -250000 250000 n;_tb_g1 -250000 250000 n;"
+                "_tp_g -250000 250000 n;_tb_top -260000 260000 n;_tp_top -260000 260000 n;"
+                "_n_g -250000 250000 n;_n_lo -253000 253000 n;_n_hi -253000 253000 n;"
+                "_n_h -300000 300000 n;_n_k1 0.5 2 n;_n_k2 -0.001 0.001 n;"
+                "_launch_line -1e12 1e12 n;_fl_lo -1e12 1e12 n;_fl_hi -1e12 1e12 n;"
+                "_land_lo -1e12 1e12 n;_land_hi -1e12 1e12 n;"
+                "launch_time_s -1e25 1e25 n;burst_time_s -1e25 1e25 n;float_time_s -1e25 1e25 n;"
+                "landing_time_s -1e25 1e25 n;tropopause_time_s -1e25 1e25 n;"
+                "_max_clk -2e19 2e19 n;_fl_clk -2e19 2e19 n;_fl_end -2e19 2e19 n;"
+                "_land_end -2e19 2e19 n;_tb_c0 -2e19 2e19 n;_tb_c1 -2e19 2e19 n;"
+                "_tp_clk -2e19 2e19 n;"
+                "burst_p_pa 0.1 120000 n;level_p_pa 1000 100000 n;tropopause_p_pa 0 120000 n;"
+                "_e_p 0.1 120000 n;_max_p 0.1 120000 n;_tp_p 0 120000 n;"
+                "level_t_k 150 350 n;tropopause_t_k 150 350 n;_e_t 150 350 n;_tp_t 150 350 n;"
+                "_tb_st 0 4e11;_tb_th -1000 1000 n;_tp_th -1000 1000 n;_var_anchor 0 1e8;"
+                # the track: the step, s; gains 0..1; 4 sigma ratios; the rate per step
+                "_f_dt 0 1e25 n;_f_lo 0 1e25 n;_f_hi 0 1e25 n;_f_a 0 1 n;_f_b 0 1 n;_f_cx 0 4 n;"
+                "_f_cv 0 6 n;_f_v -1e12 1e12 n;_f_bv -1e28 0 n")
 WINDOW_TOL = 1e-6
 """How far a restored gain window (_f_lo, _f_hi) may lie from the one
 Column._track makes for _f_dt (0.95 and 1.05 of it), relative to _f_dt: the
 rounding of a float32 or 30-bit-float board that wrote it (a few 1e-7)."""
 _RESTORE_REC = ("p_pa 0.1 120000;t_k 150 350;rh_pct -3 103 n;tv_k 150 350;"
-                "gph_m -250000 250000;c -1 1;height_m -250000 250000 n;dt 0 * n;"
+                "gph_m -250000 250000;c -1 1;height_m -250000 250000 n;dt 0 1e25 n;"
+                "rdh -600000 600000 n;rdt 0 1e25 n;tsr -4.62e18 4.62e18 n;"
+                "tr -4.62e18 4.62e18 n;g_t -250000 250000 n;h_tm -300000 300000 n;"
                 "h_t 150 350 n;h_p 0.1 120000 n;h_rh -3 103 n;w 0 1 n;"
-                "gps_m -1000 100000 n;var_done 0 *;var_p 0 *;tm2 0 700;s2 0 *;"
-                "p_start 0.1 120000 n;tvh 0 *;flags 0 1023;gps_here 0 1")
+                "gps_m -1000 100000 n;gps_diff_m -400000 400000 n;"
+                # the uncertainty sums (see "Uncertainty"): a half-layer is at most
+                # (Rd/g0)/2 ln(1.2e6) = 205 gpm/K, dTv/dRH at most 132 K/%, 2**30 readings
+                "var_done 0 1e30;var_p 0 1e20;ct -1000 1000;tm2 0 700;s2 0 1e12;"
+                "sum_rh -1e15 1e15;sum_p -1e14 1e14;slope 0 1000;sum_hum -1e15 1e15;tvh 0 1000;"
+                "p_start 0.1 120000 n;flags 0 1023;gps_here 0 1")
 _MAGIC = b"TGCK"
-_VERSION = 4
+_VERSION = 5
 CHECKPOINT_BYTES = (7 + 8 * (len(_CFG_F) + len(_ST_F) + 1 + 2 * len(_REC_F))
                     + 4 * (len(_CFG_I) + len(_ST_I) + 2 * len(_REC_I)) + 4)
 """Size of a checkpoint blob, bytes (the frame of tinygeo.checkpoint)."""
@@ -576,7 +691,7 @@ class Column:
                  tropopause_max_p_pa=50000, tropopause_layer_gpm=100, rh_tol_pct=3,
                  takeover_readings=3, track_sigma=True, on_event=None,
                  geoid_undulation_m=None, max_t_step_k=3, max_t_rate_k_s=1,
-                 max_t_gradient_k_gpm=0.1):
+                 max_t_gradient_k_gpm=0.1, launch_rate_gpm_s=0.5):
         # What only the constructor or a rejection uses is imported where it is
         # used: fewer names in the module's dict (RAM on MicroPython).
         from .errors import check_lat, check_range, check_flag, pressure_hint
@@ -625,6 +740,8 @@ class Column:
         self.max_t_rate_k_s = check_range("max_t_rate_k_s", max_t_rate_k_s, 0, 100, "K/s")
         self.max_t_gradient_k_gpm = check_range("max_t_gradient_k_gpm", max_t_gradient_k_gpm, 0,
                                                 10, "K/gpm")
+        self.launch_rate_gpm_s = check_range("launch_rate_gpm_s", launch_rate_gpm_s, 0, 1000,
+                                             "gpm/s")
         # --- derived settings (so that feed builds no float for them)
         # the geopotential series at this latitude, evaluated once (tinygeo.potential)
         self._pc = series(self.lat_deg, self.ellipsoid)
@@ -672,6 +789,7 @@ class Column:
         self._run_b = 0            # of which the latest ones in a row agree with _b
         self._why = None           # (reason, message number, arguments) of the latest contradiction
         self._run_why = None       # the same for the run's first reading
+        self._run_f = 0            # its pressure factor when it is a unit change (_jump), or 0
         self.count = 0
         self.rejected = 0
         self.retracted = 0
@@ -679,6 +797,8 @@ class Column:
         self._n_g = self._n_h = self._n_k1 = self._n_k2 = _NAN
         self._n_lo = self._n_hi = _NAN
         self._var_anchor = 0.0
+        self._lv = [_NAN] * 48       # gph, height, t_k of the latest EV_LEVEL's levels
+        self._lv_first = 0           # the index in MANDATORY_PA of the lowest of them
         self._reset_events()
 
     def _reset_events(self):
@@ -688,6 +808,7 @@ class Column:
                 setattr(self, n, _NAN)
         self.phase = PH_WAIT
         self._e_n = self._lvl = self._burst_n = self._tb_n = self._tp_state = 0
+        self.levels_n = 0
         self._tb_st = 0.0
 
     # ------------------------------------------------------------------ feed
@@ -703,15 +824,38 @@ class Column:
         """
         n = self._n
         self._check(n, p_pa, t_k, rh_pct, time_s, gps_m)      # 1. the values on their own
-        if self.count == 0:                                    # 2. the first reading: the start
+        h = self._h
+        if self.count < 3:                                     # 2. the first readings
+            return self._early(h, n)
+        ok = self._compute(h, n) == 0                          # 3. on top of the latest reading
+        if ok and not self._run:
+            # the "there and back" test, only on a step above its floor (it
+            # needs one: rare)
+            if n.big:
+                bits = self._spike(h, n)
+                if bits >= 0:
+                    return bits
+            self._sigma(h, n)
+            return self._advance()
+        return self._recover(n, ok)                            # 4. or: look-back, recovery
+
+    def _early(self, h, n):
+        # the first three readings: the start, then as feed, with the "there
+        # and back" test on every step (and, with two readings held, its
+        # first-reading test)
+        if self.count == 0:
             self._compute(None, n)
             self._sigma(None, n)
             return self._advance()
-        ok = self._compute(self._h, n) == 0                    # 3. on top of the latest reading
+        ok = self._compute(h, n) == 0
         if ok and not self._run:
-            self._sigma(self._h, n)
+            if self.count == 2:
+                bits = self._spike(h, n)
+                if bits >= 0:
+                    return bits
+            self._sigma(h, n)
             return self._advance()
-        return self._recover(n, ok)                            # 4. or: look-back, recovery
+        return self._recover(n, ok)
 
     # ------------------------------------------------------------ 1. check
     def _check(self, n, p_pa, t_k, rh_pct, time_s, gps_m):
@@ -739,8 +883,11 @@ class Column:
                 tol = self.rh_tol_pct
                 if rh < -tol or rh > 100 + tol:
                     self._bad("humidity", 2, quote(rh_pct), -tol, 100 + tol)
-        if time_s is not None and (isinstance(time_s, bool) or not isinstance(time_s, int)):
-            time_s = self._num(time_s, "time_s", "s")   # ints stay ints (see "Time")
+        if time_s is not None:
+            if isinstance(time_s, bool) or not isinstance(time_s, int):
+                time_s = self._num(time_s, "time_s", "s")   # ints stay ints (see "Time")
+            if not _TS_NEG <= time_s <= _TS_POS:
+                self._bad("time", 7, quote(time_s))
         gps = None
         if gps_m is not None:
             gps = self._num(gps_m, "gps_m", "m", True)
@@ -989,6 +1136,9 @@ class Column:
         n.tvh = tvh
         n.half = half
         n.lay = tm2
+        # a step beyond the "there and back" test's floor (less 1 gpm, so that
+        # the rounding of gph differences never hides one: feed's pre-filter)
+        n.big = dz > _SPIKE_PRE or dz < -_SPIKE_PRE
         return why
 
     def _sigma(self, a, n):
@@ -1112,39 +1262,20 @@ class Column:
         # and is not taken by the run is accepted (the run was a glitch).
         why_h = self._why       # how n contradicts the latest reading (when not ok)
         m = self._m
-        # the reading, into the second scratch record
-        m.p_pa = n.p_pa
-        m.t_k = n.t_k
-        m.rh_pct = n.rh_pct
-        m.tsr = n.tsr
-        m.gpsr = n.gpsr
-        m.q = n.q
+        _copy(m, n)        # the reading, into the second scratch record
         agree_b = self._has_b and self._compute(self._b, m) == 0
         # does n agree with the run's latest reading? (computed on top of it)
         k = self._k
-        k.p_pa = n.p_pa
-        k.t_k = n.t_k
-        k.rh_pct = n.rh_pct
-        k.tsr = n.tsr
-        k.gpsr = n.gpsr
-        k.q = n.q
+        _copy(k, n)
         cr = self._cr
         in_run = self._run and self._compute(cr, k) == 0
-        if agree_b and self._run_b and in_run and (not ok or self._fit(self._b, m) <
-                                                    self._fit(self._h, n)):
+        if agree_b and self._run_b and in_run and not self._run_f and (
+                not ok or self._fit(self._b, m) < self._fit(self._h, n)):
             # two readings in a row agree with each other and with the reading
             # before the latest one, the first contradicted the latest and the
             # second contradicts it too or fits the one before better: the
             # latest was the bad one; go on from the one before
-            self._sigma(self._b, m)
-            self._m = self._h
-            self._h = m
-            m.flags |= FL_REPLACED
-            self._inc_rejected()
-            if self.retracted < COUNT_MAX:
-                self.retracted += 1
-            self._accept(m, 0)
-            return 0
+            return self._replace(m)
         if in_run and (not ok or not self._has_b or self._run >= 2):
             # the run goes on: n agrees with it, and contradicts the latest
             # reading, or the latest is the first one (not confirmed yet), or
@@ -1160,6 +1291,7 @@ class Column:
             # confirmed yet (the first reading may be the bad one), afresh
             # from the start height
             self._run_why = why_h
+            self._run_f = self._jump(n, why_h)
             if self._has_b:
                 self._sigma(self._h, n)
                 new = n
@@ -1181,6 +1313,16 @@ class Column:
             self._n = cr
         if self._run < self.takeover_readings:
             self._why = self._run_why
+            self._refuse()
+        f = self._run_f
+        if f:
+            # refused, with a message, for as long as it lasts (the run kept
+            # one short of a takeover)
+            self._run = self.takeover_readings - 1
+            u = ("kPa passed as Pa (x1000)?" if 500 <= f <= 2000 else
+                 "hPa or mbar passed as Pa (x100)?" if 50 <= f <= 200 else
+                 "a unit changed, or the sensor failed?")
+            self._why = ("pressure", 8, quote(new.p_pa), f, self._h.p_pa, u)
             self._refuse()
         # takeover: the run's latest reading becomes the latest, the one before
         # it (cr) the one before; the old pair becomes scratch
@@ -1208,6 +1350,91 @@ class Column:
         self._has_b = 1
         self._accept(new, 0)
         return self._tell(bits)
+
+    def _replace(self, m):
+        # retraction: record m (computed on top of the reading before the
+        # latest one) replaces the latest reading, which is taken off
+        self._sigma(self._b, m)
+        self._m = self._h
+        self._h = m
+        m.flags |= FL_REPLACED
+        self._inc_rejected()
+        if self.retracted < COUNT_MAX:
+            self.retracted += 1
+        self._accept(m, 0)
+        return 0
+
+    def _spike(self, h, n):
+        # The "there and back" test (see "Checks and recovery"), on heights
+        # only, no clock: with b the reading before the latest one h, and n
+        # the new reading (computed on top of h), T = _SPIKE_GPM + 8 sqrt(2)
+        # noise_gph_m (the larger noise of b and n). h is retracted when n
+        # agrees with b within T and h lies beyond T from both, on one side;
+        # b, when the column holds two readings (b the first), when n agrees
+        # with h within T and b lies beyond T from both (restart from h).
+        # Returns the feed's bits, or -1: no spike (or the replacement
+        # contradicts its base), n goes on as usual.
+        b = self._b
+        zb = b.tv_k / b.p_pa
+        zn = n.tv_k / n.p_pa
+        tt = _SPIKE_GPM + _SPIKE_KN * self._kz * (zb if zb > zn else zn)
+        gb = b.gph_m
+        gh = h.gph_m
+        gn = n.gph_m
+        if self.count == 2 and -tt <= gn - gh <= tt and (
+                (gb - gh > tt and gb - gn > tt) or (gb - gh < -tt and gb - gn < -tt)):
+            return self._restart(h, n)
+        if -tt <= gn - gb <= tt and (
+                (gh - gb > tt and gh - gn > tt) or (gh - gb < -tt and gh - gn < -tt)):
+            m = self._m
+            _copy(m, n)
+            if self._compute(b, m):
+                return -1
+            return self._replace(m)
+        return -1
+
+    def _restart(self, h, n):
+        # the first reading b was the bad one: the column restarts from h
+        # (placed at start_height_m, or from the anchor, as a first reading)
+        # with n on top of it; b is retracted
+        if self._guard(h.p_pa):
+            return -1
+        k = self._k
+        _copy(k, h)
+        self._compute(None, k)
+        k.nodes = None          # n's own nodes (if any) are taken by _accept
+        m = self._m
+        _copy(m, n)
+        if self._compute(k, m):
+            return -1
+        self._sigma(None, k)
+        self._sigma(k, m)
+        self._k = self._b
+        self._m = h
+        self._b = k
+        self._h = m
+        m.flags |= FL_REPLACED
+        self._reset_events()
+        self.count = 2
+        self._inc_rejected()
+        if self.retracted < COUNT_MAX:
+            self.retracted += 1
+        bits = self._confirm(k)
+        self._accept(m, 0)
+        return self._tell(bits)
+
+    def _jump(self, r, why):
+        # A run that contradicts the column by its rate, starting with reading
+        # r at a pressure a factor beyond UNIT_FACTOR from the latest accepted
+        # reading's: no flight gets there between two readings, a unit
+        # changed (hPa or kPa passed as Pa). The factor (latest over r), or 0
+        # (kept for the run: _run_f); why: how r contradicts the latest
+        if not self._has_b or why is None or why[0] != "rate":
+            return 0
+        f = self._h.p_pa / r.p_pa
+        if f > UNIT_FACTOR or f * UNIT_FACTOR < 1:
+            return f
+        return 0
 
     def _fit(self, a, r):
         # how well reading r (computed on top of record a) fits a: the largest
@@ -1256,11 +1483,14 @@ class Column:
                "|gps_m=%s (ellipsoidal): %s"                             # 4
                "|gps_m=%s outside %g..%g m; above sea level; ellipsoidal? set geoid_undulation_m"
                "|rh_pct=%s at t_k=%r, p_pa=%r: %s"                       # 6
-               "|"
-               "|"                                                       # 8
+               "|time_s=%s outside -2**62..2**62 (units of time_unit_s); a time stamp from a "
+               "clock or tick counter (seconds since the epoch are 1.8e9)"   # 7
+               "|p_pa=%s: readings that agree with each other are a factor %.4g (latest over "
+               "them) from the latest accepted %g Pa and contradict its rate: no flight moves that far between them; "
+               "%s the column refuses them until the pressure agrees with it again"   # 8
                "|virtual temperature %.2f K (t_k=%r, p_pa=%r) outside %g..%g K; check the units"
                "|t_k=%s jumps %+.1f K from %.2f K, over the %.1f K allowed; glitch? "
-               "(max_t_step_k=None: no check)"                           # 10
+               "(max_t_step_k=None turns this check off)"                           # 10
                "|"                                                       # 11
                "|p_pa=%s moves the column %.0f m/s over %.3g s, beyond max_rate_m_s=%s with "
                "%.0f m of noise allowed; glitch, or wrong unit/time"     # 12
@@ -1376,7 +1606,7 @@ class Column:
                 if hs < self._min_g:
                     self._min_g = hs
                 self._launch_line = self._min_g + self.launch_gpm + self._sx(r)
-            elif hs >= self._launch_line:
+            elif hs >= self._launch_line and (r.tsr is None or self._climbing(r)):
                 self.phase = PH_ASCENT
                 self.launch_time_s = self._clock_s(clk, r)
                 self.max_gph_m = hs
@@ -1407,9 +1637,19 @@ class Column:
             else:
                 self._burst_n = 0
             if hs > self._fl_hi or hs < self._fl_lo:
-                if ph == PH_FLOAT and hs > self._fl_hi:
-                    self.phase = PH_ASCENT      # a new ascent after the float
-                self._float_ref(r, hs, clk)
+                if ph == PH_ASCENT:
+                    self._float_ref(r, hs, clk)
+                elif hs > self._fl_hi:
+                    if r.tsr is None or self._climbing(r):
+                        self.phase = PH_ASCENT      # a new ascent after the float
+                        self._float_ref(r, hs, clk)
+                    else:
+                        # a slow rise (a wave's crest): the float's top, _fl_g,
+                        # rises to it, its band with it
+                        self._fl_hi = hs + (self._fl_hi - self._fl_g)
+                        self._fl_g = hs
+                # (below the band while floating: nothing; a descent is the
+                # burst test's)
             elif ph == PH_ASCENT and clk >= self._fl_end:
                 self.phase = PH_FLOAT
                 self.float_gph_m = self._fl_g
@@ -1430,10 +1670,19 @@ class Column:
         # below its highest point and sinking faster than burst_rate_gpm_s +
         # 4 sigma_v (sigma_v = cv/cx sigma_x of the filter's noise ratios)
         sx = self._sx(r)
-        if self._f_cx != self._f_cx:
+        if not self._f_cx > 0:      # (no step yet, or one too short to move the track)
             return False
         return hs < self.max_gph_m - self.burst_drop_gpm - sx and \
             self._f_v < self._f_bv - self._f_cv * (sx / self._f_cx)
+
+    def _climbing(self, r):
+        # the track rises faster than launch_rate_gpm_s + 4 sigma_v (the
+        # launch's and a new ascent's rate test, with time; False before the
+        # track has a step, or with a step too short to move it: cx 0)
+        if not self._f_cx > 0:
+            return False
+        return self._f_v > self.launch_rate_gpm_s * self._f_dt + \
+            self._f_cv * (self._sx(r) / self._f_cx)
 
     def _clock_s(self, clk, r):
         # an event clock as seconds since the first time stamp (without time:
@@ -1460,12 +1709,15 @@ class Column:
 
     def _levels(self, p0, p, g0, g, t0, t):
         # report every mandatory level in [p, p0) not reported yet (ascent only)
+        # (level_* the highest of them; each one's gph, height and
+        # temperature into _lv, read as the property levels: no list or tuple
+        # built here)
         bits = 0
-        cb = self.on_event
         lvl = self._lvl
         while lvl < 16 and MANDATORY_PA[lvl] >= p:
-            if bits and cb is not None:
-                cb(self, EV_LEVEL)   # the lower level crossed by this same reading
+            if not bits:
+                self.levels_n = 0
+                self._lv_first = lvl
             lev = MANDATORY_PA[lvl]
             if p0 == p:
                 f = 0.0
@@ -1484,6 +1736,12 @@ class Column:
                 self.level_height_m = height_series(gl, self._pc, self._a_m)
             else:
                 self.level_height_m = _NAN
+            i = 3 * self.levels_n
+            lv = self._lv
+            lv[i] = gl
+            lv[i + 1] = self.level_height_m
+            lv[i + 2] = self.level_t_k
+            self.levels_n += 1
             lvl += 1
             self._lvl = lvl
             bits = EV_LEVEL
@@ -1550,6 +1808,16 @@ class Column:
         else:
             self._tp_state = 0
         return 0
+
+    @property
+    def levels(self):
+        """The mandatory levels the latest EV_LEVEL reported, lowest first: a
+        list of (p_pa, gph_m, height_m, t_k), built when read (level_* is the
+        last of them); empty before any and after a restore."""
+        lv = self._lv
+        k = self._lv_first
+        return [(MANDATORY_PA[k + j], lv[3 * j], lv[3 * j + 1], lv[3 * j + 2])
+                for j in range(self.levels_n)]
 
     # ------------------------------------------------------------ the latest reading
     @property
@@ -1756,8 +2024,10 @@ class Column:
 
     @classmethod
     def from_bytes(cls, blob, on_event=None):
-        """A Column restored from a to_bytes() blob; continues bit-identically
-        (the recovery memory is not stored; see "Checkpoint").
+        """A Column restored from a to_bytes() blob; continues bit-identically,
+        except after a checkpoint taken while a run of contradicting readings
+        was pending (the recovery memory is not stored: the next reading may
+        be treated differently; see "Checkpoint" for the numbers).
 
         Raises CheckpointError (nothing restored) for a blob that is not
         bytes, truncated, too long, of another version, corrupted (CRC-32
@@ -1772,7 +2042,7 @@ class Column:
         k = len(_CFG_F)
         (lat, start, anchor, sp, st, srh, bp, bt, brh, rate, guard, unit, smooth, launch, drop,
          brate, fl_s, fl_band, land_s, land_band, trop, trop_layer, rh_tol, geoid, t_step, t_rate,
-         t_grad) = f[:k]
+         t_grad, l_rate) = f[:k]
         ell, ice, dry, burst_n, takeover, track = ints[:len(_CFG_I)]
         if ell not in (0, 1):
             raise CheckpointError("column checkpoint holds an unknown ellipsoid code %d" % ell)
@@ -1783,7 +2053,7 @@ class Column:
             col = cls(lat, start, opt(anchor), (WGS84, GRS80)[ell], ice, dry, sp, st, srh, bp, bt,
                       brh, opt(rate), opt(guard), unit, smooth, launch, drop, brate, burst_n, fl_s,
                       fl_band, land_s, land_band, trop, trop_layer, rh_tol, takeover, track,
-                      on_event, opt(geoid), opt(t_step), t_rate, t_grad)
+                      on_event, opt(geoid), opt(t_step), t_rate, t_grad, l_rate)
         except TinygeoError as e:
             raise CheckpointError("column checkpoint holds settings the column refuses: %s" % e)
         j = len(_CFG_I)
@@ -1838,6 +2108,17 @@ class Column:
         if bad:
             raise CheckpointError("column checkpoint holds the gain window %r..%r s for steps of %r "
                                   "s; not written by this tinygeo" % (lo, hi, fd))
+        if col._has_b != (1 if col.count >= 2 else 0):
+            # a column holds the reading before the latest one from its second on
+            raise CheckpointError("column checkpoint holds _has_b=%d with count=%d; not written "
+                                  "by this tinygeo" % (col._has_b, col.count))
+        # ties: a step is positive, and the track's rate within 1e9 gpm/s
+        fdt = col._f_dt
+        if fdt == fdt and not (fdt > 0 and -1e9 * fdt <= col._f_v <= 1e9 * fdt) or \
+                not col._h.rdt > 0 and col._h.rdt == col._h.rdt or \
+                not col._b.rdt > 0 and col._b.rdt == col._b.rdt:
+            raise CheckpointError("column checkpoint holds a step of 0 s or a track rate beyond "
+                                  "1e9 gpm/s; not written by this tinygeo")
         if col.count:
             check_values(col._h, _RESTORE_REC, "column")
         if col._has_b:
@@ -1847,6 +2128,16 @@ class Column:
     def __repr__(self):
         return "Column(lat_deg=%r, count=%d, p_pa=%r, gph_m=%r, phase=%d)" % (
             self.lat_deg, self.count, self.p_pa, self.gph_m, self.phase)
+
+
+def _copy(x, n):
+    # the reading of record n into record x (the look-back's trial records)
+    x.p_pa = n.p_pa
+    x.t_k = n.t_k
+    x.rh_pct = n.rh_pct
+    x.tsr = n.tsr
+    x.gpsr = n.gpsr
+    x.q = n.q
 
 
 def _count_setting(name, value, lo, hi):

@@ -85,8 +85,8 @@ int32_t tg__get_i32(const unsigned char *b)
 static int spec_num(const char **s, double *v)
 {
     const char *p = *s;
-    double mant = 0.0, scale = 1.0;
-    int neg = 0, frac = 0;
+    double mant = 0.0, scale = 1.0, p10 = 1.0;
+    int neg = 0, frac = 0, nfrac = 0, e = 0, eneg = 0, k;
     while (*p == ' ')
         p++;
     if (*p == '*') {
@@ -103,10 +103,35 @@ static int spec_num(const char **s, double *v)
             continue;
         }
         mant = mant * 10.0 + (double)(*p - '0');
-        if (frac)
+        if (frac) {
             scale *= 10.0;
+            nfrac++;
+        }
     }
-    *v = (neg ? -mant : mant) / scale;
+    if (*p != 'e') {
+        *v = (neg ? -mant : mant) / scale;
+        *s = p;
+        return 1;
+    }
+    /* an exponent: mant x 10^(e - digits after the point), rounded once (10^k
+     * is exact up to k = 22; the spec's larger powers have the mantissa 1,
+     * 1e25 = 1e22 x 10^3 rounded once: float()'s value) */
+    p++;
+    if (*p == '-' || *p == '+')
+        eneg = *p++ == '-';
+    for (; *p >= '0' && *p <= '9'; p++)
+        e = e * 10 + (*p - '0');
+    e = (eneg ? -e : e) - nfrac;
+    k = e < 0 ? -e : e;
+    if (k > 22) {
+        p10 = 1e22;
+        k -= 22;
+    }
+    for (; k > 0; k--)
+        p10 *= 10.0;
+    *v = e < 0 ? mant / p10 : mant * p10;
+    if (neg)
+        *v = -*v;
     *s = p;
     return 1;
 }

@@ -83,10 +83,14 @@ typedef char tg__mandatory_16[TGPY_COLUMN_MANDATORY_PA_N == 16 ? 1 : -1];
 #define NODE_W2 TG_L(TGPY_COLUMN__NODE_W2)
 #define RH_SLOPE_MIN TG_L(TGPY_COLUMN__RH_SLOPE_MIN)
 #define SQRT2 TGPY_COLUMN__SQRT2
+#define SPIKE_GPM TG_L(TGPY_COLUMN_SPIKE_GPM)
+#define SPIKE_KN (TG_L(TGPY_COLUMN_SPIKE_K) * SQRT2)   /* column._SPIKE_KN */
+#define UNIT_FACTOR TG_L(TGPY_COLUMN_UNIT_FACTOR)
 #define ONE_M_EPS (TG_L(1.0) - TG_EPSILON)   /* moisture.ONE_M_EPS = 1.0 - EPSILON */
 /* column._HUM_K = (1.0 / EPSILON - 1.0) * 0.5773502691896258 */
 #define HUM_K ((TG_L(1.0) / TG_EPSILON - TG_L(1.0)) * TG_L(0.5773502691896258))
 #define NAN_ TG_NAN
+#define TWO62 4611686018427387904.0   /* 2^62: time stamps beyond +-TWO62 are refused */
 typedef char tg__pc_size[(sizeof(((tg_column *)0)->pc) == TG_PC_N * sizeof(TG_FLOAT)) ? 1 : -1];
 
 /* the record at byte offset off of col->rec (col->h, col->b, ...: C keeps
@@ -118,7 +122,7 @@ const char *tg_reason_name(tg_reason reason)
 /* The defaults and ranges of the settings are Column.__init__'s, generated
  * into tg_tables.h (TGPY_COLUMN_SET_<NAME>_DEF/_LO/_HI; None -> NaN). A
  * setting added to Column stops the build here until tg_column_config has it. */
-typedef char tg__settings_34[TGPY_COLUMN_SET_N == 34 ? 1 : -1];
+typedef char tg__settings_35[TGPY_COLUMN_SET_N == 35 ? 1 : -1];
 #define DEF(name) TGPY_COLUMN_SET_##name##_DEF
 
 void tg_column_config_defaults(tg_column_config *cfg, TG_FLOAT lat_deg)
@@ -158,6 +162,7 @@ void tg_column_config_defaults(tg_column_config *cfg, TG_FLOAT lat_deg)
     cfg->max_t_step_k = DEF(MAX_T_STEP_K);
     cfg->max_t_rate_k_s = DEF(MAX_T_RATE_K_S);
     cfg->max_t_gradient_k_gpm = DEF(MAX_T_GRADIENT_K_GPM);
+    cfg->launch_rate_gpm_s = DEF(LAUNCH_RATE_GPM_S);
 }
 #undef DEF
 
@@ -261,6 +266,8 @@ static tg_status init_checked(tg_column *col, const tg_column_config *cfg, TG_FL
     n.max_t_rate_k_s = cfg->max_t_rate_k_s;
     SETTING(cfg->max_t_gradient_k_gpm, MAX_T_GRADIENT_K_GPM);
     n.max_t_gradient_k_gpm = cfg->max_t_gradient_k_gpm;
+    SETTING(cfg->launch_rate_gpm_s, LAUNCH_RATE_GPM_S);
+    n.launch_rate_gpm_s = cfg->launch_rate_gpm_s;
     /* --- derived settings (so that feed builds no float for them) */
     /* the geopotential series at this latitude, evaluated once (tinygeo.potential) */
     tg__potential_series(n.lat_deg, n.ellipsoid, n.pc);
@@ -302,6 +309,7 @@ static tg_status init_checked(tg_column *col, const tg_column_config *cfg, TG_FL
     n.cr = REC_OFF(5);
     n.run = n.run_b = 0;
     n.why = n.run_why = TG_REASON_NONE;
+    n.run_f = TG_L(0.0);
     n.count = n.rejected = n.retracted = 0;
     n.reason = TG_REASON_NONE;
     n.has_b = 0;
@@ -361,6 +369,7 @@ static void reset_events(tg_column *col)
     col->phase = TG_PH_WAIT;
     col->e_n = col->lvl = col->burst_n = col->tb_n = col->tp_state = 0;
     col->tb_st = TG_L(0.0);
+    col->levels_n = 0;
 }
 
 /* ------------------------------------------------------------ 1. check */
@@ -410,8 +419,8 @@ static int check(tg_column *col, tg_rec *n, TG_FLOAT p_pa, TG_FLOAT t_k, const T
                 return bad(col, TG_REASON_HUMIDITY);
         }
     }
-    if (TG_UNLIKELY(isinf(time_s)))
-        return bad(col, TG_REASON_NUMBER);
+    if (TG_UNLIKELY(fabs(time_s) > TWO62))   /* NaN (None) passes */
+        return bad(col, isinf(time_s) ? TG_REASON_NUMBER : TG_REASON_TIME);
     gps = NAN_;
     if (gps_m != NULL) {
         gps = *gps_m;
@@ -836,10 +845,19 @@ static TG_FLOAT clock_s(const tg_column *col, tg_time clk, const tg_rec *r)
 static int sinking(const tg_column *col, const tg_rec *r, TG_FLOAT hs)
 {
     TG_FLOAT s = sx(col, r);
-    if (col->f_cx != col->f_cx)
+    if (!(col->f_cx > TG_L(0.0)))   /* no step yet, or one too short to move the track */
         return 0;
     return hs < col->max_gph_m - col->burst_drop_gpm - s
            && col->f_v < col->f_bv - col->f_cv * (s / col->f_cx);
+}
+
+/* Column._climbing: the track rises faster than launch_rate_gpm_s + 4
+ * sigma_v (with time; 0 before the track has a step) */
+static int climbing(const tg_column *col, const tg_rec *r)
+{
+    if (!(col->f_cx > TG_L(0.0)))   /* no step yet, or one too short to move the track */
+        return 0;
+    return col->f_v > col->launch_rate_gpm_s * col->f_dt + col->f_cv * (sx(col, r) / col->f_cx);
 }
 
 /* Column._float_ref: a new reference height of the float test and its band */
@@ -871,7 +889,7 @@ static int phase(tg_column *col, const tg_rec *r, int32_t ph, TG_FLOAT g, TG_FLO
             if (hs < col->min_g)
                 col->min_g = hs;
             col->launch_line = col->min_g + col->launch_gpm + sx(col, r);
-        } else if (hs >= col->launch_line) {
+        } else if (hs >= col->launch_line && (r->tsr != r->tsr || climbing(col, r))) {
             col->phase = TG_PH_ASCENT;
             col->launch_time_s = clock_s(col, clk, r);
             col->max_gph_m = hs;
@@ -905,9 +923,20 @@ static int phase(tg_column *col, const tg_rec *r, int32_t ph, TG_FLOAT g, TG_FLO
             col->burst_n = 0;
         }
         if (hs > col->fl_hi || hs < col->fl_lo) {
-            if (ph == TG_PH_FLOAT && hs > col->fl_hi)
-                col->phase = TG_PH_ASCENT;      /* a new ascent after the float */
-            float_ref(col, r, hs, clk);
+            if (ph == TG_PH_ASCENT) {
+                float_ref(col, r, hs, clk);
+            } else if (hs > col->fl_hi) {
+                if (r->tsr != r->tsr || climbing(col, r)) {
+                    col->phase = TG_PH_ASCENT;      /* a new ascent after the float */
+                    float_ref(col, r, hs, clk);
+                } else {
+                    /* a slow rise (a wave's crest): the float's top, fl_g,
+                     * rises to it, its band with it */
+                    col->fl_hi = hs + (col->fl_hi - col->fl_g);
+                    col->fl_g = hs;
+                }
+            }
+            /* (below the band while floating: nothing; a descent is the burst test's) */
         } else if (ph == TG_PH_ASCENT && clk >= col->fl_end) {
             col->phase = TG_PH_FLOAT;
             col->float_gph_m = col->fl_g;
@@ -929,16 +958,16 @@ static int phase(tg_column *col, const tg_rec *r, int32_t ph, TG_FLOAT g, TG_FLO
 }
 
 /* Column._levels: report every mandatory level in [p, p0) not reported yet
- * (ascent only); on_event with TG_EV_LEVEL alone for each lower one */
+ * (ascent only): level_* the highest, each appended to levels */
 static int levels(tg_column *col, TG_FLOAT p0, TG_FLOAT p, TG_FLOAT g0, TG_FLOAT g, TG_FLOAT t0,
                   TG_FLOAT t)
 {
     int bits = 0;
     int32_t lvl = col->lvl;
     while (lvl < 16 && MANDATORY_PA[lvl] >= p) {
-        TG_FLOAT lev, f, gl;
-        if (bits && col->on_event != NULL)
-            col->on_event(col, TG_EV_LEVEL, col->on_event_ctx);   /* the lower level crossed */
+        TG_FLOAT lev, f, gl, *lv;
+        if (!bits)
+            col->levels_n = 0;
         lev = MANDATORY_PA[lvl];
         if (p0 == p)
             f = TG_L(0.0);
@@ -958,6 +987,12 @@ static int levels(tg_column *col, TG_FLOAT p0, TG_FLOAT p, TG_FLOAT g0, TG_FLOAT
         } else {
             col->level_height_m = NAN_;
         }
+        lv = col->levels[col->levels_n];   /* levels_n <= lvl < 16 */
+        lv[0] = lev;
+        lv[1] = gl;
+        lv[2] = col->level_height_m;
+        lv[3] = col->level_t_k;
+        col->levels_n += 1;
         lvl += 1;
         col->lvl = lvl;
         bits = TG_EV_LEVEL;
@@ -1134,6 +1169,20 @@ TG_INLINE int advance(tg_column *col, tg_rec *h, tg_rec *n)
     return tell(col, bits);
 }
 
+/* advance for feed's common path, where count >= 3: the latest reading is
+ * confirmed and has_b is 1 already (Python calls _advance, whose tests
+ * give the same; deliberate: two tests and a store fewer per reading) */
+TG_INLINE int advance_on(tg_column *col, tg_rec *h, tg_rec *n)
+{
+    tg_recoff ni = col->n;
+    int bits = confirm(col, h);
+    col->n = col->b;
+    col->b = col->h;
+    col->h = ni;
+    accept(col, n, 1);
+    return tell(col, bits);
+}
+
 /* ------------------------------------------------------------ 4. recover */
 /* Column._refuse: the rejection of the contradiction in col->why */
 static int refuse(tg_column *col)
@@ -1169,6 +1218,37 @@ static TG_FLOAT fit(const tg_column *col, const tg_rec *a, const tg_rec *r)
             f = q;
     }
     return f;
+}
+
+/* Column._replace: retraction: record m (computed on top of the reading
+ * before the latest one, at offset col->m) replaces the latest reading */
+static int replace(tg_column *col, tg_rec *m)
+{
+    tg_recoff mi = col->m;
+    sigma(col, B(col), m);
+    col->m = col->h;
+    col->h = mi;
+    m->flags |= TG_FL_REPLACED;
+    inc_rejected(col);
+    if (col->retracted < COUNT_MAX)
+        col->retracted += 1;
+    accept(col, m, 0);
+    return 0;
+}
+
+/* Column._jump: a run that contradicts the column by its rate, starting
+ * with reading r at a pressure a factor beyond UNIT_FACTOR from the latest
+ * accepted reading's (a unit changed): the factor (latest over r), else 0
+ * (kept for the run: run_f) */
+static TG_FLOAT jump(const tg_column *col, const tg_rec *r)
+{
+    TG_FLOAT f;
+    if (!col->has_b || col->run_why != TG_REASON_RATE)
+        return TG_L(0.0);
+    f = H(col)->p_pa / r->p_pa;
+    if (f > UNIT_FACTOR || f * UNIT_FACTOR < TG_L(1.0))
+        return f;
+    return TG_L(0.0);
 }
 
 /* the reading of record n into scratch record x (Column._recover's copies) */
@@ -1214,21 +1294,13 @@ static int recover(tg_column *col, tg_rec *n, int ok)
             return -1;
         in_run = w == 0;
     }
-    if (agree_b && col->run_b && in_run && (!ok || fit(col, B(col), m) < fit(col, H(col), n))) {
+    if (agree_b && col->run_b && in_run && col->run_f == TG_L(0.0)
+        && (!ok || fit(col, B(col), m) < fit(col, H(col), n))) {
         /* two readings in a row agree with each other and with the reading
          * before the latest one, the first contradicted the latest and the
          * second contradicts it too or fits the one before better: the
          * latest was the bad one; go on from the one before */
-        tg_recoff mi = col->m;
-        sigma(col, B(col), m);
-        col->m = col->h;
-        col->h = mi;
-        m->flags |= TG_FL_REPLACED;
-        inc_rejected(col);
-        if (col->retracted < COUNT_MAX)
-            col->retracted += 1;
-        accept(col, m, 0);
-        return 0;
+        return replace(col, m);
     }
     if (in_run && (!ok || !col->has_b || col->run >= 2)) {
         /* the run goes on: n agrees with it, and contradicts the latest
@@ -1245,6 +1317,7 @@ static int recover(tg_column *col, tg_rec *n, int ok)
          * confirmed yet (the first reading may be the bad one), afresh
          * from the start height */
         col->run_why = why_h;
+        col->run_f = jump(col, n);
         if (col->has_b) {
             sigma(col, H(col), n);
             new_i = col->n;
@@ -1269,6 +1342,13 @@ static int recover(tg_column *col, tg_rec *n, int ok)
         col->n = cr_i;
     if (col->run < col->takeover_readings) {
         col->why = col->run_why;
+        return refuse(col);
+    }
+    if (col->run_f != TG_L(0.0)) {
+        /* refused for as long as it lasts (the run kept one short of a
+         * takeover); Python's message names the factor and the likely unit */
+        col->run = col->takeover_readings - 1;
+        col->why = TG_REASON_PRESSURE;
         return refuse(col);
     }
     /* takeover: the run's latest reading becomes the latest, the one before
@@ -1302,33 +1382,139 @@ static int recover(tg_column *col, tg_rec *n, int ok)
     return tell(col, bits);
 }
 
+/* Column._restart: the first reading b was the bad one: the column restarts
+ * from h (placed as a first reading) with n on top of it. Returns the bits,
+ * -1 after bad(), -2 when it does not apply. */
+static int restart(tg_column *col, tg_rec *h, tg_rec *n)
+{
+    tg_recoff ki = col->k, mi = col->m;
+    tg_rec *k = REC(col, ki), *m = REC(col, mi);
+    int w, bits;
+    if (!guard(col, h->p_pa))   /* 1: within the guard */
+        return -2;
+    copy_reading(k, h);
+    if (compute(col, NULL, k) < 0)
+        return -1;
+    k->has_nodes = 0;          /* n's own nodes (if any) are taken by accept */
+    copy_reading(m, n);
+    w = compute(col, k, m);
+    if (w < 0)
+        return -1;
+    if (w)
+        return -2;
+    sigma(col, NULL, k);
+    sigma(col, k, m);
+    col->k = col->b;
+    col->m = col->h;
+    col->b = ki;
+    col->h = mi;
+    m->flags |= TG_FL_REPLACED;
+    reset_events(col);
+    col->count = 2;
+    inc_rejected(col);
+    if (col->retracted < COUNT_MAX)
+        col->retracted += 1;
+    bits = confirm(col, k);
+    accept(col, m, 0);
+    return tell(col, bits);
+}
+
+/* Column._spike: the "there and back" test (module docstring, "Checks and
+ * recovery"), on heights only: T = SPIKE_GPM + 8 sqrt(2) noise (the larger
+ * of b's and n's). Returns the bits, -1 after bad(), -2: not a spike (n
+ * goes on as usual). */
+static int spike(tg_column *col, tg_rec *h, tg_rec *n)
+{
+    tg_rec *b = B(col);
+    TG_FLOAT zb = b->tv_k / b->p_pa, zn = n->tv_k / n->p_pa;
+    TG_FLOAT tt = SPIKE_GPM + SPIKE_KN * col->kz * (zb > zn ? zb : zn);
+    TG_FLOAT gb = b->gph_m, gh = h->gph_m, gn = n->gph_m, d;
+    d = gn - gh;
+    if (col->count == 2 && -tt <= d && d <= tt
+        && ((gb - gh > tt && gb - gn > tt) || (gb - gh < -tt && gb - gn < -tt)))
+        return restart(col, h, n);
+    d = gn - gb;
+    if (-tt <= d && d <= tt
+        && ((gh - gb > tt && gh - gn > tt) || (gh - gb < -tt && gh - gn < -tt))) {
+        tg_rec *m = REC(col, col->m);
+        int w;
+        copy_reading(m, n);
+        w = compute(col, b, m);
+        if (w < 0)
+            return -1;
+        if (w)
+            return -2;
+        return replace(col, m);
+    }
+    return -2;
+}
+
+/* Column._early: the first three readings: the start, then as feed, with
+ * the "there and back" test on every step (and, with two readings held, its
+ * first-reading test). The bits, or -1 after bad(). */
+static int early(tg_column *col, tg_rec *h, tg_rec *n)
+{
+    int k;
+    if (col->count == 0) {
+        if (compute(col, NULL, n) < 0)
+            return -1;
+        sigma(col, NULL, n);
+        return advance(col, h, n);
+    }
+    k = compute(col, h, n);
+    if (k < 0)
+        return -1;
+    if (k == 0 && !col->run) {
+        if (col->count == 2) {
+            k = spike(col, h, n);
+            if (k != -2)
+                return k;
+        }
+        sigma(col, h, n);
+        return advance(col, h, n);
+    }
+    return recover(col, n, k == 0);
+}
+
 /* ------------------------------------------------------------------ feed */
 /* Column.feed */
 tg_status tg_column_feed(tg_column *col, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_FLOAT *rh_pct,
                          tg_time time_s, const TG_FLOAT *gps_m, int *bits)
 {
     tg_rec *n = REC(col, col->n), *h;
-    int k, ok;
+    int k;
     if (TG_UNLIKELY(check(col, n, p_pa, t_k, rh_pct, time_s, gps_m) < 0))   /* 1. the values on their own */
         goto rejected;
     h = H(col);
-    if (TG_UNLIKELY(col->count == 0)) {                         /* 2. the first reading: the start */
-        if (compute(col, NULL, n) < 0)
+    if (TG_UNLIKELY(col->count < 3)) {                          /* 2. the first readings */
+        k = early(col, h, n);
+        if (k < 0)
             goto rejected;
-        sigma(col, NULL, n);
-        *bits = advance(col, h, n);
+        *bits = k;
         return TG_OK;
     }
     k = compute(col, h, n);                                     /* 3. on top of the latest reading */
     if (TG_UNLIKELY(k < 0))
         goto rejected;
-    ok = k == 0;
-    if (TG_LIKELY(ok && !col->run)) {
+    if (TG_LIKELY(k == 0 && !col->run)) {
+        /* the "there and back" test, only on a step above its floor (Python
+         * tests compute's layer against SPIKE_GPM - 1 (n.big: no float built
+         * in feed), C the gph difference against SPIKE_GPM: either passes
+         * every step spike() can retract, |gph(h) - gph(n)| > T >= SPIKE_GPM) */
+        if (TG_UNLIKELY(TG_FABS(n->gph_m - h->gph_m) > SPIKE_GPM)) {
+            k = spike(col, h, n);
+            if (k != -2) {
+                if (k < 0)
+                    goto rejected;
+                *bits = k;
+                return TG_OK;
+            }
+        }
         sigma(col, h, n);
-        *bits = advance(col, h, n);
+        *bits = advance_on(col, h, n);
         return TG_OK;
     }
-    k = recover(col, n, ok);                                    /* 4. or: look-back, recovery */
+    k = recover(col, n, k == 0);                                /* 4. or: look-back, recovery */
     if (k < 0)
         goto rejected;
     *bits = k;
@@ -1486,7 +1672,6 @@ typedef char tg__magic_len[(sizeof(TGPY_COLUMN__MAGIC) == 5) ? 1 : -1];
 typedef char tg__checkpoint_size[(HEAD_LEN + PAYLOAD_LEN + 4 == TG_CHECKPOINT_BYTES) ? 1 : -1];
 
 #define TWO32 4294967296.0
-#define TWO62 4611686018427387904.0
 
 /* the names of the layout's lists, as the C members (Python's without the
  * leading underscore), for the clock test and check_values */
@@ -1646,9 +1831,9 @@ tg_status tg_column_from_bytes(tg_column *col, const unsigned char *blob, size_t
     i = 0;
 #define GET_ST(name) \
     v = f[k]; \
-    st_vals[i++] = v; \
     if (v == v && t0 == t0 && is_clk(#name)) \
         v = t0 + v; \
+    st_vals[i++] = v;   /* the value restored, as Python checks it */ \
     if (!tg__set_num(&c.name, sizeof c.name, v)) \
         return TG_CHECKPOINT; \
     k++;
@@ -1660,9 +1845,9 @@ tg_status tg_column_from_bytes(tg_column *col, const unsigned char *blob, size_t
         i = 0;
 #define GET_R(name) \
         v = f[k]; \
-        rec_vals[r][i++] = v; \
         if (v == v && t0 == t0 && (strcmp(#name, "tsr") == 0 || strcmp(#name, "tr") == 0)) \
             v = t0 + v; \
+        rec_vals[r][i++] = v; \
         if (!tg__set_num(&rc->name, sizeof rc->name, v)) \
             return TG_CHECKPOINT; \
         k++;
@@ -1685,6 +1870,16 @@ tg_status tg_column_from_bytes(tg_column *col, const unsigned char *blob, size_t
     } else {
         TG_FLOAT tol = TGPY_COLUMN_WINDOW_TOL * c.f_dt;
         if (!(TG_FABS(c.f_lo - c.f_dt * TG_L(0.95)) <= tol && TG_FABS(c.f_hi - c.f_dt * TG_L(1.05)) <= tol))
+            return TG_CHECKPOINT;
+    }
+    if (c.has_b != (c.count >= 2))   /* a column holds the reading before the latest from its 2nd on */
+        return TG_CHECKPOINT;
+    /* ties: a step is positive, and the track's rate within 1e9 gpm/s */
+    {
+        double fdt = (double)c.f_dt, fv = (double)c.f_v;
+        double rh = (double)REC(&c, c.h)->rdt, rb = (double)REC(&c, c.b)->rdt;
+        if ((fdt == fdt && !(fdt > 0.0 && -1e9 * fdt <= fv && fv <= 1e9 * fdt))
+            || (!(rh > 0.0) && rh == rh) || (!(rb > 0.0) && rb == rb))
             return TG_CHECKPOINT;
     }
     if (c.count && !tg__check_values(TGPY_COLUMN__RESTORE_REC, REC_NAMES, rec_vals[0]))

@@ -78,7 +78,7 @@ static int setting(tg_column_config *cfg, const char *name, double x)
     F(bias_p_pa) F(bias_t_k) F(bias_rh_pct) F(max_rate_m_s) F(start_guard_m) F(time_unit_s)
     F(smooth_s) F(launch_gpm) F(burst_drop_gpm) F(burst_rate_gpm_s) F(float_s) F(float_band_gpm)
     F(landing_s) F(landing_band_gpm) F(tropopause_max_p_pa) F(tropopause_layer_gpm)
-    F(rh_tol_pct) F(geoid_undulation_m) F(max_t_step_k) F(max_t_rate_k_s) F(max_t_gradient_k_gpm)
+    F(rh_tol_pct) F(geoid_undulation_m) F(max_t_step_k) F(max_t_rate_k_s) F(max_t_gradient_k_gpm) F(launch_rate_gpm_s)
     I(ice) I(dry_fallback) I(track_sigma) I(burst_readings) I(takeover_readings)
 #undef F
 #undef I

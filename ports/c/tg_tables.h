@@ -207,6 +207,9 @@
 #define TGPY_COLUMN__NODE_W 3000
 #define TGPY_COLUMN__NODE_W2 6000
 #define TGPY_COLUMN__RH_SLOPE_MIN 1
+#define TGPY_COLUMN_SPIKE_GPM 30
+#define TGPY_COLUMN_SPIKE_K 8
+#define TGPY_COLUMN_UNIT_FACTOR 5
 #define TGPY_COLUMN__SQRT2 TG_L(1.4142135623730951)
 #define TGPY_COLUMN__REC_F_N 31
 #define TGPY_COLUMN__REC_F(X) \
@@ -245,7 +248,7 @@
 #define TGPY_COLUMN__REC_I(X) \
     X(flags) \
     X(gps_here)
-#define TGPY_COLUMN__CFG_F_N 27
+#define TGPY_COLUMN__CFG_F_N 28
 #define TGPY_COLUMN__CFG_F(X) \
     X(lat_deg) \
     X(start_height_m) \
@@ -273,7 +276,8 @@
     X(geoid_undulation_m) \
     X(max_t_step_k) \
     X(max_t_rate_k_s) \
-    X(max_t_gradient_k_gpm)
+    X(max_t_gradient_k_gpm) \
+    X(launch_rate_gpm_s)
 #define TGPY_COLUMN__CFG_I_N 6
 #define TGPY_COLUMN__CFG_I(X) \
     X(ellipsoid_code) \
@@ -369,15 +373,15 @@
     X(t0_int) \
     X(t0_hi) \
     X(t0_lo)
-#define TGPY_COLUMN__RESTORE_COL "count 0 1073741823;rejected 0 1073741823;retracted 0 1073741823;phase 0 4;_has_b 0 1;_e_n 0 1073741823;_lvl 0 16;_burst_n 0 100000;_tb_n 0 1073741823;_tp_state 0 3;smooth_gph_m -250000 250000 n;max_gph_m -250000 250000 n;burst_p_pa 0.1 120000 n;level_p_pa 1000 100000 n;level_t_k 150 350 n;tropopause_p_pa 0 120000 n;tropopause_t_k 150 350 n;_var_anchor 0 *;_f_dt 0 * n;_f_lo 0 * n;_f_hi 0 * n;_f_a 0 1 n;_f_cx 0 * n;_f_cv 0 * n"
+#define TGPY_COLUMN__RESTORE_COL "count 0 1073741823;rejected 0 1073741823;retracted 0 1073741823;phase 0 4;_has_b 0 1;_e_n 0 1073741823;_lvl 0 16;_burst_n 0 100000;_tb_n 0 1073741823;_tp_state 0 3;_t0_int 0 1;_t0_hi -1073741824 1073741823;smooth_gph_m -250000 250000 n;max_gph_m -250000 250000 n;burst_gph_m -250000 250000 n;float_gph_m -250000 250000 n;level_gph_m -250000 250000 n;level_height_m -300000 300000 n;tropopause_gph_m -250000 250000 n;_e_g -250000 250000 n;_min_g -250000 250000 n;_fl_g -250000 250000 n;_tb_g0 -250000 250000 n;_tb_g1 -250000 250000 n;_tp_g -250000 250000 n;_tb_top -260000 260000 n;_tp_top -260000 260000 n;_n_g -250000 250000 n;_n_lo -253000 253000 n;_n_hi -253000 253000 n;_n_h -300000 300000 n;_n_k1 0.5 2 n;_n_k2 -0.001 0.001 n;_launch_line -1e12 1e12 n;_fl_lo -1e12 1e12 n;_fl_hi -1e12 1e12 n;_land_lo -1e12 1e12 n;_land_hi -1e12 1e12 n;launch_time_s -1e25 1e25 n;burst_time_s -1e25 1e25 n;float_time_s -1e25 1e25 n;landing_time_s -1e25 1e25 n;tropopause_time_s -1e25 1e25 n;_max_clk -2e19 2e19 n;_fl_clk -2e19 2e19 n;_fl_end -2e19 2e19 n;_land_end -2e19 2e19 n;_tb_c0 -2e19 2e19 n;_tb_c1 -2e19 2e19 n;_tp_clk -2e19 2e19 n;burst_p_pa 0.1 120000 n;level_p_pa 1000 100000 n;tropopause_p_pa 0 120000 n;_e_p 0.1 120000 n;_max_p 0.1 120000 n;_tp_p 0 120000 n;level_t_k 150 350 n;tropopause_t_k 150 350 n;_e_t 150 350 n;_tp_t 150 350 n;_tb_st 0 4e11;_tb_th -1000 1000 n;_tp_th -1000 1000 n;_var_anchor 0 1e8;_f_dt 0 1e25 n;_f_lo 0 1e25 n;_f_hi 0 1e25 n;_f_a 0 1 n;_f_b 0 1 n;_f_cx 0 4 n;_f_cv 0 6 n;_f_v -1e12 1e12 n;_f_bv -1e28 0 n"
 #define TGPY_COLUMN_WINDOW_TOL TG_L(1e-6)
-#define TGPY_COLUMN__RESTORE_REC "p_pa 0.1 120000;t_k 150 350;rh_pct -3 103 n;tv_k 150 350;gph_m -250000 250000;c -1 1;height_m -250000 250000 n;dt 0 * n;h_t 150 350 n;h_p 0.1 120000 n;h_rh -3 103 n;w 0 1 n;gps_m -1000 100000 n;var_done 0 *;var_p 0 *;tm2 0 700;s2 0 *;p_start 0.1 120000 n;tvh 0 *;flags 0 1023;gps_here 0 1"
+#define TGPY_COLUMN__RESTORE_REC "p_pa 0.1 120000;t_k 150 350;rh_pct -3 103 n;tv_k 150 350;gph_m -250000 250000;c -1 1;height_m -250000 250000 n;dt 0 1e25 n;rdh -600000 600000 n;rdt 0 1e25 n;tsr -4.62e18 4.62e18 n;tr -4.62e18 4.62e18 n;g_t -250000 250000 n;h_tm -300000 300000 n;h_t 150 350 n;h_p 0.1 120000 n;h_rh -3 103 n;w 0 1 n;gps_m -1000 100000 n;gps_diff_m -400000 400000 n;var_done 0 1e30;var_p 0 1e20;ct -1000 1000;tm2 0 700;s2 0 1e12;sum_rh -1e15 1e15;sum_p -1e14 1e14;slope 0 1000;sum_hum -1e15 1e15;tvh 0 1000;p_start 0.1 120000 n;flags 0 1023;gps_here 0 1"
 #define TGPY_COLUMN__MAGIC "TGCK"
-#define TGPY_COLUMN__VERSION 4
-/* Column.__init__: 34 parameters; per setting its default (_DEF; None -> TG_NAN,
+#define TGPY_COLUMN__VERSION 5
+/* Column.__init__: 35 parameters; per setting its default (_DEF; None -> TG_NAN,
  * as Column stores NaN for None; True/False -> 1/0) and the range its check
  * accepts (_LO, _HI). Read by gen_tables.column_settings. */
-#define TGPY_COLUMN_SET_N 34
+#define TGPY_COLUMN_SET_N 35
 /* the other parameters (kinds of gen_tables.column_settings): lat_deg (lat), ellipsoid (ellipsoid), on_event (passthrough) */
 #define TGPY_COLUMN_SET_START_HEIGHT_M_DEF TG_L(0)
 #define TGPY_COLUMN_SET_START_HEIGHT_M_LO TG_L((-1000))
@@ -466,6 +470,9 @@
 #define TGPY_COLUMN_SET_MAX_T_GRADIENT_K_GPM_DEF TG_L(0.1)
 #define TGPY_COLUMN_SET_MAX_T_GRADIENT_K_GPM_LO TG_L(0)
 #define TGPY_COLUMN_SET_MAX_T_GRADIENT_K_GPM_HI TG_L(10)
+#define TGPY_COLUMN_SET_LAUNCH_RATE_GPM_S_DEF TG_L(0.5)
+#define TGPY_COLUMN_SET_LAUNCH_RATE_GPM_S_LO TG_L(0)
+#define TGPY_COLUMN_SET_LAUNCH_RATE_GPM_S_HI TG_L(1000)
 
 /* ---- tinygeo/record.py ---- */
 #define TGPY_RECORD_MAGIC "# tinygeo table 1"

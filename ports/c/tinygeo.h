@@ -196,10 +196,11 @@ tg_status tg_isobaric_height(TG_FLOAT p_pa, TG_FLOAT t_k, TG_FLOAT height_m, TG_
 typedef double tg_time;
 
 struct tg_column;
-/* on_event(column, bits, ctx): called after a reading with events has updated
- * the column (Python: on_event(column, bits); ctx is C's closure). As in
- * Python, a reading that crosses several mandatory levels first calls it with
- * TG_EV_LEVEL alone for each lower level, in the middle of the update. */
+/* on_event(column, bits, ctx): called once per feed with events, after the
+ * reading is fully committed (Python: on_event(column, bits); ctx is C's
+ * closure). A reading that crosses several mandatory levels sets level_* to
+ * the highest; levels[0 .. levels_n - 1] are all of them, lowest first
+ * (tg_column.levels). */
 typedef void (*tg_column_event_fn)(struct tg_column *col, int bits, void *ctx);
 
 /* The Column constructor's keyword arguments, in Python's order, names and
@@ -224,6 +225,7 @@ typedef struct tg_column_config {
     tg_column_event_fn on_event;
     void *on_event_ctx;
     TG_FLOAT geoid_undulation_m, max_t_step_k, max_t_rate_k_s, max_t_gradient_k_gpm;
+    TG_FLOAT launch_rate_gpm_s;
 } tg_column_config;
 
 /* Why the latest rejected reading was rejected (Python: ReadingError.reason). */
@@ -274,6 +276,7 @@ typedef struct tg_column {
     TG_FLOAT burst_rate_gpm_s, float_s, float_band_gpm, landing_s, landing_band_gpm;
     TG_FLOAT tropopause_max_p_pa, tropopause_layer_gpm, rh_tol_pct;
     TG_FLOAT geoid_undulation_m, max_t_step_k, max_t_rate_k_s, max_t_gradient_k_gpm;
+    TG_FLOAT launch_rate_gpm_s;
     tg_column_event_fn on_event;
     void *on_event_ctx;
     /* derived settings */
@@ -294,6 +297,11 @@ typedef struct tg_column {
     TG_FLOAT tp_g, tp_top, tp_th, tp_p, tp_t;
     tg_time max_clk, fl_clk, fl_end, land_end, tb_c0, tb_c1, tp_clk;
     TG_FLOAT n_g, n_h, n_k1, n_k2, n_lo, n_hi, var_anchor;
+    /* the mandatory levels of the latest EV_LEVEL, lowest first (Python: the
+     * list levels of (p_pa, gph_m, height_m, t_k)), levels_n of them; not in
+     * checkpoints (none after a restore) */
+    TG_FLOAT levels[16][4];
+    int32_t levels_n;
     /* the records: at byte offset h of rec the latest accepted reading, at
      * b the one before, at n, m and k scratch, at cr the recovery run's latest
      * reading (offsets, i * sizeof(tg_rec), not pointers: the column may be
@@ -303,6 +311,7 @@ typedef struct tg_column {
     /* the recovery memory (not in checkpoints) */
     int32_t run, run_b;
     tg_reason why, run_why;           /* Python: _why, _run_why (C keeps the reason only) */
+    TG_FLOAT run_f;                   /* Python: _run_f */
 } tg_column;
 
 void tg_column_config_defaults(tg_column_config *cfg, TG_FLOAT lat_deg);
@@ -310,7 +319,10 @@ void tg_column_config_defaults(tg_column_config *cfg, TG_FLOAT lat_deg);
 tg_status tg_column_init(tg_column *col, const tg_column_config *cfg);
 /* col.feed(p_pa, t_k, rh_pct, time_s, gps_m): rh_pct NULL for None;
  * time_s NaN for None (an infinite time_s is rejected as 'number'); gps_m
- * NULL for None, pointing to NaN for "no fix". On TG_OK *bits holds the event
+ * NULL for None, pointing to NaN for "no fix". A time_s beyond +-2^62 is
+ * rejected as 'time' (as Python's, int or float; a double holds every whole
+ * stamp below 2^53 exactly, an int64 tick counter converted to double beyond
+ * that is rounded to the double's spacing). On TG_OK *bits holds the event
  * bits; on TG_READING the reading was rejected, col->reason says why, and the
  * results are unchanged (rejected, retracted and the recovery memory move,
  * as in Python); *bits = 0. */
@@ -348,7 +360,7 @@ TG_FLOAT tg_column_sigma_m(const tg_column *col);
  * (Python: when it is an int; see README.md). Needs IEEE 754 binary64 doubles
  * for the packing (a float build converts each value to double, exactly).
  * on_event is not stored: pass it to tg_column_from_bytes. */
-#define TG_CHECKPOINT_BYTES 1311
+#define TG_CHECKPOINT_BYTES 1319
 /* col.to_bytes(): writes TG_CHECKPOINT_BYTES bytes (TG_RANGE if size is
  * smaller); like Python it sets col->t0_int, t0_hi, t0_lo on the way */
 tg_status tg_column_to_bytes(tg_column *col, unsigned char *buf, size_t size);

@@ -379,9 +379,122 @@ from the U.S. Standard Atmosphere 1976, GPS = its geometric height
     return d
 
 
+def spike_back():
+    atm = S.StandardAtmosphere()
+    d = Doc("spike_back", """\
+An ascent at 5 gpm/s, 1 s apart, through 300 hPa (9 164 gpm in the U.S.
+Standard Atmosphere 1976), with one reading's pressure 820 Pa high: about
+-176 gpm there and +185 gpm back, both within max_rate_m_s, so the rate check
+passes it; the next reading agrees with the one before the spike (within the
+"there and back" test's T = 30 gpm + 8 sqrt(2) x 2.3 gpm of noise) and the
+spike lies beyond T from both, below them: it is retracted (FL_REPLACED) and
+no offset stays. Heights: the standard's.""")
+    d.setting("lat_deg", LAT)
+    d.setting("start_height_m", S.geometric_height_m(9000.0))   # the geometric height of 9000 gpm
+    for k in range(40):
+        h = 9000.0 + 5.0 * k
+        p = atm.p_pa(h) + (820.0 if k == 20 else 0.0)
+        d.reading((p, atm.t_k(h), None, k, None))
+        if k == 20:
+            d.expect("accept", "constructed: -176 gpm in 1 s is within 200 m/s")
+        if k == 21:
+            d.expect("accept", "constructed")
+            d.expect("flag FL_REPLACED", "constructed: reading 20 retracted")
+            d.expect("value retracted 1 0", "constructed")
+            d.expect("value gph_m %r 0.05" % h, "USSA76 pressure at %g gpm; the start placed by "
+                     "USSA76's r0 (eq. 18), the column's gravity is WGS84's: measured 35 mm" % h)
+        if k == 39:
+            d.expect("value gph_m %r 0.05" % h, "USSA76 pressure at %g gpm; the start placed by "
+                     "USSA76's r0 (eq. 18), the column's gravity is WGS84's: measured 35 mm" % h)
+            d.expect("value rejected 1 0", "constructed: the retracted reading")
+    return d
+
+
+def first_bad_untimed():
+    atm = S.StandardAtmosphere()
+    d = Doc("first_bad_untimed", """\
+A bad first reading (pressure 6 % low, about 500 m too high) on the pad,
+without time stamps (no rate check is possible): the second reading is
+accepted on top of it; the third agrees with the second within T (30 gpm +
+8 sqrt(2) x 0.8 gpm of noise) and the first lies beyond T from both: the
+column restarts from the second reading, placed at start_height_m, and the
+first is retracted (FL_REPLACED on the third). Heights: the U.S. Standard
+Atmosphere 1976.""")
+    d.setting("lat_deg", LAT)
+    d.setting("start_height_m", 0.0)
+    p0, t0 = atm.p_pa(0.0), atm.t_k(0.0)
+    d.reading((p0 * 0.94, t0, None, None, None))
+    d.expect("accept", "constructed: the first reading cannot be judged yet")
+    for k in range(1, 60):
+        h = 0.0 if k < 20 else 5.0 * (k - 19)
+        d.reading((atm.p_pa(h), atm.t_k(h), None, None, None))
+        if k == 1:
+            d.expect("accept", "constructed: no time, no rate check")
+        if k == 2:
+            d.expect("accept", "constructed")
+            d.expect("flag FL_REPLACED", "constructed: the first reading retracted")
+            d.expect("value gph_m 0.0 0.001", "USSA76: the standard's surface pressure at 0 gpm")
+            d.expect("value count 2 0", "constructed: readings 1 and 2")
+            d.expect("value retracted 1 0", "constructed")
+        if k == 59:
+            d.expect("value gph_m %r 0.002" % h, "USSA76 pressure at %g gpm" % h)
+    return d
+
+
+def unit_switch():
+    atm = S.StandardAtmosphere()
+    d = Doc("unit_switch", """\
+An ascent at 5 gpm/s, 1 s apart; from reading 100 to 139 the pressure comes
+in hPa (the value in Pa divided by 100): 31 km above the column in 1 s, a
+factor 100 in pressure. The first two are rejected by rate; the run that
+would take over is refused ('pressure': no flight moves the pressure by a
+factor beyond 5 between two readings) for as long as it lasts; from reading
+140 on the pressure is in Pa again and agrees with the column: accepted, no
+level, no tropopause, heights the standard's.""")
+    d.setting("lat_deg", LAT)
+    for k in range(160):
+        h = 5.0 * k
+        p = atm.p_pa(h) / (100.0 if 100 <= k < 140 else 1.0)
+        d.reading((p, atm.t_k(h), None, k, None))
+        if k in (100, 101):
+            d.expect("reject rate", "constructed: 31 km in 1 s")
+        if 102 <= k < 140 and k % 10 in (2, 9):
+            d.expect("reject pressure", "constructed: a factor 100 from the latest accepted reading")
+        if k == 140:
+            d.expect("accept", "constructed: Pa again, 205 gpm in 41 s")
+        if k == 159:
+            d.expect("value gph_m %r 0.002" % h, "USSA76 pressure at %g gpm" % h)
+    d.expect("no_event tropopause", "constructed: the stream climbs to 795 gpm only")
+    d.expect("no_event burst", "constructed: the stream only climbs")
+    return d
+
+
+def pad_drift():
+    atm = S.StandardAtmosphere()
+    d = Doc("pad_drift", """\
+Three hours on the pad, one reading every 10 s, while the weather lowers the
+pressure by 1 hPa/h (about 8.6 gpm/h: 26 gpm in 3 h, past launch_gpm); then
+an ascent at 5 gpm/s. The track's rate on the pad is 0.0024 gpm/s, below
+launch_rate_gpm_s (0.5): no launch until the balloon climbs; the launch comes
+within 60 s of it. Pressure and temperature: the U.S. Standard Atmosphere
+1976 (the pad at 0 gpm, the drift subtracted).""")
+    d.setting("lat_deg", LAT)
+    d.setting("sigma_p_pa", 2)
+    n_pad = 1080
+    drop = 100.0 * n_pad * 10 / 3600.0
+    for k in range(n_pad + 60):
+        h = 0.0 if k < n_pad else 50.0 * (k - n_pad + 1)
+        p = atm.p_pa(h) - (100.0 * k * 10 / 3600.0 if k < n_pad else drop)
+        d.reading((p, atm.t_k(h), None, 10 * k, None))
+    d.expect("event launch %d %d" % (n_pad, n_pad + 6),
+             "constructed: the climb starts at reading %d, 10 s apart" % n_pad)
+    return d
+
+
 def documents():
     out = [ascent_levels(), straddle(), first_bad(), time_glitch(), gap_glitch(), start_guard(),
-           flight_events()[0], float_ms()[0], humidity_held(), gps_nofix()]
+           flight_events()[0], float_ms()[0], humidity_held(), gps_nofix(), spike_back(),
+           first_bad_untimed(), unit_switch(), pad_drift()]
     return dict((d.name + ".txt", d.text()) for d in out)
 
 

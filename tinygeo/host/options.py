@@ -602,17 +602,17 @@ def setup_from_site(site, a, meta):
 
 class LevelTap:
     """``on_event`` hook of a host column: collects every mandatory level a
-    reading crossed (the column calls it once per level when one reading
-    crosses several, and its return bits name only the highest). The caller
-    empties ``levels`` before each feed."""
+    reading crossed (the column calls it once per feed, after the reading is
+    committed; col.levels holds every level of this reading, lowest first,
+    level_* names the highest). The caller empties ``levels``
+    before each feed."""
 
     def __init__(self):
         self.levels = []
 
     def __call__(self, col, bits):
         if bits & 1:     # EV_LEVEL (tinygeo.record.EV_LEVEL)
-            self.levels.append((col.level_p_pa, col.level_gph_m, col.level_height_m,
-                                col.level_t_k))
+            self.levels.extend(col.levels)
 
 
 def new_column(setup):

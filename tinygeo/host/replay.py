@@ -416,7 +416,7 @@ def _nan(x):
 
 # --- message tidying ---------------------------------------------------------------
 _OPTION_HINTS = (
-    ("(max_t_step_k=None: no check)",
+    ("(max_t_step_k=None turns this check off)",
      "(limits: --max-t-step, --max-t-rate, --max-t-gradient)"),
     ("(max_t_step_k=None turns this check off)",
      "(limits: --max-t-step, --max-t-rate, --max-t-gradient)"),
