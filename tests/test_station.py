@@ -406,13 +406,15 @@ def test_interleaved_bad_readings_give_bit_identical_results():
 
 def test_messages_name_the_argument_and_the_fix():
     s = Station(3.5, 54.2)
+    s.feed(100500.0, 285.0, 80.0, 99)
     s.feed(100500.0, 285.0, 80.0, 100)
     cases = [((1005.0, 285.0, 80.0, 101), "hPa or mbar passed"),
              ((100500.0, 12.0, 80.0, 101), "Celsius"),
              ((100500.0, 285.0, 0.5, 101), "rh_pct=0.5 steps"),
              ((100500.0, 285.0, 80.0, 100 - 2401), "clock set back"),
              ((100500.0, 285.0, 80.0, 100 + 2401), "2401 s after the latest accepted "
-              "reading's 100, beyond the clock step of 2400 s"),
+              "reading's 100, beyond the clock step of 2400 s (max_gap_s + average_s) and "
+              "twice the latest spacing (1 s)"),
              ((100500.0, 285.0, 80.0, None), "time_s is required"),
              ((101200.0, 285.0, 80.0, 101), "p_pa=101200.0 steps +700 Pa in 1 s"),
              ((70000.0, 285.0, 80.0, 101), "pressure altitude"),
@@ -536,11 +538,12 @@ def test_a_clock_set_back_restarts_after_takeover_readings():
         assert e.value.reason == "time"
     assert s.feed(100000.0, 285.0, 80.0, base + 2) == EV_RESTART
     assert events[-1] == EV_RESTART
-    assert s.averages == 0 and s.missing == 0 and s.p_pa != s.p_pa
+    # the averages start afresh; their count goes on (5 completed before)
+    assert s.averages == 5 and s.missing == 0 and s.p_pa != s.p_pa
     assert s.count == 3601 and s.rejected == 2
     # it goes on, on the new clock
     _steady(s, 1200, base + 3)
-    assert s.averages == 2
+    assert s.averages == 7
 
 
 def test_a_small_clock_step_back_is_held_and_keeps_the_history():
@@ -872,7 +875,7 @@ def test_checkpoint_of_a_fresh_station_and_refusals():
         Station.from_bytes(C.pack(S._MAGIC, S._VERSION, g[:-1], ints))
     k = len(S._CFG_I) + S._ST_I.index("flags")
     j = list(ints)
-    j[k] = 999
+    j[k] = 4096
     with pytest.raises(CheckpointError):
         Station.from_bytes(C.pack(S._MAGIC, S._VERSION, f, j))
     # a recovery run without the stamp of its latest reading (feed would
@@ -1204,9 +1207,11 @@ def test_buoy_logger_restarts_after_a_clock_set_back(tmp_path):
     assert out.count("rejected time") == 2
     assert "#1002 restart at time_s 482:" in out
     # the new station: readings at 482..779 s (count goes on: 1 000 + 298),
-    # the average 0..600 s completes at 600 s
+    # the average 0..600 s completes at 600 s; the count of averages goes on
+    # too: the first 1 000 readings (one minute at 1 Hz every 10 minutes)
+    # completed 16, the 17th was open at the restart and is dropped
     assert out.strip().splitlines()[-1] == \
-        "summary accepted 1298 rejected 2 averages 1 missing 0"
+        "summary accepted 1298 rejected 2 averages 17 missing 0"
 
 
 def test_buoy_slot_write_failure_is_retried(tmp_path, capsys):
@@ -1320,7 +1325,7 @@ def test_far_stamps_never_break_a_checkpoint():
             bits = s.feed(100500.0, 285.0, 80.0, far + k)
         except ReadingError as e:
             assert k < 2 and e.reason == "time"
-    assert bits & EV_RESTART and s.averages == 0 and s.count == 13
+    assert bits & EV_RESTART and s.averages == 2 and s.count == 13
     blob = s.to_bytes()
     assert Station.from_bytes(blob).to_bytes() == blob
     f = Station(3.5, 54.2, 600)
@@ -1349,3 +1354,109 @@ def test_a_stuck_clock_is_refused_before_anything_changes():
     before.pop("rejected"), after.pop("rejected")
     assert all(before[k] == after[k] or (before[k] != before[k] and after[k] != after[k])
                for k in before if not isinstance(before[k], list)) and s._run == 1
+
+
+@pytest.mark.parametrize("every_s, kw", [(3600, {}), (2700, {}), (7200, {"average_s": 3600}),
+                                         (90, {"average_s": 60, "max_gap_s": 0})])
+def test_sparse_readings_never_lock_the_station(every_s, kw):
+    # readings further apart than the clock step (max_gap_s + average_s) from
+    # the start: the spacing is the station's own, so they are all accepted
+    # (constructed; they were refused for good before)
+    s = Station(3.5, 54.2, **kw)
+    for i in range(30):
+        s.feed(100000.0 + 5 * math.sin(i), 285.0 + 0.1 * math.sin(i), 80.0, 1000 + every_s * i)
+    assert (s.count, s.rejected) == (30, 0) and s.averages == 29
+
+
+def test_a_longer_gap_in_sparse_readings_is_bridged_after_takeover_readings():
+    # hourly readings, then 5 hours without: the first two after the gap
+    # (more than twice the spacing and beyond the clock step) are refused, the
+    # third goes on at the hourly spacing (constructed)
+    s = Station(3.5, 54.2)
+    for i in range(10):
+        s.feed(100000.0 + i, 285.0, 80.0, 3600 * i)
+    for i in (14, 15):
+        with pytest.raises(ReadingError) as e:
+            s.feed(100000.0 + i, 285.0, 80.0, 3600 * i)
+        assert e.value.reason == "time" and "twice the latest spacing (3600 s)" in str(e.value)
+    for i in range(16, 30):
+        s.feed(100000.0 + i, 285.0, 80.0, 3600 * i)
+    assert (s.count, s.rejected) == (24, 2)
+
+
+def test_every_state_a_station_reaches_is_restorable():
+    # states the checks accept at their edges (attack cases): a barometer
+    # drifting 2 Pa/s for 3 h 20 min (tendency beyond -20 000 Pa), 339.9 K at
+    # 103 % (dew point above 340 K), a station without a guard fed a pressure
+    # 2 km off (sea-level pressure far out, FL_MSLP_ODD): each blob restores
+    # (constructed; wiggles keep the stuck test quiet)
+    def w(i):
+        return 0.01 * (i % 7)
+    a = Station(3.5, 54.2)
+    for i in range(12000):
+        a.feed(110000.0 - 2.0 * i, 285.0 + w(i), 80.0 + w(i), i)
+    assert a.tendency_3h_pa < -20000
+    b = Station(3.5, 54.2)
+    for i in range(700):
+        b.feed(100000.0 + w(i), 339.9 - w(i), 103.0 - w(i), i)
+    assert b.dew_point_k > 340
+    c = Station(3.5, 54.2, guard_m=None)
+    for i in range(700):
+        c.feed(78000.0 + w(i), 285.0 + w(i), 80.0 + w(i), i)
+    assert c.mslp_pa < 80000 and c.flags & S.FL_MSLP_ODD
+    for st in (a, b, c):
+        blob = st.to_bytes()
+        assert Station.from_bytes(blob).to_bytes() == blob
+
+
+def test_a_frozen_sensor_driver_shows_as_stuck_averages_not_a_gap():
+    # the driver repeats its last reading for 4 hours: each average completes
+    # (EV_AVERAGE) with nan values and FL_STUCK_P | FL_STUCK_T | FL_STUCK_RH,
+    # and no gap is reported after it (constructed)
+    s = Station(3.5, 54.2, 600)
+    _steady(s, 3600)
+    seen = []
+    for i in range(3600, 3600 + 4 * 3600):
+        bits = s.feed(100036.0, 288.6, 83.6, i)
+        if bits & S.EV_AVERAGE:
+            seen.append((s.flags, s.p_pa))
+    stuck = S.FL_STUCK_P | S.FL_STUCK_T | S.FL_STUCK_RH
+    assert len(seen) == 24 and all(f & stuck == stuck and p != p for f, p in seen[1:])
+    _go_on(s, 3600, 1200, 4 * 3600)
+    assert not s.flags & S.FL_GAP and s.missing == 0 and s.p_pa == s.p_pa
+
+
+def test_a_stopped_clock_is_flagged():
+    # 10 Hz readings on a 1 s clock (10 per stamp: not flagged), then the
+    # clock stops for 500 readings: the average that holds them says so
+    # (FL_CLOCK_STUCK: stuck_readings, 60, or more in a row with one stamp)
+    # (constructed)
+    s = Station(3.5, 54.2, 600)
+    for i in range(13000):
+        s.feed(100000.0 + 0.01 * (i % 50), 285.0 + 0.001 * (i % 30), 80.0 + 0.01 * (i % 9), i // 10)
+    assert s.averages == 2 and not s.flags & S.FL_CLOCK_STUCK
+    for i in range(500):
+        s.feed(100000.0 + 0.01 * (i % 50), 285.0 + 0.001 * (i % 30), 80.0 + 0.01 * (i % 9), 1300)
+    s.feed(100000.0, 285.0, 80.0, 1801)
+    assert s.averages == 3 and s.flags & S.FL_CLOCK_STUCK
+    assert s.average_readings == 1000 + 500          # 1200..1299 s at 10 Hz, then 500 stuck at 1300
+
+
+def test_a_height_in_feet_flags_the_sea_level_pressure():
+    # a station 610 m up configured as 2000 (feet): inside the 2000 m guard,
+    # but its sea-level pressure, about 1190 hPa, lies beyond any observed
+    # (FL_MSLP_ODD); the right height gives a plausible one (constructed)
+    p610 = 94400.0     # a pressure about right at 610 m (USSA76, from memory: 94.3 kPa)
+    for h, odd in ((2000.0, True), (610.0, False)):
+        s = Station(h, 47.0)
+        for i in range(700):
+            s.feed(p610 + 0.1 * (i % 5), 285.0 + 0.01 * (i % 3), 70.0 + 0.1 * (i % 4), i)
+        assert bool(s.flags & S.FL_MSLP_ODD) == odd, (h, s.mslp_pa)
+
+
+def test_unit_hints_name_kpa_inhg_and_fahrenheit():
+    from tinygeo.errors import pressure_hint, temperature_hint
+    assert "kPa passed? multiply by 1000" in pressure_hint(101.325)
+    assert "inHg passed? multiply by 3386.39" in pressure_hint(29.92)
+    assert "hPa or mbar passed? multiply by 100" in pressure_hint(1013.25)
+    assert "Fahrenheit" in temperature_hint(53.6)

@@ -122,7 +122,7 @@ def check_range(name, value, lo, hi, unit, hint=None, error=RangeError):
 def temperature_hint(t):
     """A hint for a temperature in kelvin that was rejected, or None."""
     if -100 <= t <= 70:
-        return "Celsius passed? add 273.15"
+        return "Celsius passed? add 273.15 (Fahrenheit: add 459.67, divide by 1.8)"
     if -150 <= t <= 160 and t != 0:
         return "Fahrenheit or Celsius passed? convert to kelvin"
     return None
@@ -130,6 +130,10 @@ def temperature_hint(t):
 
 def pressure_hint(p):
     """A hint for a pressure in pascal that was rejected, or None."""
+    if 25 <= p <= 32.5:
+        return "inHg passed? multiply by 3386.39 (hPa or mbar: by 100)"
+    if 50 <= p <= 110:
+        return "kPa passed? multiply by 1000 (hPa or mbar: by 100)"
     if 0 < p <= 1200:
         return "hPa or mbar passed? multiply by 100"
     if 1200 < p <= 1200000 and p >= 120000:

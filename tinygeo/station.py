@@ -72,8 +72,12 @@ Checks (a reading failing one raises ReadingError; see "Checks")
   since it), Pa 0..100000 (None: no check) and Pa/s 0..1000. Defaults 50 Pa
   (0.5 hPa, of the order of the step limits in WMO guidance on the quality
   control of automatic weather station data, from memory; above the
-  reading-to-reading heave of a buoy in high seas, about 40 Pa in 1 s for
-  8 m waves of 8 s) and 1 Pa/s (36 hPa/h, beyond the fastest changes at a
+  reading-to-reading heave of a buoy in a regular sea of 8 m waves of 8 s,
+  about 40 Pa in 1 s; an irregular sea of 8 m significant height has single
+  waves of up to about twice that, which step a 1 Hz reading by up to about
+  80 Pa: a review measured hundreds of rejections in 6 hours and FL_TAKEOVER
+  on every average there, with the averages still right within 0.5 Pa; set
+  100 Pa for buoys in storms) and 1 Pa/s (36 hPa/h, beyond the fastest changes at a
   fixed point in intense tropical cyclones and squall lines; common
   practice).
 - max_t_step_k, max_t_rate_k_s: the same for temperature, K 0..100 (None: no
@@ -186,7 +190,14 @@ temperature 12 hours earlier: the reduction used the latest one), FL_FEW 64
 FL_TAKEOVER 128 (readings that contradicted the latest accepted one by a
 step took over during this average: a sensor's real jump), FL_CLOCK_HELD
 256 (readings stamped before the latest accepted one, by no more than the
-clock step, were taken at the latest stamp in this average; see "Recovery").
+clock step, were taken at the latest stamp in this average; see "Recovery"),
+FL_CLOCK_STUCK 512 (stuck_readings readings in a row or more had the same
+time stamp in this average: a clock that stopped puts everything into one
+average), FL_MSLP_ODD 1024 (the sea-level pressure lies outside 870..1085
+hPa, beyond the lowest and highest ever observed (WMO records, from memory):
+a wrong height_m, in feet say, is the likely cause). An average whose
+readings were all stuck still completes, with nan values and its FL_STUCK_*
+flags (a frozen sensor driver shows as such, not as a gap).
 
 Recovery
 --------
@@ -206,8 +217,8 @@ checks) form a run; after takeover_readings (3, 2..100) of them the run is
 followed, so no station locks. A run that began by going back in time (a
 clock set back) or that outnumbers what the station accepted (a bad first
 reading) restarts the station from its latest reading (EV_RESTART: the
-averages, the tendency and its history start afresh; count and rejected go
-on); a run that began by jumping ahead (the first readings after a long
+averages, the tendency and its history start afresh; count, rejected,
+averages and missing go on); a run that began by jumping ahead (the first readings after a long
 outage) goes on from its latest reading, the averages in between missing
 (FL_GAP; a restart if the jump is beyond 2**30 averages); a run of steps
 (a sensor that really jumped) is accepted from its latest reading on into
@@ -323,6 +334,12 @@ FL_NO_T12 = 32
 FL_FEW = 64
 FL_TAKEOVER = 128
 FL_CLOCK_HELD = 256
+FL_CLOCK_STUCK = 512
+FL_MSLP_ODD = 1024
+MSLP_LO_PA = 87000.0
+MSLP_HI_PA = 108500.0
+"""The lowest and highest sea-level pressures observed (about 870 and 1084
+hPa, WMO records; from memory), rounded outwards: FL_MSLP_ODD beyond them."""
 EV_RESTART = 8
 
 P_MIN_PA = 40000.0
@@ -476,27 +493,27 @@ _CFG_I = ("ice", "min_readings", "_stuck_set", "mean12", "takeover_readings")
 # state: the latest average's results and the sums of the average being built
 _ST_F = ("p_pa", "t_k", "rh_pct", "dew_point_k", "mslp_pa", "qnh_pa", "iso_gph_m",
          "tendency_3h_pa", "change_24h_pa", "_rp", "_sp", "_cp", "_rt", "_st", "_rr", "_sr",
-         "_lp", "_lt", "_lrh", "_rn_p", "_rn_t", "_rn_rh")
+         "_lp", "_lt", "_lrh", "_rn_p", "_rn_t", "_rn_rh", "_dtl", "_rn_dt")
 # time stamps as given (stored relative to the first one when it is an int)
 _TS_F = ("_ts", "_tsrh", "_rn_ts", "_rn_tsrh")
 _ST_I = ("count", "rejected", "averages", "missing", "flags", "_code", "gap_s",
          "average_readings", "_k", "_kring", "_klast", "_np", "_nt", "_nr", "_sflags",
          "_runp", "_runt", "_runr", "_inp", "_int", "_inr", "_nslot", "_t0_int", "_t0_hi",
-         "_t0_lo", "_run", "_rn_time")
+         "_t0_lo", "_run", "_rn_time", "_runts")
 _RESTORE = ("count 0 1073741823;rejected 0 1073741823;averages 0 1073741823;"
-            "missing 0 1073741823;flags 0 511;_code -1 8;gap_s 0 1073741823;"
+            "missing 0 1073741823;flags 0 2047;_code -1 8;gap_s 0 1073741823;"
             "average_readings 0 1073741823;"
             "_k -1 1073741823;_kring -1 1073741823;_klast -1 1073741823;_np 0 1073741823;"
-            "_nt 0 1073741823;_nr 0 1073741823;_sflags 0 511;_t0_hi -1073741824 1073741823;"
+            "_nt 0 1073741823;_nr 0 1073741823;_sflags 0 2047;_t0_hi -1073741824 1073741823;"
             "_runp 0 1073741823;_runt 0 1073741823;_runr 0 1073741823;_inp 0 1073741823;"
             "_int 0 1073741823;_inr 0 1073741823;_nslot 0 1073741823;"
-            "p_pa 40000 115000 n;t_k 180 340 n;rh_pct -3 103 n;mslp_pa 0 200000 n;"
+            "p_pa 40000 115000 n;t_k 180 340 n;rh_pct -3 103 n;mslp_pa 0 1000000 n;"
             "_lp 40000 115000 n;_lt 180 340 n;_lrh -3 103 n;_run 0 99;_rn_time 0 2;"
-            "_rn_p 40000 115000 n;_rn_t 180 340 n;_rn_rh -3 103 n;dew_point_k 100 340 n;"
-            "qnh_pa 0 200000 n;iso_gph_m -2000 12000 n;tendency_3h_pa -20000 20000 n;"
-            "change_24h_pa -75000 75000 n;_rp 40000 115000 n;_rt 180 340 n;_rr -3 103 n")
+            "_rn_p 40000 115000 n;_rn_t 180 340 n;_rn_rh -3 103 n;dew_point_k 100 350 n;"
+            "qnh_pa 0 200000 n;iso_gph_m -100000 100000 n;tendency_3h_pa -75000 75000 n;"
+            "change_24h_pa -75000 75000 n;_dtl 0 1e19;_rn_dt 0 1e19;_runts 0 1073741823;_rp 40000 115000 n;_rt 180 340 n;_rr -3 103 n")
 _MAGIC = b"TGST"
-_VERSION = 2
+_VERSION = 3
 
 
 class Station:
@@ -620,6 +637,9 @@ class Station:
         self._rn_time = 0
         self._rn_p = self._rn_t = self._rn_rh = nan
         self._rn_ts = self._rn_tsrh = None
+        self._rn_dt = 0           # the run's latest step in time
+        self._dtl = 0             # the latest step in time between accepted readings
+        self._runts = 0           # readings in a row with the same stamp
 
     # ------------------------------------------------------------ results
     @property
@@ -701,9 +721,11 @@ class Station:
         if restart == 1:
             # a clock set back, a bad first reading, or the end of the slot
             # numbers: start afresh from this reading (the counters go on)
-            c, r = self.count, self.rejected
+            c, r, a, m = self.count, self.rejected, self.averages, self.missing
+            run = self._rn_dt
             self._reset()
-            self.count, self.rejected = c, r
+            self.count, self.rejected, self.averages, self.missing = c, r, a, m
+            self._dtl = run
         # 3. accepted: into the average (closing the one before if this
         # reading starts a new one)
         if self.count == 0 or restart == 1:
@@ -723,6 +745,17 @@ class Station:
             self._sflags |= FL_TAKEOVER
         if held:
             self._sflags |= FL_CLOCK_HELD
+        if self.count and restart != 1:
+            self._dtl = ts - self._ts
+            if ts == self._ts and not held:
+                if self._runts < COUNT_MAX:
+                    self._runts += 1
+            else:
+                self._runts = 1
+        else:
+            self._runts = 1
+        if self._stuck and self._runts >= self._stuck:
+            self._sflags |= FL_CLOCK_STUCK
         self._add(p, t, rh)
         self._ts = ts
         if rh == rh:
@@ -737,15 +770,15 @@ class Station:
             self.on_event(self, bits)
         return bits
 
-    def _against(self, p, t, rh, ts, lp, lt, lrh, lts, ltsrh):
+    def _against(self, p, t, rh, ts, lp, lt, lrh, lts, ltsrh, ahead=True):
         # None if the reading agrees with the reference reading (lp, lt, lrh
         # at stamps lts, ltsrh): time not going back, steps within the
         # allowance; else why not: the arguments of _bad
         dt = ts - lts
         if dt < 0:
             return ("time", 5, quote(ts), lts, self._clock_s)
-        if dt > self._clock_s:
-            return ("time", 7, quote(ts), dt, lts, self._clock_s)
+        if ahead and dt > self._clock_s and dt > 2 * self._dtl and self.count >= 2:
+            return ("time", 7, quote(ts), dt, lts, self._clock_s, self._dtl)
         d = p - lp
         if d > self._ps or d < -self._ps:
             allow = self._ps + self.max_p_rate_pa_s * dt
@@ -774,13 +807,16 @@ class Station:
         # more readings than the run), 2 when it goes on from this reading
         # (a real jump of a sensor: FL_TAKEOVER on the average it goes into)
         if self._run and not self._against(p, t, rh, ts, self._rn_p, self._rn_t, self._rn_rh,
-                                           self._rn_ts, self._rn_tsrh):
+                                           self._rn_ts, self._rn_tsrh, False):
+            # (within a run, time may step ahead by any amount: sparse readings)
             self._run += 1
+            self._rn_dt = ts - self._rn_ts
         else:
             self._run = 1
             # 1: began going back in time, 2: jumping ahead, 0: a step
             self._rn_time = (1 if why[1] == 5 else 2) if why[0] == "time" else 0
             self._rn_tsrh = None
+            self._rn_dt = 0
         self._rn_p = p
         self._rn_t = t
         self._rn_rh = rh
@@ -793,7 +829,9 @@ class Station:
         if self._rn_time == 1 or self.count <= self.takeover_readings:
             return 1
         if self._rn_time == 2:
-            # after a long outage: go on with the averages in between missing
+            # after a long outage, or readings sparser than before: go on
+            # with the averages in between missing, at the run's spacing
+            self._dtl = self._rn_dt
             return 0
         return 2
 
@@ -928,9 +966,6 @@ class Station:
         if rt is not None:
             rt[k % self._n12] = t
         self._kring = k
-        if p != p and t != t:
-            # nothing usable (all stuck or too few): a missing average
-            return 0
         bits = EV_AVERAGE
         gap = 0
         if self._klast >= 0:
@@ -969,6 +1004,8 @@ class Station:
                 else:
                     fl |= FL_NO_T12
             mslp = msl_tv(p, tr, self._gph)
+            if not MSLP_LO_PA <= mslp <= MSLP_HI_PA:
+                fl |= FL_MSLP_ODD
             if self.iso_p_pa is not None:
                 iso = iso_tv(p, tv, self._gph, self.iso_p_pa)
         if p == p:
@@ -1023,8 +1060,9 @@ class Station:
                "|%s=%s steps %+.3g %s in %s s, beyond the %.3g allowed; spike? (%s=None "
                "turns this check off)"                                     # 6
                "|time_s=%s is %.0f s after the latest accepted reading's %s, beyond the "
-               "clock step of %g s (max_gap_s + average_s); a stamp ahead, or a long "
-               "outage: takeover_readings in a row go on from it"         # 7
+               "clock step of %g s (max_gap_s + average_s) and twice the latest spacing "
+               "(%g s); a stamp ahead, or a long outage: takeover_readings in a row go "
+               "on from it"                                               # 7
                "|time_s=%s: 2**30 readings in one average; is the clock stuck?"  # 8
                ).split("|")[i] % args
         if self.rejected < COUNT_MAX:

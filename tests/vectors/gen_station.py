@@ -439,7 +439,8 @@ latest accepted reading): its first two readings are refused, the third
 agrees with them and takes over (takeover_readings 3; FL_TAKEOVER on that
 average), so the checks do not lock the station. Last, the clock is set back
 50 minutes: two readings are refused, the third restarts the station
-(EV_RESTART; the averages start afresh, count and rejected go on).""")
+(EV_RESTART; the averages start afresh; count, rejected and the count of
+averages go on).""")
     d.setting("height_m", h)
     d.setting("lat_deg", lat)
     d.setting("average_s", 300)
@@ -528,7 +529,7 @@ average), so the checks do not lock the station. Last, the clock is set back
             n_good += 1
     d.value("count", n_good, 0, "constructed: counted on through the restart")
     d.value("rejected", n_bad, 0, "constructed")
-    d.value("averages", 0, 0, "constructed: the averages start afresh")
+    d.value("averages", 3, 0, "constructed: counted on through the restart (no new one yet)")
     d.value("p_pa", float("nan"), 0, "constructed: no average yet after the restart")
     return d
 
