@@ -1460,3 +1460,14 @@ def test_unit_hints_name_kpa_inhg_and_fahrenheit():
     assert "inHg passed? multiply by 3386.39" in pressure_hint(29.92)
     assert "hPa or mbar passed? multiply by 100" in pressure_hint(1013.25)
     assert "Fahrenheit" in temperature_hint(53.6)
+
+
+def test_fog_at_100_percent_is_not_a_stuck_humidity():
+    # saturated air holds the humidity at 100.0 for two hours: the averages
+    # keep their humidity and dew point (constructed); 99.0 held as long is
+    # stuck
+    for rh, stuck in ((100.0, False), (99.0, True)):
+        s = Station(3.5, 54.2, 600)
+        for i in range(7200):
+            s.feed(100000.0 + 0.01 * (i % 50), 285.0 + 0.001 * (i % 30), rh, i)
+        assert bool(s.flags & S.FL_STUCK_RH) == stuck and (s.rh_pct == rh) != stuck

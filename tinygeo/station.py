@@ -108,7 +108,9 @@ Checks (a reading failing one raises ReadingError; see "Checks")
   automatic stations (minimum variability over 60 minutes, from memory),
   and a minute of a 1 Hz sensor whose noise and heave change its last digit
   every few readings. A coarse sensor read often (0.1 K every second) needs
-  a larger value, or its steady readings are taken for stuck ones.
+  a larger value, or its steady readings are taken for stuck ones. A
+  humidity of 100 % or more is never taken for stuck: saturated air (fog)
+  holds a sensor there for hours (common practice).
 
 Tendency
 - steady_pa: the change within which a part of the 3-hour trace counts as
@@ -913,7 +915,7 @@ class Station:
             return
         if self._rr != self._rr:
             self._rr = rh          # the first humidity of this average
-        if rh == self._lrh:
+        if rh == self._lrh and rh < 100.0:     # (saturation is not a stuck sensor)
             if self._runr < COUNT_MAX:
                 self._runr += 1
         else:
