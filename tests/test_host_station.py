@@ -589,3 +589,43 @@ def test_station_table_end_prefix_is_the_column_tables():
     # stationrecord imports nothing (a buoy logger loads only it): its end
     # record prefix is written out and must stay the column table's
     assert stationrecord.END_PREFIX == record.END_PREFIX
+
+
+# ================================================================ flags everywhere
+def _station_flags():
+    from tinygeo import station
+    return sorted((getattr(station, n), n) for n in dir(station) if n.startswith("FL_"))
+
+
+def test_every_station_flag_is_named_in_help_readme_summary_and_plot(tmp_path):
+    # each FL_* bit of tinygeo.station: a line of 'tinygeo station --help', a
+    # name in README's "Stations and buoys", a word of the summary's '#: flags'
+    # record and a row of the plot's QC strip
+    from tinygeo.host import plot
+    flags = _station_flags()
+    assert len(flags) == 11 and flags[-1] == (1024, "FL_MSLP_ODD")
+    rc, out, err = main(["station", "--help"])
+    assert rc == 0
+    doc = (ROOT / "README.md").read_text()
+    doc = doc[doc.index("## Stations and buoys"):doc.index("## The host companion")]
+    words = dict(stationlog.FLAG_WORDS)
+    labels = dict(plot.STATION_FLAG_LABELS)
+    for bit, name in flags:
+        assert ("\n  %-5d" % bit) in out, name
+        assert "`%s`" % name in doc or (name.startswith("FL_STUCK") and "`FL_STUCK_P/T/RH`" in doc), name
+        assert bit in words and words[bit] in labels, name
+    rc, out, err = main(["station", "-", "--quiet"], relabel("time_s,pressure_hpa,temp_c,rh_pct"))
+    got = records(out)["flags"]
+    assert sorted(got) == sorted(words.values())
+    # the plot's QC strip has a row for a flag an average carries: 1024 on a
+    # row of a hand-made table (the rows are drawn as written)
+    pytest.importorskip("matplotlib")
+    text = (stationrecord.MAGIC + "\n# station height_m=3.5 lat_deg=54.2 average_s=600\n"
+            + "\t".join(stationrecord.COLUMNS) + "\n"
+            + "".join("%d.000\t100000.00\t100040.00\t100040.00\tnan\t-\tnan\t285.000\t80.00\t"
+                      "281.500\t%d\t60\n" % (600 * (k + 1), 1024 if k == 2 else 0)
+                      for k in range(6)))
+    data = plot.StationData(table.StationTableReader(io.StringIO(text), "t"))
+    fig = plot.draw_station(data, str(tmp_path / "f.png"), "t", 40)
+    qc = fig.axes[4]
+    assert [t.get_text() for t in qc.get_yticklabels()] == [labels["mslp_odd"]]

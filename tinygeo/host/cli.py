@@ -170,23 +170,23 @@ STATION_MAPPING_HELP = """column mapping (default: from the header names):
   (#) before the header may set height_m= and lat_deg=; options given here
   take precedence."""
 
-STATION_FLAGS_TEXT = """flags (the table's flags column: a sum of these bits):
-  1    stuck pressure readings taken out of this average
-  2    stuck temperature readings taken out
-  4    stuck humidity readings taken out
-  8    averages missing just before this one (a gap)
-  16   tendency or its characteristic unknown (an end average missing, or a
-       gap in the 3 hours longer than --max-gap)
-  32   --mean12: no temperature 12 hours earlier (the latest one was used)
-  64   a quantity had fewer than --min-readings readings (nan in this average)
-  128  a run of readings that contradicted the latest accepted one took over
-       (a sensor's real jump)
-tend_code: the characteristic of pressure tendency, WMO code table 0200
+STATION_NOTES_TEXT = """tend_code: the characteristic of pressure tendency, WMO code table 0200
   (0..8, '-' when unknown); the rule is in tinygeo/station.py.
 
 Not for aviation: qnh_pa is computed for the barometer's height with the
 standard atmosphere; altimeter settings come from an aerodrome's certified
 instruments and its met service. Follow your met service's practice."""
+
+
+def _station_flags_text():
+    # every FL_* bit of tinygeo.station with its sentence (stationlog.FLAG_TEXT)
+    import textwrap
+    from tinygeo.host.stationlog import FLAG_TEXT
+    lines = ["flags (the table's flags column: a sum of these bits):"]
+    for bit, text in FLAG_TEXT:
+        lines.extend(textwrap.wrap(text, 76, initial_indent="  %-5d" % bit,
+                                   subsequent_indent=" " * 7))
+    return "\n".join(lines) + "\n" + STATION_NOTES_TEXT
 
 
 def _station_limit(text):
@@ -307,7 +307,7 @@ def build_parser():
                     "Rejected readings are reported on stderr with their line number. Draw "
                     "the table with 'tinygeo plot TABLE -o FILE'.",
         epilog="table layout: see tinygeo/record.py (station table).\n\n" + EXIT_TEXT + "\n\n" +
-               STATION_FLAGS_TEXT + "\n\nfirst try:  tinygeo station examples/buoy_day.csv",
+               _station_flags_text() + "\n\nfirst try:  tinygeo station examples/buoy_day.csv",
         formatter_class=argparse.RawDescriptionHelpFormatter)
     sp.add_argument("log", help="log file, or - for standard input")
     _add_mapping(sp, gps=False, text=STATION_MAPPING_HELP)

@@ -276,7 +276,9 @@ def draw(pts, setup, records, out_path, title, dpi, origin=None, fmt=None):
 # --- station tables ---------------------------------------------------------------------
 STATION_FLAG_LABELS = (("stuck_p", "stuck p"), ("stuck_t", "stuck T"), ("stuck_rh", "stuck RH"),
                        ("gap", "gap before"), ("few", "few readings"), ("takeover", "takeover"),
-                       ("trend_gap", "no tendency"), ("no_t12", "no T 12 h ago"))
+                       ("trend_gap", "no tendency"), ("no_t12", "no T 12 h ago"),
+                       ("clock_held", "clock held"), ("clock_stuck", "clock stuck"),
+                       ("mslp_odd", "MSLP beyond records"))
 
 
 class StationData:
@@ -322,7 +324,8 @@ class StationData:
 
 def draw_station(data, out_path, title, dpi, fmt=None):
     """Render a station table's figure (``data``: StationData) to
-    ``out_path`` in ``fmt`` (png, svg, pdf; default: the path's suffix)."""
+    ``out_path`` in ``fmt`` (png, svg, pdf; default: the path's suffix);
+    returns the matplotlib Figure."""
     from matplotlib.figure import Figure
     from matplotlib.backends.backend_agg import FigureCanvasAgg
 
@@ -448,6 +451,7 @@ def draw_station(data, out_path, title, dpi, fmt=None):
     meta = {"svg": {"Date": None}, "pdf": {"CreationDate": None, "ModDate": None},
             "png": {"Software": None}}[fmt]
     fig.savefig(out_path, dpi=dpi, format=fmt, metadata=meta)
+    return fig
 
 
 def _finite_range(values):

@@ -24,7 +24,8 @@ import datetime
 
 from tinygeo import stationrecord
 from tinygeo.station import (EV_AVERAGE, EV_RESTART, FL_STUCK_P, FL_STUCK_T, FL_STUCK_RH,
-                             FL_GAP, FL_TREND_GAP, FL_NO_T12, FL_FEW, FL_TAKEOVER)
+                             FL_GAP, FL_TREND_GAP, FL_NO_T12, FL_FEW, FL_TAKEOVER,
+                             FL_CLOCK_HELD, FL_CLOCK_STUCK, FL_MSLP_ODD)
 from tinygeo.host import table
 from tinygeo.host.options import (InputError, UsageError, one_line, round_numbers,
                                   station_default)
@@ -66,8 +67,31 @@ ISO_HPA_MAX = 1000.0
 
 FLAG_WORDS = ((FL_STUCK_P, "stuck_p"), (FL_STUCK_T, "stuck_t"), (FL_STUCK_RH, "stuck_rh"),
               (FL_GAP, "gap"), (FL_TREND_GAP, "trend_gap"), (FL_NO_T12, "no_t12"),
-              (FL_FEW, "few"), (FL_TAKEOVER, "takeover"))
-"""The station's flag bits with the summary's words for them."""
+              (FL_FEW, "few"), (FL_TAKEOVER, "takeover"), (FL_CLOCK_HELD, "clock_held"),
+              (FL_CLOCK_STUCK, "clock_stuck"), (FL_MSLP_ODD, "mslp_odd"))
+"""The station's flag bits with the summary's words for them (every FL_* of
+tinygeo.station: tests/test_host_station.py checks it)."""
+
+FLAG_TEXT = (
+    (FL_STUCK_P, "stuck pressure readings taken out of this average"),
+    (FL_STUCK_T, "stuck temperature readings taken out"),
+    (FL_STUCK_RH, "stuck humidity readings taken out (never at 100 % or more: fog)"),
+    (FL_GAP, "averages missing just before this one (a gap)"),
+    (FL_TREND_GAP, "tendency or its characteristic unknown (an end average missing, or a gap "
+                   "in the 3 hours longer than --max-gap)"),
+    (FL_NO_T12, "--mean12: no temperature 12 hours earlier (the latest one was used)"),
+    (FL_FEW, "a quantity had fewer than --min-readings readings (nan in this average)"),
+    (FL_TAKEOVER, "a run of readings that contradicted the latest accepted one took over (a "
+                  "sensor's real jump)"),
+    (FL_CLOCK_HELD, "readings stamped before the latest accepted one, by no more than the "
+                    "clock step (--max-gap + --average), were taken at the latest stamp (a "
+                    "clock corrected back a little)"),
+    (FL_CLOCK_STUCK, "--stuck readings in a row or more had the same time stamp (a clock that "
+                     "stopped: everything falls into one average)"),
+    (FL_MSLP_ODD, "the sea-level pressure lies outside 870..1085 hPa, beyond any ever observed: "
+                  "is --height the barometer's height in metres (not feet)?"),
+)
+"""The flag bits with a sentence each, for ``tinygeo station --help``."""
 
 
 def option_name(opt):
