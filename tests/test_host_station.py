@@ -629,3 +629,34 @@ def test_every_station_flag_is_named_in_help_readme_summary_and_plot(tmp_path):
     fig = plot.draw_station(data, str(tmp_path / "f.png"), "t", 40)
     qc = fig.axes[4]
     assert [t.get_text() for t in qc.get_yticklabels()] == [labels["mslp_odd"]]
+
+
+# ================================================================ the command's help and notes
+def test_station_help_has_its_own_exit_status_and_layout_file():
+    rc, out, err = main(["station", "--help"])
+    assert rc == 0
+    status = out[out.index("exit status:"):out.index("flags (")]
+    for words in ("compare", "lapse rate", "gps", "device table", "start height", "matplotlib"):
+        assert words not in status, words
+    for words in ("no time\n      column", "station's height or latitude not known", "--guard"):
+        assert words in status, words
+    assert "table layout: see tinygeo/stationrecord.py." in out and "record.py (" not in out
+    doc = (ROOT / "README.md").read_text()
+    doc = doc[doc.index("## Stations and buoys"):doc.index("## The host companion")]
+    assert "`tinygeo/stationrecord.py`" in doc and "`tinygeo/record.py`" not in doc
+
+
+def test_an_inferred_pressure_unit_is_noted_against_the_station_height_and_guard():
+    # kPa inferred from the values: the note names the station's height and
+    # its guard (2000 m by default, --guard), not a start height
+    log = station_log([1012.0 + 0.01 * i for i in range(30)], head="# lat_deg=58.5 height_m=2.8")
+    log = log.replace("pressure_hpa", "baro")
+    kpa = "\n".join(ln if not ln[0].isdigit() else
+                    ",".join([ln.split(",")[0], "%.4f" % (float(ln.split(",")[1]) / 10.0)]
+                             + ln.split(",")[2:]) for ln in log.splitlines()) + "\n"
+    rc, out, err = main(["station", "-"], kpa)
+    assert rc == 0, err
+    assert "taken as pressure in kPa" in err
+    assert "within 2000 m of the station's height 2.8 m" in err and "start height" not in err, err
+    rc, out, err = main(["station", "-", "--guard", "500"], kpa)
+    assert "within 500 m of the station's height 2.8 m" in err, err

@@ -41,6 +41,24 @@ EXIT_TEXT = """exit status:
       output named by a symbolic link is written to the file it points to)
   130 interrupted (Ctrl-C)"""
 
+STATION_EXIT_TEXT = """exit status:
+  0   success; also when the reader of standard output stops early ('| head')
+  2   usage or input error: bad option or station setting (--average must
+      divide 3 hours), the station's height or latitude not known,
+      unreadable file (not UTF-8, a NUL character, a line over 1 MiB), an
+      output that would overwrite an input, empty log, no header, no time
+      column, unknown column, two columns for one quantity, a unit the
+      values contradict or do not confirm (a pressure within --guard of the
+      station's height, a surface temperature), nothing accepted in the
+      first 50 readings, more than half of the readings rejected for one
+      reason (pressure, temperature, humidity, number, time; counted from
+      the 100th reading on)
+  4   an output could not be written (full disk, closed standard output, an
+      existing read-only file: make it writable or delete it...); the
+      message names it, and no half-written file is left under its name (an
+      output named by a symbolic link is written to the file it points to)
+  130 interrupted (Ctrl-C)"""
+
 MAPPING_HELP = """column mapping (default: from the header names):
   NAME is a header name or a column number (1 = first); :UNIT is optional
   when the header name ends in a unit word (pressure_hpa, temp_c, time_s).
@@ -306,7 +324,7 @@ def build_parser():
                     "3-hour fall, rejected readings by reason, averages per flag, restarts). "
                     "Rejected readings are reported on stderr with their line number. Draw "
                     "the table with 'tinygeo plot TABLE -o FILE'.",
-        epilog="table layout: see tinygeo/record.py (station table).\n\n" + EXIT_TEXT + "\n\n" +
+        epilog="table layout: see tinygeo/stationrecord.py.\n\n" + STATION_EXIT_TEXT + "\n\n" +
                _station_flags_text() + "\n\nfirst try:  tinygeo station examples/buoy_day.csv",
         formatter_class=argparse.RawDescriptionHelpFormatter)
     sp.add_argument("log", help="log file, or - for standard input")

@@ -27,7 +27,8 @@ log stops with exit 2 asking for the unit:
 
 * pressure: the unit (Pa, hPa or kPa) that puts the first reading within
   START_WINDOW_M of the start height (pressure altitude of the U.S. Standard
-  Atmosphere 1976, tinygeo.standard), or, when no start height is given,
+  Atmosphere 1976, tinygeo.standard; for a station log, within the station's
+  guard_m of the barometer's height), or, when no start height is given,
   between SURFACE_MIN_M and SURFACE_MAX_M (the surface of the inhabited
   world, common practice). The three units are 16 km or more apart, so at
   most one fits.
@@ -406,10 +407,13 @@ class LogReader:
         return cols
 
     # -- units and the start: read ahead ----------------------------------------
-    def settle(self, start_height_m=0.0, start_given=True):
+    def settle(self, start_height_m=0.0, start_given=True, station_window_m=None):
         """Read ahead as far as needed to decide and confirm the units that
         are not stated, check the stated ones, and check a start height that
         defaulted to 0 (``start_given`` False) against the first reading.
+        ``station_window_m``: the log is a station's, ``start_height_m`` the
+        barometer's height, and a pressure unit must put the first reading
+        within this many metres of it (the station's guard_m, --guard).
         Raises InputError (exit 2) naming the line, the value and the option
         to give. The lines read are replayed by the iteration."""
         if self.settled:
@@ -438,7 +442,7 @@ class LogReader:
             if pr[7] is not None and len(rh_values) < RH_PROBES:
                 rh_values.append((pr[7], pr[0]))
             if len(probes) == 1:
-                self._pressure_unit(pr, start_height_m, start_given)
+                self._pressure_unit(pr, start_height_m, start_given, station_window_m)
                 self._time_unit(raw)
                 pr[5] = _altitude(pr[1] * TO_SI[cols["pressure"][2]][0])
             elif need_climb and climb is None:
@@ -504,22 +508,28 @@ class LogReader:
         out.append(to_float(fields[cols["humidity"][0]]) if "humidity" in cols else None)  # [7]
         return out          # [lineno, p, t, td, gps, z, p text, rh]
 
-    def _pressure_unit(self, pr, h0, given):
+    def _pressure_unit(self, pr, h0, given, station_window_m=None):
         i, name, unit, stated = self.columns["pressure"]
         x = pr[1]
         fits = []
+        window = START_WINDOW_M if station_window_m is None else station_window_m
         for u in ("Pa", "hPa", "kPa"):
             z = _altitude(x * TO_SI[u][0])
             if z is None:
                 continue
             if given:
-                ok = abs(z - h0) <= START_WINDOW_M
+                ok = abs(z - h0) <= window
             else:
                 ok = SURFACE_MIN_M <= z <= SURFACE_MAX_M
             if ok:
                 fits.append((u, z))
-        where = ("within %.0f m of the start height %.0f m" % (START_WINDOW_M, h0) if given else
-                 "at a surface (pressure altitude %.0f..%.0f m)" % (SURFACE_MIN_M, SURFACE_MAX_M))
+        if station_window_m is not None:
+            where = "within %.0f m of the station's height %g m" % (window, h0)
+        elif given:
+            where = "within %.0f m of the start height %.0f m" % (window, h0)
+        else:
+            where = "at a surface (pressure altitude %.0f..%.0f m)" % (SURFACE_MIN_M,
+                                                                       SURFACE_MAX_M)
         if unit is not None:
             if fits and unit not in [u for u, _ in fits]:
                 raise InputError(

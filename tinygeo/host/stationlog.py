@@ -419,7 +419,8 @@ def command(a, stdin, stdout, stderr):
                              "NAME[:s|ms|iso]" % (name, ", ".join(reader.header)))
         setup = station_setup(a, reader)
         st = new_station(setup)
-        reader.settle(setup.height_m, True)
+        guard = st.guard_m if st.guard_m is not None else station_default("guard_m")
+        reader.settle(setup.height_m, True, guard)
         live = a.log == "-" or a.flush
         quiet = a.quiet
 
