@@ -660,3 +660,46 @@ def test_an_inferred_pressure_unit_is_noted_against_the_station_height_and_guard
     assert "within 2000 m of the station's height 2.8 m" in err and "start height" not in err, err
     rc, out, err = main(["station", "-", "--guard", "500"], kpa)
     assert "within 500 m of the station's height 2.8 m" in err, err
+
+
+# ================================================================ time stamps in messages
+def _epoch_log(iso):
+    # 1-minute readings from 2026-03-28T14:00:00Z (1774706400 s since 1970,
+    # datetime's UTC arithmetic), then a stamp 4141 s ahead of the latest
+    import datetime
+    t0 = datetime.datetime(2026, 3, 28, 14, 0, 0, tzinfo=datetime.timezone.utc)
+    assert t0.timestamp() == 1774706400
+    lines = ["# lat_deg=58.5 height_m=2.8", ("utc" if iso else "time_s") + ",pressure_hpa,temp_c"]
+    stamps = [60 * i for i in range(40)] + [39 * 60 + 4141]
+    for k, s in enumerate(stamps):
+        t = t0 + datetime.timedelta(seconds=s)
+        lines.append("%s,%.2f,7.0" % (t.strftime("%Y-%m-%dT%H:%M:%SZ") if iso else
+                                      "%d" % t.timestamp(), 1015.0 + 0.01 * k))
+    return "\n".join(lines) + "\n"
+
+
+def test_time_stamps_in_station_messages_stay_whole_or_utc():
+    # epoch seconds in a number column: whole digits, not 1.77471e+09
+    rc, out, err = main(["station", "-"], _epoch_log(False))
+    assert rc == 0, err
+    assert "time_s=1774712881 is 4141 s after the latest accepted reading's 1774708740," in err, err
+    assert "e+09" not in err
+    # ISO stamps: the same, with their UTC text
+    rc, out, err = main(["station", "-"], _epoch_log(True))
+    assert rc == 0, err
+    assert ("time_s=1774712881 (2026-03-28T15:48:01Z) is 4141 s after the latest accepted "
+            "reading's 1774708740 (2026-03-28T14:39:00Z),") in err, err
+
+
+def test_time_stamps_in_replay_messages_stay_whole():
+    # a column fed epoch seconds that go back: the stamp whole, not 1.77471e+09
+    lines = ["# lat_deg=47 start_height_m=420", "time_s,pressure_hpa,temp_c"]
+    for i in range(30):
+        lines.append("%d,%.2f,12.0" % (1774706400 + (2 * i if i != 20 else -600), 965.0 - 0.1 * i))
+    rc, out, err = main(["replay", "-"], "\n".join(lines) + "\n")
+    assert rc == 0, err
+    assert "time_s=1774705800 before the latest reading's 38 s" in err, err
+    assert "e+09" not in err
+    from tinygeo.host.options import round_numbers
+    assert round_numbers("p_pa=96447.00000000001 time_s=12.250000 at the reading's -3.5") == \
+        "p_pa=96447 time_s=12.25 at the reading's -3.5"

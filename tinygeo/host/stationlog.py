@@ -28,7 +28,7 @@ from tinygeo.station import (EV_AVERAGE, EV_RESTART, FL_STUCK_P, FL_STUCK_T, FL_
                              FL_CLOCK_HELD, FL_CLOCK_STUCK, FL_MSLP_ODD)
 from tinygeo.host import table
 from tinygeo.host.options import (InputError, UsageError, one_line, round_numbers,
-                                  station_default)
+                                  stamp_text, station_default)
 
 NAN = float("nan")
 MAX_REPORTS = 20          # rejected readings reported one by one on stderr
@@ -176,9 +176,11 @@ def new_station(setup):
         raise UsageError("station set-up rejected: %s" % msg)
 
 
-def tidy(message, st):
+def tidy(message, st, epoch=False):
     """A station's rejection message for the command line: the keyword hints
-    given as the command's options, long floats rounded."""
+    given as the command's options, long floats rounded, time stamps whole
+    (``epoch`` True: time_s counts from 1970-01-01T00:00:00Z, and the stamps
+    are followed by their UTC text)."""
     for old, new in (
             ("(max_p_step_pa=None turns this check off)", "(limits: --max-p-step, --max-p-rate)"),
             ("(max_t_step_k=None turns this check off)", "(limits: --max-t-step, --max-t-rate)"),
@@ -191,7 +193,14 @@ def tidy(message, st):
              "%d readings in a row go on from it, --takeover" % st.takeover_readings),
             ("(max_gap_s + average_s)", "(--max-gap + --average)")):
         message = message.replace(old, new)
-    return round_numbers(message)
+    return round_numbers(message, utc_stamp if epoch else None)
+
+
+def utc_stamp(time_s):
+    """A time stamp in seconds since 1970 as whole digits and its UTC text:
+    ``1774714200 (2026-03-28T16:10:00Z)``."""
+    u = utc_text(time_s)
+    return stamp_text(time_s) + ("" if u is None else " (%s)" % u)
 
 
 def utc_text(time_s):
@@ -325,8 +334,8 @@ def header_lines(st, reader, source_name):
     return lines
 
 
-def _rejected(summary, e, lineno, report, st):
-    msg = tidy(str(e), st)
+def _rejected(summary, e, lineno, report, st, epoch=False):
+    msg = tidy(str(e), st, epoch)
     if not msg.startswith("line "):
         msg = "line %d: %s" % (lineno, msg)
     reason = getattr(e, "reason", "reading") or "reading"
@@ -376,7 +385,7 @@ def run(reader, st, summary, report, write=None, before_first=None, flush=None, 
         try:
             bits = feed(p, t, rh, ts)
         except ValueError as e:    # ReadingError by the contract
-            _rejected(summary, e, lineno, report, st)
+            _rejected(summary, e, lineno, report, st, bool(origin))
             continue
         summary.accepted += 1
         summary.open += 1
