@@ -703,3 +703,27 @@ def test_time_stamps_in_replay_messages_stay_whole():
     from tinygeo.host.options import round_numbers
     assert round_numbers("p_pa=96447.00000000001 time_s=12.250000 at the reading's -3.5") == \
         "p_pa=96447 time_s=12.25 at the reading's -3.5"
+
+
+# ================================================================ naive time stamps
+@pytest.mark.parametrize("command", ["station", "replay"])
+def test_time_stamps_without_an_offset_are_noted_as_utc(command):
+    # '2026-03-29 00:59:00' has no offset: taken as UTC, and a note says so
+    # once (with the daylight-saving caution); stamps with Z or an offset: no note
+    import datetime
+    t0 = datetime.datetime(2026, 3, 29, 0, 0, 0)
+    head = ["# lat_deg=47 height_m=20 start_height_m=20", "timestamp,pressure_hpa,temp_c"]
+    naive, zulu = list(head), list(head)
+    for i in range(120):
+        t = t0 + datetime.timedelta(seconds=60 * i)
+        row = ",%.2f,12.0" % (1010.0 - 0.001 * i)
+        naive.append(t.strftime("%Y-%m-%d %H:%M:%S") + row)
+        zulu.append(t.strftime("%Y-%m-%dT%H:%M:%S+01:00") + row)
+    rc, out, err = main([command, "-"], "\n".join(naive) + "\n")
+    assert rc == 0, err
+    assert err.count("without a UTC offset") == 1, err
+    assert ("holds time stamps without a UTC offset ('2026-03-29 00:00:00', line 3): taken as "
+            "UTC") in err and "daylight-saving" in err, err
+    rc, out, err = main([command, "-"], "\n".join(zulu) + "\n")
+    assert rc == 0, err
+    assert "UTC offset" not in err, err

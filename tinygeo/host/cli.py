@@ -114,7 +114,8 @@ def _add_mapping(p, gps=True, text=MAPPING_HELP):
     g.add_argument("--dew-point", dest="dewpoint", metavar="NAME[:K|C|F]",
                    help="dew point column, instead of --humidity")
     g.add_argument("--time", metavar="NAME[:s|ms|iso]",
-                   help="time column: seconds, or ISO-8601 timestamps (e.g. 2026-05-04T09:30:00Z)")
+                   help="time column: seconds, or ISO-8601 timestamps (e.g. 2026-05-04T09:30:00Z; "
+                        "without an offset: taken as UTC, with a note)")
     if gps:
         g.add_argument("--gps", metavar="NAME", help="GPS height column, m above mean sea level")
     g.add_argument("--delimiter", metavar="CHAR",
@@ -184,7 +185,9 @@ STATION_MAPPING_HELP = """column mapping (default: from the header names):
   unit word (pressure_hpa, temp_c, time_s); a unit not stated is inferred
   from the values and must be confirmed by them (the pressure near the
   station's height, a surface temperature). A time column is required: the
-  averages are aligned to its clock (ISO-8601 stamps: to UTC). Comment lines
+  averages are aligned to its clock (ISO-8601 stamps: to UTC; stamps
+  without an offset are taken as UTC, with a note: a clock on local time
+  steps at each daylight-saving change; give Z or +01:00). Comment lines
   (#) before the header may set height_m= and lat_deg=; options given here
   take precedence."""
 

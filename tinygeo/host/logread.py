@@ -54,6 +54,11 @@ log stops with exit 2 asking for the unit:
   the warm humid atmosphere of tests/streams.py). A header-stated fraction
   whose values exceed 1 is refused the same way.
 
+Time stamps: numbers (seconds, or ms), or ISO-8601 text; text without a
+UTC offset (no ``Z``, no ``+01:00``) is taken as UTC, and a note says so
+once (a clock on local time steps by an hour at each daylight-saving
+change).
+
 The start height: when none was given (it defaulted to 0 m) and the first
 reading's pressure altitude lies more than START_PA_M from 0, or its GPS
 height more than START_GPS_M, the log stops with exit 2 naming the height
@@ -215,14 +220,16 @@ def _grouped(text):
 
 
 def _iso_seconds(text):
-    """Seconds since 1970 (UTC) of an ISO-8601 timestamp; naive means UTC."""
+    """(seconds since 1970 (UTC), naive) of an ISO-8601 timestamp; naive
+    (no offset, no Z) means UTC."""
     s = text.strip()
     if s.endswith("Z") or s.endswith("z"):
         s = s[:-1] + "+00:00"
     dt = datetime.datetime.fromisoformat(s)
-    if dt.tzinfo is None:
+    naive = dt.tzinfo is None
+    if naive:
         dt = dt.replace(tzinfo=datetime.timezone.utc)
-    return dt.timestamp()
+    return dt.timestamp(), naive
 
 
 NAN = float("nan")
@@ -263,6 +270,7 @@ class LogReader:
         self.time_origin = None
         self.time_origin_s = None
         self._t0 = None
+        self._naive_noted = False
         self.option_units = set()
         self.settled = False
         self.first = None         # the first reading that parsed (probe): (lineno, p_pa, t_k, gps_m)
@@ -820,10 +828,18 @@ class LogReader:
             self.columns["time"] = (i, name, unit, False)
         if unit == "iso":
             try:
-                s = _iso_seconds(text)
+                s, naive = _iso_seconds(text)
             except (ValueError, OverflowError, OSError):
                 raise _bad("line %d: time %r in column %r is not an ISO-8601 timestamp "
                            "(e.g. 2026-05-04T09:30:00Z)" % (lineno, text[:40], name), "time", lineno)
+            if naive and not self._naive_noted:
+                self._naive_noted = True
+                self.notes.append(
+                    "column %r holds time stamps without a UTC offset (%r, line %d): taken as "
+                    "UTC. A clock kept on local time steps by an hour at each daylight-saving "
+                    "change, which is then read as a clock step (a gap, or a clock set back); "
+                    "write the stamps in UTC (Z) or with their offset (+01:00)"
+                    % (name, text.strip()[:40], lineno))
             if self._t0 is None:
                 self._t0 = s
                 self.time_origin = text.strip()

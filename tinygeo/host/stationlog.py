@@ -442,11 +442,15 @@ def command(a, stdin, stdout, stderr):
 
         with Outputs(stdout) as outs:
             out = outs.open(a.out)
-            state = {"header": False}
+            state = {"header": False, "notes": 0}
+
+            def notes():
+                for n in reader.notes[state["notes"]:]:
+                    note(n)
+                state["notes"] = len(reader.notes)
 
             def header():
-                for n in reader.notes:
-                    note(n)
+                notes()
                 for line in header_lines(st, reader, name):
                     out.write(line + "\n")
                 state["header"] = True
@@ -464,6 +468,7 @@ def command(a, stdin, stdout, stderr):
                         else ", no data lines after the header"))
             if not state["header"]:
                 header()
+            notes()             # those found after the header (a later time stamp)
             out.write(stationrecord.end_line(summary.averages, st) + "\n")
             records = summary.lines()
             for line in records:
