@@ -1919,12 +1919,19 @@ def station_stream(rng, n=None):
     beyond it, outages beyond it (a run that goes on), rarely a jump of more
     than 2**30 s (gap_s stops at COUNT_MAX) or of COUNT_MAX averages (a
     restart), stamps beyond 2**62 s; stamps whole (ints in Python) or
-    fractional, from origins near 0, negative, or 1.7e9 s."""
+    fractional, from origins near 0, negative, or 1.7e9 s; sparse readings
+    (every 30 minutes or hour, beyond the clock step), the clock stopping
+    for up to 120 readings, the driver frozen for up to 2000 readings, fog
+    (humidity at 100 % for a while) and a pressure 9 to 13 kPa above the
+    site's without a guard (a wrong height: FL_MSLP_ODD)."""
     h, lat, kw = _sta_settings(rng)
     avg = kw["average_s"]
     p0 = standard.standard_pressure(h if h > -400 else -400.0) + rng.uniform(-1500.0, 1500.0)
+    if rng.random() < 0.1 and p0 < 100000.0:     # a wrong height: the sea-level pressure is odd
+        kw["guard_m"] = None
+        p0 += rng.uniform(9000.0, 13000.0)
     t0k = rng.uniform(255.0, 305.0)
-    step = rng.choice((1, 10, 30, 60, 120, 300))
+    step = rng.choice((1, 10, 30, 60, 120, 300, 1800, 3600))
     n = n or rng.randint(300, 900)
     span = step * n
     ts = rng.choice((0, 1700000000, -86400 * 3, 12.5, -7.25, 1e6 + 0.125, 2 ** 40))
@@ -1932,7 +1939,7 @@ def station_stream(rng, n=None):
     cmds = [("init", (h, lat, kw))]
     jump = 0.0
     has_rh = rng.random() < 0.8
-    stuck_left = 0
+    stuck_left = stop_left = fog_left = 0
     last = None
     if rng.random() < 0.3:             # a bad first reading
         cmds.append(("feed", (p0 + 600.0, t0k, 50.0 if has_rh else None, ts)))
@@ -1944,12 +1951,15 @@ def station_stream(rng, n=None):
             + rng.gauss(0.0, 0.05)
         rh = min(100.0, max(1.0, 70.0 + 20.0 * math.sin(x * 7.0) + rng.gauss(0.0, 0.5)))
         rh = rh if has_rh and rng.random() > 0.05 else None
+        if fog_left:
+            rh = 100.0 if has_rh else None
+            fog_left -= 1
         if stuck_left and last is not None:
             p, t, rh = last[0], last[1], last[2]
             stuck_left -= 1
         u = rng.random()
-        if u < 0.01:
-            stuck_left = rng.randint(2, 12)
+        if u < 0.01:                   # stuck values, or a frozen driver
+            stuck_left = rng.randint(2, 12) if rng.random() < 0.7 else rng.randint(100, 2000)
         elif u < 0.02:                 # a spike of one or two readings
             for _ in range(rng.randint(1, 2)):
                 cmds.append(("feed", (p + rng.choice((-1, 1)) * 900.0, t, rh, ts)))
@@ -1971,9 +1981,15 @@ def station_stream(rng, n=None):
                                               (p, INF, rh, ts), (p, t, rh, INF), (p, t, NAN, ts)))))
         elif u < 0.06:
             cmds.append(("save", ()))
+        elif u < 0.063:                # the clock stops
+            stop_left = rng.randint(5, 120)
+        elif u < 0.066:                # fog: 100 % humidity
+            fog_left = rng.randint(20, 400)
         cmds.append(("feed", (p, t, rh, ts)))
         last = (p, t, rh)
-        if rng.random() > 0.02:        # repeated stamps now and then
+        if stop_left:
+            stop_left -= 1
+        elif rng.random() > 0.02:      # repeated stamps now and then
             ts = ts + step + (rng.choice((0.0, 0.25, 0.5)) if frac else 0)
     return cmds
 
@@ -2003,6 +2019,7 @@ def _sta_special_streams():
     out.append([init] + base[:50] + [("feed", (100500.0, 285.0, 80.0, 2 ** 31 + 600)),
                                      ("feed", (100500.0, 285.0, 80.0, 2 ** 31 - 1000))] + base[:2])
     out.extend(_sta_clock_streams().values())
+    out.extend(_sta_sparse_streams().values())
     return out
 
 
@@ -2077,9 +2094,11 @@ def test_station_clock_step_paths(build):
         elif name == "early ahead restarts":
             assert rej == ["time", "time"] and len(restarts) == 1 and rows[restarts[0]][3][2] == 0, name
         elif name == "last average":
-            # the restart follows an accepted reading: no run, the average numbers ran out
+            # the restart follows an accepted reading: no run, the average numbers ran out;
+            # the count of averages goes on through it (station.py, "Recovery")
             assert rej == ["time", "time"] and gap_max and len(restarts) == 1, name
-            assert rows[restarts[0] - 1][0] == "ok" and rows[restarts[0]][3][2] == 0, name
+            assert rows[restarts[0] - 1][0] == "ok", name
+            assert rows[restarts[0]][3][2] == rows[restarts[0] - 1][3][2] > 0, name
         elif name == "beyond the last":
             assert rej == ["time", "time"] and len(restarts) == 1, name
             assert rows[restarts[0] - 1][0] == "reading", name
@@ -2090,6 +2109,109 @@ def test_station_clock_step_paths(build):
             assert after[n_ref][3][7] == STA_COUNT_MAX and after[n_ref][2] & 1, name    # average_readings
         elif name == "2**62":
             assert rej == ["number"] * 4 and not restarts, name
+        else:
+            raise AssertionError(name)
+
+
+def _sta_sparse_streams():
+    """Streams for the rules of sparse readings, a stopped clock, a frozen
+    driver, FL_MSLP_ODD, fog and what a restart keeps (station.py,
+    "Recovery", "Checks" and the flags), by name (constructed; the default
+    settings: 600 s averages, clock step 1800 + 600 = 2400 s, stuck_readings
+    60, takeover_readings 3)."""
+    init = ("init", (3.5, 54.2, {}))
+
+    def fd(i, ts, rh=80.0, p0=100000.0):
+        # a reading of a slowly varying site (wiggles keep the stuck test quiet)
+        return ("feed", (p0 + 5.0 * math.sin(i) + 0.01 * (i % 7), 285.0 + 0.1 * math.sin(i),
+                         rh + 0.01 * (i % 5) if rh is not None and rh < 100.0 else rh, ts))
+
+    out = {}
+    # readings further apart than the clock step from the start: the spacing
+    # is the station's own, all accepted (the second even a day after the first)
+    out["sparse hourly"] = [init] + [fd(i, 1000 + 3600 * i) for i in range(30)]
+    out["sparse 90 s"] = [("init", (3.5, 54.2, {"average_s": 60.0, "max_gap_s": 0.0}))] + \
+        [fd(i, 90 * i) for i in range(60)]
+    out["second a day on"] = [init, fd(0, 0), fd(1, 86400)] + [fd(i, 86400 + 10 * i) for i in range(2, 200)]
+    # hourly, then 5 hours without: two refused (beyond twice the spacing),
+    # the third goes on; then the same with one stamp 12 hours ahead after it
+    gap = [init] + [fd(i, 3600 * i) for i in range(10)] + [fd(i, 3600 * i) for i in range(14, 30)]
+    out["sparse longer gap"] = gap
+    out["sparse gap, one ahead"] = gap[:14] + [fd(28, 3600 * 28)] + [fd(i, 3600 * i) for i in range(17, 24)]
+    # a clock set back two days in hourly readings: the restart takes the
+    # run's spacing, so the hourly readings after it are accepted
+    out["restart at the run's spacing"] = [init] + [fd(i, 3600 * i) for i in range(10)] + \
+        [fd(i, 3600 * (i - 48)) for i in range(10, 30)]
+    # 600 s averages with a gap (missing), then the clock set back a day:
+    # the restart keeps count, rejected, averages and missing
+    out["restart keeps averages"] = [init] + [fd(i, i) for i in range(3000)] + \
+        [fd(i, i + 2000) for i in range(3000, 4000)] + [fd(i, i + 2000 - 86400) for i in range(4000, 5300)]
+    # 10 Hz on a 1 s clock (10 readings a stamp: not flagged), then the clock
+    # stops for 100 readings (FL_CLOCK_STUCK on the average that holds them)
+    out["stopped clock"] = [("init", (3.5, 54.2, {"average_s": 60.0}))] + \
+        [fd(i, i // 10) for i in range(1300)] + [fd(i, 130) for i in range(1300, 1400)] + [fd(1400, 181)]
+    # the driver repeats its latest reading for 2 hours: averages with nan
+    # values and the FL_STUCK_* flags, no gap after them
+    frozen = fd(1199, 1199)
+    out["frozen driver"] = [("init", (3.5, 54.2, {"average_s": 300.0}))] + [fd(i, i) for i in range(1200)] + \
+        [("feed", frozen[1][:3] + (i,)) for i in range(1200, 8400)] + [fd(i, i) for i in range(8400, 9000)]
+    # a station 610 m up configured as 2000 (feet): sea-level pressure about
+    # 1190 hPa; without a guard, a pressure 2 km off: below 870 hPa
+    out["mslp odd, feet"] = [("init", (2000.0, 47.0, {}))] + [fd(i, i, 70.0, 94400.0) for i in range(700)]
+    out["mslp odd, no guard"] = [("init", (3.5, 54.2, {"guard_m": None}))] + \
+        [fd(i, i, 80.0, 78000.0) for i in range(700)]
+    # saturated air holds 100.0 % for an hour: never stuck; 99.0 % is
+    out["fog 100 %"] = [init] + [fd(i, i, 100.0) for i in range(3600)]
+    out["99 % held"] = [init] + [("feed", fd(i, i)[1][:2] + (99.0, i)) for i in range(3600)]
+    return out
+
+
+def test_station_sparse_and_flag_paths(build):
+    """The streams of _sta_sparse_streams: C and CPython bit-identical (blob
+    after every feed), and each takes the path it was built for."""
+    EV_A, EV_R, EV_G = _station.EV_AVERAGE, _station.EV_RESTART, _station.EV_GAP
+    stuck3 = _station.FL_STUCK_P | _station.FL_STUCK_T | _station.FL_STUCK_RH
+    for name, cmds in _sta_sparse_streams().items():
+        c = run_c_station(build["station_double"], cmds, ["-s"])
+        p = run_py_station(cmds, every_blob=True)
+        _sta_compare(cmds, c, p)
+        rows = [r for (v, _), r in zip(cmds, p[0]) if v == "feed"]
+        rej = [r[1] for r in rows if r[0] == "reading"]
+        restarts = [i for i, r in enumerate(rows) if r[0] == "ok" and r[2] & EV_R]
+        avgs = [r for r in rows if r[0] == "ok" and r[2] & EV_A]
+        flags = [int(r[3][4]) for r in avgs]
+        last = rows[-1][3]
+        if name in ("sparse hourly", "sparse 90 s", "second a day on"):
+            assert not rej and last[0] == len(rows) and last[2] > 0, name
+        elif name == "sparse longer gap":
+            assert rej == ["time", "time"] and not restarts and last[3] > 0, name
+        elif name == "sparse gap, one ahead":
+            # (bit identity: after the takeover the spacing is the outage's,
+            # which lets the stamp 12 h ahead in)
+            assert rej[:2] == ["time", "time"], name
+        elif name == "restart at the run's spacing":
+            assert rej == ["time", "time"] and len(restarts) == 1, name
+            assert all(r[0] == "ok" for r in rows[restarts[0]:]), name
+        elif name == "restart keeps averages":
+            i = restarts[0]
+            assert len(restarts) == 1 and rej == ["time", "time"], name
+            before, at = rows[i - 1][3], rows[i][3]
+            assert at[2] == before[2] > 0 and at[3] == before[3] > 0 and at[0] == before[0] + 1, name
+            assert last[2] > at[2], name
+        elif name == "stopped clock":
+            fl = _station.FL_CLOCK_STUCK
+            assert [bool(f & fl) for f in flags] == [False] * (len(flags) - 1) + [True], name
+            assert last[7] == 100 + 100, name       # 120..129 s at 10 Hz, then 100 at 130 s
+        elif name == "frozen driver":
+            frozen = [(f, r[3][9]) for f, r in zip(flags, avgs)][5:-1]
+            assert len(frozen) >= 20 and all(f & stuck3 == stuck3 and v != v for f, v in frozen), name
+            assert not flags[-1] & _station.FL_GAP and last[3] == 0 and last[9] == last[9], name
+        elif name.startswith("mslp odd"):
+            assert flags and all(f & _station.FL_MSLP_ODD for f in flags), name
+        elif name == "fog 100 %":
+            assert flags and not any(f & _station.FL_STUCK_RH for f in flags) and last[11] == 100.0, name
+        elif name == "99 % held":
+            assert flags and all(f & _station.FL_STUCK_RH for f in flags) and last[11] != last[11], name
         else:
             raise AssertionError(name)
 
@@ -2138,13 +2260,15 @@ def test_station_random_streams_double_bit_identical(build):
     rng = random.Random(2024)
     streams = [station_stream(rng) for _ in range(40)] + _sta_special_streams()
     paths = dict.fromkeys(("reading", "restart", "takeover", "stuck", "gap", "trend", "few", "no_t12",
-                           "iso", "code", "held", "ahead_on", "gap_s_max", "count_max"), 0)
+                           "iso", "code", "held", "ahead_on", "gap_s_max", "count_max", "sparse",
+                           "restart_keeps", "clock_stuck", "mslp_odd", "nan_average", "fog"), 0)
     for cmds in streams:
         c = run_c_station(build["station_double"], cmds, ["-s"])
         p = run_py_station(cmds, every_blob=True)
         _sta_compare(cmds, c, p)
         kw = cmds[0][1][2]
-        clock_s = kw.get("max_gap_s", 1800) + kw["average_s"]     # the clock step
+        avg = kw.get("average_s", 600.0)
+        clock_s = kw.get("max_gap_s", 1800) + avg     # the clock step
         prev = None                    # the previous feed's row
         last = None                    # the latest accepted stamp
         for (verb, args), (st_, reason, bits, attrs) in zip(cmds, p[0]):
@@ -2153,11 +2277,16 @@ def test_station_random_streams_double_bit_identical(build):
             paths["reading"] += st_ == "reading"
             paths["restart"] += bool(bits & _station.EV_RESTART)
             if bits & _station.EV_RESTART and prev is not None and (
-                    prev[0] == "ok" or args[3] - last >= (STA_COUNT_MAX - 1) * kw["average_s"]):
+                    prev[0] == "ok" or args[3] - last >= (STA_COUNT_MAX - 1) * avg):
                 paths["count_max"] += 1     # no run before it, or a jump: the average numbers ran out
             if st_ == "ok" and not bits & _station.EV_RESTART and prev == ("reading", "time") \
                     and args[3] - last > clock_s:
                 paths["ahead_on"] += 1      # a run that began ahead went on
+            if st_ == "ok" and prev is not None and prev[0] == "ok" and not bits & _station.EV_RESTART \
+                    and args[3] - last > clock_s:
+                paths["sparse"] += 1        # beyond the clock step, within twice the spacing
+            if bits & _station.EV_RESTART and attrs[2] > 0:
+                paths["restart_keeps"] += 1     # the count of averages went on
             if st_ == "ok":
                 last = args[3] if bits & _station.EV_RESTART or last is None else max(last, args[3])
             prev = (st_, reason)
@@ -2173,6 +2302,10 @@ def test_station_random_streams_double_bit_identical(build):
                 paths["no_t12"] += bool(fl & _station.FL_NO_T12)
                 paths["iso"] += attrs[16] == attrs[16]
                 paths["code"] += attrs[5] >= 0
+                paths["clock_stuck"] += bool(fl & _station.FL_CLOCK_STUCK)
+                paths["mslp_odd"] += bool(fl & _station.FL_MSLP_ODD)
+                paths["nan_average"] += attrs[9] != attrs[9] and attrs[10] != attrs[10]
+                paths["fog"] += attrs[11] == 100.0 and kw.get("stuck_readings", 60) is not None
     print("station streams: %d, bit-identical; paths seen: %s" % (len(streams), paths))
     assert all(v > 0 for v in paths.values()), paths
 
@@ -2233,9 +2366,10 @@ def test_station_checkpoint_refusals(build):
         "stuck 0 (None)": _sta_craft(raw, **{"cfg._stuck_set": 0}),
         "takeover 101": _sta_craft(raw, **{"cfg.takeover_readings": 101}),
         "count": _sta_craft(raw, **{"st.count": STA_COUNT_MAX + 1}),
-        "flags": _sta_craft(raw, **{"st.flags": 512}),
+        "flags": _sta_craft(raw, **{"st.flags": 2048}),
+        "flags clock stuck, mslp odd": _sta_craft(raw, **{"st.flags": 512 + 1024}),
         "flags clock held": _sta_craft(raw, **{"st.flags": 256, "st._sflags": 256 + 128}),
-        "sflags": _sta_craft(raw, **{"st._sflags": 512}),
+        "sflags": _sta_craft(raw, **{"st._sflags": 2048}),
         "code": _sta_craft(raw, **{"st._code": 9}),
         "k below kring": _sta_craft(raw, **{"st._k": 0}),
         "klast above kring": _sta_craft(raw, **{"st._klast": 10 ** 6}),
@@ -2266,8 +2400,22 @@ def test_station_checkpoint_refusals(build):
         "dew point": _sta_craft(raw, **{"st.dew_point_k": 400.0}),
         "qnh": _sta_craft(raw, **{"st.qnh_pa": 250000.0}),
         "nan qnh": _sta_craft(raw, **{"st.qnh_pa": NAN}),
-        "iso height": _sta_craft(raw, **{"st.iso_gph_m": -3000.0}),
-        "tendency": _sta_craft(raw, **{"st.tendency_3h_pa": 30000.0}),
+        "iso height": _sta_craft(raw, **{"st.iso_gph_m": -200000.0}),
+        "iso height -3000 gpm": _sta_craft(raw, **{"st.iso_gph_m": -3000.0}),
+        "tendency": _sta_craft(raw, **{"st.tendency_3h_pa": 80000.0}),
+        "tendency 300 hPa": _sta_craft(raw, **{"st.tendency_3h_pa": 30000.0}),
+        "mslp 10000 hPa": _sta_craft(raw, **{"st.mslp_pa": 1e6}),
+        "mslp beyond": _sta_craft(raw, **{"st.mslp_pa": 1.5e6}),
+        "dew point 350 K": _sta_craft(raw, **{"st.dew_point_k": 350.0}),
+        "spacing negative": _sta_craft(raw, **{"st._dtl": -1.0}),
+        "spacing nan": _sta_craft(raw, **{"st._dtl": NAN}),
+        "spacing 1e19 s": _sta_craft(raw, **{"st._dtl": 1e19}),
+        "spacing beyond": _sta_craft(raw, **{"st._dtl": 2e19}),
+        "run spacing negative": _sta_craft(raw, **{"st._rn_dt": -0.5}),
+        "run spacing nan": _sta_craft(raw, **{"st._rn_dt": NAN}),
+        "same stamps COUNT_MAX": _sta_craft(raw, **{"st._runts": STA_COUNT_MAX}),
+        "same stamps beyond": _sta_craft(raw, **{"st._runts": STA_COUNT_MAX + 1}),
+        "same stamps negative": _sta_craft(raw, **{"st._runts": -1}),
         "change 24 h": _sta_craft(raw, **{"st.change_24h_pa": -80000.0}),
         "reference p": _sta_craft(raw, **{"st._rp": 30000.0}),
         "reference t": _sta_craft(raw, **{"st._rt": 100.0}),
@@ -2292,9 +2440,11 @@ def test_station_checkpoint_refusals(build):
     # (inp COUNT_MAX is refused: the readings of a stuck run in the average
     # cannot outnumber the average's readings)
     assert got["inp COUNT_MAX"] == "checkpoint"
-    assert accepted == ["flags clock held", "float first stamp", "gap_s COUNT_MAX",
-                        "int first stamp", "nan lp", "nan qnh", "nan ring", "rn_time 1", "rn_time 2",
-                        "stuck 0 (None)", "sum p at the bound", "t0_hi lowest"], got
+    assert accepted == ["dew point 350 K", "flags clock held", "flags clock stuck, mslp odd",
+                        "float first stamp", "gap_s COUNT_MAX", "int first stamp",
+                        "iso height -3000 gpm", "mslp 10000 hPa", "nan lp", "nan qnh", "nan ring",
+                        "rn_time 1", "rn_time 2", "same stamps COUNT_MAX", "spacing 1e19 s",
+                        "stuck 0 (None)", "sum p at the bound", "t0_hi lowest", "tendency 300 hPa"], got
 
 
 def test_station_hostile_blobs_no_crash(build):
@@ -2376,6 +2526,24 @@ def test_station_sanitizers_and_float_build(build):
         return [ln.split()[:13] for ln in out.splitlines() if ln[:2] in ("r ", "e ")]
     fd, dd = decisions(f.stdout), decisions(ref.stdout)
     assert len(fd) == len(dd) and [i for i, (a, b) in enumerate(zip(fd, dd)) if a != b][:5] == []
+
+
+def test_station_only_build_links(build):
+    """A firmware with the station alone (README's compile line without
+    column.c and record.c) links: nothing in station.c or station_run.c needs
+    the column (tg_reason_name lives in constants.c; before, the link failed
+    with an undefined reference to it), and it runs a station stream as the
+    full build does."""
+    gcc = shutil.which("gcc")
+    exe = os.path.join(build["dir"], "station_only")
+    srcs = [os.path.join(PORT, s) for s in SRCS + ["checkpoint.c", "station.c", "station_run.c"]]
+    r = subprocess.run([gcc] + CFLAGS + ["-o", exe] + srcs + ["-lm"], capture_output=True, text=True,
+                       timeout=120)
+    assert r.returncode == 0, r.stderr
+    text = _sta_text(station_stream(random.Random(5), n=200))
+    a = subprocess.run([exe, "-s"], input=text, capture_output=True, text=True, timeout=60)
+    b = subprocess.run([build["station_double"], "-s"], input=text, capture_output=True, text=True, timeout=60)
+    assert a.returncode == 0 and a.stdout == b.stdout and a.stdout.count("\nr ") > 100
 
 
 def test_station_tendency_code_and_surfaces(build):

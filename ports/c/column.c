@@ -103,21 +103,6 @@ typedef char tg__pc_size[(sizeof(((tg_column *)0)->pc) == TG_PC_N * sizeof(TG_FL
 #define B(col) REC(col, (col)->b)
 typedef char tg__recoff_fits[(6 * sizeof(tg_rec) <= 65535u) ? 1 : -1];
 
-const char *tg_reason_name(tg_reason reason)
-{
-    switch (reason) {
-    case TG_REASON_NONE: return "none";
-    case TG_REASON_NUMBER: return "number";
-    case TG_REASON_PRESSURE: return "pressure";
-    case TG_REASON_TEMPERATURE: return "temperature";
-    case TG_REASON_HUMIDITY: return "humidity";
-    case TG_REASON_TIME: return "time";
-    case TG_REASON_RATE: return "rate";
-    case TG_REASON_GPS: return "gps";
-    }
-    return "unknown";
-}
-
 /* ------------------------------------------------------------ settings */
 /* The defaults and ranges of the settings are Column.__init__'s, generated
  * into tg_tables.h (TGPY_COLUMN_SET_<NAME>_DEF/_LO/_HI; None -> NaN). A

@@ -19,6 +19,23 @@ const char *tg_status_name(tg_status st)
     return "unknown";
 }
 
+/* ReadingError.reason of the column and the station (here, as every build
+ * links constants.c) */
+const char *tg_reason_name(tg_reason reason)
+{
+    switch (reason) {
+    case TG_REASON_NONE: return "none";
+    case TG_REASON_NUMBER: return "number";
+    case TG_REASON_PRESSURE: return "pressure";
+    case TG_REASON_TEMPERATURE: return "temperature";
+    case TG_REASON_HUMIDITY: return "humidity";
+    case TG_REASON_TIME: return "time";
+    case TG_REASON_RATE: return "rate";
+    case TG_REASON_GPS: return "gps";
+    }
+    return "unknown";
+}
+
 /* potential._WGS84, potential._GRS80 */
 static const tg_series tg__wgs84_series = { TGPY_POTENTIAL__WGS84_LENS, TGPY_POTENTIAL__WGS84 };
 static const tg_series tg__grs80_series = { TGPY_POTENTIAL__GRS80_LENS, TGPY_POTENTIAL__GRS80 };

@@ -42,6 +42,8 @@ typedef char tg__station_bits_match[
      && TGPY_STATION_FL_TREND_GAP == TG_STATION_FL_TREND_GAP && TGPY_STATION_FL_NO_T12 == TG_STATION_FL_NO_T12
      && TGPY_STATION_FL_FEW == TG_STATION_FL_FEW && TGPY_STATION_FL_TAKEOVER == TG_STATION_FL_TAKEOVER
      && TGPY_STATION_FL_CLOCK_HELD == TG_STATION_FL_CLOCK_HELD
+     && TGPY_STATION_FL_CLOCK_STUCK == TG_STATION_FL_CLOCK_STUCK
+     && TGPY_STATION_FL_MSLP_ODD == TG_STATION_FL_MSLP_ODD
      && TGPY_STATION_COUNT_MAX == TG_COUNT_MAX) ? 1 : -1];
 /* the smallest ring Station needs (average_s = 3600 s: 25 slots) */
 typedef char tg__station_ring_min[(TG_STATION_RING >= TGPY_STATION_DAY_S / 3600 + 1) ? 1 : -1];
@@ -66,6 +68,10 @@ typedef char tg__station_ring_min[(TG_STATION_RING >= TGPY_STATION_DAY_S / 3600 
 #define FL_FEW TG_STATION_FL_FEW
 #define FL_TAKEOVER TG_STATION_FL_TAKEOVER
 #define FL_CLOCK_HELD TG_STATION_FL_CLOCK_HELD
+#define FL_CLOCK_STUCK TG_STATION_FL_CLOCK_STUCK
+#define FL_MSLP_ODD TG_STATION_FL_MSLP_ODD
+#define MSLP_LO_PA TGPY_STATION_MSLP_LO_PA
+#define MSLP_HI_PA TGPY_STATION_MSLP_HI_PA
 #define NAN_ TG_NAN
 #define INF_ ((TG_FLOAT)INFINITY)
 #define TNAN ((tg_time)NAN)
@@ -295,6 +301,9 @@ static void reset(tg_station *s)
     s->rn_time = 0;
     s->rn_p = s->rn_t = s->rn_rh = NAN_;
     s->rn_ts = s->rn_tsrh = TNAN;
+    s->rn_dt = 0.0;                   /* the run's latest step in time */
+    s->dtl = 0.0;                     /* the latest step in time between accepted readings */
+    s->runts = 0;                     /* readings in a row with the same stamp */
 }
 
 tg_status tg_station_init(tg_station *st, const tg_station_config *cfg)
@@ -457,7 +466,8 @@ static tg_status bad(tg_station *s, tg_reason reason)
 }
 
 /* why a reading contradicts another (Station._against's tuple: its reason
- * and, for 'time', its message: 5 back, 7 ahead beyond the clock step) */
+ * and, for 'time', its message: 5 back, 7 ahead beyond the clock step and
+ * twice the latest spacing dtl, message 7's new argument) */
 enum { WHY_NONE, WHY_BACK, WHY_AHEAD, WHY_P, WHY_T, WHY_RH };
 static const tg_reason WHY_REASON[] = {
     TG_REASON_NONE, TG_REASON_TIME, TG_REASON_TIME, TG_REASON_PRESSURE, TG_REASON_TEMPERATURE,
@@ -466,16 +476,17 @@ static const tg_reason WHY_REASON[] = {
 
 /* Station._against: WHY_NONE if the reading agrees with the reference
  * reading (lp, lt, lrh at stamps lts, ltsrh; NaN: None): time not going
- * back nor jumping beyond the clock step, steps within the allowance; else
- * why not */
+ * back nor (ahead: against the latest accepted reading) jumping beyond the
+ * clock step and twice the latest spacing once the station has two
+ * readings, steps within the allowance; else why not */
 static int against(const tg_station *s, TG_FLOAT p, TG_FLOAT t, TG_FLOAT rh, tg_time ts,
-                   TG_FLOAT lp, TG_FLOAT lt, TG_FLOAT lrh, tg_time lts, tg_time ltsrh)
+                   TG_FLOAT lp, TG_FLOAT lt, TG_FLOAT lrh, tg_time lts, tg_time ltsrh, int ahead)
 {
     tg_time dt = ts - lts;
     TG_FLOAT d, allow;
     if (dt < 0)
         return WHY_BACK;
-    if (dt > s->clock_s)
+    if (ahead && dt > s->clock_s && dt > 2.0 * s->dtl && s->count >= 2)
         return WHY_AHEAD;
     d = p - lp;
     if (d > s->ps || d < -s->ps) {
@@ -508,14 +519,17 @@ static int against(const tg_station *s, TG_FLOAT p, TG_FLOAT t, TG_FLOAT rh, tg_
  * sensor's real jump (FL_TAKEOVER on the average it goes into) */
 static int contradicts(tg_station *s, int why, TG_FLOAT p, TG_FLOAT t, TG_FLOAT rh, tg_time ts)
 {
-    if (s->run && against(s, p, t, rh, ts, s->rn_p, s->rn_t, s->rn_rh, s->rn_ts, s->rn_tsrh)
+    if (s->run && against(s, p, t, rh, ts, s->rn_p, s->rn_t, s->rn_rh, s->rn_ts, s->rn_tsrh, 0)
                   == WHY_NONE) {
+        /* (within a run, time may step ahead by any amount: sparse readings) */
         s->run += 1;
+        s->rn_dt = ts - s->rn_ts;
     } else {
         s->run = 1;
         /* 1: began going back in time, 2: jumping ahead, 0: a step */
         s->rn_time = why == WHY_BACK ? 1 : why == WHY_AHEAD ? 2 : 0;
         s->rn_tsrh = TNAN;
+        s->rn_dt = 0.0;
     }
     s->rn_p = p;
     s->rn_t = t;
@@ -530,8 +544,12 @@ static int contradicts(tg_station *s, int why, TG_FLOAT p, TG_FLOAT t, TG_FLOAT 
     s->run = 0;
     if (s->rn_time == 1 || s->count <= s->takeover_readings)
         return 1;
-    if (s->rn_time == 2)
-        return 0;                     /* after a long outage: the averages in between missing */
+    if (s->rn_time == 2) {
+        /* after a long outage, or readings sparser than before: go on with
+         * the averages in between missing, at the run's spacing */
+        s->dtl = s->rn_dt;
+        return 0;
+    }
     return 2;
 }
 
@@ -624,7 +642,7 @@ static void add(tg_station *s, TG_FLOAT p, TG_FLOAT t, TG_FLOAT rh)
         return;
     if (s->rr != s->rr)
         s->rr = rh;                   /* the first humidity of this average */
-    if (rh == s->lrh) {
+    if (rh == s->lrh && rh < TG_L(100.0)) {     /* (saturation is not a stuck sensor) */
         if (s->runr < COUNT_MAX)
             s->runr += 1;
     } else {
@@ -689,8 +707,6 @@ static int close_avg(tg_station *s)
     if (rt != NULL)
         rt[pymod(k, n12)] = t;
     s->kring = (int32_t)k;
-    if (p != p && t != t)
-        return 0;                     /* nothing usable: a missing average */
     bits = TG_STATION_EV_AVERAGE;
     if (s->klast >= 0)
         gap = k - s->klast - 1;
@@ -731,6 +747,8 @@ static int close_avg(tg_station *s)
                 fl |= FL_NO_T12;
         }
         mslp = tg__sealevel_msl_tv(p, tr, s->gph);
+        if (!(MSLP_LO_PA <= mslp && mslp <= MSLP_HI_PA))
+            fl |= FL_MSLP_ODD;
         if (s->iso_p_pa == s->iso_p_pa)
             iso = tg__sealevel_iso_tv(p, tv, s->gph, s->iso_p_pa);
     }
@@ -782,7 +800,8 @@ tg_status tg_station_feed(tg_station *s, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_F
     TG_FLOAT p = p_pa, t = t_k, rh = NAN_;
     tg_time ts = time_s;
     double x, kd;
-    int32_t k, c, r;
+    int32_t k, c, r, a, m;
+    tg_time run;
     int restart = 0, held = 0, b = 0, why;
     *bits = 0;
     /* 1. the values on their own */
@@ -819,7 +838,7 @@ tg_status tg_station_feed(tg_station *s, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_F
             && py_floordiv(ts - s->t0 + s->phase, (double)s->avg) == (double)s->k)
             return bad(s, TG_REASON_TIME);       /* 2**30 readings in one average: a stuck
                                                   * clock (refused before anything changes) */
-        why = against(s, p, t, rh, ts, s->lp, s->lt, s->lrh, s->ts, s->tsrh);
+        why = against(s, p, t, rh, ts, s->lp, s->lt, s->lrh, s->ts, s->tsrh, 1);
         if (why != WHY_NONE) {
             restart = contradicts(s, why, p, t, rh, ts);
             if (restart < 0)
@@ -836,9 +855,15 @@ tg_status tg_station_feed(tg_station *s, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_F
          * numbers: start afresh from this reading (the counters go on) */
         c = s->count;
         r = s->rejected;
+        a = s->averages;
+        m = s->missing;
+        run = s->rn_dt;
         reset(s);
         s->count = c;
         s->rejected = r;
+        s->averages = a;
+        s->missing = m;
+        s->dtl = run;
     }
     /* 3. accepted: into the average (closing the one before if this reading
      * starts a new one) */
@@ -863,6 +888,19 @@ tg_status tg_station_feed(tg_station *s, TG_FLOAT p_pa, TG_FLOAT t_k, const TG_F
         s->sflags |= FL_TAKEOVER;     /* a sensor's real jump: on the average it goes into */
     if (held)
         s->sflags |= FL_CLOCK_HELD;
+    if (s->count && restart != 1) {
+        s->dtl = ts - s->ts;
+        if (ts == s->ts && !held) {
+            if (s->runts < COUNT_MAX)
+                s->runts += 1;
+        } else {
+            s->runts = 1;
+        }
+    } else {
+        s->runts = 1;
+    }
+    if (s->stuck && s->runts >= s->stuck)
+        s->sflags |= FL_CLOCK_STUCK;   /* a clock that stopped */
     add(s, p, t, rh);
     s->ts = ts;
     if (rh == rh)
@@ -1110,7 +1148,9 @@ tg_status tg_station_from_bytes(tg_station *st, const unsigned char *blob, size_
     /* accepted: the station */
     apply_config(st, &cfg, &d);
     i = TGPY_STATION__CFG_F_N;
-#define GET_F(name) st->name = (TG_FLOAT)tg__get_f64(fb + 8 * i++);
+    /* (tg__set_num: the steps dtl and rn_dt are tg_time, the rest TG_FLOAT;
+     * too_big above refused what a TG_FLOAT cannot hold) */
+#define GET_F(name) (void)tg__set_num(&st->name, sizeof st->name, tg__get_f64(fb + 8 * i++));
     TGPY_STATION__ST_F(GET_F)
 #undef GET_F
     j = TGPY_STATION__CFG_I_N;

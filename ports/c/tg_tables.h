@@ -534,6 +534,10 @@
 #define TGPY_STATION_FL_FEW 64
 #define TGPY_STATION_FL_TAKEOVER 128
 #define TGPY_STATION_FL_CLOCK_HELD 256
+#define TGPY_STATION_FL_CLOCK_STUCK 512
+#define TGPY_STATION_FL_MSLP_ODD 1024
+#define TGPY_STATION_MSLP_LO_PA TG_L(87000.0)
+#define TGPY_STATION_MSLP_HI_PA TG_L(108500.0)
 #define TGPY_STATION_EV_RESTART 8
 #define TGPY_STATION_P_MIN_PA TG_L(40000.0)
 #define TGPY_STATION_P_MAX_PA TG_L(115000.0)
@@ -567,7 +571,7 @@
     X(stuck_set) \
     X(mean12) \
     X(takeover_readings)
-#define TGPY_STATION__ST_F_N 22
+#define TGPY_STATION__ST_F_N 24
 #define TGPY_STATION__ST_F(X) \
     X(p_pa) \
     X(t_k) \
@@ -590,14 +594,16 @@
     X(lrh) \
     X(rn_p) \
     X(rn_t) \
-    X(rn_rh)
+    X(rn_rh) \
+    X(dtl) \
+    X(rn_dt)
 #define TGPY_STATION__TS_F_N 4
 #define TGPY_STATION__TS_F(X) \
     X(ts) \
     X(tsrh) \
     X(rn_ts) \
     X(rn_tsrh)
-#define TGPY_STATION__ST_I_N 27
+#define TGPY_STATION__ST_I_N 28
 #define TGPY_STATION__ST_I(X) \
     X(count) \
     X(rejected) \
@@ -625,10 +631,11 @@
     X(t0_hi) \
     X(t0_lo) \
     X(run) \
-    X(rn_time)
-#define TGPY_STATION__RESTORE "count 0 1073741823;rejected 0 1073741823;averages 0 1073741823;missing 0 1073741823;flags 0 511;_code -1 8;gap_s 0 1073741823;average_readings 0 1073741823;_k -1 1073741823;_kring -1 1073741823;_klast -1 1073741823;_np 0 1073741823;_nt 0 1073741823;_nr 0 1073741823;_sflags 0 511;_t0_hi -1073741824 1073741823;_runp 0 1073741823;_runt 0 1073741823;_runr 0 1073741823;_inp 0 1073741823;_int 0 1073741823;_inr 0 1073741823;_nslot 0 1073741823;p_pa 40000 115000 n;t_k 180 340 n;rh_pct -3 103 n;mslp_pa 0 200000 n;_lp 40000 115000 n;_lt 180 340 n;_lrh -3 103 n;_run 0 99;_rn_time 0 2;_rn_p 40000 115000 n;_rn_t 180 340 n;_rn_rh -3 103 n;dew_point_k 100 340 n;qnh_pa 0 200000 n;iso_gph_m -2000 12000 n;tendency_3h_pa -20000 20000 n;change_24h_pa -75000 75000 n;_rp 40000 115000 n;_rt 180 340 n;_rr -3 103 n"
+    X(rn_time) \
+    X(runts)
+#define TGPY_STATION__RESTORE "count 0 1073741823;rejected 0 1073741823;averages 0 1073741823;missing 0 1073741823;flags 0 2047;_code -1 8;gap_s 0 1073741823;average_readings 0 1073741823;_k -1 1073741823;_kring -1 1073741823;_klast -1 1073741823;_np 0 1073741823;_nt 0 1073741823;_nr 0 1073741823;_sflags 0 2047;_t0_hi -1073741824 1073741823;_runp 0 1073741823;_runt 0 1073741823;_runr 0 1073741823;_inp 0 1073741823;_int 0 1073741823;_inr 0 1073741823;_nslot 0 1073741823;p_pa 40000 115000 n;t_k 180 340 n;rh_pct -3 103 n;mslp_pa 0 1000000 n;_lp 40000 115000 n;_lt 180 340 n;_lrh -3 103 n;_run 0 99;_rn_time 0 2;_rn_p 40000 115000 n;_rn_t 180 340 n;_rn_rh -3 103 n;dew_point_k 100 350 n;qnh_pa 0 200000 n;iso_gph_m -100000 100000 n;tendency_3h_pa -75000 75000 n;change_24h_pa -75000 75000 n;_dtl 0 1e19;_rn_dt 0 1e19;_runts 0 1073741823;_rp 40000 115000 n;_rt 180 340 n;_rr -3 103 n"
 #define TGPY_STATION__MAGIC "TGST"
-#define TGPY_STATION__VERSION 2
+#define TGPY_STATION__VERSION 3
 /* Station.__init__: 19 parameters; per setting its default (_DEF; None -> TG_NAN,
  * as Station stores NaN for None; True/False -> 1/0) and the range its check
  * accepts (_LO, _HI). Read by gen_tables.column_settings. */

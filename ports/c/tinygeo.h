@@ -385,6 +385,8 @@ tg_status tg_column_from_bytes(tg_column *col, const unsigned char *blob, size_t
 #define TG_STATION_FL_FEW 64
 #define TG_STATION_FL_TAKEOVER 128
 #define TG_STATION_FL_CLOCK_HELD 256
+#define TG_STATION_FL_CLOCK_STUCK 512
+#define TG_STATION_FL_MSLP_ODD 1024
 
 /* The ring of averages, fixed at compile time: TG_STATION_RING slots hold 24
  * hours and the latest average for average_s >= 86400 / (TG_STATION_RING - 1).
@@ -423,8 +425,9 @@ typedef struct tg_station_config {
  * their leading underscore; _int is int_), NaN where Python has nan or None,
  * code -1 for a tendency_code of None. Fixed size, no allocation, no pointer
  * into itself: it may be a static variable and may be copied. Time stamps
- * (t0, ts, tsrh, rn_ts, rn_tsrh) and phase are tg_time (double) in every
- * build; the integers are int32_t, the checkpoint's int32s. */
+ * (t0, ts, tsrh, rn_ts, rn_tsrh), the steps between them (dtl, rn_dt) and
+ * phase are tg_time (double) in every build; the integers are int32_t, the
+ * checkpoint's int32s. */
 typedef struct tg_station {
     /* settings (Station.__init__) */
     TG_FLOAT height_m, lat_deg, average_s, max_p_step_pa, max_p_rate_pa_s, max_t_step_k;
@@ -444,7 +447,9 @@ typedef struct tg_station {
     tg_reason reason;                 /* of the latest rejection (C only; Python: ReadingError.reason) */
     /* the clock and the slots */
     tg_time t0, phase, ts, tsrh;
+    tg_time dtl;                      /* the latest step in time between accepted readings, s */
     int32_t k, kring, klast, t0_int, t0_hi, t0_lo;
+    int32_t runts;                    /* readings in a row with the same stamp */
     /* the average being built, the stuck test */
     TG_FLOAT rp, sp, cp, rt, st, rr, sr, lp, lt, lrh;
     int32_t np, nt, nr, nslot, sflags, runp, runt, runr, inp, int_, inr;
@@ -452,6 +457,7 @@ typedef struct tg_station {
     int32_t run, rn_time;
     TG_FLOAT rn_p, rn_t, rn_rh;
     tg_time rn_ts, rn_tsrh;
+    tg_time rn_dt;                    /* the run's latest step in time, s */
     /* the rings: ring_p[0 .. n-1], ring_t[0 .. n12-1] (mean12) */
     TG_FLOAT ring_p[TG_STATION_RING];
     TG_FLOAT ring_t[TG_STATION_RING12];
@@ -477,7 +483,7 @@ tg_status tg_tendency_code(const TG_FLOAT *trace_pa, int32_t n, TG_FLOAT steady_
 /* Checkpoints, byte for byte Station.to_bytes (checkpoint.py's frame, magic
  * "TGST"); the length depends on average_s and mean12 (the ring):
  * tg_station_checkpoint_bytes(st), at most TG_STATION_CHECKPOINT_MAX. */
-#define TG_STATION_CHECKPOINT_MAX (7 + 8 * (40 + TG_STATION_RING + TG_STATION_RING12) + 4 * 32 + 4)
+#define TG_STATION_CHECKPOINT_MAX (7 + 8 * (42 + TG_STATION_RING + TG_STATION_RING12) + 4 * 33 + 4)
 size_t tg_station_checkpoint_bytes(const tg_station *st);
 /* st.to_bytes(): writes tg_station_checkpoint_bytes(st) bytes (TG_RANGE if size is smaller) */
 tg_status tg_station_to_bytes(const tg_station *st, unsigned char *buf, size_t size);
