@@ -658,7 +658,7 @@ def test_buoy_readme_command_keeps_checkpoints_out_of_the_repository():
     assert "buoy.ckpt.*" in (ROOT / ".gitignore").read_text().splitlines()
 
 
-def test_station_table_resume_records_void_by_row_count():
+def test_station_table_resume_records_void_by_row_count(tmp_path):
     # tinygeo.stationrecord: '#: resume rows=N' keeps the first N rows kept
     # before it and drops the rest, an end record before it and a torn last
     # row; nested records (a second cut before the first resume's checkpoint)
@@ -675,6 +675,7 @@ def test_station_table_resume_records_void_by_row_count():
     assert [x.time_s for x in rows] == [600, 1200, 1800, 2400, 3000]
     assert (rd.voided, rd.torn, rd.resumes, rd.backwards) == (3, 1, 2, 0)
     assert rd.end["rows"] == "5"
+    (tmp_path / "r.tsv").write_text(text)
     # an end record voided by a resume record after it; without a record the
     # repeated rows are read and counted backwards
     rd, rows = read_table(head + r(600) + "\n" + r(1200) + "\n#: end rows=2\n"
@@ -685,6 +686,11 @@ def test_station_table_resume_records_void_by_row_count():
     with pytest.raises(table.TableError, match="expected #: resume rows=N"):
         read_table(head + r(600) + "\n#: resume line=3\n")
     assert stationrecord.RESUME_PREFIX == record.RESUME_PREFIX
+    # 'tinygeo plot' draws the rows kept and says what it dropped
+    pytest.importorskip("matplotlib")
+    rc, out, err = main(["plot", tmp_path / "r.tsv", "-o", tmp_path / "r.png"])
+    assert rc == 0 and "3 rows voided by 2 resume records" in err and "1 torn" in err, err
+    assert "go back" not in err and "5 points of 5" in err, err
 
 
 @pytest.mark.parametrize("text,words", [
@@ -757,6 +763,76 @@ def test_plot_of_an_iso_station_table_and_an_empty_one(tmp_path):
     assert rc == 0, err
     rc, out, err = main(["plot", tmp_path / "empty.tsv", "-o", tmp_path / "e.png"])
     assert rc == 2 and "no rows to plot" in err, err
+
+
+def _hand_table(times, origin=None):
+    # a station table of hand-made rows at these time_s (the rows are drawn
+    # as written)
+    head = stationrecord.MAGIC + "\n# station height_m=3.5 lat_deg=54.2 average_s=600\n"
+    if origin:
+        head += table.TIME_ORIGIN_PREFIX + origin + "\n"
+    return (head + "\t".join(stationrecord.COLUMNS) + "\n"
+            + "".join("%d.000\t%.2f\t100040.00\t100040.00\tnan\t-\tnan\t285.000\t80.00\t"
+                      "281.500\t0\t60\n" % (t, 100000.0 + k) for k, t in enumerate(times)))
+
+
+def _drawn(text, tmp_path):
+    from tinygeo.host import plot
+    data = plot.StationData(table.StationTableReader(io.StringIO(text), "t"))
+    fig = plot.draw_station(data, str(tmp_path / "f.png"), "t", 40)
+    return data, fig
+
+
+def test_plot_of_epoch_seconds_shows_utc_and_dates_across_days(tmp_path):
+    # time_s counting from 1970 without a time origin line (a logger on a
+    # clock set to UTC): the axis in UTC, not hours since 1970 with an
+    # offset; 2026-03-26T23:10:00Z is 1774566600 s (datetime's arithmetic)
+    pytest.importorskip("matplotlib")
+    import datetime
+    t0 = datetime.datetime(2026, 3, 26, 23, 10, tzinfo=datetime.timezone.utc)
+    assert t0.timestamp() == 1774566600
+    data, fig = _drawn(_hand_table([1774566600 + 600 * k for k in range(12)]), tmp_path)
+    assert data.epoch and data.epoch_guessed
+    ax = fig.axes[4]
+    assert ax.get_xlabel().startswith("date and time (UTC); time_s taken as seconds since 1970")
+    labels = [t.get_text() for t in ax.get_xticklabels()]
+    assert any(x.startswith("2026-03-27") for x in labels), labels   # crosses midnight
+    assert ax.xaxis.get_offset_text().get_text() == ""
+    # one day only: times of day; hours of the log's clock stay plain numbers
+    data, fig = _drawn(_hand_table([1774566600 - 7200 + 600 * k for k in range(6)]), tmp_path)
+    assert fig.axes[4].get_xlabel().startswith("time (UTC);")
+    assert all(":" in t.get_text() and "-" not in t.get_text()
+               for t in fig.axes[4].get_xticklabels() if t.get_text())
+    data, fig = _drawn(_hand_table([3600 * 1000 + 600 * k for k in range(6)]), tmp_path)
+    assert not data.epoch and fig.axes[4].xaxis.get_offset_text().get_text() == ""
+    # a table whose time origin is 1970 (ISO stamps), across days: dates
+    data, fig = _drawn(_hand_table([1774566600 + 600 * k for k in range(12)],
+                                   stationlog.EPOCH), tmp_path)
+    assert fig.axes[4].get_xlabel() == "date and time (UTC)"
+
+
+def test_plot_breaks_and_marks_where_time_goes_back(tmp_path):
+    # a restart on a clock set back 3000 s, and a row written twice: the
+    # lines break (a nan between), the places are marked, and 'tinygeo plot'
+    # says so with the table line of the first
+    pytest.importorskip("matplotlib")
+    times = [600 * k for k in range(1, 9)] + [4800 - 3000 + 600 * k for k in range(4)]
+    times += [times[-1]] + [times[-1] + 600]
+    text = _hand_table(times)
+    data, fig = _drawn(text, tmp_path)
+    assert (data.repeated, data.backwards) == (1, 1)
+    p = [ln for ln in fig.axes[1].lines if ln.get_label() == "station pressure (p_pa)"]
+    p = list(p[0].get_ydata())
+    assert sum(1 for v in p if v != v) == 2 and len(p) == len(times) + 2
+    assert p[8] != p[8] and p[13] != p[13] and p[9] == 1000.08 and p[14] == 1000.12
+    marks = [ln for ln in fig.axes[0].lines if ln.get_label().startswith("time goes back")]
+    assert len(marks) == 1 and "from 1.33 h" in marks[0].get_label()
+    path = tmp_path / "back.tsv"
+    path.write_text(text)
+    rc, out, err = main(["plot", path, "-o", tmp_path / "back.png"])
+    assert rc == 0, err
+    assert ("1 rows repeat the time_s of the row before and 1 go back in time (first at table "
+            "line 12: time_s=1800 after time_s=4800)") in err, err
 
 
 def test_station_table_end_prefix_is_the_column_tables():
