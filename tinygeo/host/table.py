@@ -414,9 +414,9 @@ class StationTableReader:
     Resume records (``#: resume rows=N``, tinygeo.stationrecord.resume_line)
     are honoured: of the rows before one, the first N kept are kept and the
     others dropped (counted in ``voided``), and so is an earlier end record;
-    a row that cannot be read and is the last line before a resume record,
-    or the last line of a table without an end record, is a row torn by a
-    power cut: dropped and counted in ``torn``. After the iteration
+    a row cut short (fewer fields, or the last one empty) that is the last
+    line before a resume record, or the last line of a table without an end
+    record, is a row torn by a power cut: dropped and counted in ``torn``. After the iteration
     ``summary`` holds the ``#:`` records as (what, dict) in file order,
     ``end`` the end record's dict (None: no end record, the table was cut
     short), ``rows`` the number of rows read (dropped ones not counted),
@@ -574,8 +574,11 @@ class StationTableReader:
                 try:
                     row = self._row(line, n)
                 except TableError:
-                    if self.lineno in self._ends:
-                        self.torn += 1      # cut by a power cut: the logger writes it again
+                    # a row cut short by a power cut (fewer fields, or the
+                    # last one empty), last before a resume record or the end
+                    fields = line.split("\t")
+                    if self.lineno in self._ends and (len(fields) < n or not fields[-1].strip()):
+                        self.torn += 1      # the logger writes it again
                         continue
                     raise
                 before += 1
