@@ -977,3 +977,34 @@ def test_time_stamps_without_an_offset_are_noted_as_utc(command):
     rc, out, err = main([command, "-"], "\n".join(zulu) + "\n")
     assert rc == 0, err
     assert "UTC offset" not in err, err
+
+
+# ================================================================ the advice on 'time' rejections
+def test_most_readings_rejected_for_time_the_advice_names_the_spacing():
+    # a log newest first (constructed): most readings are 'time'
+    # rejections; the final advice gives the readings' spacing and says to
+    # sort the log, not only mapping/units/height/QC limits
+    head = ["# lat_deg=47 height_m=20", "time_s,pressure_hpa,temp_c"]
+    log = "\n".join(head + ["%d,%.2f,10" % (100000 - 60 * i, 1010 + 0.01 * i)
+                            for i in range(300)]) + "\n"
+    rc, out, err = main(["station", "-", "--quiet"], log)
+    assert rc == 2 and "rejected for 'time'" in err, err
+    assert "the readings are 60 s apart (median of the first 99 steps) and 99 of those steps " \
+           "go back in time: is the log newest first?" in err, err
+    assert "QC limits" not in err
+    # readings going forward an hour apart: the advice names --average and
+    # --max-gap against that spacing (stationlog.advice, fed the stamps)
+    st = Station(20.0, 47.0)
+    s = stationlog.Summary()
+    for k in range(150):
+        s.stamp(1774706400 + 3600 * k)
+    text = stationlog.advice("time", s, st)
+    assert "the readings are 3600 s apart (median of the first 99 steps)" in text, text
+    assert "--average (600 s now)" in text and "--max-gap + --average (2400 s now)" in text
+    assert "hourly readings: --average 3600" in text
+    assert "QC limits" in stationlog.advice("pressure", s, st)
+    # no time at all: the time column named, nothing about spacing
+    log = "\n".join(head + [",%.2f,10" % (1010 + 0.01 * i) for i in range(60)]) + "\n"
+    rc, out, err = main(["station", "-", "--quiet"], log)
+    assert rc == 2 and "time_s is required" in err and \
+        "check the time column and its unit (--time NAME:s|ms|iso) (see --help)" in err, err

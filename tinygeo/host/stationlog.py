@@ -38,6 +38,7 @@ MAJORITY_AFTER = 100      # from this many readings on, stop when most are rejec
 # lines of another kind, which are skipped)
 MAJORITY_REASONS = ("pressure", "temperature", "humidity", "number", "time")
 MAX_RESTARTS = 10         # restarts listed by line in the summary (more are counted)
+MAX_STEPS = 99            # steps between readings kept for the spacing told in the advice
 EPOCH = "1970-01-01T00:00:00Z"
 # sea-level pressures beyond the recorded extremes (870 and 1085 hPa; WMO
 # archive of weather extremes, from memory, as tinygeo/station.py's guard_m)
@@ -240,6 +241,26 @@ class Summary:
         self.restarts = []           # (line, time_s), the first MAX_RESTARTS
         self.nrestarts = 0
         self.open = 0                # readings accepted after the latest completed average
+        self.steps = []              # the first MAX_STEPS nonzero steps between stamps, s
+        self._stamp = None
+
+    def stamp(self, time_s):
+        """A reading's time stamp (accepted or not): the steps between the
+        first ones tell the readings' spacing (``spacing``)."""
+        if time_s is None or len(self.steps) >= MAX_STEPS:
+            return
+        if self._stamp is not None and time_s != self._stamp:
+            self.steps.append(time_s - self._stamp)
+        self._stamp = time_s
+
+    def spacing(self):
+        """``(median, back, n)`` of the first steps between stamps: the
+        median size of a step, s, how many went back, how many were seen;
+        None before two stamps differ."""
+        if not self.steps:
+            return None
+        size = sorted(abs(x) for x in self.steps)
+        return size[len(size) // 2], sum(1 for x in self.steps if x < 0), len(size)
 
     def reject(self, reason, message):
         self.rejected += 1
@@ -334,6 +355,28 @@ def header_lines(st, reader, source_name):
     return lines
 
 
+def advice(reason, summary, st):
+    """What to check when most readings are rejected for ``reason``; for
+    'time', the readings' spacing against --average and --max-gap."""
+    if reason != "time":
+        return "check the column mapping, the units, --height and the QC limits (see --help)"
+    out = "check the time column and its unit (--time NAME:s|ms|iso)"
+    sp = summary.spacing()
+    if sp is None:
+        return out + " (see --help)"
+    gap, back, n = sp
+    out += "; the readings are %s s apart (median of the first %d steps)" % (
+        stamp_text(round(gap, 3)), n)
+    if 2 * back > n:
+        return out + (" and %d of those steps go back in time: is the log newest first? Sort "
+                      "it oldest first (see --help)" % back)
+    return out + ("; readings further apart than --average (%s s now) leave averages empty, and "
+                  "a step beyond --max-gap + --average (%s s now) is refused as a clock jump: "
+                  "give --average at least the readings' spacing (hourly readings: --average "
+                  "3600) and --max-gap the longest outage (see --help)"
+                  % (stamp_text(st.average_s), stamp_text(st.max_gap_s + st.average_s)))
+
+
 def _rejected(summary, e, lineno, report, st, epoch=False):
     msg = tidy(str(e), st, epoch)
     if not msg.startswith("line "):
@@ -345,17 +388,19 @@ def _rejected(summary, e, lineno, report, st, epoch=False):
     elif summary.rejected == MAX_REPORTS + 1:
         report("further rejected readings are only counted (see the summary)")
     if summary.accepted == 0 and summary.rejected >= START_GIVE_UP:
+        hint = "check the column mapping, the units and --height (see --help)"
+        if summary.reasons.get("time") == summary.rejected:
+            hint = advice("time", summary, st)
         raise InputError(
-            "stopped at line %d: none of the first %d readings was accepted; first problem: %s. "
-            "Check the column mapping, the units and --height (see --help)"
-            % (lineno, summary.rejected, summary.first_rejection))
+            "stopped at line %d: none of the first %d readings was accepted; first problem: %s; "
+            "%s" % (lineno, summary.rejected, summary.first_rejection, hint))
     seen = summary.accepted + summary.rejected
     n = summary.reasons[reason]
     if seen >= MAJORITY_AFTER and 2 * n > seen and reason in MAJORITY_REASONS:
         raise InputError(
             "stopped at line %d: %d of the %d readings so far were rejected for '%s' "
-            "(first: %s); check the column mapping, the units, --height and the QC limits "
-            "(see --help)" % (lineno, n, seen, reason, summary.first_by_reason[reason]))
+            "(first: %s); %s" % (lineno, n, seen, reason, summary.first_by_reason[reason],
+                                 advice(reason, summary, st)))
 
 
 def run(reader, st, summary, report, write=None, before_first=None, flush=None, note=None):
@@ -382,6 +427,7 @@ def run(reader, st, summary, report, write=None, before_first=None, flush=None, 
             origin = reader.time_origin_s or 0     # known once the first stamp is read
         if ts is not None and origin:
             ts = ts + origin
+        summary.stamp(ts)
         try:
             bits = feed(p, t, rh, ts)
         except ValueError as e:    # ReadingError by the contract
