@@ -1008,3 +1008,26 @@ def test_most_readings_rejected_for_time_the_advice_names_the_spacing():
     rc, out, err = main(["station", "-", "--quiet"], log)
     assert rc == 2 and "time_s is required" in err and \
         "check the time column and its unit (--time NAME:s|ms|iso) (see --help)" in err, err
+
+
+def test_readme_station_cautions_noise_mean12_time_and_digits():
+    # README's "Stations and buoys" cautions: the characteristic of a flat
+    # trace under noise with the figures bench/tendency_noise.py printed
+    # (bench/README.md), --mean12 and the isobaric height, UTC stamps, and
+    # MicroPython's last digit
+    doc = (ROOT / "README.md").read_text()
+    doc = doc[doc.index("**Cautions.**", doc.index("## Stations and buoys")):
+              doc.index("## The host companion")]
+    bench = (ROOT / "bench" / "README.md").read_text()
+    assert "     3.0 Pa                 26.8 %                   5.5 %" in bench
+    assert "     5.0 Pa                 78.5 %                  55.3 %" in bench
+    flat = " ".join(doc.split())
+    for words in ("3 Pa of noise on each 10-minute average, 5.5 % of flat 3-hour traces get a "
+                  "shape code", "with 5 Pa 55 %", "`bench/tendency_noise.py`",
+                  "`steady_pa` (`--steady`, 10 Pa)",
+                  "`mean12` applies to the sea-level pressure only",
+                  "uses the latest average's temperature",
+                  "Time stamps: UTC, or with an offset", "taken as UTC",
+                  "daylight-saving", "Compare numbers, not text", "MicroPython and CPython"):
+        assert words in flat, words
+    assert (ROOT / "bench" / "tendency_noise.py").exists()
