@@ -513,6 +513,186 @@ def test_the_buoy_logger_writes_the_same_table_under_micropython(tmp_path, buoy)
                 assert x == y, (k, x, y)
 
 
+def _buoy_run(exe, tmp_path, *args):
+    return run_script(exe, [BUOY, "--log", BUOY_LOG, "--checkpoint", tmp_path / "b.ckpt"]
+                      + list(args), cwd=tmp_path)
+
+
+def _rows_text(path):
+    return [ln for ln in path.read_text().splitlines() if ln and ln[0].isdigit()]
+
+
+def test_buoy_resume_voids_the_rows_written_after_its_checkpoint(tmp_path, buoy):
+    # a power cut after two rows and part of a third were written, before
+    # their checkpoint (constructed: the rows the uninterrupted run writes
+    # next are appended by hand): resumed, the logger writes a resume record
+    # (stationrecord.resume_line) and those rows again; the host reads the
+    # rows of the uninterrupted run, once each (MicroPython: device code)
+    require_micropython()
+    full = tmp_path / "full"
+    full.mkdir()
+    _buoy_run(MICROPYTHON, full, "--table", full / "t.tsv")
+    whole = _rows_text(full / "t.tsv")
+    path = tmp_path / "t.tsv"
+    out = _buoy_run(MICROPYTHON, tmp_path, "--table", path, "--stop-after", "4000")
+    assert "stopped after 4000" in out
+    kept = len(_rows_text(path))
+    assert 0 < kept < 140
+    with open(path, "a") as f:
+        f.write(whole[kept] + "\n" + whole[kept + 1] + "\n" + whole[kept + 2][:25])
+    out = _buoy_run(MICROPYTHON, tmp_path, "--table", path)
+    text = path.read_text()
+    assert ("\n" + stationrecord.resume_line(kept) + "\n") in text
+    assert "#: resume rows=%d\n" % kept in text
+    rd, rows = read_table(text, "dev")
+    assert (rd.voided, rd.torn, rd.resumes, rd.backwards) == (2, 1, 1, 0)
+    assert rd.end == buoy["reader"].end and rd.end["rows"] == "142"
+    assert len(rows) == len(buoy["rows"]) == 142
+    for a, b in zip(rows, buoy["rows"]):
+        assert a.time_s == b.time_s
+        assert (a.mslp_pa != a.mslp_pa and b.mslp_pa != b.mslp_pa) or \
+            abs(a.mslp_pa - b.mslp_pa) <= 0.011        # last digit: MicroPython may differ
+
+
+def test_buoy_resumed_without_its_table_writes_magic_and_header(tmp_path, buoy):
+    # the table file lost (or empty) while the checkpoint survived: the rows
+    # after the checkpoint go to a new table with its magic line and header
+    path = tmp_path / "t.tsv"
+    _buoy_run(sys.executable, tmp_path, "--table", path, "--stop-after", "4000")
+    kept = len(_rows_text(path))
+    for lost in ("missing", "empty"):
+        if lost == "missing":
+            path.unlink()
+        else:
+            path.write_text("")
+        work = tmp_path / lost
+        work.mkdir()
+        for k in (0, 1):
+            (work / ("b.ckpt.%d" % k)).write_bytes((tmp_path / ("b.ckpt.%d" % k)).read_bytes())
+        out = _buoy_run(sys.executable, work, "--table", path)
+        assert out.startswith("resuming from ")
+        text = path.read_text()
+        assert text.startswith(stationrecord.MAGIC + "\n# station height_m=3.5 lat_deg=54.2 ")
+        rd, rows = read_table(text, lost)
+        assert rd.resumes == 0 and rd.end["rows"] == str(len(rows))
+        assert [r.time_s for r in rows] == [r.time_s for r in buoy["rows"][kept:]]
+
+
+def test_buoy_reads_a_slot_written_before_it_kept_the_rows(tmp_path):
+    # b"TGBY" index, blob length, blob, CRC-32 (the layout before the rows):
+    # restored, rows not known (the table's rows are counted instead)
+    import importlib.util
+    import struct
+    from tinygeo.checkpoint import crc32
+    spec = importlib.util.spec_from_file_location("tinygeo_buoy_old_slot", str(BUOY))
+    mod = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(mod)
+    st = Station(3.5, 54.2)
+    st.feed(101000.0, 285.0, 80.0, 0)
+    blob = st.to_bytes()
+    data = b"TGBY" + struct.pack("<II", 77, len(blob)) + blob
+    (tmp_path / "o.ckpt.0").write_bytes(data + struct.pack("<I", crc32(data)))
+    got = mod.Slots(str(tmp_path / "o.ckpt")).load()
+    assert got[0] == 77 and got[2] is None and got[1].to_bytes() == blob
+    slots = mod.Slots(str(tmp_path / "o.ckpt"))
+    slots.load()
+    slots.save(78, st, 5)
+    assert mod.Slots(str(tmp_path / "o.ckpt")).load()[::2] == (78, 5)
+
+
+def test_buoy_log_line_with_an_empty_pressure_is_a_rejected_line(tmp_path):
+    # an empty or unreadable field is a rejected reading, like the other bad
+    # inputs (it raised an uncaught ValueError before)
+    lines = BUOY_LOG.read_text().splitlines()
+    head = [x for x in lines if not x[0].isdigit()]
+    data = [x for x in lines if x[0].isdigit()][:200]
+    w = data[50].split(",")
+    data[50] = ",".join([w[0], ""] + w[2:])
+    w = data[60].split(",")
+    data[60] = ",".join([w[0], w[1], "x"] + w[3:])
+    w = data[70].split(",")
+    data[70] = ",".join([""] + w[1:])
+    log = tmp_path / "holes.csv"
+    log.write_text("\n".join(head + data) + "\n")
+    out = run_script(sys.executable, [BUOY, "--log", log, "--checkpoint", tmp_path / "h.ckpt"],
+                     cwd=tmp_path)
+    assert "#50 rejected number: p_pa=nan" in out, out
+    assert "#60 rejected number: t_k=nan" in out, out
+    assert "#70 rejected time: time_s is required" in out, out
+    assert out.strip().splitlines()[-1].startswith("summary accepted 197 rejected 3 ")
+
+
+def test_buoy_height_and_latitude_options(tmp_path):
+    # --height and --lat set the station (constants had to be edited
+    # before): the table's station line carries them and its sea-level
+    # pressure is the [WMO8] reduction for that height (gen_station in
+    # mpmath; the row prints 0.01 Pa: goal 0.011 Pa, as the day's test)
+    path = tmp_path / "t.tsv"
+    run_script(sys.executable, [BUOY, "--log", BUOY_LOG, "--checkpoint", tmp_path / "c.ckpt",
+                                "--table", path, "--height", "12.5", "--lat", "-33.9",
+                                "--stop-after", "700"], cwd=tmp_path)
+    rd, rows = read_table(path.read_text())
+    assert rd.station["height_m"] == "12.5" and rd.station["lat_deg"] == "-33.9"
+    gph = G.ref_gph(12.5, -33.9)
+    assert len(rows) == 11
+    for r in rows:
+        tv = G.ref_tv(r.t_k, r.p_pa, r.rh_pct)
+        assert abs(r.mslp_pa - float(G.ref_msl(r.p_pa, tv, gph))) < 0.011
+    import subprocess
+    for args, words in ((["--height", "3m"], "--height '3m': give a number"),
+                        (["--lat", "95"], "lat_deg=95")):
+        p = subprocess.run([sys.executable, str(BUOY), "--log", str(BUOY_LOG), "--checkpoint",
+                            str(tmp_path / "bad.ckpt")] + args, capture_output=True, text=True,
+                           env=dict(os.environ, PYTHONPATH=str(ROOT)), cwd=str(tmp_path))
+        assert p.returncode == 1 and words in p.stderr and "Traceback" not in p.stderr, p.stderr
+
+
+def test_buoy_readme_command_keeps_checkpoints_out_of_the_repository():
+    # the README's command puts the slot files in a temporary directory and
+    # says how to start over; the default name is ignored by git
+    doc = (ROOT / "README.md").read_text()
+    doc = doc[doc.index("## Stations and buoys"):doc.index("## The host companion")]
+    cmd = [ln for ln in doc.splitlines() if "ports/micropython/buoy.py --log" in ln]
+    assert cmd and all("--checkpoint /tmp/" in ln for ln in cmd), cmd
+    assert "to start over" in doc
+    assert "buoy.ckpt.*" in (ROOT / ".gitignore").read_text().splitlines()
+
+
+def test_station_table_resume_records_void_by_row_count(tmp_path):
+    # tinygeo.stationrecord: '#: resume rows=N' keeps the first N rows kept
+    # before it and drops the rest, an end record before it and a torn last
+    # row; nested records (a second cut before the first resume's checkpoint)
+    def r(t):
+        return "%d.000\t100000.00\t100040.00\t100040.00\tnan\t-\tnan\t285.000\t80.00\t" \
+               "281.500\t0\t60" % t
+    head = stationrecord.MAGIC + "\n" + "\t".join(stationrecord.COLUMNS) + "\n"
+    text = (head + r(600) + "\n" + r(1200) + "\n" + r(1800) + "\n" + r(2400)[:9]
+            + "\n" + stationrecord.resume_line(2) + "\n"
+            + r(1800) + "\n" + r(2400) + "\n" + r(3000) + "\n"
+            + "\n" + stationrecord.resume_line(3) + "\n"
+            + r(2400) + "\n" + r(3000) + "\n#: end rows=5 count=1 rejected=0 averages=5 missing=0\n")
+    rd, rows = read_table(text)
+    assert [x.time_s for x in rows] == [600, 1200, 1800, 2400, 3000]
+    assert (rd.voided, rd.torn, rd.resumes, rd.backwards) == (3, 1, 2, 0)
+    assert rd.end["rows"] == "5"
+    (tmp_path / "r.tsv").write_text(text)
+    # an end record voided by a resume record after it; without a record the
+    # repeated rows are read and counted backwards
+    rd, rows = read_table(head + r(600) + "\n" + r(1200) + "\n#: end rows=2\n"
+                          + stationrecord.resume_line(1) + "\n" + r(1200) + "\n")
+    assert [x.time_s for x in rows] == [600, 1200] and rd.end is None and rd.voided == 1
+    rd, rows = read_table(head + r(600) + "\n" + r(1200) + "\n" + r(1200) + "\n" + r(1800) + "\n")
+    assert len(rows) == 4 and rd.backwards == 1 and rd.first_backwards == 5
+    with pytest.raises(table.TableError, match="expected #: resume rows=N"):
+        read_table(head + r(600) + "\n#: resume line=3\n")
+    assert stationrecord.RESUME_PREFIX == record.RESUME_PREFIX
+    # 'tinygeo plot' draws the rows kept and says what it dropped
+    pytest.importorskip("matplotlib")
+    rc, out, err = main(["plot", tmp_path / "r.tsv", "-o", tmp_path / "r.png"])
+    assert rc == 0 and "3 rows voided by 2 resume records" in err and "1 torn" in err, err
+    assert "go back" not in err and "5 points of 5" in err, err
+
+
 @pytest.mark.parametrize("text,words", [
     (stationrecord.MAGIC + "\ntime_s\tp_pa\ttend_code\n600\t1e5\t9\n", "tend_code 9 outside 0..8"),
     (stationrecord.MAGIC + "\np_pa\tmslp_pa\n", "the fields are time_s and any of"),
@@ -585,7 +765,269 @@ def test_plot_of_an_iso_station_table_and_an_empty_one(tmp_path):
     assert rc == 2 and "no rows to plot" in err, err
 
 
+def _hand_table(times, origin=None):
+    # a station table of hand-made rows at these time_s (the rows are drawn
+    # as written)
+    head = stationrecord.MAGIC + "\n# station height_m=3.5 lat_deg=54.2 average_s=600\n"
+    if origin:
+        head += table.TIME_ORIGIN_PREFIX + origin + "\n"
+    return (head + "\t".join(stationrecord.COLUMNS) + "\n"
+            + "".join("%d.000\t%.2f\t100040.00\t100040.00\tnan\t-\tnan\t285.000\t80.00\t"
+                      "281.500\t0\t60\n" % (t, 100000.0 + k) for k, t in enumerate(times)))
+
+
+def _drawn(text, tmp_path):
+    from tinygeo.host import plot
+    data = plot.StationData(table.StationTableReader(io.StringIO(text), "t"))
+    fig = plot.draw_station(data, str(tmp_path / "f.png"), "t", 40)
+    return data, fig
+
+
+def test_plot_of_epoch_seconds_shows_utc_and_dates_across_days(tmp_path):
+    # time_s counting from 1970 without a time origin line (a logger on a
+    # clock set to UTC): the axis in UTC, not hours since 1970 with an
+    # offset; 2026-03-26T23:10:00Z is 1774566600 s (datetime's arithmetic)
+    pytest.importorskip("matplotlib")
+    import datetime
+    t0 = datetime.datetime(2026, 3, 26, 23, 10, tzinfo=datetime.timezone.utc)
+    assert t0.timestamp() == 1774566600
+    data, fig = _drawn(_hand_table([1774566600 + 600 * k for k in range(12)]), tmp_path)
+    assert data.epoch and data.epoch_guessed
+    ax = fig.axes[4]
+    assert ax.get_xlabel().startswith("date and time (UTC); time_s taken as seconds since 1970")
+    labels = [t.get_text() for t in ax.get_xticklabels()]
+    assert any(x.startswith("2026-03-27") for x in labels), labels   # crosses midnight
+    assert ax.xaxis.get_offset_text().get_text() == ""
+    # one day only: times of day; hours of the log's clock stay plain numbers
+    data, fig = _drawn(_hand_table([1774566600 - 7200 + 600 * k for k in range(6)]), tmp_path)
+    assert fig.axes[4].get_xlabel().startswith("time (UTC);")
+    assert all(":" in t.get_text() and "-" not in t.get_text()
+               for t in fig.axes[4].get_xticklabels() if t.get_text())
+    data, fig = _drawn(_hand_table([3600 * 1000 + 600 * k for k in range(6)]), tmp_path)
+    assert not data.epoch and fig.axes[4].xaxis.get_offset_text().get_text() == ""
+    # a table whose time origin is 1970 (ISO stamps), across days: dates
+    data, fig = _drawn(_hand_table([1774566600 + 600 * k for k in range(12)],
+                                   stationlog.EPOCH), tmp_path)
+    assert fig.axes[4].get_xlabel() == "date and time (UTC)"
+
+
+def test_plot_breaks_and_marks_where_time_goes_back(tmp_path):
+    # a restart on a clock set back 3000 s, and a row written twice: the
+    # lines break (a nan between), the places are marked, and 'tinygeo plot'
+    # says so with the table line of the first
+    pytest.importorskip("matplotlib")
+    times = [600 * k for k in range(1, 9)] + [4800 - 3000 + 600 * k for k in range(4)]
+    times += [times[-1]] + [times[-1] + 600]
+    text = _hand_table(times)
+    data, fig = _drawn(text, tmp_path)
+    assert (data.repeated, data.backwards) == (1, 1)
+    p = [ln for ln in fig.axes[1].lines if ln.get_label() == "station pressure (p_pa)"]
+    p = list(p[0].get_ydata())
+    assert sum(1 for v in p if v != v) == 2 and len(p) == len(times) + 2
+    assert p[8] != p[8] and p[13] != p[13] and p[9] == 1000.08 and p[14] == 1000.12
+    marks = [ln for ln in fig.axes[0].lines if ln.get_label().startswith("time goes back")]
+    assert len(marks) == 1 and "from 1.33 h" in marks[0].get_label()
+    path = tmp_path / "back.tsv"
+    path.write_text(text)
+    rc, out, err = main(["plot", path, "-o", tmp_path / "back.png"])
+    assert rc == 0, err
+    assert ("1 rows repeat the time_s of the row before and 1 go back in time (first at table "
+            "line 12: time_s=1800 after time_s=4800)") in err, err
+
+
 def test_station_table_end_prefix_is_the_column_tables():
     # stationrecord imports nothing (a buoy logger loads only it): its end
     # record prefix is written out and must stay the column table's
     assert stationrecord.END_PREFIX == record.END_PREFIX
+
+
+# ================================================================ flags everywhere
+def _station_flags():
+    from tinygeo import station
+    return sorted((getattr(station, n), n) for n in dir(station) if n.startswith("FL_"))
+
+
+def test_every_station_flag_is_named_in_help_readme_summary_and_plot(tmp_path):
+    # each FL_* bit of tinygeo.station: a line of 'tinygeo station --help', a
+    # name in README's "Stations and buoys", a word of the summary's '#: flags'
+    # record and a row of the plot's QC strip
+    from tinygeo.host import plot
+    flags = _station_flags()
+    assert len(flags) == 11 and flags[-1] == (1024, "FL_MSLP_ODD")
+    rc, out, err = main(["station", "--help"])
+    assert rc == 0
+    doc = (ROOT / "README.md").read_text()
+    doc = doc[doc.index("## Stations and buoys"):doc.index("## The host companion")]
+    words = dict(stationlog.FLAG_WORDS)
+    labels = dict(plot.STATION_FLAG_LABELS)
+    for bit, name in flags:
+        assert ("\n  %-5d" % bit) in out, name
+        assert "`%s`" % name in doc or (name.startswith("FL_STUCK") and "`FL_STUCK_P/T/RH`" in doc), name
+        assert bit in words and words[bit] in labels, name
+    rc, out, err = main(["station", "-", "--quiet"], relabel("time_s,pressure_hpa,temp_c,rh_pct"))
+    got = records(out)["flags"]
+    assert sorted(got) == sorted(words.values())
+    # the plot's QC strip has a row for a flag an average carries: 1024 on a
+    # row of a hand-made table (the rows are drawn as written)
+    pytest.importorskip("matplotlib")
+    text = (stationrecord.MAGIC + "\n# station height_m=3.5 lat_deg=54.2 average_s=600\n"
+            + "\t".join(stationrecord.COLUMNS) + "\n"
+            + "".join("%d.000\t100000.00\t100040.00\t100040.00\tnan\t-\tnan\t285.000\t80.00\t"
+                      "281.500\t%d\t60\n" % (600 * (k + 1), 1024 if k == 2 else 0)
+                      for k in range(6)))
+    data = plot.StationData(table.StationTableReader(io.StringIO(text), "t"))
+    fig = plot.draw_station(data, str(tmp_path / "f.png"), "t", 40)
+    qc = fig.axes[4]
+    assert [t.get_text() for t in qc.get_yticklabels()] == [labels["mslp_odd"]]
+
+
+# ================================================================ the command's help and notes
+def test_station_help_has_its_own_exit_status_and_layout_file():
+    rc, out, err = main(["station", "--help"])
+    assert rc == 0
+    status = out[out.index("exit status:"):out.index("flags (")]
+    for words in ("compare", "lapse rate", "gps", "device table", "start height", "matplotlib"):
+        assert words not in status, words
+    for words in ("no time\n      column", "station's height or latitude not known", "--guard"):
+        assert words in status, words
+    assert "table layout: see tinygeo/stationrecord.py." in out and "record.py (" not in out
+    doc = (ROOT / "README.md").read_text()
+    doc = doc[doc.index("## Stations and buoys"):doc.index("## The host companion")]
+    assert "`tinygeo/stationrecord.py`" in doc and "`tinygeo/record.py`" not in doc
+
+
+def test_an_inferred_pressure_unit_is_noted_against_the_station_height_and_guard():
+    # kPa inferred from the values: the note names the station's height and
+    # its guard (2000 m by default, --guard), not a start height
+    log = station_log([1012.0 + 0.01 * i for i in range(30)], head="# lat_deg=58.5 height_m=2.8")
+    log = log.replace("pressure_hpa", "baro")
+    kpa = "\n".join(ln if not ln[0].isdigit() else
+                    ",".join([ln.split(",")[0], "%.4f" % (float(ln.split(",")[1]) / 10.0)]
+                             + ln.split(",")[2:]) for ln in log.splitlines()) + "\n"
+    rc, out, err = main(["station", "-"], kpa)
+    assert rc == 0, err
+    assert "taken as pressure in kPa" in err
+    assert "within 2000 m of the station's height 2.8 m" in err and "start height" not in err, err
+    rc, out, err = main(["station", "-", "--guard", "500"], kpa)
+    assert "within 500 m of the station's height 2.8 m" in err, err
+
+
+# ================================================================ time stamps in messages
+def _epoch_log(iso):
+    # 1-minute readings from 2026-03-28T14:00:00Z (1774706400 s since 1970,
+    # datetime's UTC arithmetic), then a stamp 4141 s ahead of the latest
+    import datetime
+    t0 = datetime.datetime(2026, 3, 28, 14, 0, 0, tzinfo=datetime.timezone.utc)
+    assert t0.timestamp() == 1774706400
+    lines = ["# lat_deg=58.5 height_m=2.8", ("utc" if iso else "time_s") + ",pressure_hpa,temp_c"]
+    stamps = [60 * i for i in range(40)] + [39 * 60 + 4141]
+    for k, s in enumerate(stamps):
+        t = t0 + datetime.timedelta(seconds=s)
+        lines.append("%s,%.2f,7.0" % (t.strftime("%Y-%m-%dT%H:%M:%SZ") if iso else
+                                      "%d" % t.timestamp(), 1015.0 + 0.01 * k))
+    return "\n".join(lines) + "\n"
+
+
+def test_time_stamps_in_station_messages_stay_whole_or_utc():
+    # epoch seconds in a number column: whole digits, not 1.77471e+09
+    rc, out, err = main(["station", "-"], _epoch_log(False))
+    assert rc == 0, err
+    assert "time_s=1774712881 is 4141 s after the latest accepted reading's 1774708740," in err, err
+    assert "e+09" not in err
+    # ISO stamps: the same, with their UTC text
+    rc, out, err = main(["station", "-"], _epoch_log(True))
+    assert rc == 0, err
+    assert ("time_s=1774712881 (2026-03-28T15:48:01Z) is 4141 s after the latest accepted "
+            "reading's 1774708740 (2026-03-28T14:39:00Z),") in err, err
+
+
+def test_time_stamps_in_replay_messages_stay_whole():
+    # a column fed epoch seconds that go back: the stamp whole, not 1.77471e+09
+    lines = ["# lat_deg=47 start_height_m=420", "time_s,pressure_hpa,temp_c"]
+    for i in range(30):
+        lines.append("%d,%.2f,12.0" % (1774706400 + (2 * i if i != 20 else -600), 965.0 - 0.1 * i))
+    rc, out, err = main(["replay", "-"], "\n".join(lines) + "\n")
+    assert rc == 0, err
+    assert "time_s=1774705800 before the latest reading's 38 s" in err, err
+    assert "e+09" not in err
+    from tinygeo.host.options import round_numbers
+    assert round_numbers("p_pa=96447.00000000001 time_s=12.250000 at the reading's -3.5") == \
+        "p_pa=96447 time_s=12.25 at the reading's -3.5"
+
+
+# ================================================================ naive time stamps
+@pytest.mark.parametrize("command", ["station", "replay"])
+def test_time_stamps_without_an_offset_are_noted_as_utc(command):
+    # '2026-03-29 00:59:00' has no offset: taken as UTC, and a note says so
+    # once (with the daylight-saving caution); stamps with Z or an offset: no note
+    import datetime
+    t0 = datetime.datetime(2026, 3, 29, 0, 0, 0)
+    head = ["# lat_deg=47 height_m=20 start_height_m=20", "timestamp,pressure_hpa,temp_c"]
+    naive, zulu = list(head), list(head)
+    for i in range(120):
+        t = t0 + datetime.timedelta(seconds=60 * i)
+        row = ",%.2f,12.0" % (1010.0 - 0.001 * i)
+        naive.append(t.strftime("%Y-%m-%d %H:%M:%S") + row)
+        zulu.append(t.strftime("%Y-%m-%dT%H:%M:%S+01:00") + row)
+    rc, out, err = main([command, "-"], "\n".join(naive) + "\n")
+    assert rc == 0, err
+    assert err.count("without a UTC offset") == 1, err
+    assert ("holds time stamps without a UTC offset ('2026-03-29 00:00:00', line 3): taken as "
+            "UTC") in err and "daylight-saving" in err, err
+    rc, out, err = main([command, "-"], "\n".join(zulu) + "\n")
+    assert rc == 0, err
+    assert "UTC offset" not in err, err
+
+
+# ================================================================ the advice on 'time' rejections
+def test_most_readings_rejected_for_time_the_advice_names_the_spacing():
+    # a log newest first (constructed): most readings are 'time'
+    # rejections; the final advice gives the readings' spacing and says to
+    # sort the log, not only mapping/units/height/QC limits
+    head = ["# lat_deg=47 height_m=20", "time_s,pressure_hpa,temp_c"]
+    log = "\n".join(head + ["%d,%.2f,10" % (100000 - 60 * i, 1010 + 0.01 * i)
+                            for i in range(300)]) + "\n"
+    rc, out, err = main(["station", "-", "--quiet"], log)
+    assert rc == 2 and "rejected for 'time'" in err, err
+    assert "the readings are 60 s apart (median of the first 99 steps) and 99 of those steps " \
+           "go back in time: is the log newest first?" in err, err
+    assert "QC limits" not in err
+    # readings going forward an hour apart: the advice names --average and
+    # --max-gap against that spacing (stationlog.advice, fed the stamps)
+    st = Station(20.0, 47.0)
+    s = stationlog.Summary()
+    for k in range(150):
+        s.stamp(1774706400 + 3600 * k)
+    text = stationlog.advice("time", s, st)
+    assert "the readings are 3600 s apart (median of the first 99 steps)" in text, text
+    assert "--average (600 s now)" in text and "--max-gap + --average (2400 s now)" in text
+    assert "hourly readings: --average 3600" in text
+    assert "QC limits" in stationlog.advice("pressure", s, st)
+    # no time at all: the time column named, nothing about spacing
+    log = "\n".join(head + [",%.2f,10" % (1010 + 0.01 * i) for i in range(60)]) + "\n"
+    rc, out, err = main(["station", "-", "--quiet"], log)
+    assert rc == 2 and "time_s is required" in err and \
+        "check the time column and its unit (--time NAME:s|ms|iso) (see --help)" in err, err
+
+
+def test_readme_station_cautions_noise_mean12_time_and_digits():
+    # README's "Stations and buoys" cautions: the characteristic of a flat
+    # trace under noise with the figures bench/tendency_noise.py printed
+    # (bench/README.md), --mean12 and the isobaric height, UTC stamps, and
+    # MicroPython's last digit
+    doc = (ROOT / "README.md").read_text()
+    doc = doc[doc.index("**Cautions.**", doc.index("## Stations and buoys")):
+              doc.index("## The host companion")]
+    bench = (ROOT / "bench" / "README.md").read_text()
+    assert "     3.0 Pa                 26.8 %                   5.5 %" in bench
+    assert "     5.0 Pa                 78.5 %                  55.3 %" in bench
+    flat = " ".join(doc.split())
+    for words in ("3 Pa of noise on each 10-minute average, 5.5 % of flat 3-hour traces get a "
+                  "shape code", "with 5 Pa 55 %", "`bench/tendency_noise.py`",
+                  "`steady_pa` (`--steady`, 10 Pa)",
+                  "`mean12` applies to the sea-level pressure only",
+                  "uses the latest average's temperature",
+                  "Time stamps: UTC, or with an offset", "taken as UTC",
+                  "daylight-saving", "Compare numbers, not text", "MicroPython and CPython"):
+        assert words in flat, words
+    assert (ROOT / "bench" / "tendency_noise.py").exists()

@@ -25,6 +25,15 @@ record), its own magic line and columns, one row per completed average::
   or a station at 800 m and above). ``nan``: not known.
 * ``#: end`` (``end_line``) after the rows: rows written and the
   station's counters.
+* ``#: resume rows=N`` (``resume_line``): a logger that went on from a
+  checkpoint taken when it had written N rows writes the rows after those
+  again, so the rows it wrote after them before the power cut are void: a
+  reader keeps the first N rows before the record (rows voided by earlier
+  resume records not counted) and drops the rest, an earlier end record,
+  and a row torn by the cut (the last line before the record that is not a
+  whole row). The table has no reading numbers (the column table's
+  ``line``), so the logger counts its rows and keeps the count in its
+  checkpoint (ports/micropython/buoy.py does).
 
 This module only writes and runs on a board (``%`` formatting only); it
 imports nothing, so a buoy logger does not load the column's table module
@@ -33,6 +42,8 @@ and a flight logger does not load this one. The host's reader
 """
 END_PREFIX = "#: end "
 """The end record's prefix, the same as tinygeo.record.END_PREFIX (tested)."""
+RESUME_PREFIX = "#: resume "
+"""The resume record's prefix, the same as tinygeo.record.RESUME_PREFIX (tested)."""
 
 _NAN = float("nan")
 
@@ -91,3 +102,13 @@ def end_line(rows, st):
     missing=1``."""
     return "%srows=%d count=%d rejected=%d averages=%d missing=%d" % (
         END_PREFIX, rows, st.count, st.rejected, st.averages, st.missing)
+
+
+def resume_line(rows):
+    """The resume record of a logger that goes on from a checkpoint taken
+    when it had written ``rows`` rows to this table: the rows after those,
+    written before a power cut, are void (see the module docstring). A cut
+    may have torn the last row, so write it on a line of its own after a
+    line end: ``"\\n" + resume_line(n) + "\\n"`` (readers skip the blank
+    line). Example: ``resume_line(142) == '#: resume rows=142'``."""
+    return "%srows=%d" % (RESUME_PREFIX, rows)

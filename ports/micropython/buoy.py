@@ -4,9 +4,15 @@ sensor -> Station -> hourly report lines, QC lines, checkpoints.
 On the host, from the repository root, with the invented day of
 examples/buoy_day.csv as the "sensor" (replayed line by line)::
 
-    MICROPYPATH=. micropython ports/micropython/buoy.py --log examples/buoy_day.csv
+    MICROPYPATH=. micropython ports/micropython/buoy.py --log examples/buoy_day.csv \\
+        --checkpoint /tmp/buoy.ckpt
     MICROPYPATH=. micropython ports/micropython/buoy.py --log examples/buoy_day.csv \\
         --checkpoint /tmp/buoy.ckpt --stop-after 4000      # then run again: it resumes
+
+A run goes on from its newest checkpoint (``<path>.0``, ``<path>.1``; the
+default path ``buoy.ckpt`` is in the working directory): delete both files
+to start over. ``--height M`` (the barometer above the water line) and
+``--lat DEG`` set the station (defaults: the invented day's).
 
 On a board: install the package, copy this file to the board, and put your
 sensor driver in place of ``LogSensor`` (a class with ``read()`` that sets
@@ -17,7 +23,8 @@ What it shows:
 
 - every reading goes to ``Station.feed``; a rejected reading raises
   ``ReadingError`` and leaves the station as it was: the loop prints it and
-  goes on;
+  goes on (a log line with an empty or unreadable pressure, temperature or
+  time is fed as nan or no time, and rejected so);
 - when an average completes on the full hour (``time_s`` a multiple of
   3600), a report line: station pressure, sea-level pressure, QNH, 3-hour
   tendency and its characteristic (WMO code table 0200, ``-`` when unknown),
@@ -30,12 +37,15 @@ What it shows:
   ``takeover_readings`` readings in a row; the averages of the old clock
   cannot be placed on it) and the logger prints a ``restart`` line;
 - checkpoints: every ``CHECKPOINT_EVERY`` readings and after each report,
-  the reading index and ``Station.to_bytes()`` go to one of two slot files
+  the reading index, the rows written to the table and
+  ``Station.to_bytes()`` go to one of two slot files
   in turn (``<path>.0``, ``<path>.1``), so the newest good checkpoint is
   never the one being overwritten. A slot holds::
 
-      b"TGBY"  index (uint32 LE)  blob length (uint32 LE)  blob  CRC-32 (uint32 LE)
+      b"TGB2"  index (uint32 LE)  rows (uint32 LE)  blob length (uint32 LE)  blob  CRC-32 (uint32 LE)
 
+  (a slot written before the rows were kept, ``b"TGBY"`` without them,
+  is still read; its rows are counted in the table)
   the CRC-32 (tinygeo.checkpoint.crc32) covering the header and the blob,
   so a torn or corrupted slot (header included) is skipped and the other one
   restored; the blob has its own frame and CRC as well. At start the newest
@@ -44,11 +54,13 @@ What it shows:
 - with ``--table PATH`` (``TABLE`` below) every completed average is also
   written as a row of tinygeo's station table (tinygeo/stationrecord.py: the layout
   ``tinygeo station`` writes and ``tinygeo plot`` draws), flushed, and a
-  checkpoint follows each row, so a resumed log appends to its table
-  without repeating rows (a power cut between a row and its checkpoint
-  repeats that one row, with the same time_s and values). The end record
-  closes the table when the log ends. Draw it on the host with
-  ``tinygeo plot PATH -o day.png``.
+  checkpoint follows each row. A resumed log appends to its table a resume
+  record (stationrecord.resume_line: the rows written when the checkpoint
+  was taken) before its rows, so that a row written after the checkpoint,
+  before a power cut, and written again now is dropped by the readers; a
+  table file that is missing or empty gets its magic line and header
+  first. The end record closes the table when the log ends. Draw it on the
+  host with ``tinygeo plot PATH -o day.png``.
 
 NOT for aviation: QNH here is computed for the barometer's height; altimeter
 settings for aircraft come from an aerodrome's certified instruments and its
@@ -70,9 +82,21 @@ CHECKPOINT_EVERY = 600         # readings between checkpoints (and after each re
 STOP_AFTER = 0                 # stop after this many readings, no final checkpoint (0 = never)
 TABLE = ""                     # a file for the station table of tinygeo/stationrecord.py ("" = none)
 
-MAGIC = b"TGBY"
-_HEAD = "<II"
-_HEAD_LEN = 12
+MAGIC = b"TGB2"
+_HEAD = "<III"
+_HEAD_LEN = 16
+OLD_MAGIC = b"TGBY"                # slots without the rows (index, blob length)
+_OLD_HEAD_LEN = 12
+_NAN = float("nan")
+
+
+def _number(w, i, unit):
+    # field i of a log line times unit, nan when it is missing or unreadable
+    # (the station rejects it as it rejects any bad reading)
+    try:
+        return float(w[i]) * unit
+    except (IndexError, ValueError):
+        return _NAN
 
 
 class LogSensor:
@@ -92,10 +116,13 @@ class LogSensor:
             if line[0] == "#" or line.startswith("time"):
                 continue
             w = line.strip().split(",")
-            self.time_s = int(w[0])
-            self.p_pa = float(w[1]) * 100.0
-            self.t_k = float(w[2]) + 273.15
-            self.rh_pct = float(w[3]) if w[3] else None
+            try:
+                self.time_s = int(w[0])
+            except ValueError:
+                self.time_s = None     # no time: the station refuses the reading
+            self.p_pa = _number(w, 1, 100.0)
+            self.t_k = _number(w, 2, 1.0) + 273.15
+            self.rh_pct = _number(w, 3, 1.0) if len(w) > 3 and w[3].strip() else None
             self.index += 1
             return True
 
@@ -120,7 +147,8 @@ class Slots:
         return "%s.%d" % (self.path, k)
 
     def _read(self, k):
-        # (index, station) from slot k, or None if it is missing, torn or corrupted
+        # (index, station, rows) from slot k, or None if it is missing, torn or
+        # corrupted (rows None: an old slot)
         try:
             f = open(self.slot_path(k), "rb")
         except OSError:
@@ -129,16 +157,22 @@ class Slots:
             data = f.read()
         finally:
             f.close()
-        if len(data) < _HEAD_LEN + 4 or data[:4] != MAGIC:
+        if data[:4] == MAGIC and len(data) >= _HEAD_LEN + 4:
+            index, rows, n = struct.unpack(_HEAD, data[4:_HEAD_LEN])
+            head = _HEAD_LEN
+        elif data[:4] == OLD_MAGIC and len(data) >= _OLD_HEAD_LEN + 4:
+            index, n = struct.unpack("<II", data[4:_OLD_HEAD_LEN])
+            rows = None
+            head = _OLD_HEAD_LEN
+        else:
             return None
-        index, n = struct.unpack(_HEAD, data[4:_HEAD_LEN])
-        if len(data) != _HEAD_LEN + n + 4:
+        if len(data) != head + n + 4:
             return None
         (crc,) = struct.unpack("<I", data[-4:])
         if crc32(data[:-4]) != crc:
             return None
         try:
-            return index, Station.from_bytes(data[_HEAD_LEN:-4])
+            return index, Station.from_bytes(data[head:-4]), rows
         except CheckpointError:
             return None
 
@@ -154,12 +188,13 @@ class Slots:
         self.loaded_from = self.slot_path(best_k) if best is not None else ""
         return best
 
-    def save(self, index, st):
-        # a failed write (storage full, a bus error) is reported and retried
-        # at the next checkpoint into the same slot; the other slot keeps the
+    def save(self, index, st, rows=0):
+        # index: readings taken; rows: rows written to the table. A failed
+        # write (storage full, a bus error) is reported and retried at the
+        # next checkpoint into the same slot; the other slot keeps the
         # newest good checkpoint meanwhile
         blob = st.to_bytes()
-        data = MAGIC + struct.pack(_HEAD, index, len(blob)) + blob
+        data = MAGIC + struct.pack(_HEAD, index, rows, len(blob)) + blob
         data += struct.pack("<I", crc32(data))
         try:
             f = open(self.slot_path(self.next), "wb")
@@ -198,33 +233,52 @@ def qc_line(st):
     return "qc %s flags %d gap_s %d" % (clock(st.time_s), st.flags, st.gap_s)
 
 
-def new_station():
-    return Station(HEIGHT_M, LAT_DEG, AVERAGE_S)
+def new_station(opts):
+    try:
+        return Station(opts["height"], opts["lat"], AVERAGE_S)
+    except ValueError as e:
+        raise SystemExit("station not set up: %s (--height M, --lat DEG)" % e)
 
 
 def options(argv):
     opts = {"log": LOG, "checkpoint": CHECKPOINT, "checkpoint-every": CHECKPOINT_EVERY,
-            "stop-after": STOP_AFTER, "table": TABLE}
+            "stop-after": STOP_AFTER, "table": TABLE, "height": HEIGHT_M, "lat": LAT_DEG}
     i = 0
     while i < len(argv):
         name = argv[i][2:] if argv[i].startswith("--") else ""
         if name not in opts or i + 1 >= len(argv):
             raise SystemExit("unknown or incomplete option %r; known: --%s VALUE" % (
                 argv[i], " VALUE, --".join(sorted(opts))))
-        opts[name] = argv[i + 1] if isinstance(opts[name], str) else int(argv[i + 1])
+        v = opts[name]
+        try:
+            opts[name] = argv[i + 1] if isinstance(v, str) else (
+                float(argv[i + 1]) if isinstance(v, float) else int(argv[i + 1]))
+        except ValueError:
+            raise SystemExit("--%s %r: give a number" % (name, argv[i + 1]))
         i += 2
     return opts
 
 
 def table_rows(path):
-    # the rows already in a table file (a resumed log appends to it)
-    n = 0
+    # the rows in a table file, resume records honoured (for a slot that does
+    # not keep them); -1 when the file is missing, empty or has no header
+    n = -1
     try:
         f = open(path)
     except OSError:
-        return 0
+        return -1
+    from tinygeo import stationrecord
     for line in f:
-        if line[0] != "#" and not line.startswith("time_s"):
+        if n < 0:
+            if line.startswith("time_s"):
+                n = 0
+            continue
+        if line.startswith(stationrecord.RESUME_PREFIX):
+            try:
+                n = min(n, int(line.split("=")[1]))
+            except ValueError:
+                pass
+        elif line.strip() and line[0] != "#":
             n += 1
     f.close()
     return n
@@ -234,11 +288,12 @@ def run(opts):
     sensor = LogSensor(opts["log"])
     slots = Slots(opts["checkpoint"])
     got = slots.load()
+    kept = None                    # the rows of the checkpoint (None: not known)
     if got is None:
-        st = new_station()
+        st = new_station(opts)
         print("start new log at reading 0")
     else:
-        index, st = got
+        index, st, kept = got
         sensor.seek(index)
         print("resuming from %s at reading %d, %d accepted so far (delete %s and %s to start "
               "over)" % (slots.loaded_from, index, st.count, slots.slot_path(0),
@@ -248,16 +303,26 @@ def run(opts):
     taken = 0
     saved = -1
     table = None
-    rows = 0
+    rows = 0 if kept is None else kept
     if opts["table"]:
         from tinygeo import stationrecord     # loaded only when a table is written
-        if got is None:
-            table = open(opts["table"], "w")
+        path = opts["table"]
+        have = -1 if got is None else table_rows(path)
+        if have < 0:
+            # a new log, or a resumed one whose table is missing or empty:
+            # the magic line and header first
+            rows = 0
+            table = open(path, "w")
             table.write(stationrecord.MAGIC + "\n" + stationrecord.station_line(st) + "\n" +
                         stationrecord.header(st) + "\n")
         else:
-            rows = table_rows(opts["table"])
-            table = open(opts["table"], "a")
+            # the rows written after the checkpoint are written again: the
+            # resume record voids them (on a line of its own: the last row
+            # may be torn)
+            rows = have if kept is None else kept
+            table = open(path, "a")
+            table.write("\n" + stationrecord.resume_line(rows) + "\n")
+        table.flush()
     while sensor.read():
         taken += 1
         index = sensor.index - 1
@@ -279,10 +344,10 @@ def run(opts):
                 table.flush()
                 rows += 1
             if table is not None or st.time_s % 3600 == 0:
-                slots.save(sensor.index, st)
+                slots.save(sensor.index, st, rows)
                 saved = sensor.index
         if every and sensor.index % every == 0 and saved != sensor.index:
-            slots.save(sensor.index, st)
+            slots.save(sensor.index, st, rows)
         if stop_after and taken >= stop_after:
             print("stopped after %d readings (as by a power cut)" % taken)
             sensor.close()
@@ -290,7 +355,7 @@ def run(opts):
                 table.close()
             return st
     sensor.close()
-    slots.save(sensor.index, st)
+    slots.save(sensor.index, st, rows)
     if table is not None:
         table.write(stationrecord.end_line(rows, st) + "\n")
         table.close()

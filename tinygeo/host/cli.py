@@ -41,6 +41,24 @@ EXIT_TEXT = """exit status:
       output named by a symbolic link is written to the file it points to)
   130 interrupted (Ctrl-C)"""
 
+STATION_EXIT_TEXT = """exit status:
+  0   success; also when the reader of standard output stops early ('| head')
+  2   usage or input error: bad option or station setting (--average must
+      divide 3 hours), the station's height or latitude not known,
+      unreadable file (not UTF-8, a NUL character, a line over 1 MiB), an
+      output that would overwrite an input, empty log, no header, no time
+      column, unknown column, two columns for one quantity, a unit the
+      values contradict or do not confirm (a pressure within --guard of the
+      station's height, a surface temperature), nothing accepted in the
+      first 50 readings, more than half of the readings rejected for one
+      reason (pressure, temperature, humidity, number, time; counted from
+      the 100th reading on)
+  4   an output could not be written (full disk, closed standard output, an
+      existing read-only file: make it writable or delete it...); the
+      message names it, and no half-written file is left under its name (an
+      output named by a symbolic link is written to the file it points to)
+  130 interrupted (Ctrl-C)"""
+
 MAPPING_HELP = """column mapping (default: from the header names):
   NAME is a header name or a column number (1 = first); :UNIT is optional
   when the header name ends in a unit word (pressure_hpa, temp_c, time_s).
@@ -96,7 +114,8 @@ def _add_mapping(p, gps=True, text=MAPPING_HELP):
     g.add_argument("--dew-point", dest="dewpoint", metavar="NAME[:K|C|F]",
                    help="dew point column, instead of --humidity")
     g.add_argument("--time", metavar="NAME[:s|ms|iso]",
-                   help="time column: seconds, or ISO-8601 timestamps (e.g. 2026-05-04T09:30:00Z)")
+                   help="time column: seconds, or ISO-8601 timestamps (e.g. 2026-05-04T09:30:00Z; "
+                        "without an offset: taken as UTC, with a note)")
     if gps:
         g.add_argument("--gps", metavar="NAME", help="GPS height column, m above mean sea level")
     g.add_argument("--delimiter", metavar="CHAR",
@@ -166,27 +185,29 @@ STATION_MAPPING_HELP = """column mapping (default: from the header names):
   unit word (pressure_hpa, temp_c, time_s); a unit not stated is inferred
   from the values and must be confirmed by them (the pressure near the
   station's height, a surface temperature). A time column is required: the
-  averages are aligned to its clock (ISO-8601 stamps: to UTC). Comment lines
+  averages are aligned to its clock (ISO-8601 stamps: to UTC; stamps
+  without an offset are taken as UTC, with a note: a clock on local time
+  steps at each daylight-saving change; give Z or +01:00). Comment lines
   (#) before the header may set height_m= and lat_deg=; options given here
   take precedence."""
 
-STATION_FLAGS_TEXT = """flags (the table's flags column: a sum of these bits):
-  1    stuck pressure readings taken out of this average
-  2    stuck temperature readings taken out
-  4    stuck humidity readings taken out
-  8    averages missing just before this one (a gap)
-  16   tendency or its characteristic unknown (an end average missing, or a
-       gap in the 3 hours longer than --max-gap)
-  32   --mean12: no temperature 12 hours earlier (the latest one was used)
-  64   a quantity had fewer than --min-readings readings (nan in this average)
-  128  a run of readings that contradicted the latest accepted one took over
-       (a sensor's real jump)
-tend_code: the characteristic of pressure tendency, WMO code table 0200
+STATION_NOTES_TEXT = """tend_code: the characteristic of pressure tendency, WMO code table 0200
   (0..8, '-' when unknown); the rule is in tinygeo/station.py.
 
 Not for aviation: qnh_pa is computed for the barometer's height with the
 standard atmosphere; altimeter settings come from an aerodrome's certified
 instruments and its met service. Follow your met service's practice."""
+
+
+def _station_flags_text():
+    # every FL_* bit of tinygeo.station with its sentence (stationlog.FLAG_TEXT)
+    import textwrap
+    from tinygeo.host.stationlog import FLAG_TEXT
+    lines = ["flags (the table's flags column: a sum of these bits):"]
+    for bit, text in FLAG_TEXT:
+        lines.extend(textwrap.wrap(text, 76, initial_indent="  %-5d" % bit,
+                                   subsequent_indent=" " * 7))
+    return "\n".join(lines) + "\n" + STATION_NOTES_TEXT
 
 
 def _station_limit(text):
@@ -306,8 +327,8 @@ def build_parser():
                     "3-hour fall, rejected readings by reason, averages per flag, restarts). "
                     "Rejected readings are reported on stderr with their line number. Draw "
                     "the table with 'tinygeo plot TABLE -o FILE'.",
-        epilog="table layout: see tinygeo/record.py (station table).\n\n" + EXIT_TEXT + "\n\n" +
-               STATION_FLAGS_TEXT + "\n\nfirst try:  tinygeo station examples/buoy_day.csv",
+        epilog="table layout: see tinygeo/stationrecord.py.\n\n" + STATION_EXIT_TEXT + "\n\n" +
+               _station_flags_text() + "\n\nfirst try:  tinygeo station examples/buoy_day.csv",
         formatter_class=argparse.RawDescriptionHelpFormatter)
     sp.add_argument("log", help="log file, or - for standard input")
     _add_mapping(sp, gps=False, text=STATION_MAPPING_HELP)

@@ -27,7 +27,8 @@ log stops with exit 2 asking for the unit:
 
 * pressure: the unit (Pa, hPa or kPa) that puts the first reading within
   START_WINDOW_M of the start height (pressure altitude of the U.S. Standard
-  Atmosphere 1976, tinygeo.standard), or, when no start height is given,
+  Atmosphere 1976, tinygeo.standard; for a station log, within the station's
+  guard_m of the barometer's height), or, when no start height is given,
   between SURFACE_MIN_M and SURFACE_MAX_M (the surface of the inhabited
   world, common practice). The three units are 16 km or more apart, so at
   most one fits.
@@ -52,6 +53,11 @@ log stops with exit 2 asking for the unit:
   taken for air 100 times too dry (measured: heights 36.9 m low at 12 km in
   the warm humid atmosphere of tests/streams.py). A header-stated fraction
   whose values exceed 1 is refused the same way.
+
+Time stamps: numbers (seconds, or ms), or ISO-8601 text; text without a
+UTC offset (no ``Z``, no ``+01:00``) is taken as UTC, and a note says so
+once (a clock on local time steps by an hour at each daylight-saving
+change).
 
 The start height: when none was given (it defaulted to 0 m) and the first
 reading's pressure altitude lies more than START_PA_M from 0, or its GPS
@@ -214,14 +220,16 @@ def _grouped(text):
 
 
 def _iso_seconds(text):
-    """Seconds since 1970 (UTC) of an ISO-8601 timestamp; naive means UTC."""
+    """(seconds since 1970 (UTC), naive) of an ISO-8601 timestamp; naive
+    (no offset, no Z) means UTC."""
     s = text.strip()
     if s.endswith("Z") or s.endswith("z"):
         s = s[:-1] + "+00:00"
     dt = datetime.datetime.fromisoformat(s)
-    if dt.tzinfo is None:
+    naive = dt.tzinfo is None
+    if naive:
         dt = dt.replace(tzinfo=datetime.timezone.utc)
-    return dt.timestamp()
+    return dt.timestamp(), naive
 
 
 NAN = float("nan")
@@ -262,6 +270,7 @@ class LogReader:
         self.time_origin = None
         self.time_origin_s = None
         self._t0 = None
+        self._naive_noted = False
         self.option_units = set()
         self.settled = False
         self.first = None         # the first reading that parsed (probe): (lineno, p_pa, t_k, gps_m)
@@ -406,10 +415,13 @@ class LogReader:
         return cols
 
     # -- units and the start: read ahead ----------------------------------------
-    def settle(self, start_height_m=0.0, start_given=True):
+    def settle(self, start_height_m=0.0, start_given=True, station_window_m=None):
         """Read ahead as far as needed to decide and confirm the units that
         are not stated, check the stated ones, and check a start height that
         defaulted to 0 (``start_given`` False) against the first reading.
+        ``station_window_m``: the log is a station's, ``start_height_m`` the
+        barometer's height, and a pressure unit must put the first reading
+        within this many metres of it (the station's guard_m, --guard).
         Raises InputError (exit 2) naming the line, the value and the option
         to give. The lines read are replayed by the iteration."""
         if self.settled:
@@ -438,7 +450,7 @@ class LogReader:
             if pr[7] is not None and len(rh_values) < RH_PROBES:
                 rh_values.append((pr[7], pr[0]))
             if len(probes) == 1:
-                self._pressure_unit(pr, start_height_m, start_given)
+                self._pressure_unit(pr, start_height_m, start_given, station_window_m)
                 self._time_unit(raw)
                 pr[5] = _altitude(pr[1] * TO_SI[cols["pressure"][2]][0])
             elif need_climb and climb is None:
@@ -504,22 +516,28 @@ class LogReader:
         out.append(to_float(fields[cols["humidity"][0]]) if "humidity" in cols else None)  # [7]
         return out          # [lineno, p, t, td, gps, z, p text, rh]
 
-    def _pressure_unit(self, pr, h0, given):
+    def _pressure_unit(self, pr, h0, given, station_window_m=None):
         i, name, unit, stated = self.columns["pressure"]
         x = pr[1]
         fits = []
+        window = START_WINDOW_M if station_window_m is None else station_window_m
         for u in ("Pa", "hPa", "kPa"):
             z = _altitude(x * TO_SI[u][0])
             if z is None:
                 continue
             if given:
-                ok = abs(z - h0) <= START_WINDOW_M
+                ok = abs(z - h0) <= window
             else:
                 ok = SURFACE_MIN_M <= z <= SURFACE_MAX_M
             if ok:
                 fits.append((u, z))
-        where = ("within %.0f m of the start height %.0f m" % (START_WINDOW_M, h0) if given else
-                 "at a surface (pressure altitude %.0f..%.0f m)" % (SURFACE_MIN_M, SURFACE_MAX_M))
+        if station_window_m is not None:
+            where = "within %.0f m of the station's height %g m" % (window, h0)
+        elif given:
+            where = "within %.0f m of the start height %.0f m" % (window, h0)
+        else:
+            where = "at a surface (pressure altitude %.0f..%.0f m)" % (SURFACE_MIN_M,
+                                                                       SURFACE_MAX_M)
         if unit is not None:
             if fits and unit not in [u for u, _ in fits]:
                 raise InputError(
@@ -810,10 +828,18 @@ class LogReader:
             self.columns["time"] = (i, name, unit, False)
         if unit == "iso":
             try:
-                s = _iso_seconds(text)
+                s, naive = _iso_seconds(text)
             except (ValueError, OverflowError, OSError):
                 raise _bad("line %d: time %r in column %r is not an ISO-8601 timestamp "
                            "(e.g. 2026-05-04T09:30:00Z)" % (lineno, text[:40], name), "time", lineno)
+            if naive and not self._naive_noted:
+                self._naive_noted = True
+                self.notes.append(
+                    "column %r holds time stamps without a UTC offset (%r, line %d): taken as "
+                    "UTC. A clock kept on local time steps by an hour at each daylight-saving "
+                    "change, which is then read as a clock step (a gap, or a clock set back); "
+                    "write the stamps in UTC (Z) or with their offset (+01:00)"
+                    % (name, text.strip()[:40], lineno))
             if self._t0 is None:
                 self._t0 = s
                 self.time_origin = text.strip()

@@ -76,10 +76,25 @@ def one_line(text):
     return "".join(c if c.isprintable() else repr(c)[1:-1] for c in text)
 
 
-def round_numbers(message):
+TIME_WORDS = ("time_s=", "reading's ")
+"""A number after one of these words in a column's or a station's message is
+a time stamp: round_numbers keeps it whole."""
+
+
+def stamp_text(x):
+    """A time stamp, seconds, as whole digits (``1774714200.0`` ->
+    ``1774714200``; ``12.25`` -> ``12.25``, at most 3 decimals)."""
+    if x == int(x):
+        return "%d" % x
+    return ("%.3f" % x).rstrip("0").rstrip(".")
+
+
+def round_numbers(message, times=None):
     """``message`` with its long decimal numbers rounded to 6 significant
     digits (``p_pa=96447.00000000001`` -> ``p_pa=96447``), for messages that
-    quote a value computed from a log's text."""
+    quote a value computed from a log's text. A time stamp (a number after a
+    word of TIME_WORDS) is kept whole (stamp_text), or given as
+    ``times(seconds)`` when that function is passed (a station's UTC text)."""
     out = []
     i = 0
     n = len(message)
@@ -92,7 +107,14 @@ def round_numbers(message):
                 j += 1
             word = message[i:j].rstrip(".")
             j = i + len(word)
-            if "." in word and len(word.split(".")[1].rstrip("eE+-0123456789")) == 0 and \
+            if message.endswith(TIME_WORDS, 0, i):
+                try:
+                    x = float(word)
+                except ValueError:
+                    x = None
+                if x is not None and x - x == 0.0:
+                    word = times(x) if times is not None else stamp_text(x)
+            elif "." in word and len(word.split(".")[1].rstrip("eE+-0123456789")) == 0 and \
                     len(word) > 9:
                 try:
                     word = "%.6g" % float(word)

@@ -10,7 +10,13 @@ marking the averages that carry it; gaps (missing averages) are shaded in
 every panel, stuck-pressure averages in the pressure panels, and the
 extremes of the summary (tinygeo.host.stationlog.Summary, computed from the
 rows, so a device's table without summary records is drawn the same) are
-marked. The rows are drawn as written: nothing is recomputed.
+marked. The rows are drawn as written: nothing is recomputed. The time axis
+is in UTC when time_s counts from 1970 (the table says so, or its times lie
+between 1980 and 2100 as seconds since 1970: a logger on a clock set to
+UTC), with dates when the rows span more than one day; otherwise in hours
+of the log's clock. Where time_s goes back (a restart on a clock set back,
+or rows written again by a logger resumed without a resume record) the
+lines break and the place is marked; ``tinygeo plot`` says so on stderr.
 
 A replayed profile:
 
@@ -45,6 +51,11 @@ from tinygeo.host.options import (EXIT_MISSING_EXTRA, EXIT_OK, InputError, Outpu
 
 MAX_POINTS = 4000
 NAN = float("nan")
+# time_s between these is taken for seconds since 1970-01-01T00:00:00Z in a
+# station table that does not say where its clock starts (1980-01-01 and
+# 2100-01-01; a clock counting from power-on would have run 10 years)
+EPOCH_FROM_S = 315532800.0
+EPOCH_TO_S = 4102444800.0
 FORMATS = ("png", "svg", "pdf")
 
 
@@ -276,7 +287,9 @@ def draw(pts, setup, records, out_path, title, dpi, origin=None, fmt=None):
 # --- station tables ---------------------------------------------------------------------
 STATION_FLAG_LABELS = (("stuck_p", "stuck p"), ("stuck_t", "stuck T"), ("stuck_rh", "stuck RH"),
                        ("gap", "gap before"), ("few", "few readings"), ("takeover", "takeover"),
-                       ("trend_gap", "no tendency"), ("no_t12", "no T 12 h ago"))
+                       ("trend_gap", "no tendency"), ("no_t12", "no T 12 h ago"),
+                       ("clock_held", "clock held"), ("clock_stuck", "clock stuck"),
+                       ("mslp_odd", "MSLP beyond records"))
 
 
 class StationData:
@@ -286,8 +299,12 @@ class StationData:
     (time_s pairs bounding missing averages, at most MAX_POINTS),
     ``summary`` (stationlog.Summary of every row), ``average_s``,
     ``height_m``, ``lat_deg`` (nan when the table does not say), ``epoch``
-    (time_s counts from 1970-01-01T00:00:00Z) and ``source`` (the log named
-    in the ``# input`` line, or None)."""
+    (time_s counts from 1970-01-01T00:00:00Z), ``epoch_guessed`` (the
+    table does not say so, its times look so), ``back`` (time_s pairs
+    (before, after) where time goes back, at most MAX_POINTS), ``repeated``
+    and ``backwards`` (rows whose time_s equals, or is before, the row
+    before's), ``reader`` (the StationTableReader, read) and ``source``
+    (the log named in the ``# input`` line, or None)."""
 
     def __init__(self, dev):
         words = dev.station
@@ -295,14 +312,29 @@ class StationData:
         self.height_m = _f(words, "height_m")
         self.lat_deg = _f(words, "lat_deg")
         self.epoch = dev.time_origin == stationlog.EPOCH
+        self.epoch_guessed = False
         self.source = dev.input.get("source")      # the log 'tinygeo station' read
         self.summary = stationlog.Summary(self.epoch)
         self.pts = Points()
         self.flagged = Points()
         self.gaps = []
+        self.back = []
+        self.repeated = 0
+        self.backwards = 0
+        self.reader = dev
         avg = self.average_s if self.average_s == self.average_s else 0.0
         prev = None
         for r in dev:
+            if prev is None and dev.time_origin is None:
+                self.epoch = self.epoch_guessed = EPOCH_FROM_S <= r.time_s <= EPOCH_TO_S
+                self.summary.epoch = self.epoch
+            if prev is not None and r.time_s <= prev:
+                if r.time_s == prev:
+                    self.repeated += 1
+                else:
+                    self.backwards += 1
+                if len(self.back) < MAX_POINTS:
+                    self.back.append((prev, r.time_s))
             fl = r.flags or 0
             self.summary.average(r.time_s, r.mslp_pa, r.tend3h_pa, r.tend_code, fl)
             self.pts.add((r.time_s, r.p_pa / 100.0, r.mslp_pa / 100.0, r.qnh_pa / 100.0,
@@ -322,7 +354,8 @@ class StationData:
 
 def draw_station(data, out_path, title, dpi, fmt=None):
     """Render a station table's figure (``data``: StationData) to
-    ``out_path`` in ``fmt`` (png, svg, pdf; default: the path's suffix)."""
+    ``out_path`` in ``fmt`` (png, svg, pdf; default: the path's suffix);
+    returns the matplotlib Figure."""
     from matplotlib.figure import Figure
     from matplotlib.backends.backend_agg import FigureCanvasAgg
 
@@ -334,10 +367,15 @@ def draw_station(data, out_path, title, dpi, fmt=None):
 
         def tx(s):
             return datetime.datetime.fromtimestamp(s, utc)
-        t_label = "time (UTC)"
+        times = [r[0] for r in rows if r[0] == r[0]]
+        days = bool(times) and tx(min(times)).date() != tx(max(times)).date()
+        t_form = "%Y-%m-%d %H:%M" if days else "%H:%M"
+        t_label = "date and time (UTC)" if days else "time (UTC)"
+        if data.epoch_guessed:
+            t_label += "; time_s taken as seconds since 1970-01-01T00:00:00Z"
 
         def when(s):
-            return tx(s).strftime("%H:%M")
+            return tx(s).strftime(t_form)
     else:
         def tx(s):
             return s / 3600.0
@@ -346,11 +384,16 @@ def draw_station(data, out_path, title, dpi, fmt=None):
         def when(s):
             return "%.2f h" % (s / 3600.0)
     # a line breaks where averages are missing (their rows are not written)
+    # and where time goes back (a restart, rows written twice)
     step = 1.5 * avg * data.pts.stride
     xs, cols = [], [[] for _ in range(8)]
     prev = None
     for r in rows:
-        if prev is not None and r[0] - prev > step:
+        if prev is not None and r[0] <= prev:
+            xs.append(xs[-1])
+            for c in cols:
+                c.append(NAN)
+        elif prev is not None and r[0] - prev > step:
             xs.append(tx(prev + avg))
             for c in cols:
                 c.append(NAN)
@@ -375,6 +418,11 @@ def draw_station(data, out_path, title, dpi, fmt=None):
             ax.axvspan(tx(a0), tx(a1), color="0.85", lw=0, zorder=0,
                        label="missing averages" if ax is ax_m and (a0, a1) == data.gaps[0]
                        else None)
+    for k, (t0, t1) in enumerate(data.back):
+        for ax in axes:
+            ax.axvline(tx(t1), color="tab:orange", lw=1.0, ls=(0, (2, 2)), zorder=1,
+                       label="time goes back (from %s): restart or rows written twice"
+                       % when(t0) if ax is ax_m and k == 0 else None)
     for ts, fl in data.flagged.rows:
         if fl & 1:
             for ax in (ax_m, ax_p):
@@ -440,7 +488,10 @@ def draw_station(data, out_path, title, dpi, fmt=None):
         if handles:
             ax.legend(fontsize=7, loc="best")
     if data.epoch:
-        ax_f.xaxis.set_major_formatter(mdates.DateFormatter("%H:%M", tz=datetime.timezone.utc))
+        ax_f.xaxis.set_major_formatter(mdates.DateFormatter(t_form.replace(" ", "\n"),
+                                                            tz=datetime.timezone.utc))
+    else:
+        ax_f.ticklabel_format(axis="x", style="plain", useOffset=False)
     fig.suptitle("%s  (barometer at %.1f m, latitude %.2f\u00b0, averages of "
                  "%g s)" % (title, data.height_m, data.lat_deg, avg), fontsize=11)
     fig.tight_layout(rect=(0.0, 0.0, 1.0, 0.97))
@@ -448,6 +499,33 @@ def draw_station(data, out_path, title, dpi, fmt=None):
     meta = {"svg": {"Date": None}, "pdf": {"CreationDate": None, "ModDate": None},
             "png": {"Software": None}}[fmt]
     fig.savefig(out_path, dpi=dpi, format=fmt, metadata=meta)
+    return fig
+
+
+def _station_notes(data, name, stderr):
+    # what tinygeo plot says about a station table's rows on stderr
+    rd = data.reader
+    if rd.voided or rd.torn:
+        stderr.write("tinygeo plot: note: %s: %d rows voided by %d resume records (written "
+                     "again after a power cut) and %d torn rows left out\n"
+                     % (name, rd.voided, rd.resumes, rd.torn))
+    if data.repeated or data.backwards:
+        t0, t1 = rd.back_times
+        stderr.write("tinygeo plot: note: %s: %d rows repeat the time_s of the row before and %d "
+                     "go back in time (first at table line %d: %s after %s): rows written again "
+                     "by a logger resumed without a resume record, or a clock set back (a "
+                     "restart); the lines break there and the place is marked\n"
+                     % (name, data.repeated, data.backwards, rd.first_backwards,
+                        _stamp(t1, data.epoch), _stamp(t0, data.epoch)))
+
+
+def _stamp(time_s, epoch):
+    text = "time_s=%.0f" % time_s if time_s == int(time_s) else "time_s=%.3f" % time_s
+    if epoch:
+        u = stationlog.utc_text(time_s)
+        if u is not None:
+            text += " (%s)" % u
+    return text
 
 
 def _finite_range(values):
@@ -498,6 +576,7 @@ def run(a, stdin, stdout, stderr):
         if first.strip() == table.STATION_MAGIC:
             station = StationData(table.StationTableReader(src, name))
             pts = station.pts
+            _station_notes(station, name, stderr)
         elif first.strip() in (table.MAGIC, table.OLD_MAGIC):
             setup, summary, origin = _from_table(a, src, name, pts)
         else:

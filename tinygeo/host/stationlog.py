@@ -24,10 +24,11 @@ import datetime
 
 from tinygeo import stationrecord
 from tinygeo.station import (EV_AVERAGE, EV_RESTART, FL_STUCK_P, FL_STUCK_T, FL_STUCK_RH,
-                             FL_GAP, FL_TREND_GAP, FL_NO_T12, FL_FEW, FL_TAKEOVER)
+                             FL_GAP, FL_TREND_GAP, FL_NO_T12, FL_FEW, FL_TAKEOVER,
+                             FL_CLOCK_HELD, FL_CLOCK_STUCK, FL_MSLP_ODD)
 from tinygeo.host import table
 from tinygeo.host.options import (InputError, UsageError, one_line, round_numbers,
-                                  station_default)
+                                  stamp_text, station_default)
 
 NAN = float("nan")
 MAX_REPORTS = 20          # rejected readings reported one by one on stderr
@@ -37,6 +38,7 @@ MAJORITY_AFTER = 100      # from this many readings on, stop when most are rejec
 # lines of another kind, which are skipped)
 MAJORITY_REASONS = ("pressure", "temperature", "humidity", "number", "time")
 MAX_RESTARTS = 10         # restarts listed by line in the summary (more are counted)
+MAX_STEPS = 99            # steps between readings kept for the spacing told in the advice
 EPOCH = "1970-01-01T00:00:00Z"
 # sea-level pressures beyond the recorded extremes (870 and 1085 hPa; WMO
 # archive of weather extremes, from memory, as tinygeo/station.py's guard_m)
@@ -66,8 +68,31 @@ ISO_HPA_MAX = 1000.0
 
 FLAG_WORDS = ((FL_STUCK_P, "stuck_p"), (FL_STUCK_T, "stuck_t"), (FL_STUCK_RH, "stuck_rh"),
               (FL_GAP, "gap"), (FL_TREND_GAP, "trend_gap"), (FL_NO_T12, "no_t12"),
-              (FL_FEW, "few"), (FL_TAKEOVER, "takeover"))
-"""The station's flag bits with the summary's words for them."""
+              (FL_FEW, "few"), (FL_TAKEOVER, "takeover"), (FL_CLOCK_HELD, "clock_held"),
+              (FL_CLOCK_STUCK, "clock_stuck"), (FL_MSLP_ODD, "mslp_odd"))
+"""The station's flag bits with the summary's words for them (every FL_* of
+tinygeo.station: tests/test_host_station.py checks it)."""
+
+FLAG_TEXT = (
+    (FL_STUCK_P, "stuck pressure readings taken out of this average"),
+    (FL_STUCK_T, "stuck temperature readings taken out"),
+    (FL_STUCK_RH, "stuck humidity readings taken out (never at 100 % or more: fog)"),
+    (FL_GAP, "averages missing just before this one (a gap)"),
+    (FL_TREND_GAP, "tendency or its characteristic unknown (an end average missing, or a gap "
+                   "in the 3 hours longer than --max-gap)"),
+    (FL_NO_T12, "--mean12: no temperature 12 hours earlier (the latest one was used)"),
+    (FL_FEW, "a quantity had fewer than --min-readings readings (nan in this average)"),
+    (FL_TAKEOVER, "a run of readings that contradicted the latest accepted one took over (a "
+                  "sensor's real jump)"),
+    (FL_CLOCK_HELD, "readings stamped before the latest accepted one, by no more than the "
+                    "clock step (--max-gap + --average), were taken at the latest stamp (a "
+                    "clock corrected back a little)"),
+    (FL_CLOCK_STUCK, "--stuck readings in a row or more had the same time stamp (a clock that "
+                     "stopped: everything falls into one average)"),
+    (FL_MSLP_ODD, "the sea-level pressure lies outside 870..1085 hPa, beyond any ever observed: "
+                  "is --height the barometer's height in metres (not feet)?"),
+)
+"""The flag bits with a sentence each, for ``tinygeo station --help``."""
 
 
 def option_name(opt):
@@ -152,9 +177,11 @@ def new_station(setup):
         raise UsageError("station set-up rejected: %s" % msg)
 
 
-def tidy(message, st):
+def tidy(message, st, epoch=False):
     """A station's rejection message for the command line: the keyword hints
-    given as the command's options, long floats rounded."""
+    given as the command's options, long floats rounded, time stamps whole
+    (``epoch`` True: time_s counts from 1970-01-01T00:00:00Z, and the stamps
+    are followed by their UTC text)."""
     for old, new in (
             ("(max_p_step_pa=None turns this check off)", "(limits: --max-p-step, --max-p-rate)"),
             ("(max_t_step_k=None turns this check off)", "(limits: --max-t-step, --max-t-rate)"),
@@ -167,7 +194,14 @@ def tidy(message, st):
              "%d readings in a row go on from it, --takeover" % st.takeover_readings),
             ("(max_gap_s + average_s)", "(--max-gap + --average)")):
         message = message.replace(old, new)
-    return round_numbers(message)
+    return round_numbers(message, utc_stamp if epoch else None)
+
+
+def utc_stamp(time_s):
+    """A time stamp in seconds since 1970 as whole digits and its UTC text:
+    ``1774714200 (2026-03-28T16:10:00Z)``."""
+    u = utc_text(time_s)
+    return stamp_text(time_s) + ("" if u is None else " (%s)" % u)
 
 
 def utc_text(time_s):
@@ -207,6 +241,26 @@ class Summary:
         self.restarts = []           # (line, time_s), the first MAX_RESTARTS
         self.nrestarts = 0
         self.open = 0                # readings accepted after the latest completed average
+        self.steps = []              # the first MAX_STEPS nonzero steps between stamps, s
+        self._stamp = None
+
+    def stamp(self, time_s):
+        """A reading's time stamp (accepted or not): the steps between the
+        first ones tell the readings' spacing (``spacing``)."""
+        if time_s is None or len(self.steps) >= MAX_STEPS:
+            return
+        if self._stamp is not None and time_s != self._stamp:
+            self.steps.append(time_s - self._stamp)
+        self._stamp = time_s
+
+    def spacing(self):
+        """``(median, back, n)`` of the first steps between stamps: the
+        median size of a step, s, how many went back, how many were seen;
+        None before two stamps differ."""
+        if not self.steps:
+            return None
+        size = sorted(abs(x) for x in self.steps)
+        return size[len(size) // 2], sum(1 for x in self.steps if x < 0), len(size)
 
     def reject(self, reason, message):
         self.rejected += 1
@@ -301,8 +355,30 @@ def header_lines(st, reader, source_name):
     return lines
 
 
-def _rejected(summary, e, lineno, report, st):
-    msg = tidy(str(e), st)
+def advice(reason, summary, st):
+    """What to check when most readings are rejected for ``reason``; for
+    'time', the readings' spacing against --average and --max-gap."""
+    if reason != "time":
+        return "check the column mapping, the units, --height and the QC limits (see --help)"
+    out = "check the time column and its unit (--time NAME:s|ms|iso)"
+    sp = summary.spacing()
+    if sp is None:
+        return out + " (see --help)"
+    gap, back, n = sp
+    out += "; the readings are %s s apart (median of the first %d steps)" % (
+        stamp_text(round(gap, 3)), n)
+    if 2 * back > n:
+        return out + (" and %d of those steps go back in time: is the log newest first? Sort "
+                      "it oldest first (see --help)" % back)
+    return out + ("; readings further apart than --average (%s s now) leave averages empty, and "
+                  "a step beyond --max-gap + --average (%s s now) is refused as a clock jump: "
+                  "give --average at least the readings' spacing (hourly readings: --average "
+                  "3600) and --max-gap the longest outage (see --help)"
+                  % (stamp_text(st.average_s), stamp_text(st.max_gap_s + st.average_s)))
+
+
+def _rejected(summary, e, lineno, report, st, epoch=False):
+    msg = tidy(str(e), st, epoch)
     if not msg.startswith("line "):
         msg = "line %d: %s" % (lineno, msg)
     reason = getattr(e, "reason", "reading") or "reading"
@@ -312,17 +388,19 @@ def _rejected(summary, e, lineno, report, st):
     elif summary.rejected == MAX_REPORTS + 1:
         report("further rejected readings are only counted (see the summary)")
     if summary.accepted == 0 and summary.rejected >= START_GIVE_UP:
+        hint = "check the column mapping, the units and --height (see --help)"
+        if summary.reasons.get("time") == summary.rejected:
+            hint = advice("time", summary, st)
         raise InputError(
-            "stopped at line %d: none of the first %d readings was accepted; first problem: %s. "
-            "Check the column mapping, the units and --height (see --help)"
-            % (lineno, summary.rejected, summary.first_rejection))
+            "stopped at line %d: none of the first %d readings was accepted; first problem: %s; "
+            "%s" % (lineno, summary.rejected, summary.first_rejection, hint))
     seen = summary.accepted + summary.rejected
     n = summary.reasons[reason]
     if seen >= MAJORITY_AFTER and 2 * n > seen and reason in MAJORITY_REASONS:
         raise InputError(
             "stopped at line %d: %d of the %d readings so far were rejected for '%s' "
-            "(first: %s); check the column mapping, the units, --height and the QC limits "
-            "(see --help)" % (lineno, n, seen, reason, summary.first_by_reason[reason]))
+            "(first: %s); %s" % (lineno, n, seen, reason, summary.first_by_reason[reason],
+                                 advice(reason, summary, st)))
 
 
 def run(reader, st, summary, report, write=None, before_first=None, flush=None, note=None):
@@ -349,10 +427,11 @@ def run(reader, st, summary, report, write=None, before_first=None, flush=None, 
             origin = reader.time_origin_s or 0     # known once the first stamp is read
         if ts is not None and origin:
             ts = ts + origin
+        summary.stamp(ts)
         try:
             bits = feed(p, t, rh, ts)
         except ValueError as e:    # ReadingError by the contract
-            _rejected(summary, e, lineno, report, st)
+            _rejected(summary, e, lineno, report, st, bool(origin))
             continue
         summary.accepted += 1
         summary.open += 1
@@ -395,7 +474,8 @@ def command(a, stdin, stdout, stderr):
                              "NAME[:s|ms|iso]" % (name, ", ".join(reader.header)))
         setup = station_setup(a, reader)
         st = new_station(setup)
-        reader.settle(setup.height_m, True)
+        guard = st.guard_m if st.guard_m is not None else station_default("guard_m")
+        reader.settle(setup.height_m, True, guard)
         live = a.log == "-" or a.flush
         quiet = a.quiet
 
@@ -408,11 +488,15 @@ def command(a, stdin, stdout, stderr):
 
         with Outputs(stdout) as outs:
             out = outs.open(a.out)
-            state = {"header": False}
+            state = {"header": False, "notes": 0}
+
+            def notes():
+                for n in reader.notes[state["notes"]:]:
+                    note(n)
+                state["notes"] = len(reader.notes)
 
             def header():
-                for n in reader.notes:
-                    note(n)
+                notes()
                 for line in header_lines(st, reader, name):
                     out.write(line + "\n")
                 state["header"] = True
@@ -430,6 +514,7 @@ def command(a, stdin, stdout, stderr):
                         else ", no data lines after the header"))
             if not state["header"]:
                 header()
+            notes()             # those found after the header (a later time stamp)
             out.write(stationrecord.end_line(summary.averages, st) + "\n")
             records = summary.lines()
             for line in records:

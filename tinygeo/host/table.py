@@ -17,7 +17,8 @@ A station table (``STATION_MAGIC``: one row per completed average of
 tinygeo.station.Station, written by ``tinygeo station`` or a logger such as
 ports/micropython/buoy.py) is read by :class:`StationTableReader` the same
 way: its header names ``time_s`` and any subset of ``STATION_COLUMNS`` (and
-``iso_gph_m``), in any order.
+``iso_gph_m``), in any order, and honours its resume records
+(``#: resume rows=N``, tinygeo.stationrecord.resume_line).
 """
 import tempfile
 
@@ -400,16 +401,30 @@ _STATION_INTS = ("flags", "readings")
 
 
 class StationTableReader:
-    """Read a station table one row at a time (constant memory).
+    """Read a station table one row at a time (memory bounded by the number
+    of resume records, not by the rows).
 
-    ``lines`` as for :class:`TableReader`. After construction ``station``
-    (dict of the ``# station`` words), ``input`` (dict of the ``# input``
-    words), ``time_origin`` (ISO text of ``# time_s counts from``, or None)
-    and ``present`` (the columns the header names) hold the set-up; iterate
-    for :class:`StationRow` objects. After the iteration ``summary`` holds
-    the ``#:`` records as (what, dict) in file order, ``end`` the end
-    record's dict (None: no end record, the table was cut short) and ``rows``
-    the number of rows read."""
+    ``lines`` as for :class:`TableReader` (the rest of the table is read
+    once into a temporary file, for the resume records). After construction
+    ``station`` (dict of the ``# station`` words), ``input`` (dict of the
+    ``# input`` words), ``time_origin`` (ISO text of ``# time_s counts
+    from``, or None) and ``present`` (the columns the header names) hold the
+    set-up; iterate for :class:`StationRow` objects.
+
+    Resume records (``#: resume rows=N``, tinygeo.stationrecord.resume_line)
+    are honoured: of the rows before one, the first N kept are kept and the
+    others dropped (counted in ``voided``), and so is an earlier end record;
+    a row cut short (fewer fields, or the last one empty) that is the last
+    line before a resume record, or the last line of a table without an end
+    record, is a row torn by a power cut: dropped and counted in ``torn``. After the iteration
+    ``summary`` holds the ``#:`` records as (what, dict) in file order,
+    ``end`` the end record's dict (None: no end record, the table was cut
+    short), ``rows`` the number of rows read (dropped ones not counted),
+    ``resumes`` the number of resume records, and ``backwards`` the number
+    of rows whose time_s is not after the row before (rows written twice
+    without a resume record, or a clock set back: a restart); the first
+    such row is at table line ``first_backwards``, with ``back_times`` its
+    (previous, own) time_s."""
 
     def __init__(self, lines, name="station table"):
         self.stream = lines
@@ -419,6 +434,12 @@ class StationTableReader:
         self.summary = []
         self.end = None
         self.rows = 0
+        self.voided = 0
+        self.torn = 0
+        self.resumes = 0
+        self.backwards = 0
+        self.first_backwards = None
+        self.back_times = None
         self.time_origin = None
         self.lineno = 0
         first = True
@@ -446,6 +467,7 @@ class StationTableReader:
             else:
                 self._header(line)
                 break
+        self._scan()
 
     def _header(self, line):
         names = [f.strip() for f in line.split("\t")]
@@ -458,51 +480,148 @@ class StationTableReader:
         self.index = [(n, names.index(n)) for n in STATION_COLUMNS if n in names]
         self.absent = [n for n in STATION_COLUMNS if n not in names]
 
+    def _scan(self):
+        # read the rest once into a temporary file: the resume records
+        # (table line, N) and the rows that may be torn (last before a resume
+        # record, or last of a table without an end record)
+        marks = []
+        self._ends = set()
+        last_row = None
+        end_after = False
+        lineno = self.lineno
+        spool = tempfile.TemporaryFile(mode="w+", encoding="utf-8", newline="\n")
+        try:
+            while True:
+                raw = self.stream.readline()
+                if not raw:
+                    break
+                lineno += 1
+                spool.write(raw)
+                line = raw.rstrip("\r\n")
+                if not line.strip():
+                    continue
+                if line.startswith("#"):
+                    if line.startswith(RESUME_PREFIX):
+                        words = parse_pairs(line[len(RESUME_PREFIX):].split())
+                        try:
+                            n = int(words["rows"])
+                        except (KeyError, ValueError):
+                            raise TableError("%s line %d: unreadable resume record %r; expected "
+                                             "%srows=N" % (self.name, lineno, line[:60],
+                                                           RESUME_PREFIX))
+                        marks.append((lineno, n))
+                        if last_row is not None:
+                            self._ends.add(last_row)
+                        end_after = False
+                    elif line.startswith(END_PREFIX):
+                        end_after = True
+                    last_row = None
+                    continue
+                last_row = lineno
+                end_after = False
+            if last_row is not None and not end_after:
+                self._ends.add(last_row)
+            spool.seek(0)
+        except BaseException:
+            spool.close()
+            raise
+        # a row before resume record k is void when the number of rows before
+        # it (void ones included, as the logger counted them) is at least the
+        # smallest N of the records from k on
+        floor = [0] * len(marks)
+        m = None
+        for k in range(len(marks) - 1, -1, -1):
+            m = marks[k][1] if m is None else min(m, marks[k][1])
+            floor[k] = m
+        self._marks = [(mk[1], f) for mk, f in zip(marks, floor)]
+        self._spool = spool
+
     def __iter__(self):
-        stream = self.stream
+        stream = self._spool
         n = len(self.present)
-        while True:
-            raw = stream.readline()
-            if not raw:
-                return
-            self.lineno += 1
-            line = raw.rstrip("\r\n")
-            if not line.strip():
-                continue
-            if line.startswith("#"):
-                if line.startswith(SUMMARY_PREFIX):
-                    words = line[len(SUMMARY_PREFIX):].split()
-                    if words:
-                        pairs = parse_pairs(words[1:])
-                        if words[0] == "end":
-                            self.end = pairs
-                        else:
-                            self.summary.append((words[0], pairs))
-                continue
-            fields = line.split("\t")
-            if len(fields) != n:
-                raise TableError("%s line %d: %d fields, expected %d (%s)"
-                                 % (self.name, self.lineno, len(fields), n, " ".join(self.present)))
-            if self.end is not None:
-                raise TableError("%s line %d: a row after the end record" % (self.name, self.lineno))
-            row = StationRow()
-            try:
-                for name, i in self.index:
-                    text = fields[i].strip()
-                    if name in _STATION_INTS:
-                        setattr(row, name, int(text))
-                    elif name == "tend_code":
-                        row.tend_code = None if text in ("-", "") else int(text)
-                        if row.tend_code is not None and not 0 <= row.tend_code <= 8:
-                            raise ValueError("tend_code %d outside 0..8" % row.tend_code)
-                    else:
-                        setattr(row, name, float(text))
-                for name in self.absent:
-                    setattr(row, name, None if name in _STATION_INTS or name == "tend_code"
-                            else NAN)
-            except ValueError as e:
-                raise TableError("%s line %d: unreadable field (%s); the row must hold %s"
-                                 % (self.name, self.lineno, e, " ".join(self.present)))
-            row.lineno = self.lineno
-            self.rows += 1
-            yield row
+        marks = self._marks
+        k = 0                   # the next resume record
+        floor = marks[0][1] if marks else None
+        before = 0              # rows before this one as the logger counted them
+        prev = None             # time_s of the latest row kept
+        try:
+            while True:
+                raw = stream.readline()
+                if not raw:
+                    return
+                self.lineno += 1
+                line = raw.rstrip("\r\n")
+                if not line.strip():
+                    continue
+                if line.startswith("#"):
+                    if line.startswith(RESUME_PREFIX):
+                        # the rows it voids were dropped as they came; an end
+                        # record before it is void too
+                        self.resumes += 1
+                        self.end = None
+                        before = min(before, marks[k][0])
+                        k += 1
+                        floor = marks[k][1] if k < len(marks) else None
+                    elif line.startswith(SUMMARY_PREFIX):
+                        words = line[len(SUMMARY_PREFIX):].split()
+                        if words:
+                            pairs = parse_pairs(words[1:])
+                            if words[0] == "end":
+                                self.end = pairs
+                            else:
+                                self.summary.append((words[0], pairs))
+                    continue
+                try:
+                    row = self._row(line, n)
+                except TableError:
+                    # a row cut short by a power cut (fewer fields, or the
+                    # last one empty), last before a resume record or the end
+                    fields = line.split("\t")
+                    if self.lineno in self._ends and (len(fields) < n or not fields[-1].strip()):
+                        self.torn += 1      # the logger writes it again
+                        continue
+                    raise
+                before += 1
+                if floor is not None and before > floor:
+                    self.voided += 1        # written again after a resume record below
+                    continue
+                if self.end is not None:
+                    raise TableError("%s line %d: a row after the end record"
+                                     % (self.name, self.lineno))
+                if prev is not None and not row.time_s > prev and row.time_s == row.time_s:
+                    self.backwards += 1
+                    if self.first_backwards is None:
+                        self.first_backwards = self.lineno
+                        self.back_times = (prev, row.time_s)
+                if row.time_s == row.time_s:
+                    prev = row.time_s
+                row.lineno = self.lineno
+                self.rows += 1
+                yield row
+        finally:
+            self._spool.close()
+
+    def _row(self, line, n):
+        fields = line.split("\t")
+        if len(fields) != n:
+            raise TableError("%s line %d: %d fields, expected %d (%s)"
+                             % (self.name, self.lineno, len(fields), n, " ".join(self.present)))
+        row = StationRow()
+        try:
+            for name, i in self.index:
+                text = fields[i].strip()
+                if name in _STATION_INTS:
+                    setattr(row, name, int(text))
+                elif name == "tend_code":
+                    row.tend_code = None if text in ("-", "") else int(text)
+                    if row.tend_code is not None and not 0 <= row.tend_code <= 8:
+                        raise ValueError("tend_code %d outside 0..8" % row.tend_code)
+                else:
+                    setattr(row, name, float(text))
+            for name in self.absent:
+                setattr(row, name, None if name in _STATION_INTS or name == "tend_code"
+                        else NAN)
+        except ValueError as e:
+            raise TableError("%s line %d: unreadable field (%s); the row must hold %s"
+                             % (self.name, self.lineno, e, " ".join(self.present)))
+        return row
