@@ -68,7 +68,7 @@ def real(value):
     passes through; callers test finiteness."""
     if isinstance(value, float):
         return value
-    if isinstance(value, bool) or isinstance(value, (str, bytes, bytearray)):
+    if isinstance(value, (bool, str, bytes, bytearray)):
         return None
     try:
         return float(value)
@@ -130,16 +130,17 @@ def temperature_hint(t):
 
 def pressure_hint(p):
     """A hint for a pressure in pascal that was rejected, or None."""
-    if 25 <= p <= 32.5:
-        return "inHg passed? multiply by 3386.39 (hPa or mbar: by 100)"
-    if 50 <= p <= 110:
-        return "kPa passed? multiply by 1000 (hPa or mbar: by 100)"
-    if 0 < p <= 1200:
-        return "hPa or mbar passed? multiply by 100"
-    if 1200 < p <= 1200000 and p >= 120000:
-        return "check the unit: pascal expected (1013.25 hPa = 101325 Pa)"
     if p <= 0:
         return "pressure must be positive"
+    if p <= 1200:
+        h = "hPa or mbar passed? multiply by 100"
+        if 25 <= p <= 32.5:
+            return "inHg passed? multiply by 3386.39; " + h
+        if 50 <= p <= 110:
+            return "kPa passed? multiply by 1000; " + h
+        return h
+    if 120000 <= p <= 1200000:
+        return "check the unit: pascal expected (1013.25 hPa = 101325 Pa)"
     return None
 
 

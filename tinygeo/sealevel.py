@@ -86,15 +86,9 @@ FIELD_STEP_MAX_M = 200.0
 """Largest barometer height above (or below) the aerodrome reference elevation
 for qfe, m: the step is a small hypsometric correction."""
 
-def _feet(x):
-    # the hint of a rejected barometer height (check_range calls it)
-    if HEIGHT_MAX_M < x <= HEIGHT_MAX_M / 0.3048:
-        return "feet passed? multiply by 0.3048"
-    return "height above mean sea level in metres"
-
-
 def check_height(name, height_m):
-    return check_range(name, height_m, HEIGHT_MIN_M, HEIGHT_MAX_M, "m", _feet)
+    return check_range(name, height_m, HEIGHT_MIN_M, HEIGHT_MAX_M, "m",
+                       "metres above mean sea level; feet passed? multiply by 0.3048")
 
 
 def checked(p_pa, t_k, height_m, rh_pct, lat_deg, ice, iso_p_pa=None, iso_lo=0.0, iso_hi=0.0):
