@@ -156,7 +156,7 @@ def check_p_pa(name, value, lo, hi, error=RangeError):
 
 def check_lat(value, name="lat_deg"):
     """Check a geodetic latitude in degrees (-90..90)."""
-    return check_range(name, value, -90, 90, "deg", "latitude is -90..90 degrees, north positive")
+    return check_range(name, value, -90, 90, "deg", "geodetic latitude, north positive")
 
 
 def check_rh(value, name="rh_pct", tol=3, error=RangeError):

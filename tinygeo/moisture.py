@@ -126,7 +126,7 @@ def _f(p_pa):
 
 
 def boiling_error(e_pa, p_pa):
-    return errors.RangeError("vapour pressure e=%g Pa is not below the air pressure p_pa=%g Pa; %s" % (
+    return errors.RangeError("vapour pressure %g Pa >= p_pa=%g Pa; %s" % (
         e_pa, p_pa, errors.pressure_hint(p_pa) or "water would boil: check t_k/td_k and p_pa"))
 
 

@@ -206,7 +206,7 @@ def qnh(p_pa, elevation_m):
     if q is None or q < QNH_MIN_PA or q > QNH_MAX_PA:
         raise ModelRangeError(
             "p_pa=%r at elevation_m=%r gives a QNH outside %g..%g Pa; pass the QFE (Pa) and "
-            "the elevation above mean sea level (m)" % (p, e, QNH_MIN_PA, QNH_MAX_PA))
+            "the field elevation (m)" % (p, e, QNH_MIN_PA, QNH_MAX_PA))
     return q
 
 

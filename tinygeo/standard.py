@@ -239,18 +239,10 @@ def pressure_altitude(p_pa):
     pressure_altitude(101225.0) -> 8.33 (about 8.3 m per hPa near sea level).
     """
     p = as_finite("p_pa", p_pa, "Pa")
-    if p < TOP_P_PA:
-        hint = "above the top of the standard atmosphere %g gpm" % TOP_GPH_M
-        if p <= 0.0:
-            hint = "pressure must be positive"
-        raise ModelRangeError("p_pa=%r below %.7g Pa: %s" % (p, TOP_P_PA, hint))
-    if p > BOTTOM_P_PA:
-        msg = ("p_pa=%r above %.7g Pa: below the bottom of the standard atmosphere %.2f gpm"
-               % (p, BOTTOM_P_PA, BOTTOM_GPH_M))
-        hint = pressure_hint(p)
-        if hint:
-            msg += "; " + hint
-        raise ModelRangeError(msg)
+    if p < TOP_P_PA or p > BOTTOM_P_PA:
+        raise ModelRangeError("p_pa=%r outside %.7g..%.7g Pa, the standard atmosphere (84852 down to "
+                              "-5003.94 gpm); %s" % (p, TOP_P_PA, BOTTOM_P_PA,
+                                                     pressure_hint(p) or "pascal expected"))
     return altitude_at(p)
 
 
