@@ -121,10 +121,8 @@ def check_range(name, value, lo, hi, unit, hint=None, error=RangeError):
 
 def temperature_hint(t):
     """A hint for a temperature in kelvin that was rejected, or None."""
-    if -100 <= t <= 70:
+    if -150 <= t <= 160:
         return "Celsius passed? add 273.15 (Fahrenheit: add 459.67, divide by 1.8)"
-    if -150 <= t <= 160 and t != 0:
-        return "Fahrenheit or Celsius passed? convert to kelvin"
     return None
 
 
@@ -140,7 +138,7 @@ def pressure_hint(p):
             return "kPa passed? multiply by 1000; " + h
         return h
     if 120000 <= p <= 1200000:
-        return "check the unit: pascal expected (1013.25 hPa = 101325 Pa)"
+        return "check the unit: pascal expected"
     return None
 
 

@@ -239,7 +239,7 @@ def layer_thickness_lapse(p_lower_pa, p_upper_pa, tv_lower_k, lapse_k_gpm):
                 return rg * t0 * x
             return rg * t0 * x * (em / y)
     raise errors.ModelRangeError("lapse_k_gpm=%r puts Tv at p_upper_pa outside 150..350 K; use a "
-                                 "smaller lapse or a thinner layer" % (lapse,))
+                                 "smaller lapse or thinner layer" % (lapse,))
 
 
 def pressure_across_layer(p_lower_pa, thickness_gpm, tv_mean_k):

@@ -317,12 +317,10 @@ def dew_point(e_pa, p_pa, ice=False):
     if e == 0.0:
         raise _dry("e_pa", e_pa, "Pa")
     x = e / (_f(p_pa) * E0_PA)
-    if x <= 0.0:
-        # a vapour pressure so small that e/611.2 Pa underflows (5e-324 Pa):
-        # its dew point lies far below the model's 150 K
-        raise errors.ModelRangeError("e_pa=%r: dew point below 150 K; check e_pa (pascal "
-                                     "expected)" % (e,))
-    return _td_range(_td(math.log(x), ice), "e_pa", e, "Pa")
+    # x = 0: a vapour pressure so small that e/611.2 Pa underflows (5e-324
+    # Pa); y = -745 (ln of the smallest float) gives its dew point, about
+    # 36 K, far below the model's 150 K: refused by _td_range
+    return _td_range(_td(math.log(x) if x > 0.0 else -745.0, ice), "e_pa", e, "Pa")
 
 
 def dew_point_from_rh(t_k, rh_pct, ice=False):
@@ -431,4 +429,4 @@ def virtual_temperature_from_mixing_ratio(t_k, w_kg_kg):
     """
     t_k = check_t_k("t_k", t_k)
     return tv_w(t_k, errors.check_range("w_kg_kg", w_kg_kg, 0.0, 1.0, "kg/kg",
-                                        "mixing ratio in kg/kg (g/kg passed? divide by 1000)"))
+                                        "kg/kg expected; g/kg passed? divide by 1000"))

@@ -167,7 +167,7 @@ def qfe(p_pa, barometer_above_field_m, t_k, rh_pct=None, ice=False):
     p = check_p_pa("p_pa", p_pa, P_STATION_MIN_PA, P_STATION_MAX_PA)
     dh = check_range("barometer_above_field_m", barometer_above_field_m,
                      -FIELD_STEP_MAX_M, FIELD_STEP_MAX_M, "m",
-                     "barometer height above the field, m")
+                     "metres above the field")
     t = check_t_k("t_k", t_k, T_MIN_K, T_MAX_K)
     tv = t
     if rh_pct is not None:
@@ -200,10 +200,8 @@ def qnh(p_pa, elevation_m):
     p = check_p_pa("p_pa", p_pa, P_STATION_MIN_PA, P_STATION_MAX_PA)
     e = check_height("elevation_m", elevation_m)
     h = standard.altitude_at(p) - e    # at most 7685 gpm: always layer 0
-    q = None
-    if h >= standard.BOTTOM_GPH_M:
-        q = standard.pressure_at(h)
-    if q is None or q < QNH_MIN_PA or q > QNH_MAX_PA:
+    q = standard.pressure_at(h) if h >= standard.BOTTOM_GPH_M else 0.0
+    if q < QNH_MIN_PA or q > QNH_MAX_PA:
         raise ModelRangeError(
             "p_pa=%r at elevation_m=%r gives a QNH outside %g..%g Pa; pass the QFE (Pa) and "
             "the field elevation (m)" % (p, e, QNH_MIN_PA, QNH_MAX_PA))

@@ -177,7 +177,7 @@ BOTTOM_P_PA = pressure_at(BOTTOM_GPH_M)
 # Checked public functions
 # ---------------------------------------------------------------------------
 
-def _check_gph(gph_m, top=TOP_GPH_M, hint="beyond the standard atmosphere (-5..86 km geometric)"):
+def _check_gph(gph_m, top=TOP_GPH_M, hint="beyond the standard atmosphere"):
     # gph_m in BOTTOM_GPH_M..top gpm, else ModelRangeError (RangeError if not
     # a finite number)
     return check_range("gph_m", as_finite("gph_m", gph_m, "gpm"), BOTTOM_GPH_M, top, "gpm", hint,
