@@ -108,5 +108,6 @@ def isobaric_height(p_pa, t_k, height_m, iso_p_pa, rh_pct=None, lat_deg=None, ic
     Example (an invented mountain station): 1600 m, 838.0 hPa, 8 degC, dry:
     isobaric_height(83800.0, 281.15, 1600.0, 85000.0) -> 1482.8 gpm.
     """
-    p, tv, h, iso = checked(p_pa, t_k, height_m, rh_pct, lat_deg, ice, iso_p_pa, ISO_MIN_PA, ISO_MAX_PA)
+    p, tv, h, iso = checked(p_pa, t_k, height_m, rh_pct, lat_deg, ice, iso_p_pa, ISO_MIN_PA,
+                            ISO_MAX_PA)
     return iso_tv(p, tv, h, iso)

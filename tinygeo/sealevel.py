@@ -236,7 +236,7 @@ def indicated_altitude(p_pa, qnh_pa):
 def msl_tv(p_pa, tv_k, gph_m):
     # sea_level_pressure without the checks, from the station's virtual
     # temperature and the barometer's geopotential height (callers check and
-    # convert once): the same operations in the same order, so the same
-    # result as sea_level_pressure(p, t, h, rh, lat) for tv_k = its Tv and
+    # convert once; sea_level_pressure itself ends here), so the same result
+    # as sea_level_pressure(p, t, h, rh, lat) for tv_k = its Tv and
     # gph_m = geopotential_height(h, lat)
     return p_pa + p_pa * math.expm1(G_RD * gph_m / (tv_k + 0.5 * LAPSE_K_GPM * gph_m))
