@@ -10,8 +10,8 @@ The package is split as the issues split it: the core (the package
 ``__init__`` and the formula modules: constants, errors, gravity, potential,
 moisture, layers, standard, sealevel) and the streaming column (column.py
 with checkpoint.py, which it loads on first use of a checkpoint, and
-record.py, the table rows a logger writes; station.py and stationrecord.py,
-the buoy logger's). Budgets: core ``.mpy`` <= 16 KB total; importing the core <= 12
+record.py, the table rows a logger writes; station.py, stationrecord.py and
+highsite.py, the buoy logger's). Budgets: core ``.mpy`` <= 16 KB total; importing the core <= 12
 KB of heap. Two runtimes: ``u64``, the MicroPython unix runtime (64-bit
 words, 32-byte GC blocks), and ``w32``, the MicroPython WebAssembly port run
 by tests/wasm32/run.mjs under node (32-bit words, 16-byte GC blocks, a float
@@ -69,11 +69,12 @@ IMPORT_BUDGET = 12 * 1024
 # and what a logger skips (checkpoint.py and record.py are loaded on first
 # checkpoint / table row)
 COLUMN_FILES = ("tinygeo/column.py", "tinygeo/checkpoint.py", "tinygeo/record.py", "tinygeo/station.py",
-                "tinygeo/stationrecord.py")
+                "tinygeo/stationrecord.py", "tinygeo/highsite.py")
 COLUMN_MODULES = ("tinygeo.column", "tinygeo.checkpoint", "tinygeo.record", "tinygeo.station",
-                  "tinygeo.stationrecord")
+                  "tinygeo.stationrecord", "tinygeo.highsite")
 NOT_IN_LOGGER = ("tinygeo/checkpoint.py", "tinygeo/record.py", "tinygeo/station.py",
-                 "tinygeo/stationrecord.py", "tinygeo/gravity.py", "tinygeo/sealevel.py")
+                 "tinygeo/stationrecord.py", "tinygeo/gravity.py", "tinygeo/sealevel.py",
+                 "tinygeo/highsite.py")
 WASM32_RUN = os.path.join(ROOT, "tests", "wasm32", "run.mjs")
 
 # Runs under MicroPython (unix, or the 32-bit WebAssembly port through

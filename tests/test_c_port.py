@@ -2549,8 +2549,8 @@ def test_station_only_build_links(build):
 def test_station_tendency_code_and_surfaces(build):
     """tg_tendency_code on the traces of station.tendency_code's docstring and
     random traces with missing values, and tg_standard_surface_pa at the
-    boundaries of sealevel.SURFACES: the same as Python (double and float)."""
-    from tinygeo.sealevel import standard_surface_pa
+    boundaries of highsite.SURFACES: the same as Python (double and float)."""
+    from tinygeo.highsite import standard_surface_pa
     heights = [-500.0, 0.0, 799.999, 800.0, 2299.999, 2300.0, 3699.999, 3700.0, 5000.0]
     cases = [("surface", "standard_surface_pa", (h,)) for h in heights]
     for kind in ("double", "float"):

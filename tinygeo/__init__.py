@@ -9,8 +9,8 @@ Public names are available here; each lives in a one-concept module:
 - moisture:     saturation_vapour_pressure, vapour_pressure, ... virtual_temperature (K)
 - layers:       ln_ratio, layer_thickness (gpm), layer_thickness_lapse, pressure_across_layer (Pa)
 - standard:     standard_temperature (K), standard_pressure (Pa), pressure_altitude (gpm)
-- sealevel:     sea_level_pressure, qfe, qnh (Pa), indicated_altitude (m),
-                isobaric_height (gpm), standard_surface_pa (Pa)
+- sealevel:     sea_level_pressure, qfe, qnh (Pa), indicated_altitude (m)
+- highsite:     isobaric_height (gpm), standard_surface_pa (Pa) of high stations
 - column:       Column, the streaming integration of an atmospheric column
 - station:      Station, averages, sea-level pressure, tendency and QC of a
                 fixed station or buoy; tendency_code (WMO code table 0200)
@@ -41,7 +41,8 @@ _WHERE = (
     "virtual_temperature virtual_temperature_from_mixing_ratio "
     "layers: ln_ratio layer_thickness layer_thickness_lapse pressure_across_layer layer_mean_tv "
     "standard: standard_temperature standard_pressure pressure_altitude "
-    "sealevel: sea_level_pressure qfe qnh indicated_altitude isobaric_height standard_surface_pa "
+    "sealevel: sea_level_pressure qfe qnh indicated_altitude "
+    "highsite: isobaric_height standard_surface_pa "
     "column: Column EV_LEVEL EV_TROPOPAUSE EV_BURST EV_LANDED EV_LAUNCH EV_FLOAT FL_DRY "
     "FL_HELD_MIXING FL_NO_TIME FL_DESCENT FL_SAME_P FL_NO_GPS FL_CAPPED FL_REPLACED FL_TAKEOVER "
     "FL_SAME_TIME PH_WAIT PH_ASCENT PH_FLOAT PH_DESCENT PH_LANDED "

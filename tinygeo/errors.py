@@ -68,7 +68,7 @@ def real(value):
     passes through; callers test finiteness."""
     if isinstance(value, float):
         return value
-    if isinstance(value, bool) or isinstance(value, (str, bytes, bytearray)):
+    if isinstance(value, (bool, str, bytes, bytearray)):
         return None
     try:
         return float(value)
@@ -121,25 +121,24 @@ def check_range(name, value, lo, hi, unit, hint=None, error=RangeError):
 
 def temperature_hint(t):
     """A hint for a temperature in kelvin that was rejected, or None."""
-    if -100 <= t <= 70:
+    if -150 <= t <= 160:
         return "Celsius passed? add 273.15 (Fahrenheit: add 459.67, divide by 1.8)"
-    if -150 <= t <= 160 and t != 0:
-        return "Fahrenheit or Celsius passed? convert to kelvin"
     return None
 
 
 def pressure_hint(p):
     """A hint for a pressure in pascal that was rejected, or None."""
-    if 25 <= p <= 32.5:
-        return "inHg passed? multiply by 3386.39 (hPa or mbar: by 100)"
-    if 50 <= p <= 110:
-        return "kPa passed? multiply by 1000 (hPa or mbar: by 100)"
-    if 0 < p <= 1200:
-        return "hPa or mbar passed? multiply by 100"
-    if 1200 < p <= 1200000 and p >= 120000:
-        return "check the unit: pascal expected (1013.25 hPa = 101325 Pa)"
     if p <= 0:
         return "pressure must be positive"
+    if p <= 1200:
+        h = "hPa or mbar passed? multiply by 100"
+        if 25 <= p <= 32.5:
+            return "inHg passed? multiply by 3386.39; " + h
+        if 50 <= p <= 110:
+            return "kPa passed? multiply by 1000; " + h
+        return h
+    if 120000 <= p <= 1200000:
+        return "check the unit: pascal expected"
     return None
 
 
@@ -155,7 +154,7 @@ def check_p_pa(name, value, lo, hi, error=RangeError):
 
 def check_lat(value, name="lat_deg"):
     """Check a geodetic latitude in degrees (-90..90)."""
-    return check_range(name, value, -90, 90, "deg", "latitude is -90..90 degrees, north positive")
+    return check_range(name, value, -90, 90, "deg", "geodetic latitude, north positive")
 
 
 def check_rh(value, name="rh_pct", tol=3, error=RangeError):

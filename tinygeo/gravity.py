@@ -78,7 +78,7 @@ def check_height(height_m, name="height_m"):
     """Return ``height_m`` as a float if it lies in -1000..100000 m, else raise
     ``tinygeo.errors.RangeError``."""
     return check_range(name, height_m, HEIGHT_MIN_M, HEIGHT_MAX_M, "m",
-                       "height above mean sea level in metres (km or feet passed?)")
+                       "metres above mean sea level (km or feet passed?)")
 
 
 def somigliana_gravity(lat_deg, ellipsoid=WGS84):

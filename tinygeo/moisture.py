@@ -126,7 +126,7 @@ def _f(p_pa):
 
 
 def boiling_error(e_pa, p_pa):
-    return errors.RangeError("vapour pressure e=%g Pa is not below the air pressure p_pa=%g Pa; %s" % (
+    return errors.RangeError("vapour pressure %g Pa >= p_pa=%g Pa; %s" % (
         e_pa, p_pa, errors.pressure_hint(p_pa) or "water would boil: check t_k/td_k and p_pa"))
 
 
@@ -163,10 +163,15 @@ def td_rh(t_k, rh_pct, ice):
     # dew_point_from_rh without the checks (callers check t_k in 150..350 K
     # and rh_pct > 0); the result may lie outside 150..350 K (callers check)
     t = t_k - ZERO_C_K
+    y = math.log(rh_pct * 0.01)
     if ice and t <= 0.0:
-        y = math.log(rh_pct * 0.01) + _AI * t / (_BI + t)
-    else:
-        y = math.log(rh_pct * 0.01) + _AW * t / (_BW + t)
+        return _td(y + _AI * t / (_BI + t), ice)
+    return _td(y + _AW * t / (_BW + t), ice)
+
+
+def _td(y, ice):
+    # the dew point (frost point: ice and y <= 0), K, of
+    # y = ln(e'/(f(p) 611.2 Pa)): the inverse Magnus forms [WMO8], no checks
     if ice and y <= 0.0:
         return _BI * y / (_AI - y) + ZERO_C_K
     return _BW * y / (_AW - y) + ZERO_C_K
@@ -177,12 +182,27 @@ def td_rh(t_k, rh_pct, ice):
 # ---------------------------------------------------------------------------
 
 def _check_e(e_pa, p_pa):
+    # (e, p) checked: p_pa in P_MIN_PA..P_MAX_PA, then 0 <= e_pa < p_pa
+    p = check_p_pa("p_pa", p_pa, P_MIN_PA, P_MAX_PA)
     e = errors.as_finite("e_pa", e_pa, "Pa")
     if e < 0.0:
         raise errors.RangeError("e_pa=%r is negative; vapour pressure is >= 0 Pa" % (e,))
-    if e >= p_pa:
-        raise boiling_error(e, p_pa)
-    return e
+    if e >= p:
+        raise boiling_error(e, p)
+    return e, p
+
+
+def _dry(name, value, unit):
+    return errors.RangeError("%s=%s: dry air has no dew point; pass %s > 0 %s"
+                             % (name, errors.quote(value), name, unit))
+
+
+def _td_range(td, name, value, unit):
+    # td if it lies in 150..350 K, else ModelRangeError naming the argument
+    if td < 150.0 or td > 350.0:
+        raise errors.ModelRangeError("dew point %.2f K for %s=%r %s outside 150..350 K; check %s "
+                                     "(%s expected)" % (td, name, value, unit, name, unit))
+    return td
 
 
 def saturation_vapour_pressure(t_k, ice=False):
@@ -293,26 +313,14 @@ def dew_point(e_pa, p_pa, ice=False):
     Example: dew_point(1231.82, 101325.0) -> 283.150 K.
     """
     ice = errors.check_flag("ice", ice)
-    p_pa = check_p_pa("p_pa", p_pa, P_MIN_PA, P_MAX_PA)
-    e = _check_e(e_pa, p_pa)
+    e, p_pa = _check_e(e_pa, p_pa)
     if e == 0.0:
-        raise errors.RangeError("e_pa=0.0: dry air has no dew point; pass e_pa > 0 Pa")
+        raise _dry("e_pa", e_pa, "Pa")
     x = e / (_f(p_pa) * E0_PA)
-    if x <= 0.0:
-        # a vapour pressure so small that e/611.2 Pa underflows (5e-324 Pa):
-        # its dew point lies far below the model's 150 K
-        raise errors.ModelRangeError("dew point for e_pa=%g Pa is below 150 K; check e_pa "
-                                     "(pascal expected)" % (e,))
-    y = math.log(x)
-    if ice and y <= 0.0:
-        t = _BI * y / (_AI - y)
-    else:
-        t = _BW * y / (_AW - y)
-    td = t + ZERO_C_K
-    if td < 150.0 or td > 350.0:
-        raise errors.ModelRangeError("dew point %.2f K for e_pa=%g Pa outside 150..350 K; "
-                                     "check e_pa (pascal expected)" % (td, e))
-    return td
+    # x = 0: a vapour pressure so small that e/611.2 Pa underflows (5e-324
+    # Pa); y = -745 (ln of the smallest float) gives its dew point, about
+    # 36 K, far below the model's 150 K: refused by _td_range
+    return _td_range(_td(math.log(x) if x > 0.0 else -745.0, ice), "e_pa", e, "Pa")
 
 
 def dew_point_from_rh(t_k, rh_pct, ice=False):
@@ -346,13 +354,8 @@ def dew_point_from_rh(t_k, rh_pct, ice=False):
     t_k = check_t_k("t_k", t_k)
     rh = errors.check_rh(rh_pct)
     if rh <= 0.0:
-        raise errors.RangeError("rh_pct=%s: no dew point for dry air; pass rh_pct > 0 %%"
-                                % errors.quote(rh_pct))
-    td = td_rh(t_k, rh, ice)
-    if td < 150.0 or td > 350.0:
-        raise errors.ModelRangeError("dew point %.2f K for t_k=%r, rh_pct=%r outside 150..350 K; "
-                                     "check rh_pct (percent expected)" % (td, t_k, rh))
-    return td
+        raise _dry("rh_pct", rh_pct, "%")
+    return _td_range(td_rh(t_k, rh, ice), "rh_pct", rh, "%")
 
 
 def mixing_ratio(e_pa, p_pa):
@@ -366,8 +369,7 @@ def mixing_ratio(e_pa, p_pa):
 
     Example: mixing_ratio(1171.80, 101325.0) -> 0.0072772 kg/kg.
     """
-    p_pa = check_p_pa("p_pa", p_pa, P_MIN_PA, P_MAX_PA)
-    e = _check_e(e_pa, p_pa)
+    e, p_pa = _check_e(e_pa, p_pa)
     return EPSILON * e / (p_pa - e)
 
 
@@ -382,8 +384,7 @@ def specific_humidity(e_pa, p_pa):
 
     Example: specific_humidity(1171.80, 101325.0) -> 0.0072247 kg/kg.
     """
-    p_pa = check_p_pa("p_pa", p_pa, P_MIN_PA, P_MAX_PA)
-    e = _check_e(e_pa, p_pa)
+    e, p_pa = _check_e(e_pa, p_pa)
     return EPSILON * e / (p_pa - ONE_M_EPS * e)
 
 
@@ -427,8 +428,5 @@ def virtual_temperature_from_mixing_ratio(t_k, w_kg_kg):
     Example: virtual_temperature_from_mixing_ratio(293.15, 0.0072772) -> 294.4372 K.
     """
     t_k = check_t_k("t_k", t_k)
-    w = errors.as_finite("w_kg_kg", w_kg_kg, "kg/kg")
-    if w < 0.0 or w > 1.0:
-        errors.check_range("w_kg_kg", w, 0.0, 1.0, "kg/kg",
-                           "g/kg passed? divide by 1000" if 1.0 < w <= 100.0 else "mixing ratio is >= 0")
-    return tv_w(t_k, w)
+    return tv_w(t_k, errors.check_range("w_kg_kg", w_kg_kg, 0.0, 1.0, "kg/kg",
+                                        "kg/kg expected; g/kg passed? divide by 1000"))

@@ -137,10 +137,10 @@ def series(lat_deg, ellipsoid):
         # D_n(s): Horner in s, highest power first
         w = row.split()
         acc = 0.0
-        i = len(w) - 1
-        while i >= 0:
-            acc = acc * s + float(w[i])
+        i = len(w)
+        while i:
             i -= 1
+            acc = acc * s + float(w[i])
         c.append(acc)
     for i in range(6):
         c.append((i + 1) * c[i])
@@ -216,7 +216,7 @@ def geopotential_height(height_m, lat_deg, ellipsoid=WGS84):
     # the range and message of tinygeo.gravity.check_height (not imported:
     # a logger that needs only the column does not load the gravity module)
     h = check_range("height_m", height_m, -1000.0, 100000.0, "m",
-                    "height above mean sea level in metres (km or feet passed?)")
+                    "metres above mean sea level (km or feet passed?)")
     e = check_ellipsoid(ellipsoid)
     return gph_series(h, series(check_lat(lat_deg), e), e.a_m)
 
@@ -278,5 +278,5 @@ def msl_height(ellipsoidal_height_m, geoid_undulation_m):
     h = check_range("ellipsoidal_height_m", ellipsoidal_height_m, -2000.0, 200000.0, "m",
                     "GPS ellipsoidal height in metres")
     n = check_range("geoid_undulation_m", geoid_undulation_m, -150.0, 150.0, "m",
-                    "geoid undulation N in metres (Earth: about -107..+86 m)")
+                    "geoid undulation N in metres")
     return h - n

@@ -57,8 +57,7 @@ import math
 from . import moisture
 from . import standard
 from .standard import G_RD     # g0 / Rd, K/gpm [USSA76 Table 2]
-from .errors import (ModelRangeError, RangeError, as_finite, check_flag, check_p_pa, check_range,
-                     check_t_k)
+from .errors import ModelRangeError, check_flag, check_p_pa, check_range, check_t_k
 
 LAPSE_K_GPM = 0.0065
 """Lapse rate of the fictitious column, K/gpm [WMO8] (the standard atmosphere's
@@ -87,15 +86,32 @@ FIELD_STEP_MAX_M = 200.0
 """Largest barometer height above (or below) the aerodrome reference elevation
 for qfe, m: the step is a small hypsometric correction."""
 
-def _check_height(name, height_m):
-    # check_range's message plus a hint for the likely unit mistakes (feet, km)
-    x = as_finite(name, height_m, "m")
-    if x < HEIGHT_MIN_M or x > HEIGHT_MAX_M:
-        hint = "height above mean sea level in metres"
-        if HEIGHT_MAX_M < x <= HEIGHT_MAX_M / 0.3048:
-            hint += "; feet passed? multiply by 0.3048"
-        raise RangeError("%s=%r outside %g..%g m; %s" % (name, x, HEIGHT_MIN_M, HEIGHT_MAX_M, hint))
-    return x
+def check_height(name, height_m):
+    return check_range(name, height_m, HEIGHT_MIN_M, HEIGHT_MAX_M, "m",
+                       "metres above mean sea level; feet passed? multiply by 0.3048")
+
+
+def checked(p_pa, t_k, height_m, rh_pct, lat_deg, ice, iso_p_pa=None, iso_lo=0.0, iso_hi=0.0):
+    # the checks and conversions of sea_level_pressure and
+    # tinygeo.highsite.isobaric_height, in this order: ice, p_pa, t_k,
+    # height_m, iso_p_pa in iso_lo..iso_hi Pa if iso_hi is given, rh_pct,
+    # lat_deg. Returns (p, Tv, H, iso): Tv the station's virtual temperature
+    # (T for rh_pct None), H the barometer's geopotential height (height_m as
+    # gpm for lat_deg None)
+    ice = check_flag("ice", ice)
+    p = check_p_pa("p_pa", p_pa, P_STATION_MIN_PA, P_STATION_MAX_PA)
+    t = check_t_k("t_k", t_k, T_MIN_K, T_MAX_K)
+    h = check_height("height_m", height_m)
+    if iso_hi:
+        iso_p_pa = check_p_pa("iso_p_pa", iso_p_pa, iso_lo, iso_hi)
+    if rh_pct is not None:
+        t = moisture.virtual_temperature(t, p, rh_pct, ice)
+    if lat_deg is not None:
+        # imported here so a buoy that never passes a latitude does not load
+        # the gravity model on a small board
+        from . import potential
+        h = potential.geopotential_height(h, lat_deg)
+    return p, t, h, iso_p_pa
 
 
 def sea_level_pressure(p_pa, t_k, height_m, rh_pct=None, lat_deg=None, ice=False):
@@ -123,20 +139,8 @@ def sea_level_pressure(p_pa, t_k, height_m, rh_pct=None, lat_deg=None, ice=False
     Example (a buoy, invented scenario): barometer 4 m above the sea, 1008.2 hPa,
     18 degC, dry: sea_level_pressure(100820.0, 291.15, 4.0) -> 100867.3 Pa.
     """
-    ice = check_flag("ice", ice)
-    p = check_p_pa("p_pa", p_pa, P_STATION_MIN_PA, P_STATION_MAX_PA)
-    t = check_t_k("t_k", t_k, T_MIN_K, T_MAX_K)
-    h = _check_height("height_m", height_m)
-    tv = t
-    if rh_pct is not None:
-        tv = moisture.virtual_temperature(t, p, rh_pct, ice)
-    if lat_deg is not None:
-        # imported here so a buoy that never passes a latitude does not load
-        # the gravity model on a small board
-        from . import potential
-        h = potential.geopotential_height(h, lat_deg)
-    tv_mean = tv + 0.5 * LAPSE_K_GPM * h
-    return p + p * math.expm1(G_RD * h / tv_mean)
+    p, tv, h, _ = checked(p_pa, t_k, height_m, rh_pct, lat_deg, ice)
+    return msl_tv(p, tv, h)
 
 
 def qfe(p_pa, barometer_above_field_m, t_k, rh_pct=None, ice=False):
@@ -163,7 +167,7 @@ def qfe(p_pa, barometer_above_field_m, t_k, rh_pct=None, ice=False):
     p = check_p_pa("p_pa", p_pa, P_STATION_MIN_PA, P_STATION_MAX_PA)
     dh = check_range("barometer_above_field_m", barometer_above_field_m,
                      -FIELD_STEP_MAX_M, FIELD_STEP_MAX_M, "m",
-                     "barometer height above the field, m")
+                     "metres above the field")
     t = check_t_k("t_k", t_k, T_MIN_K, T_MAX_K)
     tv = t
     if rh_pct is not None:
@@ -194,15 +198,13 @@ def qnh(p_pa, elevation_m):
     qnh(96200.0, 430.0) -> 101257.4 Pa.
     """
     p = check_p_pa("p_pa", p_pa, P_STATION_MIN_PA, P_STATION_MAX_PA)
-    e = _check_height("elevation_m", elevation_m)
+    e = check_height("elevation_m", elevation_m)
     h = standard.altitude_at(p) - e    # at most 7685 gpm: always layer 0
-    q = None
-    if h >= standard.BOTTOM_GPH_M:
-        q = standard.pressure_at(h)
-    if q is None or q < QNH_MIN_PA or q > QNH_MAX_PA:
+    q = standard.pressure_at(h) if h >= standard.BOTTOM_GPH_M else 0.0
+    if q < QNH_MIN_PA or q > QNH_MAX_PA:
         raise ModelRangeError(
             "p_pa=%r at elevation_m=%r gives a QNH outside %g..%g Pa; pass the QFE (Pa) and "
-            "the elevation above mean sea level (m)" % (p, e, QNH_MIN_PA, QNH_MAX_PA))
+            "the field elevation (m)" % (p, e, QNH_MIN_PA, QNH_MAX_PA))
     return q
 
 
@@ -226,117 +228,15 @@ def indicated_altitude(p_pa, qnh_pa):
 
 
 # ---------------------------------------------------------------------------
-# Additions for stations (tinygeo.station): an unchecked kernel of the
-# sea-level reduction, and the height of a standard isobaric surface that
-# high stations report instead of (or beside) the sea-level pressure.
+# For stations (tinygeo.station): an unchecked kernel of the sea-level
+# reduction (the height of a standard isobaric surface that high stations
+# report is in tinygeo.highsite, outside the core).
 # ---------------------------------------------------------------------------
 
 def msl_tv(p_pa, tv_k, gph_m):
     # sea_level_pressure without the checks, from the station's virtual
     # temperature and the barometer's geopotential height (callers check and
-    # convert once): the same operations in the same order, so the same
-    # result as sea_level_pressure(p, t, h, rh, lat) for tv_k = its Tv and
+    # convert once; sea_level_pressure itself ends here), so the same result
+    # as sea_level_pressure(p, t, h, rh, lat) for tv_k = its Tv and
     # gph_m = geopotential_height(h, lat)
     return p_pa + p_pa * math.expm1(G_RD * gph_m / (tv_k + 0.5 * LAPSE_K_GPM * gph_m))
-
-
-HIGH_STATION_M = 800.0
-"""Barometer height above which tinygeo.station also gives the geopotential
-height of a standard isobaric surface (standard_surface_pa), m. WMO practice
-lets a station that cannot reduce its pressure to sea level with reasonable
-accuracy report the geopotential of an agreed standard isobaric surface
-instead (WMO-No. 306 Manual on Codes, FM 12 SYNOP, group 4a3hhh; the choice of
-surface is regional practice; from memory)."""
-
-
-def standard_surface_pa(height_m):
-    """The standard isobaric surface whose geopotential height a station at
-    this height reports, Pa; None below HIGH_STATION_M.
-
-    height_m: barometer height above mean sea level, m, -500..5000.
-
-    Rule (regional practice under WMO-No. 306 FM 12 SYNOP group 4a3hhh, from
-    memory; a national service may choose otherwise): 850 hPa for stations
-    from 800 m to below 2300 m, 700 hPa from 2300 m to below 3700 m, 500 hPa
-    from 3700 m up. Each surface then lies, in the standard atmosphere, a few
-    hundred metres to about 2 km from the station, so the fictitious column
-    of isobaric_height is short.
-
-    Example: standard_surface_pa(1600.0) -> 85000.0.
-    """
-    h = _check_height("height_m", height_m)
-    if h < HIGH_STATION_M:
-        return None
-    for below_m, surface_pa in SURFACES:
-        if h < below_m:
-            return surface_pa
-    return SURFACE_TOP_PA
-
-
-SURFACES = ((2300.0, 85000.0), (3700.0, 70000.0))
-"""standard_surface_pa's rule: (the barometer height below which, m; the
-surface, Pa), from HIGH_STATION_M up; SURFACE_TOP_PA above the last."""
-SURFACE_TOP_PA = 50000.0
-
-
-ISO_MIN_PA = 50000.0
-ISO_MAX_PA = 100000.0
-"""Accepted standard isobaric surfaces for isobaric_height, Pa (500..1000 hPa:
-the surfaces of FM 12 group 4a3hhh, from memory)."""
-
-
-def iso_tv(p_pa, tv_k, gph_m, iso_p_pa):
-    # isobaric_height without the checks: gph_m + the constant-lapse
-    # thickness from the barometer to iso_p_pa (as layer_thickness_lapse,
-    # with the lapse LAPSE_K_GPM), gpm. Within the checked ranges Tv stays
-    # above 150 K at the far end (|y| <= 0.17), so expm1(y)/y is safe
-    from .layers import lnr, HALF_RG
-    rg = 2 * HALF_RG                   # Rd/g0, gpm per K
-    x = lnr(p_pa, iso_p_pa)
-    y = -rg * LAPSE_K_GPM * x
-    if y == 0.0:
-        return gph_m + rg * tv_k * x
-    return gph_m + rg * tv_k * x * (math.expm1(y) / y)
-
-
-def isobaric_height(p_pa, t_k, height_m, iso_p_pa, rh_pct=None, lat_deg=None, ice=False):
-    """Geopotential height of a standard isobaric surface estimated from a
-    station's pressure and temperature, gpm.
-
-    p_pa      barometer (station) pressure, Pa, 40000..115000
-    t_k       air temperature at the station, K, 180..340
-    height_m  barometer height above mean sea level, m, -500..5000
-    iso_p_pa  the isobaric surface, Pa, 50000..100000 (85000 or 70000 as
-              standard_surface_pa chooses, or another)
-    rh_pct    relative humidity at the station, %, or None for dry air
-    lat_deg   latitude, degrees: height_m is converted to geopotential height
-              (as in sea_level_pressure); None: height_m taken as gpm
-    ice       passed to virtual_temperature
-
-    Method: the fictitious column of sea_level_pressure ([WMO8] Vol. I Ch. 3,
-    from memory): virtual temperature Tv(station), falling with height at
-    0.0065 K/gpm, extended from the barometer up or down to iso_p_pa, with
-    the exact thickness of a constant-lapse layer ([USSA76] eq. 33a solved
-    for the height, as tinygeo.layer_thickness_lapse):
-        Z = H + (Tv/L) (1 - (p_iso/p)^(Rd L/g0)),  L = 0.0065 K/gpm,
-    H the barometer's geopotential height. A surface below the station
-    (p_iso > p) gives the height of the extrapolated column, as reported by
-    high stations (WMO-No. 306 FM 12 group 4a3hhh, from memory). In the
-    standard atmosphere (a station at H with the standard's p and T, dry) it
-    returns the standard's own height of iso_p_pa exactly up to rounding.
-
-    Example (an invented mountain station): 1600 m, 838.0 hPa, 8 degC, dry:
-    isobaric_height(83800.0, 281.15, 1600.0, 85000.0) -> 1482.8 gpm.
-    """
-    ice = check_flag("ice", ice)
-    p = check_p_pa("p_pa", p_pa, P_STATION_MIN_PA, P_STATION_MAX_PA)
-    t = check_t_k("t_k", t_k, T_MIN_K, T_MAX_K)
-    h = _check_height("height_m", height_m)
-    iso = check_p_pa("iso_p_pa", iso_p_pa, ISO_MIN_PA, ISO_MAX_PA)
-    tv = t
-    if rh_pct is not None:
-        tv = moisture.virtual_temperature(t, p, rh_pct, ice)
-    if lat_deg is not None:
-        from . import potential
-        h = potential.geopotential_height(h, lat_deg)
-    return iso_tv(p, tv, h, iso)

@@ -79,7 +79,7 @@ tinygeo.layers.ln_ratio is the public stable ln(p1/p2).
 import math
 
 from .constants import G0, RD, R0_M
-from .errors import ModelRangeError, as_finite, pressure_hint
+from .errors import ModelRangeError, as_finite, check_range, pressure_hint
 
 # --- [USSA76] Table 4 ---------------------------------------------------------
 _H_BASE = (0.0, 11000.0, 20000.0, 32000.0, 47000.0, 51000.0, 71000.0)
@@ -177,17 +177,11 @@ BOTTOM_P_PA = pressure_at(BOTTOM_GPH_M)
 # Checked public functions
 # ---------------------------------------------------------------------------
 
-def _check_gph(gph_m):
-    h = as_finite("gph_m", gph_m, "gpm")
-    if h > TOP_GPH_M:
-        raise ModelRangeError(
-            "gph_m=%r above the top of the standard atmosphere %g gpm (86 km geometric)"
-            % (h, TOP_GPH_M))
-    if h < BOTTOM_GPH_M:
-        raise ModelRangeError(
-            "gph_m=%r below the bottom of the standard atmosphere %.2f gpm (-5000 m geometric); "
-            "gpm expected" % (h, BOTTOM_GPH_M))
-    return h
+def _check_gph(gph_m, top=TOP_GPH_M, hint="beyond the standard atmosphere"):
+    # gph_m in BOTTOM_GPH_M..top gpm, else ModelRangeError (RangeError if not
+    # a finite number)
+    return check_range("gph_m", as_finite("gph_m", gph_m, "gpm"), BOTTOM_GPH_M, top, "gpm", hint,
+                       ModelRangeError)
 
 
 def standard_temperature(gph_m):
@@ -245,18 +239,10 @@ def pressure_altitude(p_pa):
     pressure_altitude(101225.0) -> 8.33 (about 8.3 m per hPa near sea level).
     """
     p = as_finite("p_pa", p_pa, "Pa")
-    if p < TOP_P_PA:
-        hint = "above the top of the standard atmosphere %g gpm" % TOP_GPH_M
-        if p <= 0.0:
-            hint = "pressure must be positive"
-        raise ModelRangeError("p_pa=%r below %.7g Pa: %s" % (p, TOP_P_PA, hint))
-    if p > BOTTOM_P_PA:
-        msg = ("p_pa=%r above %.7g Pa: below the bottom of the standard atmosphere %.2f gpm"
-               % (p, BOTTOM_P_PA, BOTTOM_GPH_M))
-        hint = pressure_hint(p)
-        if hint:
-            msg += "; " + hint
-        raise ModelRangeError(msg)
+    if p < TOP_P_PA or p > BOTTOM_P_PA:
+        raise ModelRangeError("p_pa=%r outside %.7g..%.7g Pa, the standard atmosphere (84852 down to "
+                              "-5003.94 gpm); %s" % (p, TOP_P_PA, BOTTOM_P_PA,
+                                                     pressure_hint(p) or "pascal expected"))
     return altitude_at(p)
 
 
@@ -273,9 +259,8 @@ def ussa76_geopotential_height(z_m):
 
     Example: ussa76_geopotential_height(86000.0) -> 84852.046.
     """
-    z = as_finite("z_m", z_m, "m")
-    if z < BOTTOM_Z_M or z > 86000.0:
-        raise ModelRangeError("z_m=%r outside -5000..86000 m, the standard's table range" % z)
+    z = check_range("z_m", as_finite("z_m", z_m, "m"), BOTTOM_Z_M, 86000.0, "m",
+                    "beyond the standard's tables", ModelRangeError)
     return R0_M * z / (R0_M + z)
 
 
@@ -291,9 +276,5 @@ def ussa76_geometric_height(gph_m):
 
     Example: ussa76_geometric_height(11000.0) -> 11019.07.
     """
-    h = as_finite("gph_m", gph_m, "gpm")
-    top = R0_M * 86000.0 / (R0_M + 86000.0)
-    if h < BOTTOM_GPH_M or h > top:
-        raise ModelRangeError("gph_m=%r outside %.3f..%.3f gpm, the standard's table range"
-                              % (h, BOTTOM_GPH_M, top))
+    h = _check_gph(gph_m, R0_M * 86000.0 / (R0_M + 86000.0), "beyond the standard's tables")
     return R0_M * h / (R0_M - h)

@@ -9,7 +9,7 @@ long enough for 24 hours, preallocated in the constructor (``array('d')``;
 a list built once where the firmware lacks ``array``). Nothing grows with
 the number of readings. The formulas come from the core modules' kernels,
 called after ``feed`` has checked a reading once: tinygeo.sealevel (the
-sea-level reduction, the isobaric surface), tinygeo.standard (QNH, the
+sea-level reduction), tinygeo.highsite (the isobaric surface), tinygeo.standard (QNH, the
 plausibility of a pressure for the station's height), tinygeo.moisture
 (virtual temperature, dew point).
 
@@ -132,7 +132,7 @@ High stations
   below. Needs a second ring of 12 hours of temperatures.
 - iso_p_pa: the standard isobaric surface whose geopotential height
   (iso_gph_m) is given, Pa, 50000..100000; None (default): the surface of
-  tinygeo.sealevel.standard_surface_pa(height_m) for stations at or above
+  tinygeo.highsite.standard_surface_pa(height_m) for stations at or above
   800 m (850 hPa below 2300 m, 700 hPa below 3700 m, 500 hPa above), none
   below.
 - on_event: callable(station, bits) called after a feed that raised events.
@@ -318,7 +318,8 @@ int32 halves, the others relative to it). on_event is not stored.
 """
 import math
 
-from .sealevel import msl_tv, iso_tv, QNH_MIN_PA, QNH_MAX_PA
+from .sealevel import msl_tv, QNH_MIN_PA, QNH_MAX_PA
+from .highsite import iso_tv
 from .standard import pressure_at, altitude_at, BOTTOM_GPH_M
 from .moisture import tv_rh, td_rh
 from .errors import ReadingError, quote, real, INF, NINF
@@ -534,8 +535,8 @@ class Station:
                  guard_m=2000, steady_pa=10, max_gap_s=1800, mean12=False, iso_p_pa=None,
                  takeover_readings=3, on_event=None):
         from .errors import check_range, check_lat, check_flag, RangeError
-        from .sealevel import (standard_surface_pa, HEIGHT_MIN_M, HEIGHT_MAX_M, ISO_MIN_PA,
-                               ISO_MAX_PA)
+        from .sealevel import HEIGHT_MIN_M, HEIGHT_MAX_M
+        from .highsite import standard_surface_pa, ISO_MIN_PA, ISO_MAX_PA
         from .potential import geopotential_height
         self.height_m = check_range("height_m", height_m, HEIGHT_MIN_M, HEIGHT_MAX_M, "m",
                                     "barometer height above mean sea level (buoy: above the "
@@ -576,7 +577,7 @@ class Station:
         else:
             self.iso_p_pa = standard_surface_pa(self.height_m)
         if self.iso_p_pa is not None:
-            from . import layers   # noqa: F401 (sealevel.iso_tv's; loaded now, not in a feed)
+            from . import layers   # noqa: F401 (highsite.iso_tv's; loaded now, not in a feed)
         self.on_event = on_event
         # --- derived settings (built once, so that feed builds no float for them)
         self._gph = geopotential_height(self.height_m, self.lat_deg)

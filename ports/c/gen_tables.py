@@ -44,7 +44,7 @@ import sys
 HERE = os.path.dirname(os.path.abspath(__file__))
 ROOT = os.path.dirname(os.path.dirname(HERE))
 OUT = os.path.join(HERE, "tg_tables.h")
-MODULES = ("constants", "gravity", "potential", "moisture", "layers", "standard", "sealevel",
+MODULES = ("constants", "gravity", "potential", "moisture", "layers", "standard", "sealevel", "highsite",
            "column", "record", "station")
 SETTINGS = {"column": ("Column", "_count_setting"), "station": ("Station", "_count")}
 """The modules whose class's settings are generated (column_settings): the

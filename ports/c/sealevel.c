@@ -33,7 +33,7 @@ static tg_status check_station_p(TG_FLOAT p_pa)
     return tg__check_p_pa(p_pa, P_STATION_MIN_PA, P_STATION_MAX_PA, TG_RANGE);
 }
 
-/* sealevel._check_height */
+/* sealevel.check_height */
 static tg_status check_height(TG_FLOAT x)
 {
     return tg__check_range(x, HEIGHT_MIN_M, HEIGHT_MAX_M, TG_RANGE);
@@ -96,10 +96,12 @@ tg_status tg_indicated_altitude(TG_FLOAT p_pa, TG_FLOAT qnh_pa, TG_FLOAT *out)
     return TG_OK;
 }
 
-/* ---- the additions for stations (Station; sealevel.py's last section) ---- */
-#define HIGH_STATION_M TGPY_SEALEVEL_HIGH_STATION_M
-#define ISO_MIN_PA TGPY_SEALEVEL_ISO_MIN_PA
-#define ISO_MAX_PA TGPY_SEALEVEL_ISO_MAX_PA
+/* ---- the additions for stations (Station): sealevel.py's last section, and
+ * highsite.py (the isobaric surface of high stations, outside the Python core;
+ * kept in this file, beside the sea-level code it shares) ---- */
+#define HIGH_STATION_M TGPY_HIGHSITE_HIGH_STATION_M
+#define ISO_MIN_PA TGPY_HIGHSITE_ISO_MIN_PA
+#define ISO_MAX_PA TGPY_HIGHSITE_ISO_MAX_PA
 
 /* sealevel.msl_tv: sea_level_pressure without the checks, from the station's
  * virtual temperature and the barometer's geopotential height (the same
@@ -109,9 +111,9 @@ TG_FLOAT tg__sealevel_msl_tv(TG_FLOAT p_pa, TG_FLOAT tv_k, TG_FLOAT gph_m)
     return p_pa + p_pa * TG_EXPM1(G_RD * gph_m / (tv_k + TG_L(0.5) * LAPSE_K_GPM * gph_m));
 }
 
-/* sealevel.iso_tv: isobaric_height without the checks: gph_m + the
+/* highsite.iso_tv: isobaric_height without the checks: gph_m + the
  * constant-lapse thickness from the barometer to iso_p_pa, gpm */
-TG_FLOAT tg__sealevel_iso_tv(TG_FLOAT p_pa, TG_FLOAT tv_k, TG_FLOAT gph_m, TG_FLOAT iso_p_pa)
+TG_FLOAT tg__highsite_iso_tv(TG_FLOAT p_pa, TG_FLOAT tv_k, TG_FLOAT gph_m, TG_FLOAT iso_p_pa)
 {
     const TG_FLOAT rg = TG_L(2.0) * TG_HALF_RG;   /* 2 * HALF_RG = Rd/g0, gpm per K */
     TG_FLOAT x = tg__layers_lnr(p_pa, iso_p_pa);
@@ -123,21 +125,21 @@ TG_FLOAT tg__sealevel_iso_tv(TG_FLOAT p_pa, TG_FLOAT tv_k, TG_FLOAT gph_m, TG_FL
 
 tg_status tg_standard_surface_pa(TG_FLOAT height_m, TG_FLOAT *out)
 {
-    static const TG_FLOAT SURFACES[TGPY_SEALEVEL_SURFACES_ROWS][TGPY_SEALEVEL_SURFACES_WIDTH] =
-        TGPY_SEALEVEL_SURFACES;
+    static const TG_FLOAT SURFACES[TGPY_HIGHSITE_SURFACES_ROWS][TGPY_HIGHSITE_SURFACES_WIDTH] =
+        TGPY_HIGHSITE_SURFACES;
     int i;
     TG_TRY(check_height(height_m));
     if (height_m < HIGH_STATION_M) {
         *out = TG_NAN;                /* None */
         return TG_OK;
     }
-    for (i = 0; i < TGPY_SEALEVEL_SURFACES_ROWS; i++) {
+    for (i = 0; i < TGPY_HIGHSITE_SURFACES_ROWS; i++) {
         if (height_m < SURFACES[i][0]) {
             *out = SURFACES[i][1];
             return TG_OK;
         }
     }
-    *out = TGPY_SEALEVEL_SURFACE_TOP_PA;
+    *out = TGPY_HIGHSITE_SURFACE_TOP_PA;
     return TG_OK;
 }
 
@@ -153,6 +155,6 @@ tg_status tg_isobaric_height(TG_FLOAT p_pa, TG_FLOAT t_k, TG_FLOAT height_m, TG_
     TG_TRY(tv_of(t_k, p_pa, rh_pct, ice, &tv));
     if (lat_deg != NULL)
         TG_TRY(tg_geopotential_height(h, *lat_deg, NULL, &h));
-    *out = tg__sealevel_iso_tv(p_pa, tv, h, iso_p_pa);
+    *out = tg__highsite_iso_tv(p_pa, tv, h, iso_p_pa);
     return TG_OK;
 }

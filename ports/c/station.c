@@ -1,7 +1,7 @@
 /* station.c -- twin of tinygeo/station.py: a fixed station or a moored buoy
  * (averages of the readings in clock-aligned slots, summed as deviations
  * from their first reading with Kahan compensation; the sea-level pressure,
- * QNH and the isobaric surface of tinygeo.sealevel; the 3-hour tendency and
+ * QNH of tinygeo.sealevel, the isobaric surface of tinygeo.highsite; the 3-hour tendency and
  * its characteristic, WMO code table 0200; the 24-hour change; dew point;
  * the checks, stuck sensors, gaps and the recovery runs). The contract, the
  * rules and their sources are documented in station.py.
@@ -731,7 +731,7 @@ static int close_avg(tg_station *s)
             td = NAN_;
     }
     s->dew_point_k = td;
-    /* sea level, QNH, isobaric surface (tinygeo.sealevel) */
+    /* sea level, QNH, isobaric surface (tinygeo.sealevel, tinygeo.highsite) */
     mslp = qnh = iso = NAN_;
     if (p == p && t == t) {
         tv = rh != rh ? t : tv_rh(t, p, rh, s->ice);
@@ -750,7 +750,7 @@ static int close_avg(tg_station *s)
         if (!(MSLP_LO_PA <= mslp && mslp <= MSLP_HI_PA))
             fl |= FL_MSLP_ODD;
         if (s->iso_p_pa == s->iso_p_pa)
-            iso = tg__sealevel_iso_tv(p, tv, s->gph, s->iso_p_pa);
+            iso = tg__highsite_iso_tv(p, tv, s->gph, s->iso_p_pa);
     }
     if (p == p) {
         /* tinygeo.qnh: the standard atmosphere's pressure at the pressure

@@ -158,7 +158,7 @@ TG_FLOAT tg__moisture_f(TG_FLOAT p_pa);                              /* moisture
 TG_FLOAT tg__moisture_tv_w(TG_FLOAT t_k, TG_FLOAT w);                /* moisture.tv_w */
 TG_FLOAT tg__moisture_td_rh(TG_FLOAT t_k, TG_FLOAT rh_pct, int ice); /* moisture.td_rh */
 TG_FLOAT tg__sealevel_msl_tv(TG_FLOAT p_pa, TG_FLOAT tv_k, TG_FLOAT gph_m);           /* sealevel.msl_tv */
-TG_FLOAT tg__sealevel_iso_tv(TG_FLOAT p_pa, TG_FLOAT tv_k, TG_FLOAT gph_m, TG_FLOAT iso_p_pa); /* sealevel.iso_tv */
+TG_FLOAT tg__highsite_iso_tv(TG_FLOAT p_pa, TG_FLOAT tv_k, TG_FLOAT gph_m, TG_FLOAT iso_p_pa); /* highsite.iso_tv */
 /* potential.series: the series at one latitude, D_1(s)..D_6(s) then
  * 1*D_1(s)..6*D_6(s) (Python: a tuple of 12 floats; C fills the caller's array) */
 #define TG_PC_N 12

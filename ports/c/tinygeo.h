@@ -151,8 +151,9 @@ tg_status tg_qfe(TG_FLOAT p_pa, TG_FLOAT barometer_above_field_m, TG_FLOAT t_k,
                  const TG_FLOAT *rh_pct, int ice, TG_FLOAT *out);
 tg_status tg_qnh(TG_FLOAT p_pa, TG_FLOAT elevation_m, TG_FLOAT *out);
 tg_status tg_indicated_altitude(TG_FLOAT p_pa, TG_FLOAT qnh_pa, TG_FLOAT *out);
+/* ---- highsite.py (in sealevel.c): Pa, gpm -------------------------------- */
 /* standard_surface_pa(height_m): *out the surface, Pa, NaN for None (below
- * sealevel.HIGH_STATION_M, 800 m) */
+ * highsite.HIGH_STATION_M, 800 m) */
 tg_status tg_standard_surface_pa(TG_FLOAT height_m, TG_FLOAT *out);
 /* isobaric_height(p_pa, t_k, height_m, iso_p_pa, rh_pct, lat_deg, ice): gpm */
 tg_status tg_isobaric_height(TG_FLOAT p_pa, TG_FLOAT t_k, TG_FLOAT height_m, TG_FLOAT iso_p_pa,

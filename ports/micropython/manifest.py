@@ -25,6 +25,7 @@ package(
         "constants.py",
         "errors.py",
         "gravity.py",
+        "highsite.py",
         "layers.py",
         "moisture.py",
         "potential.py",
