@@ -876,20 +876,26 @@ class Column:
             hint = temperature_hint(t)
             self._bad("temperature", 1, "t_k", quote(t_k), T_MIN_K, T_MAX_K, "K",
                       "; " + hint if hint else "")
+        # rh_pct, time_s, gps_m likewise: a float in range is taken as it is
+        # (no call); anything else goes through _num and the full tests
         rh = _NAN
         if rh_pct is not None:
-            rh = self._num(rh_pct, "rh_pct", "%")
-            if rh < 0 or rh > 100:     # floats are built only out here (rare)
-                tol = self.rh_tol_pct
-                if rh < -tol or rh > 100 + tol:
-                    self._bad("humidity", 2, quote(rh_pct), -tol, 100 + tol)
-        if time_s is not None:
+            rh = rh_pct
+            if rh.__class__ is not float or not 0 <= rh <= 100:
+                rh = self._num(rh_pct, "rh_pct", "%")
+                if rh < 0 or rh > 100:     # floats are built only out here (rare)
+                    tol = self.rh_tol_pct
+                    if rh < -tol or rh > 100 + tol:
+                        self._bad("humidity", 2, quote(rh_pct), -tol, 100 + tol)
+        if time_s is not None and (time_s.__class__ is not float
+                                   or not _TS_NEG <= time_s <= _TS_POS):
             if isinstance(time_s, bool) or not isinstance(time_s, int):
                 time_s = self._num(time_s, "time_s", "s")   # ints stay ints (see "Time")
             if not _TS_NEG <= time_s <= _TS_POS:
                 self._bad("time", 7, quote(time_s))
-        gps = None
-        if gps_m is not None:
+        gps = gps_m
+        if gps is not None and (gps.__class__ is not float or not GPS_MIN_M <= gps <= GPS_MAX_M
+                                or self.geoid_undulation_m is not None):
             gps = self._num(gps_m, "gps_m", "m", True)
             if gps == gps:
                 if self.geoid_undulation_m is not None:
@@ -1227,8 +1233,16 @@ class Column:
         self._n = self._b
         self._b = self._h
         self._h = n
-        self._accept(n, 1)
-        return self._tell(bits)
+        # _accept(n, 1) (its common case written out: no new height node)
+        # and _tell(bits), without calls
+        if n.nodes is None and self.count < COUNT_MAX:
+            self.count += 1
+            self._run = self._run_b = 0
+        else:
+            self._accept(n, 1)
+        if bits and self.on_event is not None:
+            self.on_event(self, bits)
+        return bits
 
     def _accept(self, n, counted):
         # bookkeeping of a new latest reading: its height node, the counter,
@@ -1536,15 +1550,45 @@ class Column:
             dt = r.dt
             if dt != dt:
                 dt = 1 if r.tsr is None else 0
+            # the common case of each step below is written out here (no
+            # call); its method does the rest
             if dt > 0:
-                self._track(g, dt)
+                if self._f_lo <= dt <= self._f_hi:
+                    # track: one step of _track's filter with its gains kept
+                    pred = self.smooth_gph_m + self._f_v
+                    res = g - pred
+                    self.smooth_gph_m = pred + self._f_a * res
+                    self._f_v = self._f_v + self._f_b * res
+                else:
+                    self._track(g, dt)
             ph = self.phase
             if ph <= PH_FLOAT:
                 if self._lvl < 16 and MANDATORY_PA[self._lvl] >= p:
                     bits = self._levels(self._e_p, p, self._e_g, g, self._e_t, t)
                 if self._tp_state != 3:
-                    bits |= self._layer_point(r, g, t, clk)
-            bits |= self._phase(r, ph, g, p, clk)
+                    if g >= self._tb_top and self._tb_n:
+                        bits |= self._layer_point(r, g, t, clk)    # a layer ends here
+                    else:
+                        # layer point: _layer_point within a layer (r joins its sums)
+                        if self._tb_n == 0:
+                            self._tb_g0 = g
+                            self._tb_c0 = clk
+                        if self._tb_n < COUNT_MAX:
+                            self._tb_n += 1
+                        self._tb_st += t
+                        self._tb_g1 = g
+                        self._tb_c1 = clk
+            hs = self.smooth_gph_m
+            if ph == PH_ASCENT and hs > self.max_gph_m and self._fl_lo <= hs <= self._fl_hi \
+                    and clk < self._fl_end:
+                # phase: _phase on a new highest point of the ascent within the
+                # float band before float_s (no event)
+                self.max_gph_m = hs
+                self._max_clk = clk
+                self._max_p = p
+                self._burst_n = 0
+            elif ph != PH_LANDED:        # (landed: _phase has nothing more to do)
+                bits |= self._phase(r, ph, g, p, clk)
         self._e_p = p
         self._e_g = g
         self._e_t = t

@@ -23,6 +23,14 @@
  *   5. confirm (Column._confirm) on a reading made final: track, phase,
  *      sinking, float_ref, land_ref, levels, layer_point, tropopause,
  *      clock_s, rel, sx (Column._track, Column._phase, ...).
+ * Python writes out the common case of some small steps at their call site
+ * (no call: a method call is a large part of a feed's time there): in
+ * Column._check the range test of a float rh_pct, time_s, gps_m (Column._num
+ * for the rest); in Column._advance accept's common case and tell; in
+ * Column._confirm one step of track with its gains kept, layer_point within
+ * a layer, phase on a new highest point of the ascent and nothing once
+ * landed. C keeps each step a function (static or TG_INLINE: the compiler
+ * inlines them); the results are the same.
  * Deliberate differences (each also where it happens):
  * - time stamps are tg_time (double) in every build, NaN for None; Python
  *   keeps an int stamp an int (see tinygeo.h and the notes at compute);
