@@ -2546,6 +2546,29 @@ def test_station_only_build_links(build):
     assert a.returncode == 0 and a.stdout == b.stdout and a.stdout.count("\nr ") > 100
 
 
+def test_dew_points_of_an_underflowing_humidity_or_vapour_pressure(build):
+    """dew_point_from_rh and dew_point with a humidity or vapour pressure whose
+    ratio underflows to 0 (rh_pct 5e-324 .. 1e-322 %, e_pa 5e-324 Pa): a
+    ModelRangeError (model_range) in Python and in both C builds, as for any
+    dew point below the model's 150 K (before: Python raised a bare 'math
+    domain error' for the humidity, C returned ok with a NaN)."""
+    cases = [("rh", "dew_point_from_rh", (283.15, rh)) for rh in (5e-324, 1e-323, 1e-322)] + \
+        [("rh ice", "dew_point_from_rh", (253.15, 5e-324, 1.0)),
+         ("e", "dew_point", (5e-324, 90000.0)), ("e ice", "dew_point", (5e-324, 90000.0, 1.0))]
+    for _, name, args in cases:
+        assert py_call(name, args)[0] == "model_range", (name, args)
+    got = _run_cases(build["double"], build["dir"], "underflow_double", cases)
+    assert [g[1] for g in got] == ["model_range"] * len(cases), got
+    # the float build: 5e-324 is 0 as a float32 (dry air: range); its own
+    # underflow is at float32's smallest subnormals (1.4e-45)
+    f32 = {5e-324: 1.4e-45, 1e-323: 2.8e-45, 1e-322: 1.4e-44}
+    cases = [(lab, name, tuple(f32.get(a, a) for a in args)) for lab, name, args in cases]
+    for _, name, args in cases:
+        assert py_call(name, args)[0] == "model_range", (name, args)
+    got = _run_cases(build["float"], build["dir"], "underflow_float", cases)
+    assert [g[1] for g in got] == ["model_range"] * len(cases), got
+
+
 def test_station_tendency_code_and_surfaces(build):
     """tg_tendency_code on the traces of station.tendency_code's docstring and
     random traces with missing values, and tg_standard_surface_pa at the

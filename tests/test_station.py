@@ -1472,3 +1472,18 @@ def test_fog_at_100_percent_is_not_a_stuck_humidity():
         for i in range(7200):
             s.feed(100000.0 + 0.01 * (i % 50), 285.0 + 0.001 * (i % 30), rh, i)
         assert bool(s.flags & S.FL_STUCK_RH) == stuck and (s.rh_pct == rh) != stuck
+
+
+def test_a_humidity_that_underflows_leaves_no_half_average():
+    # rh_pct 5e-324 % is in range for a reading (the sensor margin -3..103 %),
+    # but rh/100 underflows to 0: dew_point_from_rh refuses it as a dew point
+    # below the model (ModelRangeError, not a bare 'math domain error'), and
+    # the station completes its averages with a nan dew point instead of
+    # raising half-way through an average (constructed)
+    with pytest.raises(tinygeo.errors.ModelRangeError, match="rh_pct=5e-324"):
+        tinygeo.dew_point_from_rh(283.15, 5e-324)
+    s = Station(3.5, 54.2, average_s=60.0, stuck_readings=None)
+    for i in range(200):
+        s.feed(100000.0 + 0.01 * (i % 7), 285.0 + 0.001 * (i % 5), 5e-324, i)
+    assert s.averages == 3 and s.rejected == 0 and s.rh_pct == 5e-324
+    assert s.dew_point_k != s.dew_point_k and s.mslp_pa == s.mslp_pa

@@ -163,7 +163,8 @@ def td_rh(t_k, rh_pct, ice):
     # dew_point_from_rh without the checks (callers check t_k in 150..350 K
     # and rh_pct > 0); the result may lie outside 150..350 K (callers check)
     t = t_k - ZERO_C_K
-    y = math.log(rh_pct * 0.01)
+    x = rh_pct * 0.01
+    y = math.log(x) if x > 0.0 else -745.0     # underflow: as dew_point
     if ice and t <= 0.0:
         return _td(y + _AI * t / (_BI + t), ice)
     return _td(y + _AW * t / (_BW + t), ice)

@@ -96,13 +96,15 @@ tg_status tg_vapour_pressure_from_dew_point(TG_FLOAT td_k, TG_FLOAT p_pa, int ic
 
 tg_status tg_dew_point(TG_FLOAT e_pa, TG_FLOAT p_pa, int ice, TG_FLOAT *out)
 {
-    TG_FLOAT e, y, t, td;
+    TG_FLOAT e, x, y, t, td;
     TG_TRY(tg__check_p_pa(p_pa, P_MIN_PA, P_MAX_PA, TG_RANGE));
     TG_TRY(check_e(e_pa, p_pa));
     e = e_pa;
     if (e == TG_L(0.0))
         return tg__fail(TG_RANGE, out);      /* dry air has no dew point */
-    y = TG_LOG(e / (tg__moisture_f(p_pa) * E0_PA));
+    x = e / (tg__moisture_f(p_pa) * E0_PA);
+    /* x = 0: e/611.2 Pa underflows; ln of the smallest float, as dew_point */
+    y = x > TG_L(0.0) ? TG_LOG(x) : TG_L(-745.0);
     if (ice && y <= TG_L(0.0))
         t = BI * y / (AI - y);
     else
@@ -118,11 +120,13 @@ tg_status tg_dew_point(TG_FLOAT e_pa, TG_FLOAT p_pa, int ice, TG_FLOAT *out)
  * in 150..350 K and rh_pct > 0); the result may lie outside 150..350 K */
 TG_FLOAT tg__moisture_td_rh(TG_FLOAT t_k, TG_FLOAT rh_pct, int ice)
 {
-    TG_FLOAT t = t_k - TG_ZERO_C_K, y;
+    TG_FLOAT t = t_k - TG_ZERO_C_K, x = rh_pct * TG_L(0.01), y;
+    /* x = 0: the humidity underflows; ln of the smallest float, as td_rh */
+    y = x > TG_L(0.0) ? TG_LOG(x) : TG_L(-745.0);
     if (ice && t <= TG_L(0.0))
-        y = TG_LOG(rh_pct * TG_L(0.01)) + AI * t / (BI + t);
+        y = y + AI * t / (BI + t);
     else
-        y = TG_LOG(rh_pct * TG_L(0.01)) + AW * t / (BW + t);
+        y = y + AW * t / (BW + t);
     if (ice && y <= TG_L(0.0))
         return BI * y / (AI - y) + TG_ZERO_C_K;
     return BW * y / (AW - y) + TG_ZERO_C_K;
