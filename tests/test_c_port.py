@@ -2615,3 +2615,97 @@ def test_column_hostile_checkpoint_fields(build):
         refused += sum(1 for row in p[0] if row[0] == "checkpoint")
     # both outcomes occur: measured 810 refused of 1354
     assert 400 < refused < len(cases) - 400, refused
+
+
+# An application built with other layout settings than the library (the
+# report: library with the default ring, main.c with -DTG_STATION_RING=145:
+# it linked and tg_station_init wrote a 17 896-byte station into a 2 344-byte
+# one, SEGV under ASan). The structs sit in static buffers with 64 KiB of
+# canary bytes behind the caller's sizeof, so a write past the caller's
+# struct is counted instead of crashing; the last call puts a station on the
+# stack as the report's main.c did (a crash or an ASan report if it is written).
+_MISMATCH_MAIN = r"""
+#include <stdio.h>
+#include <string.h>
+#include "tinygeo.h"
+#define PAD 65536
+static union { tg_station st; unsigned char raw[sizeof(tg_station) + PAD]; } S;
+static union { tg_column col; unsigned char raw[sizeof(tg_column) + PAD]; } C;
+static union { tg_station_config cfg; unsigned char raw[sizeof(tg_station_config) + PAD]; } SC;
+static union { tg_column_config cfg; unsigned char raw[sizeof(tg_column_config) + PAD]; } CC;
+static unsigned char blob[PAD];
+
+static long spoiled(const unsigned char *raw, size_t size, size_t total)
+{
+    long n = 0;
+    size_t i;
+    for (i = size; i < total; i++)
+        n += raw[i] != 0xA5;
+    return n;
+}
+
+int main(void)
+{
+    tg_status ci, cb, si, sb, ss;
+    tg_station on_stack;
+    memset(&S, 0xA5, sizeof S);
+    memset(&C, 0xA5, sizeof C);
+    memset(&SC, 0xA5, sizeof SC);
+    memset(&CC, 0xA5, sizeof CC);
+    tg_column_config_defaults(&CC.cfg, 45.0);
+    tg_station_config_defaults(&SC.cfg, 100.0, 45.0);
+    SC.cfg.average_s = 600.0;
+    ci = tg_column_init(&C.col, &CC.cfg);
+    cb = tg_column_from_bytes(&C.col, blob, TG_CHECKPOINT_BYTES, NULL, NULL);
+    si = tg_station_init(&S.st, &SC.cfg);
+    sb = tg_station_from_bytes(&S.st, blob, 1619, NULL, NULL);
+    printf("column %s %s station %s %s spoiled %ld %ld %ld %ld\n", tg_status_name(ci),
+           tg_status_name(cb), tg_status_name(si), tg_status_name(sb),
+           spoiled(C.raw, sizeof(tg_column), sizeof C), spoiled(CC.raw, sizeof(tg_column_config), sizeof CC),
+           spoiled(S.raw, sizeof(tg_station), sizeof S),
+           spoiled(SC.raw, sizeof(tg_station_config), sizeof SC));
+    fflush(stdout);
+    ss = tg_station_init(&on_stack, &SC.cfg);
+    printf("stack %s\n", tg_status_name(ss));
+    return 0;
+}
+"""
+
+
+@pytest.mark.parametrize("lib_kind,app_flags", [
+    ("double", []),                                  # control: the same settings
+    ("double", ["-DTG_STATION_RING=145"]),           # the report
+    ("float", []),                                   # library float, application double
+    ("double", ["-DTG_FLOAT=float"]),                # library double, application float
+    ("asan", ["-DTG_STATION_RING=145"]),             # the report under ASan/UBSan
+])
+def test_layout_mismatch_is_refused(build, tmp_path, lib_kind, app_flags):
+    """An application compiled with another TG_STATION_RING or TG_FLOAT than
+    the library links (the names are the same) but tg_station_init,
+    tg_column_init and the from_bytes functions return TG_BUILD ("build") and
+    write nothing: no byte behind the caller's struct or config changes, and a
+    station on the stack survives (tinygeo.h, "Build settings"; before, the
+    library wrote its own, larger struct: canary bytes spoiled, SEGV under
+    ASan). With the same settings the same program initialises both."""
+    gcc = shutil.which("gcc")
+    if lib_kind == "asan" and build["asan"] is None:
+        if ("sanitize" in build["asan_err"] or "asan" in build["asan_err"]) and not IN_CI:
+            pytest.skip("this gcc has no sanitizer runtime: " + build["asan_err"][-200:])
+        pytest.fail("sanitizer build failed: " + build["asan_err"])
+    src = tmp_path / "main.c"
+    src.write_text(_MISMATCH_MAIN)
+    exe = str(tmp_path / "app")
+    lib = [os.path.join(build["dir"], lib_kind, os.path.basename(f)[:-2] + ".o") for f in _sources()]
+    flags = BUILD_FLAGS["asan"] if lib_kind == "asan" else CFLAGS
+    r = subprocess.run([gcc] + flags + app_flags + ["-I", PORT, "-o", exe, str(src)] + lib + ["-lm"],
+                       capture_output=True, text=True, timeout=120)
+    assert r.returncode == 0, r.stderr     # the mismatch compiles and links (the hazard)
+    run = subprocess.run([exe], capture_output=True, text=True, timeout=60)
+    assert run.returncode == 0, (run.returncode, run.stdout, run.stderr[-2000:])
+    assert run.stderr == ""
+    if not app_flags and lib_kind == "double":
+        assert run.stdout == "column ok checkpoint station ok checkpoint spoiled 0 0 0 0\nstack ok\n"
+    elif "-DTG_FLOAT=float" in app_flags or lib_kind == "float":
+        assert run.stdout == "column build build station build build spoiled 0 0 0 0\nstack build\n"
+    else:   # another ring: the column's layout is the same, the station's is not
+        assert run.stdout == "column ok checkpoint station build build spoiled 0 0 0 0\nstack build\n"

@@ -118,8 +118,12 @@ typedef char tg__recoff_fits[(6 * sizeof(tg_rec) <= 65535u) ? 1 : -1];
 typedef char tg__settings_35[TGPY_COLUMN_SET_N == 35 ? 1 : -1];
 #define DEF(name) TGPY_COLUMN_SET_##name##_DEF
 
-void tg_column_config_defaults(tg_column_config *cfg, TG_FLOAT lat_deg)
+/* tg_column_config_defaults (a macro of tinygeo.h passing the caller's
+ * sizeof(tg_column_config)): nothing written for another size */
+void tg_column_config_defaults_checked(tg_column_config *cfg, TG_FLOAT lat_deg, size_t cfg_size)
 {
+    if (cfg_size != sizeof(tg_column_config))
+        return;                           /* built with another TG_FLOAT: init says TG_BUILD */
     cfg->lat_deg = lat_deg;
     cfg->start_height_m = DEF(START_HEIGHT_M);
     cfg->anchor_p_pa = DEF(ANCHOR_P_PA);
@@ -314,9 +318,15 @@ static tg_status init_checked(tg_column *col, const tg_column_config *cfg, TG_FL
     return TG_OK;
 }
 
-tg_status tg_column_init(tg_column *col, const tg_column_config *cfg)
+/* tg_column_init (a macro of tinygeo.h passing the caller's sizes; see
+ * "Build settings" there): on a difference nothing is read or written */
+tg_status tg_column_init_checked(tg_column *col, const tg_column_config *cfg, size_t col_size,
+                                 size_t cfg_size, size_t float_size)
 {
     TG_FLOAT dummy;
+    if (col_size != sizeof(tg_column) || cfg_size != sizeof(tg_column_config)
+        || float_size != sizeof(TG_FLOAT))
+        return TG_BUILD;                  /* built with another TG_FLOAT */
     return init_checked(col, cfg, &dummy);
 }
 
@@ -1747,8 +1757,9 @@ tg_status tg_column_to_bytes(tg_column *col, unsigned char *buf, size_t size)
 
 /* Column.from_bytes: the same refusals (checkpoint.unpack, check_finite, the
  * constructor's checks, check_values with _RESTORE_COL and _RESTORE_REC) */
-tg_status tg_column_from_bytes(tg_column *col, const unsigned char *blob, size_t n,
-                               tg_column_event_fn on_event, void *on_event_ctx)
+tg_status tg_column_from_bytes_checked(tg_column *col, const unsigned char *blob, size_t n,
+                                       tg_column_event_fn on_event, void *on_event_ctx,
+                                       size_t col_size, size_t float_size)
 {
     double f[N_F];
     int32_t iv[N_I];
@@ -1760,6 +1771,8 @@ tg_status tg_column_from_bytes(tg_column *col, const unsigned char *blob, size_t
     uint32_t length;
     double t0, v;
     int i, j, k, r;
+    if (col_size != sizeof(tg_column) || float_size != sizeof(TG_FLOAT))
+        return TG_BUILD;                  /* built with another TG_FLOAT (tinygeo.h, "Build settings") */
     if (blob == NULL || n < HEAD_LEN + 4)
         return TG_CHECKPOINT;                                  /* too short */
     if (memcmp(blob, TGPY_COLUMN__MAGIC, 4) != 0)

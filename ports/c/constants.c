@@ -15,6 +15,7 @@ const char *tg_status_name(tg_status st)
     case TG_READING: return "reading";
     case TG_STATE: return "state";
     case TG_CHECKPOINT: return "checkpoint";
+    case TG_BUILD: return "build";
     }
     return "unknown";
 }

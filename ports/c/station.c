@@ -132,8 +132,13 @@ static double py_floordiv(double x, double w)
 /* ------------------------------------------------------------ settings */
 typedef char tg__station_settings_19[TGPY_STATION_SET_N == 19 ? 1 : -1];
 
-void tg_station_config_defaults(tg_station_config *cfg, TG_FLOAT height_m, TG_FLOAT lat_deg)
+/* tg_station_config_defaults (a macro of tinygeo.h passing the caller's
+ * sizeof(tg_station_config)): nothing written for another size */
+void tg_station_config_defaults_checked(tg_station_config *cfg, TG_FLOAT height_m, TG_FLOAT lat_deg,
+                                        size_t cfg_size)
 {
+    if (cfg_size != sizeof(tg_station_config))
+        return;                           /* built with another TG_FLOAT: init says TG_BUILD */
     cfg->height_m = height_m;
     cfg->lat_deg = lat_deg;
     cfg->average_s = SET(AVERAGE_S_DEF);
@@ -306,10 +311,22 @@ static void reset(tg_station *s)
     s->runts = 0;                     /* readings in a row with the same stamp */
 }
 
-tg_status tg_station_init(tg_station *st, const tg_station_config *cfg)
+/* tinygeo.h, "Build settings": the caller's struct, config, TG_FLOAT and
+ * ring against this file's; on a difference nothing is read or written */
+static int same_build(size_t st_size, size_t cfg_size, size_t float_size, long ring)
+{
+    return st_size == sizeof(tg_station) && cfg_size == sizeof(tg_station_config)
+        && float_size == sizeof(TG_FLOAT) && ring == (long)TG_STATION_RING;
+}
+
+/* tg_station_init (a macro of tinygeo.h passing the caller's sizes) */
+tg_status tg_station_init_checked(tg_station *st, const tg_station_config *cfg, size_t st_size,
+                                  size_t cfg_size, size_t float_size, long ring)
 {
     derived d;
     int32_t i;
+    if (!same_build(st_size, cfg_size, float_size, ring))
+        return TG_BUILD;                  /* built with another TG_FLOAT or TG_STATION_RING */
     if (check_config(cfg, &d) != TG_OK)
         return TG_RANGE;
     apply_config(st, cfg, &d);
@@ -1018,8 +1035,9 @@ static int too_big(double v)
  * _RESTORE, the sums tied to their counts, the clock's consistency); every
  * check runs on the blob before anything is written, so st is untouched on
  * TG_CHECKPOINT */
-tg_status tg_station_from_bytes(tg_station *st, const unsigned char *blob, size_t n,
-                                tg_station_event_fn on_event, void *on_event_ctx)
+tg_status tg_station_from_bytes_checked(tg_station *st, const unsigned char *blob, size_t n,
+                                        tg_station_event_fn on_event, void *on_event_ctx,
+                                        size_t st_size, size_t float_size, long ring)
 {
     const unsigned char *fb, *ib;
     tg_station_config cfg;
@@ -1029,6 +1047,8 @@ tg_status tg_station_from_bytes(tg_station *st, const unsigned char *blob, size_
     int32_t nf, want, i, j, iv[N_I], count, k, kring, klast, run;
     uint32_t length;
     size_t nfz;
+    if (!same_build(st_size, sizeof(tg_station_config), float_size, ring))
+        return TG_BUILD;                  /* built with another TG_FLOAT or TG_STATION_RING */
     if (blob == NULL || n < HEAD_LEN + 4)
         return TG_CHECKPOINT;                                  /* too short */
     if (memcmp(blob, TGPY_STATION__MAGIC, 4) != 0)

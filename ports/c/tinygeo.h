@@ -29,7 +29,11 @@
  *   TG_STATE        a column method called in a state that does not allow it
  *                   (Python: TinygeoError from reanchor_gps);
  *   TG_CHECKPOINT   a checkpoint blob is truncated, corrupted, of another
- *                   version or holds impossible settings (CheckpointError).
+ *                   version or holds impossible settings (CheckpointError);
+ *   TG_BUILD        (C only) the caller was compiled with another TG_FLOAT or
+ *                   TG_STATION_RING than the library: tg_column_init,
+ *                   tg_station_init and the from_bytes functions refuse and
+ *                   write nothing (see "Build settings" below).
  * On any status other than TG_OK, *out is set to NaN (never left holding a
  * stale value) and no other state changes. tg_status_name() gives a short
  * word for logs. Arguments are checked in the same order as in Python, so
@@ -42,6 +46,23 @@
  * Booleans (ice) are ints, 0 or 1.
  *
  * No function allocates memory, reads a clock or keeps hidden state.
+ *
+ * Build settings
+ * --------------
+ * TG_FLOAT and TG_STATION_RING change the layout of tg_column and
+ * tg_station: every translation unit (the library's .c files and every file
+ * of the application that includes this header) must be built with the same
+ * values. Otherwise the caller's struct is smaller or larger than the one the
+ * library fills, and the library would write past it. So tg_column_init,
+ * tg_station_init, tg_column_from_bytes and tg_station_from_bytes are macros
+ * that pass the caller's sizeof of the struct and of its config, sizeof
+ * (TG_FLOAT) and TG_STATION_RING to the library's *_checked function, which
+ * compares them with its own and returns TG_BUILD, writing nothing, when any
+ * differs. Check their status: a struct they refused is not initialised.
+ * tg_column_config_defaults and tg_station_config_defaults are macros too:
+ * for a config of another size they write nothing (the init then refuses).
+ * (The free functions taking TG_FLOAT are not checked: with another TG_FLOAT
+ * their arguments and results are garbage; build everything the same way.)
  */
 #ifndef TINYGEO_H
 #define TINYGEO_H
@@ -64,10 +85,12 @@ typedef enum tg_status {
     TG_ELLIPSOID = 3,
     TG_READING = 4,
     TG_STATE = 5,
-    TG_CHECKPOINT = 6
+    TG_CHECKPOINT = 6,
+    TG_BUILD = 7
 } tg_status;
 
-/* "ok", "range", "model_range", "ellipsoid", "reading", "state", "checkpoint" */
+/* "ok", "range", "model_range", "ellipsoid", "reading", "state", "checkpoint",
+ * "build" */
 const char *tg_status_name(tg_status st);
 
 /* ---- constants.py ------------------------------------------------------ */
@@ -315,9 +338,19 @@ typedef struct tg_column {
     TG_FLOAT run_f;                   /* Python: _run_f */
 } tg_column;
 
-void tg_column_config_defaults(tg_column_config *cfg, TG_FLOAT lat_deg);
-/* Column(...): TG_RANGE for a bad setting (col untouched). */
-tg_status tg_column_init(tg_column *col, const tg_column_config *cfg);
+/* a macro: with another TG_FLOAT than the library's it writes nothing (and
+ * tg_column_init then returns TG_BUILD) */
+void tg_column_config_defaults_checked(tg_column_config *cfg, TG_FLOAT lat_deg, size_t cfg_size);
+#define tg_column_config_defaults(cfg, lat_deg) \
+    tg_column_config_defaults_checked((cfg), (lat_deg), sizeof(tg_column_config))
+/* Column(...): TG_RANGE for a bad setting (col untouched); TG_BUILD (col
+ * untouched) if the caller's TG_FLOAT differs from the library's. A macro:
+ * the real function is tg_column_init_checked. */
+tg_status tg_column_init_checked(tg_column *col, const tg_column_config *cfg, size_t col_size,
+                                 size_t cfg_size, size_t float_size);
+#define tg_column_init(col, cfg) \
+    tg_column_init_checked((col), (cfg), sizeof(tg_column), sizeof(tg_column_config), \
+                           sizeof(TG_FLOAT))
 /* col.feed(p_pa, t_k, rh_pct, time_s, gps_m): rh_pct NULL for None;
  * time_s NaN for None (an infinite time_s is rejected as 'number'); gps_m
  * NULL for None, pointing to NaN for "no fix". A time_s beyond +-2^62 is
@@ -366,9 +399,13 @@ TG_FLOAT tg_column_sigma_m(const tg_column *col);
  * smaller); like Python it sets col->t0_int, t0_hi, t0_lo on the way */
 tg_status tg_column_to_bytes(tg_column *col, unsigned char *buf, size_t size);
 /* Column.from_bytes(blob, on_event): TG_CHECKPOINT and col untouched for a
- * blob Python refuses */
-tg_status tg_column_from_bytes(tg_column *col, const unsigned char *blob, size_t n,
-                               tg_column_event_fn on_event, void *on_event_ctx);
+ * blob Python refuses; TG_BUILD as tg_column_init (a macro too) */
+tg_status tg_column_from_bytes_checked(tg_column *col, const unsigned char *blob, size_t n,
+                                       tg_column_event_fn on_event, void *on_event_ctx,
+                                       size_t col_size, size_t float_size);
+#define tg_column_from_bytes(col, blob, n, on_event, on_event_ctx) \
+    tg_column_from_bytes_checked((col), (blob), (n), (on_event), (on_event_ctx), \
+                                 sizeof(tg_column), sizeof(TG_FLOAT))
 
 /* ---- station.py: the Station (station.c) -------------------------------- */
 /* Event bits and flags: the values of station.py (EV_*, FL_*; station.c stops
@@ -464,10 +501,21 @@ typedef struct tg_station {
     TG_FLOAT ring_t[TG_STATION_RING12];
 } tg_station;
 
-void tg_station_config_defaults(tg_station_config *cfg, TG_FLOAT height_m, TG_FLOAT lat_deg);
+/* a macro: with another TG_FLOAT than the library's it writes nothing (and
+ * tg_station_init then returns TG_BUILD) */
+void tg_station_config_defaults_checked(tg_station_config *cfg, TG_FLOAT height_m, TG_FLOAT lat_deg,
+                                        size_t cfg_size);
+#define tg_station_config_defaults(cfg, height_m, lat_deg) \
+    tg_station_config_defaults_checked((cfg), (height_m), (lat_deg), sizeof(tg_station_config))
 /* Station(...): TG_RANGE for a bad setting, or an average_s whose ring is
- * longer than TG_STATION_RING (st untouched) */
-tg_status tg_station_init(tg_station *st, const tg_station_config *cfg);
+ * longer than TG_STATION_RING (st untouched); TG_BUILD (st untouched) if the
+ * caller's TG_FLOAT or TG_STATION_RING differs from the library's. A macro:
+ * the real function is tg_station_init_checked. */
+tg_status tg_station_init_checked(tg_station *st, const tg_station_config *cfg, size_t st_size,
+                                  size_t cfg_size, size_t float_size, long ring);
+#define tg_station_init(st, cfg) \
+    tg_station_init_checked((st), (cfg), sizeof(tg_station), sizeof(tg_station_config), \
+                            sizeof(TG_FLOAT), (long)(TG_STATION_RING))
 /* st.feed(p_pa, t_k, rh_pct, time_s): rh_pct NULL for None, time_s NaN for
  * None ('time'; Python rejects a nan stamp as 'number'), one of magnitude
  * 2^62 s or more (or infinite) is 'number'. TG_OK: *bits the event bits. TG_READING: rejected, st->reason
@@ -489,9 +537,14 @@ size_t tg_station_checkpoint_bytes(const tg_station *st);
 /* st.to_bytes(): writes tg_station_checkpoint_bytes(st) bytes (TG_RANGE if size is smaller) */
 tg_status tg_station_to_bytes(const tg_station *st, unsigned char *buf, size_t size);
 /* Station.from_bytes(blob, on_event): TG_CHECKPOINT and st untouched for a
- * blob Python refuses (and for a ring longer than TG_STATION_RING) */
-tg_status tg_station_from_bytes(tg_station *st, const unsigned char *blob, size_t n,
-                                tg_station_event_fn on_event, void *on_event_ctx);
+ * blob Python refuses (and for a ring longer than TG_STATION_RING); TG_BUILD
+ * as tg_station_init (a macro too) */
+tg_status tg_station_from_bytes_checked(tg_station *st, const unsigned char *blob, size_t n,
+                                        tg_station_event_fn on_event, void *on_event_ctx,
+                                        size_t st_size, size_t float_size, long ring);
+#define tg_station_from_bytes(st, blob, n, on_event, on_event_ctx) \
+    tg_station_from_bytes_checked((st), (blob), (n), (on_event), (on_event_ctx), \
+                                  sizeof(tg_station), sizeof(TG_FLOAT), (long)(TG_STATION_RING))
 
 /* ---- record.py: the table of per-reading results (record.c) -------------- */
 /* record.MAGIC ("# tinygeo table 1") and record.HEADER (the column names,
