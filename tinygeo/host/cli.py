@@ -401,9 +401,10 @@ def build_parser():
                     "Rows whose flags differ only because the table prints p_pa to 0.01 Pa "
                     "(FL_SAME_P on the host where the device had FL_DESCENT or nothing, the "
                     "printed pressure repeated) are counted as 'rounded', not failed. A "
-                    "logger that resumed from a checkpoint writes '#: resume line=N' "
+                    "logger that resumed from a checkpoint writes '#: resume line=N whole' "
                     "(tinygeo.record.resume_line): the earlier rows from line N on, and a row "
-                    "torn by the power cut, are dropped. With --log the host replays the raw "
+                    "torn by the power cut, are dropped; a resume record torn while it was "
+                    "written (no final 'whole') voids nothing and is reported. With --log the host replays the raw "
                     "log instead and matches rows by line number (or time_s); readings on one "
                     "side only fail, rows missing at the end too.",
         epilog=epilog, formatter_class=argparse.RawDescriptionHelpFormatter)

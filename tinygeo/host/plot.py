@@ -506,9 +506,20 @@ def _station_notes(data, name, stderr):
     # what tinygeo plot says about a station table's rows on stderr
     rd = data.reader
     if rd.voided or rd.torn:
-        stderr.write("tinygeo plot: note: %s: %d rows voided by %d resume records (written "
-                     "again after a power cut) and %d torn rows left out\n"
-                     % (name, rd.voided, rd.resumes, rd.torn))
+        stderr.write("tinygeo plot: note: %s: %s voided by %s (written again after a power "
+                     "cut) and %s left out\n"
+                     % (name, _count(rd.voided, "row"), _count(rd.resumes, "resume record"),
+                        _count(rd.torn, "torn row")))
+    if rd.torn_resumes:
+        stderr.write("tinygeo plot: note: %s: %s torn by a power cut while %s written (the "
+                     "first at table line %d: no final word 'whole'), ignored: %s no row\n"
+                     % (name, _count(rd.torn_resumes, "resume record"),
+                        "it was" if rd.torn_resumes == 1 else "they were", rd.first_torn_resume,
+                        "it voids" if rd.torn_resumes == 1 else "they void"))
+    if rd.lost:
+        stderr.write("tinygeo plot: note: %s: %s lost: the resume record at table line %d "
+                     "counts more rows before it than the table holds\n"
+                     % (name, _count(rd.lost, "row"), rd.first_lost))
     if data.repeated or data.backwards:
         t0, t1 = rd.back_times
         stderr.write("tinygeo plot: note: %s: %d rows repeat the time_s of the row before and %d "
@@ -517,6 +528,11 @@ def _station_notes(data, name, stderr):
                      "restart); the lines break there and the place is marked\n"
                      % (name, data.repeated, data.backwards, rd.first_backwards,
                         _stamp(t1, data.epoch), _stamp(t0, data.epoch)))
+
+
+def _count(n, word):
+    # "1 row", "2 rows"
+    return "%d %s%s" % (n, word, "" if n == 1 else "s")
 
 
 def _stamp(time_s, epoch):
