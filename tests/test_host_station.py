@@ -746,6 +746,35 @@ def test_buoy_help_says_what_the_height_is(tmp_path):
     assert "is refused (exit status 1)" in text
 
 
+HEIGHT_WORDS = ("above mean sea level (a sea buoy: above the water line; a lake or river: the "
+                "water's elevation above sea level plus the mast)")
+
+
+def test_the_barometer_height_is_explained_alike(tmp_path):
+    # README, 'tinygeo station --help' and buoy.py --help (tested above) say
+    # what the height is measured from, for a lake as for the sea
+    rc, out, _ = main(["station", "--help"])
+    assert rc == 0 and HEIGHT_WORDS in " ".join(out.split()), out
+    doc = " ".join((ROOT / "README.md").read_text().split())
+    assert HEIGHT_WORDS in doc
+
+
+def test_readme_steady_pa_sentence_matches_the_station_docstring():
+    # tinygeo/station.py: 'same' when |D| < 5 Pa whatever steady_pa is;
+    # steady_pa decides the shape parts (steady halves, peaks, troughs)
+    import tinygeo.station as S
+    assert "same when |D| < 5 Pa" in " ".join(S.__doc__.split())
+    doc = " ".join((ROOT / "README.md").read_text().split())
+    i = doc.index("`steady_pa` (`--steady`, 10 Pa)")
+    sentence = doc[i:i + 400]
+    assert "governs the shape parts" in sentence and '"same" is fixed (within 5 Pa' in sentence
+    assert "sets the change taken as steady" not in doc
+    # 'tinygeo plot' counts in words: one record, not 'records'
+    from tinygeo.host import plot
+    assert plot._count(1, "resume record") == "1 resume record"
+    assert plot._count(2, "row") == "2 rows"
+
+
 def test_buoy_readme_command_keeps_checkpoints_out_of_the_repository():
     # the README's command puts the slot files in a temporary directory and
     # says how to start over; the default name is ignored by git

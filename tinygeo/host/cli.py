@@ -221,8 +221,9 @@ def _add_station(p):
     from tinygeo.host.options import station_default as d
     g = p.add_argument_group("station")
     g.add_argument("--height", type=float, metavar="M",
-                   help="the barometer's height above mean sea level, m (a buoy: above the water "
-                        "line); required (default: height_m= in the log's comments)")
+                   help="the barometer's height, m, above mean sea level (a sea buoy: above the "
+                        "water line; a lake or river: the water's elevation above sea level plus "
+                        "the mast); required (default: height_m= in the log's comments)")
     g.add_argument("--lat", type=float, metavar="DEG",
                    help="latitude, degrees north (default: lat_deg= in the log's comments)")
     g.add_argument("--average", type=float, metavar="S",
@@ -266,7 +267,9 @@ def _add_station(p):
                         "other are followed after this many (default %d)" % d("takeover_readings"))
     q.add_argument("--steady", type=float, metavar="PA",
                    help="a part of the 3-hour trace within this change is steady, for the "
-                        "characteristic, Pa (default %g)" % d("steady_pa"))
+                        "characteristic's shape (halves, peaks, troughs), Pa (default %g); the "
+                        "net change counts as 'same' within 5 Pa whatever this is"
+                        % d("steady_pa"))
     q.add_argument("--max-gap", type=float, metavar="S",
                    help="the longest gap inside the 3 hours for which the characteristic is "
                         "still given, s (default %g)" % d("max_gap_s"))

@@ -204,6 +204,10 @@ def draw(pts, setup, records, out_path, title, dpi, origin=None, fmt=None):
         ax_d = ax_ht.twinx()
         ax_d.plot([tx(r[0]) for r in gps], [1000.0 * (r[1] - r[7]) for r in gps], ".",
                   color="tab:orange", ms=0.8, alpha=0.35)
+        # the twin axis's points get their entry in the height legend: the
+        # cloud drawn is the difference, not the GPS height itself
+        ax_ht.plot([], [], ".", color="tab:orange", ms=4.0,
+                   label="barometric minus GPS (m, right scale)")
         ax_d.set_ylabel("barometric minus GPS (m)", color="tab:orange", fontsize=8)
         ax_d.tick_params(axis="y", labelsize=7, colors="tab:orange")
     for part, key, label in ((up, "up", "ascent"), (down, "down", "after burst")):
