@@ -1545,7 +1545,7 @@ def test_record_rows_identical(build):
         if s == 1:
             # a logger resuming: the column restored from a checkpoint half-way
             base = sounding_commands(step=100.0)
-            k = len(base) // 2
+            k = half = len(base) // 2
             blob = run_py_column(base[:k] + [("save", ())])[2][-1]
             cmds = base[:k] + [("load", (blob,))] + base[k:]
         crec = run_c_column(build["column_double"], cmds, ["-r"])[3]
@@ -1580,6 +1580,11 @@ def test_record_rows_identical(build):
                 resumed += 1
         prec.append(record.end_line(rows, col))
         assert crec == prec, next((a, b) for a, b in zip(crec, prec) if a != b)
+        if s == 1:
+            # the resume record as tinygeo/record.py documents it: the next
+            # reading's number, then the word that says it is whole
+            assert [x for x in crec if x.startswith("#: resume")] == \
+                ["#: resume line=%d whole" % sum(1 for c in base[:half] if c[0] == "feed")]
         n += len(prec)
     print("record rows: %d lines byte-identical" % n)
     assert n > 3000 and resumed == 1

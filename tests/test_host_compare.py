@@ -206,6 +206,31 @@ def test_a_resume_record_drops_the_rows_taken_again(flight, tmp_path):
     o, e = io.StringIO(), io.StringIO()
     rc = cli.main(["compare", "-"], stdin=io.StringIO("".join(text)), stdout=o, stderr=e)
     assert rc == 0 and "result: PASS" in o.getvalue(), o.getvalue() + e.getvalue()
+    # a resume record torn while it was written (no final 'whole', as
+    # '#: resume line=3' left from line=3000) voids nothing: with the whole
+    # record the next start wrote after it, the result is the same
+    for torn in ("#: resume line=%d" % (line_k // 10), "#: resume li", "#: res"):
+        cut = head + rows[:k + 30] + [torn, "\n", "\n", record.resume_line(line_k) + "\n"] + \
+            rows[k:] + [record.END_PREFIX + "rows=%d\n" % n]
+        dev.write_text("".join(cut))
+        rc, out, _ = main(["compare", dev])
+        assert rc == 0 and "result: PASS" in out, out
+        assert report(out)["readings compared"] == n
+        assert "rows it took again, earlier copies dropped: 30" in out
+        assert "resume records torn by a power cut while written (no final word 'whole'), " \
+               "ignored: 1 (the first at table line %d)" % (len(head) + k + 31) in out, out
+    # a whole record that is malformed makes the table unreadable
+    for bad in ("line=-3", "line=3_0", "line=\u0663", "line=3 line=3", "rows=3"):
+        dev.write_text("".join(head + rows[:k] + ["\n", record.RESUME_PREFIX + bad + " whole\n"]
+                               + rows[k:]), encoding="utf-8")
+        rc, out, err = main(["compare", dev])
+        assert rc == 2 and "unreadable resume record" in err, (bad, err)
+    # a last row without a line end in a table without an end record is torn,
+    # even when it reads (a cut inside its last field)
+    dev.write_text("".join(head + rows[:k]).rstrip("\n")[:-1])
+    rc, out, _ = main(["compare", dev])
+    assert "last row torn (the table was cut short), dropped: 1" in out, out
+    assert report(out)["readings compared"] == k - 1
     # without the record the repeated rows are named as such
     dup = tmp_path / "dup.tsv"
     dup.write_text("".join(head + rows[:k + 30] + rows[k:] +

@@ -543,7 +543,7 @@ def test_buoy_resume_voids_the_rows_written_after_its_checkpoint(tmp_path, buoy)
     out = _buoy_run(MICROPYTHON, tmp_path, "--table", path)
     text = path.read_text()
     assert ("\n" + stationrecord.resume_line(kept) + "\n") in text
-    assert "#: resume rows=%d\n" % kept in text
+    assert "#: resume rows=%d whole\n" % kept in text
     rd, rows = read_table(text, "dev")
     assert (rd.voided, rd.torn, rd.resumes, rd.backwards) == (2, 1, 1, 0)
     assert rd.end == buoy["reader"].end and rd.end["rows"] == "142"
@@ -647,6 +647,134 @@ def test_buoy_height_and_latitude_options(tmp_path):
         assert p.returncode == 1 and words in p.stderr and "Traceback" not in p.stderr, p.stderr
 
 
+def _buoy_fails(exe, cwd, args):
+    # run buoy.py expecting a refusal: (exit status, stdout, stderr)
+    import subprocess
+    p = subprocess.run([exe, str(BUOY)] + [str(a) for a in args], capture_output=True, text=True,
+                       env=dict(os.environ, PYTHONPATH=str(ROOT), MICROPYPATH=str(ROOT)),
+                       cwd=str(cwd), timeout=120)
+    return p.returncode, p.stdout, p.stderr
+
+
+def test_buoy_table_rows_ignores_a_torn_resume_record(tmp_path):
+    # '#: resume ro' (a cut while the record was written) raised IndexError
+    # in table_rows on every restart; a torn record voids nothing, a whole
+    # one counts (constructed tables)
+    import importlib.util
+    spec = importlib.util.spec_from_file_location("tinygeo_buoy_rows", str(BUOY))
+    mod = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(mod)
+    path = tmp_path / "t.tsv"
+    body = _HEAD + _r(600) + "\n" + _r(1200) + "\n" + _r(1800) + "\n"
+    for torn in ("#: resume ro", "#: resume rows=1", "#: resume rows=1 wh", "#: resume rows=-1 whole",
+                 "#: resume rows=1_0 whole"):
+        path.write_text(body + "\n" + torn + "\n")
+        assert mod.table_rows(str(path)) == 3, torn
+    path.write_text(body + "\n" + stationrecord.resume_line(1) + "\n" + _r(1200) + "\n")
+    assert mod.table_rows(str(path)) == 2
+
+
+def test_buoy_resumes_after_a_torn_resume_record(tmp_path, buoy):
+    # the table ends in a resume record torn on the way out ('#: resume ro',
+    # as /tmp/attack3/tornres): the next start goes on, and the host reads
+    # the rows of the uninterrupted run (CPython: the same script)
+    path = tmp_path / "t.tsv"
+    _buoy_run(sys.executable, tmp_path, "--table", path, "--stop-after", "4000")
+    with open(path, "a") as f:
+        f.write("\n#: resume ro")
+    out = _buoy_run(sys.executable, tmp_path, "--table", path)
+    assert out.startswith("resuming from ")
+    rd, rows = read_table(path.read_text(), "dev")
+    assert (rd.torn_resumes, rd.resumes, rd.voided, rd.lost) == (1, 1, 0, 0)
+    assert [r.time_s for r in rows] == [r.time_s for r in buoy["rows"]]
+
+
+def test_buoy_resume_refuses_other_settings_and_another_log(tmp_path):
+    # a resumed run keeps its checkpoint's station: a different --height or
+    # --lat is refused (exit status 1) with the files to delete, and so is a
+    # log whose line at the checkpoint's reading differs or that ends before
+    path = tmp_path / "t.tsv"
+    ck = tmp_path / "b.ckpt"
+    base = ["--log", BUOY_LOG, "--checkpoint", ck, "--table", path]
+    _buoy_run(sys.executable, tmp_path, "--table", path, "--stop-after", "700")
+    before = path.read_text()
+    for extra, words in ((["--height", "12"], "--height 12.0: the checkpoint "),
+                         (["--lat", "-33.9"], "--lat -33.9: the checkpoint ")):
+        rc, out, err = _buoy_fails(sys.executable, tmp_path, base + extra)
+        assert rc == 1 and words in err and "to start over" in err and "Traceback" not in err, err
+        assert "b.ckpt.0 and " in err and out == "" and path.read_text() == before
+    import importlib.util
+    spec = importlib.util.spec_from_file_location("tinygeo_buoy_mark", str(BUOY))
+    mod = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(mod)
+    index = mod.Slots(str(ck)).load()[0]        # readings taken at the checkpoint
+    assert 600 < index <= 700
+    lines = BUOY_LOG.read_text().splitlines()
+    data = [i for i, x in enumerate(lines) if x[:1].isdigit()]
+    other = list(lines)
+    w = other[data[index - 1]].split(",")      # the last reading fed before the checkpoint
+    other[data[index - 1]] = ",".join([w[0], "1000.00"] + w[2:])
+    for name, text in (("other.csv", other), ("short.csv", lines[:data[index - 2]])):
+        log = tmp_path / name
+        log.write_text("\n".join(text) + "\n")
+        rc, out, err = _buoy_fails(sys.executable, tmp_path, ["--log", log, "--checkpoint", ck,
+                                                              "--table", path])
+        assert rc == 1 and "not the log the checkpoint" in err and "to start over" in err, err
+        assert path.read_text() == before
+    # the same settings given again, and the same log: it goes on
+    out = _buoy_run(sys.executable, tmp_path, "--table", path, "--height", "3.5", "--lat", "54.2")
+    assert out.startswith("resuming from ")
+
+
+def test_buoy_refuses_a_log_with_iso_times_once(tmp_path):
+    # a log whose time column holds ISO 8601 text: one message, not one
+    # rejection per line
+    log = tmp_path / "iso.csv"
+    log.write_text("time,pressure_hpa,temp_c,rh_pct\n" + "".join(
+        "2026-10-12T00:%02d:00+01:00,973.24,9.17,83.8\n" % i for i in range(40)))
+    rc, out, err = _buoy_fails(sys.executable, tmp_path, ["--log", log, "--checkpoint",
+                                                          tmp_path / "i.ckpt"])
+    assert rc == 1 and "rejected" not in out and err.count("\n") == 1, (out, err)
+    assert "the time column holds '2026-10-12T00:00:00+01:00': buoy.py needs numeric seconds" in err
+
+
+def test_buoy_help_says_what_the_height_is(tmp_path):
+    rc, out, err = _buoy_fails(sys.executable, tmp_path, ["--help"])
+    text = " ".join(out.split())
+    assert rc == 0 and "above mean sea level (a sea buoy: above the water line; a lake or " \
+        "river: the water's elevation above sea level plus the mast)" in text, out
+    assert "is refused (exit status 1)" in text
+
+
+HEIGHT_WORDS = ("above mean sea level (a sea buoy: above the water line; a lake or river: the "
+                "water's elevation above sea level plus the mast)")
+
+
+def test_the_barometer_height_is_explained_alike(tmp_path):
+    # README, 'tinygeo station --help' and buoy.py --help (tested above) say
+    # what the height is measured from, for a lake as for the sea
+    rc, out, _ = main(["station", "--help"])
+    assert rc == 0 and HEIGHT_WORDS in " ".join(out.split()), out
+    doc = " ".join((ROOT / "README.md").read_text().split())
+    assert HEIGHT_WORDS in doc
+
+
+def test_readme_steady_pa_sentence_matches_the_station_docstring():
+    # tinygeo/station.py: 'same' when |D| < 5 Pa whatever steady_pa is;
+    # steady_pa decides the shape parts (steady halves, peaks, troughs)
+    import tinygeo.station as S
+    assert "same when |D| < 5 Pa" in " ".join(S.__doc__.split())
+    doc = " ".join((ROOT / "README.md").read_text().split())
+    i = doc.index("`steady_pa` (`--steady`, 10 Pa)")
+    sentence = doc[i:i + 400]
+    assert "governs the shape parts" in sentence and '"same" is fixed (within 5 Pa' in sentence
+    assert "sets the change taken as steady" not in doc
+    # 'tinygeo plot' counts in words: one record, not 'records'
+    from tinygeo.host import plot
+    assert plot._count(1, "resume record") == "1 resume record"
+    assert plot._count(2, "row") == "2 rows"
+
+
 def test_buoy_readme_command_keeps_checkpoints_out_of_the_repository():
     # the README's command puts the slot files in a temporary directory and
     # says how to start over; the default name is ignored by git
@@ -683,14 +811,95 @@ def test_station_table_resume_records_void_by_row_count(tmp_path):
     assert [x.time_s for x in rows] == [600, 1200] and rd.end is None and rd.voided == 1
     rd, rows = read_table(head + r(600) + "\n" + r(1200) + "\n" + r(1200) + "\n" + r(1800) + "\n")
     assert len(rows) == 4 and rd.backwards == 1 and rd.first_backwards == 5
-    with pytest.raises(table.TableError, match="expected #: resume rows=N"):
-        read_table(head + r(600) + "\n#: resume line=3\n")
+    with pytest.raises(table.TableError, match="expected #: resume rows=N whole"):
+        read_table(head + r(600) + "\n#: resume line=3 whole\n")
     assert stationrecord.RESUME_PREFIX == record.RESUME_PREFIX
+    assert stationrecord.RESUME_WHOLE == record.RESUME_WHOLE == "whole"
     # 'tinygeo plot' draws the rows kept and says what it dropped
     pytest.importorskip("matplotlib")
     rc, out, err = main(["plot", tmp_path / "r.tsv", "-o", tmp_path / "r.png"])
     assert rc == 0 and "3 rows voided by 2 resume records" in err and "1 torn" in err, err
     assert "go back" not in err and "5 points of 5" in err, err
+
+
+def _r(t, n=60):
+    # a station table row at time_s t with n readings (made up; the reader
+    # does not check the values)
+    return "%d.000\t100000.00\t100040.00\t100040.00\tnan\t-\tnan\t285.000\t80.00\t" \
+           "281.500\t0\t%d" % (t, n)
+
+
+_HEAD = stationrecord.MAGIC + "\n" + "\t".join(stationrecord.COLUMNS) + "\n"
+
+
+def test_the_station_resume_record_ends_in_whole():
+    # the layout documented in tinygeo/stationrecord.py: 'rows=N' then the
+    # word that tells a record written to the end
+    assert stationrecord.resume_line(99) == "#: resume rows=99 whole"
+    assert record.resume_line(3000) == "#: resume line=3000 whole"
+
+
+def test_a_torn_resume_record_voids_no_row():
+    # a power cut while '#: resume rows=99 whole' was written left '#: resume
+    # rows=9' (constructed, as /tmp/attack3/tornres2); the next start wrote a
+    # whole one: the torn record is ignored (counted), the 99 rows are kept
+    rows = "".join(_r(600 * (i + 1)) + "\n" for i in range(99))
+    for torn in ("#: resume rows=9", "#: resume ro", "#: resume", "#: resu",
+                 "#: resume rows=99 who", "#: resume rows=99"):
+        text = _HEAD + rows + "\n" + torn + "\n\n" + stationrecord.resume_line(99) + "\n" \
+            + _r(600 * 100) + "\n#: end rows=100 count=1 rejected=0 averages=100 missing=0\n"
+        rd, got = read_table(text)
+        assert len(got) == 100 and rd.voided == 0 and rd.torn == 0, torn
+        assert (rd.resumes, rd.torn_resumes, rd.first_torn_resume) == (1, 1, 103), torn
+        assert rd.end is not None and rd.lost == 0
+    # the torn record last in the file (the logger has not started again)
+    rd, got = read_table(_HEAD + rows + "\n#: resume ro")
+    assert len(got) == 99 and rd.torn_resumes == 1 and rd.resumes == 0
+
+
+@pytest.mark.parametrize("bad", ["rows=-3 whole", "rows=3_0 whole", "rows=\u0663 whole",
+                                 "rows=3 rows=3 whole", "rows= whole", "rows=+3 whole",
+                                 "line=3 whole", "whole"])
+def test_a_malformed_whole_resume_record_is_unreadable(bad):
+    with pytest.raises(table.TableError, match="unreadable resume record"):
+        read_table(_HEAD + _r(600) + "\n" + record.RESUME_PREFIX + bad + "\n" + _r(1200) + "\n")
+
+
+def test_a_resume_record_beyond_the_rows_says_rows_were_lost():
+    # the logger counted 5 rows when it took the checkpoint; the table holds 2
+    rd, got = read_table(_HEAD + _r(600) + "\n" + _r(1200) + "\n\n"
+                         + stationrecord.resume_line(5) + "\n" + _r(3600) + "\n")
+    assert len(got) == 3 and rd.voided == 0
+    assert (rd.lost, rd.first_lost) == (3, 6)
+
+
+def test_a_last_row_without_a_line_end_is_torn():
+    # a cut inside the last field ('60' written as '6') reads as a value: with
+    # no line end after it and no end record, it is torn (as
+    # /tmp/attack3/tornfield)
+    text = _HEAD + _r(600) + "\n" + _r(1200) + "\n" + _r(1800)[:-1]
+    rd, got = read_table(text)
+    assert [x.time_s for x in got] == [600, 1200] and rd.torn == 1
+    rd, got = read_table(text + "0\n")          # whole: kept
+    assert len(got) == 3 and rd.torn == 0
+    rd, got = read_table(text + "0")             # no line end, but no way to tell: torn
+    assert len(got) == 2 and rd.torn == 1
+
+
+def test_plot_notes_torn_resume_records_and_lost_rows(tmp_path):
+    pytest.importorskip("matplotlib")
+    path = tmp_path / "t.tsv"
+    path.write_text(_HEAD + _r(600) + "\n" + _r(1200) + "\n\n#: resume rows=9\n\n"
+                    + stationrecord.resume_line(5) + "\n" + _r(1800) + "\n" + _r(2400) + "\n")
+    rc, out, err = main(["plot", path, "-o", tmp_path / "t.png"])
+    assert rc == 0, err
+    assert "1 resume record torn by a power cut while it was written (the first at table " \
+           "line 6" in err, err
+    assert "3 rows lost: the resume record at table line 8" in err, err
+    path.write_text(_HEAD + _r(600) + "\n" + _r(1200) + "\n" + _r(1800) + "\n\n"
+                    + stationrecord.resume_line(2) + "\n" + _r(1800) + "\n")
+    rc, out, err = main(["plot", path, "-o", tmp_path / "t.png"])
+    assert rc == 0 and "1 row voided by 1 resume record (written" in err, err
 
 
 @pytest.mark.parametrize("text,words", [

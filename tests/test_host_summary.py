@@ -310,7 +310,9 @@ def test_plot_writes_pdf_and_svg_with_utc_gps_smoothed_rate_and_after_burst(tmp_
     assert rc == 0, err
     text = svg.read_text()
     for words in ("time (UTC)", "09:30", "smoothed rate", "GPS height (as mapped)",
-                  "barometric minus GPS", "after burst", "burst"):
+                  "barometric minus GPS", "after burst", "burst",
+                  # the legend names the orange points drawn on the right scale
+                  "barometric minus GPS (m, right scale)"):
         assert words in text, words
     assert [p.name for p in tmp_path.iterdir()].count("p.svg") == 1
     assert not [p for p in tmp_path.iterdir() if p.name.endswith(".part")]

@@ -655,7 +655,7 @@ def test_a_resumed_logger_table_passes_compare(tmp_path, interp):
     second = run_main(exe, tmp_path, "--checkpoint-every", "50", "--table", str(table))
     assert resumed_at(second, str(tmp_path / "tg.ckpt")) == 1250
     lines = table.read_text().splitlines()
-    assert lines.count("#: resume line=1250") == 1
+    assert lines.count("#: resume line=1250 whole") == 1
     rc, out = _compare(table)
     assert rc == 0 and "result: PASS" in out, out
     assert "readings compared: 1580" in out

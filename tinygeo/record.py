@@ -45,7 +45,7 @@ Layout (UTF-8 text, one record per line, fields separated by one TAB)::
 * After the rows, ``#: end`` (``end_line``) says that the table is complete:
   the rows written and the column's counters. A reader that finds no end
   record knows the table was cut short.
-* ``#: resume line=N`` (``resume_line``): a logger that went on from a
+* ``#: resume line=N whole`` (``resume_line``): a logger that went on from a
   checkpoint taken before reading N takes readings N, N+1, ... again, so
   the rows it wrote for them before the power cut are void: a reader drops
   every earlier row whose ``line`` is N or more (and an earlier end
@@ -53,6 +53,17 @@ Layout (UTF-8 text, one record per line, fields separated by one TAB)::
   is not a whole row). Rows with lines below N must be on storage when the
   checkpoint is written (flush the table first), so the rows kept are those
   of an uninterrupted run; the end record's ``rows`` counts them.
+  The last word, ``whole`` (``RESUME_WHOLE``), tells a record written to
+  the end from one torn by a power cut while it was written (``#: resume
+  line=3`` left from ``line=3000``): a record whose last word is not
+  ``whole`` is torn, and a reader ignores it (counts it, and says so; it
+  voids no row; the next start of the logger writes a whole one). A record
+  that ends in ``whole`` but does not hold exactly one ``line=N`` of ASCII
+  digits before it is unreadable: a reader refuses the table. A last line
+  without a line end in a table without an end record was cut by a power
+  cut: dropped as torn, even when its fields read. Records written before
+  the word existed have no ``whole`` and are ignored as torn (their rows
+  taken twice show as rows whose line goes back).
 * Fixed decimals (``FORMAT``) make the output byte-identical for the same
   input on one interpreter; MicroPython may round the last printed digit
   differently, so readers compare numbers, not text.
@@ -68,6 +79,8 @@ END_PREFIX = "#: end "
 """Start of the end record (``end_line``)."""
 RESUME_PREFIX = "#: resume "
 """Start of the resume record (``resume_line``)."""
+RESUME_WHOLE = "whole"
+"""Last word of a resume record written to the end (``resume_line``)."""
 
 COLUMNS = ("line", "time_s", "p_pa", "t_k", "rh_pct", "td_k", "gps_m",
            "gph_m", "height_m", "rate_m_s", "sigma_m", "flags", "events")
@@ -163,5 +176,7 @@ def resume_line(line):
     written earlier with a line of ``line`` or more are void (see the module
     docstring). A power cut may have torn the last row, so write it on a line
     of its own after a line end: ``"\\n" + resume_line(n) + "\\n"`` (readers
-    skip the blank line). Example: ``resume_line(3000) == '#: resume line=3000'``."""
-    return "%sline=%d" % (RESUME_PREFIX, line)
+    skip the blank line). The last word, ``whole``, tells the readers the
+    record was written to the end. Example: ``resume_line(3000) == '#: resume
+    line=3000 whole'``."""
+    return "%sline=%d %s" % (RESUME_PREFIX, line, RESUME_WHOLE)

@@ -43,8 +43,9 @@ passing them by keyword, Station(height_m=3.5, lat_deg=54.2), avoids a
 swap that no check can see (both are plausible numbers).
 
 Site
-- height_m: the barometer's height above mean sea level, m, -500..5000 (for
-  a buoy: above the water line). It is the height the pressure is reduced
+- height_m: the barometer's height above mean sea level, m, -500..5000 (a
+  sea buoy: above the water line; a lake or river: the water's elevation
+  above sea level plus the mast). It is the height the pressure is reduced
   from, and the elevation of QNH.
 - lat_deg: latitude, degrees, -90..90: height_m is converted once to
   geopotential height with tinygeo's normal gravity (geopotential_height).
@@ -115,7 +116,9 @@ Checks (a reading failing one raises ReadingError; see "Checks")
 Tendency
 - steady_pa: the change within which a part of the 3-hour trace counts as
   steady for the characteristic, Pa, 0..1000 (default 10 Pa: one unit of the
-  tendency's report in tenths of hPa; common practice).
+  tendency's report in tenths of hPa; common practice). It governs the
+  shape parts (steady halves, peaks and troughs); the net change counts as
+  "same" within 5 Pa whatever steady_pa is (see Tendency below).
 - max_gap_s: the longest run of missing averages, s, 0..10800, inside the
   3-hour trace for which the characteristic is still given (default 1800:
   a turn of the trace that lasted less than half an hour can hide in such a

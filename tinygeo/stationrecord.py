@@ -25,7 +25,7 @@ record), its own magic line and columns, one row per completed average::
   or a station at 800 m and above). ``nan``: not known.
 * ``#: end`` (``end_line``) after the rows: rows written and the
   station's counters.
-* ``#: resume rows=N`` (``resume_line``): a logger that went on from a
+* ``#: resume rows=N whole`` (``resume_line``): a logger that went on from a
   checkpoint taken when it had written N rows writes the rows after those
   again, so the rows it wrote after them before the power cut are void: a
   reader keeps the first N rows before the record (rows voided by earlier
@@ -33,7 +33,18 @@ record), its own magic line and columns, one row per completed average::
   and a row torn by the cut (the last line before the record that is not a
   whole row). The table has no reading numbers (the column table's
   ``line``), so the logger counts its rows and keeps the count in its
-  checkpoint (ports/micropython/buoy.py does).
+  checkpoint (ports/micropython/buoy.py does). The last word, ``whole``
+  (``RESUME_WHOLE``), tells a record written to the end from one torn by a
+  power cut while it was written (``#: resume rows=9`` left from
+  ``rows=99``): a record whose last word is not ``whole`` is torn, and the
+  readers ignore it (count it and say so; it voids no row; the next start
+  writes a whole one). A record that ends in ``whole`` but does not hold
+  exactly one ``rows=N`` of ASCII digits before it is unreadable: a reader
+  refuses the table. A whole record whose N is more than the rows before
+  it means rows were lost (a reader says so). A last line without a line
+  end in a table without an end record was cut by a power cut: dropped as
+  torn, even when its fields read (a cut inside the last number). Records
+  written before the word existed are ignored as torn.
 
 This module only writes and runs on a board (``%`` formatting only); it
 imports nothing, so a buoy logger does not load the column's table module
@@ -44,6 +55,8 @@ END_PREFIX = "#: end "
 """The end record's prefix, the same as tinygeo.record.END_PREFIX (tested)."""
 RESUME_PREFIX = "#: resume "
 """The resume record's prefix, the same as tinygeo.record.RESUME_PREFIX (tested)."""
+RESUME_WHOLE = "whole"
+"""The resume record's last word, the same as tinygeo.record.RESUME_WHOLE (tested)."""
 
 _NAN = float("nan")
 
@@ -110,5 +123,7 @@ def resume_line(rows):
     written before a power cut, are void (see the module docstring). A cut
     may have torn the last row, so write it on a line of its own after a
     line end: ``"\\n" + resume_line(n) + "\\n"`` (readers skip the blank
-    line). Example: ``resume_line(142) == '#: resume rows=142'``."""
-    return "%srows=%d" % (RESUME_PREFIX, rows)
+    line). The last word, ``whole``, tells the readers the record was
+    written to the end. Example: ``resume_line(142) == '#: resume rows=142
+    whole'``."""
+    return "%srows=%d %s" % (RESUME_PREFIX, rows, RESUME_WHOLE)

@@ -179,8 +179,10 @@ int tg_record_end_line(int32_t rows, const tg_column *col, char *buf, size_t siz
 /* record.resume_line: the resume record of a logger that goes on from a
  * checkpoint taken before reading `line` (RESUME_PREFIX "line=N"): rows
  * written earlier with a line of N or more are void. Write it after a line
- * end of its own ("\n" first: the power cut may have torn the last row). */
+ * end of its own ("\n" first: the power cut may have torn the last row). The
+ * last word, RESUME_WHOLE ("whole"), tells a reader the record is whole. */
 int tg_record_resume_line(int32_t line, char *buf, size_t size)
 {
-    return snprintf(buf, size, "%sline=%ld", TGPY_RECORD_RESUME_PREFIX, (long)line);
+    return snprintf(buf, size, "%sline=%ld %s", TGPY_RECORD_RESUME_PREFIX, (long)line,
+                    TGPY_RECORD_RESUME_WHOLE);
 }

@@ -481,6 +481,7 @@
 #define TGPY_RECORD_SITE_PREFIX "# site "
 #define TGPY_RECORD_END_PREFIX "#: end "
 #define TGPY_RECORD_RESUME_PREFIX "#: resume "
+#define TGPY_RECORD_RESUME_WHOLE "whole"
 #define TGPY_RECORD_COLUMNS_N 13
 #define TGPY_RECORD_COLUMNS(X) \
     X(line) \

@@ -569,7 +569,7 @@ int tg_record_column_row(int32_t line, const tg_column *col, int bits, const TG_
 int tg_record_site_line(const tg_column *col, char *buf, size_t size);
 /* record.end_line(rows, col): after the last row ("#: end rows=... count=...") */
 int tg_record_end_line(int32_t rows, const tg_column *col, char *buf, size_t size);
-/* record.resume_line(line): "#: resume line=N", written by a logger that goes
+/* record.resume_line(line): "#: resume line=N whole", written by a logger that goes
  * on from a checkpoint taken before reading N (earlier rows from N on are void) */
 int tg_record_resume_line(int32_t line, char *buf, size_t size);
 

@@ -11,8 +11,19 @@ examples/buoy_day.csv as the "sensor" (replayed line by line)::
 
 A run goes on from its newest checkpoint (``<path>.0``, ``<path>.1``; the
 default path ``buoy.ckpt`` is in the working directory): delete both files
-to start over. ``--height M`` (the barometer above the water line) and
-``--lat DEG`` set the station (defaults: the invented day's).
+to start over. ``--height M`` (the barometer's height above mean sea level:
+on a sea buoy above the water line; on a lake or river the water's
+elevation above sea level plus the mast) and ``--lat DEG`` set the station
+(defaults: the invented day's); ``--help`` prints the options (HELP).
+
+A resumed run keeps the station of its checkpoint: given a ``--height`` or
+``--lat`` other than the checkpoint's, it refuses (exit status 1) and says
+how to start over, rather than go on with settings it was not given. The
+checkpoint also keeps a CRC-32 of the log line of the last reading fed: a
+run resumed on a log whose line at that reading differs (another log) is
+refused the same way. The log's time column must hold numeric seconds; a
+log whose first time is text (ISO 8601, ``2026-10-12T00:00:00``) is
+refused with one message (``tinygeo station`` on a host reads such logs).
 
 On a board: install the package, copy this file to the board, and put your
 sensor driver in place of ``LogSensor`` (a class with ``read()`` that sets
@@ -42,10 +53,14 @@ What it shows:
   in turn (``<path>.0``, ``<path>.1``), so the newest good checkpoint is
   never the one being overwritten. A slot holds::
 
-      b"TGB2"  index (uint32 LE)  rows (uint32 LE)  blob length (uint32 LE)  blob  CRC-32 (uint32 LE)
+      b"TGB3"  index (uint32 LE)  rows (uint32 LE)  mark (uint32 LE)  blob length (uint32 LE)
+               blob  CRC-32 (uint32 LE)
 
-  (a slot written before the rows were kept, ``b"TGBY"`` without them,
-  is still read; its rows are counted in the table)
+  ``mark``: the CRC-32 of the log line of the last reading fed (0 before
+  the first), checked on resume. Slots written before the mark was kept
+  (``b"TGB2"``, without it) are still read, unchecked, and so are those
+  written before the rows were kept (``b"TGBY"``; the rows are counted in
+  the table)
   the CRC-32 (tinygeo.checkpoint.crc32) covering the header and the blob,
   so a torn or corrupted slot (header included) is skipped and the other one
   restored; the blob has its own frame and CRC as well. At start the newest
@@ -82,9 +97,11 @@ CHECKPOINT_EVERY = 600         # readings between checkpoints (and after each re
 STOP_AFTER = 0                 # stop after this many readings, no final checkpoint (0 = never)
 TABLE = ""                     # a file for the station table of tinygeo/stationrecord.py ("" = none)
 
-MAGIC = b"TGB2"
-_HEAD = "<III"
-_HEAD_LEN = 16
+MAGIC = b"TGB3"
+_HEAD = "<IIII"
+_HEAD_LEN = 20
+MAGIC2 = b"TGB2"                   # slots without the mark (index, rows, blob length)
+_HEAD2_LEN = 16
 OLD_MAGIC = b"TGBY"                # slots without the rows (index, blob length)
 _OLD_HEAD_LEN = 12
 _NAN = float("nan")
@@ -99,13 +116,35 @@ def _number(w, i, unit):
         return _NAN
 
 
+HELP = """usage: buoy.py [--OPTION VALUE ...]
+  --log PATH           the log replayed as the sensor (time_s,pressure_hpa,temp_c,rh_pct;
+                       time_s numeric seconds, not ISO text)
+  --checkpoint PATH    slot files PATH.0 and PATH.1; a run resumes from the newest
+                       (delete both to start over)
+  --table PATH         also write the station table (tinygeo plot draws it)
+  --height M           the barometer's height, m, above mean sea level (a sea buoy: above
+                       the water line; a lake or river: the water's elevation above sea
+                       level plus the mast)
+  --lat DEG            latitude, degrees
+  --checkpoint-every N readings between checkpoints
+  --stop-after N       stop after N readings, as by a power cut (0: never)
+A resumed run keeps its checkpoint's station: a --height or --lat other than the
+checkpoint's, or a log other than the one it was taken on, is refused (exit status 1)
+with the files to delete to start over."""
+
+
 class LogSensor:
     """Replays a CSV log (time_s,pressure_hpa,temp_c,rh_pct; '#' comments and
-    a header line) as a sensor: read() takes the next reading."""
+    a header line) as a sensor: read() takes the next reading. ``mark``:
+    the CRC-32 of the last line read (0 before the first), which identifies
+    the log at a checkpoint; ``time_text``: the time field of the last
+    line read, as text."""
 
     def __init__(self, path):
         self.f = open(path)
         self.index = 0             # readings taken so far
+        self.mark = 0
+        self.time_text = ""
         self.p_pa = self.t_k = self.rh_pct = self.time_s = None
 
     def read(self):
@@ -115,7 +154,9 @@ class LogSensor:
                 return False
             if line[0] == "#" or line.startswith("time"):
                 continue
+            self.mark = crc32(line.strip().encode())
             w = line.strip().split(",")
+            self.time_text = w[0].strip()
             try:
                 self.time_s = int(w[0])
             except ValueError:
@@ -147,8 +188,8 @@ class Slots:
         return "%s.%d" % (self.path, k)
 
     def _read(self, k):
-        # (index, station, rows) from slot k, or None if it is missing, torn or
-        # corrupted (rows None: an old slot)
+        # (index, station, rows, mark) from slot k, or None if it is missing,
+        # torn or corrupted (rows, mark None: an old slot without them)
         try:
             f = open(self.slot_path(k), "rb")
         except OSError:
@@ -157,9 +198,13 @@ class Slots:
             data = f.read()
         finally:
             f.close()
+        mark = None
         if data[:4] == MAGIC and len(data) >= _HEAD_LEN + 4:
-            index, rows, n = struct.unpack(_HEAD, data[4:_HEAD_LEN])
+            index, rows, mark, n = struct.unpack(_HEAD, data[4:_HEAD_LEN])
             head = _HEAD_LEN
+        elif data[:4] == MAGIC2 and len(data) >= _HEAD2_LEN + 4:
+            index, rows, n = struct.unpack("<III", data[4:_HEAD2_LEN])
+            head = _HEAD2_LEN
         elif data[:4] == OLD_MAGIC and len(data) >= _OLD_HEAD_LEN + 4:
             index, n = struct.unpack("<II", data[4:_OLD_HEAD_LEN])
             rows = None
@@ -172,7 +217,7 @@ class Slots:
         if crc32(data[:-4]) != crc:
             return None
         try:
-            return index, Station.from_bytes(data[head:-4]), rows
+            return index, Station.from_bytes(data[head:-4]), rows, mark
         except CheckpointError:
             return None
 
@@ -188,13 +233,14 @@ class Slots:
         self.loaded_from = self.slot_path(best_k) if best is not None else ""
         return best
 
-    def save(self, index, st, rows=0):
-        # index: readings taken; rows: rows written to the table. A failed
+    def save(self, index, st, rows=0, mark=0):
+        # index: readings taken; rows: rows written to the table; mark: the
+        # CRC-32 of the log line of the last reading fed. A failed
         # write (storage full, a bus error) is reported and retried at the
         # next checkpoint into the same slot; the other slot keeps the
         # newest good checkpoint meanwhile
         blob = st.to_bytes()
-        data = MAGIC + struct.pack(_HEAD, index, rows, len(blob)) + blob
+        data = MAGIC + struct.pack(_HEAD, index, rows, mark, len(blob)) + blob
         data += struct.pack("<I", crc32(data))
         try:
             f = open(self.slot_path(self.next), "wb")
@@ -241,10 +287,15 @@ def new_station(opts):
 
 
 def options(argv):
+    # the options as a dict; "given": the names given on the command line
     opts = {"log": LOG, "checkpoint": CHECKPOINT, "checkpoint-every": CHECKPOINT_EVERY,
             "stop-after": STOP_AFTER, "table": TABLE, "height": HEIGHT_M, "lat": LAT_DEG}
+    given = []
     i = 0
     while i < len(argv):
+        if argv[i] in ("--help", "-h"):
+            print(HELP)
+            raise SystemExit(0)
         name = argv[i][2:] if argv[i].startswith("--") else ""
         if name not in opts or i + 1 >= len(argv):
             raise SystemExit("unknown or incomplete option %r; known: --%s VALUE" % (
@@ -255,7 +306,9 @@ def options(argv):
                 float(argv[i + 1]) if isinstance(v, float) else int(argv[i + 1]))
         except ValueError:
             raise SystemExit("--%s %r: give a number" % (name, argv[i + 1]))
+        given.append(name)
         i += 2
+    opts["given"] = given
     return opts
 
 
@@ -274,14 +327,21 @@ def table_rows(path):
                 n = 0
             continue
         if line.startswith(stationrecord.RESUME_PREFIX):
-            try:
-                n = min(n, int(line.split("=")[1]))
-            except ValueError:
-                pass
+            # a whole record only ('rows=N whole'); a torn one voids nothing
+            w = line[len(stationrecord.RESUME_PREFIX):].split()
+            if len(w) == 2 and w[1] == stationrecord.RESUME_WHOLE and w[0][:5] == "rows=" \
+                    and w[0][5:] and not [c for c in w[0][5:] if c not in "0123456789"]:
+                n = min(n, int(w[0][5:]))
         elif line.strip() and line[0] != "#":
             n += 1
     f.close()
     return n
+
+
+def _clock_text(text):
+    # True for a time written as date or clock text (2026-10-12T00:00:00,
+    # 12:00): digits with '-' after the first character, or ':'
+    return bool(text) and text[0] in "0123456789" and ("-" in text[1:] or ":" in text)
 
 
 def run(opts):
@@ -293,11 +353,24 @@ def run(opts):
         st = new_station(opts)
         print("start new log at reading 0")
     else:
-        index, st, kept = got
+        index, st, kept, mark = got
+        over = "delete %s and %s to start over" % (slots.slot_path(0), slots.slot_path(1))
+        for name, mine in (("height", st.height_m), ("lat", st.lat_deg)):
+            if name in opts.get("given", ()) and opts[name] != mine:
+                sensor.close()
+                raise SystemExit("--%s %r: the checkpoint %s holds a station with --%s %r, and "
+                                 "a resumed log keeps its station: leave out --%s to go on, or "
+                                 "%s with the new one" % (name, opts[name], slots.loaded_from,
+                                                          name, mine, name, over))
         sensor.seek(index)
-        print("resuming from %s at reading %d, %d accepted so far (delete %s and %s to start "
-              "over)" % (slots.loaded_from, index, st.count, slots.slot_path(0),
-                         slots.slot_path(1)))
+        if sensor.index < index or (mark is not None and sensor.mark != mark):
+            sensor.close()
+            raise SystemExit("%s: not the log the checkpoint %s was taken on (%s at reading %d):"
+                             " give that log to go on, or %s" % (
+                                 opts["log"], slots.loaded_from, "it ends before" if
+                                 sensor.index < index else "another line at", index - 1, over))
+        print("resuming from %s at reading %d, %d accepted so far (%s)"
+              % (slots.loaded_from, index, st.count, over))
     every = opts["checkpoint-every"]
     stop_after = opts["stop-after"]
     taken = 0
@@ -326,6 +399,12 @@ def run(opts):
     while sensor.read():
         taken += 1
         index = sensor.index - 1
+        if index == 0 and sensor.time_s is None and _clock_text(sensor.time_text):
+            sensor.close()
+            raise SystemExit("%s: the time column holds %r: buoy.py needs numeric seconds "
+                             "(0, 1, 2, ...), not date and time text; convert the column, or "
+                             "on a host run 'tinygeo station %s', which reads such times"
+                             % (opts["log"], sensor.time_text, opts["log"]))
         try:
             bits = st.feed(sensor.p_pa, sensor.t_k, sensor.rh_pct, sensor.time_s)
         except ReadingError as e:
@@ -344,10 +423,10 @@ def run(opts):
                 table.flush()
                 rows += 1
             if table is not None or st.time_s % 3600 == 0:
-                slots.save(sensor.index, st, rows)
+                slots.save(sensor.index, st, rows, sensor.mark)
                 saved = sensor.index
         if every and sensor.index % every == 0 and saved != sensor.index:
-            slots.save(sensor.index, st, rows)
+            slots.save(sensor.index, st, rows, sensor.mark)
         if stop_after and taken >= stop_after:
             print("stopped after %d readings (as by a power cut)" % taken)
             sensor.close()
@@ -355,7 +434,7 @@ def run(opts):
                 table.close()
             return st
     sensor.close()
-    slots.save(sensor.index, st, rows)
+    slots.save(sensor.index, st, rows, sensor.mark)
     if table is not None:
         table.write(stationrecord.end_line(rows, st) + "\n")
         table.close()

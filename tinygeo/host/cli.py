@@ -221,8 +221,9 @@ def _add_station(p):
     from tinygeo.host.options import station_default as d
     g = p.add_argument_group("station")
     g.add_argument("--height", type=float, metavar="M",
-                   help="the barometer's height above mean sea level, m (a buoy: above the water "
-                        "line); required (default: height_m= in the log's comments)")
+                   help="the barometer's height, m, above mean sea level (a sea buoy: above the "
+                        "water line; a lake or river: the water's elevation above sea level plus "
+                        "the mast); required (default: height_m= in the log's comments)")
     g.add_argument("--lat", type=float, metavar="DEG",
                    help="latitude, degrees north (default: lat_deg= in the log's comments)")
     g.add_argument("--average", type=float, metavar="S",
@@ -266,7 +267,9 @@ def _add_station(p):
                         "other are followed after this many (default %d)" % d("takeover_readings"))
     q.add_argument("--steady", type=float, metavar="PA",
                    help="a part of the 3-hour trace within this change is steady, for the "
-                        "characteristic, Pa (default %g)" % d("steady_pa"))
+                        "characteristic's shape (halves, peaks, troughs), Pa (default %g); the "
+                        "net change counts as 'same' within 5 Pa whatever this is"
+                        % d("steady_pa"))
     q.add_argument("--max-gap", type=float, metavar="S",
                    help="the longest gap inside the 3 hours for which the characteristic is "
                         "still given, s (default %g)" % d("max_gap_s"))
@@ -401,9 +404,10 @@ def build_parser():
                     "Rows whose flags differ only because the table prints p_pa to 0.01 Pa "
                     "(FL_SAME_P on the host where the device had FL_DESCENT or nothing, the "
                     "printed pressure repeated) are counted as 'rounded', not failed. A "
-                    "logger that resumed from a checkpoint writes '#: resume line=N' "
+                    "logger that resumed from a checkpoint writes '#: resume line=N whole' "
                     "(tinygeo.record.resume_line): the earlier rows from line N on, and a row "
-                    "torn by the power cut, are dropped. With --log the host replays the raw "
+                    "torn by the power cut, are dropped; a resume record torn while it was "
+                    "written (no final 'whole') voids nothing and is reported. With --log the host replays the raw "
                     "log instead and matches rows by line number (or time_s); readings on one "
                     "side only fail, rows missing at the end too.",
         epilog=epilog, formatter_class=argparse.RawDescriptionHelpFormatter)

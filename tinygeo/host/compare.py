@@ -39,9 +39,10 @@ before's, gets the status ``rounded``: counted and explained, not an offence
 (default mode only; with ``--log`` both sides read the same numbers).
 
 A table written by a logger that resumed from a checkpoint holds resume
-records (``#: resume line=N``, tinygeo.record.resume_line): the rows it
-took again are dropped before the comparison (tinygeo.host.table), and the
-report says how many. Rows whose line number repeats or goes back are
+records (``#: resume line=N whole``, tinygeo.record.resume_line): the
+rows it took again are dropped before the comparison (tinygeo.host.table),
+and the report says how many; a resume record torn while it was written
+(its last word is not ``whole``) voids nothing and is reported. Rows whose line number repeats or goes back are
 reported (a row written twice).
 """
 from tinygeo.column import FL_DESCENT, FL_NO_GPS, FL_SAME_P
@@ -363,10 +364,14 @@ def _report(out, tally, dev_name, source, setup, dev):
              if dev.torn else ""))
     elif dev.torn:
         w("last row torn (the table was cut short), dropped: %d\n" % dev.torn)
+    if dev.torn_resumes:
+        w("resume records torn by a power cut while written (no final word 'whole'), "
+          "ignored: %d (the first at table line %d)\n"
+          % (dev.torn_resumes, dev.first_torn_resume))
     if dev.backwards:
         w("rows whose line is not above every row before: %d (the first at table line %d; "
           "rows written twice? a logger that resumes from a checkpoint writes '#: resume "
-          "line=N', tinygeo.record.resume_line)\n"
+          "line=N whole', tinygeo.record.resume_line)\n"
           % (dev.backwards, dev.first_backwards))
     w("readings compared: %d\n" % tally.compared)
     if tally.skipped:

@@ -204,6 +204,10 @@ def draw(pts, setup, records, out_path, title, dpi, origin=None, fmt=None):
         ax_d = ax_ht.twinx()
         ax_d.plot([tx(r[0]) for r in gps], [1000.0 * (r[1] - r[7]) for r in gps], ".",
                   color="tab:orange", ms=0.8, alpha=0.35)
+        # the twin axis's points get their entry in the height legend: the
+        # cloud drawn is the difference, not the GPS height itself
+        ax_ht.plot([], [], ".", color="tab:orange", ms=4.0,
+                   label="barometric minus GPS (m, right scale)")
         ax_d.set_ylabel("barometric minus GPS (m)", color="tab:orange", fontsize=8)
         ax_d.tick_params(axis="y", labelsize=7, colors="tab:orange")
     for part, key, label in ((up, "up", "ascent"), (down, "down", "after burst")):
@@ -506,9 +510,20 @@ def _station_notes(data, name, stderr):
     # what tinygeo plot says about a station table's rows on stderr
     rd = data.reader
     if rd.voided or rd.torn:
-        stderr.write("tinygeo plot: note: %s: %d rows voided by %d resume records (written "
-                     "again after a power cut) and %d torn rows left out\n"
-                     % (name, rd.voided, rd.resumes, rd.torn))
+        stderr.write("tinygeo plot: note: %s: %s voided by %s (written again after a power "
+                     "cut) and %s left out\n"
+                     % (name, _count(rd.voided, "row"), _count(rd.resumes, "resume record"),
+                        _count(rd.torn, "torn row")))
+    if rd.torn_resumes:
+        stderr.write("tinygeo plot: note: %s: %s torn by a power cut while %s written (the "
+                     "first at table line %d: no final word 'whole'), ignored: %s no row\n"
+                     % (name, _count(rd.torn_resumes, "resume record"),
+                        "it was" if rd.torn_resumes == 1 else "they were", rd.first_torn_resume,
+                        "it voids" if rd.torn_resumes == 1 else "they void"))
+    if rd.lost:
+        stderr.write("tinygeo plot: note: %s: %s lost: the resume record at table line %d "
+                     "counts more rows before it than the table holds\n"
+                     % (name, _count(rd.lost, "row"), rd.first_lost))
     if data.repeated or data.backwards:
         t0, t1 = rd.back_times
         stderr.write("tinygeo plot: note: %s: %d rows repeat the time_s of the row before and %d "
@@ -517,6 +532,11 @@ def _station_notes(data, name, stderr):
                      "restart); the lines break there and the place is marked\n"
                      % (name, data.repeated, data.backwards, rd.first_backwards,
                         _stamp(t1, data.epoch), _stamp(t0, data.epoch)))
+
+
+def _count(n, word):
+    # "1 row", "2 rows"
+    return "%d %s%s" % (n, word, "" if n == 1 else "s")
 
 
 def _stamp(time_s, epoch):

@@ -18,7 +18,9 @@ tinygeo.station.Station, written by ``tinygeo station`` or a logger such as
 ports/micropython/buoy.py) is read by :class:`StationTableReader` the same
 way: its header names ``time_s`` and any subset of ``STATION_COLUMNS`` (and
 ``iso_gph_m``), in any order, and honours its resume records
-(``#: resume rows=N``, tinygeo.stationrecord.resume_line).
+(``#: resume rows=N whole``, tinygeo.stationrecord.resume_line). A resume
+record torn by a power cut while it was written (its last word is not
+``whole``) voids nothing: both readers count it and go on.
 """
 import tempfile
 
@@ -30,6 +32,7 @@ OLD_MAGIC = "# tinygeo replay table 1"
 SITE_PREFIX = record.SITE_PREFIX
 END_PREFIX = record.END_PREFIX
 RESUME_PREFIX = record.RESUME_PREFIX
+RESUME_WHOLE = record.RESUME_WHOLE
 INPUT_PREFIX = "# input "
 SUMMARY_PREFIX = "#: "
 TIME_ORIGIN_PREFIX = "# time_s counts from "
@@ -98,6 +101,30 @@ def summary_line(what, pairs, text=None):
     return line
 
 
+def is_resume(line):
+    """True for a resume record, whole or torn: a line starting with ``#:
+    resume``, or a piece of one cut by a power cut (``#: re``)."""
+    text = line.rstrip()
+    return text.startswith(RESUME_PREFIX[:-1]) or (len(text) > 3 and
+                                                   RESUME_PREFIX.startswith(text))
+
+
+def parse_resume(line, key):
+    """The N of a resume record ``#: resume <key>=N whole``
+    (tinygeo.record.resume_line, tinygeo.stationrecord.resume_line); None
+    when the record is torn (its last word is not ``whole``: a power cut
+    while it was written). Raises ValueError when it ends in ``whole`` but
+    does not hold exactly one ``key=N`` with N ASCII digits before it."""
+    words = line[len(RESUME_PREFIX):].split() if line.startswith(RESUME_PREFIX) else []
+    if not words or words[-1] != RESUME_WHOLE:
+        return None
+    digits = words[0][len(key) + 1:] if words[0].startswith(key + "=") else ""
+    if len(words) != 2 or not digits or [c for c in digits if c not in "0123456789"]:
+        raise ValueError("expected %s%s=N %s (N: digits 0-9)" % (RESUME_PREFIX, key,
+                                                                 RESUME_WHOLE))
+    return int(digits)
+
+
 def parse_pairs(words):
     """Return a dict from ``key=value`` words (others are ignored; so is
     everything after a ``--`` word)."""
@@ -139,12 +166,18 @@ class TableReader:
     of ``present`` other than line, flags and events that hold a value other
     than nan in some row) hold the set-up; iterate for :class:`Row` objects.
 
-    Resume records (``#: resume line=N``, tinygeo.record.resume_line) are
-    honoured: an earlier row whose ``line`` is N or more is dropped (counted
-    in ``voided``), and so is an earlier end record; a row that cannot be
-    read and is the last line before a resume record, or the last line of a
-    table without an end record, is a row torn by a power cut: dropped and
-    counted in ``torn``. After the iteration ``summary`` holds the ``#:``
+    Resume records (``#: resume line=N whole``, tinygeo.record.resume_line)
+    are honoured: an earlier row whose ``line`` is N or more is dropped
+    (counted in ``voided``), and so is an earlier end record; a row that
+    cannot be read and is the last line before a resume record, or the last
+    line of a table without an end record, is a row torn by a power cut:
+    dropped and counted in ``torn``, and so is a last line without a line
+    end in a table without an end record (even if it reads: the cut may
+    have fallen inside its last number). A resume record torn while it was
+    written (its last word is not ``whole``) voids nothing: it is counted in
+    ``torn_resumes`` (the first at table line ``first_torn_resume``); one
+    that ends in ``whole`` but is malformed (``line=-3``, ``line=3_0``,
+    two ``line=`` words) makes the table unreadable (TableError). After the iteration ``summary`` holds the ``#:``
     records as a list of (what, dict) in file order, ``end`` the end
     record's dict (None: the table has no end record), ``rows`` the number
     of rows read (dropped ones not counted), ``resumes`` the number of
@@ -163,6 +196,8 @@ class TableReader:
         self.voided = 0
         self.torn = 0
         self.resumes = 0
+        self.torn_resumes = 0
+        self.first_torn_resume = None
         self.backwards = 0
         self.first_backwards = None
         self.time_origin = None
@@ -215,6 +250,8 @@ class TableReader:
         width = len(self.present)
         marks = []              # (table line, N) of the resume records
         self._ends = set()      # lines of rows last before a resume record or the end
+        self._cut = None        # the last row, when no line end follows it (and no end)
+        cut = False
         first_row = None
         last_row = None         # the latest row line, while nothing but blanks followed it
         end_after = False       # an end record after the latest row
@@ -231,8 +268,10 @@ class TableReader:
                 if not line.strip():
                     continue
                 if line.startswith("#"):
-                    if line.startswith(RESUME_PREFIX):
-                        marks.append((lineno, self._resume_at(line, lineno)))
+                    if is_resume(line):
+                        n = self._resume_at(line, lineno)
+                        if n is not None:
+                            marks.append((lineno, n))
                         if last_row is not None:
                             self._ends.add(last_row)
                         end_after = False
@@ -251,6 +290,7 @@ class TableReader:
                     first_row = lineno
                 last_row = lineno
                 end_after = False
+                cut = not raw.endswith("\n")
                 if len(numeric) < len(value_cols):
                     fields = line.split("\t")
                     if len(fields) == width:
@@ -259,6 +299,9 @@ class TableReader:
                                 numeric.add(n)
             if last_row is not None and not end_after:
                 self._ends.add(last_row)
+                if cut:
+                    # no line end after the last row: cut by a power cut
+                    self._cut = last_row
             spool.seek(0)
         except BaseException:
             spool.close()
@@ -275,16 +318,22 @@ class TableReader:
             m = marks[k][1] if m is None else min(m, marks[k][1])
             floor[k] = m
         self._marks = [(mk[0], f) for mk, f in zip(marks, floor)]
+        self._whole = set(mk[0] for mk in marks)
         self.numeric = frozenset(numeric)
         self._spool = spool
 
     def _resume_at(self, line, lineno):
-        words = parse_pairs(line[len(RESUME_PREFIX):].split())
+        # N of a whole resume record; None (counted) for a torn one
         try:
-            return int(words["line"])
-        except (KeyError, ValueError):
-            raise TableError("%s line %d: unreadable resume record %r; expected %sline=N"
-                             % (self.name, lineno, line[:60], RESUME_PREFIX))
+            n = parse_resume(line, "line")
+        except ValueError as e:
+            raise TableError("%s line %d: unreadable resume record %r; %s"
+                             % (self.name, lineno, line[:60], e))
+        if n is None:
+            self.torn_resumes += 1
+            if self.first_torn_resume is None:
+                self.first_torn_resume = lineno
+        return n
 
     def _header(self, line):
         names = [f.strip() for f in line.split("\t")]
@@ -319,13 +368,14 @@ class TableReader:
                 if not line.strip():
                     continue
                 if line.startswith("#"):
-                    if line.startswith(RESUME_PREFIX):
+                    if is_resume(line):
                         # the rows it voids were dropped as they came; an end
-                        # record before it is void too
-                        self.resumes += 1
-                        self.end = None
-                        k += 1
-                        floor = marks[k][1] if k < len(marks) else None
+                        # record before it is void too (a torn record: nothing)
+                        if self.lineno in self._whole:
+                            self.resumes += 1
+                            self.end = None
+                            k += 1
+                            floor = marks[k][1] if k < len(marks) else None
                     elif line.startswith(SUMMARY_PREFIX):
                         words = line[len(SUMMARY_PREFIX):].split()
                         if words:
@@ -334,6 +384,9 @@ class TableReader:
                                 self.end = pairs
                             else:
                                 self.summary.append((words[0], pairs))
+                    continue
+                if self.lineno == self._cut:
+                    self.torn += 1          # no line end: cut by a power cut
                     continue
                 try:
                     row = self._row(line, n, index, absent)
@@ -411,12 +464,23 @@ class StationTableReader:
     from``, or None) and ``present`` (the columns the header names) hold the
     set-up; iterate for :class:`StationRow` objects.
 
-    Resume records (``#: resume rows=N``, tinygeo.stationrecord.resume_line)
-    are honoured: of the rows before one, the first N kept are kept and the
-    others dropped (counted in ``voided``), and so is an earlier end record;
-    a row cut short (fewer fields, or the last one empty) that is the last
-    line before a resume record, or the last line of a table without an end
-    record, is a row torn by a power cut: dropped and counted in ``torn``. After the iteration
+    Resume records (``#: resume rows=N whole``,
+    tinygeo.stationrecord.resume_line) are honoured: of the rows before one,
+    the first N kept are kept and the others dropped (counted in
+    ``voided``), and so is an earlier end record; a row cut short (fewer
+    fields, or the last one empty) that is the last line before a resume
+    record, or the last line of a table without an end record, is a row
+    torn by a power cut: dropped and counted in ``torn``, and so is a last
+    line without a line end in a table without an end record (even if it
+    reads: the cut may have fallen inside its last number). A resume record
+    torn while it was written (its last word is not ``whole``) voids
+    nothing: it is counted in ``torn_resumes`` (the first at table line
+    ``first_torn_resume``); one that ends in ``whole`` but is malformed
+    (``rows=-3``, ``rows=3_0``, two ``rows=`` words) makes the table
+    unreadable (TableError). A whole record whose N is more than the rows
+    before it (as the logger counted them) says rows were lost: ``lost``
+    counts the rows missing, ``first_lost`` is the table line of the first
+    such record. After the iteration
     ``summary`` holds the ``#:`` records as (what, dict) in file order,
     ``end`` the end record's dict (None: no end record, the table was cut
     short), ``rows`` the number of rows read (dropped ones not counted),
@@ -437,6 +501,10 @@ class StationTableReader:
         self.voided = 0
         self.torn = 0
         self.resumes = 0
+        self.torn_resumes = 0
+        self.first_torn_resume = None
+        self.lost = 0
+        self.first_lost = None
         self.backwards = 0
         self.first_backwards = None
         self.back_times = None
@@ -486,6 +554,8 @@ class StationTableReader:
         # record, or last of a table without an end record)
         marks = []
         self._ends = set()
+        self._cut = None        # the last row, when no line end follows it (and no end)
+        cut = False
         last_row = None
         end_after = False
         lineno = self.lineno
@@ -501,15 +571,19 @@ class StationTableReader:
                 if not line.strip():
                     continue
                 if line.startswith("#"):
-                    if line.startswith(RESUME_PREFIX):
-                        words = parse_pairs(line[len(RESUME_PREFIX):].split())
+                    if is_resume(line):
                         try:
-                            n = int(words["rows"])
-                        except (KeyError, ValueError):
-                            raise TableError("%s line %d: unreadable resume record %r; expected "
-                                             "%srows=N" % (self.name, lineno, line[:60],
-                                                           RESUME_PREFIX))
-                        marks.append((lineno, n))
+                            n = parse_resume(line, "rows")
+                        except ValueError as e:
+                            raise TableError("%s line %d: unreadable resume record %r; %s"
+                                             % (self.name, lineno, line[:60], e))
+                        if n is None:
+                            # torn while it was written: it voids nothing
+                            self.torn_resumes += 1
+                            if self.first_torn_resume is None:
+                                self.first_torn_resume = lineno
+                        else:
+                            marks.append((lineno, n))
                         if last_row is not None:
                             self._ends.add(last_row)
                         end_after = False
@@ -519,8 +593,12 @@ class StationTableReader:
                     continue
                 last_row = lineno
                 end_after = False
+                cut = not raw.endswith("\n")
             if last_row is not None and not end_after:
                 self._ends.add(last_row)
+                if cut:
+                    # no line end after the last row: cut by a power cut
+                    self._cut = last_row
             spool.seek(0)
         except BaseException:
             spool.close()
@@ -534,6 +612,7 @@ class StationTableReader:
             m = marks[k][1] if m is None else min(m, marks[k][1])
             floor[k] = m
         self._marks = [(mk[1], f) for mk, f in zip(marks, floor)]
+        self._whole = set(mk[0] for mk in marks)
         self._spool = spool
 
     def __iter__(self):
@@ -554,14 +633,20 @@ class StationTableReader:
                 if not line.strip():
                     continue
                 if line.startswith("#"):
-                    if line.startswith(RESUME_PREFIX):
+                    if is_resume(line):
                         # the rows it voids were dropped as they came; an end
-                        # record before it is void too
-                        self.resumes += 1
-                        self.end = None
-                        before = min(before, marks[k][0])
-                        k += 1
-                        floor = marks[k][1] if k < len(marks) else None
+                        # record before it is void too (a torn record: nothing)
+                        if self.lineno in self._whole:
+                            self.resumes += 1
+                            self.end = None
+                            if before < marks[k][0]:
+                                # the logger had written more rows than are here
+                                self.lost += marks[k][0] - before
+                                if self.first_lost is None:
+                                    self.first_lost = self.lineno
+                            before = min(before, marks[k][0])
+                            k += 1
+                            floor = marks[k][1] if k < len(marks) else None
                     elif line.startswith(SUMMARY_PREFIX):
                         words = line[len(SUMMARY_PREFIX):].split()
                         if words:
@@ -570,6 +655,9 @@ class StationTableReader:
                                 self.end = pairs
                             else:
                                 self.summary.append((words[0], pairs))
+                    continue
+                if self.lineno == self._cut:
+                    self.torn += 1          # no line end: cut by a power cut
                     continue
                 try:
                     row = self._row(line, n)
