@@ -188,6 +188,69 @@ def test_a_start_height_left_at_0_is_refused_when_gps_says_otherwise(flight):
     assert rc == 0, err
 
 
+def blank_gps(text, until):
+    """The log without its start height and with no GPS fix on the data lines
+    for which ``until(fields)`` is still true (a receiver's cold start)."""
+    out, waiting = [], True
+    for ln in text.splitlines():
+        if ln.startswith("# lat_deg="):
+            ln = ln.split(" start_height_m=")[0]
+        elif ln[:1].isdigit() or ln[:1] == "-":
+            f = ln.split(",")
+            waiting = waiting and until(f)
+            if waiting:
+                f[4] = ""
+            ln = ",".join(f)
+        out.append(ln)
+    return "\n".join(out) + "\n"
+
+
+def first_fix(text):
+    """The line number (1 = first) of the first data line with a GPS value."""
+    return next(i + 1 for i, ln in enumerate(text.splitlines())
+                if ln[:1].isdigit() and ln.split(",")[4])
+
+
+def test_a_start_height_left_at_0_is_refused_by_the_first_gps_fix_on_the_pad():
+    # a user's case: no fix on the first lines (a cold start), so the GPS check
+    # of the first line saw nothing. Seed 1 puts the 420 m site at 970 hPa,
+    # about 360 m of pressure altitude: under the 500 m the pressure check
+    # allows, so only GPS can tell.
+    rc, log, err = main(["simulate", "--seed", 1, "--burst", 3000])
+    assert rc == 0, err
+    assert log.splitlines()[4].split(",")[1] == "969.96"
+    cold = blank_gps(log, lambda f: float(f[0]) < 40.0)      # 40 s on the pad
+    rc, out, err = main(["replay", "-"], cold)
+    assert rc == 2 and out == ""
+    msg = one_error(err)
+    assert "the first GPS fix on the pad (line %d, " % first_fix(cold) in msg
+    gps = float(msg.split(") is ")[1].split(" m")[0])
+    # the 420 m site with 4 m of GPS noise (the simulator's --sigma-gps)
+    assert 400 < gps < 440 and "--start-height %.0f" % gps in msg
+    assert "pressure altitude is" not in msg
+    rc, _, err = main(["replay", "-", "--start-height", 420], cold)
+    assert rc == 0, err
+    # no fix until the climb is under way (above 970 hPa - 12 hPa, some 100 m
+    # up): no fix on the pad, so nothing to check
+    late = blank_gps(log, lambda f: float(f[1]) > 958.0)
+    rc, out, err = main(["replay", "-"], late)
+    assert rc == 0, err
+    assert "start_height_m=0.000" in out
+
+
+def test_a_1500_m_site_without_a_fix_on_the_first_line_names_the_fix():
+    rc, log, err = main(["simulate", "--seed", 3, "--elevation", 1500, "--burst", 3000])
+    assert rc == 0, err
+    cold = blank_gps(log, lambda f: float(f[0]) < 10.0)
+    rc, out, err = main(["replay", "-"], cold)
+    assert rc == 2
+    msg = one_error(err)
+    assert "the first GPS fix on the pad (line %d, " % first_fix(cold) in msg
+    gps = float(msg.split(") is ")[1].split(" m")[0])
+    assert 1480 < gps < 1520 and "--start-height %.0f" % gps in msg
+    assert "the first reading's pressure altitude is" in msg
+
+
 def test_a_start_height_left_at_0_is_refused_by_the_pressure_altitude():
     # a 1500 m site without GPS: about 845 hPa, 1500 m in the standard atmosphere
     rc, log, err = main(["simulate", "--seed", 3, "--elevation", 1500, "--burst", 3000,

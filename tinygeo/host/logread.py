@@ -41,7 +41,8 @@ log stops with exit 2 asking for the unit:
   sec. 3.3; a margin for sensor noise). A temperature in degF read as degC
   is 1.8 times too steep and usually far too hot at the surface.
 * time: seconds when the values are numbers, ISO-8601 otherwise (the
-  replay's TimeUnitCheck confirms seconds against the first climb).
+  replay's TimeUnitCheck confirms seconds against the first climb, and its
+  climb_doubt against the whole rise).
 * humidity: percent, or a 0..1 fraction when stated (``--humidity
   NAME:fraction``, a header name ending in ``fraction``). Unless the unit was
   given with the option, the first RH_PROBES humidity values (read ahead;
@@ -60,9 +61,12 @@ once (a clock on local time steps by an hour at each daylight-saving
 change).
 
 The start height: when none was given (it defaulted to 0 m) and the first
-reading's pressure altitude lies more than START_PA_M from 0, or its GPS
-height more than START_GPS_M, the log stops with exit 2 naming the height
-and ``--start-height``.
+reading's pressure altitude lies more than START_PA_M from 0, or the first
+GPS fix on the pad more than START_GPS_M, the log stops with exit 2 naming
+the height and ``--start-height``. The fix on the pad is the first among the
+first START_GPS_READINGS readings while the pressure altitude stays within
+START_GPS_STILL_M of the first reading's (a receiver has often no fix yet
+on the first line); the lines are read ahead for it.
 
 Numbers may use a decimal comma (``12,5``) in a field without a '.'; a
 pressure stated in Pa may group thousands with commas (``96,512``).
@@ -132,7 +136,10 @@ MAX_LAPSE_K_KM = 10.0         # dry adiabatic 9.8 K/km (Wallace and Hobbs 2006 s
 LOOKAHEAD_LINES = 5000        # lines read ahead, at most, to confirm a unit
 LOOKAHEAD_CHARS = 4 << 20     # ... and characters
 START_PA_M = 500.0            # start height defaulted to 0: pressure altitude allowed (weather)
-START_GPS_M = 300.0           # ... GPS height allowed
+START_GPS_M = 300.0           # ... GPS height allowed, of the first fix on the pad:
+START_GPS_READINGS = 300      # ... among the first readings (a cold start takes minutes:
+                              # common practice)
+START_GPS_STILL_M = 100.0     # ... while the pressure altitude is this close to the first's
 RH_PROBES = 10                # humidity values read ahead to tell percent from a fraction
 RH_FRACTION_MAX = 1.0         # ... all at or below this: a 0..1 fraction (common practice,
                               # from memory)
@@ -437,6 +444,10 @@ class LogReader:
         probes = []
         chars = 0
         climb = None
+        # a start height left at 0 is checked against the first GPS fix on
+        # the pad (a cold receiver has none on the first line)
+        need_gps = not start_given and "gps" in cols
+        gps_fix = None
         while len(self._ahead) < LOOKAHEAD_LINES and chars < LOOKAHEAD_CHARS:
             raw = self._readline()
             if not raw:
@@ -455,8 +466,10 @@ class LogReader:
                 pr[5] = _altitude(pr[1] * TO_SI[cols["pressure"][2]][0])
             elif need_climb and climb is None:
                 climb = self._climb(probes)
+            if need_gps:
+                gps_fix, need_gps = self._pad_fix(probes)
             if (not need_climb or climb is not None) and \
-                    (not need_rh or len(rh_values) >= RH_PROBES):
+                    (not need_rh or len(rh_values) >= RH_PROBES) and not need_gps:
                 break
         if not probes:
             return        # nothing to judge: the iteration reports the lines
@@ -467,7 +480,7 @@ class LogReader:
         if check_rh and rh_values:
             self._humidity_unit(rh_values)
         if not start_given:
-            self._start_check(probes[0])
+            self._start_check(probes[0], gps_fix)
 
     def _humidity_unit(self, values):
         # percent or a 0..1 fraction, from the first humidity values
@@ -655,24 +668,47 @@ class LogReader:
                           "--%s %s:UNIT to choose" % (name, q, _unit_word(guess), _short(x),
                                                       first[0], why, _opt(q), name))
 
-    def _start_check(self, pr):
+    def _pad_fix(self, probes):
+        # (the first GPS fix on the pad or None, still looking): a fix among
+        # the first START_GPS_READINGS readings whose pressure altitude is
+        # within START_GPS_STILL_M of the first reading's (before the launch)
+        pr = probes[-1]
+        if len(probes) > START_GPS_READINGS:
+            return None, False
+        f = TO_SI[self.columns["pressure"][2]][0]
+        z0 = _altitude(probes[0][1] * f)
+        z = _altitude(pr[1] * f)
+        if z0 is None or z is None:
+            return None, len(probes) > 1       # out of range: the first line decides
+        if abs(z - z0) > START_GPS_STILL_M:
+            return None, False                  # launched without a fix
+        gps = pr[4]
+        if gps is not None and gps == gps:
+            return pr, False
+        return None, True
+
+    def _start_check(self, pr, fix=None):
         f = TO_SI[self.columns["pressure"][2]][0]
         z = _altitude(pr[1] * f)
-        gps = pr[4]
+        gps = fix[4] if fix is not None else None
         parts = []
+        own = fix is None or fix is pr
         if gps is not None and abs(gps) > START_GPS_M:
-            parts.append("its GPS height is %.0f m" % gps)
+            parts.append("its GPS height is %.0f m" % gps if own else
+                         "the first GPS fix on the pad (line %d, pressure altitude within %.0f m "
+                         "of the first reading's) is %.0f m" % (fix[0], START_GPS_STILL_M, gps))
         if z is not None and abs(z) > START_PA_M:
-            parts.append("its pressure altitude is %.0f m" % z)
+            parts.append("%s pressure altitude is %.0f m" % ("its" if own else
+                                                             "the first reading's", z))
         if not parts:
             return
         guess = gps if gps is not None and abs(gps) > START_GPS_M else z
         raise InputError(
-            "%s line %d: no start height was given (it would be 0 m), but the first reading says "
+            "%s line %d: no start height was given (it would be 0 m), but the %s says "
             "otherwise: %s. Give the height of the first reading above mean sea level with "
             "--start-height M (about --start-height %.0f here; --start-height 0 if it really is "
             "at sea level), or put '# start_height_m=..' before the header"
-            % (self.name, pr[0], " and ".join(parts), guess))
+            % (self.name, pr[0], "first reading" if own else "log", " and ".join(parts), guess))
 
     # -- rows ---------------------------------------------------------------
     def __iter__(self):
