@@ -114,6 +114,64 @@ def test_a_good_log_passes_the_time_check_in_seconds_and_milliseconds(small_flig
     assert rc == 0, err
 
 
+def test_milliseconds_declared_seconds_on_the_command_line_warn_with_the_numbers(small_flight):
+    # a user's case: a 'millis' column given as '--time millis:s' replayed with
+    # exit 0 and a summary of 'no_launch' beside a highest reading 2.6 km up;
+    # the unit given on the command line keeps the log, with a warning on
+    # stderr and a summary record giving the rise, the time and the rate
+    ms_log = with_times(small_flight, 1000.0, "millis,pressure_hpa,temp_c,rh_pct,gps_m")
+    rc, out, err = main(["replay", "-", "--time", "millis:s"], ms_log)
+    assert rc == 0, err
+    warn = [ln for ln in err.splitlines() if ln.startswith("tinygeo replay: warning: the height "
+                                                           "rose")]
+    assert len(warn) == 1, err
+    assert "the column saw no launch" in warn[0] and "give --time millis:ms" in warn[0]
+    rec = [ln for ln in summary_records(out) if ln.startswith("#: time_unit_doubt ")]
+    assert len(rec) == 1 and "#: no_launch" in out
+    pairs = dict(w.split("=") for w in rec[0].split(" -- ")[0].split()[2:])
+    # the first 2000 m above the 420 m site: the simulator's 60 s on the pad and
+    # 5 m/s of climb (about 460 s) read 1000 times too long
+    assert 2000.0 <= float(pairs["rise_m"]) < 2020.0
+    assert 4.0e5 < float(pairs["seconds"]) < 5.0e5
+    rate = float(warn[0].split("a mean climb of ")[1].split()[0])
+    assert 0.003 < rate < 0.006 and pairs["unit"] == "s"
+    # read in milliseconds: no doubt
+    rc, out, err = main(["replay", "-", "--time", "millis:ms"], ms_log)
+    assert rc == 0 and "time_unit_doubt" not in out and "warning" not in err, err
+
+
+def test_a_climb_too_slow_for_the_first_move_check_stops_when_the_unit_was_inferred(small_flight):
+    # times 20 times too large (a 20 Hz tick counter under a time_s header):
+    # 0.25 m/s over the first move passes the first-move check (slower than
+    # 0.02 m/s stops), but the whole rise of 2000 m without a launch does not
+    ticks = with_times(small_flight, 20.0)
+    rc, out, err = main(["replay", "-"], ticks)
+    assert rc == 2
+    msg = last_error(err)
+    assert "the column saw no launch" in msg and "give --time time_s:s to take it" in msg
+    assert "convert them to seconds or milliseconds" in msg     # read in ms it is 250 m/s
+    rate = float(msg.split("a mean climb of ")[1].split()[0])
+    # a balloon at 5 m/s (common practice) with 60 s on the pad, 20 times slower
+    assert 0.15 < rate < 0.25
+    # given on the command line, it is taken as it is, with the warning
+    rc, out, err = main(["replay", "-", "--time", "time_s:s"], ticks)
+    assert rc == 0 and "#: time_unit_doubt " in out, err
+
+
+def test_a_slow_balloon_and_a_good_log_raise_no_time_doubt():
+    # 0.6 m/s, slower than any sounding balloon (1 to 8 m/s, common practice)
+    # but faster than the doubt's 0.5 m/s; 5 s between readings
+    rc, log, err = main(["simulate", "--seed", "2", "--ascent-rate", "0.6", "--burst", "3000",
+                         "--interval", "5"])
+    assert rc == 0, err
+    rc, out, err = main(["replay", "-"], log)
+    assert rc == 0 and "#: launch " in out and "#: burst " in out, err
+    assert "time_unit_doubt" not in out and "warning" not in err
+    for ex in ("schoolfield_flight.csv", "buoy_day.csv"):
+        rc, out, err = main(["replay", str(ROOT / "examples" / ex)])
+        assert rc == 0 and "time_unit_doubt" not in out and "rose" not in err, err
+
+
 def test_time_check_ignores_a_one_reading_spike(small_flight):
     # a spike to 500 hPa on the ground (one reading; about 5 km in 2 s, beyond
     # the 'too fast' speed) is not the first move: the climb after it is

@@ -30,8 +30,12 @@ EXIT_TEXT = """exit status:
       quantity, a unit the values contradict or do not confirm (pressure at
       the start height, surface temperature, the lapse rate of the first
       climb; a time column in s or ms whose first move gives an impossible
-      vertical speed), a start height left at 0 that the first reading
-      contradicts, nothing accepted, more than half of the readings
+      vertical speed, or whose log rises 2000 m above its first reading
+      with no launch, or slower than 0.5 m/s from the launch: a balloon
+      climbs at 1 to 8 m/s; with --time NAME:s or :ms given this is a
+      warning, on stderr and as the summary's first record, time_unit_doubt),
+      a start height left at 0 that the first reading or the first GPS fix
+      on the pad contradicts, nothing accepted, more than half of the readings
       rejected for one reason (rate, time, pressure, temperature, humidity,
       number, gps; counted from the 100th reading on)
   3   plot: matplotlib is not installed (pip install 'tinygeo[plot]')
@@ -140,8 +144,12 @@ def _add_site(p):
                    help="launch latitude, degrees north (default: lat_deg= in the log's comments)")
     g.add_argument("--start-height", type=float, metavar="M",
                    help="height of the first reading above mean sea level, m "
-                        "(default: start_height_m= in the log's comments, else 0; a first "
-                        "reading far from 0 m then stops the replay asking for this)")
+                        "(default: start_height_m= in the log's comments, else 0; the replay "
+                        "then stops asking for this when the first reading's pressure altitude "
+                        "is more than 500 m from 0, or the first GPS fix on the pad more than "
+                        "300 m: the first fix among the first 300 readings while the pressure "
+                        "altitude stays within 100 m of the first reading's, read ahead, as a "
+                        "receiver often has no fix on the first line)")
     g.add_argument("--anchor-pressure", type=float, metavar="HPA",
                    help="the start height is that of this pressure (hPa, %g..%g), not of the "
                         "first reading" % (ANCHOR_HPA_MIN, ANCHOR_HPA_MAX))

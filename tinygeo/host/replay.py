@@ -59,6 +59,17 @@ SLOW_M_S = 0.02           # slower than this over the first move: the times are 
 SLOW_SPACING_S = 10.0     # ... and only when the readings are at least this far apart
 FAST_FACTOR = 10.0        # faster than this times the column's default max_rate_m_s: too small
 
+# climb check (see climb_doubt): a rise of DOUBT_RISE_M above the first reading
+# with no launch, or slower than DOUBT_RATE_M_S from the launch, doubts the time
+# unit. A sounding balloon climbs at about 5 m/s, slow ones at 1 m/s and more
+# (common practice); the column's launch test itself needs launch_rate_gpm_s
+# (0.5 gpm/s by default), so a log whose times are 1000 times too large (ms read
+# as s) climbs 2000 m and more without a launch.
+DOUBT_RISE_M = 2000.0
+DOUBT_RATE_M_S = 0.5
+DOUBT_FAST_M_S = 50.0     # read in ms, a climb faster than this is no balloon's either
+
+
 class ReplayAbort(InputError):
     """The replay cannot go on (nothing accepted at the start, most readings
     rejected for one reason, a time unit the readings contradict); exit status 2."""
@@ -136,6 +147,9 @@ class Summary:
         self.ring_l = array("q", bytes(8 * RING))
         self.ring_n = 0            # readings put in the ring (the clock of a log without time)
         self.line = 0              # the line of the latest reading seen
+        self.rise = None           # (height_m, time_s, line) of the first reading
+                                   # DOUBT_RISE_M above the first accepted one
+        self.doubt = None          # the climb check's finding (climb_doubt), kept as a warning
 
     # -- rejections -----------------------------------------------------------------
     def reject(self, reason, message, unread=False):
@@ -232,7 +246,11 @@ class Summary:
         col = self.col
         lat = self.lat_deg
         rec = table.summary_line
-        out = [rec("accepted", [("count", self.accepted)])]
+        out = []
+        if self.doubt is not None:
+            pairs, text = self.doubt
+            out.append(rec("time_unit_doubt", pairs, text))
+        out.append(rec("accepted", [("count", self.accepted)]))
         pairs = [("count", self.rejected), ("by_column", col.rejected), ("unread", self.unread)]
         for r in sorted(self.reasons):
             pairs.append((r, self.reasons[r]))
@@ -510,6 +528,8 @@ def run(reader, col, summary, report, out=None, every=1, flush=False, sink=None,
     accepted = summary.accepted
     hmax = -1e300
     hmin = 1e300
+    rise_h = 1e300          # the first accepted height + DOUBT_RISE_M (climb_doubt)
+    rise = summary.rise
     gps_n = 0
     gps_sum = 0.0
     gps_worst = 0.0
@@ -565,6 +585,8 @@ def run(reader, col, summary, report, out=None, every=1, flush=False, sink=None,
             if h > hmax:
                 hmax = h
                 summary.highest = (h, col.gph_m, nan if ts is None else ts, lineno)
+                if h >= rise_h and rise is None:
+                    rise = (h, ts, lineno)
             elif h < hmin:
                 hmin = h
             if gps is not None and gps == gps:      # nan: no fix
@@ -588,6 +610,7 @@ def run(reader, col, summary, report, out=None, every=1, flush=False, sink=None,
                 summary.event(bits, reading, b_rd, c_rd, levels)
             if not accepted:
                 hmin = h
+                rise_h = h + DOUBT_RISE_M
                 summary.surface = (reading, h, dew_point_k(t, rh, ice))
             accepted += 1
             # the row
@@ -621,6 +644,68 @@ def run(reader, col, summary, report, out=None, every=1, flush=False, sink=None,
         summary.gps_sum = gps_sum
         summary.gps_worst = (gps_worst, gps_wline)
         summary.gps_last = gps_last
+        summary.rise = rise
+    doubt = climb_doubt(summary, reader)
+    if doubt is not None:
+        message, pairs, stop = doubt
+        if stop:
+            raise ReplayAbort(message)
+        summary.doubt = (pairs, message)
+
+
+def climb_doubt(summary, reader):
+    """The climb check of a time column in s or ms, after the replay:
+    ``(message, pairs, stop)`` or None.
+
+    It doubts the time unit when the height rose DOUBT_RISE_M above the first
+    accepted reading and the column saw no launch, or saw one but the mean
+    climb from the launch to that height is slower than DOUBT_RATE_M_S (and no
+    float began before it). TimeUnitCheck judges the first move only, and
+    not a unit given on the command line; this judges the whole rise. With
+    the unit given on the command line (``--time NAME:s``) it is a warning
+    (``stop`` False: a summary record and a line on stderr), else the replay
+    stops (exit 2) asking for the unit."""
+    rise, surface = summary.rise, summary.surface
+    cols = getattr(reader, "columns", {})
+    if rise is None or surface is None or "time" not in cols or cols["time"][2] not in ("s", "ms"):
+        return None
+    h1, t1, line1 = rise
+    rd0, h0 = surface[0], surface[1]
+    t0, line0 = rd0[4], rd0[0]
+    launch = summary.launch
+    if launch is not None:
+        t0, line0 = launch[0], launch[1]
+        if any(f[1] < t1 for f in summary.floats):
+            return None
+    if t0 is None or t1 is None or not t1 - t0 > 0.0:
+        return None
+    dt = t1 - t0
+    rate = (h1 - h0) / dt
+    if launch is not None and rate >= DOUBT_RATE_M_S:
+        return None
+    i, name, unit, _ = cols["time"]
+    given = "time" in getattr(reader, "option_units", ())
+    what = ("the height rose %.0f m, from %.0f m (line %d) to %.0f m (line %d), in %.6g s "
+            "with the time column %r read in %s: a mean climb of %.3g m/s%s"
+            % (h1 - h0, h0, surface[0][0], h1, line1, dt, name, unit, rate,
+               ", and the column saw no launch (it needs launch_rate_gpm_s %g gpm/s)"
+               % summary.col.launch_rate_gpm_s if launch is None else
+               " from the launch (line %d), slower than %g m/s" % (line0, DOUBT_RATE_M_S)))
+    balloon = "a balloon climbs at 1 to 8 m/s"
+    if unit == "s" and DOUBT_RATE_M_S <= rate * 1000.0 <= DOUBT_FAST_M_S:
+        ask = "are the values milliseconds? give --time %s:ms" % name
+    else:
+        ask = ("the time stamps look too large; convert them to seconds or milliseconds "
+               "and give --time %s:s or --time %s:ms" % (name, name))
+    if given:
+        message = ("%s; %s: is the time unit right? %s (--time %s:%s was given, so the log is "
+                   "taken as it is)" % (what, balloon, ask, name, unit))
+    else:
+        message = ("%s; %s: is the time unit right? %s (if the log really climbs this slowly, "
+                   "give --time %s:%s to take it as it is)" % (what, balloon, ask, name, unit))
+    pairs = [("rise_m", h1 - h0), ("seconds", dt), ("rate_m_s", rate), ("from_line", line0),
+             ("to_line", line1), ("unit", unit)]
+    return message, pairs, not given
 
 
 def _median(values):
@@ -820,6 +905,8 @@ def replay(reader, col, out, setup, source_name, every=1, flush=False, err=None,
                                                                   summary.line))
     if prog is not None:
         prog.done()
+    if summary.doubt is not None:
+        err.write("tinygeo replay: warning: %s\n" % one_line(summary.doubt[1]))
     if not state["header"]:
         header()
     out.write(record.end_line(summary.written, col) + "\n")
