@@ -430,6 +430,21 @@ class Outputs:
             f.commit()
         self.files = []
 
+    def finish(self, records, summary_path, out_path):
+        """The end of a table command: the summary records to the
+        ``--summary`` file (if any), all outputs committed, then the records
+        to standard output too when the table went to a file."""
+        if summary_path:
+            s = self.open(summary_path)
+            for line in records:
+                s.write(line + "\n")
+        self.commit()
+        if out_path not in (None, "-"):
+            o = self.open(None)
+            for line in records:
+                o.write(line + "\n")
+            self.commit()
+
     def __enter__(self):
         return self
 

@@ -951,16 +951,7 @@ def command(a, stdin, stdout, stderr):
                                "; first: " + summary.first_rejection if summary.first_rejection
                                else ", no data lines after the header"))
             records = summary.lines()
-            if a.summary:
-                s = outs.open(a.summary)
-                for line in records:
-                    s.write(line + "\n")
-            outs.commit()
-            if a.out not in (None, "-"):
-                o = outs.open(None)
-                for line in records:
-                    o.write(line + "\n")
-                outs.commit()
+            outs.finish(records, a.summary, a.out)
         if summary.looks_like_station():
             cmd, unknown = station_command(a, reader, setup)
             rise, hours = summary.station_span()

@@ -519,16 +519,7 @@ def command(a, stdin, stdout, stderr):
             records = summary.lines()
             for line in records:
                 out.write(line + "\n")
-            if a.summary:
-                s = outs.open(a.summary)
-                for line in records:
-                    s.write(line + "\n")
-            outs.commit()
-            if a.out not in (None, "-"):
-                o = outs.open(None)
-                for line in records:
-                    o.write(line + "\n")
-                outs.commit()
+            outs.finish(records, a.summary, a.out)
         return 0
     finally:
         close()
