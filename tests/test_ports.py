@@ -62,7 +62,8 @@ def core_set():
     out = set()
     for p in (ROOT / "tinygeo").rglob("*.py"):
         rel = p.relative_to(ROOT).as_posix()
-        if rel.startswith("tinygeo/host/") or rel == "tinygeo/__main__.py" or "__pycache__" in rel:
+        if rel.startswith("tinygeo/host/") or rel in ("tinygeo/__main__.py", "tinygeo/cpyslots.py") \
+                or "__pycache__" in rel:
             continue
         out.add(rel)
     return out

@@ -18,6 +18,7 @@ PKG = ROOT / "tinygeo"
 # (DEVELOPERS.md shows the same picture). Device package first, then host.
 LAYERS = {
     "tinygeo.errors": 0,
+    "tinygeo.cpyslots": 0,        # CPython only (not in the device package): names, no imports
     "tinygeo.constants": 1,
     "tinygeo.checkpoint": 1,
     "tinygeo.record": 1,
@@ -179,3 +180,39 @@ def test_version_in_one_place_license_and_dir():
                           "print('Column' in d, 'normal_gravity' in d, 'tinygeo.column' in sys.modules)"],
                          capture_output=True, text=True, cwd=str(ROOT), check=True).stdout.split()
     assert out == ["True", "True", "False"]
+
+
+def test_column_attributes_are_all_in_the_cpython_slots():
+    # tinygeo/cpyslots.py lists every attribute a Column and its records set
+    # (CPython keeps them in slots: feed's speed, bench/replay_bench.py); one
+    # missing would land in the instance __dict__ and only be slower, so this
+    # drives a column through the paths that set attributes (every fault kind of
+    # tests/streams.py, GPS with a geoid, reanchor_gps, a checkpoint restore, a
+    # column without time or humidity) and fails on any name in a __dict__
+    import streams
+    from tinygeo import cpyslots
+    from tinygeo.column import Column
+    assert Column.__slots__ == cpyslots.COLUMN and cpyslots.COLUMN[-1] == "__dict__"
+    atm = streams.warm_humid()
+    flight = streams.balloon_flight(atm, top_gph_m=12000.0)
+    base = streams.make_stream(flight, atm, 3, gps=True, gps_nofix=((40, 5),))
+    runs = [(base, {}), (streams.hpa_as_pa(base, 0), {}), (streams.time_shifted(base, 50, 1e6), {}),
+            (streams.gap(base, 500, 60), {}), (streams.temperature_spike(base, 300, 15.0), {}),
+            (streams.pressure_scaled(base, 200, -0.06), {}), (streams.humidity_lost(base, 100), {}),
+            (streams.nan_value(base, 70), {}),
+            (streams.make_stream(flight, atm, 4, humidity=False, time_format=None), {"dry_fallback": True})]
+    for stream, kw in runs:
+        col = Column(45.0, 0.0, geoid_undulation_m=20.0, **kw)
+        for r in stream.readings:
+            if r is None:          # (streams.gap: no reading)
+                continue
+            try:
+                col.feed(*r)
+            except ValueError:
+                pass
+        if col.gps_m == col.gps_m:
+            col.reanchor_gps()
+        for c in (col, Column.from_bytes(col.to_bytes())):
+            assert vars(c) == {}, sorted(vars(c))
+            for rec in (c._h, c._b, c._n):
+                assert vars(rec) == {}, sorted(vars(rec))

@@ -454,11 +454,17 @@ continues bit-identically. on_event and levels are not stored.
 import math
 
 from .potential import GPH_MIN_M, GPH_MAX_M, msl_height, gph_series, newton_step, height_series
-from .layers import lnr, half_k_ln, HALF_RG
+from .layers import lnr, half_k_ln, HALF_RG, LN_SWITCH
 from .moisture import rh_q, tv_w, ONE_M_EPS, boiling_error
 from .standard import altitude_at
 from .constants import WGS84, GRS80, EPSILON, check_ellipsoid
 from .errors import ReadingError, RangeError, quote, real, INF, NINF
+try:
+    # CPython: the objects' attributes in slots (faster; see tinygeo.cpyslots)
+    from .cpyslots import COLUMN as _SLOTS_COLUMN, RECORD as _SLOTS_RECORD
+except ImportError:
+    # the device package has no cpyslots: plain classes (MicroPython ignores slots)
+    _SLOTS_COLUMN = _SLOTS_RECORD = ()
 
 # --- events, flags, phases ----------------------------------------------------
 EV_LEVEL = 1
@@ -559,6 +565,9 @@ class _Rec:
     uncertainty sums var_done,
     var_p, tm2, s2, p_start, sum_rh, sum_p, slope, sum_hum, tvh (see
     "Uncertainty")."""
+
+    if _SLOTS_RECORD:
+        __slots__ = _SLOTS_RECORD
 
     def __init__(self):
         nan = _NAN
@@ -681,6 +690,9 @@ class Column:
     _var_anchor: float
     count: int; rejected: int; retracted: int; phase: int; _has_b: int; _e_n: int
     _lvl: int; _burst_n: int; _tb_n: int; _tp_state: int; _t0_int: int; _t0_hi: int; _t0_lo: int
+
+    if _SLOTS_COLUMN:
+        __slots__ = _SLOTS_COLUMN
 
     def __init__(self, lat_deg, start_height_m=0, anchor_p_pa=None, ellipsoid=WGS84,
                  ice=False, dry_fallback=False, sigma_p_pa=10, sigma_t_k=0.2,
@@ -1056,32 +1068,36 @@ class Column:
             h = nd[1] + d * (nd[2] + d * nd[3])
         n.height_m = h
         # -- time, and the checks against a (see "Checks and recovery")
+        # (tr, g_t, h_tm: of the latest timed reading; rdh, rdt: of the latest
+        # timed step; each field written once: a's value where n keeps it)
         tsr = n.tsr
-        if a is None:
-            n.tr = None
-            n.g_t = n.h_tm = n.rdh = n.rdt = _NAN
-            n.t0 = tsr
-        else:
-            n.tr = a.tr
-            n.g_t = a.g_t
-            n.h_tm = a.h_tm
-            n.rdh = a.rdh
-            n.rdt = a.rdt
-            n.t0 = a.t0 if a.t0 is not None else tsr
         dt = _NAN
-        if tsr is None:
-            flags |= FL_NO_TIME
+        if a is None:
+            n.t0 = tsr
+            tr = None
             n.rdh = n.rdt = _NAN
         else:
-            if n.tr is not None:
+            n.t0 = a.t0 if a.t0 is not None else tsr
+            tr = a.tr
+        if tsr is None:
+            flags |= FL_NO_TIME
+            n.tr = tr
+            n.rdh = n.rdt = _NAN
+            if a is None:
+                n.g_t = n.h_tm = _NAN
+            else:
+                n.g_t = a.g_t
+                n.h_tm = a.h_tm
+        else:
+            if tr is not None:
                 # the difference of two stamps as given: ints subtract exactly,
                 # before anything becomes a float (see "Time")
-                dt = tsr - n.tr
+                dt = tsr - tr
                 if self._unit is not None:
                     dt = dt * self._unit
                 if dt < 0:
                     why = 3
-                    self._why = ("time", 3, quote(tsr), self._rel(n.tr, n))
+                    self._why = ("time", 3, quote(tsr), self._rel(tr, n))
             n.tr = tsr
             n.g_t = g
             n.h_tm = h
@@ -1098,7 +1114,14 @@ class Column:
                     self._why = ("temperature", 10, quote(t), dtk, a.t_k, allow)
             if dt == dt and a.h_tm == a.h_tm:
                 dh = h - a.h_tm
-                if dt > 0:
+                if dt <= 0:
+                    # a repeated time stamp (a coarse clock, a float32 stamp):
+                    # no rate check is possible for this step; the look-back
+                    # still compares the next reading with this one
+                    flags |= FL_SAME_TIME
+                    n.rdh = a.rdh
+                    n.rdt = a.rdt
+                else:
                     # rate_m_s = dh/dt, built where it is read
                     n.rdh = dh
                     n.rdt = dt
@@ -1115,11 +1138,9 @@ class Column:
                             why = 12
                             self._why = ("rate", 12, quote(p), dh / dt, dt, self.max_rate_m_s,
                                          noise)
-                else:
-                    # a repeated time stamp (a coarse clock, a float32 stamp):
-                    # no rate check is possible for this step; the look-back
-                    # still compares the next reading with this one
-                    flags |= FL_SAME_TIME
+            elif tsr is not None:
+                n.rdh = a.rdh
+                n.rdt = a.rdt
         # -- GPS
         gps = n.gpsr
         if gps is None or gps != gps:
@@ -1587,6 +1608,11 @@ class Column:
                 self._max_clk = clk
                 self._max_p = p
                 self._burst_n = 0
+            elif ph == PH_FLOAT and self._f_v >= self._f_bv and self._fl_lo <= hs <= self._fl_hi \
+                    and hs <= self.max_gph_m:
+                # phase: _phase while floating within the band, not sinking
+                # (burst test) nor above the highest point (no event)
+                self._burst_n = 0
             elif ph != PH_LANDED:        # (landed: _phase has nothing more to do)
                 bits |= self._phase(r, ph, g, p, clk)
         self._e_p = p
@@ -1964,14 +1990,30 @@ class Column:
     def sigma_m(self):
         """Total 1-sigma height uncertainty, m (gpm): random and systematic
         parts added in squares."""
-        # sigma_random_m's steps written out here (read once per row by a
-        # table writer: one call less)
+        # sigma_random_m's and _bias2's steps written out here, with the
+        # common case of half_k_ln (p_start/p far from 1: layers.lnr's
+        # math.log branch): a table writer reads this once per row
         if self.count == 0 or not self.track_sigma:
             return _NAN
         h = self._h
-        x = h.tm2 / h.p_pa
-        r = math.sqrt(h.var_done + h.ct * h.ct * h.s2 + (h.var_p + x * x) * self._spk2)
-        return math.sqrt(r * r + self._bias2())
+        p = h.p_pa
+        tm2 = h.tm2
+        ct = h.ct
+        x = tm2 / p
+        r = math.sqrt(h.var_done + ct * ct * h.s2 + (h.var_p + x * x) * self._spk2)
+        ps = h.p_start
+        d = (ps - p) / (ps + p)
+        if d >= LN_SWITCH:
+            bt = HALF_RG * math.log(ps / p)
+        elif d <= -LN_SWITCH:
+            bt = HALF_RG * -math.log(p / ps)
+        else:
+            bt = half_k_ln(ps, p)
+        bt = 2 * bt * self.bias_t_k
+        bh = (h.sum_rh + ct * h.slope) * self.bias_rh_pct
+        bp = HALF_RG * (h.sum_p - tm2 / p) * self.bias_p_pa
+        bw = h.sum_hum + ct * h.tvh
+        return math.sqrt(r * r + (bt * bt + bh * bh + bp * bp + bw * bw + self._var_anchor))
 
     # ------------------------------------------------------------ GPS
     def reanchor_gps(self, sigma_gps_m=10):

@@ -20,7 +20,8 @@ files a CircuitPython board loads. The script prints the header of what it
 built so a mismatch is visible.
 
 The core file list is the same as the MicroPython port's (every module under
-``tinygeo/`` except ``tinygeo/host/`` and ``tinygeo/__main__.py``).
+``tinygeo/`` except ``tinygeo/host/``, ``tinygeo/__main__.py`` and
+``tinygeo/cpyslots.py``).
 """
 import os
 import shutil

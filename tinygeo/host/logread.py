@@ -85,6 +85,9 @@ import datetime
 from tinygeo.errors import ReadingError
 from tinygeo.host.options import MAX_LINE_CHARS, InputError, TextLines
 
+# bytes read and decoded at a time by the readings' loop (LogReader._chunks)
+CHUNK_BYTES = 1 << 16
+
 QUANTITIES = ("pressure", "temperature", "humidity", "dewpoint", "time", "gps")
 
 # unit word (normalised) -> canonical unit, per quantity
@@ -716,8 +719,6 @@ class LogReader:
             self.settle()
         ahead = self._ahead
         self._ahead = []
-        stream = self.stream
-        readline = stream.readline
         cols = self.columns
         d = self.delimiter
         nf = self.nfields
@@ -733,72 +734,108 @@ class LogReader:
         itm = tcol[0] if tcol is not None else -1
         ftm = 0.001 if tcol is not None and tcol[2] == "ms" else 1.0
         parse = self.parse
-        src = self.stream
-        if isinstance(src, TextLines):
-            rl = src.stream.readline        # its stream, read inline (speed)
-            binary = src.binary
-        else:
-            def rl(limit):
-                return src.readline()
-            binary = False
-        limit = MAX_LINE_CHARS + 1
         lineno = self.lineno
-        k = 0
-        na = len(ahead)
         try:
-            while True:
-                if k < na:
-                    lineno, raw = ahead[k]
-                    ahead[k] = None
-                    k += 1
-                else:
-                    # TextLines.readline, written out
-                    raw = rl(limit)
-                    if not raw:
-                        return
+            for first, chunk in self._chunks(ahead):
+                lineno = first - 1
+                for raw in chunk:
                     lineno += 1
-                    if binary:
-                        try:
-                            raw = raw.decode("utf-8")
-                        except UnicodeDecodeError as e:
-                            raise src.not_utf8(lineno, e, raw)
-                    if len(raw) >= MAX_LINE_CHARS or "\x00" in raw:
-                        src.check(raw, lineno)
-                if fast and '"' not in raw:
-                    fields = raw.split(d)
-                    if len(fields) == nf:
-                        try:
-                            p = float(fields[ip]) * fp + op
-                            t = float(fields[it]) * ft + ot
-                            rh = float(fields[ih]) * fh if ih >= 0 else 0.0
-                            ts = float(fields[itm]) * ftm if itm >= 0 else 0.0
-                            g = float(fields[ig]) if ig >= 0 else 0.0
-                        except ValueError:
-                            pass
-                        else:
-                            s = p + t + rh + ts + g
-                            if s - s == 0.0:       # all finite (nan or inf would not be)
-                                yield (lineno, p, t, rh if ih >= 0 else None,
-                                       ts if itm >= 0 else None, g if ig >= 0 else None)
-                                continue
-                self.lineno = lineno
-                line = raw.rstrip("\r\n")
-                stripped = line.strip()
-                if not stripped or stripped.startswith("#"):
-                    continue
-                if d not in ("\t", " "):
-                    line = stripped
-                try:
-                    yield parse(line, lineno)
-                except ReadingError as e:
-                    yield e
+                    if fast and '"' not in raw:
+                        fields = raw.split(d)
+                        if len(fields) == nf:
+                            try:
+                                p = float(fields[ip]) * fp + op
+                                t = float(fields[it]) * ft + ot
+                                rh = float(fields[ih]) * fh if ih >= 0 else 0.0
+                                ts = float(fields[itm]) * ftm if itm >= 0 else 0.0
+                                g = float(fields[ig]) if ig >= 0 else 0.0
+                            except ValueError:
+                                pass
+                            else:
+                                s = p + t + rh + ts + g
+                                if s - s == 0.0:       # all finite (nan or inf would not be)
+                                    yield (lineno, p, t, rh if ih >= 0 else None,
+                                           ts if itm >= 0 else None, g if ig >= 0 else None)
+                                    continue
+                    self.lineno = lineno
+                    line = raw.rstrip("\r\n")
+                    stripped = line.strip()
+                    if not stripped or stripped.startswith("#"):
+                        continue
+                    if d not in ("\t", " "):
+                        line = stripped
+                    try:
+                        yield parse(line, lineno)
+                    except ReadingError as e:
+                        yield e
         except OSError as e:
             raise InputError("cannot read %s after line %d: %s"
                              % (self.name, lineno, e.strerror or e))
         finally:
             self.lineno = lineno
-            if binary or isinstance(src, TextLines):
-                src.lineno = lineno
+            if isinstance(self.stream, TextLines):
+                self.stream.lineno = lineno
+
+    def _chunks(self, ahead):
+        # the lines after the header as (number of the first, list of lines):
+        # the lines settle read ahead, then a binary stream's lines a block
+        # at a time (one read and one decode per CHUNK_BYTES: the replay's
+        # hot loop, bench/replay_bench.py), else one line at a time. A line
+        # comes without its LF. A line that is not UTF-8, holds a NUL or is
+        # MAX_LINE_CHARS long or longer raises InputError as TextLines does;
+        # memory stays within one such line and one block.
+        src = self.stream
+        lineno = self.lineno        # the last line read (settle's read-ahead included)
+        if ahead:
+            yield ahead[0][0], [raw for _, raw in ahead]
+        read = getattr(getattr(src, "stream", None), "read1", None)
+        if not isinstance(src, TextLines) or not src.binary or read is None:
+            readline = src.readline
+            while True:
+                raw = readline()
+                if not raw:
+                    return
+                lineno += 1
+                yield lineno, [raw]
+        tail = b""
+        while True:
+            block = read(CHUNK_BYTES)
+            if not block:
+                if tail:
+                    yield lineno + 1, self._decode(tail, lineno, True)
+                return
+            end = block.rfind(b"\n")
+            if end < 0:
+                tail += block
+                if len(tail) >= MAX_LINE_CHARS and \
+                        len(tail.decode("utf-8", "ignore")) >= MAX_LINE_CHARS:
+                    src.check(tail.decode("utf-8", "ignore"), lineno + 1)
+                continue
+            lines = self._decode(tail + block[:end], lineno, False)
+            tail = block[end + 1:]
+            yield lineno + 1, lines
+            lineno += len(lines)
+
+    def _decode(self, data, lineno, last):
+        # the lines of ``data`` (whole lines after line ``lineno``, without
+        # the LF that ends the last one unless ``last``), checked
+        src = self.stream
+        try:
+            text = data.decode("utf-8")
+        except UnicodeDecodeError as e:
+            k = data.count(b"\n", 0, e.start)
+            bad = data.split(b"\n")[k]
+            try:
+                bad.decode("utf-8")
+            except UnicodeDecodeError as e1:
+                raise src.not_utf8(lineno + k + 1, e1, bad)
+            raise src.not_utf8(lineno + k + 1, e, data)    # (not reached)
+        lines = text.split("\n")
+        if len(text) >= MAX_LINE_CHARS or "\x00" in text:
+            for k, raw in enumerate(lines):
+                if len(raw) >= MAX_LINE_CHARS or "\x00" in raw:
+                    src.check(raw if len(raw) >= MAX_LINE_CHARS else raw + "\n", lineno + k + 1)
+        return lines
 
     def _conv(self, q):
         i, name, unit, stated = self.columns[q]
