@@ -511,7 +511,14 @@ def run(reader, col, summary, report, out=None, every=1, flush=False, sink=None,
     levels = tap.levels
     check = TimeUnitCheck(reader)
     checking = check.active
-    fmt = record.FORMAT + "\n"
+    # record.FORMAT with the pressure and with the temperature, humidity
+    # and dew point formatted apart (%s in the row), as the same bytes
+    parts = record.FORMAT.split("\t")
+    fmt_p = parts[2]
+    fmt_trt = "\t".join(parts[3:6])
+    fmt = "\t".join(parts[:2] + ["%s", "%s"] + parts[6:]) + "\n"
+    c_p = c_t = c_rh = NAN
+    c_ps = c_trt = ""
     write = out.write if out is not None else None
     ice = col.ice
     nan = NAN
@@ -619,13 +626,24 @@ def run(reader, col, summary, report, out=None, every=1, flush=False, sink=None,
                 continue
             if thin and not bits and (accepted - 1) % every:
                 continue
-            td = td_rh(t, rh, ice) if rh is not None and rh > 0.0 else nan
+            # the fields of a value that repeats the row before's are not
+            # formatted again (a sensor's resolution makes most repeat while
+            # floating or standing): the pressure, and the temperature with
+            # the humidity and the dew point (zero humidity always anew: -0.0)
+            if p != c_p:
+                c_p = p
+                c_ps = fmt_p % p
+            if t != c_t or rh != c_rh or not rh:
+                c_t = t
+                c_rh = rh
+                c_trt = fmt_trt % (t, nan if rh is None else rh,
+                                   td_rh(t, rh, ice) if rh is not None and rh > 0.0 else nan)
             if bits:
                 ev = record.events_text(bits, [lv[0] for lv in levels] if bits & EV_LEVEL else nan)
             else:
                 ev = "-"
-            write(fmt % (lineno, nan if ts is None else ts, p, t, nan if rh is None else rh,
-                         td, nan if gps is None else gps, col.gph_m, h, col.rate_m_s,
+            write(fmt % (lineno, nan if ts is None else ts, c_ps, c_trt,
+                         nan if gps is None else gps, col.gph_m, h, col.rate_m_s,
                          col.sigma_m, flags, ev))
             written += 1
             if flush:
