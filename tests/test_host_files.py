@@ -311,3 +311,58 @@ def test_a_read_only_output_is_not_replaced(flight, tmp_path):
     finally:
         out.chmod(0o644)
     assert not [p for p in os.listdir(tmp_path) if p.endswith(".part")]
+
+
+def _repeating_log():
+    # invented: a slow rise from a 0 m site (given as -0) whose readings repeat
+    # at the sensors' resolution (pressure every 3, temperature every 5),
+    # humidity 55 %, 0.0, -0.0 and missing in turn, GPS fixes and no-fix cells
+    out = ["# invented log with repeating values (not real data)", "# lat_deg=45.0",
+           "time_s,pressure_hpa,temp_c,rh_pct,gps_m"]
+    rh_cycle = ("55.0", "55.0", "0.0", "-0.0", "")
+    for i in range(600):
+        p = 1013.25 - 0.05 * (i // 3)
+        t = 15.00 - 0.01 * (i // 5)
+        rh = rh_cycle[(i // 41) % len(rh_cycle)]     # (41: a change between two repeats)
+        gps = "" if (i // 25) % 2 else "%.1f" % (0.4 * (i // 3))
+        out.append("%d,%.2f,%.2f,%s,%s" % (i, p, t, rh, gps))
+    return "\n".join(out) + "\n"
+
+
+def test_replay_rows_are_the_record_rows_of_the_column_values():
+    # the replay formats a field again only when its value changed (speed,
+    # bench/replay_bench.py); each row must still be byte for byte
+    # record.row() of the column's values after that reading (the device's
+    # format, tinygeo/record.py), built here independently reading by reading
+    from tinygeo import record
+    from tinygeo.host import replay as rp
+    from tinygeo.host.cli import build_parser
+    from tinygeo.host.logread import LogReader
+    from tinygeo.host.options import TextLines, column_setup, new_column
+    log = _repeating_log()
+    args = ["replay", "-", "--start-height", "-0"]
+    rc, out, err = main(args, stdin=io.TextIOWrapper(io.BytesIO(log.encode())))
+    assert rc == 0, err
+    rows = [ln for ln in out.splitlines() if ln[:1].isdigit()]
+    reader = LogReader(TextLines(io.StringIO(log), "stdin"), {}, None, "stdin")
+    setup = column_setup(build_parser().parse_args(args), reader)
+    col = new_column(setup)
+    reader.settle(setup.start_height_m, setup.start_given)
+    expect = []
+    for r in reader:
+        try:
+            col.feed(*r[1:])
+        except ValueError:
+            continue
+        lineno, p, t, rh, ts, gps = r
+        expect.append(record.row(lineno, ts, p, t, rh, rp.dew_point_k(t, rh, col.ice), gps,
+                                 col.gph_m, col.height_m, col.rate_m_s, col.sigma_m, col.flags, "-"))
+    assert len(rows) == len(expect) == 600
+    # (the events field aside: the replay names the events, this loop does not)
+    assert [r.rsplit("\t", 1)[0] for r in rows] == [e.rsplit("\t", 1)[0] for e in expect]
+    # the log exercised what the row cache must tell apart: repeated values,
+    # zero and -0.0 humidity, missing humidity and GPS
+    cells = [r.split("\t") for r in rows]
+    assert {c[4] for c in cells} >= {"55.00", "0.00", "-0.00", "nan"}
+    assert sum(a[2] == b[2] for a, b in zip(cells, cells[1:])) > 300
+    assert {c[6] == "nan" for c in cells} == {True, False}

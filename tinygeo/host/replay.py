@@ -17,6 +17,7 @@ next is accepted): the table's event word stands on the row of the reading
 whose feed returned it; the summary names where each event happened.
 """
 import math
+from math import copysign
 import sys
 import time as _time
 from array import array
@@ -513,12 +514,20 @@ def run(reader, col, summary, report, out=None, every=1, flush=False, sink=None,
     checking = check.active
     # record.FORMAT with the pressure and with the temperature, humidity
     # and dew point formatted apart (%s in the row), as the same bytes
+    # (and the GPS height, the gph with the height, and the rate)
     parts = record.FORMAT.split("\t")
     fmt_p = parts[2]
     fmt_trt = "\t".join(parts[3:6])
-    fmt = "\t".join(parts[:2] + ["%s", "%s"] + parts[6:]) + "\n"
-    c_p = c_t = c_rh = NAN
-    c_ps = c_trt = ""
+    fmt_gps = parts[6]
+    fmt_gh = "\t".join(parts[7:9])
+    fmt_r = parts[9]
+    fmt = "\t".join(parts[:2] + ["%s"] * 5 + parts[10:]) + "\n"
+    if fmt_gps % NAN != "nan":
+        raise AssertionError("record.FORMAT: a GPS height of nan must print as nan")
+    c_p = c_t = c_rh = c_g = c_h = c_r = NAN
+    c_ps = c_trt = c_gh = c_rs = ""
+    zero_pos = fmt_r % 0.0
+    zero_neg = fmt_r % -0.0
     write = out.write if out is not None else None
     ice = col.ice
     nan = NAN
@@ -628,8 +637,11 @@ def run(reader, col, summary, report, out=None, every=1, flush=False, sink=None,
                 continue
             # the fields of a value that repeats the row before's are not
             # formatted again (a sensor's resolution makes most repeat while
-            # floating or standing): the pressure, and the temperature with
-            # the humidity and the dew point (zero humidity always anew: -0.0)
+            # floating or standing): the pressure, the temperature with the
+            # humidity and the dew point, the heights (a repeated pressure
+            # repeats them) and the rate; zero heights and humidity always
+            # anew, a zero rate by its sign (-0.0 compares equal to 0.0 and
+            # prints as -0.000)
             if p != c_p:
                 c_p = p
                 c_ps = fmt_p % p
@@ -638,12 +650,23 @@ def run(reader, col, summary, report, out=None, every=1, flush=False, sink=None,
                 c_rh = rh
                 c_trt = fmt_trt % (t, nan if rh is None else rh,
                                    td_rh(t, rh, ice) if rh is not None and rh > 0.0 else nan)
+            g = col.gph_m
+            if g != c_g or h != c_h or not g or not h:
+                c_g = g
+                c_h = h
+                c_gh = fmt_gh % (g, h)
+            rate = col.rate_m_s
+            if rate != c_r:
+                c_r = rate
+                c_rs = fmt_r % rate
+            elif not rate:
+                c_rs = zero_neg if copysign(1.0, rate) < 0.0 else zero_pos
             if bits:
                 ev = record.events_text(bits, [lv[0] for lv in levels] if bits & EV_LEVEL else nan)
             else:
                 ev = "-"
             write(fmt % (lineno, nan if ts is None else ts, c_ps, c_trt,
-                         nan if gps is None else gps, col.gph_m, h, col.rate_m_s,
+                         "nan" if gps is None else fmt_gps % gps, c_gh, c_rs,
                          col.sigma_m, flags, ev))
             written += 1
             if flush:
