@@ -1170,6 +1170,15 @@ def _special_streams():
     out.append(cmds)
     # a float of 700 s at 2 km, then the descent
     out.append(_flight(dict(base, float_s=600.0), 400, top=700))
+    # a fall from 7 km to sea level (a dropped probe): p_start/p goes from 1
+    # to 0.41, through the series and both math.log branches of the bias
+    # term's ln(p_start/p) (sigma_m writes out layers.lnr's log branches)
+    cmds = [("init", (30.0, {"start_height_m": 7000.0}))]
+    for i in range(300):
+        h = 7000.0 - 23.5 * i
+        cmds.append(("feed", (standard.standard_pressure(h), 242.5 + 0.0065 * (7000.0 - h), 30.0,
+                              float(i), None)))
+    out.append(cmds)
     out += _jitter_streams()
     # every temperature allowance 0 (max_t_step_k, sigma_t_k, max_t_rate_k_s,
     # max_t_gradient_k_gpm): a glitch 50 m up starts a run (beyond 30 m/s from

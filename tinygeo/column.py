@@ -454,7 +454,7 @@ continues bit-identically. on_event and levels are not stored.
 import math
 
 from .potential import GPH_MIN_M, GPH_MAX_M, msl_height, gph_series, newton_step, height_series
-from .layers import lnr, half_k_ln, HALF_RG, LN_SWITCH
+from .layers import lnr, half_k_ln, HALF_RG
 from .moisture import rh_q, tv_w, ONE_M_EPS, boiling_error
 from .standard import altitude_at
 from .constants import WGS84, GRS80, EPSILON, check_ellipsoid
@@ -544,6 +544,11 @@ _SPIKE_KN = SPIKE_K * _SQRT2      # 8 sqrt(2): the noise of a difference of two 
 # 1/sqrt(3) (the RMS error bound of a mixing ratio known to lie in [0, w_s]);
 # see "Humidity" and "Uncertainty"
 _HUM_K = (1.0 / EPSILON - 1.0) * 0.5773502691896258
+# ratios p_start/p beyond which layers.lnr surely takes its math.log branch
+# (|d| >= LN_SWITCH 0.25 holds for q >= 5/3 and q <= 3/5; these keep 0.03
+# away from both, far beyond the rounding of d)
+_LN_Q_HI = 1.7
+_LN_Q_LO = 0.58
 
 
 class _Rec:
@@ -1037,6 +1042,7 @@ class Column:
         if p0 != p0 or p == p0:   # first reading without anchor, or a repeated pressure
             dz = half = 0.0
             g = s
+            big = False
             if a is not None:
                 flags |= FL_SAME_P
         else:
@@ -1049,6 +1055,10 @@ class Column:
             y = dz - c
             g = s + y
             c = (g - s) - y
+            # a step beyond the "there and back" test's floor (less 1 gpm, so
+            # that the rounding of gph differences never hides one: feed's
+            # pre-filter)
+            big = dz > _SPIKE_PRE or dz < -_SPIKE_PRE
         n.tv_k = tv
         n.gph_m = g
         n.c = c
@@ -1105,7 +1115,7 @@ class Column:
         if a is not None:
             # temperature step (see max_t_step_k); the noise is in _t_lim
             dtk = t - a.t_k
-            if why == 0 and (dtk > self._t_lim or dtk < self._t_lim_neg):
+            if (dtk > self._t_lim or dtk < self._t_lim_neg) and why == 0:
                 allow = self._t_lim + self.max_t_gradient_k_gpm * abs(dz)
                 if dt == dt:
                     allow += self.max_t_rate_k_s * dt
@@ -1130,7 +1140,7 @@ class Column:
                         self._c_dt = dt
                         self._c_lim = self._max_rate * dt
                         self._c_neg = -self._c_lim
-                    if why == 0 and (dh > self._c_lim or dh < self._c_neg):
+                    if (dh > self._c_lim or dh < self._c_neg) and why == 0:
                         # beyond max_rate_m_s: still passes within the noise
                         # (built only out here, rarely)
                         noise = self._kn * tv / p
@@ -1163,9 +1173,7 @@ class Column:
         n.tvh = tvh
         n.half = half
         n.lay = tm2
-        # a step beyond the "there and back" test's floor (less 1 gpm, so that
-        # the rounding of gph differences never hides one: feed's pre-filter)
-        n.big = dz > _SPIKE_PRE or dz < -_SPIKE_PRE
+        n.big = big
         return why
 
     def _sigma(self, a, n):
@@ -1992,7 +2000,9 @@ class Column:
         parts added in squares."""
         # sigma_random_m's and _bias2's steps written out here, with the
         # common case of half_k_ln (p_start/p far from 1: layers.lnr's
-        # math.log branch): a table writer reads this once per row
+        # math.log branch, which |d| >= LN_SWITCH takes, d = (q - 1)/(q + 1);
+        # _LN_Q_HI and _LN_Q_LO lie beyond its ends): a table writer reads
+        # this once per row
         if self.count == 0 or not self.track_sigma:
             return _NAN
         h = self._h
@@ -2002,10 +2012,10 @@ class Column:
         x = tm2 / p
         r = math.sqrt(h.var_done + ct * ct * h.s2 + (h.var_p + x * x) * self._spk2)
         ps = h.p_start
-        d = (ps - p) / (ps + p)
-        if d >= LN_SWITCH:
-            bt = HALF_RG * math.log(ps / p)
-        elif d <= -LN_SWITCH:
+        q = ps / p
+        if q > _LN_Q_HI:
+            bt = HALF_RG * math.log(q)
+        elif q < _LN_Q_LO:
             bt = HALF_RG * -math.log(p / ps)
         else:
             bt = half_k_ln(ps, p)

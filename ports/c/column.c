@@ -1589,7 +1589,10 @@ TG_FLOAT tg_column_sigma_bias_m(const tg_column *col)
     return TG_SQRT(bias2(col));
 }
 
-/* Column.sigma_m */
+/* Column.sigma_m (the Python writes sigma_random_m's and _bias2's steps out
+   in the property, and layers.lnr's math.log branch for p_start/p beyond
+   _LN_Q_HI/_LN_Q_LO: the same operations, so the same bits; here the calls
+   cost little and stay) */
 TG_FLOAT tg_column_sigma_m(const tg_column *col)
 {
     TG_FLOAT r = tg_column_sigma_random_m(col);
