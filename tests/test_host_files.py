@@ -366,3 +366,21 @@ def test_replay_rows_are_the_record_rows_of_the_column_values():
     assert {c[4] for c in cells} >= {"55.00", "0.00", "-0.00", "nan"}
     assert sum(a[2] == b[2] for a, b in zip(cells, cells[1:])) > 300
     assert {c[6] == "nan" for c in cells} == {True, False}
+
+
+def test_a_huge_number_in_a_clean_block_is_unread_as_before(tmp_path):
+    # a pressure of 400 digits (no letter: float() makes it inf) in the middle
+    # of a long log: the readings' loop takes a block without the letters of
+    # nan/inf/exponents as finite, unless it holds a line of CLEAN_MAX_CHARS
+    # or more; the line must be refused by the reader as "not a number"
+    # (unread), as the line-by-line reader did, not reach the column as inf
+    rows = ["time_s,pressure_hpa,temp_c,rh_pct"]
+    for i in range(20000):
+        rows.append("%d,%.2f,%.2f,50.0" % (i, 1000.0 - 0.01 * (i // 4), 15.0 - 0.001 * (i // 40)))
+    rows[15001] = "15000," + "9" * 400 + ",0.00,50.0"
+    log = tmp_path / "huge.csv"
+    log.write_text("\n".join(rows) + "\n")
+    rc, out, err = main(["replay", log, "--start-height", 110, "--lat", 45])
+    assert rc == 0, err
+    assert "line 15002: pressure '9999" in err and "is not a number" in err
+    assert "#: rejected count=1 by_column=0 unread=1" in out

@@ -87,6 +87,9 @@ from tinygeo.host.options import MAX_LINE_CHARS, InputError, TextLines
 
 # bytes read and decoded at a time by the readings' loop (LogReader._chunks)
 CHUNK_BYTES = 1 << 16
+# lines shorter than this hold no number that overflows a float: 299 digits
+# are below 1e299, times 1000 (kPa to Pa, the largest unit factor) 1e302
+CLEAN_MAX_CHARS = 300
 
 QUANTITIES = ("pressure", "temperature", "humidity", "dewpoint", "time", "gps")
 
@@ -784,8 +787,9 @@ class LogReader:
 
     def _chunks(self, ahead):
         # the lines after the header as (number of the first, list of lines,
-        # clean: True when they hold no '"' and none of the letters n N i I e
-        # E, so every number in them is finite):
+        # clean: True when they hold no '"', none of the letters n N i I e E
+        # and no line of CLEAN_MAX_CHARS or more, so every number in them is
+        # finite):
         # the lines settle read ahead, then a binary stream's lines a block
         # at a time (one read and one decode per CHUNK_BYTES: the replay's
         # hot loop, bench/replay_bench.py), else one line at a time. A line
@@ -844,8 +848,10 @@ class LogReader:
             for k, raw in enumerate(lines):
                 if len(raw) >= MAX_LINE_CHARS or "\x00" in raw:
                     src.check(raw if len(raw) >= MAX_LINE_CHARS else raw + "\n", lineno + k + 1)
+        # (a number of CLEAN_MAX_CHARS digits or more overflows to inf without
+        # a letter: a block with so long a line is not clean)
         clean = not ('"' in text or "n" in text or "N" in text or "i" in text or "I" in text or
-                     "e" in text or "E" in text)
+                     "e" in text or "E" in text) and max(map(len, lines)) < CLEAN_MAX_CHARS
         return lines, clean
 
     def _conv(self, q):
