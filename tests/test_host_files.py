@@ -236,6 +236,87 @@ def test_an_overlong_line_stops_in_bounded_memory(flight, tmp_path):
     assert peak < 8 << 20, peak
 
 
+def _rows_and_rejections(out, err):
+    return ([ln for ln in out.splitlines() if ln[:1].isdigit()],
+            [ln for ln in err.splitlines() if "rejected (" in ln])
+
+
+def test_a_line_that_cannot_be_read_stops_the_replay_after_the_lines_before_it(flight, tmp_path):
+    from tinygeo.host.logread import LogReader
+    # the replay reads blocks of lines (logread.CHUNK_BYTES) and checks a
+    # block before its lines go to the column; a line that is not UTF-8,
+    # holds a NUL or is too long must still stop the replay only after every
+    # line before it was replayed, as reading line by line does: the rows
+    # and the rejections written are those of the log cut before that line
+    lines = flight["log"].read_bytes().splitlines(keepends=True)
+    header = next(i for i, ln in enumerate(lines) if not ln.startswith(b"#"))
+    # the header with units stated (nothing read ahead) and without them (the
+    # lines of the first climb read ahead to confirm the units: tinygeo.host.logread)
+    plain = lines[header].replace(b"pressure_hpa", b"pressure").replace(b"temp_c", b"temp")
+    assert plain != lines[header]
+    n = len(lines)
+    bad_lines = {
+        "not UTF-8 text: byte 0xff": lambda ln: ln[:5] + b"\xff" + ln[5:],
+        "not UTF-8 text: byte 0xe2": lambda ln: ln.rstrip(b"\n") + b"\xe2\x82\n",
+        "holds NUL characters": lambda ln: ln[:3] + b"\x00" + ln[3:],
+        "longer than %d characters" % options.MAX_LINE_CHARS:
+            lambda ln: b"#" + b"x" * options.MAX_LINE_CHARS + b"\n",
+    }
+    for head in (lines[header], plain):
+        log = lines[:header] + [head] + lines[header + 1:]
+        # the last line the units' check reads ahead (a bad line up to there
+        # stops the replay before its first row)
+        good = tmp_path / "good.csv"
+        good.write_bytes(b"".join(log))
+        with open(good, "rb") as f:
+            reader = LogReader(options.TextLines(f, "good"))
+            reader.settle(420.0, True)
+            ahead = reader.lineno
+        assert (ahead > header + 100) == (head == plain), ahead
+        for lineno in sorted({ahead, ahead + 1, ahead + 2, ahead + 40, n // 2, n - 1, n}):
+            for words, spoil in bad_lines.items():
+                bad = tmp_path / "bad.csv"
+                bad.write_bytes(b"".join(log[:lineno - 1] + [spoil(log[lineno - 1])] + log[lineno:]))
+                cut = tmp_path / "cut.csv"
+                cut.write_bytes(b"".join(log[:lineno - 1]))
+                rc, out, err = main(["replay", bad])
+                assert rc == 2 and "%s line %d: %s" % (bad, lineno, words) in one_error(err), err
+                rows, rejected = _rows_and_rejections(out, err)
+                if lineno <= ahead:
+                    assert rows == rejected == [], (words, lineno)
+                    continue
+                _, out_cut, err_cut = main(["replay", cut])
+                assert (rows, rejected) == _rows_and_rejections(out_cut, err_cut), (words, lineno)
+                assert len(rows) > lineno - header - 12, (words, lineno)
+
+
+def test_an_unfinished_line_that_is_not_utf8_stops_at_once(flight, tmp_path):
+    # a line without LF is read a block at a time (logread.CHUNK_BYTES) until
+    # its end; bytes that are not UTF-8 must stop it once MAX_LINE_CHARS
+    # bytes are held, not after the rest of the file (12 MiB here)
+    lines = flight["log"].read_bytes().splitlines(keepends=True)
+    bad = tmp_path / "ff.csv"
+    bad.write_bytes(b"".join(lines[:10]) + b"1," + b"\xff" * (12 << 20))
+    tracemalloc.start()
+    try:
+        rc, out, err = main(["replay", bad])
+        peak = tracemalloc.get_traced_memory()[1]
+    finally:
+        tracemalloc.stop()
+    assert rc == 2
+    assert "%s line 11: not UTF-8 text: byte 0xff at character 3" % bad in one_error(err)
+    # measured 5.6 MiB; goal: under 8 MiB (not the 12 MiB line)
+    assert peak < 8 << 20, peak
+    # a long line of UTF-8 text (3 bytes a character) is too long, whichever
+    # block ends inside a character
+    long3 = tmp_path / "long3.csv"
+    long3.write_bytes(b"".join(lines[:10]) + b"#" + "\u20ac".encode() * (options.MAX_LINE_CHARS + 1)
+                      + b"\n" + b"".join(lines[10:]))
+    rc, out, err = main(["replay", long3])
+    assert rc == 2
+    assert "%s line 11: longer than %d characters" % (long3, options.MAX_LINE_CHARS) in one_error(err)
+
+
 def test_exit_codes_are_documented():
     rc, out, _ = main(["--help"])
     assert rc == 0

@@ -794,8 +794,10 @@ class LogReader:
         # at a time (one read and one decode per CHUNK_BYTES: the replay's
         # hot loop, bench/replay_bench.py), else one line at a time. A line
         # comes without its LF. A line that is not UTF-8, holds a NUL or is
-        # MAX_LINE_CHARS long or longer raises InputError as TextLines does;
-        # memory stays within one such line and one block.
+        # MAX_LINE_CHARS long or longer raises InputError as TextLines does,
+        # after the lines before it (as reading line by line would); memory
+        # stays within one such line (at most 4 bytes a character) and one
+        # block.
         src = self.stream
         lineno = self.lineno        # the last line read (settle's read-ahead included)
         if ahead:
@@ -814,45 +816,84 @@ class LogReader:
             block = read(CHUNK_BYTES)
             if not block:
                 if tail:
-                    yield lineno + 1, self._decode(tail, lineno, True)[0], False
+                    lines, clean, err = self._decode(tail, lineno)
+                    if lines:
+                        yield lineno + 1, lines, False
+                    if err is not None:
+                        raise err
                 return
             end = block.rfind(b"\n")
             if end < 0:
                 tail += block
-                if len(tail) >= MAX_LINE_CHARS and \
-                        len(tail.decode("utf-8", "ignore")) >= MAX_LINE_CHARS:
-                    src.check(tail.decode("utf-8", "ignore"), lineno + 1)
+                if len(tail) >= MAX_LINE_CHARS:
+                    err = self._bad_line(tail, lineno + 1, False)
+                    if err is not None:
+                        raise err
                 continue
-            lines, clean = self._decode(tail + block[:end], lineno, False)
+            lines, clean, err = self._decode(tail + block[:end], lineno)
+            if lines:
+                yield lineno + 1, lines, clean
+            if err is not None:
+                raise err
             tail = block[end + 1:]
-            yield lineno + 1, lines, clean
             lineno += len(lines)
 
-    def _decode(self, data, lineno, last):
-        # the lines of ``data`` (whole lines after line ``lineno``, without
-        # the LF that ends the last one unless ``last``), checked, and
-        # whether they are clean (see _chunks)
+    def _decode(self, data, lineno):
+        # (lines, clean, error): the lines of ``data`` (whole lines after
+        # line ``lineno``, without the LF that ends the last one) up to the
+        # first that is not UTF-8, holds a NUL or is too long, the InputError
+        # for that one (None if none is), and whether the lines are clean
+        # (see _chunks)
         src = self.stream
+        err = None
         try:
             text = data.decode("utf-8")
         except UnicodeDecodeError as e:
-            k = data.count(b"\n", 0, e.start)
-            bad = data.split(b"\n")[k]
-            try:
-                bad.decode("utf-8")
-            except UnicodeDecodeError as e1:
-                raise src.not_utf8(lineno + k + 1, e1, bad)
-            raise src.not_utf8(lineno + k + 1, e, data)    # (not reached)
+            start = data.rfind(b"\n", 0, e.start) + 1      # the line that fails
+            stop = data.find(b"\n", e.start)
+            err = self._bad_line(data[start:] if stop < 0 else data[start:stop],
+                                 lineno + data.count(b"\n", 0, start) + 1, True)
+            if not start:
+                return [], False, err
+            text = data[:start - 1].decode("utf-8")
         lines = text.split("\n")
         if len(text) >= MAX_LINE_CHARS or "\x00" in text:
             for k, raw in enumerate(lines):
                 if len(raw) >= MAX_LINE_CHARS or "\x00" in raw:
-                    src.check(raw if len(raw) >= MAX_LINE_CHARS else raw + "\n", lineno + k + 1)
+                    try:
+                        src.check(raw if len(raw) >= MAX_LINE_CHARS else raw + "\n",
+                                  lineno + k + 1)
+                    except InputError as e:
+                        return lines[:k], False, e
         # (a number of CLEAN_MAX_CHARS digits or more overflows to inf without
         # a letter: a block with so long a line is not clean)
-        clean = not ('"' in text or "n" in text or "N" in text or "i" in text or "I" in text or
-                     "e" in text or "E" in text) and max(map(len, lines)) < CLEAN_MAX_CHARS
-        return lines, clean
+        clean = err is None and not (
+            '"' in text or "n" in text or "N" in text or "i" in text or "I" in text or
+            "e" in text or "E" in text) and max(map(len, lines)) < CLEAN_MAX_CHARS
+        return lines, clean, err
+
+    def _bad_line(self, raw, lineno, whole):
+        # the InputError for the line ``raw`` (bytes, line ``lineno``; all
+        # of it when ``whole``, else the start of a line MAX_LINE_CHARS bytes
+        # or longer) when it is not UTF-8 or MAX_LINE_CHARS characters or
+        # longer, else None (a line read on is never more than 4 bytes a
+        # character). As TextLines: an undecodable byte is named when it is
+        # among the first MAX_LINE_CHARS + 1 bytes or before MAX_LINE_CHARS
+        # characters, else the line is too long.
+        src = self.stream
+        try:
+            text = raw.decode("utf-8")
+        except UnicodeDecodeError as e:
+            text = raw[:e.start].decode("utf-8")
+            if (whole or e.end < len(raw)) and \
+                    (e.start <= MAX_LINE_CHARS or len(text) < MAX_LINE_CHARS):
+                return src.not_utf8(lineno, e, raw)
+            # (else a character the next block ends, or a line too long anyway)
+        try:
+            src.check(text, lineno)
+        except InputError as e:
+            return e
+        return None
 
     def _conv(self, q):
         i, name, unit, stated = self.columns[q]
