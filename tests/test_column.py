@@ -976,6 +976,23 @@ def test_checkpoint_size_and_round_trip():
     assert Column.from_bytes(bytearray(blob)).to_bytes() == blob
 
 
+def test_a_copied_or_unpickled_column_keeps_its_ellipsoid_in_the_checkpoint():
+    # copy.deepcopy and pickle copy the column's ellipsoid object too; the
+    # checkpoint must still say which ellipsoid it is (a WGS84 column was
+    # stored as GRS80 and restored on the other ellipsoid's heights)
+    import copy
+    import pickle
+    for ell in (column_mod.WGS84, column_mod.GRS80):
+        col = Column(45.0, ellipsoid=ell)
+        col.feed(100500.0, 288.0, 70.0, 0.0, 10.0)
+        col.feed(100450.0, 287.9, 70.0, 2.0, 14.0)
+        blob = col.to_bytes()
+        for other in (copy.deepcopy(col), pickle.loads(pickle.dumps(col))):
+            assert other.ellipsoid is not ell       # (a copy: what the test is about)
+            assert other.to_bytes() == blob
+            assert Column.from_bytes(other.to_bytes()).ellipsoid is ell
+
+
 def test_checkpoint_every_bit_flip_and_truncation_is_detected():
     col = Column(45.0)
     for row in GOOD[:50]:

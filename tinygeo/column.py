@@ -2077,8 +2077,9 @@ class Column:
     # ------------------------------------------------------------ checkpoint
     @property
     def ellipsoid_code(self):
-        """0 for WGS84, 1 for GRS80 (the checkpoint's code)."""
-        return 0 if self.ellipsoid is WGS84 else 1
+        """0 for WGS84, 1 for GRS80 (the checkpoint's code); of a copy of
+        either too (copy.deepcopy, pickle: tinygeo.constants.check_ellipsoid)."""
+        return 0 if check_ellipsoid(self.ellipsoid) is WGS84 else 1
 
     def to_bytes(self):
         """The whole column (settings and state) as a checkpoint blob, bytes
