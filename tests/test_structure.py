@@ -214,5 +214,5 @@ def test_column_attributes_are_all_in_the_cpython_slots():
             col.reanchor_gps()
         for c in (col, Column.from_bytes(col.to_bytes())):
             assert vars(c) == {}, sorted(vars(c))
-            for rec in (c._h, c._b, c._n):
+            for rec in (c._h, c._b, c._n, c._m, c._k, c._cr):     # (every _Rec a column holds)
                 assert vars(rec) == {}, sorted(vars(rec))
