@@ -317,6 +317,58 @@ def test_an_unfinished_line_that_is_not_utf8_stops_at_once(flight, tmp_path):
     assert "%s line 11: longer than %d characters" % (long3, options.MAX_LINE_CHARS) in one_error(err)
 
 
+def test_a_number_of_hundreds_of_digits_is_refused_by_the_reader_in_any_block(flight, tmp_path):
+    # float() reads a decimal number of 309 digits or more as inf, with no
+    # letter in it (IEEE 754 double: the largest finite value is about
+    # 1.8e308, from memory); the block reader's shortcut for blocks without
+    # the letters of nan, inf or an exponent must not let it through: the line
+    # is refused by the reader as not a number (reason number, counted as
+    # unread), as when the lines come one at a time from a text stream
+    lines = flight["log"].read_text().splitlines(keepends=True)
+    header = next(i for i, ln in enumerate(lines) if not ln.startswith("#"))
+    names = lines[header].strip().split(",")
+    k = header + 100            # a line in the middle of a block
+    for i, name in enumerate(names):
+        for digits in ("9" * 400, "-" + "9" * 309, "9_" * 320 + "9"):
+            fields = lines[k].strip().split(",")
+            fields[i] = digits
+            log = lines[:k] + [",".join(fields) + "\n"] + lines[k + 1:]
+            path = tmp_path / "digits.csv"
+            path.write_text("".join(log))
+            rc, out, err = main(["replay", path])
+            assert rc == 0, err
+            said = [ln for ln in err.splitlines() if "line %d:" % (k + 1) in ln]
+            assert len(said) == 1, err
+            assert "rejected (%s)" % ("time" if name == "time_s" else "number") in said[0] and \
+                "%r in column %r is not a number" % (digits[:30], name) in said[0], said
+            assert "unread=1 " in out, name
+            rc, out_text, err_text = main(["replay", "-"], stdin=io.StringIO("".join(log)))
+            assert said == [ln for ln in err_text.splitlines() if "line %d:" % (k + 1) in ln]
+
+
+def test_a_comment_line_among_the_readings_is_not_a_reading(flight, tmp_path):
+    # a line starting with '#' after the header is a comment (logread: skipped
+    # like a blank line), also when its fields would parse as a reading: here
+    # the first column is not read, and the comment's other fields are numbers
+    lines = flight["log"].read_text().splitlines(keepends=True)
+    header = next(i for i, ln in enumerate(lines) if not ln.startswith("#"))
+    log = lines[:header] + ["note," + lines[header]] + ["x," + ln for ln in lines[header + 1:]]
+    k = header + 60
+    comments = ["#,210.0,700.0,-5.0,20.0,3000.0\n", "  #x,210.0,700.0,-5.0,20.0,3000.0\n",
+                "#,210.0,700.0,-5.0,nan,3000.0\n"]
+    for comment in comments:
+        text = "".join(log[:k] + [comment] + log[k:])
+        path = tmp_path / "comment.csv"
+        path.write_text(text)
+        for args, stdin in (([path], None), (["-"], io.StringIO(text))):
+            rc, out, err = main(["replay"] + args, stdin=stdin)
+            assert rc == 0, err
+            rows = [ln.split("\t") for ln in out.splitlines() if ln[:1].isdigit()]
+            assert len(rows) > 100
+            assert str(k + 1) not in [r[0] for r in rows], comment
+            assert "line %d" % (k + 1) not in err, comment
+
+
 def test_exit_codes_are_documented():
     rc, out, _ = main(["--help"])
     assert rc == 0

@@ -744,12 +744,13 @@ class LogReader:
         try:
             for first, chunk, clean in self._chunks(ahead):
                 lineno = first - 1
-                # a clean chunk has no '"' and no letter of nan, inf or an
-                # exponent: its numbers are finite, no line needs the tests
+                # a clean chunk has no '"', no '#', no letter of nan, inf or an
+                # exponent and no number of hundreds of digits: its numbers
+                # are finite, no line needs the tests
                 quick = fast and clean
                 for raw in chunk:
                     lineno += 1
-                    if quick or fast and '"' not in raw:
+                    if quick or fast and '"' not in raw and "#" not in raw:
                         fields = raw.split(d)
                         if len(fields) == nf:
                             try:
@@ -787,9 +788,9 @@ class LogReader:
 
     def _chunks(self, ahead):
         # the lines after the header as (number of the first, list of lines,
-        # clean: True when they hold no '"', none of the letters n N i I e E
-        # and no line of CLEAN_MAX_CHARS or more, so every number in them is
-        # finite):
+        # clean: True when they hold no '"' or '#' (a comment line), none of
+        # the letters n N i I e E and no line of CLEAN_MAX_CHARS or more, so
+        # every number in them is finite):
         # the lines settle read ahead, then a binary stream's lines a block
         # at a time (one read and one decode per CHUNK_BYTES: the replay's
         # hot loop, bench/replay_bench.py), else one line at a time. A line
@@ -868,8 +869,8 @@ class LogReader:
         # (a number of CLEAN_MAX_CHARS digits or more overflows to inf without
         # a letter: a block with so long a line is not clean)
         clean = err is None and not (
-            '"' in text or "n" in text or "N" in text or "i" in text or "I" in text or
-            "e" in text or "E" in text) and max(map(len, lines)) < CLEAN_MAX_CHARS
+            '"' in text or "#" in text or "n" in text or "N" in text or "i" in text or
+            "I" in text or "e" in text or "E" in text) and max(map(len, lines)) < CLEAN_MAX_CHARS
         return lines, clean, err
 
     def _bad_line(self, raw, lineno, whole):
