@@ -1325,3 +1325,19 @@ def test_temperature_step_message_says_how_to_turn_the_check_off():
     with pytest.raises(ReadingError) as e:
         c.feed(96500.0, 300.0, 50.0, 1)
     assert "(max_t_step_k=None turns this check off)" in str(e.value)
+
+
+def test_a_held_mixing_ratio_above_one_survives_a_checkpoint():
+    # found by a fuzzed stream: at a pressure of 0.25 Pa a humidity of 11 %
+    # at 211 K gives a vapour pressure near the air pressure, so the mixing
+    # ratio held after it, eps e/(p - e), is above 1 kg/kg (1.07 here); the
+    # column accepts that state, so its checkpoint must restore it (it was
+    # refused: "w=1.074... outside 0..1")
+    col = Column(-33.0, start_height_m=25.0, track_sigma=False, start_guard_m=None)
+    for r in ((1.0, 140.0), (1.0, 350.0), (0.25, 211.0, 11.0), (1.0, 150.0)):
+        try:
+            col.feed(*r)
+        except ReadingError:
+            pass
+    back = Column.from_bytes(col.to_bytes())
+    assert back.to_bytes() == col.to_bytes()

@@ -661,7 +661,9 @@ _RESTORE_REC = ("p_pa 0.1 120000;t_k 150 350;rh_pct -3 103 n;tv_k 150 350;"
                 "gph_m -250000 250000;c -1 1;height_m -250000 250000 n;dt 0 1e25 n;"
                 "rdh -600000 600000 n;rdt 0 1e25 n;tsr -4.62e18 4.62e18 n;"
                 "tr -4.62e18 4.62e18 n;g_t -250000 250000 n;h_tm -300000 300000 n;"
-                "h_t 150 350 n;h_p 0.1 120000 n;h_rh -3 103 n;w 0 1 n;"
+                # (w, the held mixing ratio, kg/kg: eps e/(p - e) with only e < p
+                # checked, so above 1 where e nears p at a pressure of a few Pa)
+                "h_t 150 350 n;h_p 0.1 120000 n;h_rh -3 103 n;w 0 1e30 n;"
                 "gps_m -1000 100000 n;gps_diff_m -400000 400000 n;"
                 # the uncertainty sums (see "Uncertainty"): a half-layer is at most
                 # (Rd/g0)/2 ln(1.2e6) = 205 gpm/K, dTv/dRH at most 132 K/%, 2**30 readings
