@@ -323,6 +323,10 @@ def test_humidity_as_a_fraction_is_refused_with_the_option_to_give(flight):
         assert rc == 2 and "a 0..1 fraction, not percent?" in msg, msg
         name = header.split(",")[3]
         assert "--humidity %s:fraction" % name in msg and "--humidity %s:pct" % name in msg
+        # how many readings decided it, in words ("its first reading" for one)
+        assert " in its first reading (" in msg or " in its first %s readings (" % (
+            msg.split(" in its first ")[1].split(" ")[0]) in msg
+        assert " in its first 1 readings" not in msg
     # stated as a fraction: the heights are those of the log in percent (a
     # fraction read as percent puts this flight's heights up to 5.8 m off,
     # measured; with the option they agree: measured 0.000 m, goal < 2 mm)

@@ -504,10 +504,12 @@ class LogReader:
             return
         if top <= RH_FRACTION_MAX:
             raise InputError(
-                "%s %s: the humidity column %r holds no value above %g in its first %d readings "
+                "%s %s: the humidity column %r holds no value above %g in %s "
                 "(%s): a 0..1 fraction, not percent? Read as percent it would be air 100 times "
                 "too dry. Give --humidity %s:fraction, or --humidity %s:pct if it really is "
-                "percent" % (self.name, lines, name, RH_FRACTION_MAX, len(values),
+                "percent" % (self.name, lines, name, RH_FRACTION_MAX,
+                             "its first reading" if len(values) == 1 else
+                             "its first %d readings" % len(values),
                              "largest %s" % _short(top), name, name))
 
     def _probe(self, raw, lineno):
