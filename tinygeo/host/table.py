@@ -125,6 +125,23 @@ def parse_resume(line, key):
     return int(digits)
 
 
+def resume_number(reader, line, lineno, key):
+    """N of the whole resume record ``line`` (line ``lineno`` of a table
+    ``reader`` reads: ``#: resume KEY=N whole``); None for one torn while it
+    was written, which voids nothing and is counted on the reader
+    (``torn_resumes``, ``first_torn_resume``). TableError for a malformed one."""
+    try:
+        n = parse_resume(line, key)
+    except ValueError as e:
+        raise TableError("%s line %d: unreadable resume record %r; %s"
+                         % (reader.name, lineno, line[:60], e))
+    if n is None:
+        reader.torn_resumes += 1
+        if reader.first_torn_resume is None:
+            reader.first_torn_resume = lineno
+    return n
+
+
 def parse_pairs(words):
     """Return a dict from ``key=value`` words (others are ignored; so is
     everything after a ``--`` word)."""
@@ -323,17 +340,7 @@ class TableReader:
         self._spool = spool
 
     def _resume_at(self, line, lineno):
-        # N of a whole resume record; None (counted) for a torn one
-        try:
-            n = parse_resume(line, "line")
-        except ValueError as e:
-            raise TableError("%s line %d: unreadable resume record %r; %s"
-                             % (self.name, lineno, line[:60], e))
-        if n is None:
-            self.torn_resumes += 1
-            if self.first_torn_resume is None:
-                self.first_torn_resume = lineno
-        return n
+        return resume_number(self, line, lineno, "line")
 
     def _header(self, line):
         names = [f.strip() for f in line.split("\t")]
@@ -572,17 +579,8 @@ class StationTableReader:
                     continue
                 if line.startswith("#"):
                     if is_resume(line):
-                        try:
-                            n = parse_resume(line, "rows")
-                        except ValueError as e:
-                            raise TableError("%s line %d: unreadable resume record %r; %s"
-                                             % (self.name, lineno, line[:60], e))
-                        if n is None:
-                            # torn while it was written: it voids nothing
-                            self.torn_resumes += 1
-                            if self.first_torn_resume is None:
-                                self.first_torn_resume = lineno
-                        else:
+                        n = resume_number(self, line, lineno, "rows")
+                        if n is not None:
                             marks.append((lineno, n))
                         if last_row is not None:
                             self._ends.add(last_row)
